@@ -1,0 +1,375 @@
+import { ExpressionError, ModelError } from "./errors";
+import type { Expr, SymbolNode } from "./expr/ast";
+import { TIME } from "./expr/ast";
+import type { Model } from "./model";
+import { analyzeModel, type ModelAnalysis } from "./validate-model";
+import { Algebra, DEFAULT_ALGEBRA_LIMITS } from "./canonical/algebra";
+import { partialDerivative, RateUnavailableError, timeDerivative, type Derivation } from "./canonical/calculus";
+import * as C from "./canonical/coefficient";
+import { formatPoly, formatTerms } from "./canonical/format";
+import { toCanonical } from "./canonical/from-expr";
+import { SymbolSpace } from "./canonical/space";
+import type { Poly } from "./canonical/term";
+
+export interface DeriveOptions {
+  /** Largest number of terms one intermediate sum may hold (default 200 000). */
+  maxTerms?: number;
+  /** Largest mass matrix inverted symbolically for the Hamiltonian (default 3). */
+  hamiltonianMaxSize?: number;
+}
+
+export interface EquationResult {
+  coordinate: string;
+  /** d/dt(∂L/∂q') − ∂L/∂q + ∂D/∂q' − Q_q in the input syntax. */
+  residual: string;
+  /** The residual's top-level terms, signed, in the same order as in `residual`. */
+  terms: string[];
+}
+
+export interface MomentumResult {
+  coordinate: string;
+  expr: string;
+}
+
+export interface ConservedQuantity {
+  name: string;
+  expr: string;
+  reason: string;
+}
+
+export type HamiltonianResult =
+  | { available: true; expr: string; momenta: { coordinate: string; symbol: string }[] }
+  | { available: false; reason: string };
+
+export interface DerivationTiming {
+  canonicalMs: number;
+  equationsMs: number;
+  analysisMs: number;
+  totalMs: number;
+}
+
+export interface DerivationResult {
+  coordinates: string[];
+  equations: EquationResult[];
+  /** M[i][j] = ∂residual_i/∂q_j''; symmetric. */
+  massMatrix: string[][];
+  /** f with residual = M q'' − f. */
+  forcing: string[];
+  /** The energy function h = Σ q'·∂L/∂q' − L. */
+  energy: string;
+  momenta: MomentumResult[];
+  /** Coordinates L does not depend on. */
+  cyclic: string[];
+  conserved: ConservedQuantity[];
+  /** L depends on t explicitly. */
+  explicitTime: boolean;
+  hamiltonian: HamiltonianResult;
+  timing: DerivationTiming;
+}
+
+/** The canonical sums behind a derivation, for callers that keep computing (linearization, code export). */
+export interface CanonicalDerivation {
+  space: SymbolSpace;
+  algebra: Algebra;
+  kinetic: Poly;
+  potential: Poly;
+  dissipation: Poly;
+  forces: Poly[];
+  lagrangian: Poly;
+  momenta: Poly[];
+  residuals: Poly[];
+  massMatrix: Poly[][];
+  forcing: Poly[];
+  energy: Poly;
+  cyclic: boolean[];
+  explicitTime: boolean;
+  /** Milliseconds spent bringing the model's expressions to canonical form. */
+  canonicalMs: number;
+}
+
+const now = () => performance.now();
+
+/**
+ * Derives the Euler–Lagrange equations of a model and brings them to
+ * mass-matrix form, with the energy function, momenta and conserved quantities.
+ * Throws ModelError for a model that is not valid.
+ *
+ * @example
+ * const result = deriveModel(model);
+ * result.equations[0].residual // "m*l^2*theta'' + m*g*l*sin(theta)"
+ */
+export function deriveModel(model: Model, options: DeriveOptions = {}): DerivationResult {
+  const start = now();
+  const canonical = deriveCanonical(model, options);
+  const afterEquations = now();
+  const { space, algebra: alg } = canonical;
+  const names = model.coordinates.map((c) => c.name);
+  const text = (p: Poly) => formatPoly(space, p);
+
+  const conserved: ConservedQuantity[] = [];
+  const noForces = canonical.forces.every((q) => q.size === 0);
+  const noDissipation = canonical.dissipation.size === 0;
+  if (!canonical.explicitTime && noForces && noDissipation) {
+    conserved.push({
+      name: "energy function",
+      expr: text(canonical.energy),
+      reason: "L has no explicit t and there is no dissipation or applied force",
+    });
+  }
+  names.forEach((name, i) => {
+    if (!canonical.cyclic[i]) return;
+    const dissipates = alg.dependsOn(canonical.dissipation, space.rates[i]!);
+    if (canonical.forces[i]!.size === 0 && !dissipates) {
+      conserved.push({ name: `momentum of ${name}`, expr: text(canonical.momenta[i]!), reason: `${name} is cyclic and no force or dissipation acts on it` });
+    }
+  });
+
+  const hamiltonian = legendreTransform(canonical, names, options.hamiltonianMaxSize ?? 3, model);
+  const end = now();
+  return {
+    coordinates: names,
+    equations: canonical.residuals.map((r, i) => ({ coordinate: names[i]!, residual: text(r), terms: formatTerms(space, r) })),
+    massMatrix: canonical.massMatrix.map((row) => row.map(text)),
+    forcing: canonical.forcing.map(text),
+    energy: text(canonical.energy),
+    momenta: canonical.momenta.map((p, i) => ({ coordinate: names[i]!, expr: text(p) })),
+    cyclic: names.filter((_, i) => canonical.cyclic[i]),
+    conserved,
+    explicitTime: canonical.explicitTime,
+    hamiltonian,
+    timing: {
+      canonicalMs: canonical.canonicalMs,
+      equationsMs: afterEquations - start - canonical.canonicalMs,
+      analysisMs: end - afterEquations,
+      totalMs: end - start,
+    },
+  };
+}
+
+/** The Euler–Lagrange equations as canonical sums. See deriveModel. */
+export function deriveCanonical(model: Model, options: DeriveOptions = {}): CanonicalDerivation {
+  const start = now();
+  const analysis = analyzeModel(model);
+  const space = new SymbolSpace();
+  const alg = new Algebra(space, { ...DEFAULT_ALGEBRA_LIMITS, ...(options.maxTerms ? { maxTerms: options.maxTerms } : {}) });
+  const parameters = new Map<string, number>();
+  for (const p of model.parameters) parameters.set(p.name, space.addParameter(p.name));
+  for (const u of model.inputs ?? []) parameters.set(u.name, space.addInput(u.name));
+  const coordinates = new Map<string, number>();
+  model.coordinates.forEach((c, i) => {
+    space.addCoordinate(c.name);
+    coordinates.set(c.name, i);
+  });
+  const dt = timeDerivative(alg);
+  const definitions = canonicalDefinitions(analysis, alg, dt, parameters, coordinates);
+  const resolverFor = (field: string) => makeResolver(alg, dt, field, parameters, coordinates, definitions);
+  const canonicalOf = (tree: Expr | null | undefined, field: string) => (tree ? convert(alg, tree, field, resolverFor(field)) : alg.zero());
+
+  const kinetic = canonicalOf(analysis.kinetic, "kinetic");
+  const potential = canonicalOf(analysis.potential, "potential");
+  const dissipation = canonicalOf(analysis.dissipation, "dissipation");
+  const forces = model.coordinates.map((c) => canonicalOf(analysis.forces.get(c.name), `forces.${c.name}`));
+  const canonicalMs = now() - start;
+
+  const lagrangian = alg.sub(kinetic, potential);
+  const n = model.coordinates.length;
+  const momenta: Poly[] = [];
+  const residuals: Poly[] = [];
+  for (let i = 0; i < n; i++) {
+    const p = partialDerivative(alg, space.rates[i]!).apply(lagrangian);
+    momenta.push(p);
+    let dpdt: Poly;
+    try {
+      dpdt = dt.apply(p);
+    } catch (error) {
+      if (error instanceof RateUnavailableError) {
+        throw new ModelError("unsupported", "kinetic", `the Euler–Lagrange equation of ${model.coordinates[i]!.name} needs ${error.message.replace(/^the /, "the ")}`);
+      }
+      throw error;
+    }
+    const residual = alg.sub(dpdt, partialDerivative(alg, space.coordinates[i]!).apply(lagrangian));
+    alg.addInto(residual, partialDerivative(alg, space.rates[i]!).apply(dissipation));
+    alg.addInto(residual, forces[i]!, C.MINUS_ONE);
+    residuals.push(residual);
+  }
+
+  // Mass-matrix form: residual = Σ_j M_ij q_j'' − f_i.
+  const massMatrix: Poly[][] = residuals.map((r, i) =>
+    space.accelerations.map((a) => {
+      const entry = partialDerivative(alg, a).apply(r);
+      for (const b of space.accelerations) {
+        if (alg.dependsOn(entry, b)) {
+          throw new ModelError("unsupported", `forces.${model.coordinates[i]!.name}`, "the equations are not linear in the accelerations");
+        }
+      }
+      return entry;
+    }),
+  );
+  const forcing = residuals.map((r) => {
+    const f: Poly = alg.zero();
+    for (const t of r.values()) {
+      let hasAcceleration = false;
+      for (let k = 0; k < t.f.length; k += 2) if (space.kind(t.f[k]!) === "acceleration") hasAcceleration = true;
+      if (!hasAcceleration) alg.accumulate(f, C.negate(t.c), t.f, t.g);
+    }
+    return f;
+  });
+
+  const energy = alg.negate(lagrangian);
+  for (let i = 0; i < n; i++) alg.mulInto(energy, alg.symbol(space.rates[i]!), momenta[i]!);
+  const cyclic = space.coordinates.map((q) => !alg.dependsOn(lagrangian, q));
+  const explicitTime = alg.dependsOn(lagrangian, space.time);
+  return { space, algebra: alg, kinetic, potential, dissipation, forces, lagrangian, momenta, residuals, massMatrix, forcing, energy, cyclic, explicitTime, canonicalMs };
+}
+
+function convert(alg: Algebra, tree: Expr, field: string, resolve: (node: SymbolNode) => Poly): Poly {
+  try {
+    return toCanonical(alg, tree, resolve);
+  } catch (error) {
+    if (error instanceof ExpressionError) throw ModelError.fromExpression(field, error);
+    throw error;
+  }
+}
+
+/** Each definition's value, rate and acceleration, computed on demand in dependency order. */
+type DefinitionTable = Map<string, { field: string; values: (Poly | undefined)[]; base: Poly }>;
+
+function canonicalDefinitions(
+  analysis: ModelAnalysis,
+  alg: Algebra,
+  dt: Derivation,
+  parameters: Map<string, number>,
+  coordinates: Map<string, number>,
+): DefinitionTable {
+  const table: DefinitionTable = new Map();
+  const definitions = analysis.model.definitions ?? [];
+  for (const i of analysis.definitionOrder) {
+    const field = `definitions[${i}].expr`;
+    const base = convert(alg, analysis.definitions[i]!, field, makeResolver(alg, dt, field, parameters, coordinates, table));
+    table.set(definitions[i]!.name, { field, values: [base], base });
+  }
+  return table;
+}
+
+function makeResolver(
+  alg: Algebra,
+  dt: Derivation,
+  field: string,
+  parameters: Map<string, number>,
+  coordinates: Map<string, number>,
+  definitions: DefinitionTable,
+): (node: SymbolNode) => Poly {
+  const space = alg.space;
+  return (node) => {
+    if (node.name === TIME) return alg.symbol(space.time);
+    const parameter = parameters.get(node.name);
+    if (parameter !== undefined) return alg.symbol(parameter);
+    const coordinate = coordinates.get(node.name);
+    if (coordinate !== undefined) {
+      const ids = [space.coordinates, space.rates, space.accelerations][node.order]!;
+      return alg.symbol(ids[coordinate]!);
+    }
+    const definition = definitions.get(node.name);
+    if (definition === undefined) throw new ExpressionError("unknown_symbol", `unknown symbol "${node.name}"`, node.start, node.end - node.start);
+    for (let k = 1; k <= node.order; k++) {
+      if (definition.values[k] !== undefined) continue;
+      try {
+        definition.values[k] = dt.apply(definition.values[k - 1]!);
+      } catch (error) {
+        if (error instanceof RateUnavailableError) {
+          throw new ExpressionError("unsupported", `${node.name}${"'".repeat(node.order)} needs ${error.message}`, node.start, node.end - node.start);
+        }
+        throw error;
+      }
+    }
+    void field;
+    return definition.values[node.order]!;
+  };
+}
+
+/**
+ * H(q, p) = ½ (p − b)ᵀ M⁻¹ (p − b) − L₀ for L = ½ q'ᵀ M q' + bᵀ q' + L₀,
+ * with M⁻¹ = adj(M)/det(M) written out symbolically for small M.
+ */
+function legendreTransform(c: CanonicalDerivation, names: string[], maxSize: number, model: Model): HamiltonianResult {
+  const { space, algebra: alg } = c;
+  const n = names.length;
+  if (n > maxSize) return { available: false, reason: `the mass matrix is ${n}×${n}; it is inverted symbolically only up to ${maxSize}×${maxSize}` };
+  const rates = new Set(space.rates);
+  for (const t of c.lagrangian.values()) {
+    let degree = 0;
+    for (let k = 0; k < t.f.length; k += 2) {
+      if (rates.has(t.f[k]!)) {
+        const e = t.f[k + 1]!;
+        if (!Number.isInteger(e) || e < 0) return { available: false, reason: "L is not polynomial in the rates" };
+        degree += e;
+      } else if (rates.size > 0) {
+        for (const r of rates) {
+          if (space.entry(t.f[k]!).dependsOn.has(r) && space.kind(t.f[k]!) !== "rate") return { available: false, reason: "L is not polynomial in the rates" };
+        }
+      }
+    }
+    if (degree > 2) return { available: false, reason: "L is not quadratic in the rates" };
+  }
+  const hessian = c.momenta.map((p) => space.rates.map((r) => partialDerivative(alg, r).apply(p)));
+  const zeroRates = (p: Poly): Poly => {
+    const out: Poly = alg.zero();
+    for (const t of p.values()) {
+      let hasRate = false;
+      for (let k = 0; k < t.f.length; k += 2) if (rates.has(t.f[k]!)) hasRate = true;
+      if (!hasRate) alg.accumulate(out, t.c, t.f, t.g);
+    }
+    return out;
+  };
+  const taken = new Set<string>([...model.coordinates, ...model.parameters, ...(model.inputs ?? []), ...(model.definitions ?? [])].map((s) => s.name));
+  const momentumSymbols = names.map((name, i) => {
+    let symbol = `p_${name}`;
+    while (taken.has(symbol)) symbol += "_";
+    taken.add(symbol);
+    const existing = space.momenta[i];
+    return { symbol, id: existing ?? space.addMomentum(symbol, i) };
+  });
+  const w = c.momenta.map((p, i) => alg.sub(alg.symbol(momentumSymbols[i]!.id), zeroRates(p)));
+  const det = determinant(alg, hessian);
+  if (det.size === 0) return { available: false, reason: "the mass matrix is singular" };
+  const adj = adjugate(alg, hessian);
+  const quadratic: Poly = alg.zero();
+  for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) alg.mulInto(quadratic, alg.mul(w[i]!, adj[i]![j]!), w[j]!);
+  const rest = alg.negate(zeroRates(c.lagrangian));
+  const momenta = names.map((coordinate, i) => ({ coordinate, symbol: momentumSymbols[i]!.symbol }));
+  const single = det.size === 1 ? det.values().next().value! : null;
+  if (single && single.g === null) {
+    const h = alg.add(alg.mul(quadratic, alg.fromTerm(alg.termPower(single, -1))), alg.zero());
+    const total = alg.add(alg.scale(h, C.HALF), rest);
+    return { available: true, expr: formatPoly(space, total), momenta };
+  }
+  let text = `(${formatPoly(space, quadratic)})/(${formatPoly(space, alg.scale(det, C.rational(2)))})`;
+  const restText = formatPoly(space, rest);
+  if (rest.size > 0) text += restText.startsWith("-") ? ` - ${restText.slice(1)}` : ` + ${restText}`;
+  return { available: true, expr: text, momenta };
+}
+
+function minor(m: Poly[][], row: number, col: number): Poly[][] {
+  return m.filter((_, i) => i !== row).map((r) => r.filter((_, j) => j !== col));
+}
+
+export function determinant(alg: Algebra, m: Poly[][]): Poly {
+  const n = m.length;
+  if (n === 1) return m[0]![0]!;
+  const out: Poly = alg.zero();
+  for (let j = 0; j < n; j++) {
+    if (m[0]![j]!.size === 0) continue;
+    alg.mulInto(out, m[0]![j]!, determinant(alg, minor(m, 0, j)), j % 2 === 0 ? C.ONE : C.MINUS_ONE);
+  }
+  return out;
+}
+
+/** adj(M)[i][j] = (−1)^(i+j) det(minor(M, j, i)). */
+export function adjugate(alg: Algebra, m: Poly[][]): Poly[][] {
+  const n = m.length;
+  if (n === 1) return [[alg.constant(C.ONE)]];
+  return m.map((_, i) => m.map((__, j) => {
+    const d = determinant(alg, minor(m, j, i));
+    return (i + j) % 2 === 0 ? d : alg.negate(d);
+  }));
+}

@@ -1,0 +1,267 @@
+import { z } from "zod";
+import { ExpressionError, ModelError } from "./errors";
+import { RESERVED_NAMES, TIME, walk, type Expr } from "./expr/ast";
+import { parseExpression } from "./expr/parse";
+import type { Model } from "./model";
+
+/** Size limits checked before any symbolic work. */
+export interface ModelLimits {
+  maxCoordinates: number;
+  maxParameters: number;
+  maxInputs: number;
+  maxDefinitions: number;
+  /** Sum of the lengths of all expression texts. */
+  maxTotalTextLength: number;
+}
+
+export const DEFAULT_MODEL_LIMITS: ModelLimits = {
+  maxCoordinates: 12,
+  maxParameters: 200,
+  maxInputs: 50,
+  maxDefinitions: 200,
+  maxTotalTextLength: 100_000,
+};
+
+const identifier = z
+  .string()
+  .max(64, "names are at most 64 characters")
+  .regex(/^[A-Za-z_][A-Za-z0-9_]*$/, "a name is a letter or _ followed by letters, digits or _");
+const unit = z.string().max(200);
+const description = z.string().max(4000).optional();
+const namedUnit = z.object({ name: identifier, unit, description });
+const parameter = namedUnit.extend({ value: z.number().refine(Number.isFinite, "value must be a finite number").optional() });
+const definition = z.object({ name: identifier, expr: z.string(), description });
+
+const modelSchema = z.object({
+  title: z.string().max(300),
+  coordinates: z.array(namedUnit).min(1, "a model needs at least one coordinate"),
+  parameters: z.array(parameter),
+  inputs: z.array(namedUnit).optional(),
+  definitions: z.array(definition).optional(),
+  kinetic: z.string(),
+  potential: z.string(),
+  dissipation: z.string().optional(),
+  forces: z.record(z.string(), z.string()).optional(),
+});
+
+/** The parsed trees of a model, its definitions in dependency order. */
+export interface ModelAnalysis {
+  model: Model;
+  definitions: Expr[];
+  /** Indices into model.definitions, each after every definition it refers to. */
+  definitionOrder: number[];
+  kinetic: Expr;
+  potential: Expr;
+  dissipation: Expr | null;
+  forces: Map<string, Expr>;
+}
+
+type SymbolRole = "coordinate" | "parameter" | "input" | "definition";
+
+/**
+ * Checks a parsed JSON value against the model file format and returns it as a
+ * `Model`. Throws `ModelError` naming the field (`definitions[1].expr`) and,
+ * inside an expression, the 1-based column.
+ *
+ * @example validateModel(JSON.parse(text)) // throws ModelError("unknown_symbol", "kinetic", …, 12)
+ */
+export function validateModel(input: unknown, limits: ModelLimits = DEFAULT_MODEL_LIMITS): Model {
+  checkSizes(input, limits);
+  const parsed = modelSchema.safeParse(input);
+  if (!parsed.success) {
+    const issue = parsed.error.issues[0]!;
+    throw new ModelError("schema", formatPath(issue.path) || "model", issue.message);
+  }
+  const model: Model = stripUndefined(parsed.data);
+  analyzeModel(model, limits);
+  return model;
+}
+
+function stripUndefined(data: z.infer<typeof modelSchema>): Model {
+  const model: Model = {
+    title: data.title,
+    coordinates: data.coordinates.map(({ name, unit, description }) => (description === undefined ? { name, unit } : { name, unit, description })),
+    parameters: data.parameters.map(({ name, unit, value, description }) => ({
+      name,
+      unit,
+      ...(value === undefined ? {} : { value }),
+      ...(description === undefined ? {} : { description }),
+    })),
+    kinetic: data.kinetic,
+    potential: data.potential,
+  };
+  if (data.inputs) model.inputs = data.inputs.map(({ name, unit, description }) => (description === undefined ? { name, unit } : { name, unit, description }));
+  if (data.definitions) model.definitions = data.definitions.map(({ name, expr, description }) => (description === undefined ? { name, expr } : { name, expr, description }));
+  if (data.dissipation !== undefined) model.dissipation = data.dissipation;
+  if (data.forces) model.forces = data.forces;
+  return model;
+}
+
+function formatPath(path: readonly PropertyKey[]): string {
+  let out = "";
+  for (const part of path) {
+    if (typeof part === "number") out += `[${part}]`;
+    else out += out === "" ? String(part) : `.${String(part)}`;
+  }
+  return out;
+}
+
+/** Refuses oversized models before looking at their content. */
+function checkSizes(input: unknown, limits: ModelLimits): void {
+  if (typeof input !== "object" || input === null || Array.isArray(input)) throw new ModelError("schema", "model", "a model is a JSON object");
+  const record = input as Record<string, unknown>;
+  const counts: [string, number][] = [
+    ["coordinates", limits.maxCoordinates],
+    ["parameters", limits.maxParameters],
+    ["inputs", limits.maxInputs],
+    ["definitions", limits.maxDefinitions],
+  ];
+  for (const [field, max] of counts) {
+    const value = record[field];
+    if (Array.isArray(value) && value.length > max) throw new ModelError("too_large", field, `at most ${max} ${field} are allowed (found ${value.length})`);
+  }
+  let total = 0;
+  const add = (value: unknown) => {
+    if (typeof value === "string") total += value.length;
+  };
+  add(record.kinetic);
+  add(record.potential);
+  add(record.dissipation);
+  if (Array.isArray(record.definitions)) for (const d of record.definitions) if (d && typeof d === "object") add((d as Record<string, unknown>).expr);
+  if (record.forces && typeof record.forces === "object") {
+    const forces = Object.values(record.forces as Record<string, unknown>);
+    if (forces.length > limits.maxCoordinates) throw new ModelError("too_large", "forces", `at most ${limits.maxCoordinates} forces are allowed`);
+    for (const f of forces) add(f);
+  }
+  if (total > limits.maxTotalTextLength) {
+    throw new ModelError("too_large", "model", `the expressions total ${total} characters; at most ${limits.maxTotalTextLength} are allowed`);
+  }
+}
+
+/**
+ * Parses every expression of a model and checks names and references.
+ * Used by validateModel and by deriveModel (which also accepts models built in code).
+ */
+export function analyzeModel(model: Model, limits: ModelLimits = DEFAULT_MODEL_LIMITS): ModelAnalysis {
+  checkSizes(model, limits);
+  const roles = new Map<string, SymbolRole>();
+  const definitionIndex = new Map<string, number>();
+  const declare = (name: string, role: SymbolRole, field: string) => {
+    if (RESERVED_NAMES.has(name)) throw new ModelError("reserved_name", field, `"${name}" is reserved and cannot be used as a name`);
+    if (roles.has(name)) throw new ModelError("duplicate_name", field, `"${name}" is already declared as a ${roles.get(name)}`);
+    roles.set(name, role);
+  };
+  model.coordinates.forEach((c, i) => declare(c.name, "coordinate", `coordinates[${i}].name`));
+  model.parameters.forEach((p, i) => declare(p.name, "parameter", `parameters[${i}].name`));
+  (model.inputs ?? []).forEach((u, i) => declare(u.name, "input", `inputs[${i}].name`));
+  const definitions = model.definitions ?? [];
+  definitions.forEach((d, i) => {
+    declare(d.name, "definition", `definitions[${i}].name`);
+    definitionIndex.set(d.name, i);
+  });
+
+  const parse = (text: string, field: string): Expr => {
+    let tree: Expr;
+    try {
+      tree = parseExpression(text);
+    } catch (error) {
+      if (error instanceof ExpressionError) throw ModelError.fromExpression(field, error);
+      throw error;
+    }
+    checkSymbols(tree, field, roles);
+    return tree;
+  };
+
+  const definitionTrees = definitions.map((d, i) => parse(d.expr, `definitions[${i}].expr`));
+  const definitionOrder = orderDefinitions(definitions.map((d) => d.name), definitionTrees, definitionIndex);
+
+  // Highest time-derivative order of coordinates inside each definition.
+  const definitionOrderOf = new Array<number>(definitions.length).fill(0);
+  for (const i of definitionOrder) definitionOrderOf[i] = derivativeOrder(definitionTrees[i]!, definitionIndex, definitionOrderOf).order;
+
+  const energy = (text: string, field: string, what: string): Expr => {
+    const tree = parse(text, field);
+    const found = derivativeOrder(tree, definitionIndex, definitionOrderOf);
+    if (found.order > 1) {
+      throw new ModelError("unsupported", field, `the ${what} may depend on rates but not on accelerations`, found.node!.start + 1, found.node!.end - found.node!.start);
+    }
+    return tree;
+  };
+  const kinetic = energy(model.kinetic, "kinetic", "kinetic energy");
+  const potential = energy(model.potential, "potential", "potential energy");
+  const dissipation = model.dissipation === undefined || model.dissipation.trim() === "" ? null : energy(model.dissipation, "dissipation", "dissipation function");
+
+  const forces = new Map<string, Expr>();
+  for (const [coordinate, text] of Object.entries(model.forces ?? {})) {
+    const field = `forces.${coordinate}`;
+    if (roles.get(coordinate) !== "coordinate") {
+      throw new ModelError("unknown_symbol", field, `generalized force for "${coordinate}", which is not a coordinate`);
+    }
+    forces.set(coordinate, parse(text, field));
+  }
+  return { model, definitions: definitionTrees, definitionOrder, kinetic, potential, dissipation, forces };
+}
+
+function checkSymbols(tree: Expr, field: string, roles: Map<string, SymbolRole>): void {
+  walk(tree, (node) => {
+    if (node.kind !== "sym") return;
+    const column = node.start + 1;
+    const length = node.end - node.start;
+    if (node.name === TIME) {
+      if (node.order > 0) throw new ModelError("rate_of_parameter", field, `t is the time; its rate is 1`, column, length);
+      return;
+    }
+    const role = roles.get(node.name);
+    if (role === undefined) throw new ModelError("unknown_symbol", field, `unknown symbol "${node.name}"`, column, length);
+    if (node.order > 0 && (role === "parameter" || role === "input")) {
+      throw new ModelError("rate_of_parameter", field, `"${node.name}" is ${role === "parameter" ? "a parameter" : "an input"} and has no rate`, column, length);
+    }
+  });
+}
+
+/** Highest derivative order of coordinates an expression reaches (q'' → 2, x1' with x1 = l*sin(q) → 1). */
+function derivativeOrder(tree: Expr, definitionIndex: Map<string, number>, definitionOrderOf: number[]): { order: number; node: Expr | null } {
+  let best = 0;
+  let at: Expr | null = null;
+  walk(tree, (node) => {
+    if (node.kind !== "sym") return;
+    const index = definitionIndex.get(node.name);
+    const order = node.order + (index === undefined ? 0 : definitionOrderOf[index]!);
+    if (order > best) {
+      best = order;
+      at = node;
+    }
+  });
+  return { order: best, node: at };
+}
+
+/** Topological order of definitions; a cycle is reported at the reference that closes it. */
+function orderDefinitions(names: string[], trees: Expr[], index: Map<string, number>): number[] {
+  const refs = trees.map((tree) => {
+    const out: { target: number; node: Expr }[] = [];
+    walk(tree, (node) => {
+      if (node.kind === "sym" && index.has(node.name)) out.push({ target: index.get(node.name)!, node });
+    });
+    return out;
+  });
+  const state = new Array<0 | 1 | 2>(names.length).fill(0);
+  const order: number[] = [];
+  const stack: number[] = [];
+  const visit = (i: number) => {
+    state[i] = 1;
+    stack.push(i);
+    for (const { target, node } of refs[i]!) {
+      if (state[target] === 1) {
+        const cycle = stack.slice(stack.indexOf(target)).map((k) => names[k]!);
+        cycle.push(names[target]!);
+        throw new ModelError("circular_definition", `definitions[${i}].expr`, `circular definition: ${cycle.join(" → ")}`, node.start + 1, node.end - node.start);
+      }
+      if (state[target] === 0) visit(target);
+    }
+    stack.pop();
+    state[i] = 2;
+    order.push(i);
+  };
+  for (let i = 0; i < names.length; i++) if (state[i] === 0) visit(i);
+  return order;
+}
