@@ -1,0 +1,165 @@
+import { Matrix, SingularValueDecomposition } from "ml-matrix";
+import { compileAnalysis, linearizeAbout, type CompiledAnalysis, type Complex, type Linearization, type MechanicalSystem } from "./linearize";
+import { isAngleUnit } from "./units";
+
+export type Stability = "stable" | "unstable" | "marginal";
+
+export interface Equilibrium {
+  /** Coordinates; angles wrapped into (−π, π]. */
+  q: number[];
+  /** Largest |f| left at the point. */
+  residual: number;
+  /**
+   * "unstable": an eigenvalue of A has a positive real part.
+   * "stable": none does, and either all have negative real parts (asymptotically
+   * stable) or the stiffness is positive definite (Lagrange–Dirichlet).
+   * "marginal": linear analysis cannot decide (zero or purely imaginary
+   * eigenvalues without a positive definite stiffness).
+   */
+  stability: Stability;
+  asymptotic: boolean;
+  /** False when ∂f/∂q is singular there (a family of equilibria, e.g. along a cyclic coordinate). */
+  isolated: boolean;
+  eigenvalues: Complex[];
+  linearization: Linearization;
+}
+
+export interface EquilibriumOptions {
+  /** Input values held during the search; default zeros. */
+  inputs?: readonly number[];
+  t?: number;
+  /** Which coordinates are angles; default from `coordinateUnits` (rad). */
+  angular?: readonly boolean[];
+  /** Extra starting points. */
+  starts?: readonly (readonly number[])[];
+  /** Random starting points added to the grid; default 16. */
+  randomStarts?: number;
+  /** Largest grid of starting points; default 64. */
+  maxGridStarts?: number;
+  seed?: number;
+  /** Accept a point when max |f| ≤ tolerance × (typical |f| at the starts); default 1e-10. */
+  tolerance?: number;
+  maxIterations?: number;
+}
+
+/**
+ * Finds equilibria of M q'' = f with rates zero and inputs held: Newton's
+ * method with exact Jacobians (minimum-norm steps from the SVD, so singular
+ * directions are left alone) from a grid of starts plus seeded random ones;
+ * results deduplicated (angles modulo 2π) and classified from the linearization.
+ *
+ * @example
+ * findEquilibria({ coordinates: ["theta"], coordinateUnits: ["rad"], massMatrix: [["m*l^2"]], forcing: ["-m*g*l*sin(theta)"], parameters: { m: 1, l: 1, g: 9.81 } })
+ * // θ = 0 stable, θ = π unstable
+ */
+export function findEquilibria(system: MechanicalSystem, options: EquilibriumOptions = {}): Equilibrium[] {
+  const compiled = compileAnalysis(system);
+  const { n, m } = compiled;
+  const angular = options.angular ?? system.coordinates.map((_, i) => isAngleUnit(system.coordinateUnits?.[i] ?? ""));
+  const u = options.inputs ?? new Array<number>(m).fill(0);
+  const t = options.t ?? 0;
+  const zeros = new Array<number>(n).fill(0);
+  const random = mulberry32(options.seed ?? 1);
+
+  const starts: number[][] = [...(options.starts ?? []).map((s) => [...s])];
+  const angleGrid = [0, Math.PI, Math.PI / 2, -Math.PI / 2];
+  const otherGrid = [0, 1, -1];
+  const maxGrid = options.maxGridStarts ?? 64;
+  const full = angular.reduce((count, a) => count * (a ? angleGrid.length : otherGrid.length), 1);
+  const grid = full <= maxGrid ? [angleGrid, otherGrid] : angular.reduce((c, a) => c * (a ? 2 : 1), 1) <= maxGrid ? [[0, Math.PI], [0]] : [[0], [0]];
+  const product = (i: number, prefix: number[]): void => {
+    if (i === n) {
+      starts.push(prefix);
+      return;
+    }
+    for (const v of angular[i] ? grid[0]! : grid[1]!) product(i + 1, [...prefix, v]);
+  };
+  product(0, []);
+  for (let k = 0; k < (options.randomStarts ?? 16); k++) {
+    starts.push(angular.map((a) => (a ? (random() * 2 - 1) * Math.PI : (random() * 2 - 1) * 2)));
+  }
+
+  const forcingAt = (q: number[]) => compiled.at(q, zeros, zeros, t, u);
+  const norm = (v: number[]) => Math.max(0, ...v.map(Math.abs));
+  let typical = 0;
+  for (const s of starts) typical = Math.max(typical, norm(forcingAt(s).forcing));
+  const tolerance = (options.tolerance ?? 1e-10) * Math.max(typical, Number.MIN_VALUE);
+  const maxIterations = options.maxIterations ?? 60;
+
+  const found: { q: number[]; residual: number; isolated: boolean }[] = [];
+  for (const start of starts) {
+    let q = [...start];
+    let e = forcingAt(q);
+    let residual = norm(e.forcing);
+    for (let iteration = 0; iteration < maxIterations && residual > tolerance; iteration++) {
+      // g(q) = f(q, 0); ∂g/∂q = −∂r/∂q, so the Newton step is δ = (∂r/∂q)⁺ g.
+      const step = new SingularValueDecomposition(new Matrix(e.byCoordinate), { autoTranspose: true }).solve(Matrix.columnVector(e.forcing)).to1DArray();
+      if (!step.every(Number.isFinite)) break;
+      let alpha = 1;
+      let accepted = false;
+      for (let halving = 0; halving < 12; halving++, alpha /= 2) {
+        const trial = q.map((x, i) => x + alpha * step[i]!);
+        const te = forcingAt(trial);
+        const tr = norm(te.forcing);
+        if (tr < residual) {
+          q = trial;
+          e = te;
+          residual = tr;
+          accepted = true;
+          break;
+        }
+      }
+      if (!accepted) break;
+    }
+    if (!(residual <= tolerance)) continue;
+    const wrapped = q.map((x, i) => (angular[i] ? wrapAngle(x) : x));
+    const same = found.find((f) => f.q.every((x, i) => Math.abs(angular[i] ? wrapAngle(x - wrapped[i]!) : x - wrapped[i]!) < 1e-6 * (1 + Math.abs(x))));
+    if (same) continue;
+    const rank = new SingularValueDecomposition(new Matrix(forcingAt(wrapped).byCoordinate), { autoTranspose: true }).rank;
+    found.push({ q: wrapped, residual, isolated: rank === n });
+  }
+
+  return found
+    .sort((a, b) => compareVectors(a.q, b.q))
+    .map((f) => {
+      const linearization = linearizeAbout(compiled as CompiledAnalysis, { q: f.q, inputs: u, t });
+      const { stability, asymptotic } = classify(linearization);
+      return { ...f, stability, asymptotic, eigenvalues: linearization.eigenvalues, linearization };
+    });
+}
+
+function classify(linearization: Linearization): { stability: Stability; asymptotic: boolean } {
+  const magnitude = Math.max(1, ...linearization.eigenvalues.map((l) => Math.hypot(l.re, l.im)));
+  const tol = 1e-8 * magnitude;
+  const maxRe = Math.max(...linearization.eigenvalues.map((l) => l.re));
+  if (maxRe > tol) return { stability: "unstable", asymptotic: false };
+  if (maxRe < -tol) return { stability: "stable", asymptotic: true };
+  // On the imaginary axis: with non-negative damping, a positive definite
+  // stiffness gives a strict minimum of the potential (Lagrange–Dirichlet).
+  const positiveStiffness = linearization.modes.length > 0 && linearization.modes.every((mode) => mode.omegaSquared > tol * tol);
+  return { stability: positiveStiffness ? "stable" : "marginal", asymptotic: false };
+}
+
+/** Wraps an angle into (−π, π]. */
+export function wrapAngle(x: number): number {
+  const twoPi = 2 * Math.PI;
+  let y = x - twoPi * Math.floor((x + Math.PI) / twoPi);
+  if (y <= -Math.PI + 1e-12) y += twoPi;
+  return Math.abs(y) < 1e-13 ? 0 : y;
+}
+
+function compareVectors(a: number[], b: number[]): number {
+  for (let i = 0; i < a.length; i++) if (Math.abs(a[i]! - b[i]!) > 1e-9) return a[i]! - b[i]!;
+  return 0;
+}
+
+function mulberry32(seed: number): () => number {
+  let a = seed >>> 0;
+  return () => {
+    a = (a + 0x6d2b79f5) >>> 0;
+    let t = a;
+    t = Math.imul(t ^ (t >>> 15), t | 1);
+    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
+    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
+  };
+}

@@ -1,0 +1,303 @@
+import { unit as parseMathUnit } from "mathjs";
+import { constantValue } from "./differentiate";
+import { ExpressionError, ModelError } from "./errors";
+import type { Expr } from "./expr/ast";
+import { formatExpression, parseExpression } from "./expr/parse";
+import type { Model } from "./model";
+import { topLevelTerms } from "./terms";
+
+/**
+ * Units of coordinates, parameters and inputs, and a dimensional check of a
+ * model. Unit text is parsed by mathjs; we keep only the exponents of the
+ * base dimensions and drop the angle, so a radian is dimensionless throughout
+ * (a torque N*m is then the generalized force of an angle, as energy/rad).
+ */
+
+/** Exponents of kg, m, s, A, K, cd, mol (the angle is dropped). */
+export type Dimension = readonly number[];
+
+const BASE_SYMBOLS = ["kg", "m", "s", "A", "K", "cd", "mol"] as const;
+/** mathjs dimension order: mass, length, time, current, temperature, luminous intensity, amount, angle, bit. */
+const MATHJS_INDICES = [0, 1, 2, 3, 4, 5, 6];
+const ANGLE_INDEX = 7;
+
+/** Unit symbols a model may use, as mathjs spells them (prefix + name). */
+const ALLOWED: ReadonlyMap<string, string> = new Map([
+  ["kg", "k|g"],
+  ["m", "|m"],
+  ["s", "|s"],
+  ["rad", "|rad"],
+  ["N", "|N"],
+  ["J", "|J"],
+  ["W", "|W"],
+  ["Pa", "|Pa"],
+  ["Hz", "|Hz"],
+]);
+const ALLOWED_KEYS = new Set(ALLOWED.values());
+const MAX_UNIT_LENGTH = 100;
+
+export const DIMENSIONLESS: Dimension = [0, 0, 0, 0, 0, 0, 0];
+export const ENERGY: Dimension = [1, 2, -2, 0, 0, 0, 0];
+export const POWER: Dimension = [1, 2, -3, 0, 0, 0, 0];
+export const TIME_DIMENSION: Dimension = [0, 0, 1, 0, 0, 0, 0];
+
+const NAMED: [Dimension, string][] = [
+  [ENERGY, "J"],
+  [POWER, "W"],
+  [[1, 1, -2, 0, 0, 0, 0], "N"],
+  [[1, -1, -2, 0, 0, 0, 0], "Pa"],
+];
+
+/**
+ * Parses unit text such as `N*m/rad`, `kg*m^2`, `m/s^2`, `1/s` or `1`.
+ * Throws ModelError("unit", field, …) for text mathjs cannot read or a
+ * symbol outside kg, m, s, rad, N, J, W, Pa, Hz.
+ *
+ * @example parseUnit("N*m") // [1, 2, -2, 0, 0, 0, 0]
+ */
+export function parseUnit(text: string, field = "unit"): Dimension {
+  const trimmed = text.trim();
+  if (trimmed === "" || trimmed === "1") return DIMENSIONLESS;
+  if (trimmed.length > MAX_UNIT_LENGTH) throw new ModelError("unit", field, `unit is longer than ${MAX_UNIT_LENGTH} characters`, 1);
+  if (!/^[A-Za-z0-9_.\s*/^()+-]+$/.test(trimmed)) {
+    const bad = /[^A-Za-z0-9_.\s*/^()+-]/.exec(text)!;
+    throw new ModelError("unit", field, `unexpected character "${bad[0]}" in unit (write units with * / ^ over kg, m, s, rad, N, J, W, Pa, Hz)`, bad.index + 1);
+  }
+  let parsed;
+  try {
+    parsed = parseMathUnit(trimmed);
+  } catch (error) {
+    const symbol = /"([^"]+)"/.exec((error as Error).message)?.[1];
+    const at = symbol ? text.indexOf(symbol) : -1;
+    throw new ModelError("unit", field, symbol ? `unknown unit "${symbol}" (use kg, m, s, rad, N, J, W, Pa, Hz)` : `cannot read unit "${trimmed}"`, at >= 0 ? at + 1 : null);
+  }
+  for (const part of parsed.units as unknown as { prefix: { name: string }; unit: { name: string } }[]) {
+    const key = `${part.prefix.name}|${part.unit.name}`;
+    if (!ALLOWED_KEYS.has(key)) {
+      const written = part.prefix.name + part.unit.name;
+      const at = text.indexOf(written);
+      throw new ModelError("unit", field, `unit "${written}" is not allowed (use kg, m, s, rad, N, J, W, Pa, Hz)`, at >= 0 ? at + 1 : null, written.length);
+    }
+  }
+  if (parsed.value !== null && !(Number.isFinite(parsed.value) && parsed.value > 0)) {
+    throw new ModelError("unit", field, `a unit's number must be positive`, 1);
+  }
+  return MATHJS_INDICES.map((i) => parsed.dimensions[i]!);
+}
+
+/** Whether unit text is an angle (rad, possibly with a number), i.e. a coordinate to wrap modulo 2π. */
+export function isAngleUnit(text: string): boolean {
+  try {
+    const parsed = parseMathUnit(text.trim());
+    return parsed.dimensions.every((d, i) => (i === ANGLE_INDEX ? d === 1 : d === 0));
+  } catch {
+    return false;
+  }
+}
+
+export function sameDimension(a: Dimension, b: Dimension): boolean {
+  return a.every((x, i) => Math.abs(x - b[i]!) < 1e-12);
+}
+
+export const multiplyDimensions = (a: Dimension, b: Dimension): Dimension => a.map((x, i) => x + b[i]!);
+export const divideDimensions = (a: Dimension, b: Dimension): Dimension => a.map((x, i) => x - b[i]!);
+export const powerOfDimension = (a: Dimension, k: number): Dimension => a.map((x) => x * k);
+
+/**
+ * Writes a dimension over base symbols, with its name where it has one:
+ * `kg*m^2/s^2 (J)`, `m/s`, `1` for dimensionless.
+ */
+export function formatDimension(d: Dimension): string {
+  const power = (symbol: string, p: number) => (p === 1 ? symbol : `${symbol}^${Number.isInteger(p) ? p : `(${+p.toFixed(6)})`}`);
+  const up = BASE_SYMBOLS.flatMap((s, i) => (d[i]! > 0 ? [power(s, d[i]!)] : []));
+  const down = BASE_SYMBOLS.flatMap((s, i) => (d[i]! < 0 ? [power(s, -d[i]!)] : []));
+  let text = up.length === 0 ? (down.length === 0 ? "1" : "1") : up.join("*");
+  if (down.length > 0) text += "/" + (down.length === 1 ? down[0] : down.join("/"));
+  const named = NAMED.find(([dim]) => sameDimension(dim, d));
+  return named ? `${text} (${named[1]})` : text;
+}
+
+/**
+ * The unit of an expression, or null for the literal 0 (which fits any unit).
+ * `symbolUnits` gives each identifier's unit (text or dimension); a rate q'
+ * has unit(q)/s, an acceleration unit(q)/s², `t` has s. Throws
+ * ModelError("unit_mismatch", field, …) naming the offending term, with its
+ * column in `text` when the expression came from text.
+ *
+ * @example unitOfExpression("1/2*m*x'^2", { m: "kg", x: "m" }) // [1, 2, -2, 0, 0, 0, 0]
+ */
+export function unitOfExpression(expr: string | Expr, symbolUnits: Readonly<Record<string, string | Dimension>>, field = "expression"): Dimension | null {
+  const text = typeof expr === "string" ? expr : null;
+  let tree: Expr;
+  try {
+    tree = typeof expr === "string" ? parseExpression(expr) : expr;
+  } catch (error) {
+    if (error instanceof ExpressionError) throw ModelError.fromExpression(field, error);
+    throw error;
+  }
+  const lookup = (name: string): Dimension | undefined => {
+    const u = symbolUnits[name];
+    return u === undefined ? undefined : typeof u === "string" ? parseUnit(u, field) : u;
+  };
+  return new UnitInference(lookup, field, text).of(tree);
+}
+
+class UnitInference {
+  constructor(
+    private readonly lookup: (name: string) => Dimension | undefined,
+    private readonly field: string,
+    private readonly text: string | null,
+  ) {}
+
+  quote(e: Expr): string {
+    return `"${this.text !== null && e.end > e.start ? this.text.slice(e.start, e.end) : formatExpression(e)}"`;
+  }
+
+  fail(e: Expr, message: string): never {
+    const column = this.text !== null && e.end > e.start ? e.start + 1 : null;
+    throw new ModelError("unit_mismatch", this.field, message, column, Math.max(1, e.end - e.start));
+  }
+
+  of(e: Expr): Dimension | null {
+    switch (e.kind) {
+      case "num":
+        return e.value === 0 ? null : DIMENSIONLESS;
+      case "pi":
+        return DIMENSIONLESS;
+      case "sym": {
+        const base = e.name === "t" ? TIME_DIMENSION : this.lookup(e.name);
+        if (base === undefined) {
+          const column = this.text !== null && e.end > e.start ? e.start + 1 : null;
+          throw new ModelError("unknown_symbol", this.field, `unknown symbol "${e.name}"`, column, e.end - e.start);
+        }
+        return e.order === 0 ? base : divideDimensions(base, powerOfDimension(TIME_DIMENSION, e.order));
+      }
+      case "neg":
+        return this.of(e.arg);
+      case "bin":
+        switch (e.op) {
+          case "+":
+          case "-":
+            return this.sum(e);
+          case "*": {
+            const a = this.of(e.left);
+            const b = this.of(e.right);
+            return a === null || b === null ? null : multiplyDimensions(a, b);
+          }
+          case "/": {
+            const a = this.of(e.left);
+            const b = this.of(e.right);
+            if (a === null) return null;
+            return b === null ? a : divideDimensions(a, b);
+          }
+          case "^": {
+            const base = this.of(e.left);
+            const exponent = this.of(e.right);
+            if (exponent !== null && !sameDimension(exponent, DIMENSIONLESS)) {
+              this.fail(e.right, `the exponent ${this.quote(e.right)} has unit ${formatDimension(exponent)} but must be dimensionless`);
+            }
+            if (base === null) return null;
+            if (sameDimension(base, DIMENSIONLESS)) return DIMENSIONLESS;
+            const k = constantValue(e.right);
+            if (k === null) this.fail(e.right, `${this.quote(e.left)} has unit ${formatDimension(base)}, so its exponent ${this.quote(e.right)} must be a number`);
+            return powerOfDimension(base, k);
+          }
+        }
+        break;
+      case "call": {
+        const arg = this.of(e.arg);
+        if (e.fn === "sqrt") return arg === null ? null : powerOfDimension(arg, 0.5);
+        if (e.fn === "abs") return arg;
+        if (arg !== null && !sameDimension(arg, DIMENSIONLESS)) {
+          this.fail(e.arg, `the argument ${this.quote(e.arg)} of ${e.fn} has unit ${formatDimension(arg)} but must be dimensionless`);
+        }
+        return DIMENSIONLESS;
+      }
+    }
+    return DIMENSIONLESS;
+  }
+
+  private sum(e: Expr): Dimension | null {
+    let first: { term: Expr; unit: Dimension } | null = null;
+    for (const { term } of topLevelTerms(e)) {
+      const unit = this.of(term);
+      if (unit === null) continue;
+      if (first === null) first = { term, unit };
+      else if (!sameDimension(first.unit, unit)) {
+        this.fail(term, `the term ${this.quote(term)} has unit ${formatDimension(unit)} but ${this.quote(first.term)} has unit ${formatDimension(first.unit)}`);
+      }
+    }
+    return first === null ? null : first.unit;
+  }
+}
+
+/**
+ * Checks a model's units: T and V are energies, D a power, each generalized
+ * force has unit J / unit(q), every definition has a consistent unit, the
+ * arguments of sin, cos, exp… are dimensionless and the terms of every sum
+ * agree. With `equations` (from the derivation), every top-level term of each
+ * residual must have the unit of its coordinate's generalized force.
+ * Throws ModelError("unit" | "unit_mismatch" | "unknown_symbol", field, …).
+ *
+ * @example checkModelUnits(model, derived.equations)
+ */
+export function checkModelUnits(model: Model, equations?: readonly { coordinate: string; residual: string }[]): void {
+  const units = new Map<string, Dimension>();
+  const declare = (list: readonly { name: string; unit: string }[] | undefined, key: string) =>
+    (list ?? []).forEach((item, i) => units.set(item.name, parseUnit(item.unit ?? "", `${key}[${i}].unit`)));
+  declare(model.coordinates, "coordinates");
+  declare(model.parameters, "parameters");
+  declare(model.inputs, "inputs");
+
+  // Definitions get their unit from their expression, in dependency order.
+  const definitions = new Map((model.definitions ?? []).map((d, i) => [d.name, { d, i }]));
+  const inProgress = new Set<string>();
+  const lookup = (name: string): Dimension | undefined => {
+    const known = units.get(name);
+    if (known !== undefined) return known;
+    const entry = definitions.get(name);
+    if (entry === undefined) return undefined;
+    const field = `definitions[${entry.i}].expr`;
+    if (inProgress.has(name)) throw new ModelError("circular_definition", field, `definition "${name}" refers to itself`);
+    inProgress.add(name);
+    const unit = infer(entry.d.expr, field) ?? DIMENSIONLESS;
+    inProgress.delete(name);
+    units.set(name, unit);
+    return unit;
+  };
+  function infer(text: string, field: string): Dimension | null {
+    let tree: Expr;
+    try {
+      tree = parseExpression(text);
+    } catch (error) {
+      if (error instanceof ExpressionError) throw ModelError.fromExpression(field, error);
+      throw error;
+    }
+    return new UnitInference(lookup, field, text).of(tree);
+  }
+  for (const name of definitions.keys()) lookup(name);
+
+  const expectEachTerm = (text: string, field: string, expected: Dimension, what: string, textIsUser = true) => {
+    const tree = parseExpression(text);
+    const inference = new UnitInference(lookup, field, textIsUser ? text : null);
+    inference.of(tree); // the terms of every inner sum must agree first
+    for (const { term } of topLevelTerms(tree)) {
+      const unit = inference.of(term);
+      if (unit !== null && !sameDimension(unit, expected)) {
+        inference.fail(term, `the term ${inference.quote(term)} of ${what} has unit ${formatDimension(unit)} but must have ${formatDimension(expected)}`);
+      }
+    }
+  };
+
+  expectEachTerm(model.kinetic, "kinetic", ENERGY, "the kinetic energy");
+  expectEachTerm(model.potential, "potential", ENERGY, "the potential energy");
+  if (model.dissipation !== undefined && model.dissipation.trim() !== "") expectEachTerm(model.dissipation, "dissipation", POWER, "the dissipation function");
+
+  const generalizedForceUnit = (coordinate: string) => divideDimensions(ENERGY, units.get(coordinate) ?? DIMENSIONLESS);
+  for (const [coordinate, text] of Object.entries(model.forces ?? {})) {
+    expectEachTerm(text, `forces.${coordinate}`, generalizedForceUnit(coordinate), `the generalized force on ${coordinate}`);
+  }
+  (equations ?? []).forEach((equation, i) => {
+    expectEachTerm(equation.residual, `equations[${i}].residual`, generalizedForceUnit(equation.coordinate), `the equation of ${equation.coordinate}`, false);
+  });
+}
