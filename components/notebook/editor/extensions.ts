@@ -1,0 +1,102 @@
+/**
+ * The extension set of one expression editor, assembled from the feature
+ * factories (language, completion, diagnostics) plus editing basics.
+ */
+import { closeBrackets, closeBracketsKeymap, completionKeymap } from "@codemirror/autocomplete";
+import { defaultKeymap, history, historyKeymap } from "@codemirror/commands";
+import { EditorState, Prec, type Extension } from "@codemirror/state";
+import { EditorView, keymap, placeholder as placeholderText } from "@codemirror/view";
+import { symbolCompletion } from "./completion";
+import { editorContext, type ServerDiagnostics } from "./context";
+import { expressionDiagnostics, type LocalCheckOptions } from "./diagnostics";
+import { expressionLanguage } from "./language";
+import type { DocumentSymbols } from "@/lib/notebook/document";
+
+/**
+ * Keeps the text on one line: typed or pasted line breaks become spaces, and
+ * Enter runs `onEnter` (if any) instead of breaking the line.
+ */
+export function singleLine(onEnter?: (view: EditorView) => void): Extension[] {
+  return [
+    EditorState.transactionFilter.of((tr) => {
+      if (!tr.docChanged || tr.newDoc.lines === 1) return tr;
+      const changes: { from: number; to: number; insert: string }[] = [];
+      tr.changes.iterChanges((from, to, _fromB, _toB, inserted) => changes.push({ from, to, insert: inserted.toString().replace(/\n/g, " ") }));
+      // A line break and a space have the same length, so the transaction's selection still fits.
+      return { changes, selection: tr.selection, effects: tr.effects, scrollIntoView: tr.scrollIntoView, userEvent: "input" };
+    }),
+    Prec.high(
+      keymap.of([
+        {
+          key: "Enter",
+          run: (view) => {
+            onEnter?.(view);
+            return true;
+          },
+        },
+      ]),
+    ),
+  ];
+}
+
+export const expressionTheme = EditorView.theme({
+  "&": {
+    fontFamily: "var(--font-mono, 'IBM Plex Mono', ui-monospace, monospace)",
+    fontSize: "0.95rem",
+    backgroundColor: "var(--color-field, transparent)",
+    color: "var(--color-ink, #2b2b28)",
+    border: "1px solid var(--color-rule, #d9d3c4)",
+    borderRadius: "4px",
+  },
+  "&.cm-focused": { outline: "2px solid var(--color-accent, #0f5c5a)", outlineOffset: "1px" },
+  ".cm-content": { padding: "6px 8px", caretColor: "var(--color-accent, #0f5c5a)" },
+  ".cm-line": { padding: "0" },
+  ".cm-scroller": { fontFamily: "inherit", overflowX: "auto" },
+  ".cm-matchingBracket": { backgroundColor: "var(--color-accent-soft, #d5e8e6)", outline: "none" },
+  ".cm-nonmatchingBracket": { color: "var(--color-danger, #b3261e)" },
+  ".cm-placeholder": { color: "var(--color-ink-muted, #8a867c)" },
+  ".cm-tooltip": {
+    fontFamily: "var(--font-sans, 'IBM Plex Sans', system-ui, sans-serif)",
+    backgroundColor: "var(--color-paper, #fbf8f1)",
+    border: "1px solid var(--color-rule, #d9d3c4)",
+  },
+  ".cm-tooltip-autocomplete > ul > li[aria-selected]": { backgroundColor: "var(--color-accent, #0f5c5a)", color: "var(--color-paper, #fbf8f1)" },
+  ".cm-lintRange-error": { backgroundImage: "none", textDecoration: "underline wavy var(--color-danger, #b3261e)", textUnderlineOffset: "3px" },
+  ".cm-lintRange-warning": { backgroundImage: "none", textDecoration: "underline wavy var(--color-brass, #9a7b2f)", textUnderlineOffset: "3px" },
+});
+
+export interface ExpressionExtensionsOptions extends LocalCheckOptions {
+  label: string;
+  id?: string;
+  multiline?: boolean;
+  placeholder?: string;
+  symbols?: DocumentSymbols;
+  diagnostics?: ServerDiagnostics;
+  lintDelay?: number;
+  onEnter?: (view: EditorView) => void;
+}
+
+/** Everything an expression editor needs except read-only state and change wiring. */
+export function expressionExtensions(options: ExpressionExtensionsOptions): Extension[] {
+  return [
+    editorContext({ symbols: options.symbols, diagnostics: options.diagnostics }),
+    expressionLanguage(),
+    history(),
+    closeBrackets(),
+    symbolCompletion(),
+    expressionDiagnostics({ allowEmpty: options.allowEmpty, checkSymbols: options.checkSymbols, delay: options.lintDelay }),
+    options.multiline ? EditorView.lineWrapping : singleLine(options.onEnter),
+    keymap.of([...closeBracketsKeymap, ...completionKeymap, ...historyKeymap, ...defaultKeymap]),
+    EditorView.contentAttributes.of({
+      "aria-label": options.label,
+      "aria-multiline": options.multiline ? "true" : "false",
+      role: "textbox",
+      spellcheck: "false",
+      autocapitalize: "off",
+      autocorrect: "off",
+      ...(options.id ? { id: options.id } : {}),
+    }),
+    options.placeholder ? placeholderText(options.placeholder) : [],
+    expressionTheme,
+  ];
+}

@@ -1,0 +1,140 @@
+// @vitest-environment jsdom
+import { afterEach, describe, expect, it, vi } from "vitest";
+import { act, cleanup, render, screen, waitFor } from "@testing-library/react";
+import { useState } from "react";
+import { EditorView } from "@codemirror/view";
+import { CompletionContext } from "@codemirror/autocomplete";
+import { ExpressionEditor, type ExpressionEditorProps } from "@/components/notebook/editor/expression-editor";
+import { symbolCompletionSource } from "@/components/notebook/editor/completion";
+import { localDiagnostics } from "@/components/notebook/editor/diagnostics";
+import type { DocumentSymbols } from "@/lib/notebook/document";
+
+afterEach(cleanup);
+
+const symbols: DocumentSymbols = { coordinates: ["theta"], parameters: ["m", "l", "g"], inputs: ["u"], definitions: ["y"] };
+
+function viewOf(label: string): EditorView {
+  const content = screen.getByRole("textbox", { name: label });
+  const view = EditorView.findFromDOM(content);
+  if (!view) throw new Error("no editor view");
+  return view;
+}
+
+/** Types text at the end of the editor the way keyboard input reaches CodeMirror. */
+function typeAtEnd(view: EditorView, text: string) {
+  act(() => {
+    view.dispatch({ changes: { from: view.state.doc.length, insert: text }, selection: { anchor: view.state.doc.length + text.length }, userEvent: "input.type" });
+  });
+}
+
+function Controlled(props: Partial<ExpressionEditorProps> & { initial: string; onValue?: (v: string) => void }) {
+  const [value, setValue] = useState(props.initial);
+  return (
+    <ExpressionEditor
+      label="Kinetic energy T"
+      symbols={symbols}
+      lintDelay={0}
+      {...props}
+      value={value}
+      onChange={(next) => {
+        setValue(next);
+        props.onValue?.(next);
+      }}
+    />
+  );
+}
+
+describe("ExpressionEditor", () => {
+  it("mounts with the value, an accessible name, and reports typing through onChange", () => {
+    const onValue = vi.fn();
+    render(<Controlled initial="1/2*m*l^2*theta'^2" onValue={onValue} />);
+    const view = viewOf("Kinetic energy T");
+    expect(view.state.doc.toString()).toBe("1/2*m*l^2*theta'^2");
+    typeAtEnd(view, " + 0");
+    expect(onValue).toHaveBeenLastCalledWith("1/2*m*l^2*theta'^2 + 0");
+  });
+
+  it("underlines a parse error at its column and lists it under the editor", async () => {
+    render(<Controlled initial="m*g*y" />);
+    const view = viewOf("Kinetic energy T");
+    typeAtEnd(view, " + (l");
+    const item = await screen.findByText(/expected "\)"/);
+    // "m*g*y + (l" is 10 characters; the parser reports the missing ")" at the end, column 11.
+    expect(item.textContent).toContain("col 11");
+    // At the very end of the text the mark is a point rather than an underline.
+    await waitFor(() => expect(view.dom.querySelector(".cm-lintPoint-error")).not.toBeNull());
+    typeAtEnd(view, ")*x");
+    await waitFor(() => expect(view.dom.querySelector(".cm-lintRange-error")?.textContent).toBe("x"));
+  });
+
+  it("flags unknown names and rates of parameters from the derivation's symbols", async () => {
+    render(<Controlled initial="m*g*h + l'" />);
+    expect(await screen.findByText(/unknown symbol "h"/)).toBeTruthy();
+    expect(screen.getByText(/"l" is a parameter and has no rate/)).toBeTruthy();
+  });
+
+  it("shows evaluator diagnostics for the text they were computed for, and hides them once it changes", async () => {
+    const text = "1/2*m*theta'^2";
+    const onValue = vi.fn();
+    render(
+      <Controlled
+        initial={text}
+        onValue={onValue}
+        diagnostics={[{ from: 4, to: 14, message: "unit mismatch: term m*theta'^2 is kg*rad^2/s^2, expected J", source: "units" }]}
+        diagnosticsFor={text}
+      />,
+    );
+    expect(await screen.findByText(/unit mismatch: term m\*theta'\^2/)).toBeTruthy();
+    typeAtEnd(viewOf("Kinetic energy T"), "*l^2");
+    await waitFor(() => expect(screen.queryByText(/unit mismatch/)).toBeNull());
+  });
+
+  it("keeps a single-line editor on one line", () => {
+    const onValue = vi.fn();
+    render(<Controlled initial="x" onValue={onValue} />);
+    const view = viewOf("Kinetic energy T");
+    typeAtEnd(view, "\n+ y");
+    expect(view.state.doc.lines).toBe(1);
+    expect(onValue).toHaveBeenLastCalledWith("x + y");
+  });
+
+  it("follows a new value from the parent without echoing it back", () => {
+    const onChange = vi.fn();
+    const { rerender } = render(<ExpressionEditor label="V" value="m*g*y" onChange={onChange} />);
+    rerender(<ExpressionEditor label="V" value="-m*g*l*cos(theta)" onChange={onChange} />);
+    expect(viewOf("V").state.doc.toString()).toBe("-m*g*l*cos(theta)");
+    expect(onChange).not.toHaveBeenCalled();
+  });
+
+  it("destroys its EditorView on unmount", () => {
+    const { unmount } = render(<ExpressionEditor label="V" value="m*g*y" onChange={() => {}} />);
+    const view = viewOf("V");
+    const destroy = vi.spyOn(view, "destroy");
+    unmount();
+    expect(destroy).toHaveBeenCalledTimes(1);
+    expect(view.dom.isConnected).toBe(false);
+  });
+
+  it("is read-only when asked", () => {
+    render(<ExpressionEditor label="V" value="m*g*y" onChange={() => {}} readOnly />);
+    expect(viewOf("V").state.readOnly).toBe(true);
+    expect(screen.getByRole("textbox", { name: "V" }).getAttribute("contenteditable")).toBe("false");
+  });
+});
+
+describe("completion and local checks", () => {
+  it("offers coordinates with rate and acceleration, definitions, parameters, inputs and functions", async () => {
+    render(<Controlled initial="th" />);
+    const view = viewOf("Kinetic energy T");
+    const result = symbolCompletionSource(new CompletionContext(view.state, 2, false));
+    expect(result?.from).toBe(0);
+    const labels = result!.options.map((o) => `${o.label}:${o.detail}`);
+    expect(labels).toEqual(expect.arrayContaining(["theta:coordinate", "theta':rate", "theta'':acceleration", "y':rate of definition", "m:parameter", "u:input", "sin:function", "t:time"]));
+  });
+
+  it("finds nothing wrong with a valid expression and allows blank only when told", () => {
+    expect(localDiagnostics("1/2*m*(l*theta')^2 + u*t", symbols, { checkSymbols: true })).toEqual([]);
+    expect(localDiagnostics("  ", symbols, { allowEmpty: true })).toEqual([]);
+    expect(localDiagnostics("", symbols)).toMatchObject([{ message: "expression is empty" }]);
+  });
+});
