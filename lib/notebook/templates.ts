@@ -2,11 +2,11 @@
  * Starting points for a new derivation, as model files. The scenarios are our
  * own demo firm's (cranes, hoists, test rigs).
  *
- * The N-link chain here is written for the notebook's template picker; the
- * engine keeps its own chain builder for its benchmark. Both build the planar
- * chain from Cartesian definitions.
+ * The N-link chain reuses the engine's chain builder (the one its benchmark
+ * derives) and adds the picker's size limits, a title and descriptions.
  */
 import type { Model } from "../mechanics/model";
+import { chainModel } from "../mechanics/templates/chain";
 import { createCell, createId, modelToDocument, type DerivationDocument } from "./document";
 
 export const TEMPLATE_IDS = ["single-pendulum", "cart-with-pendulum", "two-mass-spring-chain", "n-link-chain"] as const;
@@ -97,21 +97,22 @@ export function nLinkChain(links: number): Model {
   if (!Number.isInteger(links) || links < MIN_CHAIN_LINKS || links > MAX_CHAIN_LINKS) {
     throw new RangeError(`a chain has ${MIN_CHAIN_LINKS} to ${MAX_CHAIN_LINKS} links, not ${links}`);
   }
-  const indices = Array.from({ length: links }, (_, i) => i + 1);
+  const base = chainModel({ links, masses: Array(links).fill(1), lengths: Array(links).fill(0.5) });
+  const descriptions = new Map<string, string>([["g", "gravitational acceleration"]]);
+  for (let k = 1; k <= links; k++) {
+    descriptions.set(`theta${k}`, `link ${k} angle from the vertical`);
+    descriptions.set(`m${k}`, `mass at the end of link ${k}`);
+    descriptions.set(`l${k}`, `length of link ${k}`);
+  }
+  const withDescription = <T extends { name: string }>(entry: T) => {
+    const description = descriptions.get(entry.name);
+    return description ? { ...entry, description } : entry;
+  };
   return {
+    ...base,
     title: `${links}-link chain`,
-    coordinates: indices.map((k) => ({ name: `theta${k}`, unit: "rad", description: `link ${k} angle from the vertical` })),
-    parameters: [
-      ...indices.map((k) => ({ name: `m${k}`, unit: "kg", value: 1, description: `mass at the end of link ${k}` })),
-      ...indices.map((k) => ({ name: `l${k}`, unit: "m", value: 0.5, description: `length of link ${k}` })),
-      { name: "g", unit: "m/s^2", value: 9.81, description: "gravitational acceleration" },
-    ],
-    definitions: indices.flatMap((k) => [
-      { name: `x${k}`, expr: k === 1 ? `l1*sin(theta1)` : `x${k - 1} + l${k}*sin(theta${k})` },
-      { name: `y${k}`, expr: k === 1 ? `-l1*cos(theta1)` : `y${k - 1} - l${k}*cos(theta${k})` },
-    ]),
-    kinetic: indices.map((k) => `1/2*m${k}*(x${k}'^2 + y${k}'^2)`).join(" + "),
-    potential: indices.map((k) => `m${k}*g*y${k}`).join(" + "),
+    coordinates: base.coordinates.map(withDescription),
+    parameters: base.parameters.map(withDescription),
   };
 }
 

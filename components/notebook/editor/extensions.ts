@@ -41,28 +41,28 @@ export function singleLine(onEnter?: (view: EditorView) => void): Extension[] {
 
 export const expressionTheme = EditorView.theme({
   "&": {
-    fontFamily: "var(--font-mono, 'IBM Plex Mono', ui-monospace, monospace)",
+    fontFamily: "var(--font-plex-mono), ui-monospace, monospace",
     fontSize: "0.95rem",
-    backgroundColor: "var(--color-field, transparent)",
-    color: "var(--color-ink, #2b2b28)",
-    border: "1px solid var(--color-rule, #d9d3c4)",
+    backgroundColor: "var(--surface, #fbf8f2)",
+    color: "var(--ink, #24272c)",
+    border: "1px solid var(--line, #d8cfbd)",
     borderRadius: "4px",
   },
-  "&.cm-focused": { outline: "2px solid var(--color-accent, #0f5c5a)", outlineOffset: "1px" },
-  ".cm-content": { padding: "6px 8px", caretColor: "var(--color-accent, #0f5c5a)" },
+  "&.cm-focused": { outline: "2px solid var(--action, #0f5f63)", outlineOffset: "1px" },
+  ".cm-content": { padding: "6px 8px", caretColor: "var(--action, #0f5f63)" },
   ".cm-line": { padding: "0" },
   ".cm-scroller": { fontFamily: "inherit", overflowX: "auto" },
-  ".cm-matchingBracket": { backgroundColor: "var(--color-accent-soft, #d5e8e6)", outline: "none" },
-  ".cm-nonmatchingBracket": { color: "var(--color-danger, #b3261e)" },
-  ".cm-placeholder": { color: "var(--color-ink-muted, #8a867c)" },
+  ".cm-matchingBracket": { backgroundColor: "var(--action-soft, #d9e9e6)", outline: "none" },
+  ".cm-nonmatchingBracket": { color: "var(--danger, #b3261e)" },
+  ".cm-placeholder": { color: "var(--muted, #5c6169)" },
   ".cm-tooltip": {
-    fontFamily: "var(--font-sans, 'IBM Plex Sans', system-ui, sans-serif)",
-    backgroundColor: "var(--color-paper, #fbf8f1)",
-    border: "1px solid var(--color-rule, #d9d3c4)",
+    fontFamily: "var(--font-plex-sans), system-ui, sans-serif",
+    backgroundColor: "var(--surface, #fbf8f2)",
+    border: "1px solid var(--line, #d8cfbd)",
   },
-  ".cm-tooltip-autocomplete > ul > li[aria-selected]": { backgroundColor: "var(--color-accent, #0f5c5a)", color: "var(--color-paper, #fbf8f1)" },
-  ".cm-lintRange-error": { backgroundImage: "none", textDecoration: "underline wavy var(--color-danger, #b3261e)", textUnderlineOffset: "3px" },
-  ".cm-lintRange-warning": { backgroundImage: "none", textDecoration: "underline wavy var(--color-brass, #9a7b2f)", textUnderlineOffset: "3px" },
+  ".cm-tooltip-autocomplete > ul > li[aria-selected]": { backgroundColor: "var(--action, #0f5f63)", color: "var(--surface, #fbf8f2)" },
+  ".cm-lintRange-error": { backgroundImage: "none", textDecoration: "underline wavy var(--danger, #b3261e)", textUnderlineOffset: "3px" },
+  ".cm-lintRange-warning": { backgroundImage: "none", textDecoration: "underline wavy var(--seal, #8c6a17)", textUnderlineOffset: "3px" },
 });
 
 export interface ExpressionExtensionsOptions extends LocalCheckOptions {

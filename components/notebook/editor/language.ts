@@ -63,15 +63,15 @@ export const expressionStreamLanguage = StreamLanguage.define<ScanState>({
 
 /** Colours come from the notebook's CSS variables, so light and dark themes both apply. */
 export const expressionHighlightStyle = HighlightStyle.define([
-  { tag: tags.number, color: "var(--color-expr-number, #7a5a12)" },
-  { tag: tags.variableName, color: "var(--color-ink, #2b2b28)" },
-  { tag: tags.special(tags.variableName), color: "var(--color-accent, #0f5c5a)", fontWeight: "600" },
-  { tag: tags.function(tags.variableName), color: "var(--color-accent, #0f5c5a)" },
-  { tag: tags.constant(tags.variableName), color: "var(--color-expr-number, #7a5a12)", fontStyle: "italic" },
+  { tag: tags.number, color: "var(--seal, #8c6a17)" },
+  { tag: tags.variableName, color: "var(--ink, #24272c)" },
+  { tag: tags.special(tags.variableName), color: "var(--action, #0f5f63)", fontWeight: "600" },
+  { tag: tags.function(tags.variableName), color: "var(--action, #0f5f63)" },
+  { tag: tags.constant(tags.variableName), color: "var(--seal, #8c6a17)", fontStyle: "italic" },
   { tag: tags.standard(tags.variableName), fontStyle: "italic" },
-  { tag: tags.arithmeticOperator, color: "var(--color-ink-muted, #5d5b55)" },
-  { tag: tags.paren, color: "var(--color-ink-muted, #5d5b55)" },
-  { tag: tags.invalid, color: "var(--color-danger, #b3261e)", textDecoration: "underline wavy" },
+  { tag: tags.arithmeticOperator, color: "var(--muted, #5c6169)" },
+  { tag: tags.paren, color: "var(--muted, #5c6169)" },
+  { tag: tags.invalid, color: "var(--danger, #b3261e)", textDecoration: "underline wavy" },
 ]);
 
 /** Highlighting and bracket matching for an expression editor. */
