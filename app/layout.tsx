@@ -1,0 +1,26 @@
+import type { Metadata } from "next";
+import type { ReactNode } from "react";
+import { Providers } from "@/components/providers";
+import { plexMono, plexSans } from "./fonts";
+import "./globals.css";
+
+export const metadata: Metadata = {
+  title: { default: "Holonomy", template: "%s · Holonomy" },
+  description: "Derive, check and share equations of motion with your team.",
+};
+
+// Applies a stored theme choice before first paint, so dark mode never flashes.
+const themeScript = `try{var t=localStorage.getItem("holonomy-theme");if(t==="dark"||t==="light")document.documentElement.dataset.theme=t}catch(e){}`;
+
+export default function RootLayout({ children }: { children: ReactNode }) {
+  return (
+    <html lang="en" className={`${plexSans.variable} ${plexMono.variable}`} suppressHydrationWarning>
+      <head>
+        <script dangerouslySetInnerHTML={{ __html: themeScript }} />
+      </head>
+      <body className="min-h-screen font-sans text-[15px] leading-relaxed">
+        <Providers>{children}</Providers>
+      </body>
+    </html>
+  );
+}

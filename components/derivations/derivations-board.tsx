@@ -1,0 +1,297 @@
+"use client";
+
+import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
+import {
+  createColumnHelper,
+  createSortedRowModel,
+  rowSortingFeature,
+  sortFn_alphanumeric,
+  sortFn_basic,
+  sortFn_datetime,
+  tableFeatures,
+  useTable,
+  type SortingState,
+} from "@tanstack/react-table";
+import Link from "next/link";
+import { useMemo, useRef, useState } from "react";
+import { useShortcut } from "@/components/shortcuts";
+import { Button } from "@/components/ui/button";
+import { inputClass } from "@/components/ui/field";
+import { Notice } from "@/components/ui/notice";
+import { StatusBadge } from "@/components/ui/status-badge";
+import { apiFetch } from "@/lib/api/fetcher";
+import { can } from "@/lib/auth/permissions";
+import { derivationStatuses, roleLabels, statusLabels, type DerivationStatus, type MemberRole } from "@/lib/domain";
+import { DeleteDerivationDialog, DerivationTitleDialog } from "./derivation-dialogs";
+
+export interface DerivationRow {
+  id: string;
+  title: string;
+  status: DerivationStatus;
+  ownerId: string | null;
+  ownerName: string | null;
+  updatedByName: string | null;
+  updatedAt: string;
+}
+
+const statusOrder: Record<DerivationStatus, number> = { draft: 0, in_review: 1, approved: 2 };
+
+const features = tableFeatures({
+  rowSortingFeature,
+  sortedRowModel: createSortedRowModel(),
+  sortFns: { alphanumeric: sortFn_alphanumeric, datetime: sortFn_datetime, basic: sortFn_basic },
+});
+const helper = createColumnHelper<typeof features, DerivationRow>();
+const columns = helper.columns([
+  helper.accessor("title", { header: "Title", sortFn: "alphanumeric" }),
+  helper.accessor((row) => statusOrder[row.status], { id: "status", header: "Status", sortFn: "basic" }),
+  helper.accessor((row) => row.ownerName ?? "", { id: "owner", header: "Owner", sortFn: "alphanumeric" }),
+  helper.accessor((row) => new Date(row.updatedAt), { id: "updatedAt", header: "Last change", sortFn: "datetime" }),
+]);
+
+const dateFormat = new Intl.DateTimeFormat("en-GB", { dateStyle: "medium", timeStyle: "short" });
+const emptyRows: DerivationRow[] = [];
+
+export function DerivationsBoard({
+  teamId,
+  role,
+  currentUserId,
+  owners,
+}: {
+  teamId: string;
+  role: MemberRole;
+  currentUserId: string;
+  owners: { id: string; name: string }[];
+}) {
+  const queryClient = useQueryClient();
+  const queryKey = ["teams", teamId, "derivations"];
+  const { data, error, isPending } = useQuery({
+    queryKey,
+    queryFn: ({ signal }) => apiFetch<{ derivations: DerivationRow[] }>(`/api/teams/${teamId}/derivations`, { signal }),
+  });
+  const [statusFilter, setStatusFilter] = useState<DerivationStatus | "">("");
+  const [ownerFilter, setOwnerFilter] = useState("");
+  const [search, setSearch] = useState("");
+  const [sorting, setSorting] = useState<SortingState>([{ id: "updatedAt", desc: true }]);
+  const [creating, setCreating] = useState(false);
+  const [renaming, setRenaming] = useState<DerivationRow | null>(null);
+  const [deleting, setDeleting] = useState<DerivationRow | null>(null);
+  const searchRef = useRef<HTMLInputElement>(null);
+  const mayCreate = can(role, "derivation:create");
+
+  useShortcut("/", "Search derivations by title", () => searchRef.current?.focus());
+  useShortcut("n", "New derivation", () => setCreating(true), mayCreate);
+
+  const all = data?.derivations ?? emptyRows;
+  const rows = useMemo(() => {
+    const needle = search.trim().toLowerCase();
+    return all.filter(
+      (row) =>
+        (!statusFilter || row.status === statusFilter) &&
+        (!ownerFilter || row.ownerId === ownerFilter) &&
+        (!needle || row.title.toLowerCase().includes(needle)),
+    );
+  }, [all, statusFilter, ownerFilter, search]);
+
+  const table = useTable({ features, columns, data: rows, state: { sorting }, onSortingChange: setSorting });
+
+  const refresh = () => queryClient.invalidateQueries({ queryKey });
+  const create = useMutation({
+    mutationFn: (title: string) => apiFetch(`/api/teams/${teamId}/derivations`, { method: "POST", body: { title } }),
+    onSuccess: () => {
+      setCreating(false);
+      return refresh();
+    },
+  });
+  const rename = useMutation({
+    mutationFn: ({ id, title }: { id: string; title: string }) => apiFetch(`/api/derivations/${id}`, { method: "PATCH", body: { title } }),
+    onSuccess: () => {
+      setRenaming(null);
+      return refresh();
+    },
+  });
+  const remove = useMutation({
+    mutationFn: (id: string) => apiFetch(`/api/derivations/${id}`, { method: "DELETE" }),
+    onSuccess: () => {
+      setDeleting(null);
+      return refresh();
+    },
+  });
+
+  return (
+    <section aria-labelledby="derivations-heading" className="space-y-4">
+      <div className="flex flex-wrap items-end gap-3">
+        <h2 id="derivations-heading" className="mr-auto text-lg font-semibold">
+          Derivations
+        </h2>
+        <label className="text-sm">
+          <span className="mb-1 block text-xs text-muted">Search</span>
+          <input
+            ref={searchRef}
+            type="search"
+            value={search}
+            onChange={(event) => setSearch(event.target.value)}
+            placeholder="Title contains…  ( / )"
+            className={`${inputClass} w-56`}
+            aria-label="Search derivations"
+          />
+        </label>
+        <label className="text-sm">
+          <span className="mb-1 block text-xs text-muted">Status</span>
+          <select value={statusFilter} onChange={(event) => setStatusFilter(event.target.value as DerivationStatus | "")} className={inputClass} aria-label="Filter by status">
+            <option value="">Any status</option>
+            {derivationStatuses.map((status) => (
+              <option key={status} value={status}>
+                {statusLabels[status]}
+              </option>
+            ))}
+          </select>
+        </label>
+        <label className="text-sm">
+          <span className="mb-1 block text-xs text-muted">Owner</span>
+          <select value={ownerFilter} onChange={(event) => setOwnerFilter(event.target.value)} className={inputClass} aria-label="Filter by owner">
+            <option value="">Anyone</option>
+            <option value={currentUserId}>Me</option>
+            {owners
+              .filter((owner) => owner.id !== currentUserId)
+              .map((owner) => (
+                <option key={owner.id} value={owner.id}>
+                  {owner.name}
+                </option>
+              ))}
+          </select>
+        </label>
+        {mayCreate ? (
+          <Button variant="primary" onClick={() => setCreating(true)} title="New derivation (n)">
+            New derivation
+          </Button>
+        ) : null}
+      </div>
+
+      {!mayCreate ? (
+        <p className="text-sm text-muted" data-testid="read-only-note">
+          As {roleLabels[role].toLowerCase()} you can read this team&apos;s derivations; creating and editing them is for analysts and leads.
+        </p>
+      ) : null}
+
+      {error ? <Notice tone="error">{error.message}</Notice> : null}
+
+      <div className="overflow-x-auto rounded border border-line bg-surface">
+        <table className="w-full text-sm" data-testid="derivations-table">
+          <thead className="border-b border-line bg-sunken/60 text-left">
+            {table.getHeaderGroups().map((group) => (
+              <tr key={group.id}>
+                {group.headers.map((header) => {
+                  const sorted = header.column.getIsSorted();
+                  return (
+                    <th
+                      key={header.id}
+                      scope="col"
+                      aria-sort={sorted === "asc" ? "ascending" : sorted === "desc" ? "descending" : "none"}
+                      className="px-3 py-2 font-medium"
+                    >
+                      <button type="button" onClick={header.column.getToggleSortingHandler()} className="inline-flex items-center gap-1 hover:text-action">
+                        <table.FlexRender header={header} />
+                        <span aria-hidden className="text-xs text-muted">
+                          {sorted === "asc" ? "▲" : sorted === "desc" ? "▼" : "↕"}
+                        </span>
+                      </button>
+                    </th>
+                  );
+                })}
+                <th scope="col" className="px-3 py-2 text-right font-medium">
+                  <span className="sr-only">Actions</span>
+                </th>
+              </tr>
+            ))}
+          </thead>
+          <tbody>
+            {table.getRowModel().rows.map((tableRow) => {
+              const row = tableRow.original;
+              return (
+                <tr key={row.id} className="border-b border-line last:border-0 hover:bg-sunken/40">
+                  <td className="px-3 py-2">
+                    <Link href={`/derivations/${row.id}`} className="font-medium text-ink hover:text-action hover:underline">
+                      {row.title}
+                    </Link>
+                  </td>
+                  <td className="px-3 py-2">
+                    <StatusBadge status={row.status} />
+                  </td>
+                  <td className="px-3 py-2 text-muted">{row.ownerName ?? "—"}</td>
+                  <td className="px-3 py-2 whitespace-nowrap text-muted">
+                    {dateFormat.format(new Date(row.updatedAt))}
+                    {row.updatedByName ? <span className="hidden lg:inline"> · {row.updatedByName}</span> : null}
+                  </td>
+                  <td className="px-3 py-2 text-right whitespace-nowrap">
+                    {can(role, "derivation:rename", { status: row.status }) ? (
+                      <Button size="sm" variant="ghost" onClick={() => setRenaming(row)} aria-label={`Rename ${row.title}`}>
+                        Rename
+                      </Button>
+                    ) : null}
+                    {can(role, "derivation:delete", { status: row.status }) ? (
+                      <Button size="sm" variant="ghost" onClick={() => setDeleting(row)} aria-label={`Delete ${row.title}`} className="hover:text-danger">
+                        Delete
+                      </Button>
+                    ) : null}
+                  </td>
+                </tr>
+              );
+            })}
+            {!isPending && rows.length === 0 ? (
+              <tr>
+                <td colSpan={5} className="px-3 py-8 text-center text-muted">
+                  {all.length === 0 ? "No derivations yet." : "No derivation matches these filters."}
+                </td>
+              </tr>
+            ) : null}
+            {isPending ? (
+              <tr>
+                <td colSpan={5} className="px-3 py-8 text-center text-muted">
+                  Loading…
+                </td>
+              </tr>
+            ) : null}
+          </tbody>
+        </table>
+      </div>
+
+      <DerivationTitleDialog
+        open={creating}
+        heading="New derivation"
+        submitLabel="Create"
+        initialTitle=""
+        pending={create.isPending}
+        error={create.error}
+        onSubmit={(title) => create.mutate(title)}
+        onClose={() => {
+          setCreating(false);
+          create.reset();
+        }}
+      />
+      <DerivationTitleDialog
+        open={renaming !== null}
+        heading="Rename derivation"
+        submitLabel="Rename"
+        initialTitle={renaming?.title ?? ""}
+        pending={rename.isPending}
+        error={rename.error}
+        onSubmit={(title) => renaming && rename.mutate({ id: renaming.id, title })}
+        onClose={() => {
+          setRenaming(null);
+          rename.reset();
+        }}
+      />
+      <DeleteDerivationDialog
+        derivation={deleting}
+        pending={remove.isPending}
+        error={remove.error}
+        onConfirm={() => deleting && remove.mutate(deleting.id)}
+        onClose={() => {
+          setDeleting(null);
+          remove.reset();
+        }}
+      />
+    </section>
+  );
+}

@@ -1,0 +1,38 @@
+"use client";
+
+import { useParams, useRouter } from "next/navigation";
+import { roleLabels, type MemberRole } from "@/lib/domain";
+
+export interface TeamOption {
+  id: string;
+  name: string;
+  role: MemberRole;
+}
+
+/** Jumps between the user's teams; the current one comes from the URL. */
+export function TeamSwitcher({ teams }: { teams: TeamOption[] }) {
+  const router = useRouter();
+  const params = useParams<{ teamId?: string }>();
+  if (teams.length === 0) return null;
+  return (
+    <label className="flex items-center gap-2 text-sm">
+      <span className="sr-only">Team</span>
+      <select
+        aria-label="Switch team"
+        value={params.teamId ?? ""}
+        onChange={(event) => {
+          if (event.target.value) router.push(`/teams/${event.target.value}`);
+          else router.push("/teams");
+        }}
+        className="max-w-64 rounded border border-line bg-surface px-2 py-1 text-sm"
+      >
+        <option value="">All teams</option>
+        {teams.map((team) => (
+          <option key={team.id} value={team.id}>
+            {team.name} ({roleLabels[team.role]})
+          </option>
+        ))}
+      </select>
+    </label>
+  );
+}

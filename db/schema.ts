@@ -1,0 +1,158 @@
+import { relations } from "drizzle-orm";
+import {
+  boolean,
+  index,
+  jsonb,
+  pgEnum,
+  pgTable,
+  text,
+  timestamp,
+  uniqueIndex,
+  uuid,
+} from "drizzle-orm/pg-core";
+import { derivationStatuses, memberRoles, type DerivationStatus, type MemberRole } from "@/lib/domain";
+
+// Every table carries created_at / updated_at. updated_at is set by the query
+// functions on each write (see db/queries), not by a trigger, so it stays visible
+// in the TypeScript code that changes a row.
+const timestamps = {
+  createdAt: timestamp("created_at", { withTimezone: true }).notNull().defaultNow(),
+  updatedAt: timestamp("updated_at", { withTimezone: true }).notNull().defaultNow(),
+};
+
+export { memberRoles, derivationStatuses, type MemberRole, type DerivationStatus };
+export const memberRole = pgEnum("member_role", memberRoles);
+export const derivationStatus = pgEnum("derivation_status", derivationStatuses);
+
+export const users = pgTable("users", {
+  id: uuid("id").primaryKey().defaultRandom(),
+  // Stored lower-cased; uniqueness is on the normalised address.
+  email: text("email").notNull().unique(),
+  name: text("name").notNull(),
+  passwordHash: text("password_hash").notNull(),
+  ...timestamps,
+});
+export type User = typeof users.$inferSelect;
+export type NewUser = typeof users.$inferInsert;
+
+export const teams = pgTable("teams", {
+  id: uuid("id").primaryKey().defaultRandom(),
+  name: text("name").notNull(),
+  slug: text("slug").notNull().unique(),
+  ...timestamps,
+});
+export type Team = typeof teams.$inferSelect;
+export type NewTeam = typeof teams.$inferInsert;
+
+export const memberships = pgTable(
+  "memberships",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    teamId: uuid("team_id").notNull().references(() => teams.id, { onDelete: "cascade" }),
+    userId: uuid("user_id").notNull().references(() => users.id, { onDelete: "cascade" }),
+    role: memberRole("role").notNull(),
+    ...timestamps,
+  },
+  (table) => [
+    uniqueIndex("memberships_team_user_idx").on(table.teamId, table.userId),
+    index("memberships_user_idx").on(table.userId),
+  ],
+);
+export type Membership = typeof memberships.$inferSelect;
+export type NewMembership = typeof memberships.$inferInsert;
+
+export const invites = pgTable(
+  "invites",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    teamId: uuid("team_id").notNull().references(() => teams.id, { onDelete: "cascade" }),
+    email: text("email").notNull(),
+    role: memberRole("role").notNull(),
+    // Only the SHA-256 of the token is stored; the token itself travels in the e-mail.
+    tokenHash: text("token_hash").notNull().unique(),
+    invitedById: uuid("invited_by_id").references(() => users.id, { onDelete: "set null" }),
+    expiresAt: timestamp("expires_at", { withTimezone: true }).notNull(),
+    usedAt: timestamp("used_at", { withTimezone: true }),
+    usedById: uuid("used_by_id").references(() => users.id, { onDelete: "set null" }),
+    ...timestamps,
+  },
+  (table) => [index("invites_team_idx").on(table.teamId)],
+);
+export type Invite = typeof invites.$inferSelect;
+export type NewInvite = typeof invites.$inferInsert;
+
+export const passwordResetTokens = pgTable(
+  "password_reset_tokens",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    userId: uuid("user_id").notNull().references(() => users.id, { onDelete: "cascade" }),
+    tokenHash: text("token_hash").notNull().unique(),
+    expiresAt: timestamp("expires_at", { withTimezone: true }).notNull(),
+    usedAt: timestamp("used_at", { withTimezone: true }),
+    ...timestamps,
+  },
+  (table) => [index("password_reset_tokens_user_idx").on(table.userId)],
+);
+export type PasswordResetToken = typeof passwordResetTokens.$inferSelect;
+
+export const derivations = pgTable(
+  "derivations",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    teamId: uuid("team_id").notNull().references(() => teams.id, { onDelete: "cascade" }),
+    title: text("title").notNull(),
+    status: derivationStatus("status").notNull().default("draft"),
+    ownerId: uuid("owner_id").references(() => users.id, { onDelete: "set null" }),
+    // The model file (see DESIGN.md) until the notebook issue gives it structure.
+    content: jsonb("content").$type<Record<string, unknown>>().notNull().default({}),
+    updatedById: uuid("updated_by_id").references(() => users.id, { onDelete: "set null" }),
+    ...timestamps,
+  },
+  (table) => [index("derivations_team_idx").on(table.teamId, table.updatedAt)],
+);
+export type Derivation = typeof derivations.$inferSelect;
+export type NewDerivation = typeof derivations.$inferInsert;
+
+// One row per sign-in attempt; failures in a recent window drive the rate limit.
+export const signInAttempts = pgTable(
+  "sign_in_attempts",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    email: text("email").notNull(),
+    succeeded: boolean("succeeded").notNull(),
+    ...timestamps,
+  },
+  (table) => [index("sign_in_attempts_email_time_idx").on(table.email, table.createdAt)],
+);
+export type SignInAttempt = typeof signInAttempts.$inferSelect;
+
+export const auditLog = pgTable(
+  "audit_log",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    teamId: uuid("team_id").references(() => teams.id, { onDelete: "cascade" }),
+    actorId: uuid("actor_id").references(() => users.id, { onDelete: "set null" }),
+    // e.g. "derivation.create", "member.role_change"
+    action: text("action").notNull(),
+    targetType: text("target_type").notNull(),
+    targetId: text("target_id"),
+    details: jsonb("details").$type<Record<string, unknown>>().notNull().default({}),
+    ...timestamps,
+  },
+  (table) => [index("audit_log_team_time_idx").on(table.teamId, table.createdAt)],
+);
+export type AuditLogEntry = typeof auditLog.$inferSelect;
+
+export const usersRelations = relations(users, ({ many }) => ({ memberships: many(memberships) }));
+export const teamsRelations = relations(teams, ({ many }) => ({
+  memberships: many(memberships),
+  derivations: many(derivations),
+}));
+export const membershipsRelations = relations(memberships, ({ one }) => ({
+  team: one(teams, { fields: [memberships.teamId], references: [teams.id] }),
+  user: one(users, { fields: [memberships.userId], references: [users.id] }),
+}));
+export const derivationsRelations = relations(derivations, ({ one }) => ({
+  team: one(teams, { fields: [derivations.teamId], references: [teams.id] }),
+  owner: one(users, { fields: [derivations.ownerId], references: [users.id] }),
+}));

@@ -1,0 +1,31 @@
+import { AppError, appErrorFromBody } from "@/lib/errors";
+
+/**
+ * fetch for client components: JSON in, JSON out, and any error response turned
+ * back into the same AppError the server threw (code, message, field errors).
+ */
+export async function apiFetch<T>(path: string, init?: { method?: string; body?: unknown; signal?: AbortSignal }): Promise<T> {
+  let response: Response;
+  try {
+    response = await fetch(path, {
+      method: init?.method ?? "GET",
+      headers: init?.body !== undefined ? { "content-type": "application/json" } : undefined,
+      body: init?.body !== undefined ? JSON.stringify(init.body) : undefined,
+      signal: init?.signal,
+      credentials: "same-origin",
+    });
+  } catch (error) {
+    throw new AppError("unavailable:api", "The server could not be reached. Check your connection.", { cause: error });
+  }
+  const text = await response.text();
+  let body: unknown = undefined;
+  if (text) {
+    try {
+      body = JSON.parse(text);
+    } catch {
+      body = undefined;
+    }
+  }
+  if (!response.ok) throw appErrorFromBody(body, response.status);
+  return body as T;
+}

@@ -1,0 +1,30 @@
+import "server-only";
+import { toAppError } from "@/lib/errors";
+
+type RouteContext<Params> = { params: Promise<Params> };
+
+/**
+ * Wraps a route handler so every failure becomes the JSON error shape
+ * `{ "error": { "code", "message" } }` with the status of its code. Unexpected
+ * errors are logged in full and answered with a generic 500.
+ */
+export function apiRoute<Params = Record<string, never>>(
+  handler: (request: Request, context: RouteContext<Params>) => Promise<Response>,
+) {
+  return async (request: Request, context: RouteContext<Params>): Promise<Response> => {
+    try {
+      return await handler(request, context);
+    } catch (error) {
+      return toAppError(error).toResponse();
+    }
+  };
+}
+
+/** Reads a JSON body; malformed JSON is a validation error, not a crash. */
+export async function readJson(request: Request): Promise<unknown> {
+  try {
+    return await request.json();
+  } catch {
+    return undefined;
+  }
+}

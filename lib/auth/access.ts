@@ -1,0 +1,57 @@
+import "server-only";
+import { getDerivationById } from "@/db/queries/derivations";
+import { getMembershipByTeamIdAndUserId, getTeamById } from "@/db/queries/teams";
+import type { Derivation, Membership, Team } from "@/db/schema";
+import { notFound } from "next/navigation";
+import { AppError } from "@/lib/errors";
+import { assertCan, type Action } from "./permissions";
+import type { SessionUser } from "./session";
+
+// Resolving a resource always goes through the caller's membership in the
+// resource's team. Not being a member looks exactly like the resource not
+// existing (404), so ids of other teams' resources reveal nothing.
+
+export interface TeamAccess {
+  team: Team;
+  membership: Membership;
+}
+
+const uuidPattern = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
+
+export async function loadTeamFor(user: SessionUser, teamId: string, action: Action): Promise<TeamAccess> {
+  if (!uuidPattern.test(teamId)) throw new AppError("not_found:team", "Team not found.");
+  const membership = await getMembershipByTeamIdAndUserId({ teamId, userId: user.id });
+  const team = membership ? await getTeamById({ id: teamId }) : null;
+  if (!membership || !team) throw new AppError("not_found:team", "Team not found.");
+  assertCan(membership.role, action);
+  return { team, membership };
+}
+
+export interface DerivationAccess {
+  derivation: Derivation & { ownerName: string | null };
+  membership: Membership;
+}
+
+export async function loadDerivationFor(user: SessionUser, derivationId: string, action: Action): Promise<DerivationAccess> {
+  if (!uuidPattern.test(derivationId)) throw new AppError("not_found:derivation", "Derivation not found.");
+  const derivation = await getDerivationById({ id: derivationId });
+  const membership = derivation
+    ? await getMembershipByTeamIdAndUserId({ teamId: derivation.teamId, userId: user.id })
+    : null;
+  if (!derivation || !membership) throw new AppError("not_found:derivation", "Derivation not found.");
+  assertCan(membership.role, action, { status: derivation.status });
+  return { derivation, membership };
+}
+
+/**
+ * For pages: runs a loader and turns "not found" (including "not your team")
+ * and malformed ids into the 404 page. Other errors propagate to the error page.
+ */
+export async function orNotFound<T>(load: () => Promise<T>): Promise<T> {
+  try {
+    return await load();
+  } catch (error) {
+    if (error instanceof AppError && (error.kind === "not_found" || error.kind === "bad_request")) notFound();
+    throw error;
+  }
+}

@@ -1,0 +1,37 @@
+import "server-only";
+import { countSignInFailuresByEmail, recordSignInAttempt } from "@/db/queries/sign-in-attempts";
+import { getUserByEmail } from "@/db/queries/users";
+import type { User } from "@/db/schema";
+import { env } from "@/lib/env";
+import { isDatabaseUnavailable } from "@/lib/errors";
+import { verifyAgainstDummy, verifyPassword } from "./password";
+
+export type AuthenticationResult =
+  | { status: "ok"; user: User }
+  | { status: "invalid" }
+  | { status: "rate_limited" }
+  | { status: "unavailable" };
+
+/**
+ * Checks an e-mail and password. Unknown e-mail and wrong password give the same
+ * answer in the same time; too many recent failures for the address lock it for
+ * the rest of the window, whatever the password.
+ */
+export async function authenticate({ email, password }: { email: string; password: string }): Promise<AuthenticationResult> {
+  try {
+    const since = new Date(Date.now() - env.SIGN_IN_WINDOW_MINUTES * 60_000);
+    const failures = await countSignInFailuresByEmail({ email, since });
+    if (failures >= env.SIGN_IN_MAX_FAILURES) return { status: "rate_limited" };
+    const user = await getUserByEmail({ email });
+    const valid = user ? await verifyPassword(password, user.passwordHash) : await verifyAgainstDummy(password);
+    await recordSignInAttempt({ email, succeeded: valid });
+    if (!valid || !user) return { status: "invalid" };
+    return { status: "ok", user };
+  } catch (error) {
+    if (isDatabaseUnavailable(error)) {
+      console.error("[holonomy] sign-in failed, database unavailable");
+      return { status: "unavailable" };
+    }
+    throw error;
+  }
+}

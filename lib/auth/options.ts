@@ -1,0 +1,47 @@
+import "server-only";
+import type { NextAuthOptions } from "next-auth";
+import CredentialsProvider from "next-auth/providers/credentials";
+import { env } from "@/lib/env";
+import { signInSchema } from "@/lib/validation/auth";
+import { authenticate } from "./authenticate";
+
+// Error strings the sign-in form understands (next-auth passes them through).
+export const signInErrors = {
+  invalid: "CredentialsSignin",
+  rateLimited: "RateLimited",
+  unavailable: "Unavailable",
+} as const;
+
+export const authOptions: NextAuthOptions = {
+  secret: env.NEXTAUTH_SECRET,
+  session: { strategy: "jwt", maxAge: 7 * 24 * 60 * 60 },
+  pages: { signIn: "/sign-in" },
+  providers: [
+    CredentialsProvider({
+      name: "E-mail and password",
+      credentials: {
+        email: { label: "E-mail", type: "email" },
+        password: { label: "Password", type: "password" },
+      },
+      async authorize(credentials) {
+        const parsed = signInSchema.safeParse(credentials);
+        if (!parsed.success) return null;
+        const result = await authenticate(parsed.data);
+        if (result.status === "ok") return { id: result.user.id, email: result.user.email, name: result.user.name };
+        if (result.status === "rate_limited") throw new Error(signInErrors.rateLimited);
+        if (result.status === "unavailable") throw new Error(signInErrors.unavailable);
+        return null;
+      },
+    }),
+  ],
+  callbacks: {
+    async jwt({ token, user }) {
+      if (user) token.uid = user.id;
+      return token;
+    },
+    async session({ session, token }) {
+      if (session.user && typeof token.uid === "string") session.user.id = token.uid;
+      return session;
+    },
+  },
+};

@@ -1,0 +1,66 @@
+import { AppError, type ErrorSurface } from "@/lib/errors";
+import type { DerivationStatus, MemberRole } from "@/lib/domain";
+
+// The one place that decides who may do what. Route handlers, server actions and
+// pages ask here; the UI uses the same answers to hide what a role cannot do.
+
+export const actions = [
+  "team:read",
+  "team:manage-members",
+  "team:invite",
+  "derivation:read",
+  "derivation:create",
+  "derivation:edit",
+  "derivation:rename",
+  "derivation:delete",
+  "derivation:comment",
+  "derivation:approve",
+  "derivation:lock",
+] as const;
+export type Action = (typeof actions)[number];
+
+/** What a rule may look at besides the role. */
+export interface ResourceContext {
+  /** Status of the derivation the action targets. */
+  status?: DerivationStatus;
+}
+
+type Rule = boolean | ((resource: ResourceContext | undefined) => boolean);
+
+// An approved derivation is frozen for analysts; only a lead may change it
+// (for instance to reopen it). Rules as data: one row per action.
+const notApproved: Rule = (resource) => resource?.status !== "approved";
+
+const rules: Record<Action, Record<MemberRole, Rule>> = {
+  "team:read": { lead: true, analyst: true, reviewer: true, viewer: true },
+  "team:manage-members": { lead: true, analyst: false, reviewer: false, viewer: false },
+  "team:invite": { lead: true, analyst: false, reviewer: false, viewer: false },
+  "derivation:read": { lead: true, analyst: true, reviewer: true, viewer: true },
+  "derivation:create": { lead: true, analyst: true, reviewer: false, viewer: false },
+  "derivation:edit": { lead: true, analyst: notApproved, reviewer: false, viewer: false },
+  "derivation:rename": { lead: true, analyst: notApproved, reviewer: false, viewer: false },
+  "derivation:delete": { lead: true, analyst: notApproved, reviewer: false, viewer: false },
+  "derivation:comment": { lead: true, analyst: true, reviewer: true, viewer: false },
+  "derivation:approve": { lead: true, analyst: false, reviewer: false, viewer: false },
+  "derivation:lock": { lead: true, analyst: false, reviewer: false, viewer: false },
+};
+
+/** May a member with `role` perform `action` (on `resource`)? No role means no. */
+export function can(role: MemberRole | null | undefined, action: Action, resource?: ResourceContext): boolean {
+  if (!role) return false;
+  const rule = rules[action][role];
+  return typeof rule === "function" ? rule(resource) : rule;
+}
+
+/** Throws AppError("forbidden:<surface>") unless `can` says yes. */
+export function assertCan(role: MemberRole | null | undefined, action: Action, resource?: ResourceContext): void {
+  if (!can(role, action, resource)) {
+    const surface = action.split(":")[0] as ErrorSurface;
+    throw new AppError(`forbidden:${surface}`, `Your role (${role ?? "none"}) does not allow ${action}.`);
+  }
+}
+
+/** Every action the role may take, e.g. to pass down to client components. */
+export function allowedActions(role: MemberRole | null | undefined, resource?: ResourceContext): Action[] {
+  return actions.filter((action) => can(role, action, resource));
+}

@@ -1,0 +1,18 @@
+// Next.js configuration. Server-only math libraries stay external to the server
+// bundle; `odex` resolves to its plain ES module source for Turbopack.
+/** @type {import('next').NextConfig} */
+const nextConfig = {
+  reactStrictMode: true,
+  poweredByHeader: false,
+  // Type checking is its own gate (`npm run typecheck`), so a build, which the
+  // demo and the browser suite each need once, stays quick on small machines.
+  typescript: { ignoreBuildErrors: true },
+  serverExternalPackages: ["nerdamer", "mathjs"],
+  turbopack: {
+    resolveAlias: {
+      odex: "./node_modules/odex/src/odex.js",
+    },
+  },
+};
+
+export default nextConfig;

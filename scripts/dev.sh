@@ -1,0 +1,9 @@
+#!/usr/bin/env bash
+# `npm run dev`: services + migrations, then the Next.js dev server on 127.0.0.1:3000.
+source "$(dirname "${BASH_SOURCE[0]}")/lib/common.sh"
+cd "$ROOT"
+ensure_node_modules
+bash scripts/db.sh start
+bash scripts/mail.sh start 1025 1080
+npx tsx scripts/migrate.ts
+exec npx next dev -H 127.0.0.1 -p 3000

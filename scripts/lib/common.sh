@@ -1,0 +1,58 @@
+#!/usr/bin/env bash
+# Shared helpers for the start/stop/test scripts. Source, do not execute.
+set -euo pipefail
+
+ROOT="$(cd "$(dirname "${BASH_SOURCE[0]}")/../.." && pwd)"
+DATA_DIR="$ROOT/.data"
+RUN_DIR="$DATA_DIR/run"
+LOG_DIR="$DATA_DIR/logs"
+
+export NEXT_TELEMETRY_DISABLED=1
+
+# Project ports (all services bind to 127.0.0.1).
+PG_PORT="${HOLONOMY_PG_PORT:-54329}"
+PG_USER="holonomy"
+PG_PASSWORD="holonomy"
+
+log() { printf '[holonomy] %s\n' "$*" >&2; }
+die() { printf '[holonomy] error: %s\n' "$*" >&2; exit 1; }
+
+as_root() {
+  if [ "$(id -u)" -eq 0 ]; then "$@"; elif command -v sudo >/dev/null 2>&1; then sudo "$@"; else die "need root to run: $*"; fi
+}
+
+apt_install() {
+  log "installing Debian packages: $*"
+  as_root env DEBIAN_FRONTEND=noninteractive apt-get update -qq
+  as_root env DEBIAN_FRONTEND=noninteractive apt-get install -y -qq "$@" >/dev/null
+}
+
+# Installs npm dependencies when node_modules is missing (fresh clone).
+ensure_node_modules() {
+  if [ ! -d "$ROOT/node_modules" ] || [ ! -x "$ROOT/node_modules/.bin/next" ]; then
+    log "installing npm dependencies"
+    (cd "$ROOT" && if [ -f package-lock.json ]; then npm ci --no-audit --no-fund; else npm install --no-audit --no-fund; fi)
+  fi
+}
+
+# Debian's chromium for Playwright; never a downloaded browser.
+ensure_chromium() {
+  if [ ! -x /usr/bin/chromium ]; then
+    apt_install chromium
+  fi
+  [ -x /usr/bin/chromium ] || die "chromium is missing after install"
+}
+
+# Waits until a TCP port on 127.0.0.1 accepts connections.
+wait_for_port() {
+  local port="$1" label="$2" tries="${3:-60}"
+  for _ in $(seq 1 "$tries"); do
+    if (exec 3<>"/dev/tcp/127.0.0.1/$port") 2>/dev/null; then return 0; fi
+    sleep 0.5
+  done
+  die "$label did not open port $port"
+}
+
+port_open() { (exec 3<>"/dev/tcp/127.0.0.1/$1") 2>/dev/null; }
+
+pid_alive() { [ -n "${1:-}" ] && kill -0 "$1" 2>/dev/null; }

@@ -1,0 +1,47 @@
+// Seeds the demo team (db/seed/demo.ts). Idempotent: users, the team, memberships
+// and derivations are matched by e-mail, slug and title; demo passwords are reset.
+import { closeDatabase } from "@/db/client";
+import { createDerivation, getDerivationsByTeamId } from "@/db/queries/derivations";
+import { createTeamWithLead, getTeamBySlug, upsertMembership } from "@/db/queries/teams";
+import { createUser, getUserByEmail, updateUserPasswordById } from "@/db/queries/users";
+import { demoDerivations, demoPassword, demoTeam, demoUsers } from "@/db/seed/demo";
+import { hashPassword } from "@/lib/auth/password";
+
+async function main(): Promise<void> {
+  const passwordHash = await hashPassword(demoPassword);
+  const userIds = new Map<string, string>();
+  for (const demoUser of demoUsers) {
+    const existing = await getUserByEmail({ email: demoUser.email });
+    if (existing) {
+      await updateUserPasswordById({ id: existing.id, passwordHash });
+      userIds.set(demoUser.email, existing.id);
+    } else {
+      const created = await createUser({ ...demoUser, passwordHash });
+      if (!created) throw new Error(`could not create ${demoUser.email}`);
+      userIds.set(demoUser.email, created.id);
+    }
+  }
+
+  const leadId = userIds.get(demoUsers.find((u) => u.role === "lead")!.email)!;
+  const team = (await getTeamBySlug({ slug: demoTeam.slug })) ?? (await createTeamWithLead({ name: demoTeam.name, leadUserId: leadId }));
+  if (team.slug !== demoTeam.slug) throw new Error(`demo team got slug ${team.slug}, expected ${demoTeam.slug}`);
+  for (const demoUser of demoUsers) {
+    await upsertMembership({ teamId: team.id, userId: userIds.get(demoUser.email)!, role: demoUser.role });
+  }
+
+  const existingTitles = new Set((await getDerivationsByTeamId({ teamId: team.id })).map((d) => d.title));
+  let added = 0;
+  for (const item of demoDerivations) {
+    if (existingTitles.has(item.title)) continue;
+    await createDerivation({ teamId: team.id, title: item.title, ownerId: userIds.get(item.owner)!, content: item.content, status: item.status });
+    added += 1;
+  }
+  console.log(`[holonomy] demo team "${team.name}" ready: ${demoUsers.length} members, ${added} derivations added`);
+}
+
+main()
+  .catch((error: unknown) => {
+    console.error("[holonomy] seed failed:", error instanceof Error ? error.message : error);
+    process.exitCode = 1;
+  })
+  .finally(() => closeDatabase());
