@@ -192,6 +192,7 @@ class IntegrationRun {
   private readonly rhs: (t: number, y: number[]) => number[];
   private readonly onStep: OutputFunction;
   private readonly began: number;
+  private readonly energy: ((values: Float64Array) => number) | undefined;
 
   private state: number[];
   private filled = 0;
@@ -256,7 +257,9 @@ class IntegrationRun {
     this.solver = solver;
 
     // ---- the right-hand side: the hot path, no allocation ----
-    const massForcing = system.massForcing;
+    const specialized = system.specialize ? system.specialize(this.parameterValues) : system;
+    this.energy = specialized.energy;
+    const massForcing = specialized.massForcing;
     const nn = n * n;
     const mf = new Float64Array(nn + n);
     const lu = createLuWorkspace(n);
@@ -402,7 +405,7 @@ class IntegrationRun {
     const coordinates = this.columns.slice(0, n).map((c) => c.subarray(0, count));
     const rates = this.columns.slice(n).map((c) => c.subarray(0, count));
     const trajectory: Trajectory = { coordinateNames: this.system.coordinateNames, times, coordinates, rates };
-    const energy = this.system.energy ? this.energyAlong(trajectory) : null;
+    const energy = this.energy ? this.energyAlong(trajectory) : null;
     return {
       status: this.failure ? "failed" : "completed",
       failure: this.failure,
@@ -415,7 +418,7 @@ class IntegrationRun {
   }
 
   private energyAlong(trajectory: Trajectory): Float64Array {
-    const energy = this.system.energy!;
+    const energy = this.energy!;
     const { n, time } = this.layout;
     const values = this.values;
     const out = new Float64Array(trajectory.times.length);
