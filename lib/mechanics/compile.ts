@@ -1,6 +1,6 @@
 import { ExpressionError } from "./errors";
 import type { Expr } from "./expr/ast";
-import { parseExpression } from "./expr/parse";
+import { DEFAULT_PARSE_LIMITS, parseExpression, type ParseLimits } from "./expr/parse";
 import { ExpressionGraph, type GraphOp, type SymbolBinding } from "./graph";
 import { luFactor, luSolve } from "./lu";
 
@@ -35,6 +35,13 @@ const OPCODES = {
   acos: 19,
   atan: 20,
 } as const satisfies Record<Exclude<GraphOp, "const" | "var">, number>;
+
+/**
+ * Parse limits for expressions the engine produced (mass matrices and forcing
+ * of long chains run to many thousand characters). User text keeps the
+ * parser's defaults; the worker pool bounds the size of everything it accepts.
+ */
+export const DERIVED_EXPRESSION_LIMITS: ParseLimits = { ...DEFAULT_PARSE_LIMITS, maxLength: 2_000_000, maxDepth: 200 };
 
 export interface CompiledExpressions {
   /** The variable names, in the order `values` holds them. */
@@ -87,7 +94,7 @@ export function symbolBinder(variables: readonly string[], constants: Readonly<R
 export function compileExpressions(expressions: readonly (string | Expr)[], variables: readonly string[], options: CompileOptions = {}): CompiledExpressions {
   const graph = new ExpressionGraph();
   const bind = symbolBinder(variables, options.constants);
-  const roots = expressions.map((e) => graph.fromExpr(typeof e === "string" ? parseExpression(e) : e, bind));
+  const roots = expressions.map((e) => graph.fromExpr(typeof e === "string" ? parseExpression(e, DERIVED_EXPRESSION_LIMITS) : e, bind));
   return compileGraph(graph, roots, variables);
 }
 

@@ -1,6 +1,7 @@
 import type { Expr } from "./expr/ast";
 import { parseExpression } from "./expr/parse";
 import { differentiate } from "./differentiate";
+import { DERIVED_EXPRESSION_LIMITS } from "./compile";
 
 /**
  * The residual r(q, q', q'', t, u) = M(q, q', t, u) q'' − f(q, q', t, u) of the
@@ -38,8 +39,8 @@ const at = { start: 0, end: 0 };
 export function residualJacobians(system: MassFormText): ResidualJacobians {
   const n = system.coordinates.length;
   const inputs = system.inputs ?? [];
-  const mass = system.massMatrix.map((row) => row.map((text) => parseExpression(text)));
-  const forcing = system.forcing.map((text) => parseExpression(text));
+  const mass = system.massMatrix.map((row) => row.map((text) => parseExpression(text, DERIVED_EXPRESSION_LIMITS)));
+  const forcing = system.forcing.map((text) => parseExpression(text, DERIVED_EXPRESSION_LIMITS));
   const residual: Expr[] = [];
   for (let i = 0; i < n; i++) {
     let sum: Expr | null = null;

@@ -1,6 +1,7 @@
 import type { Expr } from "./expr/ast";
 import { formatExpression, formatNumber, parseExpression } from "./expr/parse";
 import { topLevelTerms } from "./terms";
+import { DERIVED_EXPRESSION_LIMITS } from "./compile";
 
 /**
  * LaTeX for expressions of the input syntax, rendered from the tree: q' as
@@ -193,7 +194,7 @@ function renderPower(base: Expr, exponent: Expr): string {
  * @example toLatex("1/2*m1*(l1*theta1')^2") // "\\frac{1}{2}\\,m_{1}\\,\\left(l_{1}\\,\\dot{\\theta}_{1}\\right)^{2}"
  */
 export function toLatex(text: string | Expr): string {
-  return renderSum(typeof text === "string" ? parseExpression(text) : text);
+  return renderSum(typeof text === "string" ? parseExpression(text, DERIVED_EXPRESSION_LIMITS) : text);
 }
 
 export interface LatexTerm {
@@ -213,7 +214,7 @@ export interface LatexTerm {
  * @example toLatexTerms("m*x'' + k*x").terms.map((t) => t.text) // ["m*x''", "k*x"]
  */
 export function toLatexTerms(text: string | Expr): { latex: string; terms: LatexTerm[] } {
-  const tree = typeof text === "string" ? parseExpression(text) : text;
+  const tree = typeof text === "string" ? parseExpression(text, DERIVED_EXPRESSION_LIMITS) : text;
   const seen = new Map<string, number>();
   const rendered = topLevelTerms(tree).map(({ sign, term }) => {
     const product = signed(sign, renderProduct(term));

@@ -5,6 +5,7 @@ import type { Expr } from "./expr/ast";
 import { formatExpression, parseExpression } from "./expr/parse";
 import type { Model } from "./model";
 import { topLevelTerms } from "./terms";
+import { DERIVED_EXPRESSION_LIMITS } from "./compile";
 
 /**
  * Units of coordinates, parameters and inputs, and a dimensional check of a
@@ -278,7 +279,7 @@ export function checkModelUnits(model: Model, equations?: readonly { coordinate:
   for (const name of definitions.keys()) lookup(name);
 
   const expectEachTerm = (text: string, field: string, expected: Dimension, what: string, textIsUser = true) => {
-    const tree = parseExpression(text);
+    const tree = parseExpression(text, textIsUser ? undefined : DERIVED_EXPRESSION_LIMITS);
     const inference = new UnitInference(lookup, field, textIsUser ? text : null);
     inference.of(tree); // the terms of every inner sum must agree first
     for (const { term } of topLevelTerms(tree)) {
