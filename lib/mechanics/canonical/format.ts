@@ -33,16 +33,25 @@ export function orderedTerms(space: SymbolSpace, p: Poly): Term[] {
   return rows.map((r) => r.term);
 }
 
+/** Accelerations (by coordinate), then rates, then coordinates, then time, then constants and inputs. */
 function termOrder(space: SymbolSpace, t: Term): number {
   let accel = Infinity;
   let rate = false;
-  for (let i = 0; i < t.f.length; i += 2) {
-    const entry = space.entry(t.f[i]!);
-    if (entry.kind === "acceleration") accel = Math.min(accel, entry.coordinate);
-    if (entry.kind === "rate") rate = true;
-  }
+  let coordinate = false;
+  let time = false;
+  const note = (id: number) => {
+    for (const d of space.entry(id).dependsOn) {
+      const entry = space.entry(d);
+      if (entry.kind === "acceleration") accel = Math.min(accel, entry.coordinate);
+      else if (entry.kind === "rate") rate = true;
+      else if (entry.kind === "coordinate") coordinate = true;
+      else if (entry.kind === "time") time = true;
+    }
+  };
+  for (let i = 0; i < t.f.length; i += 2) note(t.f[i]!);
+  if (t.g) for (let i = 0; i < t.g.combo.length; i += 2) note(t.g.combo[i]!);
   if (accel !== Infinity) return accel;
-  return rate ? 1000 : 2000;
+  return rate ? 1000 : coordinate ? 2000 : time ? 3000 : 4000;
 }
 
 export function formatTerm(space: SymbolSpace, t: Term): string {

@@ -13,6 +13,8 @@ export interface CanonicalOptions {
    * Any other name with a prime is a coordinate too; the rest are constants.
    */
   coordinates?: readonly string[];
+  /** Constants (parameters, inputs) in the order their factors are printed; others follow by name. */
+  constants?: readonly string[];
 }
 
 export interface CanonicalExpressions {
@@ -41,7 +43,9 @@ export function canonicalize(texts: readonly string[], options: CanonicalOptions
   }
   const space = new SymbolSpace();
   const ids = new Map<string, number>();
-  for (const name of [...constants].filter((n) => !coordinates.has(n)).sort()) ids.set(name, space.addParameter(name));
+  const declared = (options.constants ?? []).filter((n) => constants.has(n) && !coordinates.has(n));
+  const rest = [...constants].filter((n) => !coordinates.has(n) && !declared.includes(n)).sort();
+  for (const name of [...declared, ...rest]) ids.set(name, space.addParameter(name));
   const coordinateIndex = new Map<string, number>();
   for (const name of [...(options.coordinates ?? []), ...[...coordinates].filter((n) => !(options.coordinates ?? []).includes(n)).sort()]) {
     if (coordinateIndex.has(name)) continue;
