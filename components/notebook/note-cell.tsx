@@ -1,0 +1,67 @@
+"use client";
+
+import { useEffect, useState } from "react";
+import type { DocumentOperation, NoteCell } from "@/lib/notebook/document";
+import { renderNoteHtml } from "./markdown";
+
+export interface NoteCellProps {
+  cell: NoteCell;
+  readOnly?: boolean;
+  onOperation: (op: DocumentOperation) => void;
+}
+
+/** Markdown with $inline$ and $$display$$ math; rendered (sanitized) until the analyst edits it. */
+export function NoteCellEditor({ cell, readOnly = false, onOperation }: NoteCellProps) {
+  const [editing, setEditing] = useState(!readOnly && cell.markdown.trim() === "");
+  const html = useRenderedNote(cell.markdown);
+
+  if (editing && !readOnly) {
+    return (
+      <div className="flex flex-col gap-2">
+        <textarea
+          className="min-h-24 w-full resize-y rounded border border-line bg-paper px-2 py-1.5 font-mono text-sm text-ink outline-none focus:border-action"
+          aria-label="Note (Markdown, $math$)"
+          value={cell.markdown}
+          placeholder="Assumptions, sources, sign conventions… Math: $\omega = \sqrt{g/l}$"
+          onChange={(event) => onOperation({ type: "setNote", cellId: cell.id, markdown: event.target.value })}
+          onKeyDown={(event) => {
+            if (event.key === "Escape" || (event.key === "Enter" && (event.ctrlKey || event.metaKey))) {
+              event.preventDefault();
+              setEditing(false);
+            }
+          }}
+        />
+        <div className="flex justify-end">
+          <button type="button" className="rounded px-2 py-1 text-[13px] text-action hover:bg-action-soft" onClick={() => setEditing(false)}>
+            Done <kbd>Ctrl+Enter</kbd>
+          </button>
+        </div>
+      </div>
+    );
+  }
+
+  return (
+    <div className="flex items-start gap-2">
+      {html === null ? (
+        <p className="hn-note min-w-0 flex-1 whitespace-pre-wrap text-sm text-ink">{cell.markdown}</p>
+      ) : (
+        // Sanitized by DOMPurify in renderNoteHtml.
+        <div className="hn-note min-w-0 flex-1 text-sm text-ink" data-testid="note-rendered" dangerouslySetInnerHTML={{ __html: html }} />
+      )}
+      {!readOnly && (
+        <button type="button" className="shrink-0 rounded px-2 py-1 text-[13px] text-action hover:bg-action-soft" onClick={() => setEditing(true)}>
+          Edit
+        </button>
+      )}
+    </div>
+  );
+}
+
+/** Renders after mount: sanitizing needs the browser's DOM, and server and first client render must agree. */
+function useRenderedNote(markdown: string): string | null {
+  const [html, setHtml] = useState<string | null>(null);
+  useEffect(() => {
+    setHtml(renderNoteHtml(markdown));
+  }, [markdown]);
+  return html;
+}

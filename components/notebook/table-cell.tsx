@@ -1,0 +1,181 @@
+"use client";
+
+/**
+ * Editable grids for coordinates, parameters, inputs and definitions, with
+ * instant checks (name, unit syntax, value) and the evaluator's diagnostics
+ * placed on the row and column they name.
+ */
+import clsx from "clsx";
+import { useId } from "react";
+import { emptyRow, type AnyRow, type DocumentOperation, type DocumentSymbols, type TableCell } from "@/lib/notebook/document";
+import { checkParameterValue, checkSymbolName, checkUnitSyntax, type FieldCheck } from "@/lib/notebook/field-checks";
+import { previewLatex, symbolLatex } from "@/lib/notebook/latex-preview";
+import { toEditorDiagnostic, type LocatedDiagnostic } from "@/lib/notebook/results";
+import { ExpressionEditor } from "./editor/expression-editor";
+import { MathView } from "./math";
+
+type Column = "name" | "unit" | "value" | "expr" | "description";
+
+const COLUMNS: Record<TableCell["kind"], Column[]> = {
+  coordinates: ["name", "unit", "description"],
+  inputs: ["name", "unit", "description"],
+  parameters: ["name", "unit", "value", "description"],
+  definitions: ["name", "expr", "description"],
+};
+
+const HEADINGS: Record<Column, string> = { name: "Name", unit: "Unit", value: "Value", expr: "Expression", description: "Description" };
+
+const ROW_NOUN: Record<TableCell["kind"], string> = { coordinates: "coordinate", parameters: "parameter", inputs: "input", definitions: "definition" };
+
+const PLACEHOLDERS: Record<TableCell["kind"], Partial<Record<Column, string>>> = {
+  coordinates: { name: "theta", unit: "rad" },
+  inputs: { name: "F", unit: "N" },
+  parameters: { name: "m", unit: "kg", value: "blank = symbolic" },
+  definitions: { name: "x1", expr: "l1*sin(theta1)" },
+};
+
+export interface TableCellProps {
+  cell: TableCell;
+  symbols: DocumentSymbols;
+  /** Names used more than once across the derivation. */
+  duplicateNames?: ReadonlySet<string>;
+  diagnostics?: readonly LocatedDiagnostic[];
+  readOnly?: boolean;
+  onOperation: (op: DocumentOperation) => void;
+  newId: () => string;
+}
+
+function rowIsBlank(row: AnyRow): boolean {
+  return Object.entries(row).every(([key, value]) => key === "id" || String(value).trim() === "");
+}
+
+function localCheck(column: Column, text: string, duplicate: boolean): FieldCheck {
+  if (column === "name") {
+    const check = checkSymbolName(text);
+    if (!check.ok) return check;
+    return duplicate ? { ok: false, message: `"${text.trim()}" is used more than once`, position: 0 } : check;
+  }
+  if (column === "unit") return checkUnitSyntax(text);
+  if (column === "value") return checkParameterValue(text);
+  return { ok: true };
+}
+
+export function TableCellEditor({ cell, symbols, duplicateNames, diagnostics = [], readOnly = false, onOperation, newId }: TableCellProps) {
+  const columns = COLUMNS[cell.kind];
+  const noun = ROW_NOUN[cell.kind];
+  const baseId = useId();
+  const rows = cell.rows as AnyRow[];
+
+  const update = (rowId: string, column: Column, value: string) => onOperation({ type: "updateRow", cellId: cell.id, rowId, patch: { [column]: value } });
+
+  return (
+    <div className="min-w-0">
+      <div className="overflow-x-auto">
+        <table className="w-full border-collapse text-sm">
+          <thead>
+            <tr className="text-left text-xs uppercase tracking-wide text-muted">
+              {columns.map((column) => (
+                <th key={column} scope="col" className={clsx("px-1 pb-1 font-medium", column === "description" && "w-1/3", column === "expr" && "w-2/5")}>
+                  {HEADINGS[column]}
+                </th>
+              ))}
+              {!readOnly && <th className="w-8" aria-label="Row actions" />}
+            </tr>
+          </thead>
+          <tbody>
+            {rows.map((row, rowIndex) => {
+              const blank = rowIsBlank(row);
+              const rowDiagnostics = diagnostics.filter((d) => d.location.rowId === row.id);
+              return (
+                <tr key={row.id} className="align-top" data-row-id={row.id}>
+                  {columns.map((column) => {
+                    const value = String((row as unknown as Record<string, string>)[column] ?? "");
+                    const label = `${HEADINGS[column]}, ${noun} ${rowIndex + 1}`;
+                    const fieldId = `${baseId}-${row.id}-${column}`;
+                    const local = blank ? ({ ok: true } as const) : localCheck(column, value, column === "name" && (duplicateNames?.has(value.trim()) ?? false));
+                    const server = rowDiagnostics.filter((d) => d.location.column === column || (column === "name" && d.location.column === undefined));
+                    const messages = [...(local.ok ? [] : [local.message]), ...server.map((d) => d.diagnostic.message)];
+                    if (column === "expr") {
+                      return (
+                        <td key={column} className="px-1 py-1">
+                          <ExpressionEditor
+                            label={`Expression of ${row.name.trim() || `definition ${rowIndex + 1}`}`}
+                            value={value}
+                            onChange={(next) => update(row.id, "expr", next)}
+                            symbols={symbols}
+                            readOnly={readOnly}
+                            placeholder={PLACEHOLDERS[cell.kind].expr}
+                            diagnostics={server.map((d) => toEditorDiagnostic(d, value))}
+                            diagnosticsFor={server[0]?.text ?? null}
+                            allowEmpty={blank}
+                          />
+                          <DefinitionPreview name={row.name} expr={value} />
+                        </td>
+                      );
+                    }
+                    return (
+                      <td key={column} className="px-1 py-1">
+                        <input
+                          id={fieldId}
+                          className={clsx(
+                            "w-full rounded border bg-paper px-2 py-1 text-ink outline-none focus:border-action",
+                            column !== "description" && "font-mono",
+                            messages.length > 0 ? "border-danger" : "border-line",
+                          )}
+                          aria-label={label}
+                          aria-invalid={messages.length > 0 || undefined}
+                          aria-describedby={messages.length > 0 ? `${fieldId}-error` : undefined}
+                          value={value}
+                          placeholder={PLACEHOLDERS[cell.kind][column]}
+                          readOnly={readOnly}
+                          spellCheck={column === "description"}
+                          autoComplete="off"
+                          inputMode={column === "value" ? "decimal" : undefined}
+                          onChange={(event) => update(row.id, column, event.target.value)}
+                        />
+                        {messages.length > 0 && (
+                          <p id={`${fieldId}-error`} className="mt-0.5 text-xs text-danger" role="status">
+                            {messages.join("; ")}
+                          </p>
+                        )}
+                      </td>
+                    );
+                  })}
+                  {!readOnly && (
+                    <td className="px-1 py-1 text-right">
+                      <button
+                        type="button"
+                        className="rounded px-1.5 py-1 text-muted hover:bg-danger-soft hover:text-danger"
+                        aria-label={`Remove ${noun} ${row.name.trim() || rowIndex + 1}`}
+                        onClick={() => onOperation({ type: "deleteRow", cellId: cell.id, rowId: row.id })}
+                      >
+                        ×
+                      </button>
+                    </td>
+                  )}
+                </tr>
+              );
+            })}
+          </tbody>
+        </table>
+      </div>
+      {rows.length === 0 && <p className="px-1 py-2 text-sm text-muted">No {noun}s yet.</p>}
+      {!readOnly && (
+        <button
+          type="button"
+          className="mt-2 rounded border border-dashed border-line px-2.5 py-1 text-[13px] text-action hover:border-action"
+          onClick={() => onOperation({ type: "addRow", cellId: cell.id, row: emptyRow(cell.kind, newId()) })}
+        >
+          + Add {noun}
+        </button>
+      )}
+    </div>
+  );
+}
+
+/** Live rendering of `name = expr` under a definition (see latex-preview.ts: fallback until the engine's LaTeX lands). */
+function DefinitionPreview({ name, expr }: { name: string; expr: string }) {
+  const body = previewLatex(expr);
+  if (!body || checkSymbolName(name).ok === false) return null;
+  return <MathView latex={`${symbolLatex(name.trim())} = ${body}`} display className="text-sm text-ink" />;
+}

@@ -1,0 +1,107 @@
+/**
+ * What the notebook shows from an evaluation, and how the evaluator's
+ * diagnostics reach the cells. The evaluate API fills `NotebookResults`
+ * (LaTeX comes from the engine, with each top-level term wrapped in
+ * `\htmlData{term=ID}{…}`); the notebook only renders it.
+ */
+import type { Model } from "../mechanics/model";
+import { locateModelField, type DerivationDocument, type FieldLocation } from "./document";
+
+export interface EquationView {
+  coordinate: string;
+  /** Residual in the input syntax. */
+  residual: string;
+  /** LaTeX of `residual = 0`, terms wrapped in \htmlData{term=ID}. */
+  latex: string;
+}
+
+export interface NotebookResults {
+  equations: EquationView[];
+  /** LaTeX of M(q) q'' = f(q, q', t, u). */
+  massMatrixLatex?: string;
+  /** Accelerations solved, where the system is small enough; absent otherwise. */
+  accelerations?: { coordinate: string; latex: string }[];
+  /** Why accelerations are not shown (e.g. the system is too large to invert symbolically). */
+  accelerationsNote?: string;
+  energyLatex?: string;
+  conserved?: { name: string; latex: string; reason: string }[];
+  linearization?: {
+    equilibria: { label: string; values: Record<string, number> }[];
+    /** For the equilibrium the linearization cell chose. */
+    selected?: {
+      index: number;
+      stateNames: string[];
+      inputNames: string[];
+      A: number[][];
+      B: number[][];
+      /** Natural frequencies in Hz, with mode shapes as columns over the coordinates. */
+      frequenciesHz: number[];
+      modeShapes: number[][];
+      stable: boolean;
+    };
+  };
+  code?: { language: string; filename: string; source: string }[];
+  timingMs?: number;
+}
+
+/** A problem the evaluator found, as `ModelError.toJSON()` gives it. */
+export interface ModelDiagnostic {
+  code: string;
+  field: string;
+  /** 1-based column in that field's text, or null when the whole field is meant. */
+  column: number | null;
+  length: number;
+  message: string;
+}
+
+export interface LocatedDiagnostic {
+  location: FieldLocation;
+  diagnostic: ModelDiagnostic;
+  /** The text the evaluator saw in that field, when the evaluated model is known. */
+  text: string | null;
+}
+
+function fieldText(model: Model | undefined, field: string): string | null {
+  if (!model) return null;
+  if (field === "kinetic" || field === "potential" || field === "dissipation") return model[field] ?? null;
+  const definition = /^definitions\[(\d+)\]\.expr$/.exec(field);
+  if (definition) return model.definitions?.[Number(definition[1])]?.expr ?? null;
+  const force = /^forces(?:\.([A-Za-z_]\w*)|\[["']?([A-Za-z_]\w*)["']?\])$/.exec(field);
+  if (force) return model.forces?.[force[1] ?? force[2]!] ?? null;
+  return null;
+}
+
+/**
+ * Groups diagnostics by the cell they belong to. Diagnostics with no place in
+ * the document (the title, a whole-model limit) are returned under `general`.
+ */
+export function locateDiagnostics(
+  doc: DerivationDocument,
+  diagnostics: readonly ModelDiagnostic[],
+  evaluatedModel?: Model,
+): { byCell: Map<string, LocatedDiagnostic[]>; general: ModelDiagnostic[] } {
+  const byCell = new Map<string, LocatedDiagnostic[]>();
+  const general: ModelDiagnostic[] = [];
+  for (const diagnostic of diagnostics) {
+    const location = locateModelField(doc, diagnostic.field);
+    if (!location) {
+      general.push(diagnostic);
+      continue;
+    }
+    const list = byCell.get(location.cellId) ?? [];
+    list.push({ location, diagnostic, text: fieldText(evaluatedModel, diagnostic.field) });
+    byCell.set(location.cellId, list);
+  }
+  return { byCell, general };
+}
+
+/**
+ * The character range an expression editor underlines for a diagnostic:
+ * the reported column and length, or the whole text when no column is given.
+ */
+export function toEditorDiagnostic(located: LocatedDiagnostic, currentText: string): { from: number; to: number; message: string; source: string } {
+  const { column, length, message, code } = located.diagnostic;
+  const text = located.text ?? currentText;
+  if (column === null) return { from: 0, to: text.length, message, source: code };
+  return { from: column - 1, to: column - 1 + Math.max(1, length), message, source: code };
+}
