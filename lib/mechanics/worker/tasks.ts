@@ -1,0 +1,61 @@
+import { exportCode, type CodeExportInput, type CodeLanguage } from "../codegen";
+import { compileMassMatrixSystem } from "../compile";
+import { deriveModel, type DeriveOptions } from "../derive";
+import { findEquilibria, type EquilibriumOptions } from "../equilibria";
+import { toLatexTerms } from "../latex";
+import { linearizeAbout, type MechanicalSystem, type OperatingPoint } from "../linearize";
+import { checkModelUnits } from "../units";
+import { validateModel } from "../validate-model";
+
+/**
+ * The named tasks the engine worker runs. Each takes the JSON payload the
+ * pool sent and returns a structured-cloneable result; errors are thrown as
+ * the engine's typed errors. To add a task, add an entry here (or register
+ * one at run time with `registerEngineTask` in a worker entry of your own).
+ */
+export type EngineTask = (payload: unknown) => unknown;
+
+export const ENGINE_TASKS: Record<string, EngineTask> = {
+  /** { model, options? } → DerivationResult; validates the model and checks its units first and after. */
+  derive(payload) {
+    const { model: raw, options } = payload as { model: unknown; options?: DeriveOptions & { units?: boolean } };
+    const model = validateModel(raw);
+    const units = options?.units !== false;
+    if (units) checkModelUnits(model);
+    const result = deriveModel(model, options);
+    if (units) checkModelUnits(model, result.equations);
+    return result;
+  },
+  /** { model } → { ok: true }; throws ModelError on a unit problem. */
+  checkUnits(payload) {
+    const { model: raw, equations } = payload as { model: unknown; equations?: { coordinate: string; residual: string }[] };
+    checkModelUnits(validateModel(raw), equations);
+    return { ok: true };
+  },
+  /** { system, point } → Linearization */
+  linearize(payload) {
+    const { system, point } = payload as { system: MechanicalSystem; point: OperatingPoint };
+    return linearizeAbout(system, point);
+  },
+  /** { system, options? } → Equilibrium[] */
+  equilibria(payload) {
+    const { system, options } = payload as { system: MechanicalSystem; options?: EquilibriumOptions };
+    return findEquilibria(system, options);
+  },
+  /** { input, language } → { code } */
+  exportCode(payload) {
+    const { input, language } = payload as { input: CodeExportInput; language: CodeLanguage };
+    return { code: exportCode(input, language) };
+  },
+  /** { expressions } → per expression { latex, terms } */
+  latex(payload) {
+    const { expressions } = payload as { expressions: string[] };
+    return expressions.map((text) => toLatexTerms(text));
+  },
+  /** { system, t, x, u } → { dxdt } or null when M is singular: one right-hand side, for checks from the server. */
+  stateDerivative(payload) {
+    const { system, t, x, u } = payload as { system: MechanicalSystem; t: number; x: number[]; u?: number[] };
+    const dxdt = new Float64Array(x.length);
+    return compileMassMatrixSystem(system).stateDerivative(t, x, u ?? [], dxdt) ? { dxdt: Array.from(dxdt) } : null;
+  },
+};
