@@ -20,3 +20,23 @@ export type {
 export { canonicalize, canonicalText, sameExpression } from "./canonical";
 export { chainModel } from "./templates/chain";
 export type { ChainOptions } from "./templates/chain";
+// Numerics, analysis, units, LaTeX and code export. The worker pool
+// (./worker/pool) needs node:worker_threads, so it is imported from its own path.
+export { differentiate, dependsOn, constantValue } from "./differentiate";
+export { compileExpressions, compileMassMatrixSystem, DERIVED_EXPRESSION_LIMITS } from "./compile";
+export type { CompiledExpressions, CompileOptions, MassMatrixSystem, CompiledMassMatrixSystem } from "./compile";
+export { ExpressionGraph } from "./graph";
+export { residualJacobians } from "./jacobians";
+export type { ResidualJacobians } from "./jacobians";
+export { linearizeAbout, compileAnalysis, normalModes } from "./linearize";
+export type { MechanicalSystem, OperatingPoint, Linearization, Mode, Complex, CompiledAnalysis } from "./linearize";
+export { findEquilibria, wrapAngle } from "./equilibria";
+export type { Equilibrium, EquilibriumOptions, Stability } from "./equilibria";
+export { checkModelUnits, unitOfExpression, parseUnit, formatDimension, isAngleUnit } from "./units";
+export type { Dimension } from "./units";
+export { toLatex, toLatexTerms, symbolLatex, termId } from "./latex";
+export type { LatexTerm } from "./latex";
+export { topLevelTerms } from "./terms";
+export type { SignedTerm } from "./terms";
+export { exportCode, CODE_LANGUAGES } from "./codegen";
+export type { CodeExportInput, CodeLanguage } from "./codegen";
