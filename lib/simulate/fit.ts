@@ -1,0 +1,396 @@
+import { levenbergMarquardt } from "ml-levenberg-marquardt";
+import { Matrix, inverse, pseudoInverse } from "ml-matrix";
+import { FitError } from "./errors";
+import { integrate, type CancelSignal, type SimulationSettings } from "./integrate";
+import type { MeasuredData } from "./measured";
+import type { MechanicalSystem } from "./system";
+
+/**
+ * Least-squares fit of chosen parameters (damping, inertia, stiffness, …) to
+ * measured trajectories: at each parameter guess the model is simulated and
+ * compared with the measurements at the measured times (read from the
+ * integrator's dense output, not re-interpolated). Steps come from
+ * ml-levenberg-marquardt; we drive it one iteration at a time to control
+ * the damping, the stopping test and the time budget.
+ */
+
+export interface FitParameter {
+  name: string;
+  /** Starting value; default the value the simulation would use (settings override, else the model's). */
+  initial?: number;
+  /** Bounds (e.g. a damping coefficient ≥ 0); default unbounded. */
+  min?: number;
+  max?: number;
+}
+
+export interface FitOptions {
+  system: MechanicalSystem;
+  measured: MeasuredData;
+  parameters: readonly FitParameter[];
+  /**
+   * Simulation settings other than the time span and output (taken from the
+   * measured times). `initialCoordinates` defaults to the first measured row
+   * (unmeasured coordinates 0); rates default to 0. Default tolerances 1e-10.
+   */
+  settings?: Partial<Omit<SimulationSettings, "startTime" | "endTime" | "outputStep" | "outputTimes" | "onProgress" | "signal">>;
+  /**
+   * Residuals of coordinate c are divided by scales[c] (default 1, i.e. SI
+   * units), so coordinates measured in different units can be weighed.
+   */
+  coordinateScales?: Readonly<Record<string, number>>;
+  /** Default 50. */
+  maxIterations?: number;
+  /** Whole fit, wall clock; default 30 000 ms. */
+  timeLimitMs?: number;
+  signal?: CancelSignal;
+  onProgress?: (progress: FitProgress) => void;
+}
+
+export interface FitProgress {
+  iteration: number;
+  residualRms: number;
+  values: Record<string, number>;
+}
+
+export interface FittedParameter {
+  name: string;
+  initial: number;
+  value: number;
+  /**
+   * Standard error from the Jacobian at the optimum, √diag(σ² (JᵀJ)⁻¹) with
+   * σ² = SSE / (N − p). Assumes independent, equal-variance measurement noise
+   * and a model that can describe the data; null when JᵀJ is singular (the
+   * parameter is not identifiable from these data).
+   */
+  standardError: number | null;
+}
+
+export type FitStatus = "converged" | "max_iterations" | "time_limit" | "cancelled";
+
+export interface FitResult {
+  status: FitStatus;
+  parameters: FittedParameter[];
+  /** √(SSE / N) of the scaled residuals (in SI units when no scales are given). */
+  residualRms: number;
+  /** RMS of simulated − measured per coordinate, in the coordinate's (SI or model) unit. */
+  residualRmsByCoordinate: Record<string, number>;
+  /** Number of residuals N (rows × measured coordinates). */
+  observations: number;
+  iterations: number;
+  simulations: number;
+  /** Parameter covariance σ² (JᵀJ)⁻¹ in the order of `parameters`; null when singular. */
+  covariance: number[][] | null;
+  /** The fitted model at the measured times, per measured coordinate, for overlay. */
+  fitted: { coordinate: string; values: Float64Array }[];
+  wallTimeMs: number;
+}
+
+/** Stops the optimizer from inside its model function; never escapes this module. */
+class StopFit {
+  constructor(readonly status: "time_limit" | "cancelled") {}
+}
+
+const now: () => number = typeof performance !== "undefined" ? () => performance.now() : () => Date.now();
+
+/**
+ * @example
+ * const result = fitParameters({
+ *   system, measured: parseMeasuredCsv(text, { coordinates }),
+ *   parameters: [{ name: "c", min: 0 }, { name: "k", min: 0 }],
+ * });
+ * result.parameters.map((p) => `${p.name} = ${p.value} ± ${p.standardError}`);
+ */
+export function fitParameters(options: FitOptions): FitResult {
+  const began = now();
+  const { system, measured } = options;
+  const timeLimitMs = options.timeLimitMs ?? 30_000;
+  const maxIterations = options.maxIterations ?? 50;
+  const deadline = began + timeLimitMs;
+  if (options.parameters.length === 0) throw new FitError("settings", "choose at least one parameter to fit");
+
+  const known = new Map(system.parameters.map((p) => [p.name, p]));
+  const baseValues: Record<string, number> = {};
+  for (const p of system.parameters) if (p.value !== undefined) baseValues[p.name] = p.value;
+  Object.assign(baseValues, options.settings?.parameters ?? {});
+
+  const names = options.parameters.map((p) => p.name);
+  const initial = options.parameters.map((p) => {
+    if (!known.has(p.name)) throw new FitError("settings", `"${p.name}" is not a parameter of this system`);
+    const value = p.initial ?? baseValues[p.name];
+    if (value === undefined || !Number.isFinite(value)) throw new FitError("settings", `give a starting value for "${p.name}"`);
+    return value;
+  });
+  if (new Set(names).size !== names.length) throw new FitError("settings", "a parameter is listed twice");
+  // Work in scaled parameters x_j = p_j / s_j, so that steps, differences and
+  // the damping are comparable across parameters of different magnitudes.
+  const scales = initial.map((v) => (v !== 0 ? Math.abs(v) : 1));
+  const lower = options.parameters.map((p, j) => (p.min ?? -Infinity) / scales[j]!);
+  const upper = options.parameters.map((p, j) => (p.max ?? Infinity) / scales[j]!);
+  initial.forEach((v, j) => {
+    if (!(v >= lower[j]! * scales[j]! && v <= upper[j]! * scales[j]!)) throw new FitError("settings", `the starting value of "${names[j]}" lies outside its bounds`);
+  });
+
+  const series = measured.series.filter((s) => system.coordinateNames.includes(s.coordinate));
+  if (series.length === 0) throw new FitError("no_data", "the measured data contain none of the model's coordinates");
+  const rows = measured.times.length;
+  const observations = rows * series.length;
+  if (observations <= names.length) throw new FitError("too_few_points", `${observations} measurements cannot determine ${names.length} parameters`);
+  const seriesIndex = series.map((s) => system.coordinateNames.indexOf(s.coordinate));
+  const residualScale = series.map((s) => {
+    const scale = options.coordinateScales?.[s.coordinate] ?? 1;
+    if (!(scale > 0)) throw new FitError("settings", `the scale of "${s.coordinate}" must be positive`);
+    return scale;
+  });
+
+  // Measured values, scaled, flattened series by series.
+  const target = new Float64Array(observations);
+  const spread = series.map((s, c) => {
+    let lo = Infinity;
+    let hi = -Infinity;
+    for (let k = 0; k < rows; k++) {
+      const v = s.values[k]! / residualScale[c]!;
+      target[c * rows + k] = v;
+      lo = Math.min(lo, v);
+      hi = Math.max(hi, v);
+    }
+    return Math.max(hi - lo, 1e-12);
+  });
+
+  const firstRow: Record<string, number> = {};
+  series.forEach((s) => {
+    firstRow[s.coordinate] = s.values[0]!;
+  });
+  const baseSettings: SimulationSettings = {
+    relativeTolerance: 1e-10,
+    absoluteTolerance: 1e-10,
+    initialCoordinates: firstRow,
+    ...options.settings,
+    startTime: measured.times[0]!,
+    endTime: measured.times[rows - 1]!,
+    outputTimes: measured.times,
+  };
+
+  let simulations = 0;
+  const cache = new Map<string, Float64Array>();
+  /** The model at the measured times for scaled parameters x, scaled and flattened. */
+  const model = (x: ArrayLike<number>, finalRun = false): Float64Array => {
+    const key = Array.from(x, (v) => v.toPrecision(17)).join(",");
+    const hit = cache.get(key);
+    if (hit) return hit;
+    if (!finalRun && options.signal?.aborted) throw new StopFit("cancelled");
+    // The last run (the fitted model for the report) gets a short extra budget.
+    const remaining = finalRun ? Math.max(deadline - now(), 2000) : deadline - now();
+    if (remaining <= 0) throw new StopFit("time_limit");
+    const values: Record<string, number> = { ...baseSettings.parameters };
+    names.forEach((name, j) => {
+      values[name] = x[j]! * scales[j]!;
+    });
+    simulations++;
+    const result = integrate(system, {
+      ...baseSettings,
+      parameters: values,
+      timeLimitMs: Math.min(remaining, baseSettings.timeLimitMs ?? Infinity),
+      signal: finalRun ? undefined : options.signal,
+    });
+    if (!finalRun && result.failure?.reason === "time_limit" && now() >= deadline) throw new StopFit("time_limit");
+    if (!finalRun && result.failure?.reason === "cancelled") throw new StopFit("cancelled");
+    const out = new Float64Array(observations);
+    const reached = result.trajectory.times.length;
+    series.forEach((_, c) => {
+      const column = result.trajectory.coordinates[seriesIndex[c]!]!;
+      for (let k = 0; k < rows; k++) {
+        // A guess whose simulation fails (singular M, blow-up) is pushed away
+        // by a large, finite misfit where the run did not reach.
+        out[c * rows + k] = k < reached ? column[k]! / residualScale[c]! : target[c * rows + k]! + 10 * spread[c]!;
+      }
+    });
+    if (cache.size > 64) cache.clear();
+    cache.set(key, out);
+    return out;
+  };
+  const sse = (x: ArrayLike<number>): number => {
+    const m = model(x);
+    let sum = 0;
+    for (let i = 0; i < observations; i++) sum += (m[i]! - target[i]!) ** 2;
+    return sum;
+  };
+
+  const stepOf = (x: readonly number[]) => x.map((v) => 1e-6 * Math.max(Math.abs(v), 1e-3));
+  const data = { x: Array.from({ length: observations }, (_, i) => i), y: Array.from(target) };
+  const parameterized = (x: number[]) => {
+    const m = model(x);
+    return (i: number) => m[i]!;
+  };
+
+  let x = initial.map(() => 1);
+  let status: FitStatus = "max_iterations";
+  let iterations = 0;
+  let error: number;
+  let damping: number;
+  try {
+    error = sse(x);
+    // Marquardt's start: the damping a thousandth of the largest diagonal of JᵀJ.
+    const { jtj } = jacobianAt(x, model, target, stepOf(x));
+    damping = Math.max(1e-3 * Math.max(...jtj.diag()), 1e-12);
+    while (iterations < maxIterations) {
+      if (error === 0) {
+        status = "converged";
+        break;
+      }
+      const step = levenbergMarquardt(data, parameterized, {
+        initialValues: x,
+        minValues: lower,
+        maxValues: upper,
+        damping,
+        gradientDifference: stepOf(x),
+        maxIterations: 1,
+        errorTolerance: 0,
+      });
+      iterations++;
+      const candidate = step.parameterValues;
+      const candidateError = step.parameterError;
+      if (candidateError < error) {
+        const decrease = (error - candidateError) / error;
+        const moved = Math.max(...candidate.map((v, j) => Math.abs(v - x[j]!) / Math.max(Math.abs(v), 1e-3)));
+        x = candidate;
+        error = candidateError;
+        damping = Math.max(damping / 9, 1e-15);
+        options.onProgress?.({ iteration: iterations, residualRms: Math.sqrt(error / observations), values: valuesOf(x) });
+        if (decrease < 1e-10 || moved < 1e-9) {
+          status = "converged";
+          break;
+        }
+      } else {
+        damping *= 11;
+        // No step, however short, lowers the misfit: a minimum to working precision.
+        if (damping > 1e12) {
+          status = "converged";
+          break;
+        }
+      }
+    }
+  } catch (stop) {
+    if (!(stop instanceof StopFit)) throw stop;
+    status = stop.status;
+    // Keep the best guess seen so far.
+    let best = Infinity;
+    for (const [key, m] of cache) {
+      let sum = 0;
+      for (let i = 0; i < observations; i++) sum += (m[i]! - target[i]!) ** 2;
+      if (sum < best) {
+        best = sum;
+        x = key.split(",").map(Number);
+      }
+    }
+    if (best === Infinity) {
+      throw new FitError("simulation_failed", status === "cancelled" ? "the fit was cancelled before its first simulation" : "the time limit was reached before the first simulation finished");
+    }
+  }
+
+  function valuesOf(xs: readonly number[]): Record<string, number> {
+    return Object.fromEntries(names.map((name, j) => [name, xs[j]! * scales[j]!]));
+  }
+
+  // Uncertainty from central differences at the optimum (skipped when out of time).
+  const finalModel = model(x, true);
+  let finalSse = 0;
+  for (let i = 0; i < observations; i++) finalSse += (finalModel[i]! - target[i]!) ** 2;
+  let covariance: number[][] | null = null;
+  if (status === "converged" || status === "max_iterations") {
+    try {
+      const { jtj } = jacobianAt(x, model, target, stepOf(x), true);
+      const sigma2 = finalSse / (observations - names.length);
+      const inverted = invertSymmetric(jtj);
+      if (inverted) {
+        // Back from scaled parameters: cov(p) = S cov(x) S.
+        covariance = inverted.to2DArray().map((row, i) => row.map((v, j) => sigma2 * v * scales[i]! * scales[j]!));
+      }
+    } catch (stop) {
+      if (!(stop instanceof StopFit)) throw stop;
+    }
+  }
+
+  const residualRmsByCoordinate: Record<string, number> = {};
+  const fitted = series.map((s, c) => {
+    const values = new Float64Array(rows);
+    let sum = 0;
+    for (let k = 0; k < rows; k++) {
+      values[k] = finalModel[c * rows + k]! * residualScale[c]!;
+      sum += (values[k]! - s.values[k]!) ** 2;
+    }
+    residualRmsByCoordinate[s.coordinate] = Math.sqrt(sum / rows);
+    return { coordinate: s.coordinate, values };
+  });
+
+  return {
+    status,
+    parameters: names.map((name, j) => {
+      const variance = covariance?.[j]?.[j];
+      return {
+        name,
+        initial: initial[j]!,
+        value: x[j]! * scales[j]!,
+        standardError: variance !== undefined && variance >= 0 ? Math.sqrt(variance) : null,
+      };
+    }),
+    residualRms: Math.sqrt(finalSse / observations),
+    residualRmsByCoordinate,
+    observations,
+    iterations,
+    simulations,
+    covariance,
+    fitted,
+    wallTimeMs: now() - began,
+  };
+}
+
+/** JᵀJ of the residuals by forward (or central) differences. */
+function jacobianAt(x: readonly number[], model: (x: ArrayLike<number>) => Float64Array, target: Float64Array, steps: readonly number[], central = false): { jtj: Matrix } {
+  const p = x.length;
+  const n = target.length;
+  const base = model(x);
+  const columns: Float64Array[] = [];
+  for (let j = 0; j < p; j++) {
+    const plus = [...x];
+    plus[j] = x[j]! + steps[j]!;
+    const up = model(plus);
+    const column = new Float64Array(n);
+    if (central) {
+      const minus = [...x];
+      minus[j] = x[j]! - steps[j]!;
+      const down = model(minus);
+      for (let i = 0; i < n; i++) column[i] = (up[i]! - down[i]!) / (2 * steps[j]!);
+    } else {
+      for (let i = 0; i < n; i++) column[i] = (up[i]! - base[i]!) / steps[j]!;
+    }
+    columns.push(column);
+  }
+  const jtj = new Matrix(p, p);
+  for (let a = 0; a < p; a++) {
+    for (let b = a; b < p; b++) {
+      let sum = 0;
+      const ca = columns[a]!;
+      const cb = columns[b]!;
+      for (let i = 0; i < n; i++) sum += ca[i]! * cb[i]!;
+      jtj.set(a, b, sum);
+      jtj.set(b, a, sum);
+    }
+  }
+  return { jtj };
+}
+
+/** (JᵀJ)⁻¹, or null when JᵀJ is numerically singular (a parameter the data cannot determine). */
+function invertSymmetric(matrix: Matrix): Matrix | null {
+  const diagonal = matrix.diag();
+  if (diagonal.some((d) => !(d > 0))) return null;
+  // Condition test on the correlation form, which is scale-free.
+  const d = diagonal.map((v) => 1 / Math.sqrt(v));
+  const correlation = new Matrix(matrix.rows, matrix.columns);
+  for (let i = 0; i < matrix.rows; i++) for (let j = 0; j < matrix.columns; j++) correlation.set(i, j, matrix.get(i, j) * d[i]! * d[j]!);
+  const pinv = pseudoInverse(correlation, 1e-12);
+  const check = correlation.mmul(pinv);
+  for (let i = 0; i < check.rows; i++) if (Math.abs(check.get(i, i) - 1) > 1e-6) return null;
+  const inv = inverse(correlation);
+  for (let i = 0; i < inv.rows; i++) for (let j = 0; j < inv.columns; j++) inv.set(i, j, inv.get(i, j) * d[i]! * d[j]!);
+  return inv;
+}
