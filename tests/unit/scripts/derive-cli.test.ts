@@ -1,0 +1,83 @@
+import { spawnSync } from "node:child_process";
+import { mkdtempSync, readFileSync, readdirSync, writeFileSync } from "node:fs";
+import { tmpdir } from "node:os";
+import path from "node:path";
+import { describe, expect, it } from "vitest";
+
+const root = path.resolve(import.meta.dirname, "../../..");
+const examples = path.join(root, "examples");
+
+function runCli(file: string) {
+  const result = spawnSync("npm", ["run", "--silent", "derive", "--", file], { cwd: root, encoding: "utf8", timeout: 60_000 });
+  return { status: result.status, stdout: result.stdout, stderr: result.stderr };
+}
+
+const scratch = mkdtempSync(path.join(tmpdir(), "holonomy-derive-"));
+function withChange(change: (model: Record<string, unknown>) => void): string {
+  const model = JSON.parse(readFileSync(path.join(examples, "gantry-crane-trolley.model.json"), "utf8"));
+  change(model);
+  const file = path.join(scratch, `case-${Math.random().toString(36).slice(2)}.model.json`);
+  writeFileSync(file, JSON.stringify(model, null, 2));
+  return file;
+}
+
+describe("derive CLI", () => {
+  it.each(readdirSync(examples).filter((f) => f.endsWith(".model.json")))("prints one JSON object of the contract's shape for %s", (name) => {
+    const { status, stdout, stderr } = runCli(path.join(examples, name));
+    expect(stderr).toBe("");
+    expect(status).toBe(0);
+    const output = JSON.parse(stdout);
+    expect(Object.keys(output).sort()).toEqual(["conserved", "coordinates", "energy", "equations", "forcing", "massMatrix", "timingMs"]);
+    const n = output.coordinates.length;
+    expect(output.equations).toHaveLength(n);
+    for (const e of output.equations) {
+      expect(Object.keys(e).sort()).toEqual(["coordinate", "latex", "residual"]);
+      expect(typeof e.residual).toBe("string");
+      expect(e.latex.length).toBeGreaterThan(0);
+    }
+    expect(output.massMatrix).toHaveLength(n);
+    for (const row of output.massMatrix) expect(row).toHaveLength(n);
+    expect(output.forcing).toHaveLength(n);
+    expect(typeof output.energy).toBe("string");
+    expect(Array.isArray(output.conserved)).toBe(true);
+    expect(output.timingMs).toBeGreaterThanOrEqual(0);
+  }, 60_000);
+
+  it("writes the double pendulum's equations in the compact textbook form", () => {
+    const output = JSON.parse(runCli(path.join(examples, "double-pendulum.model.json")).stdout);
+    // Taylor, Classical Mechanics (2005), ch. 11 (from memory), multiplied by m2*l2.
+    expect(output.equations[1].residual).toBe("m2*l1*l2*theta1''*cos(theta1 - theta2) + m2*l2^2*theta2'' - m2*l1*l2*theta1'^2*sin(theta1 - theta2) + m2*l2*g*sin(theta2)");
+    expect(output.conserved.map((c: { name: string }) => c.name)).toEqual(["energy function"]);
+  }, 60_000);
+
+  const invalid: [string, () => string, RegExp][] = [
+    ["a parse error", () => withChange((m) => (m.kinetic = "1/2*M*x'^2 + ")), /^kinetic, column 14: /],
+    ["an unknown symbol", () => withChange((m) => (m.potential = "m*g*yl + q")), /^potential, column 10: unknown symbol "q"$/],
+    ["the rate of a parameter", () => withChange((m) => (m.kinetic = "1/2*M*x'^2 + m'")), /^kinetic, column 14: "m" is a parameter/],
+    [
+      "a circular definition",
+      () =>
+        withChange((m) => {
+          const d = m.definitions as { expr: string }[];
+          d[0]!.expr = "x + l*sin(phi) + 0*yl";
+          d[1]!.expr = "-l*cos(phi) + 0*xl";
+        }),
+      /^definitions\[\d\]\.expr, column \d+: circular definition: /,
+    ],
+    ["a unit mismatch", () => withChange((m) => (m.potential = "m*g*yl + M*x")), /^potential, column \d+: /],
+    ["a rate of an input in a force", () => withChange((m) => (m.forces = { x: "F'" })), /^forces\.x, column 1: /],
+    ["malformed JSON", () => {
+      const file = path.join(scratch, "broken.model.json");
+      writeFileSync(file, '{"title": "x",\n  coordinates: []}');
+      return file;
+    }, /^model, line 2, column 3: not valid JSON/],
+  ];
+  it.each(invalid)("exits with status 2 and one stderr line for %s", (_, make, pattern) => {
+    const { status, stdout, stderr } = runCli(make());
+    expect(status).toBe(2);
+    expect(stdout).toBe("");
+    const lines = stderr.split("\n").filter((l) => l !== "");
+    expect(lines).toHaveLength(1);
+    expect(lines[0]).toMatch(pattern);
+  }, 60_000);
+});
