@@ -8,20 +8,25 @@
  * Prints one JSON object. The simulator needs at least 1e6 evaluations per second.
  */
 import { compileMassMatrixSystem } from "../lib/mechanics/compile";
+import { deriveModel } from "../lib/mechanics/derive";
 
-// Double pendulum with point masses and massless rods (J. R. Taylor, Classical Mechanics, ch. 11), written out by hand.
-const system = {
-  coordinates: ["theta1", "theta2"],
-  massMatrix: [
-    ["(m1 + m2)*l1^2", "m2*l1*l2*cos(theta1 - theta2)"],
-    ["m2*l1*l2*cos(theta1 - theta2)", "m2*l2^2"],
+// Double pendulum with point masses on massless rods, derived by the engine from Cartesian
+// definitions (m1 = m2 = 1 kg, l1 = l2 = 1 m, g = 9.81 m/s^2), as the simulator receives it.
+const parameters = { m1: 1, m2: 1, l1: 1, l2: 1, g: 9.81 };
+const derived = deriveModel({
+  title: "Double pendulum",
+  coordinates: [{ name: "theta1", unit: "rad" }, { name: "theta2", unit: "rad" }],
+  parameters: Object.entries(parameters).map(([name, value]) => ({ name, value, unit: name === "g" ? "m/s^2" : name.startsWith("m") ? "kg" : "m" })),
+  definitions: [
+    { name: "x1", expr: "l1*sin(theta1)" },
+    { name: "y1", expr: "-l1*cos(theta1)" },
+    { name: "x2", expr: "x1 + l2*sin(theta2)" },
+    { name: "y2", expr: "y1 - l2*cos(theta2)" },
   ],
-  forcing: [
-    "-m2*l1*l2*theta2'^2*sin(theta1 - theta2) - (m1 + m2)*g*l1*sin(theta1)",
-    "m2*l1*l2*theta1'^2*sin(theta1 - theta2) - m2*g*l2*sin(theta2)",
-  ],
-  parameters: { m1: 1, m2: 1, l1: 1, l2: 1, g: 9.81 },
-};
+  kinetic: "1/2*m1*(x1'^2 + y1'^2) + 1/2*m2*(x2'^2 + y2'^2)",
+  potential: "m1*g*y1 + m2*g*y2",
+});
+const system = { coordinates: derived.coordinates, massMatrix: derived.massMatrix, forcing: derived.forcing, parameters };
 
 const rhs = compileMassMatrixSystem(system);
 const x = new Float64Array([2, 2, 0, 0]);
