@@ -11,11 +11,16 @@ import { memo, useMemo } from "react";
 
 const TERM_ID = /^[A-Za-z0-9_.:-]{1,96}$/;
 
-/** Allows `\htmlData` with a single `term` attribute holding a plain id, nothing else. */
+/**
+ * Allows `\htmlData` with a single `term` attribute holding a plain id, nothing
+ * else. KaTeX reports the attribute with its `data-` prefix.
+ */
 export function trustTermData(context: { command: string; attributes?: Record<string, string> }): boolean {
   if (context.command !== "\\htmlData" || !context.attributes) return false;
-  const keys = Object.keys(context.attributes);
-  return keys.length === 1 && keys[0] === "term" && TERM_ID.test(context.attributes.term ?? "");
+  const entries = Object.entries(context.attributes);
+  if (entries.length !== 1) return false;
+  const [key, value] = entries[0]!;
+  return key === "data-term" && TERM_ID.test(value);
 }
 
 /** HTML for a LaTeX string; a LaTeX error renders as the source in the error colour, never throws. */

@@ -1,0 +1,117 @@
+// @vitest-environment jsdom
+import { afterEach, describe, expect, it, vi } from "vitest";
+import { cleanup, fireEvent, render, screen } from "@testing-library/react";
+import { EquationsCellView } from "@/components/notebook/generated-cells";
+import { Notebook } from "@/components/notebook/notebook";
+import { renderLatex, trustTermData } from "@/components/notebook/math";
+import { createCell, modelToDocument, type EquationsCell } from "@/lib/notebook/document";
+import type { NotebookResults } from "@/lib/notebook/results";
+import { templateModel } from "@/lib/notebook/templates";
+
+afterEach(cleanup);
+
+// Hand-written LaTeX in the shape the engine emits (terms wrapped in \htmlData{term=ID}); the ids are
+// opaque strings to the notebook, so any stable ids will do here.
+const results: NotebookResults = {
+  equations: [
+    {
+      coordinate: "theta",
+      residual: "m*l^2*theta'' + m*g*l*sin(theta)",
+      latex: "\\htmlData{term=t-a1}{m l^{2} \\ddot{\\theta}} + \\htmlData{term=t-b2}{m g l \\sin\\left(\\theta\\right)} = 0",
+    },
+  ],
+  massMatrixLatex: "\\begin{bmatrix} m l^{2} \\end{bmatrix} \\ddot{\\theta} = -m g l \\sin\\theta",
+  timingMs: 3.2,
+};
+
+const cell: EquationsCell = { ...createCell("equations", "eq") };
+
+describe("equations cell", () => {
+  it("renders each term as an element addressable by its term id, reachable by keyboard", () => {
+    const { container } = render(<EquationsCellView cell={cell} results={results} onOperation={() => {}} />);
+    const terms = [...container.querySelectorAll<HTMLElement>("[data-term]")];
+    expect(terms.map((t) => t.dataset.term)).toEqual(["t-a1", "t-b2"]);
+    expect(terms.every((t) => t.tabIndex === 0)).toBe(true);
+  });
+
+  it("highlights a term on hover and reports it; selects it on Enter", () => {
+    const onTermFocus = vi.fn();
+    const onTermSelect = vi.fn();
+    const { container } = render(<EquationsCellView cell={cell} results={results} onOperation={() => {}} onTermFocus={onTermFocus} onTermSelect={onTermSelect} />);
+    const term = container.querySelector<HTMLElement>('[data-term="t-b2"]')!;
+    fireEvent.mouseOver(term.querySelector(".mord") ?? term);
+    expect(onTermFocus).toHaveBeenLastCalledWith("t-b2");
+    expect(term.classList.contains("hn-term-active")).toBe(true);
+    expect(container.querySelector('[data-term="t-a1"]')!.classList.contains("hn-term-active")).toBe(false);
+    fireEvent.keyDown(term, { key: "Enter" });
+    expect(onTermSelect).toHaveBeenCalledWith("t-b2");
+    fireEvent.mouseLeave(screen.getByTestId("equations"));
+    expect(term.classList.contains("hn-term-active")).toBe(false);
+  });
+
+  it("highlights a term chosen from outside", () => {
+    const { container } = render(<EquationsCellView cell={cell} results={results} onOperation={() => {}} activeTerm="t-a1" />);
+    expect(container.querySelector('[data-term="t-a1"]')!.classList.contains("hn-term-active")).toBe(true);
+  });
+
+  it("switches to the mass-matrix form through a settings operation", () => {
+    const onOperation = vi.fn();
+    render(<EquationsCellView cell={cell} results={results} onOperation={onOperation} />);
+    fireEvent.change(screen.getByRole("combobox", { name: "Form" }), { target: { value: "mass-matrix" } });
+    expect(onOperation).toHaveBeenCalledWith({ type: "updateSettings", cellId: "eq", patch: { form: "mass-matrix" } });
+  });
+
+  it("says when nothing has been evaluated, and when an evaluation is running", () => {
+    const { rerender } = render(<EquationsCellView cell={cell} results={null} onOperation={() => {}} />);
+    expect(screen.getByRole("status").textContent).toMatch(/Not evaluated yet/);
+    rerender(<EquationsCellView cell={cell} results={null} evaluating onOperation={() => {}} />);
+    expect(screen.getByRole("status").textContent).toBe("Evaluating…");
+  });
+});
+
+describe("stale results in the notebook", () => {
+  const doc = modelToDocument(templateModel("single-pendulum"), (() => { let n = 0; return () => `c${++n}`; })());
+
+  it("keeps the last results visible and marks generated cells stale, not source cells", () => {
+    const { rerender } = render(<Notebook document={doc} onChange={() => {}} results={results} />);
+    expect(screen.queryByTestId("stale-marker")).toBeNull();
+    rerender(<Notebook document={doc} onChange={() => {}} results={results} stale />);
+    const equations = screen.getByTestId("cell-c5");
+    expect(equations.querySelector('[data-testid="stale-marker"]')).not.toBeNull();
+    expect(equations.classList.contains("hn-stale")).toBe(true);
+    expect(equations.querySelectorAll("[data-term]")).toHaveLength(2);
+    expect(screen.getByTestId("cell-c3").querySelector('[data-testid="stale-marker"]')).toBeNull();
+  });
+
+  it("lists evaluator errors that have no cell, and places the rest on their cells", async () => {
+    render(
+      <Notebook
+        document={doc}
+        onChange={() => {}}
+        results={results}
+        stale
+        diagnostics={[
+          { code: "too_large", field: "model", column: null, length: 1, message: "more than 12 coordinates" },
+          { code: "unknown_symbol", field: "potential", column: 5, length: 1, message: 'unknown symbol "h"' },
+        ]}
+      />,
+    );
+    expect(screen.getByRole("alert").textContent).toContain("more than 12 coordinates");
+    expect(await screen.findByText('unknown symbol "h"')).toBeTruthy();
+  });
+});
+
+describe("KaTeX trust", () => {
+  it("trusts \\htmlData with a plain term id and nothing else", () => {
+    // KaTeX hands the attributes to the trust check with their data- prefix.
+    expect(trustTermData({ command: "\\htmlData", attributes: { "data-term": "ab-12" } })).toBe(true);
+    expect(trustTermData({ command: "\\htmlData", attributes: { "data-term": "x", "data-onclick": "y" } })).toBe(false);
+    expect(trustTermData({ command: "\\htmlData", attributes: { "data-term": 'a b"' } })).toBe(false);
+    expect(trustTermData({ command: "\\htmlData", attributes: { "data-other": "x" } })).toBe(false);
+    expect(trustTermData({ command: "\\href" })).toBe(false);
+    expect(renderLatex("\\htmlData{term=t-1}{x}")).toContain('data-term="t-1"');
+    // Refused commands render as inert error text, never as a link.
+    expect(renderLatex("\\href{javascript:alert(1)}{x}")).not.toContain("href=");
+    expect(renderLatex("\\htmlClass{evil}{x}")).not.toContain('class="evil"');
+  });
+});
