@@ -112,7 +112,7 @@ export function formatDimension(d: Dimension): string {
   const power = (symbol: string, p: number) => (p === 1 ? symbol : `${symbol}^${Number.isInteger(p) ? p : `(${+p.toFixed(6)})`}`);
   const up = BASE_SYMBOLS.flatMap((s, i) => (d[i]! > 0 ? [power(s, d[i]!)] : []));
   const down = BASE_SYMBOLS.flatMap((s, i) => (d[i]! < 0 ? [power(s, -d[i]!)] : []));
-  let text = up.length === 0 ? (down.length === 0 ? "1" : "1") : up.join("*");
+  let text = up.length === 0 ? "1" : up.join("*");
   if (down.length > 0) text += "/" + (down.length === 1 ? down[0] : down.join("/"));
   const named = NAMED.find(([dim]) => sameDimension(dim, d));
   return named ? `${text} (${named[1]})` : text;

@@ -106,9 +106,12 @@ function expectClose(actual: Result, expected: Result, label: string) {
 }
 
 let dir: string;
+let python: string;
 beforeAll(() => {
   dir = mkdtempSync(path.join(tmpdir(), "holonomy-codegen-"));
-});
+  // May install Debian's python3-numpy on a fresh machine, hence the long hook timeout.
+  python = pythonWithNumpy();
+}, 900_000);
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
 
 describe.each(Object.entries(MODELS))("exported code for %s", (key, model) => {
@@ -160,7 +163,6 @@ ${calls}
   });
 
   it("Python (NumPy) runs and matches the engine to 1e-12", () => {
-    const python = pythonWithNumpy();
     writeFileSync(path.join(dir, `${key}_model.py`), exportCode(model, "python"));
     writeFileSync(
       path.join(dir, `${key}_driver.py`),
