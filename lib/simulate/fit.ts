@@ -101,6 +101,28 @@ const now: () => number = typeof performance !== "undefined" ? () => performance
  * result.parameters.map((p) => `${p.name} = ${p.value} ± ${p.standardError}`);
  */
 export function fitParameters(options: FitOptions): FitResult {
+  const steps = fitSteps(options);
+  for (;;) {
+    const next = steps.next();
+    if (next.done) return next.value;
+  }
+}
+
+/**
+ * The same fit, yielding to the event loop after every iteration so that a
+ * worker can receive a cancel message (set `signal.aborted`) meanwhile.
+ */
+export async function fitParametersInSlices(options: FitOptions): Promise<FitResult> {
+  const steps = fitSteps(options);
+  for (;;) {
+    const next = steps.next();
+    if (next.done) return next.value;
+    await new Promise<void>((resolve) => setTimeout(resolve, 0));
+  }
+}
+
+/** The fit as a generator that pauses after each Levenberg–Marquardt iteration. */
+function* fitSteps(options: FitOptions): Generator<void, FitResult> {
   const began = now();
   const { system, measured } = options;
   const timeLimitMs = options.timeLimitMs ?? 30_000;
@@ -247,6 +269,7 @@ export function fitParameters(options: FitOptions): FitResult {
         errorTolerance: 0,
       });
       iterations++;
+      yield;
       const candidate = step.parameterValues;
       const candidateError = step.parameterError;
       if (candidateError < error) {

@@ -162,7 +162,8 @@ export function integrate(system: MechanicalSystem, settings: SimulationSettings
  */
 export async function integrateInSlices(system: MechanicalSystem, settings: SimulationSettings, sliceMs = 30): Promise<SimulationResult> {
   const run = new IntegrationRun(system, settings);
-  let sliceSpan = (run.endTime - run.startTime) / 1000;
+  // Start with a short slice; later slices are sized from the measured speed.
+  let sliceSpan = (run.endTime - run.startTime) / 10_000;
   while (run.canContinue()) {
     const began = now();
     const target = run.outputTimeAtOrAfter(run.timeReached + sliceSpan);
