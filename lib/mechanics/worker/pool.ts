@@ -1,6 +1,7 @@
 import { availableParallelism } from "node:os";
 import { Worker, type ResourceLimits } from "node:worker_threads";
 import { EngineLimitError } from "../errors";
+import { DEFAULT_MODEL_LIMITS, type ModelLimits } from "../validate-model";
 import { deserializeError, type TaskRequest, type TaskResponse } from "./protocol";
 
 export interface EnginePoolOptions {
@@ -18,6 +19,8 @@ export interface EnginePoolOptions {
   maxInputDepth?: number;
   /** Most tasks waiting for a worker; default 100. */
   maxQueue?: number;
+  /** Counts a model or system may have (coordinates, parameters, inputs, definitions), checked before dispatch. */
+  modelLimits?: ModelLimits;
   /** Extra checks before dispatch; throw (ideally EngineLimitError or ModelError) to refuse. */
   validateInput?: (task: string, payload: unknown) => void;
   execArgv?: string[];
@@ -65,6 +68,7 @@ export class EnginePool {
       maxInputLength: 1_000_000,
       maxInputDepth: 32,
       maxQueue: 100,
+      modelLimits: DEFAULT_MODEL_LIMITS,
       ...options,
     };
     for (let i = 0; i < this.options.size; i++) this.slots.push(this.spawn());
@@ -88,6 +92,7 @@ export class EnginePool {
       if (text.length > this.options.maxInputLength) {
         throw new EngineLimitError("input_size", `input is ${text.length} characters; the limit is ${this.options.maxInputLength}`);
       }
+      checkCounts(payload, this.options.modelLimits);
       this.options.validateInput?.(task, payload);
       if (this.queue.length >= this.options.maxQueue) throw new EngineLimitError("queue", "the engine is busy; try again shortly");
     } catch (error) {
@@ -184,5 +189,32 @@ function checkDepth(value: unknown, limit: number): void {
     if (depth >= limit) throw new EngineLimitError("input_depth", `input is nested deeper than ${limit} levels`);
     if (++visited > 1_000_000) throw new EngineLimitError("input_size", "input has too many parts");
     for (const child of Array.isArray(item) ? item : Object.values(item)) stack.push([child, depth + 1]);
+  }
+}
+
+/**
+ * Refuses a model (payload.model) or mass-matrix system (payload.system or
+ * payload.input) with more coordinates, parameters, inputs or definitions
+ * than the limits allow — the full validation runs in the worker.
+ */
+function checkCounts(payload: unknown, limits: ModelLimits): void {
+  if (payload === null || typeof payload !== "object") return;
+  const record = payload as Record<string, unknown>;
+  const count = (value: unknown, key: string) => {
+    const list = value !== null && typeof value === "object" ? (value as Record<string, unknown>)[key] : undefined;
+    return Array.isArray(list) ? list.length : 0;
+  };
+  for (const key of ["model", "system", "input"]) {
+    const part = record[key];
+    if (part === undefined) continue;
+    const checks: [string, number, number][] = [
+      ["coordinates", count(part, "coordinates"), limits.maxCoordinates],
+      ["parameters", key === "system" ? Object.keys(((part as Record<string, unknown>).parameters as object) ?? {}).length : count(part, "parameters"), limits.maxParameters],
+      ["inputs", count(part, "inputs"), limits.maxInputs],
+      ["definitions", count(part, "definitions"), limits.maxDefinitions],
+    ];
+    for (const [name, actual, limit] of checks) {
+      if (actual > limit) throw new EngineLimitError(`too_many_${name}`, `the model has ${actual} ${name}; the limit is ${limit}`);
+    }
   }
 }

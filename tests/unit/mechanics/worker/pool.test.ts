@@ -80,6 +80,8 @@ describe("EnginePool", () => {
       for (let i = 0; i < 20; i++) deep = [deep];
       const nested = await small.run("echo", deep).catch((e: unknown) => e);
       expect((nested as EngineLimitError).limit).toBe("input_depth");
+      const crowded = await small.run("linearize", { system: { coordinates: Array.from({ length: 40 }, (_, i) => `q${i}`) } }).catch((e: unknown) => e);
+      expect((crowded as EngineLimitError).limit).toBe("too_many_coordinates");
       // Nothing was dispatched: the worker is idle and nothing is queued.
       expect(small.stats).toEqual({ size: 1, busy: 0, queued: 0 });
     } finally {
