@@ -2,7 +2,6 @@
 
 import { useEffect, useState } from "react";
 import type { DocumentOperation, NoteCell } from "@/lib/notebook/document";
-import { renderNoteHtml } from "./markdown";
 
 export interface NoteCellProps {
   cell: NoteCell;
@@ -57,11 +56,21 @@ export function NoteCellEditor({ cell, readOnly = false, onOperation }: NoteCell
   );
 }
 
-/** Renders after mount: sanitizing needs the browser's DOM, and server and first client render must agree. */
+/**
+ * Renders after mount: sanitizing needs the browser's DOM, and server and first
+ * client render must agree. The Markdown and sanitizer code loads on demand, so
+ * notebooks without notes do not pay for it on first load.
+ */
 function useRenderedNote(markdown: string): string | null {
   const [html, setHtml] = useState<string | null>(null);
   useEffect(() => {
-    setHtml(renderNoteHtml(markdown));
+    let current = true;
+    void import("./markdown").then(({ renderNoteHtml }) => {
+      if (current) setHtml(renderNoteHtml(markdown));
+    });
+    return () => {
+      current = false;
+    };
   }, [markdown]);
   return html;
 }

@@ -11,7 +11,8 @@
  * No React, no engine internals beyond the model types and the reserved names:
  * this file runs in the browser, on the server and in tests alike.
  */
-import { z } from "zod";
+// zod/mini: the tree-shakable build, so the browser bundle carries a few kB rather than all of zod.
+import * as z from "zod/mini";
 import type { Model } from "../mechanics/model";
 
 /** Bump when the stored shape changes; `parseStoredDocument` migrates older versions. */
@@ -729,33 +730,35 @@ export function locateModelField(doc: DerivationDocument, field: string): FieldL
 
 const LIMITS = { cells: 300, rows: 200, name: 64, unit: 120, expr: 8000, text: 2000, note: 50_000, id: 64 } as const;
 
-const idSchema = z.string().min(1).max(LIMITS.id);
-const nameText = z.string().max(LIMITS.name);
-const unitText = z.string().max(LIMITS.unit);
-const exprText = z.string().max(LIMITS.expr);
-const descriptionText = z.string().max(LIMITS.text);
+const text = (max: number, min = 0) => z.string().check(z.minLength(min), z.maxLength(max));
+const idSchema = text(LIMITS.id, 1);
+const nameText = text(LIMITS.name);
+const unitText = text(LIMITS.unit);
+const exprText = text(LIMITS.expr);
+const descriptionText = text(LIMITS.text);
 
-const cellBase = { id: idSchema, collapsed: z.boolean(), title: z.string().max(200).optional() };
+const cellBase = { id: idSchema, collapsed: z.boolean(), title: z.optional(text(200)) };
 const namedUnitRow = z.strictObject({ id: idSchema, name: nameText, unit: unitText, description: descriptionText });
 
-function uniqueRowIds<T extends { id: string }>(rows: z.ZodType<T[]>) {
-  return rows.refine((list) => new Set(list.map((row) => row.id)).size === list.length, { message: "row ids must be unique within a cell" });
+function rowList<T extends { id: string }>(row: z.ZodMiniType<T>) {
+  return z.array(row).check(
+    z.maxLength(LIMITS.rows),
+    z.refine((list: T[]) => new Set(list.map((entry) => entry.id)).size === list.length, { message: "row ids must be unique within a cell" }),
+  );
 }
 
 const cellSchema = z.discriminatedUnion("kind", [
-  z.strictObject({ ...cellBase, kind: z.literal("coordinates"), rows: uniqueRowIds(z.array(namedUnitRow).max(LIMITS.rows)) }),
-  z.strictObject({ ...cellBase, kind: z.literal("inputs"), rows: uniqueRowIds(z.array(namedUnitRow).max(LIMITS.rows)) }),
+  z.strictObject({ ...cellBase, kind: z.literal("coordinates"), rows: rowList(namedUnitRow) }),
+  z.strictObject({ ...cellBase, kind: z.literal("inputs"), rows: rowList(namedUnitRow) }),
   z.strictObject({
     ...cellBase,
     kind: z.literal("parameters"),
-    rows: uniqueRowIds(
-      z.array(z.strictObject({ id: idSchema, name: nameText, unit: unitText, value: z.string().max(64), description: descriptionText })).max(LIMITS.rows),
-    ),
+    rows: rowList(z.strictObject({ id: idSchema, name: nameText, unit: unitText, value: text(64), description: descriptionText })),
   }),
   z.strictObject({
     ...cellBase,
     kind: z.literal("definitions"),
-    rows: uniqueRowIds(z.array(z.strictObject({ id: idSchema, name: nameText, expr: exprText, description: descriptionText })).max(LIMITS.rows)),
+    rows: rowList(z.strictObject({ id: idSchema, name: nameText, expr: exprText, description: descriptionText })),
   }),
   z.strictObject({ ...cellBase, kind: z.literal("kinetic"), expr: exprText }),
   z.strictObject({ ...cellBase, kind: z.literal("potential"), expr: exprText }),
@@ -763,20 +766,20 @@ const cellSchema = z.discriminatedUnion("kind", [
   z.strictObject({
     ...cellBase,
     kind: z.literal("forces"),
-    entries: z
-      .array(z.strictObject({ coordinate: nameText, expr: exprText }))
-      .max(LIMITS.rows)
-      .refine((list) => new Set(list.map((entry) => entry.coordinate)).size === list.length, { message: "one force per coordinate" }),
+    entries: z.array(z.strictObject({ coordinate: nameText, expr: exprText })).check(
+      z.maxLength(LIMITS.rows),
+      z.refine((list: ForceEntry[]) => new Set(list.map((entry) => entry.coordinate)).size === list.length, { message: "one force per coordinate" }),
+    ),
   }),
-  z.strictObject({ ...cellBase, kind: z.literal("note"), markdown: z.string().max(LIMITS.note) }),
+  z.strictObject({ ...cellBase, kind: z.literal("note"), markdown: text(LIMITS.note) }),
   z.strictObject({ ...cellBase, kind: z.literal("equations"), settings: z.strictObject({ form: z.enum(EQUATION_FORMS) }) }),
   z.strictObject({ ...cellBase, kind: z.literal("conserved"), settings: z.strictObject({}) }),
   z.strictObject({
     ...cellBase,
     kind: z.literal("linearization"),
     settings: z.strictObject({
-      equilibriumIndex: z.number().int().min(0).max(1000),
-      inputValues: z.record(z.string().max(LIMITS.name), z.string().max(64)),
+      equilibriumIndex: z.int().check(z.minimum(0), z.maximum(1000)),
+      inputValues: z.record(nameText, text(64)),
     }),
   }),
   z.strictObject({ ...cellBase, kind: z.literal("code-export"), settings: z.strictObject({ language: z.enum(CODE_EXPORT_LANGUAGES) }) }),
@@ -787,21 +790,23 @@ const cellSchema = z.discriminatedUnion("kind", [
 export const derivationDocumentSchema = z
   .strictObject({
     schemaVersion: z.literal(DOCUMENT_SCHEMA_VERSION),
-    title: z.string().max(200),
-    cells: z.array(cellSchema).max(LIMITS.cells),
+    title: text(200),
+    cells: z.array(cellSchema).check(z.maxLength(LIMITS.cells)),
   })
-  .superRefine((doc, ctx) => {
-    const ids = new Set<string>();
-    const seen = new Set<string>();
-    doc.cells.forEach((cell, index) => {
-      if (ids.has(cell.id)) ctx.addIssue({ code: "custom", path: ["cells", index, "id"], message: `duplicate cell id "${cell.id}"` });
-      ids.add(cell.id);
-      if (SINGLETON_KINDS.has(cell.kind)) {
-        if (seen.has(cell.kind)) ctx.addIssue({ code: "custom", path: ["cells", index, "kind"], message: `more than one ${cell.kind} cell` });
-        seen.add(cell.kind);
-      }
-    });
-  });
+  .check(
+    z.superRefine((doc, ctx) => {
+      const ids = new Set<string>();
+      const seen = new Set<string>();
+      doc.cells.forEach((cell, index) => {
+        if (ids.has(cell.id)) ctx.addIssue({ code: "custom", path: ["cells", index, "id"], message: `duplicate cell id "${cell.id}"`, input: cell.id });
+        ids.add(cell.id);
+        if (SINGLETON_KINDS.has(cell.kind)) {
+          if (seen.has(cell.kind)) ctx.addIssue({ code: "custom", path: ["cells", index, "kind"], message: `more than one ${cell.kind} cell`, input: cell.kind });
+          seen.add(cell.kind);
+        }
+      });
+    }),
+  );
 
 export type StoredDocumentResult =
   | { ok: true; document: DerivationDocument }
