@@ -183,7 +183,11 @@ export function deriveCanonical(model: Model, options: DeriveOptions = {}): Cano
       dpdt = dt.apply(p);
     } catch (error) {
       if (error instanceof RateUnavailableError) {
-        throw new ModelError("unsupported", "kinetic", `the Euler–Lagrange equation of ${model.coordinates[i]!.name} needs ${error.message.replace(/^the /, "the ")}`);
+        throw new ModelError(
+          "unsupported",
+          "kinetic",
+          `the Euler–Lagrange equation of ${model.coordinates[i]!.name} needs the rate of ${error.what}, which the model does not define`,
+        );
       }
       throw error;
     }
@@ -277,7 +281,7 @@ function makeResolver(
         definition.values[k] = dt.apply(definition.values[k - 1]!);
       } catch (error) {
         if (error instanceof RateUnavailableError) {
-          throw new ExpressionError("unsupported", `${node.name}${"'".repeat(node.order)} needs ${error.message}`, node.start, node.end - node.start);
+          throw new ExpressionError("unsupported", `${node.name}${"'".repeat(node.order)} needs the rate of ${error.what}, which the model does not define`, node.start, node.end - node.start);
         }
         throw error;
       }

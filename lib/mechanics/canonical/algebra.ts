@@ -7,9 +7,11 @@ import { canonicalTrig, combineAngles, makeTerm, mergeFactors, monomialKey, type
 export interface AlgebraLimits {
   /** Largest number of terms one intermediate sum may hold. */
   maxTerms: number;
+  /** Largest number of term pairs one multiplication may visit. */
+  maxProductPairs: number;
 }
 
-export const DEFAULT_ALGEBRA_LIMITS: AlgebraLimits = { maxTerms: 200_000 };
+export const DEFAULT_ALGEBRA_LIMITS: AlgebraLimits = { maxTerms: 200_000, maxProductPairs: 1_000_000 };
 
 /**
  * Arithmetic on canonical sums (see term.ts). Every result is canonical:
@@ -149,6 +151,7 @@ export class Algebra {
 
   mul(a: Poly, b: Poly): Poly {
     if (a.size === 0 || b.size === 0) return new Map();
+    this.checkProduct(a, b);
     if (a.size > b.size) [a, b] = [b, a];
     const out: Poly = new Map();
     for (const ta of a.values()) for (const tb of b.values()) this.mulTermsInto(out, ta, tb);
@@ -158,9 +161,17 @@ export class Algebra {
 
   /** a·b added into `out` (scaled). */
   mulInto(out: Poly, a: Poly, b: Poly, scale: C.Coefficient = C.ONE): Poly {
+    this.checkProduct(a, b);
     for (const ta of a.values()) for (const tb of b.values()) this.mulTermsInto(out, ta, tb, scale);
     this.checkSize(out);
     return out;
+  }
+
+  /** Refuses a product before doing it when it would take too long (untrusted input like (a+b+…)^30). */
+  private checkProduct(a: Poly, b: Poly): void {
+    if (a.size * b.size > this.limits.maxProductPairs) {
+      throw new EngineLimitError("terms", `a product of ${a.size} by ${b.size} terms is larger than the engine accepts`);
+    }
   }
 
   private checkSize(p: Poly): void {
@@ -210,10 +221,11 @@ export class Algebra {
       return this.powerAtomPoly(base, exponent);
     }
     if (Number.isInteger(exponent)) {
-      // Normalise the base so that 1/(2a+2b) and 1/(a+b)/2 share one atom.
-      const lead = leadingTerm(base);
-      if (!C.isOne(lead.c)) {
-        return this.scale(this.powerAtomPoly(this.scale(base, C.inverse(lead.c)), exponent), C.power(lead.c, exponent));
+      // Normalise the base (integer coefficients without common factor, leading term positive)
+      // so that 1/(2a+2b) and 1/(a+b)/2 share one atom.
+      const content = contentOf(base);
+      if (content !== null && !C.isOne(content)) {
+        return this.scale(this.powerAtomPoly(this.scale(base, C.inverse(content)), exponent), C.power(content, exponent));
       }
     }
     return this.powerAtomPoly(base, exponent);
@@ -373,6 +385,25 @@ function leadingTerm(p: Poly): Term {
   let best: Term | null = null;
   for (const t of p.values()) if (best === null || t.key < best.key) best = t;
   return best!;
+}
+
+function gcd(a: number, b: number): number {
+  while (b !== 0) [a, b] = [b, a % b];
+  return Math.abs(a);
+}
+
+/** ±gcd(numerators)/lcm(denominators), signed like the leading term; null when a coefficient is a float. */
+function contentOf(p: Poly): C.Coefficient | null {
+  let n = 0;
+  let d = 1;
+  for (const t of p.values()) {
+    if (!C.isExact(t.c)) return null;
+    n = gcd(n, t.c.n);
+    d = (d / gcd(d, t.c.d)) * t.c.d;
+    if (!Number.isSafeInteger(d)) return null;
+  }
+  const sign = C.toNumber(leadingTerm(p).c) < 0 ? -1 : 1;
+  return C.rational(sign * n, d);
 }
 
 /** r when a = r·b for a constant r, otherwise null. */

@@ -10,8 +10,12 @@ export type SymbolRule = (id: number) => Poly | null;
 
 /** Raised when d/dt meets a symbol whose rate the engine does not know (an input, a q''). */
 export class RateUnavailableError extends Error {
-  constructor(readonly symbolId: number, message: string) {
-    super(message);
+  constructor(
+    readonly symbolId: number,
+    /** What has no rate, e.g. `the input u`. */
+    readonly what: string,
+  ) {
+    super(`the rate of ${what} is not available`);
     this.name = "RateUnavailableError";
   }
 }
@@ -59,7 +63,7 @@ export class Derivation {
     const out: Poly = this.alg.zero();
     for (let i = 0; i < combo.length; i += 2) {
       const d = this.ofSymbol(combo[i]!);
-      if (d) this.alg.addInto(out, d, C.fromNumber(combo[i + 1]!));
+      if (d) this.alg.addInto(out, d, C.fromFraction(combo[i + 1]!));
     }
     const result = out.size === 0 ? null : out;
     this.angleCache.set(key, result);
@@ -81,7 +85,7 @@ export class Derivation {
       const reduced = f.slice();
       if (e === 1) reduced.splice(i, 2);
       else reduced[i + 1] = e - 1;
-      const head = makeTerm(C.multiply(t.c, C.fromNumber(e)), reduced, t.g);
+      const head = makeTerm(C.multiply(t.c, C.fromFraction(e)), reduced, t.g);
       for (const u of d.values()) this.alg.mulTermsInto(out, head, u);
     }
     if (t.g !== null) {
@@ -155,9 +159,9 @@ export function timeDerivative(alg: Algebra): Derivation {
         case "phase":
           return alg.fromTerm(entry.phase!);
         case "acceleration":
-          throw new RateUnavailableError(id, `the rate of the acceleration ${entry.name}'' is not available`);
+          throw new RateUnavailableError(id, `the acceleration ${entry.name}''`);
         case "input":
-          throw new RateUnavailableError(id, `the rate of the input ${entry.name} is not available`);
+          throw new RateUnavailableError(id, `the input ${entry.name}`);
         default:
           return null;
       }

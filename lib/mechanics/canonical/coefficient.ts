@@ -136,3 +136,13 @@ export function rationalRoot(a: Coefficient, exponent: number): Coefficient | nu
 export function key(a: Coefficient): string {
   return a.d === 0 ? `f${a.n}` : `${a.n}/${a.d}`;
 }
+
+/** An exponent or angle coefficient (a float that is usually a small fraction like 1/3) as a coefficient. */
+export function fromFraction(value: number): Coefficient {
+  if (Number.isInteger(value)) return rational(value, 1);
+  for (let q = 2; q <= 1000; q++) {
+    const p = Math.round(value * q);
+    if (Math.abs(p / q - value) < 1e-12) return rational(p, q);
+  }
+  return fromNumber(value);
+}
