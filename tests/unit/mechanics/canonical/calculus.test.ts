@@ -106,6 +106,11 @@ describe("derivatives on the canonical form", () => {
     }
   });
 
+  it("keeps fractional exponents exact", () => {
+    const c = canonicalize(["x^(1/3)"], { coordinates: ["x"] });
+    expect(c.format(partialDerivative(c.algebra, c.space.coordinates[0]!).apply(c.polys[0]!))).toBe("1/(3*x^(2/3))");
+  });
+
   it("differentiates time phases with their known rate", () => {
     const c = canonicalize(["a*sin(w*t)"], { coordinates: ["x"] });
     const dt = timeDerivative(c.algebra).apply(c.polys[0]!);

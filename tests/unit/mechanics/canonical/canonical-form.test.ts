@@ -116,6 +116,9 @@ describe("canonical trigonometric form", () => {
     expect(sameExpression("sqrt(x^2 + r^2)*sqrt(r^2 + x^2)", "x^2 + r^2", { coordinates: ["x", "r"] })).toBe(true);
     expect(canonicalText("exp(a)*exp(a)/exp(a)")).toBe("exp(a)");
     expect(canonicalText("(m + k)/(k + m)")).toBe("1");
+    // Atom bases carry integer coefficients without a common factor.
+    expect(canonicalText("1/(2 + x)", { coordinates: ["x"] })).toBe("1/(x + 2)");
+    expect(canonicalText("3/(4*x + 2)", { coordinates: ["x"] })).toBe("3/(2*(2*x + 1))");
     const text = canonicalText("k/sqrt(r^2 + l^2) + log(2 + cos(r))", { coordinates: r });
     const random = mulberry32(3);
     const env = randomEnv(random);
