@@ -19,9 +19,11 @@ start() {
   rm -f "$PID_FILE"
   if port_open "$SMTP_PORT" || port_open "$WEB_PORT"; then die "port $SMTP_PORT or $WEB_PORT is taken by another process"; fi
   log "starting mail fake (smtp 127.0.0.1:$SMTP_PORT, web 127.0.0.1:$WEB_PORT)"
-  (cd "$ROOT" && nohup node node_modules/maildev/dist/bin/maildev.js \
-      --smtp "$SMTP_PORT" --web "$WEB_PORT" --ip 127.0.0.1 --web-ip 127.0.0.1 --mail-directory "$DATA_DIR/mail-$SMTP_PORT" \
-      >"$MAIL_LOG" 2>&1 & echo $! >"$PID_FILE")
+  # Started directly (no subshell) so $! is the server's own pid.
+  nohup node "$ROOT/node_modules/maildev/dist/bin/maildev.js" \
+    --smtp "$SMTP_PORT" --web "$WEB_PORT" --ip 127.0.0.1 --web-ip 127.0.0.1 --mail-directory "$DATA_DIR/mail-$SMTP_PORT" \
+    >"$MAIL_LOG" 2>&1 &
+  echo $! >"$PID_FILE"
   wait_for_port "$SMTP_PORT" "mail fake (smtp)"
   wait_for_port "$WEB_PORT" "mail fake (web)"
 }

@@ -17,10 +17,13 @@ ensure_chromium
 
 started_pg=0
 started_mail=0
+summary=""
+# Stops only what this run started, then prints the summary as the last line.
 cleanup() {
   local rc=$?
   [ "$started_mail" -eq 1 ] && bash scripts/mail.sh stop "$TEST_SMTP_PORT" "$TEST_MAIL_WEB_PORT" || true
   [ "$started_pg" -eq 1 ] && bash scripts/db.sh stop || true
+  if [ -n "$summary" ]; then echo "$summary"; else echo "0 passed, 1 failed"; rc=1; fi
   exit "$rc"
 }
 trap cleanup EXIT
@@ -66,5 +69,4 @@ fi
 summary_rc=0
 summary=$(node scripts/lib/summarise-tests.mjs "$REPORT_DIR" "${failed_steps[@]+"${failed_steps[@]}"}") || summary_rc=$?
 [ "${#failed_steps[@]}" -gt 0 ] && log "failed steps: ${failed_steps[*]}"
-echo "$summary"
 if [ "$summary_rc" -ne 0 ] || [ "${#failed_steps[@]}" -gt 0 ]; then exit 1; fi

@@ -1,5 +1,5 @@
 import "server-only";
-import { toAppError } from "@/lib/errors";
+import { AppError, toAppError } from "@/lib/errors";
 
 type RouteContext<Params> = { params: Promise<Params> };
 
@@ -25,6 +25,6 @@ export async function readJson(request: Request): Promise<unknown> {
   try {
     return await request.json();
   } catch {
-    return undefined;
+    throw new AppError("bad_request:validation", "The request body must be a JSON object.");
   }
 }

@@ -1,0 +1,44 @@
+import { defineConfig } from "@playwright/test";
+
+// Browser suite: Debian's chromium (never a downloaded browser) against a
+// production build served by `next start`. scripts/test.sh builds the app,
+// prepares the test database and mail fake, and exports their settings.
+const port = Number(process.env.HOLONOMY_TEST_APP_PORT ?? 3100);
+
+export default defineConfig({
+  testDir: "tests/e2e",
+  outputDir: ".data/e2e-results",
+  timeout: 60_000,
+  expect: { timeout: 10_000 },
+  fullyParallel: false,
+  workers: 1,
+  retries: 0,
+  forbidOnly: true,
+  reporter: [["list"], ["json", { outputFile: ".data/reports/playwright.json" }]],
+  use: {
+    baseURL: `http://localhost:${port}`,
+    screenshot: "only-on-failure",
+    trace: "off",
+    launchOptions: {
+      executablePath: "/usr/bin/chromium",
+      args: [
+        "--headless",
+        "--no-sandbox",
+        "--disable-gpu",
+        "--disable-background-networking",
+        "--disable-component-update",
+        "--disable-sync",
+        "--no-first-run",
+      ],
+    },
+  },
+  projects: [{ name: "chromium", use: { browserName: "chromium" } }],
+  webServer: {
+    command: `npx next start -H 127.0.0.1 -p ${port}`,
+    url: `http://127.0.0.1:${port}/api/health`,
+    reuseExistingServer: false,
+    timeout: 120_000,
+    stdout: "ignore",
+    stderr: "pipe",
+  },
+});

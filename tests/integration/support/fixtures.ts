@@ -1,0 +1,64 @@
+// Test data for integration tests, built through the same query functions the
+// app uses. Every e-mail is unique per run so rate limits never collide.
+import { sql } from "drizzle-orm";
+import { db } from "@/db/client";
+import { createTeamWithLead, upsertMembership } from "@/db/queries/teams";
+import { createUser } from "@/db/queries/users";
+import type { Team } from "@/db/schema";
+import { hashPassword } from "@/lib/auth/password";
+import type { SessionUser } from "@/lib/auth/session";
+import type { MemberRole } from "@/lib/domain";
+
+export const testPassword = "correct-horse-battery";
+let counter = 0;
+let passwordHash: string | undefined;
+
+export function uniqueEmail(label: string): string {
+  counter += 1;
+  return `${label}-${Date.now().toString(36)}-${counter}@it.holonomy.test`;
+}
+
+export async function makeUser(label = "user"): Promise<SessionUser> {
+  passwordHash ??= await hashPassword(testPassword);
+  const user = await createUser({ email: uniqueEmail(label), name: `Test ${label}`, passwordHash });
+  if (!user) throw new Error("fixture user already exists");
+  return { id: user.id, email: user.email, name: user.name };
+}
+
+export interface TeamFixture {
+  team: Team;
+  members: Record<MemberRole, SessionUser>;
+}
+
+/** A team with one member per role. */
+export async function makeTeam(name = "Hoist test bench"): Promise<TeamFixture> {
+  const lead = await makeUser("lead");
+  const team = await createTeamWithLead({ name, leadUserId: lead.id });
+  const members = { lead } as Record<MemberRole, SessionUser>;
+  for (const role of ["analyst", "reviewer", "viewer"] as const) {
+    const user = await makeUser(role);
+    await upsertMembership({ teamId: team.id, userId: user.id, role });
+    members[role] = user;
+  }
+  return { team, members };
+}
+
+/** Empties every table; the schema itself was migrated fresh by the test runner. */
+export async function resetDatabase(): Promise<void> {
+  await db.execute(sql`
+    truncate table audit_log, sign_in_attempts, password_reset_tokens, invites, derivations, memberships, teams, users
+    restart identity cascade
+  `);
+}
+
+export function jsonRequest(url: string, method: string, body?: unknown): Request {
+  return new Request(`http://localhost${url}`, {
+    method,
+    headers: body === undefined ? undefined : { "content-type": "application/json" },
+    body: body === undefined ? undefined : typeof body === "string" ? body : JSON.stringify(body),
+  });
+}
+
+export function params<T extends Record<string, string>>(value: T): { params: Promise<T> } {
+  return { params: Promise.resolve(value) };
+}

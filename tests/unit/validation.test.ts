@@ -1,0 +1,50 @@
+import { describe, expect, it } from "vitest";
+import { resetPasswordSchema, signUpSchema } from "@/lib/validation/auth";
+import { updateDerivationSchema } from "@/lib/validation/derivations";
+import { fieldErrorsOf, parseOrThrow } from "@/lib/validation/parse";
+import { inviteMemberSchema } from "@/lib/validation/teams";
+import { AppError } from "@/lib/errors";
+
+describe("request schemas", () => {
+  it("normalises a valid sign-up", () => {
+    const parsed = signUpSchema.parse({ name: "  Ada Kestrel ", email: " Ada@Example.TEST ", password: "long-enough-pass" });
+    expect(parsed.name).toBe("Ada Kestrel");
+    expect(parsed.email).toBe("Ada@Example.TEST");
+  });
+
+  it("reports every bad field at once", () => {
+    const result = signUpSchema.safeParse({ name: "", email: "not-an-address", password: "short" });
+    expect(result.success).toBe(false);
+    const fieldErrors = fieldErrorsOf(result.error!);
+    expect(Object.keys(fieldErrors).sort()).toEqual(["email", "name", "password"]);
+    expect(fieldErrors.password[0]).toMatch(/10 characters/);
+  });
+
+  it("requires the two new passwords to match", () => {
+    const result = resetPasswordSchema.safeParse({ token: "t", password: "long-enough-pass", confirmPassword: "long-enough-past" });
+    expect(result.success).toBe(false);
+    expect(fieldErrorsOf(result.error!).confirmPassword).toEqual(["The two passwords differ."]);
+  });
+
+  it("accepts only the four roles for an invitation", () => {
+    expect(inviteMemberSchema.safeParse({ email: "a@b.test", role: "viewer" }).success).toBe(true);
+    expect(inviteMemberSchema.safeParse({ email: "a@b.test", role: "owner" }).success).toBe(false);
+  });
+
+  it("refuses an empty derivation update", () => {
+    expect(updateDerivationSchema.safeParse({}).success).toBe(false);
+    expect(updateDerivationSchema.safeParse({ status: "in_review" }).success).toBe(true);
+    expect(updateDerivationSchema.safeParse({ status: "locked" }).success).toBe(false);
+  });
+
+  it("parseOrThrow raises bad_request:validation with field errors", () => {
+    try {
+      parseOrThrow(inviteMemberSchema, { email: "", role: "viewer" });
+      expect.unreachable("an empty e-mail must be refused");
+    } catch (error) {
+      expect(error).toBeInstanceOf(AppError);
+      expect((error as AppError).code).toBe("bad_request:validation");
+      expect((error as AppError).fieldErrors?.email?.length).toBeGreaterThan(0);
+    }
+  });
+});
