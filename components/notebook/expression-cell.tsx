@@ -16,10 +16,7 @@ const ENERGY: Record<EnergyCell["kind"], { symbol: string; latex: string; label:
   dissipation: { symbol: "D", latex: "D", label: "Dissipation function D", placeholder: "1/2*c*theta'^2" },
 };
 
-/**
- * The rendering under an editor. FALLBACK: `previewLatex` renders the typed
- * tree locally until the engine's lib/mechanics/latex.ts is in place.
- */
+/** The rendering under an editor, updated as the analyst types (the engine's LaTeX of the typed tree). */
 export function ExpressionPreview({ lhs, expr, testId }: { lhs: string; expr: string; testId?: string }) {
   const body = previewLatex(expr);
   if (body === null) return null;

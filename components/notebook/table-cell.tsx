@@ -173,7 +173,7 @@ export function TableCellEditor({ cell, symbols, duplicateNames, diagnostics = [
   );
 }
 
-/** Live rendering of `name = expr` under a definition (see latex-preview.ts: fallback until the engine's LaTeX lands). */
+/** Live rendering of `name = expr` under a definition, from the engine's LaTeX. */
 function DefinitionPreview({ name, expr }: { name: string; expr: string }) {
   const body = previewLatex(expr);
   if (!body || checkSymbolName(name).ok === false) return null;

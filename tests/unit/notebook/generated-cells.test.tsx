@@ -7,19 +7,16 @@ import { renderLatex, trustTermData } from "@/components/notebook/math";
 import { createCell, modelToDocument, type EquationsCell } from "@/lib/notebook/document";
 import type { NotebookResults } from "@/lib/notebook/results";
 import { templateModel } from "@/lib/notebook/templates";
+import { toLatexTerms } from "@/lib/mechanics/latex";
 
 afterEach(cleanup);
 
-// Hand-written LaTeX in the shape the engine emits (terms wrapped in \htmlData{term=ID}); the ids are
-// opaque strings to the notebook, so any stable ids will do here.
+// The equation's LaTeX comes from the engine's renderer, terms wrapped in \htmlData{term=ID}.
+const residual = "m*l^2*theta'' + m*g*l*sin(theta)";
+const rendered = toLatexTerms(residual);
+const [inertiaTerm, gravityTerm] = rendered.terms.map((term) => term.id) as [string, string];
 const results: NotebookResults = {
-  equations: [
-    {
-      coordinate: "theta",
-      residual: "m*l^2*theta'' + m*g*l*sin(theta)",
-      latex: "\\htmlData{term=t-a1}{m l^{2} \\ddot{\\theta}} + \\htmlData{term=t-b2}{m g l \\sin\\left(\\theta\\right)} = 0",
-    },
-  ],
+  equations: [{ coordinate: "theta", residual, latex: `${rendered.latex} = 0` }],
   massMatrixLatex: "\\begin{bmatrix} m l^{2} \\end{bmatrix} \\ddot{\\theta} = -m g l \\sin\\theta",
   timingMs: 3.2,
 };
@@ -30,7 +27,8 @@ describe("equations cell", () => {
   it("renders each term as an element addressable by its term id, reachable by keyboard", () => {
     const { container } = render(<EquationsCellView cell={cell} results={results} onOperation={() => {}} />);
     const terms = [...container.querySelectorAll<HTMLElement>("[data-term]")];
-    expect(terms.map((t) => t.dataset.term)).toEqual(["t-a1", "t-b2"]);
+    expect(terms.map((t) => t.dataset.term)).toEqual([inertiaTerm, gravityTerm]);
+    expect(terms[1]!.textContent).toContain("sin");
     expect(terms.every((t) => t.tabIndex === 0)).toBe(true);
   });
 
@@ -38,20 +36,20 @@ describe("equations cell", () => {
     const onTermFocus = vi.fn();
     const onTermSelect = vi.fn();
     const { container } = render(<EquationsCellView cell={cell} results={results} onOperation={() => {}} onTermFocus={onTermFocus} onTermSelect={onTermSelect} />);
-    const term = container.querySelector<HTMLElement>('[data-term="t-b2"]')!;
+    const term = container.querySelector<HTMLElement>(`[data-term="${gravityTerm}"]`)!;
     fireEvent.mouseOver(term.querySelector(".mord") ?? term);
-    expect(onTermFocus).toHaveBeenLastCalledWith("t-b2");
+    expect(onTermFocus).toHaveBeenLastCalledWith(gravityTerm);
     expect(term.classList.contains("hn-term-active")).toBe(true);
-    expect(container.querySelector('[data-term="t-a1"]')!.classList.contains("hn-term-active")).toBe(false);
+    expect(container.querySelector(`[data-term="${inertiaTerm}"]`)!.classList.contains("hn-term-active")).toBe(false);
     fireEvent.keyDown(term, { key: "Enter" });
-    expect(onTermSelect).toHaveBeenCalledWith("t-b2");
+    expect(onTermSelect).toHaveBeenCalledWith(gravityTerm);
     fireEvent.mouseLeave(screen.getByTestId("equations"));
     expect(term.classList.contains("hn-term-active")).toBe(false);
   });
 
   it("highlights a term chosen from outside", () => {
-    const { container } = render(<EquationsCellView cell={cell} results={results} onOperation={() => {}} activeTerm="t-a1" />);
-    expect(container.querySelector('[data-term="t-a1"]')!.classList.contains("hn-term-active")).toBe(true);
+    const { container } = render(<EquationsCellView cell={cell} results={results} onOperation={() => {}} activeTerm={inertiaTerm} />);
+    expect(container.querySelector(`[data-term="${inertiaTerm}"]`)!.classList.contains("hn-term-active")).toBe(true);
   });
 
   it("switches to the mass-matrix form through a settings operation", () => {
