@@ -106,7 +106,6 @@ export function ExpressionEditor(props: ExpressionEditorProps) {
       viewRef.current = null;
     };
     // The view is built once per mount on purpose; the effects below follow prop changes.
-    // eslint-disable-next-line react-hooks/exhaustive-deps
   }, []);
 
   useEffect(() => {
