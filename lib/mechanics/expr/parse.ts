@@ -18,6 +18,11 @@ export const DEFAULT_PARSE_LIMITS: ParseLimits = { maxLength: 8000, maxDepth: 60
 
 const FUNCTIONS: ReadonlySet<string> = new Set(FUNCTION_NAMES);
 
+// Sticky patterns match at lastIndex without copying the rest of the text,
+// which keeps tokenizing linear in the length of long engine-produced residuals.
+const NUMBER = /(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?/y;
+const NAME = /[A-Za-z_][A-Za-z0-9_]*/y;
+
 type Token =
   | { type: "num"; value: number; start: number; end: number }
   | { type: "id"; name: string; primes: number; start: number; end: number }
@@ -41,7 +46,8 @@ function tokenize(text: string): Token[] {
     }
     const start = i;
     if (/[0-9.]/.test(ch)) {
-      const match = /^(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?/.exec(text.slice(i));
+      NUMBER.lastIndex = i;
+      const match = NUMBER.exec(text);
       if (!match) throw new ExpressionError("parse", `malformed number`, start);
       i += match[0].length;
       if (i < text.length && /[A-Za-z_]/.test(text[i]!)) {
@@ -51,7 +57,8 @@ function tokenize(text: string): Token[] {
       continue;
     }
     if (/[A-Za-z_]/.test(ch)) {
-      const match = /^[A-Za-z_][A-Za-z0-9_]*/.exec(text.slice(i))!;
+      NAME.lastIndex = i;
+      const match = NAME.exec(text)!;
       i += match[0].length;
       let primes = 0;
       while (text[i] === "'") {
