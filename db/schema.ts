@@ -2,6 +2,7 @@ import { relations } from "drizzle-orm";
 import {
   boolean,
   index,
+  integer,
   jsonb,
   pgEnum,
   pgTable,
@@ -156,3 +157,24 @@ export const derivationsRelations = relations(derivations, ({ one }) => ({
   team: one(teams, { fields: [derivations.teamId], references: [teams.id] }),
   owner: one(users, { fields: [derivations.ownerId], references: [users.id] }),
 }));
+
+// Engine results of a notebook evaluation, shared by every derivation whose
+// model normalises to the same text. The key is the SHA-256 of the normalised
+// model, the evaluation settings and the engine version, so unchanged content
+// (in any derivation) is answered without running the engine again.
+export const evaluations = pgTable(
+  "evaluations",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    modelHash: text("model_hash").notNull().unique(),
+    engineVersion: text("engine_version").notNull(),
+    result: jsonb("result").$type<Record<string, unknown>>().notNull(),
+    // Milliseconds per stage of the run that produced the result.
+    timings: jsonb("timings").$type<Record<string, number>>().notNull().default({}),
+    hitCount: integer("hit_count").notNull().default(0),
+    ...timestamps,
+  },
+  (table) => [index("evaluations_updated_idx").on(table.updatedAt)],
+);
+export type Evaluation = typeof evaluations.$inferSelect;
+export type NewEvaluation = typeof evaluations.$inferInsert;
