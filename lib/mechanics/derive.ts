@@ -162,8 +162,8 @@ export function deriveCanonical(model: Model, options: DeriveOptions = {}): Cano
   });
   const dt = timeDerivative(alg);
   const definitions = canonicalDefinitions(analysis, alg, dt, parameters, coordinates);
-  const resolverFor = (field: string) => makeResolver(alg, dt, field, parameters, coordinates, definitions);
-  const canonicalOf = (tree: Expr | null | undefined, field: string) => (tree ? convert(alg, tree, field, resolverFor(field)) : alg.zero());
+  const resolve = makeResolver(alg, dt, parameters, coordinates, definitions);
+  const canonicalOf = (tree: Expr | null | undefined, field: string) => (tree ? convert(alg, tree, field, resolve) : alg.zero());
 
   const kinetic = canonicalOf(analysis.kinetic, "kinetic");
   const potential = canonicalOf(analysis.potential, "potential");
@@ -236,7 +236,7 @@ function convert(alg: Algebra, tree: Expr, field: string, resolve: (node: Symbol
 }
 
 /** Each definition's value, rate and acceleration, computed on demand in dependency order. */
-type DefinitionTable = Map<string, { field: string; values: (Poly | undefined)[]; base: Poly }>;
+type DefinitionTable = Map<string, { values: (Poly | undefined)[] }>;
 
 function canonicalDefinitions(
   analysis: ModelAnalysis,
@@ -249,8 +249,8 @@ function canonicalDefinitions(
   const definitions = analysis.model.definitions ?? [];
   for (const i of analysis.definitionOrder) {
     const field = `definitions[${i}].expr`;
-    const base = convert(alg, analysis.definitions[i]!, field, makeResolver(alg, dt, field, parameters, coordinates, table));
-    table.set(definitions[i]!.name, { field, values: [base], base });
+    const base = convert(alg, analysis.definitions[i]!, field, makeResolver(alg, dt, parameters, coordinates, table));
+    table.set(definitions[i]!.name, { values: [base] });
   }
   return table;
 }
@@ -258,7 +258,6 @@ function canonicalDefinitions(
 function makeResolver(
   alg: Algebra,
   dt: Derivation,
-  field: string,
   parameters: Map<string, number>,
   coordinates: Map<string, number>,
   definitions: DefinitionTable,
@@ -286,7 +285,6 @@ function makeResolver(
         throw error;
       }
     }
-    void field;
     return definition.values[node.order]!;
   };
 }
@@ -343,7 +341,7 @@ function legendreTransform(c: CanonicalDerivation, names: string[], maxSize: num
   const momenta = names.map((coordinate, i) => ({ coordinate, symbol: momentumSymbols[i]!.symbol }));
   const single = det.size === 1 ? det.values().next().value! : null;
   if (single && single.g === null) {
-    const h = alg.add(alg.mul(quadratic, alg.fromTerm(alg.termPower(single, -1))), alg.zero());
+    const h = alg.mul(quadratic, alg.fromTerm(alg.termPower(single, -1)));
     const total = alg.add(alg.scale(h, C.HALF), rest);
     return { available: true, expr: formatPoly(space, total), momenta };
   }

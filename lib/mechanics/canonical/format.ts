@@ -67,7 +67,6 @@ export function formatTerm(space: SymbolSpace, t: Term): string {
     else denominator.push(formatFactor(space, id, -e));
   }
   if (t.g !== null) numerator.push(formatTrig(space, t.g));
-  let top: string;
   let bottom: string | null = null;
   if (C.isExact(t.c)) {
     const n = Math.abs(t.c.n);
@@ -77,7 +76,7 @@ export function formatTerm(space: SymbolSpace, t: Term): string {
     const magnitude = Math.abs(value);
     if (magnitude !== 1 || numerator.length === 0) numerator.unshift(formatNumber(magnitude));
   }
-  top = numerator.join("*");
+  const top = numerator.join("*");
   if (denominator.length === 1) bottom = denominator[0]!;
   else if (denominator.length > 1) bottom = `(${denominator.join("*")})`;
   const text = bottom === null ? top : `${top}/${bottom}`;

@@ -61,8 +61,8 @@ export function mergeFactors(a: readonly number[], b: readonly number[]): number
       j += 2;
     }
   }
-  while (i < a.length) out.push(a[i]!, a[i + 1]!), (i += 2);
-  while (j < b.length) out.push(b[j]!, b[j + 1]!), (j += 2);
+  for (; i < a.length; i += 2) out.push(a[i]!, a[i + 1]!);
+  for (; j < b.length; j += 2) out.push(b[j]!, b[j + 1]!);
   return out;
 }
 
@@ -92,8 +92,8 @@ export function combineAngles(space: SymbolSpace, a: readonly number[], b: reado
       j += 2;
     }
   }
-  while (i < a.length) out.push(a[i]!, a[i + 1]!), (i += 2);
-  while (j < b.length) out.push(b[j]!, sign * b[j + 1]!), (j += 2);
+  for (; i < a.length; i += 2) out.push(a[i]!, a[i + 1]!);
+  for (; j < b.length; j += 2) out.push(b[j]!, sign * b[j + 1]!);
   return out;
 }
 
