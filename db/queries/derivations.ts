@@ -1,5 +1,5 @@
 import "server-only";
-import { and, desc, eq, ilike, type SQL } from "drizzle-orm";
+import { and, asc, count, desc, eq, ilike, sql, type SQL } from "drizzle-orm";
 import { alias } from "drizzle-orm/pg-core";
 import { db, type Executor } from "../client";
 import { derivations, users, type Derivation, type DerivationStatus } from "../schema";
@@ -13,11 +13,35 @@ export interface DerivationSummary {
   ownerId: string | null;
   ownerName: string | null;
   updatedByName: string | null;
+  /** Named coordinates in the content (notebook document or model file). */
+  coordinatesCount: number;
   createdAt: Date;
   updatedAt: Date;
 }
 
 const updater = alias(users, "updater");
+
+// Content is a notebook document (cells) or, for older rows, a model file
+// (coordinates array); count the named coordinates of either.
+const coordinatesCount = sql<number>`(case
+  when jsonb_typeof(${derivations.content}->'cells') = 'array' then (
+    select count(*) from jsonb_array_elements(${derivations.content}->'cells') as cell,
+      jsonb_array_elements(case when jsonb_typeof(cell->'rows') = 'array' then cell->'rows' else '[]'::jsonb end) as row
+    where cell->>'kind' = 'coordinates' and btrim(coalesce(row->>'name', '')) <> '')
+  when jsonb_typeof(${derivations.content}->'coordinates') = 'array' then jsonb_array_length(${derivations.content}->'coordinates')
+  else 0 end)::int`;
+
+export const derivationSortKeys = ["title", "status", "owner", "updatedAt", "createdAt", "coordinates"] as const;
+export type DerivationSortKey = (typeof derivationSortKeys)[number];
+
+const sortColumns: Record<DerivationSortKey, SQL | typeof derivations.title> = {
+  title: sql`lower(${derivations.title})`,
+  status: sql`${derivations.status}`,
+  owner: sql`lower(coalesce(${users.name}, ''))`,
+  updatedAt: sql`${derivations.updatedAt}`,
+  createdAt: sql`${derivations.createdAt}`,
+  coordinates: coordinatesCount,
+};
 
 const summaryColumns = {
   id: derivations.id,
@@ -27,33 +51,53 @@ const summaryColumns = {
   ownerId: derivations.ownerId,
   ownerName: users.name,
   updatedByName: updater.name,
+  coordinatesCount,
   createdAt: derivations.createdAt,
   updatedAt: derivations.updatedAt,
 };
 
-/** A team's derivations, most recently changed first, optionally filtered. */
-export async function getDerivationsByTeamId({
-  teamId,
-  status,
-  ownerId,
-  search,
-}: {
+interface DerivationFilters {
   teamId: string;
   status?: DerivationStatus;
   ownerId?: string;
   search?: string;
-}): Promise<DerivationSummary[]> {
+}
+
+function derivationFilters({ teamId, status, ownerId, search }: DerivationFilters): SQL | undefined {
   const filters: SQL[] = [eq(derivations.teamId, teamId)];
   if (status) filters.push(eq(derivations.status, status));
   if (ownerId) filters.push(eq(derivations.ownerId, ownerId));
   if (search) filters.push(ilike(derivations.title, `%${search.replace(/[\\%_]/g, (c) => `\\${c}`)}%`));
-  return db
+  return and(...filters);
+}
+
+/**
+ * A team's derivations, optionally filtered, sorted (default: most recently
+ * changed first) and paged (`page` from 1; all rows when `pageSize` is absent).
+ */
+export async function getDerivationsByTeamId({
+  sort = "updatedAt",
+  direction = sort === "updatedAt" || sort === "createdAt" ? "desc" : "asc",
+  page = 1,
+  pageSize,
+  ...filters
+}: DerivationFilters & { sort?: DerivationSortKey; direction?: "asc" | "desc"; page?: number; pageSize?: number }): Promise<DerivationSummary[]> {
+  const order = direction === "asc" ? asc : desc;
+  const query = db
     .select(summaryColumns)
     .from(derivations)
     .leftJoin(users, eq(users.id, derivations.ownerId))
     .leftJoin(updater, eq(updater.id, derivations.updatedById))
-    .where(and(...filters))
-    .orderBy(desc(derivations.updatedAt));
+    .where(derivationFilters(filters))
+    // The id breaks ties so pages never overlap.
+    .orderBy(order(sortColumns[sort]), desc(derivations.updatedAt), asc(derivations.id));
+  return pageSize === undefined ? query : query.limit(pageSize).offset((Math.max(1, page) - 1) * pageSize);
+}
+
+/** How many derivations match the same filters as getDerivationsByTeamId. */
+export async function countDerivationsByTeamId(filters: DerivationFilters): Promise<number> {
+  const [row] = await db.select({ total: count() }).from(derivations).where(derivationFilters(filters));
+  return row?.total ?? 0;
 }
 
 export async function getDerivationById({ id }: { id: string }, executor: Executor = db): Promise<(Derivation & { ownerName: string | null }) | null> {
@@ -128,4 +172,32 @@ export async function deleteDerivationById({ id, actorId }: { id: string; actorI
       );
     }
   });
+}
+
+/**
+ * Saves a derivation's content if nobody changed the row since `baseUpdatedAt`
+ * (compared to the millisecond, the precision a client sees). Returns null when
+ * the row moved on, so the caller can answer 409 and the client can merge.
+ * Autosave calls this every few seconds, so it is not written to the audit log;
+ * updated_by / updated_at say who edited last.
+ */
+export async function updateDerivationContentById({
+  id,
+  actorId,
+  content,
+  baseUpdatedAt,
+}: {
+  id: string;
+  actorId: string;
+  content: Record<string, unknown>;
+  baseUpdatedAt?: Date;
+}): Promise<Derivation | null> {
+  const conditions: SQL[] = [eq(derivations.id, id)];
+  if (baseUpdatedAt) conditions.push(sql`date_trunc('milliseconds', ${derivations.updatedAt}) = ${baseUpdatedAt.toISOString()}::timestamptz`);
+  const [derivation] = await db
+    .update(derivations)
+    .set({ content, updatedById: actorId, updatedAt: new Date() })
+    .where(and(...conditions))
+    .returning();
+  return derivation ?? null;
 }
