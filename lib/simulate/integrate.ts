@@ -384,6 +384,13 @@ class IntegrationRun {
       }
       this.timeReached = target;
       this.state = outcome.y;
+      // odex stops once it is within ten roundoffs of the target, possibly a
+      // hair short of it; output times in that gap take the final state.
+      const times = this.outputTimes;
+      while (this.filled < times.length && times[this.filled]! <= target) {
+        for (let c = 0; c < this.columns.length; c++) this.columns[c]![this.filled] = outcome.y[c]!;
+        this.filled++;
+      }
       if (target >= this.endTime) this.done = true;
     } catch (error) {
       if (error instanceof StopIntegration) {
