@@ -1,0 +1,49 @@
+// Public API of the simulation library (framework-free; runs in a Web Worker and in Node worker threads).
+// Worker entries are separate modules: browser-worker.ts and node-worker.ts.
+export { SingularMatrixError, SimulationSetupError, MeasuredDataError, FitError } from "./errors";
+export type { SimulationSetupErrorCode, MeasuredDataErrorCode, FitErrorCode } from "./errors";
+export { createLuWorkspace, factorInPlace, substituteInPlace, solveInPlace, DEFAULT_SINGULAR_TOLERANCE } from "./linear-solve";
+export type { LuWorkspace } from "./linear-solve";
+export { systemFromMassMatrixForm, systemFromDerivation, variableNames, layoutOf } from "./system";
+export type {
+  MechanicalSystem,
+  SystemParameter,
+  MassForcingEvaluator,
+  EnergyEvaluator,
+  SpecializedEvaluators,
+  MassMatrixForm,
+  ExpressionCompiler,
+  CompiledExpressions,
+  VariableLayout,
+} from "./system";
+export { integrate, integrateInSlices } from "./integrate";
+export type {
+  SimulationSettings,
+  SimulationResult,
+  SimulationFailure,
+  SimulationFailureReason,
+  SimulationProgress,
+  SimulationStats,
+  Trajectory,
+  NumericAssignment,
+  InputSignal,
+  CancelSignal,
+} from "./integrate";
+export { energyDrift, estimatePeriod, upwardCrossings, checkSmallOscillation, DEFAULT_ENERGY_DRIFT_THRESHOLD } from "./checks";
+export type { EnergyDriftReport, PeriodEstimate, SmallOscillationOptions, SmallOscillationReport } from "./checks";
+export { parseMeasuredCsv, resample, DEFAULT_MEASURED_LIMITS } from "./measured";
+export type { MeasuredData, MeasuredSeries, MeasuredDataOptions } from "./measured";
+export { fitParameters, fitParametersInSlices } from "./fit";
+export type { FitOptions, FitParameter, FitResult, FittedParameter, FitProgress, FitStatus } from "./fit";
+export { createWorkerHandler, errorPayload } from "./worker-protocol";
+export type {
+  WorkerRequest,
+  WorkerResponse,
+  SimulationJob,
+  FitJob,
+  SimulationOutcome,
+  FitOutcome,
+  WorkerErrorPayload,
+  SimulationSettingsMessage,
+  PostMessage,
+} from "./worker-protocol";
