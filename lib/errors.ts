@@ -6,6 +6,7 @@ export type ErrorKind =
   | "forbidden"
   | "not_found"
   | "conflict"
+  | "unprocessable"
   | "rate_limited"
   | "unavailable"
   | "internal";
@@ -23,7 +24,9 @@ export type ErrorSurface =
   | "derivation"
   | "database"
   | "mailbox"
-  | "mail";
+  | "mail"
+  | "model"
+  | "engine";
 
 export type ErrorCode = `${ErrorKind}:${ErrorSurface}`;
 
@@ -33,6 +36,7 @@ export const statusByKind: Record<ErrorKind, number> = {
   forbidden: 403,
   not_found: 404,
   conflict: 409,
+  unprocessable: 422,
   rate_limited: 429,
   unavailable: 503,
   internal: 500,
@@ -52,15 +56,18 @@ const kindMessages: Record<ErrorKind, string> = {
   forbidden: "Your role does not allow this.",
   not_found: "Not found.",
   conflict: "That conflicts with existing data.",
+  unprocessable: "The content cannot be processed as it stands.",
   rate_limited: "Too many requests. Try again later.",
   unavailable: "A service is not reachable right now.",
   internal: "Something went wrong on our side.",
 };
 
 export type FieldErrors = Record<string, string[]>;
+/** Structured extra information for the client, e.g. where in a model an error sits. */
+export type ErrorDetails = Record<string, unknown>;
 
 export interface ErrorBody {
-  error: { code: ErrorCode; message: string; fieldErrors?: FieldErrors };
+  error: { code: ErrorCode; message: string; fieldErrors?: FieldErrors; details?: ErrorDetails };
 }
 
 export class AppError extends Error {
@@ -69,11 +76,12 @@ export class AppError extends Error {
   readonly surface: ErrorSurface;
   readonly status: number;
   readonly fieldErrors?: FieldErrors;
+  readonly details?: ErrorDetails;
   // Next.js keeps a custom digest across the server/client boundary, so error
   // boundaries can tell "database down" apart from other failures in production.
   readonly digest: string;
 
-  constructor(code: ErrorCode, message?: string, options?: { fieldErrors?: FieldErrors; cause?: unknown }) {
+  constructor(code: ErrorCode, message?: string, options?: { fieldErrors?: FieldErrors; details?: ErrorDetails; cause?: unknown }) {
     const [kind, surface] = code.split(":") as [ErrorKind, ErrorSurface];
     super(message ?? defaultMessages[code] ?? kindMessages[kind], { cause: options?.cause });
     this.name = "AppError";
@@ -82,6 +90,7 @@ export class AppError extends Error {
     this.surface = surface;
     this.status = statusByKind[kind];
     this.fieldErrors = options?.fieldErrors;
+    this.details = options?.details;
     this.digest = `holonomy:${code}`;
   }
 
@@ -91,6 +100,7 @@ export class AppError extends Error {
         code: this.code,
         message: this.message,
         ...(this.fieldErrors ? { fieldErrors: this.fieldErrors } : {}),
+        ...(this.details ? { details: this.details } : {}),
       },
     };
   }
@@ -110,7 +120,7 @@ const errorKinds = new Set(Object.keys(statusByKind));
 export function appErrorFromBody(body: unknown, fallbackStatus: number): AppError {
   const error = (body as Partial<ErrorBody> | null)?.error;
   if (error && typeof error.code === "string" && errorKinds.has(error.code.split(":")[0])) {
-    return new AppError(error.code, error.message, { fieldErrors: error.fieldErrors });
+    return new AppError(error.code, error.message, { fieldErrors: error.fieldErrors, details: error.details });
   }
   const kind = (Object.entries(statusByKind).find(([, status]) => status === fallbackStatus)?.[0] ??
     "internal") as ErrorKind;

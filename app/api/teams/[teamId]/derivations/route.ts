@@ -1,4 +1,6 @@
-import { createDerivation, getDerivationsByTeamId } from "@/db/queries/derivations";
+import { countDerivationsByTeamId, createDerivation, getDerivationsByTeamId } from "@/db/queries/derivations";
+import { blankDocument } from "@/lib/notebook/document";
+import { templateDocument } from "@/lib/notebook/templates";
 import { apiRoute, readJson } from "@/lib/api/route";
 import { loadTeamFor } from "@/lib/auth/access";
 import { requireUser } from "@/lib/auth/session";
@@ -14,7 +16,12 @@ export const GET = apiRoute<Params>(async (request, { params }) => {
   await loadTeamFor(user, teamId, "derivation:read");
   const query = Object.fromEntries(new URL(request.url).searchParams);
   const filters = parseOrThrow(listDerivationsQuerySchema, query);
-  return Response.json({ derivations: await getDerivationsByTeamId({ teamId, ...filters }) });
+  const { page, pageSize, sort, direction, ...where } = filters;
+  const [derivations, total] = await Promise.all([
+    getDerivationsByTeamId({ teamId, ...where, sort, direction, page, pageSize }),
+    countDerivationsByTeamId({ teamId, ...where }),
+  ]);
+  return Response.json({ derivations, page, pageSize, total });
 });
 
 export const POST = apiRoute<Params>(async (request, { params }) => {
@@ -22,6 +29,12 @@ export const POST = apiRoute<Params>(async (request, { params }) => {
   const teamId = parseOrThrow(uuidField, (await params).teamId);
   await loadTeamFor(user, teamId, "derivation:create");
   const input = parseOrThrow(createDerivationSchema, await readJson(request));
-  const derivation = await createDerivation({ teamId, title: input.title, ownerId: user.id, content: input.content });
+  // A new derivation starts as a notebook document: blank, or from a template.
+  const content =
+    input.content ??
+    (input.template && input.template !== "blank"
+      ? { ...templateDocument(input.template, { links: input.links }), title: input.title }
+      : blankDocument(input.title));
+  const derivation = await createDerivation({ teamId, title: input.title, ownerId: user.id, content: content as unknown as Record<string, unknown> });
   return Response.json({ derivation }, { status: 201 });
 });

@@ -1,0 +1,39 @@
+import { apiRoute } from "@/lib/api/route";
+import { loadDerivationFor } from "@/lib/auth/access";
+import { requireUser } from "@/lib/auth/session";
+import { documentFromContent, modelFromDocument } from "@/lib/engine/document-content";
+import { downloadResponse } from "@/lib/engine/download";
+import { codeExportInput, codeFileName, engineCodeLanguage } from "@/lib/engine/evaluate";
+import { engineErrorToAppError, evaluateDocumentCached } from "@/lib/engine/evaluation-service";
+import { getEnginePool } from "@/lib/engine/pool";
+import { parseOrThrow } from "@/lib/validation/parse";
+import { derivationIdOf } from "../derivation-id";
+import { codeQuerySchema } from "./schema";
+
+type Params = { id: string };
+
+/**
+ * Downloads M, f, the accelerations and A, B as code. The engine writes the
+ * safety note into the file's comment header.
+ */
+export const GET = apiRoute<Params>(async (request, { params }) => {
+  const user = await requireUser();
+  const id = await derivationIdOf(params);
+  const { derivation } = await loadDerivationFor(user, id, "derivation:read");
+  const query = parseOrThrow(codeQuerySchema, Object.fromEntries(new URL(request.url).searchParams));
+  const language = engineCodeLanguage(query.language);
+  const document = documentFromContent(derivation.content, derivation.title);
+  const model = modelFromDocument(document);
+  if (!model.title.trim()) model.title = derivation.title;
+  const { result } = await evaluateDocumentCached({ document });
+  const cached = result.code?.find((entry) => engineCodeLanguage(entry.language as "octave") === language);
+  let source = cached?.source;
+  if (source === undefined) {
+    try {
+      ({ code: source } = await getEnginePool().run<{ code: string }>("exportCode", { input: codeExportInput(model, result), language }));
+    } catch (error) {
+      throw engineErrorToAppError(error);
+    }
+  }
+  return downloadResponse(source, { filename: codeFileName(model.title, language), contentType: "text/plain" });
+});

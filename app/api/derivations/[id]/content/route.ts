@@ -1,0 +1,33 @@
+import { updateDerivationContentById } from "@/db/queries/derivations";
+import { apiRoute, readJson } from "@/lib/api/route";
+import { loadDerivationFor } from "@/lib/auth/access";
+import { requireUser } from "@/lib/auth/session";
+import { AppError } from "@/lib/errors";
+import { parseOrThrow } from "@/lib/validation/parse";
+import { derivationIdOf } from "../derivation-id";
+import { documentOrFieldErrors, saveContentSchema } from "./schema";
+
+type Params = { id: string };
+
+/** Autosave target: stores the notebook document; 409 when the row changed since the client's copy. */
+export const PUT = apiRoute<Params>(async (request, { params }) => {
+  const user = await requireUser();
+  const id = await derivationIdOf(params);
+  await loadDerivationFor(user, id, "derivation:edit");
+  const input = parseOrThrow(saveContentSchema, await readJson(request));
+  const parsed = documentOrFieldErrors(input.document);
+  if (!parsed.ok) throw new AppError("bad_request:validation", "The notebook document is not valid.", { fieldErrors: parsed.fieldErrors });
+  const saved = await updateDerivationContentById({
+    id,
+    actorId: user.id,
+    content: parsed.document as unknown as Record<string, unknown>,
+    baseUpdatedAt: input.baseUpdatedAt ? new Date(input.baseUpdatedAt) : undefined,
+  });
+  if (!saved) {
+    const { derivation } = await loadDerivationFor(user, id, "derivation:read");
+    throw new AppError("conflict:derivation", "Someone else saved this derivation since your copy was loaded.", {
+      details: { updatedAt: derivation.updatedAt.toISOString(), updatedById: derivation.updatedById },
+    });
+  }
+  return Response.json({ updatedAt: saved.updatedAt.toISOString(), updatedById: saved.updatedById });
+});

@@ -1,0 +1,20 @@
+import { z } from "zod";
+import { parseStoredDocument, type DerivationDocument } from "@/lib/notebook/document";
+
+/**
+ * PUT /api/derivations/[id]/content: the whole notebook document, and the
+ * updatedAt the client's copy is based on (omit it to overwrite regardless).
+ */
+export const saveContentSchema = z.object({
+  document: z.unknown(),
+  baseUpdatedAt: z.iso.datetime({ offset: true, error: "Send the updatedAt your copy is based on, as an ISO date-time." }).optional(),
+});
+
+/** The document schema's issues as field errors keyed `document.<path>`. */
+export function documentOrFieldErrors(input: unknown): { ok: true; document: DerivationDocument } | { ok: false; fieldErrors: Record<string, string[]> } {
+  const parsed = parseStoredDocument(input);
+  if (parsed.ok) return parsed;
+  const fieldErrors: Record<string, string[]> = {};
+  for (const issue of parsed.issues.slice(0, 50)) (fieldErrors[issue.path ? `document.${issue.path}` : "document"] ??= []).push(issue.message);
+  return { ok: false, fieldErrors };
+}

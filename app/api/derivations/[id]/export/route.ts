@@ -1,0 +1,30 @@
+import { apiRoute } from "@/lib/api/route";
+import { loadDerivationFor } from "@/lib/auth/access";
+import { requireUser } from "@/lib/auth/session";
+import { documentFromContent, modelFromDocument } from "@/lib/engine/document-content";
+import { downloadResponse, fileBaseName } from "@/lib/engine/download";
+import { evaluateDocumentCached } from "@/lib/engine/evaluation-service";
+import { latexDocument } from "@/lib/engine/latex-document";
+import { parseOrThrow } from "@/lib/validation/parse";
+import { derivationIdOf } from "../derivation-id";
+import { exportQuerySchema } from "./schema";
+
+type Params = { id: string };
+
+/** Downloads the derivation as a model file, or its equations as a LaTeX document. */
+export const GET = apiRoute<Params>(async (request, { params }) => {
+  const user = await requireUser();
+  const id = await derivationIdOf(params);
+  const { derivation } = await loadDerivationFor(user, id, "derivation:read");
+  const { format } = parseOrThrow(exportQuerySchema, Object.fromEntries(new URL(request.url).searchParams));
+  const document = documentFromContent(derivation.content, derivation.title);
+  const model = modelFromDocument(document);
+  if (!model.title.trim()) model.title = derivation.title;
+  const base = fileBaseName(model.title || derivation.title);
+  if (format === "model") {
+    return downloadResponse(`${JSON.stringify(model, null, 2)}\n`, { filename: `${base}.model.json`, contentType: "application/json" });
+  }
+  // The equations come from the (cached) evaluation; a model that does not derive is a 422.
+  const { result } = await evaluateDocumentCached({ document });
+  return downloadResponse(latexDocument(model, result), { filename: `${base}.tex`, contentType: "application/x-tex" });
+});

@@ -1,0 +1,44 @@
+import { apiRoute } from "@/lib/api/route";
+import { loadDerivationFor } from "@/lib/auth/access";
+import { requireUser } from "@/lib/auth/session";
+import { documentFromContent } from "@/lib/engine/document-content";
+import { evaluateDocumentCached } from "@/lib/engine/evaluation-service";
+import { readOptionalJson } from "@/lib/engine/optional-json";
+import { AppError } from "@/lib/errors";
+import { parseOrThrow } from "@/lib/validation/parse";
+import { documentOrFieldErrors } from "../content/schema";
+import { derivationIdOf } from "../derivation-id";
+import { linearizeSchema } from "./schema";
+
+type Params = { id: string };
+
+/**
+ * Linearizes about another equilibrium or input without saving the choice:
+ * the same cached evaluation as /evaluate with these settings, answered with
+ * its linearization part.
+ */
+export const POST = apiRoute<Params>(async (request, { params }) => {
+  const user = await requireUser();
+  const id = await derivationIdOf(params);
+  const { derivation } = await loadDerivationFor(user, id, "derivation:read");
+  const input = parseOrThrow(linearizeSchema, await readOptionalJson(request));
+  let document;
+  if (input.document !== undefined) {
+    const parsed = documentOrFieldErrors(input.document);
+    if (!parsed.ok) throw new AppError("bad_request:validation", "The notebook document is not valid.", { fieldErrors: parsed.fieldErrors });
+    document = parsed.document;
+  } else {
+    document = documentFromContent(derivation.content, derivation.title);
+  }
+  const evaluation = await evaluateDocumentCached({ document, linearization: { equilibriumIndex: input.equilibriumIndex, inputValues: input.inputValues } });
+  const { result } = evaluation;
+  return Response.json({
+    cached: evaluation.cached,
+    modelHash: evaluation.modelHash,
+    timings: evaluation.timings,
+    requestMs: evaluation.requestMs,
+    linearization: result.linearization ?? null,
+    equilibria: result.equilibria ?? [],
+    ...(result.linearizationNote ? { note: result.linearizationNote } : {}),
+  });
+});

@@ -1,0 +1,88 @@
+import { createDerivation } from "@/db/queries/derivations";
+import { apiRoute } from "@/lib/api/route";
+import { loadTeamFor } from "@/lib/auth/access";
+import { requireUser } from "@/lib/auth/session";
+import { modelErrorToAppError } from "@/lib/engine/document-content";
+import { engineErrorToAppError } from "@/lib/engine/evaluation-service";
+import { getEnginePool } from "@/lib/engine/pool";
+import { ModelError } from "@/lib/mechanics/errors";
+import { validateModel } from "@/lib/mechanics/validate-model";
+import { modelToDocument } from "@/lib/notebook/document";
+import { AppError } from "@/lib/errors";
+import { uuidField } from "@/lib/validation/fields";
+import { parseOrThrow } from "@/lib/validation/parse";
+import { importOptionsSchema, MAX_MODEL_FILE_LENGTH } from "./schema";
+
+type Params = { teamId: string };
+
+function fileProblem(reason: string): AppError {
+  return new AppError("unprocessable:model", `file: ${reason}`, {
+    fieldErrors: { file: [reason] },
+    details: { diagnostics: [{ code: "schema", field: "file", column: null, length: 1, message: reason }] },
+  });
+}
+
+async function readUpload(request: Request): Promise<{ text: string; title?: string } | { model: unknown; title?: string }> {
+  const type = request.headers.get("content-type") ?? "";
+  if (type.startsWith("multipart/form-data")) {
+    const form = await request.formData().catch(() => {
+      throw new AppError("bad_request:validation", "The upload could not be read.");
+    });
+    const file = form.get("file");
+    if (!file || typeof file === "string") throw new AppError("bad_request:validation", undefined, { fieldErrors: { file: ["Choose a .model.json file."] } });
+    if (file.size > MAX_MODEL_FILE_LENGTH) throw fileProblem(`the file is ${file.size} bytes; the limit is ${MAX_MODEL_FILE_LENGTH}`);
+    const title = form.get("title");
+    return { text: await file.text(), title: typeof title === "string" && title.trim() !== "" ? title : undefined };
+  }
+  const text = await request.text();
+  if (text.length > MAX_MODEL_FILE_LENGTH) throw fileProblem(`the body is ${text.length} characters; the limit is ${MAX_MODEL_FILE_LENGTH}`);
+  let body: unknown;
+  try {
+    body = JSON.parse(text);
+  } catch {
+    throw new AppError("bad_request:validation", "The request body must be a JSON object.");
+  }
+  if (body !== null && typeof body === "object" && "model" in body) {
+    const { model, title } = body as { model: unknown; title?: unknown };
+    return { model, title: typeof title === "string" ? title : undefined };
+  }
+  return { model: body };
+}
+
+/**
+ * Imports a model file as a new derivation. The file is validated in full
+ * (schema with field and reason, then units) before anything is written, and
+ * the derivation is created in one transaction.
+ */
+export const POST = apiRoute<Params>(async (request, { params }) => {
+  const user = await requireUser();
+  const teamId = parseOrThrow(uuidField, (await params).teamId);
+  await loadTeamFor(user, teamId, "derivation:create");
+  const upload = await readUpload(request);
+  let raw: unknown;
+  if ("text" in upload) {
+    try {
+      raw = JSON.parse(upload.text);
+    } catch (error) {
+      throw fileProblem(`not JSON (${error instanceof Error ? error.message : "parse error"})`);
+    }
+  } else raw = upload.model;
+  const options = parseOrThrow(importOptionsSchema, { title: upload.title });
+
+  let model;
+  try {
+    model = validateModel(raw);
+  } catch (error) {
+    if (error instanceof ModelError) throw modelErrorToAppError(error);
+    throw error;
+  }
+  try {
+    await getEnginePool().run("checkUnits", { model });
+  } catch (error) {
+    throw engineErrorToAppError(error);
+  }
+  const title = (options.title ?? model.title).trim().slice(0, 160) || "Imported derivation";
+  const document = modelToDocument({ ...model, title });
+  const derivation = await createDerivation({ teamId, title, ownerId: user.id, content: document as unknown as Record<string, unknown> });
+  return Response.json({ derivation }, { status: 201 });
+});

@@ -1,0 +1,303 @@
+/**
+ * Server-side evaluation of a notebook: the document's model is derived in the
+ * engine's worker threads, and the results are assembled into what the
+ * notebook renders (NotebookResults). Results are keyed by a SHA-256 of the
+ * normalised model, the evaluation settings and the engine version, so the
+ * route and the demo seed can cache them in PostgreSQL.
+ */
+import { createHash } from "node:crypto";
+import type { CodeExportInput, CodeLanguage } from "@/lib/mechanics/codegen";
+import type { DerivationResult } from "@/lib/mechanics/derive";
+import type { Equilibrium } from "@/lib/mechanics/equilibria";
+import { symbolLatex, toLatex, type LatexTerm } from "@/lib/mechanics/latex";
+import type { Linearization, MechanicalSystem } from "@/lib/mechanics/linearize";
+import type { Model } from "@/lib/mechanics/model";
+import type { CodeExportLanguage, DerivationDocument, LinearizationCell } from "@/lib/notebook/document";
+import type { NotebookResults } from "@/lib/notebook/results";
+
+/** Anything that runs the engine's named tasks: the server's EnginePool, or an in-process stand-in. */
+export interface EngineRunner {
+  run<T = unknown>(task: string, payload: unknown): Promise<T>;
+}
+
+/** Equilibrium choice and input values for the linearization. */
+export interface LinearizationSettings {
+  equilibriumIndex: number;
+  /** Input values by name; missing or blank means 0. */
+  inputValues: Record<string, string | number>;
+}
+
+export interface EvaluationSettings {
+  linearization: LinearizationSettings;
+  /** Languages of the document's code-export cells, as the document names them. */
+  codeLanguages: CodeExportLanguage[];
+}
+
+export interface EvaluationTimings {
+  deriveMs: number;
+  latexMs: number;
+  analysisMs: number;
+  codeMs: number;
+  totalMs: number;
+}
+
+/** What the evaluate API answers with besides the cache flag. */
+export interface EvaluationResult extends NotebookResults {
+  equations: (NotebookResults["equations"][number] & { terms: LatexTerm[] })[];
+  coordinates: string[];
+  /** M and f in the input syntax (residual = M q'' − f), for code export and the API. */
+  massMatrix: string[][];
+  forcing: string[];
+  /** Why there is no linearization (symbolic parameters, no equilibrium found…); absent when there is one. */
+  linearizationNote?: string;
+  equilibria?: (Equilibrium & { label: string })[];
+}
+
+/** The largest system whose accelerations are written out symbolically (Cramer's rule). */
+export const MAX_SOLVED_ACCELERATIONS = 2;
+/** Longest acceleration text shown; a longer one would not be readable. */
+const MAX_ACCELERATION_TEXT = 4000;
+
+const CODE_LANGUAGE_OF: Record<CodeExportLanguage, CodeLanguage> = {
+  python: "python",
+  typescript: "typescript",
+  c: "c",
+  julia: "julia",
+  octave: "matlab",
+};
+const CODE_EXTENSION: Record<CodeLanguage, string> = { python: "py", typescript: "ts", c: "c", julia: "jl", matlab: "m" };
+
+/** The engine's language for a code language as the document or the code route names it. */
+export function engineCodeLanguage(language: CodeExportLanguage | CodeLanguage): CodeLanguage {
+  return language === "octave" ? "matlab" : language;
+}
+
+export function codeFileName(title: string, language: CodeLanguage): string {
+  const base = title.toLowerCase().replace(/[^a-z0-9]+/g, "_").replace(/^_+|_+$/g, "").slice(0, 60) || "model";
+  return `${base}.${CODE_EXTENSION[language]}`;
+}
+
+/** The settings a document asks for: its first linearization cell and its code-export cells. */
+export function settingsOfDocument(doc: DerivationDocument, override?: Partial<LinearizationSettings>): EvaluationSettings {
+  const cell = doc.cells.find((c): c is LinearizationCell => c.kind === "linearization");
+  const linearization = {
+    equilibriumIndex: override?.equilibriumIndex ?? cell?.settings.equilibriumIndex ?? 0,
+    inputValues: override?.inputValues ?? cell?.settings.inputValues ?? {},
+  };
+  const codeLanguages = [...new Set(doc.cells.flatMap((c) => (c.kind === "code-export" ? [c.settings.language] : [])))].sort();
+  return { linearization, codeLanguages };
+}
+
+/** The model with what cannot change a result removed (descriptions) and strings trimmed, keys sorted. */
+export function normalizeModel(model: Model): unknown {
+  const named = (entry: { name: string; unit: string; value?: number }) => ({
+    name: entry.name.trim(),
+    unit: entry.unit.trim(),
+    ...(entry.value !== undefined ? { value: entry.value } : {}),
+  });
+  return {
+    title: model.title.trim(),
+    coordinates: model.coordinates.map(named),
+    parameters: model.parameters.map(named),
+    inputs: (model.inputs ?? []).map(named),
+    definitions: (model.definitions ?? []).map((d) => ({ name: d.name.trim(), expr: d.expr.trim() })),
+    kinetic: model.kinetic.trim(),
+    potential: model.potential.trim(),
+    dissipation: (model.dissipation ?? "").trim(),
+    forces: Object.fromEntries(Object.entries(model.forces ?? {}).map(([k, v]) => [k.trim(), v.trim()]).sort(([a], [b]) => (a < b ? -1 : 1))),
+  };
+}
+
+function stableStringify(value: unknown): string {
+  if (Array.isArray(value)) return `[${value.map(stableStringify).join(",")}]`;
+  if (value !== null && typeof value === "object") {
+    const entries = Object.entries(value as Record<string, unknown>).sort(([a], [b]) => (a < b ? -1 : a > b ? 1 : 0));
+    return `{${entries.map(([k, v]) => `${JSON.stringify(k)}:${stableStringify(v)}`).join(",")}}`;
+  }
+  return JSON.stringify(value);
+}
+
+/** The cache key: SHA-256 of the normalised model, the settings that change the result, and the engine version. */
+export function evaluationHash(model: Model, settings: EvaluationSettings, engineVersion: string): string {
+  const inputValues = Object.fromEntries(
+    (model.inputs ?? []).map((input) => [input.name.trim(), numberOrZero(settings.linearization.inputValues[input.name])]),
+  );
+  const key = {
+    engineVersion,
+    model: normalizeModel(model),
+    linearization: { equilibriumIndex: settings.linearization.equilibriumIndex, inputValues },
+    code: settings.codeLanguages,
+  };
+  return createHash("sha256").update(stableStringify(key)).digest("hex");
+}
+
+function numberOrZero(value: string | number | undefined): number {
+  if (typeof value === "number") return Number.isFinite(value) ? value : 0;
+  const trimmed = (value ?? "").trim();
+  const parsed = trimmed === "" ? 0 : Number(trimmed);
+  return Number.isFinite(parsed) ? parsed : Number.NaN;
+}
+
+const wrap = (text: string) => `(${text})`;
+
+/**
+ * q'' written out by Cramer's rule for one or two coordinates (M q'' = f), or
+ * null when the system is larger or the result too long to read.
+ */
+export function solvedAccelerations(result: DerivationResult): { coordinate: string; expr: string }[] | null {
+  const n = result.coordinates.length;
+  const M = result.massMatrix.map((row) => row.map(wrap));
+  const f = result.forcing.map(wrap);
+  let exprs: string[];
+  if (n === 1) exprs = [`${f[0]}/${M[0]![0]}`];
+  else if (n === 2) {
+    const det = `(${M[0]![0]}*${M[1]![1]} - ${M[0]![1]}*${M[1]![0]})`;
+    exprs = [`(${M[1]![1]}*${f[0]} - ${M[0]![1]}*${f[1]})/${det}`, `(${M[0]![0]}*${f[1]} - ${M[1]![0]}*${f[0]})/${det}`];
+  } else return null;
+  if (exprs.some((e) => e.length > MAX_ACCELERATION_TEXT)) return null;
+  return exprs.map((expr, i) => ({ coordinate: result.coordinates[i]!, expr }));
+}
+
+function bmatrix(rows: string[][]): string {
+  return `\\begin{bmatrix}${rows.map((row) => row.join(" & ")).join(" \\\\ ")}\\end{bmatrix}`;
+}
+
+/** M(q) q'' = f as one LaTeX display. */
+export function massMatrixLatex(result: DerivationResult): string {
+  const mass = bmatrix(result.massMatrix.map((row) => row.map((entry) => toLatex(entry))));
+  const accelerations = bmatrix(result.coordinates.map((name) => [symbolLatex(name, 2)]));
+  const forcing = bmatrix(result.forcing.map((entry) => [toLatex(entry)]));
+  return `${mass}${accelerations} = ${forcing}`;
+}
+
+/** The system with numbers for the parameters, or the reason there is none. */
+export function mechanicalSystemOf(model: Model, result: DerivationResult): MechanicalSystem | { reason: string } {
+  const symbolic = model.parameters.filter((p) => p.value === undefined).map((p) => p.name);
+  if (symbolic.length > 0) return { reason: `Give ${symbolic.join(", ")} a value to find equilibria and linearize.` };
+  return {
+    coordinates: result.coordinates,
+    coordinateUnits: model.coordinates.map((c) => c.unit),
+    inputs: (model.inputs ?? []).map((u) => u.name),
+    massMatrix: result.massMatrix,
+    forcing: result.forcing,
+    parameters: Object.fromEntries(model.parameters.map((p) => [p.name, p.value!])),
+  };
+}
+
+function equilibriumLabel(names: readonly string[], q: readonly number[], stability: string): string {
+  const values = names.map((name, i) => `${name} = ${Number(q[i]!.toPrecision(6))}`).join(", ");
+  return `${values} (${stability})`;
+}
+
+/** Equilibria, then the linearization about the chosen one, with frequencies and mode shapes. */
+export async function analyseSystem(
+  runner: EngineRunner,
+  system: MechanicalSystem,
+  settings: LinearizationSettings,
+): Promise<{ linearization?: NotebookResults["linearization"]; equilibria: (Equilibrium & { label: string })[]; note?: string }> {
+  const inputValues = (system.inputs ?? []).map((name) => numberOrZero(settings.inputValues[name]));
+  const badInput = (system.inputs ?? []).find((_, i) => Number.isNaN(inputValues[i]!));
+  if (badInput) return { equilibria: [], note: `The value of input ${badInput} is not a number.` };
+  const found = await runner.run<Equilibrium[]>("equilibria", { system, options: { inputs: inputValues } });
+  const equilibria = found.map((e) => ({ ...e, label: equilibriumLabel(system.coordinates, e.q, e.stability) }));
+  const listed = equilibria.map((e) => ({ label: e.label, values: Object.fromEntries(system.coordinates.map((name, i) => [name, e.q[i]!])) }));
+  if (equilibria.length === 0) return { equilibria, linearization: { equilibria: listed }, note: "No equilibrium was found for these parameter and input values." };
+  const index = Math.min(Math.max(0, settings.equilibriumIndex), equilibria.length - 1);
+  const chosen = equilibria[index]!;
+  const lin = await runner.run<Linearization>("linearize", { system, point: { q: chosen.q, inputs: inputValues } });
+  const oscillating = lin.modes.filter((mode) => mode.hertz !== null);
+  return {
+    equilibria,
+    linearization: {
+      equilibria: listed,
+      selected: {
+        index,
+        stateNames: lin.state,
+        inputNames: lin.inputs,
+        A: lin.A,
+        B: lin.B,
+        frequenciesHz: oscillating.map((mode) => mode.hertz!),
+        // Columns are modes, rows are coordinates.
+        modeShapes: system.coordinates.map((_, i) => oscillating.map((mode) => mode.shape[i]!)),
+        stable: chosen.stability === "stable",
+      },
+    },
+  };
+}
+
+/** The code-export input for a derivation result. */
+export function codeExportInput(model: Model, result: Pick<DerivationResult, "coordinates" | "massMatrix" | "forcing">): CodeExportInput {
+  return {
+    title: model.title,
+    coordinates: result.coordinates,
+    parameters: model.parameters.map((p) => ({ name: p.name, unit: p.unit, ...(p.value !== undefined ? { value: p.value } : {}) })),
+    inputs: (model.inputs ?? []).map((u) => u.name),
+    massMatrix: result.massMatrix,
+    forcing: result.forcing,
+  };
+}
+
+/**
+ * Runs the whole evaluation of a model. ModelError (invalid model, unit
+ * mismatch) propagates from the worker for the caller to turn into a 422.
+ */
+export async function evaluateModel(runner: EngineRunner, model: Model, settings: EvaluationSettings): Promise<{ result: EvaluationResult; timings: EvaluationTimings }> {
+  const started = performance.now();
+  const derived = await runner.run<DerivationResult>("derive", { model });
+  const afterDerive = performance.now();
+
+  const rendered = await runner.run<{ latex: string; terms: LatexTerm[] }[]>("latex", { expressions: derived.equations.map((e) => e.residual) });
+  const equations = derived.equations.map((equation, i) => ({
+    coordinate: equation.coordinate,
+    residual: equation.residual,
+    latex: `${rendered[i]!.latex} = 0`,
+    terms: rendered[i]!.terms,
+  }));
+  const solved = solvedAccelerations(derived);
+  const accelerations = solved?.map(({ coordinate, expr }) => ({ coordinate, latex: `${symbolLatex(coordinate, 2)} = ${toLatex(expr)}` }));
+  const conserved = derived.conserved.map((quantity) => ({ name: quantity.name, latex: toLatex(quantity.expr), reason: quantity.reason }));
+  const afterLatex = performance.now();
+
+  const system = mechanicalSystemOf(model, derived);
+  const analysis = "reason" in system ? { equilibria: [], note: system.reason } : await analyseSystem(runner, system, settings.linearization);
+  const afterAnalysis = performance.now();
+
+  const input = codeExportInput(model, derived);
+  const code = [];
+  for (const language of settings.codeLanguages) {
+    const engineLanguage = CODE_LANGUAGE_OF[language];
+    const { code: source } = await runner.run<{ code: string }>("exportCode", { input, language: engineLanguage });
+    code.push({ language, filename: codeFileName(model.title, engineLanguage), source });
+  }
+  const finished = performance.now();
+
+  const timings: EvaluationTimings = {
+    deriveMs: round(afterDerive - started),
+    latexMs: round(afterLatex - afterDerive),
+    analysisMs: round(afterAnalysis - afterLatex),
+    codeMs: round(finished - afterAnalysis),
+    totalMs: round(finished - started),
+  };
+  const result: EvaluationResult = {
+    coordinates: derived.coordinates,
+    massMatrix: derived.massMatrix,
+    forcing: derived.forcing,
+    equations,
+    massMatrixLatex: massMatrixLatex(derived),
+    ...(accelerations
+      ? { accelerations }
+      : { accelerationsNote: `Accelerations are written out for up to ${MAX_SOLVED_ACCELERATIONS} coordinates; use the mass-matrix form or the code export for this system.` }),
+    energyLatex: toLatex(derived.energy),
+    conserved,
+    ...(analysis.linearization ? { linearization: analysis.linearization } : {}),
+    ...(analysis.note ? { linearizationNote: analysis.note } : {}),
+    equilibria: analysis.equilibria,
+    ...(code.length > 0 ? { code } : {}),
+    timingMs: timings.totalMs,
+  };
+  return { result, timings };
+}
+
+function round(ms: number): number {
+  return Math.round(ms * 100) / 100;
+}
