@@ -7,7 +7,7 @@
  * visible but are marked stale (the frame shows the marker, the body dims).
  */
 import clsx from "clsx";
-import { useEffect, useRef, useState, type ReactNode } from "react";
+import { useEffect, useReducer, useRef, useState, type ReactNode } from "react";
 import {
   CODE_EXPORT_LANGUAGES,
   EQUATION_FORMS,
@@ -62,6 +62,8 @@ export function EquationsCellView({ cell, results, evaluating, readOnly, onOpera
   const containerRef = useRef<HTMLDivElement>(null);
   const [hovered, setHovered] = useState<string | null>(null);
   const shown = hovered ?? activeTerm;
+  // Equations typeset lazily; each one re-renders this cell so its terms get decorated below.
+  const [, typeset] = useReducer((count: number) => count + 1, 0);
   const form = cell.settings.form;
 
   // Terms are spans KaTeX wrote from \htmlData{term=ID}; make them reachable by keyboard too.
@@ -95,7 +97,7 @@ export function EquationsCellView({ cell, results, evaluating, readOnly, onOpera
         <div className="text-xs text-muted">
           Equation for <span className="font-mono">{equation.coordinate}</span>
         </div>
-        <MathView latex={equation.latex} display label={`Euler–Lagrange equation for ${equation.coordinate}`} />
+        <MathView latex={equation.latex} display label={`Euler–Lagrange equation for ${equation.coordinate}`} onTypeset={typeset} />
       </div>
     ));
   } else if (form === "mass-matrix") {

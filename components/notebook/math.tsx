@@ -7,7 +7,8 @@
  */
 import katex from "katex";
 import clsx from "clsx";
-import { memo, useMemo } from "react";
+import { memo, useEffect, useMemo, useRef } from "react";
+import { useNearViewport } from "./use-near-viewport";
 
 const TERM_ID = /^[A-Za-z0-9_.:-]{1,96}$/;
 
@@ -23,18 +24,35 @@ export function trustTermData(context: { command: string; attributes?: Record<st
   return key === "data-term" && TERM_ID.test(value);
 }
 
+/**
+ * Macro expansions allowed for LaTeX the engine wrote (every `\,` counts, so a
+ * long chain equation needs thousands) and for LaTeX an analyst typed in a note.
+ */
+export const ENGINE_MAX_EXPAND = 100_000;
+export const NOTE_MAX_EXPAND = 1_000;
+
+// The same LaTeX is rendered again whenever a notebook remounts; keep recent results.
+const cache = new Map<string, string>();
+const CACHE_LIMIT = 300;
+
 /** HTML for a LaTeX string; a LaTeX error renders as the source in the error colour, never throws. */
-export function renderLatex(latex: string, display = false): string {
-  return katex.renderToString(latex, {
+export function renderLatex(latex: string, display = false, maxExpand = ENGINE_MAX_EXPAND): string {
+  const key = `${display ? "D" : "I"}${maxExpand}:${latex}`;
+  const hit = cache.get(key);
+  if (hit !== undefined) return hit;
+  const html = katex.renderToString(latex, {
     displayMode: display,
     throwOnError: false,
     errorColor: "var(--danger, #b3261e)",
     trust: trustTermData,
     strict: "ignore",
     maxSize: 20,
-    maxExpand: 200,
+    maxExpand,
     output: "htmlAndMathml",
   });
+  if (cache.size >= CACHE_LIMIT) cache.delete(cache.keys().next().value!);
+  cache.set(key, html);
+  return html;
 }
 
 export interface MathViewProps {
@@ -43,17 +61,31 @@ export interface MathViewProps {
   className?: string;
   /** Accessible description; KaTeX's MathML is read by screen readers too. */
   label?: string;
+  /** Called after the LaTeX has been typeset into the element (display math typesets lazily). */
+  onTypeset?: () => void;
   "data-testid"?: string;
 }
 
-/** Renders LaTeX; display math scrolls horizontally inside its box instead of widening the page. */
-export const MathView = memo(function MathView({ latex, display = false, className, label, ...rest }: MathViewProps) {
-  const html = useMemo(() => renderLatex(latex, display), [latex, display]);
+/**
+ * Renders LaTeX; display math scrolls horizontally inside its box instead of
+ * widening the page. Display math is typeset once it comes near the viewport
+ * (a notebook of a long chain holds megabytes of KaTeX markup otherwise).
+ */
+export const MathView = memo(function MathView({ latex, display = false, className, label, onTypeset, ...rest }: MathViewProps) {
+  const ref = useRef<HTMLElement>(null);
+  const near = useNearViewport(ref);
+  const ready = near || !display;
+  const html = useMemo(() => (ready ? renderLatex(latex, display) : ""), [latex, display, ready]);
+  useEffect(() => {
+    if (html !== "") onTypeset?.();
+  }, [html, onTypeset]);
   const Tag = display ? "div" : "span";
   return (
     <Tag
-      className={clsx(display ? "hn-math-display" : "hn-math-inline", className)}
+      ref={ref as never}
+      className={clsx(display ? "hn-math-display" : "hn-math-inline", !ready && "hn-math-pending", className)}
       aria-label={label}
+      aria-busy={!ready || undefined}
       data-testid={rest["data-testid"]}
       // KaTeX output from a trust-limited render; see trustTermData.
       dangerouslySetInnerHTML={{ __html: html }}

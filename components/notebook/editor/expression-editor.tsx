@@ -5,11 +5,16 @@
  * (`value`) and hears every edit (`onChange`). One EditorView per mounted
  * editor, destroyed on unmount. `multiline`, `allowEmpty` and `checkSymbols`
  * are read when the editor mounts; everything else follows the props.
+ *
+ * The EditorView is built when the editor comes near the viewport (or gets
+ * the focus); until then the text shows as plain, focusable monospace, so a
+ * notebook with dozens of expressions renders quickly.
  */
 import { useEffect, useId, useRef, useState } from "react";
 import { Annotation, Compartment, EditorState, Transaction } from "@codemirror/state";
 import { EditorView } from "@codemirror/view";
 import { forEachDiagnostic, forceLinting, setDiagnosticsEffect } from "@codemirror/lint";
+import { useNearViewport } from "../use-near-viewport";
 import type { DocumentSymbols } from "@/lib/notebook/document";
 import { EMPTY_SYMBOLS, setServerDiagnosticsEffect, setSymbolsEffect, type ExpressionDiagnostic } from "./context";
 import { expressionExtensions } from "./extensions";
@@ -53,8 +58,13 @@ interface ShownDiagnostic {
 
 export function ExpressionEditor(props: ExpressionEditorProps) {
   const { value, label, symbols, diagnostics, diagnosticsFor = null, readOnly = false } = props;
+  const wrapperRef = useRef<HTMLDivElement>(null);
   const hostRef = useRef<HTMLDivElement>(null);
   const viewRef = useRef<EditorView | null>(null);
+  const near = useNearViewport(wrapperRef);
+  const [focusRequested, setFocusRequested] = useState(false);
+  const [mounted, setMounted] = useState(false);
+  const active = near || focusRequested;
   const readOnlyCompartment = useRef(new Compartment());
   const labelCompartment = useRef(new Compartment());
   const callbacks = useRef({ onChange: props.onChange, onEnter: props.onEnter, onBlur: props.onBlur });
@@ -62,10 +72,10 @@ export function ExpressionEditor(props: ExpressionEditorProps) {
   const [shown, setShown] = useState<ShownDiagnostic[]>([]);
   const messagesId = useId();
 
-  // Create the view once per mount; later prop changes are dispatched below.
+  // Create the view once per mount (when first near the viewport); later prop changes are dispatched below.
   useEffect(() => {
     const host = hostRef.current;
-    if (!host) return;
+    if (!host || !active) return;
     const serverItems = { text: diagnosticsFor, items: diagnostics ?? [] };
     const view = new EditorView({
       parent: host,
@@ -101,12 +111,18 @@ export function ExpressionEditor(props: ExpressionEditorProps) {
       }),
     });
     viewRef.current = view;
+    setMounted(true);
+    if (focusRequested) {
+      // Focus came to the plain-text stand-in: continue at the end of the text.
+      view.dispatch({ selection: { anchor: view.state.doc.length } });
+      view.focus();
+    }
     return () => {
       view.destroy();
       viewRef.current = null;
     };
-    // The view is built once per mount on purpose; the effects below follow prop changes.
-  }, []);
+    // Built once, when `active` turns true (it never turns back); the effects below follow prop changes.
+  }, [active]);
 
   useEffect(() => {
     const view = viewRef.current;
@@ -139,7 +155,19 @@ export function ExpressionEditor(props: ExpressionEditorProps) {
   }, [label, messagesId]);
 
   return (
-    <div className={props.className} data-testid={props["data-testid"]}>
+    <div ref={wrapperRef} className={props.className} data-testid={props["data-testid"]}>
+      {!mounted && (
+        <div
+          className="overflow-hidden rounded border border-line bg-surface px-2 py-1.5 font-mono text-[0.95rem] whitespace-pre text-ink"
+          role="textbox"
+          aria-label={label}
+          aria-readonly={readOnly || undefined}
+          tabIndex={0}
+          onFocus={() => setFocusRequested(true)}
+        >
+          {value === "" ? <span className="text-muted">{props.placeholder ?? "\u00a0"}</span> : value}
+        </div>
+      )}
       <div ref={hostRef} className="hn-expression-editor" aria-invalid={shown.some((d) => d.severity === "error") || undefined} />
       <ul id={messagesId} className="hn-diagnostics" aria-live="polite">
         {shown.map((d, index) => (

@@ -8,6 +8,7 @@ import { createCell, modelToDocument, type EquationsCell } from "@/lib/notebook/
 import type { NotebookResults } from "@/lib/notebook/results";
 import { templateModel } from "@/lib/notebook/templates";
 import { toLatexTerms } from "@/lib/mechanics/latex";
+import { deriveModel } from "@/lib/mechanics/derive";
 
 afterEach(cleanup);
 
@@ -31,6 +32,16 @@ describe("equations cell", () => {
     expect(terms[1]!.textContent).toContain("sin");
     expect(terms.every((t) => t.tabIndex === 0)).toBe(true);
   });
+
+  it("renders the long equations of a 5-link chain without a KaTeX error", () => {
+    const derived = deriveModel(templateModel("n-link-chain", { links: 5 }));
+    const chain: NotebookResults = { equations: derived.equations.map((e) => ({ coordinate: e.coordinate, residual: e.residual, latex: `${toLatexTerms(e.residual).latex} = 0` })) };
+    const { container } = render(<EquationsCellView cell={cell} results={chain} onOperation={() => {}} />);
+    expect(container.querySelectorAll(".katex-error")).toHaveLength(0);
+    const perEquation = derived.equations.map((e) => toLatexTerms(e.residual).terms.length);
+    expect(container.querySelectorAll("[data-term]")).toHaveLength(perEquation.reduce((a, b) => a + b, 0));
+    // jsdom parses KaTeX's large HTML slowly; the browser renders this in well under a second.
+  }, 30_000);
 
   it("highlights a term on hover and reports it; selects it on Enter", () => {
     const onTermFocus = vi.fn();
