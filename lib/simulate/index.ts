@@ -16,7 +16,7 @@ export type {
   CompiledExpressions,
   VariableLayout,
 } from "./system";
-export { integrate, integrateInSlices } from "./integrate";
+export { integrate, integrateInSlices, STEP_TOLERANCE_FACTOR } from "./integrate";
 export type {
   SimulationSettings,
   SimulationResult,

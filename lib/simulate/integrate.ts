@@ -90,6 +90,8 @@ export interface SimulationStats {
   rhsEvaluations: number;
   acceptedSteps: number;
   wallTimeMs: number;
+  /** The tolerances odex stepped with: the requested ones × STEP_TOLERANCE_FACTOR (see there). */
+  stepTolerance: { relative: number; absolute: number };
 }
 
 export interface SimulationResult {
@@ -124,7 +126,7 @@ const DEFAULTS = {
  * evaluations. (A lower interpolation degree, MUDIF = 5, was as accurate but
  * let the step size stall at 1e-17 s when a run starts from exact rest.)
  */
-const STEP_TOLERANCE_FACTOR = 0.01;
+export const STEP_TOLERANCE_FACTOR = 0.01;
 
 /** Thrown inside odex's callbacks to stop it; never escapes this module. */
 class StopIntegration {
@@ -421,7 +423,12 @@ class IntegrationRun {
       trajectory,
       energy,
       parameterValues: { ...this.parameterValues },
-      stats: { rhsEvaluations: this.rhsEvaluations, acceptedSteps: this.acceptedSteps, wallTimeMs: now() - this.began },
+      stats: {
+        rhsEvaluations: this.rhsEvaluations,
+        acceptedSteps: this.acceptedSteps,
+        wallTimeMs: now() - this.began,
+        stepTolerance: { relative: this.solver.relativeTolerance as number, absolute: this.solver.absoluteTolerance as number },
+      },
     };
   }
 
