@@ -138,3 +138,27 @@ describe("completion and local checks", () => {
     expect(localDiagnostics("", symbols)).toMatchObject([{ message: "expression is empty" }]);
   });
 });
+
+describe("off-screen editors", () => {
+  it("show plain text until focused, then build the editor with the cursor at the end", async () => {
+    // An observer that never reports the element on screen, as for an editor far down the page.
+    const observe = vi.fn();
+    vi.stubGlobal("IntersectionObserver", class { observe = observe; disconnect() {} unobserve() {} takeRecords() { return []; } });
+    try {
+      const onChange = vi.fn();
+      const { container } = render(<ExpressionEditor label="V" value="m*g*y" onChange={onChange} />);
+      expect(observe).toHaveBeenCalled();
+      expect(container.querySelector(".cm-editor")).toBeNull();
+      const stand = screen.getByRole("textbox", { name: "V" });
+      expect(stand.textContent).toBe("m*g*y");
+      act(() => stand.focus());
+      const view = viewOf("V");
+      expect(view.hasFocus || document.activeElement === view.contentDOM).toBe(true);
+      expect(view.state.selection.main.head).toBe(5);
+      typeAtEnd(view, "1");
+      expect(onChange).toHaveBeenLastCalledWith("m*g*y1");
+    } finally {
+      vi.unstubAllGlobals();
+    }
+  });
+});
