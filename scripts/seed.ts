@@ -1,11 +1,12 @@
 // Seeds the demo team (db/seed/demo.ts). Idempotent: users, the team, memberships
 // and derivations are matched by e-mail, slug and title; demo passwords are reset.
 import { closeDatabase } from "@/db/client";
-import { createDerivation, getDerivationsByTeamId } from "@/db/queries/derivations";
+import { createDerivation, getDerivationById, getDerivationsByTeamId, updateDerivationById } from "@/db/queries/derivations";
 import { createTeamWithLead, getTeamBySlug, upsertMembership } from "@/db/queries/teams";
 import { createUser, getUserByEmail, updateUserPasswordById } from "@/db/queries/users";
 import { demoDerivations, demoPassword, demoTeam, demoUsers } from "@/db/seed/demo";
 import { hashPassword } from "@/lib/auth/password";
+import { seedDemoEvaluations } from "./lib/seed-evaluations";
 
 async function main(): Promise<void> {
   const passwordHash = await hashPassword(demoPassword);
@@ -29,14 +30,24 @@ async function main(): Promise<void> {
     await upsertMembership({ teamId: team.id, userId: userIds.get(demoUser.email)!, role: demoUser.role });
   }
 
-  const existingTitles = new Set((await getDerivationsByTeamId({ teamId: team.id })).map((d) => d.title));
+  const existing = new Map((await getDerivationsByTeamId({ teamId: team.id })).map((d) => [d.title, d.id]));
   let added = 0;
   for (const item of demoDerivations) {
-    if (existingTitles.has(item.title)) continue;
+    const existingId = existing.get(item.title);
+    if (existingId) {
+      // Rows seeded before the notebook held a bare model file; give them the worked notebook.
+      const stored = await getDerivationById({ id: existingId });
+      if (stored && !("cells" in stored.content)) {
+        await updateDerivationById({ id: existingId, actorId: userIds.get(item.owner)!, changes: { content: item.content } });
+      }
+      continue;
+    }
     await createDerivation({ teamId: team.id, title: item.title, ownerId: userIds.get(item.owner)!, content: item.content, status: item.status });
     added += 1;
   }
   console.log(`[holonomy] demo team "${team.name}" ready: ${demoUsers.length} members, ${added} derivations added`);
+  const evaluated = await seedDemoEvaluations({ teamId: team.id, titles: demoDerivations.map((d) => d.title) });
+  for (const line of evaluated) console.log(`[holonomy]   ${line}`);
 }
 
 main()

@@ -2,6 +2,8 @@
 // crane, a camera gimbal and a seat-suspension test rig. The parameter values are
 // plausible round numbers chosen for the demo, not measured data.
 import type { DerivationStatus, MemberRole } from "@/lib/domain";
+import type { Model } from "@/lib/mechanics/model";
+import { createCell, modelToDocument, type Cell, type DerivationDocument } from "@/lib/notebook/document";
 
 export const demoPassword = "kestrel-demo-2041";
 export const demoTeam = { name: "Kestrel Lift & Motion", slug: "kestrel-lift-motion" };
@@ -13,76 +15,131 @@ export const demoUsers: { email: string; name: string; role: MemberRole }[] = [
   { email: "viewer@demo.holonomy.test", name: "Jonah Weller", role: "viewer" },
 ];
 
+/**
+ * A worked notebook for a demo model: a note first, the model's cells, then the
+ * generated cells. Cell ids are derived from the title so re-seeding gives the
+ * same document.
+ */
+function demoNotebook(model: Model, note: string, extra: { linearization?: boolean; code?: "python" | "c" | "julia" | "octave" | "typescript" } = {}): DerivationDocument {
+  let counter = 0;
+  const prefix = model.title.toLowerCase().replace(/[^a-z0-9]+/g, "").slice(0, 12);
+  const newId = () => `${prefix}${(counter += 1)}`;
+  const doc = modelToDocument(model, newId);
+  const cells: Cell[] = [{ ...createCell("note", newId()), markdown: note }, ...doc.cells];
+  if (extra.linearization) cells.push(createCell("linearization", newId()));
+  if (extra.code) cells.push({ ...createCell("code-export", newId()), settings: { language: extra.code } });
+  return { ...doc, cells };
+}
+
+const craneTrolley: Model = {
+  title: "Gantry crane: trolley with swinging load",
+  coordinates: [
+    { name: "x", unit: "m", description: "trolley position along the girder" },
+    { name: "theta", unit: "rad", description: "rope angle from the vertical" },
+  ],
+  parameters: [
+    { name: "M", unit: "kg", value: 850, description: "trolley with hoist" },
+    { name: "m", unit: "kg", value: 2000, description: "rated load with hook block" },
+    { name: "l", unit: "m", value: 6.5, description: "rope length, load at working height" },
+    { name: "b", unit: "N*s/m", value: 120, description: "wheel and drive resistance" },
+    { name: "g", unit: "m/s^2", value: 9.81, description: "gravitational acceleration" },
+  ],
+  inputs: [{ name: "F", unit: "N", description: "traverse drive force" }],
+  definitions: [
+    { name: "xl", expr: "x + l*sin(theta)", description: "load position, horizontal" },
+    { name: "yl", expr: "-l*cos(theta)", description: "load position, vertical" },
+  ],
+  kinetic: "1/2*M*x'^2 + 1/2*m*(xl'^2 + yl'^2)",
+  potential: "m*g*yl",
+  dissipation: "1/2*b*x'^2",
+  forces: { x: "F" },
+};
+
+const cameraGimbal: Model = {
+  title: "Camera gimbal: two-axis pan and tilt",
+  coordinates: [
+    { name: "psi", unit: "rad", description: "pan angle of the outer yoke" },
+    { name: "theta", unit: "rad", description: "tilt angle of the camera cradle" },
+  ],
+  parameters: [
+    { name: "J_y", unit: "kg*m^2", value: 0.018, description: "yoke about the pan axis" },
+    { name: "I_1", unit: "kg*m^2", value: 0.009, description: "cradle and camera about the tilt axis" },
+    { name: "I_2", unit: "kg*m^2", value: 0.004, description: "cradle and camera about the lens axis" },
+    { name: "I_3", unit: "kg*m^2", value: 0.007, description: "cradle and camera about the third principal axis" },
+    { name: "m", unit: "kg", value: 1.6, description: "cradle and camera mass" },
+    { name: "h_c", unit: "m", value: 0.003, description: "centre of mass below the tilt axis" },
+    { name: "c_p", unit: "N*m*s/rad", value: 0.0015, description: "pan bearing and motor damping" },
+    { name: "c_t", unit: "N*m*s/rad", value: 0.001, description: "tilt bearing and motor damping" },
+    { name: "g", unit: "m/s^2", value: 9.81, description: "gravitational acceleration" },
+  ],
+  inputs: [
+    { name: "tau_p", unit: "N*m", description: "pan motor torque" },
+    { name: "tau_t", unit: "N*m", description: "tilt motor torque" },
+  ],
+  kinetic: "1/2*J_y*psi'^2 + 1/2*(I_2*sin(theta)^2 + I_3*cos(theta)^2)*psi'^2 + 1/2*I_1*theta'^2",
+  potential: "m*g*h_c*(1 - cos(theta))",
+  dissipation: "1/2*c_p*psi'^2 + 1/2*c_t*theta'^2",
+  forces: { psi: "tau_p", theta: "tau_t" },
+};
+
+const seatSuspension: Model = {
+  title: "Seat-suspension rig: single mass on spring and damper",
+  coordinates: [{ name: "z", unit: "m", description: "seat height from the unloaded spring position" }],
+  parameters: [
+    { name: "m", unit: "kg", value: 95, description: "seat with test dummy" },
+    { name: "k", unit: "N/m", value: 42000, description: "suspension spring rate" },
+    { name: "c", unit: "N*s/m", value: 1300, description: "damper coefficient" },
+    { name: "g", unit: "m/s^2", value: 9.81, description: "gravitational acceleration" },
+  ],
+  inputs: [{ name: "F_b", unit: "N", description: "force from the rig's actuator" }],
+  kinetic: "1/2*m*z'^2",
+  potential: "1/2*k*z^2 + m*g*z",
+  dissipation: "1/2*c*z'^2",
+  forces: { z: "F_b" },
+};
+
 export const demoDerivations: { title: string; status: DerivationStatus; owner: string; content: Record<string, unknown> }[] = [
   {
-    title: "Gantry crane: trolley with swinging load",
+    title: craneTrolley.title,
     status: "approved",
     owner: "analyst@demo.holonomy.test",
-    content: {
-      title: "Gantry crane: trolley with swinging load",
-      coordinates: [
-        { name: "x", unit: "m" },
-        { name: "theta", unit: "rad" },
-      ],
-      parameters: [
-        { name: "M", unit: "kg", value: 850 },
-        { name: "m", unit: "kg", value: 2000 },
-        { name: "l", unit: "m", value: 6.5 },
-        { name: "b", unit: "N*s/m", value: 120 },
-        { name: "g", unit: "m/s^2", value: 9.81 },
-      ],
-      inputs: [{ name: "F", unit: "N" }],
-      definitions: [
-        { name: "xl", expr: "x + l*sin(theta)" },
-        { name: "yl", expr: "-l*cos(theta)" },
-      ],
-      kinetic: "1/2*M*x'^2 + 1/2*m*(xl'^2 + yl'^2)",
-      potential: "m*g*yl",
-      dissipation: "1/2*b*x'^2",
-      forces: { x: "F" },
-    },
+    content: demoNotebook(
+      craneTrolley,
+      [
+        "Traverse dynamics of the 20 t gantry: the trolley runs on the girder and the load hangs on a rope of fixed length $l$.",
+        "The load swings as a point mass at $(x_l, y_l)$; rope stretch and hoisting are in the separate hoist derivation.",
+        "",
+        "For small swings about the hanging position the pendulum frequency is $$f = \\frac{1}{2\\pi}\\sqrt{\\frac{g}{l}\\left(1 + \\frac{m}{M}\\right)}$$",
+      ].join("\n"),
+      { linearization: true, code: "c" },
+    ) as unknown as Record<string, unknown>,
   },
   {
-    title: "Camera gimbal: pitch axis with offset payload",
+    title: cameraGimbal.title,
     status: "in_review",
     owner: "analyst@demo.holonomy.test",
-    content: {
-      title: "Camera gimbal: pitch axis with offset payload",
-      coordinates: [{ name: "phi", unit: "rad" }],
-      parameters: [
-        { name: "J", unit: "kg*m^2", value: 0.012 },
-        { name: "m", unit: "kg", value: 1.4 },
-        { name: "e", unit: "m", value: 0.004 },
-        { name: "k_t", unit: "N*m/rad", value: 0.05 },
-        { name: "c", unit: "N*m*s/rad", value: 0.002 },
-        { name: "g", unit: "m/s^2", value: 9.81 },
-      ],
-      inputs: [{ name: "tau", unit: "N*m" }],
-      kinetic: "1/2*J*phi'^2",
-      potential: "1/2*k_t*phi^2 + m*g*e*(1 - cos(phi))",
-      dissipation: "1/2*c*phi'^2",
-      forces: { phi: "tau" },
-    },
+    content: demoNotebook(
+      cameraGimbal,
+      [
+        "Pan and tilt of the inspection camera head. The cradle's inertia seen by the pan axis changes with tilt:",
+        "$$J_\\psi(\\theta) = J_y + I_2\\sin^2\\theta + I_3\\cos^2\\theta$$",
+        "The centre of mass sits $h_c$ below the tilt axis, so the cradle rights itself; pan is free apart from damping.",
+      ].join("\n"),
+      { linearization: true, code: "python" },
+    ) as unknown as Record<string, unknown>,
   },
   {
-    title: "Seat-suspension rig: single mass on spring and damper",
+    title: seatSuspension.title,
     status: "draft",
     owner: "lead@demo.holonomy.test",
-    content: {
-      title: "Seat-suspension rig: single mass on spring and damper",
-      coordinates: [{ name: "z", unit: "m" }],
-      parameters: [
-        { name: "m", unit: "kg", value: 95 },
-        { name: "k", unit: "N/m", value: 42000 },
-        { name: "c", unit: "N*s/m", value: 1300 },
-        { name: "g", unit: "m/s^2", value: 9.81 },
-      ],
-      inputs: [{ name: "F_b", unit: "N" }],
-      kinetic: "1/2*m*z'^2",
-      potential: "1/2*k*z^2 + m*g*z",
-      dissipation: "1/2*c*z'^2",
-      forces: { z: "F_b" },
-    },
+    content: demoNotebook(
+      seatSuspension,
+      [
+        "Vertical motion of the seat on the suspension test rig, excited by the rig's actuator force $F_b$.",
+        "Expected undamped natural frequency $f_n = \\frac{1}{2\\pi}\\sqrt{k/m} \\approx 3.3$ Hz for the values below.",
+      ].join("\n"),
+      { linearization: true },
+    ) as unknown as Record<string, unknown>,
   },
   {
     title: "Gantry crane: hoist drum and rope stretch",

@@ -184,6 +184,30 @@ export function mechanicalSystemOf(model: Model, result: DerivationResult): Mech
   };
 }
 
+/**
+ * A coordinate that appears in neither M nor f (a trolley position, a pan
+ * angle) leaves every equilibrium one of a continuum; the search reports many
+ * copies. Keep one per distinct value of the other coordinates, with the free
+ * ones at 0, and round search noise (|q| < 1e-9) to 0.
+ */
+export function distinctEquilibria(system: MechanicalSystem, found: readonly Equilibrium[]): Equilibrium[] {
+  const texts = [...system.massMatrix.flat(), ...system.forcing];
+  const free = system.coordinates.map((name) => {
+    const position = new RegExp(`(^|[^A-Za-z0-9_])${name}(?![A-Za-z0-9_'])`);
+    return !texts.some((text) => position.test(text));
+  });
+  const seen = new Set<string>();
+  const kept: Equilibrium[] = [];
+  for (const equilibrium of found) {
+    const q = equilibrium.q.map((value, i) => (free[i] || Math.abs(value) < 1e-9 ? 0 : value));
+    const key = q.map((value) => value.toFixed(6)).join(",");
+    if (seen.has(key)) continue;
+    seen.add(key);
+    kept.push({ ...equilibrium, q });
+  }
+  return kept;
+}
+
 function equilibriumLabel(names: readonly string[], q: readonly number[], stability: string): string {
   const values = names.map((name, i) => `${name} = ${Number(q[i]!.toPrecision(6))}`).join(", ");
   return `${values} (${stability})`;
@@ -199,7 +223,7 @@ export async function analyseSystem(
   const badInput = (system.inputs ?? []).find((_, i) => Number.isNaN(inputValues[i]!));
   if (badInput) return { equilibria: [], note: `The value of input ${badInput} is not a number.` };
   const found = await runner.run<Equilibrium[]>("equilibria", { system, options: { inputs: inputValues } });
-  const equilibria = found.map((e) => ({ ...e, label: equilibriumLabel(system.coordinates, e.q, e.stability) }));
+  const equilibria = distinctEquilibria(system, found).map((e) => ({ ...e, label: equilibriumLabel(system.coordinates, e.q, e.stability) }));
   const listed = equilibria.map((e) => ({ label: e.label, values: Object.fromEntries(system.coordinates.map((name, i) => [name, e.q[i]!])) }));
   if (equilibria.length === 0) return { equilibria, linearization: { equilibria: listed }, note: "No equilibrium was found for these parameter and input values." };
   const index = Math.min(Math.max(0, settings.equilibriumIndex), equilibria.length - 1);
