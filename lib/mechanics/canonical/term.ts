@@ -66,9 +66,15 @@ export function mergeFactors(a: readonly number[], b: readonly number[]): number
   return out;
 }
 
+/** Snaps an angle coefficient to the nearest small fraction, so 0.1 + 0.2 and 0.3 give one key. */
 function tidy(c: number): number {
   const r = Math.round(c);
-  return Math.abs(c - r) < 1e-12 ? r : c;
+  if (Math.abs(c - r) < 1e-12) return r;
+  for (let q = 2; q <= 360; q++) {
+    const p = Math.round(c * q);
+    if (Math.abs(p / q - c) < 1e-12) return p / q;
+  }
+  return c;
 }
 
 /** a + sign·b for angle combinations (sorted by angle rank). */

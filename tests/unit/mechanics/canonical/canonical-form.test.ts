@@ -49,6 +49,7 @@ describe("canonical trigonometric form", () => {
     expect(canonicalText("cos(a)*cos(b) + sin(a)*sin(b)")).toBe("cos(a - b)");
     expect(canonicalText("sin(a)*cos(b) - cos(a)*sin(b)")).toBe("sin(a - b)");
     expect(canonicalText("2*sin(a)*cos(a)")).toBe("sin(2*a)");
+    expect(sameExpression("2*sin(0.1*a)*cos(0.2*a)", "sin(0.3*a) - sin(0.1*a)")).toBe(true);
   });
 
   it("uses one sign convention for even and odd functions of a difference", () => {
