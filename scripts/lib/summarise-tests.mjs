@@ -20,21 +20,20 @@ function read(name) {
   }
 }
 
-const vitest = read("vitest.json");
-if (vitest) {
-  passed += vitest.numPassedTests ?? 0;
-  failed += (vitest.numFailedTests ?? 0) + (vitest.numFailedTestSuites ?? 0) - countSuitesWithFailedTests(vitest);
-  notes.push(`vitest: ${vitest.numPassedTests} passed, ${vitest.numFailedTests} failed`);
-} else {
-  failed += 1;
-  notes.push("vitest: no report");
-}
-
-// A file that fails to load counts as a failed suite with no failed test; count it once.
-function countSuitesWithFailedTests(report) {
-  return (report.testResults ?? []).filter(
-    (suite) => suite.status === "failed" && (suite.assertionResults ?? []).some((t) => t.status === "failed"),
+for (const suite of ["unit", "integration"]) {
+  const report = read(`vitest-${suite}.json`);
+  if (!report) {
+    failed += 1;
+    notes.push(`vitest ${suite}: no report`);
+    continue;
+  }
+  // A file that fails to load has no failed test of its own; count it once.
+  const brokenFiles = (report.testResults ?? []).filter(
+    (file) => file.status === "failed" && !(file.assertionResults ?? []).some((test) => test.status === "failed"),
   ).length;
+  passed += report.numPassedTests ?? 0;
+  failed += (report.numFailedTests ?? 0) + brokenFiles;
+  notes.push(`vitest ${suite}: ${report.numPassedTests} passed, ${report.numFailedTests}${brokenFiles ? ` + ${brokenFiles} files` : ""} failed`);
 }
 
 const playwright = read("playwright.json");
