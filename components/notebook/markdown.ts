@@ -4,7 +4,7 @@
  */
 import { Marked, type TokenizerAndRendererExtension } from "marked";
 import DOMPurify from "dompurify";
-import { NOTE_MAX_EXPAND, renderLatex } from "./math";
+import { NOTE_MAX_EXPAND, renderLatex } from "./katex-render";
 
 interface MathToken {
   type: "mathBlock" | "mathInline";

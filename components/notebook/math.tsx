@@ -1,58 +1,23 @@
 "use client";
 
 /**
- * KaTeX rendering for the notebook. Only `\htmlData{term=ID}` is trusted —
- * it is how the engine marks each top-level term of an equation so the
- * interface can address it; every other HTML-producing command is refused.
+ * Mathematics on the notebook's pages. KaTeX itself (katex-render.ts) loads on
+ * first use, and display math is typeset once it comes near the viewport, so
+ * neither the bundle nor a long chain's equations hold up the first render.
  */
-import katex from "katex";
 import clsx from "clsx";
-import { memo, useEffect, useMemo, useRef } from "react";
+import { memo, useEffect, useRef, useState } from "react";
 import { useNearViewport } from "./use-near-viewport";
 
-const TERM_ID = /^[A-Za-z0-9_.:-]{1,96}$/;
+type KatexRender = typeof import("./katex-render");
 
-/**
- * Allows `\htmlData` with a single `term` attribute holding a plain id, nothing
- * else. KaTeX reports the attribute with its `data-` prefix.
- */
-export function trustTermData(context: { command: string; attributes?: Record<string, string> }): boolean {
-  if (context.command !== "\\htmlData" || !context.attributes) return false;
-  const entries = Object.entries(context.attributes);
-  if (entries.length !== 1) return false;
-  const [key, value] = entries[0]!;
-  return key === "data-term" && TERM_ID.test(value);
-}
+let loaded: KatexRender | null = null;
+let loading: Promise<KatexRender> | null = null;
 
-/**
- * Macro expansions allowed for LaTeX the engine wrote (every `\,` counts, so a
- * long chain equation needs thousands) and for LaTeX an analyst typed in a note.
- */
-export const ENGINE_MAX_EXPAND = 100_000;
-export const NOTE_MAX_EXPAND = 1_000;
-
-// The same LaTeX is rendered again whenever a notebook remounts; keep recent results.
-const cache = new Map<string, string>();
-const CACHE_LIMIT = 300;
-
-/** HTML for a LaTeX string; a LaTeX error renders as the source in the error colour, never throws. */
-export function renderLatex(latex: string, display = false, maxExpand = ENGINE_MAX_EXPAND): string {
-  const key = `${display ? "D" : "I"}${maxExpand}:${latex}`;
-  const hit = cache.get(key);
-  if (hit !== undefined) return hit;
-  const html = katex.renderToString(latex, {
-    displayMode: display,
-    throwOnError: false,
-    errorColor: "var(--danger, #b3261e)",
-    trust: trustTermData,
-    strict: "ignore",
-    maxSize: 20,
-    maxExpand,
-    output: "htmlAndMathml",
-  });
-  if (cache.size >= CACHE_LIMIT) cache.delete(cache.keys().next().value!);
-  cache.set(key, html);
-  return html;
+/** The KaTeX renderer, loading it the first time. */
+export function loadKatexRender(): Promise<KatexRender> {
+  loading ??= import("./katex-render").then((module) => (loaded = module));
+  return loading;
 }
 
 export interface MathViewProps {
@@ -75,7 +40,23 @@ export const MathView = memo(function MathView({ latex, display = false, classNa
   const ref = useRef<HTMLElement>(null);
   const near = useNearViewport(ref);
   const ready = near || !display;
-  const html = useMemo(() => (ready ? renderLatex(latex, display) : ""), [latex, display, ready]);
+  const [html, setHtml] = useState("");
+
+  useEffect(() => {
+    if (!ready) return;
+    if (loaded) {
+      setHtml(loaded.renderLatex(latex, display));
+      return;
+    }
+    let current = true;
+    void loadKatexRender().then((render) => {
+      if (current) setHtml(render.renderLatex(latex, display));
+    });
+    return () => {
+      current = false;
+    };
+  }, [latex, display, ready]);
+
   useEffect(() => {
     if (html !== "") onTypeset?.();
   }, [html, onTypeset]);
@@ -83,9 +64,9 @@ export const MathView = memo(function MathView({ latex, display = false, classNa
   return (
     <Tag
       ref={ref as never}
-      className={clsx(display ? "hn-math-display" : "hn-math-inline", !ready && "hn-math-pending", className)}
+      className={clsx(display ? "hn-math-display" : "hn-math-inline", html === "" && "hn-math-pending", className)}
       aria-label={label}
-      aria-busy={!ready || undefined}
+      aria-busy={html === "" || undefined}
       data-testid={rest["data-testid"]}
       // KaTeX output from a trust-limited render; see trustTermData.
       dangerouslySetInnerHTML={{ __html: html }}

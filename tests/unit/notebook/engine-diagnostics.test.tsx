@@ -1,6 +1,6 @@
 // @vitest-environment jsdom
 import { afterEach, describe, expect, it } from "vitest";
-import { cleanup, render, screen, waitFor, within } from "@testing-library/react";
+import { configure, cleanup, render, screen, waitFor, within } from "@testing-library/react";
 import { EditorView } from "@codemirror/view";
 import { Notebook } from "@/components/notebook/notebook";
 import { documentToModel, modelToDocument, setExpression, type DerivationDocument } from "@/lib/notebook/document";
@@ -11,6 +11,8 @@ import { validateModel } from "@/lib/mechanics/validate-model";
 import { checkModelUnits } from "@/lib/mechanics/units";
 
 afterEach(cleanup);
+// Editors lint after a pause and KaTeX loads on first use; allow for a busy machine.
+configure({ asyncUtilTimeout: 5000 });
 
 /** What the evaluate API would return for a model the engine refuses. */
 function engineDiagnostics(doc: DerivationDocument): ModelDiagnostic[] {

@@ -1,6 +1,6 @@
 // @vitest-environment jsdom
 import { afterEach, describe, expect, it, vi } from "vitest";
-import { act, cleanup, render, screen, waitFor } from "@testing-library/react";
+import { configure, act, cleanup, render, screen, waitFor } from "@testing-library/react";
 import { useState } from "react";
 import { EditorView } from "@codemirror/view";
 import { CompletionContext } from "@codemirror/autocomplete";
@@ -10,6 +10,8 @@ import { localDiagnostics } from "@/components/notebook/editor/diagnostics";
 import type { DocumentSymbols } from "@/lib/notebook/document";
 
 afterEach(cleanup);
+// Editors lint after a pause and KaTeX loads on first use; allow for a busy machine.
+configure({ asyncUtilTimeout: 5000 });
 
 const symbols: DocumentSymbols = { coordinates: ["theta"], parameters: ["m", "l", "g"], inputs: ["u"], definitions: ["y"] };
 

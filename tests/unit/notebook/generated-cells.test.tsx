@@ -1,9 +1,9 @@
 // @vitest-environment jsdom
 import { afterEach, describe, expect, it, vi } from "vitest";
-import { cleanup, fireEvent, render, screen } from "@testing-library/react";
+import { configure, cleanup, fireEvent, render, screen, waitFor } from "@testing-library/react";
 import { EquationsCellView } from "@/components/notebook/generated-cells";
 import { Notebook } from "@/components/notebook/notebook";
-import { renderLatex, trustTermData } from "@/components/notebook/math";
+import { renderLatex, trustTermData } from "@/components/notebook/katex-render";
 import { createCell, modelToDocument, type EquationsCell } from "@/lib/notebook/document";
 import type { NotebookResults } from "@/lib/notebook/results";
 import { templateModel } from "@/lib/notebook/templates";
@@ -11,6 +11,17 @@ import { toLatexTerms } from "@/lib/mechanics/latex";
 import { deriveModel } from "@/lib/mechanics/derive";
 
 afterEach(cleanup);
+// Editors lint after a pause and KaTeX loads on first use; allow for a busy machine.
+configure({ asyncUtilTimeout: 5000 });
+
+/** KaTeX loads on first use and display math typesets after mount; wait until the terms are in and decorated. */
+async function typeset(container: HTMLElement) {
+  await waitFor(() => {
+    const terms = [...container.querySelectorAll<HTMLElement>("[data-term]")];
+    expect(terms.length).toBeGreaterThan(0);
+    expect(terms.every((term) => term.tabIndex === 0)).toBe(true);
+  });
+}
 
 // The equation's LaTeX comes from the engine's renderer, terms wrapped in \htmlData{term=ID}.
 const residual = "m*l^2*theta'' + m*g*l*sin(theta)";
@@ -25,28 +36,31 @@ const results: NotebookResults = {
 const cell: EquationsCell = { ...createCell("equations", "eq") };
 
 describe("equations cell", () => {
-  it("renders each term as an element addressable by its term id, reachable by keyboard", () => {
+  it("renders each term as an element addressable by its term id, reachable by keyboard", async () => {
     const { container } = render(<EquationsCellView cell={cell} results={results} onOperation={() => {}} />);
+    await typeset(container);
     const terms = [...container.querySelectorAll<HTMLElement>("[data-term]")];
     expect(terms.map((t) => t.dataset.term)).toEqual([inertiaTerm, gravityTerm]);
     expect(terms[1]!.textContent).toContain("sin");
     expect(terms.every((t) => t.tabIndex === 0)).toBe(true);
   });
 
-  it("renders the long equations of a 5-link chain without a KaTeX error", () => {
+  it("renders the long equations of a 5-link chain without a KaTeX error", async () => {
     const derived = deriveModel(templateModel("n-link-chain", { links: 5 }));
     const chain: NotebookResults = { equations: derived.equations.map((e) => ({ coordinate: e.coordinate, residual: e.residual, latex: `${toLatexTerms(e.residual).latex} = 0` })) };
     const { container } = render(<EquationsCellView cell={cell} results={chain} onOperation={() => {}} />);
+    await typeset(container);
     expect(container.querySelectorAll(".katex-error")).toHaveLength(0);
     const perEquation = derived.equations.map((e) => toLatexTerms(e.residual).terms.length);
     expect(container.querySelectorAll("[data-term]")).toHaveLength(perEquation.reduce((a, b) => a + b, 0));
     // jsdom parses KaTeX's large HTML slowly; the browser renders this in well under a second.
   }, 30_000);
 
-  it("highlights a term on hover and reports it; selects it on Enter", () => {
+  it("highlights a term on hover and reports it; selects it on Enter", async () => {
     const onTermFocus = vi.fn();
     const onTermSelect = vi.fn();
     const { container } = render(<EquationsCellView cell={cell} results={results} onOperation={() => {}} onTermFocus={onTermFocus} onTermSelect={onTermSelect} />);
+    await typeset(container);
     const term = container.querySelector<HTMLElement>(`[data-term="${gravityTerm}"]`)!;
     fireEvent.mouseOver(term.querySelector(".mord") ?? term);
     expect(onTermFocus).toHaveBeenLastCalledWith(gravityTerm);
@@ -58,8 +72,9 @@ describe("equations cell", () => {
     expect(term.classList.contains("hn-term-active")).toBe(false);
   });
 
-  it("highlights a term chosen from outside", () => {
+  it("highlights a term chosen from outside", async () => {
     const { container } = render(<EquationsCellView cell={cell} results={results} onOperation={() => {}} activeTerm={inertiaTerm} />);
+    await typeset(container);
     expect(container.querySelector(`[data-term="${inertiaTerm}"]`)!.classList.contains("hn-term-active")).toBe(true);
   });
 
@@ -81,13 +96,14 @@ describe("equations cell", () => {
 describe("stale results in the notebook", () => {
   const doc = modelToDocument(templateModel("single-pendulum"), (() => { let n = 0; return () => `c${++n}`; })());
 
-  it("keeps the last results visible and marks generated cells stale, not source cells", () => {
+  it("keeps the last results visible and marks generated cells stale, not source cells", async () => {
     const { rerender } = render(<Notebook document={doc} onChange={() => {}} results={results} />);
     expect(screen.queryByTestId("stale-marker")).toBeNull();
     rerender(<Notebook document={doc} onChange={() => {}} results={results} stale />);
     const equations = screen.getByTestId("cell-c5");
     expect(equations.querySelector('[data-testid="stale-marker"]')).not.toBeNull();
     expect(equations.classList.contains("hn-stale")).toBe(true);
+    await typeset(equations);
     expect(equations.querySelectorAll("[data-term]")).toHaveLength(2);
     expect(screen.getByTestId("cell-c3").querySelector('[data-testid="stale-marker"]')).toBeNull();
   });

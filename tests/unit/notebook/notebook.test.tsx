@@ -1,6 +1,6 @@
 // @vitest-environment jsdom
 import { afterEach, describe, expect, it, vi } from "vitest";
-import { cleanup, createEvent, fireEvent, render, screen, within } from "@testing-library/react";
+import { configure, cleanup, createEvent, fireEvent, render, screen, within } from "@testing-library/react";
 import { useState } from "react";
 import { Notebook } from "@/components/notebook/notebook";
 import { NoteCellEditor } from "@/components/notebook/note-cell";
@@ -8,6 +8,8 @@ import { createCell, documentToModel, modelToDocument, type DerivationDocument, 
 import { templateModel } from "@/lib/notebook/templates";
 
 afterEach(cleanup);
+// Editors lint after a pause and KaTeX loads on first use; allow for a busy machine.
+configure({ asyncUtilTimeout: 5000 });
 
 function counter(prefix: string) {
   let n = 0;

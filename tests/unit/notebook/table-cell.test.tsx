@@ -1,6 +1,6 @@
 // @vitest-environment jsdom
 import { afterEach, describe, expect, it, vi } from "vitest";
-import { cleanup, fireEvent, render, screen, within } from "@testing-library/react";
+import { configure, cleanup, fireEvent, render, screen, waitFor, within } from "@testing-library/react";
 import { useState } from "react";
 import { TableCellEditor } from "@/components/notebook/table-cell";
 import { applyOperation, documentSymbols, type DerivationDocument, type DocumentOperation, type ParametersCell, type TableCell } from "@/lib/notebook/document";
@@ -8,6 +8,8 @@ import { duplicateNames } from "@/lib/notebook/field-checks";
 import { locateDiagnostics } from "@/lib/notebook/results";
 
 afterEach(cleanup);
+// Editors lint after a pause and KaTeX loads on first use; allow for a busy machine.
+configure({ asyncUtilTimeout: 5000 });
 
 const parameters: ParametersCell = {
   id: "p",
@@ -105,11 +107,12 @@ describe("parameter grid", () => {
     expect(screen.getByRole("textbox", { name: "Unit, parameter 1" }).getAttribute("aria-invalid")).toBeNull();
   });
 
-  it("renders definitions with an expression editor and a live preview", () => {
+  it("renders definitions with an expression editor and a live preview", async () => {
     const definitions: TableCell = { id: "d", kind: "definitions", collapsed: false, rows: [{ id: "x", name: "x1", expr: "l1*sin(theta1)", description: "" }] };
     const { container } = render(<Harness initial={[definitions]} />);
     expect(screen.getByRole("textbox", { name: "Expression of x1" })).toBeTruthy();
     // KaTeX MathML carries the source; the subscript and the sine show the naming rules applied.
+    await waitFor(() => expect(container.querySelector("annotation[encoding='application/x-tex']")).not.toBeNull());
     const annotation = container.querySelector("annotation[encoding='application/x-tex']");
     expect(annotation?.textContent).toBe("x_{1} = l_{1}\\,\\sin\\left(\\theta_{1}\\right)");
   });
