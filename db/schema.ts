@@ -1,6 +1,7 @@
 import { relations } from "drizzle-orm";
 import {
   boolean,
+  doublePrecision,
   index,
   integer,
   jsonb,
@@ -178,3 +179,80 @@ export const evaluations = pgTable(
 );
 export type Evaluation = typeof evaluations.$inferSelect;
 export type NewEvaluation = typeof evaluations.$inferInsert;
+
+// Files attached to a derivation: measured rig data (CSV) and images. The bytes
+// live in object storage under `objectKey`; a row exists only once the object does.
+export const fileKinds = ["measured_csv", "image"] as const;
+export type FileKind = (typeof fileKinds)[number];
+export const fileKind = pgEnum("file_kind", fileKinds);
+
+/** What the upload check found in a measured-data CSV (columns in header order, time in seconds). */
+export interface MeasuredFileSummary {
+  timeUnit: string;
+  columns: { coordinate: string; unit: string; targetUnit: string }[];
+  rowCount: number;
+  timeSpan: { start: number; end: number };
+}
+
+export const files = pgTable(
+  "files",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    derivationId: uuid("derivation_id").notNull().references(() => derivations.id, { onDelete: "cascade" }),
+    kind: fileKind("kind").notNull(),
+    objectKey: text("object_key").notNull().unique(),
+    originalName: text("original_name").notNull(),
+    contentType: text("content_type").notNull(),
+    sizeBytes: integer("size_bytes").notNull(),
+    uploadedById: uuid("uploaded_by_id").references(() => users.id, { onDelete: "set null" }),
+    // Measured-data CSVs only.
+    summary: jsonb("summary").$type<MeasuredFileSummary>(),
+    ...timestamps,
+  },
+  (table) => [index("files_derivation_idx").on(table.derivationId, table.createdAt)],
+);
+export type StoredFile = typeof files.$inferSelect;
+export type NewStoredFile = typeof files.$inferInsert;
+
+export const simulationRunStatuses = ["completed", "failed"] as const;
+export type SimulationRunStatus = (typeof simulationRunStatuses)[number];
+export const simulationRunStatus = pgEnum("simulation_run_status", simulationRunStatuses);
+
+/** Columns of a stored trajectory, as plain arrays (JSON in the row or in object storage). */
+export interface StoredTrajectory {
+  coordinateNames: string[];
+  times: number[];
+  coordinates: number[][];
+  rates: number[][];
+  energy: number[] | null;
+}
+
+// A simulation run on the server, kept with its settings so teammates see the
+// same plots. Small trajectories sit in `trajectory`; large ones in object
+// storage under `trajectoryKey` (exactly one of the two is set).
+export const simulationRuns = pgTable(
+  "simulation_runs",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    derivationId: uuid("derivation_id").notNull().references(() => derivations.id, { onDelete: "cascade" }),
+    settings: jsonb("settings").$type<Record<string, unknown>>().notNull(),
+    status: simulationRunStatus("status").notNull(),
+    // failure.reason / failure.message, null when completed.
+    failureReason: text("failure_reason"),
+    failureMessage: text("failure_message"),
+    timeReached: doublePrecision("time_reached").notNull(),
+    summary: jsonb("summary").$type<Record<string, unknown>>().notNull().default({}),
+    trajectory: jsonb("trajectory").$type<StoredTrajectory>(),
+    trajectoryKey: text("trajectory_key"),
+    pointCount: integer("point_count").notNull(),
+    // Relative drift of the energy function; null unless the derivation found it conserved.
+    energyDrift: doublePrecision("energy_drift"),
+    // SHA-256 of the normalised model the run used (the document may change afterwards).
+    modelHash: text("model_hash").notNull(),
+    createdById: uuid("created_by_id").references(() => users.id, { onDelete: "set null" }),
+    ...timestamps,
+  },
+  (table) => [index("simulation_runs_derivation_idx").on(table.derivationId, table.createdAt)],
+);
+export type SimulationRun = typeof simulationRuns.$inferSelect;
+export type NewSimulationRun = typeof simulationRuns.$inferInsert;

@@ -24,6 +24,18 @@ const envSchema = z.object({
   SIGN_IN_WINDOW_MINUTES: z.coerce.number().int().positive().default(15),
   INVITE_TTL_HOURS: z.coerce.number().int().positive().default(72),
   PASSWORD_RESET_TTL_MINUTES: z.coerce.number().int().positive().default(60),
+  // Object storage (S3-compatible). Locally the S3 fake started by scripts/s3.sh, with its fixed key pair.
+  S3_ENDPOINT: z.url().default("http://127.0.0.1:4568"),
+  S3_REGION: z.string().min(1).default("us-east-1"),
+  S3_BUCKET: z.string().min(3).default("holonomy"),
+  S3_ACCESS_KEY_ID: z.string().min(1).default("S3RVER"),
+  S3_SECRET_ACCESS_KEY: z.string().min(1).default("S3RVER"),
+  // Largest accepted uploads, in bytes.
+  UPLOAD_MAX_CSV_BYTES: z.coerce.number().int().positive().default(10 * 1024 * 1024),
+  UPLOAD_MAX_IMAGE_BYTES: z.coerce.number().int().positive().default(5 * 1024 * 1024),
+  // Wall-clock ceilings for server-side simulations and fits (a request may ask for less).
+  SIMULATION_TIME_LIMIT_MS: z.coerce.number().int().positive().default(20_000),
+  FIT_TIME_LIMIT_MS: z.coerce.number().int().positive().default(60_000),
 });
 
 export type Env = z.infer<typeof envSchema>;

@@ -7,6 +7,7 @@ export type ErrorKind =
   | "not_found"
   | "conflict"
   | "unprocessable"
+  | "too_large"
   | "rate_limited"
   | "unavailable"
   | "internal";
@@ -26,7 +27,11 @@ export type ErrorSurface =
   | "mailbox"
   | "mail"
   | "model"
-  | "engine";
+  | "engine"
+  | "file"
+  | "storage"
+  | "simulation"
+  | "fit";
 
 export type ErrorCode = `${ErrorKind}:${ErrorSurface}`;
 
@@ -37,6 +42,7 @@ export const statusByKind: Record<ErrorKind, number> = {
   not_found: 404,
   conflict: 409,
   unprocessable: 422,
+  too_large: 413,
   rate_limited: 429,
   unavailable: 503,
   internal: 500,
@@ -57,6 +63,7 @@ const kindMessages: Record<ErrorKind, string> = {
   not_found: "Not found.",
   conflict: "That conflicts with existing data.",
   unprocessable: "The content cannot be processed as it stands.",
+  too_large: "The upload is larger than the limit.",
   rate_limited: "Too many requests. Try again later.",
   unavailable: "A service is not reachable right now.",
   internal: "Something went wrong on our side.",

@@ -16,6 +16,8 @@ export const actions = [
   "derivation:comment",
   "derivation:approve",
   "derivation:lock",
+  "derivation:attach",
+  "derivation:simulate",
 ] as const;
 export type Action = (typeof actions)[number];
 
@@ -43,6 +45,11 @@ const rules: Record<Action, Record<MemberRole, Rule>> = {
   "derivation:comment": { lead: true, analyst: true, reviewer: true, viewer: false },
   "derivation:approve": { lead: true, analyst: false, reviewer: false, viewer: false },
   "derivation:lock": { lead: true, analyst: false, reviewer: false, viewer: false },
+  // Uploading or removing measured data and images changes the derivation's record.
+  "derivation:attach": { lead: true, analyst: notApproved, reviewer: false, viewer: false },
+  // Running a simulation or a fit stores a run but leaves the document alone,
+  // so reviewers may check a derivation by running it.
+  "derivation:simulate": { lead: true, analyst: true, reviewer: true, viewer: false },
 };
 
 /** May a member with `role` perform `action` (on `resource`)? No role means no. */

@@ -19,6 +19,8 @@ const expected: Record<Action, { draft: MemberRole[]; approved: MemberRole[] }> 
   "derivation:comment": { draft: ["lead", "analyst", "reviewer"], approved: ["lead", "analyst", "reviewer"] },
   "derivation:approve": { draft: ["lead"], approved: ["lead"] },
   "derivation:lock": { draft: ["lead"], approved: ["lead"] },
+  "derivation:attach": { draft: ["lead", "analyst"], approved: ["lead"] },
+  "derivation:simulate": { draft: ["lead", "analyst", "reviewer"], approved: ["lead", "analyst", "reviewer"] },
 };
 
 describe("permission table", () => {
