@@ -38,6 +38,8 @@ export interface CellFrameProps {
   readOnly?: boolean;
   /** Generated cells: the results shown belong to an older version of the derivation. */
   stale?: boolean;
+  /** Generated cells: an evaluation is running; the last results stay visible meanwhile. */
+  busy?: boolean;
   /** Singletons (kinetic, potential, …) cannot be duplicated. */
   canDuplicate: boolean;
   onCollapse: (collapsed: boolean) => void;
@@ -130,6 +132,11 @@ export function CellFrame(props: CellFrameProps) {
           {KIND_MARKS[cell.kind]}
         </span>
         <h3 className="min-w-0 flex-1 truncate text-sm font-medium text-ink">{title}</h3>
+        {props.busy && (
+          <span className="animate-pulse rounded bg-action-soft px-1.5 py-0.5 text-[11px] font-medium text-action" role="status" data-testid="busy-marker">
+            evaluating…
+          </span>
+        )}
         {stale && (
           <span className="rounded border border-seal/60 bg-seal-soft px-1.5 py-0.5 text-[11px] font-medium text-seal" data-testid="stale-marker">
             stale

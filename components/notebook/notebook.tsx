@@ -177,6 +177,7 @@ export function Notebook(props: NotebookProps) {
             count={doc.cells.length}
             readOnly={readOnly}
             stale={isGeneratedCell(cell) && stale && results !== null}
+            busy={isGeneratedCell(cell) && evaluating && results !== null}
             canDuplicate={canAddCell(doc, cell.kind)}
             onCollapse={(collapsed) => dispatch({ type: "setCollapsed", cellId: cell.id, collapsed })}
             onDuplicate={() => dispatch({ type: "duplicateCell", cellId: cell.id, newCellId: newId() })}

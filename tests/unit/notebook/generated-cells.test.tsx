@@ -106,6 +106,10 @@ describe("stale results in the notebook", () => {
     await typeset(equations);
     expect(equations.querySelectorAll("[data-term]")).toHaveLength(2);
     expect(screen.getByTestId("cell-c3").querySelector('[data-testid="stale-marker"]')).toBeNull();
+    // While a new evaluation runs, the old results stay and the cell says it is working.
+    rerender(<Notebook document={doc} onChange={() => {}} results={results} stale evaluating />);
+    expect(screen.getByTestId("cell-c5").querySelector('[data-testid="busy-marker"]')).not.toBeNull();
+    expect(screen.getByTestId("cell-c5").querySelectorAll("[data-term]")).toHaveLength(2);
   });
 
   it("lists evaluator errors that have no cell, and places the rest on their cells", async () => {
