@@ -5,5 +5,6 @@ cd "$ROOT"
 ensure_node_modules
 bash scripts/db.sh start
 bash scripts/mail.sh start 1025 1080
+bash scripts/s3.sh start 4568 holonomy
 npx tsx scripts/migrate.ts
 exec npx next dev -H 127.0.0.1 -p 3000
