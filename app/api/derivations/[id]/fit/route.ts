@@ -1,0 +1,38 @@
+import { getFileByIdAndDerivationId } from "@/db/queries/files";
+import { apiRoute, readJson } from "@/lib/api/route";
+import { loadDerivationFor } from "@/lib/auth/access";
+import { assertCan } from "@/lib/auth/permissions";
+import { requireUser } from "@/lib/auth/session";
+import { AppError } from "@/lib/errors";
+import { applyFittedValues } from "@/lib/simulation/apply-fit";
+import { fitToMeasuredFile } from "@/lib/simulation/service";
+import { parseOrThrow } from "@/lib/validation/parse";
+import { derivationIdOf } from "../derivation-id";
+import { fitSchema } from "./schema";
+
+type Params = { id: string };
+
+/**
+ * Fits parameters to an attached measured file by least squares, in a worker
+ * with a time limit: fitted values with standard errors, residual RMS and the
+ * measured-against-fitted overlay. With `apply: true` the values are also
+ * written to the Parameters cell (lead, or analyst on an unapproved derivation).
+ */
+export const POST = apiRoute<Params>(async (request, { params }) => {
+  const user = await requireUser();
+  const id = await derivationIdOf(params);
+  const { derivation, membership } = await loadDerivationFor(user, id, "derivation:simulate");
+  const input = parseOrThrow(fitSchema, await readJson(request));
+  // Refuse before the (long) fit rather than after it.
+  if (input.apply) assertCan(membership.role, "derivation:edit", { status: derivation.status });
+  const file = await getFileByIdAndDerivationId({ id: input.fileId, derivationId: id });
+  if (!file) throw new AppError("not_found:file", "File not found.", { fieldErrors: { fileId: ["No such file on this derivation."] } });
+
+  const result = await fitToMeasuredFile({ derivation, request: { ...input, file } });
+  let applied = null;
+  if (input.apply) {
+    const values = Object.fromEntries(result.fit.parameters.map((p) => [p.name, p.value]));
+    applied = await applyFittedValues({ derivation, actorId: user.id, values, fileId: file.id, baseUpdatedAt: derivation.updatedAt });
+  }
+  return Response.json({ ...result, applied });
+});

@@ -1,0 +1,105 @@
+/**
+ * Tasks of the server's simulation worker (simulation-worker.ts): derive the
+ * model, build the first-order system and integrate or fit, all inside one
+ * worker thread so the pool's time and memory limits cover the whole job.
+ * Framework-free: no Next.js, no database, no storage.
+ *
+ * Problems with the settings or the measured data come back as a result
+ * (`{ ok: false, error }`) with the library's code and field, so the route can
+ * answer 422 precisely; model errors are thrown and cross the thread boundary
+ * as the engine's typed errors.
+ */
+import { deriveModel } from "../mechanics/derive";
+import type { Model } from "../mechanics/model";
+import { validateModel } from "../mechanics/validate-model";
+import { energyDrift, type EnergyDriftReport } from "../simulate/checks";
+import { FitError, MeasuredDataError, SimulationSetupError } from "../simulate/errors";
+import { fitParameters, type FitParameter, type FitResult } from "../simulate/fit";
+import { integrate, type SimulationResult } from "../simulate/integrate";
+import { parseMeasuredCsv } from "../simulate/measured";
+import { systemFromDerivation } from "../simulate/system";
+import { errorPayload, type SimulationSettingsMessage, type WorkerErrorPayload } from "../simulate/worker-protocol";
+
+export type TaskFailure = { ok: false; error: WorkerErrorPayload };
+
+export interface SimulateTaskInput {
+  model: unknown;
+  settings: SimulationSettingsMessage;
+  energyDriftThreshold?: number;
+}
+
+export type SimulateTaskOutput =
+  | { ok: true; result: SimulationResult; energyCheck: Omit<EnergyDriftReport, "series"> | null }
+  | TaskFailure;
+
+export interface FitTaskInput {
+  model: unknown;
+  csvText: string;
+  parameters: FitParameter[];
+  settings?: Partial<Omit<SimulationSettingsMessage, "startTime" | "endTime" | "outputStep" | "outputTimes" | "timeLimitMs">>;
+  coordinateScales?: Record<string, number>;
+  maxIterations?: number;
+  timeLimitMs: number;
+}
+
+export type FitTaskOutput =
+  | { ok: true; result: FitResult; measured: { times: Float64Array; series: { coordinate: string; unit: string; targetUnit: string; values: Float64Array }[] } }
+  | TaskFailure;
+
+function systemOf(raw: unknown) {
+  const model: Model = validateModel(raw);
+  return systemFromDerivation(model, deriveModel(model));
+}
+
+function failure(error: unknown): TaskFailure {
+  if (error instanceof SimulationSetupError || error instanceof FitError || error instanceof MeasuredDataError) {
+    return { ok: false, error: errorPayload(error) };
+  }
+  throw error;
+}
+
+export function simulateTask(payload: unknown): SimulateTaskOutput {
+  const { model, settings, energyDriftThreshold } = payload as SimulateTaskInput;
+  const system = systemOf(model);
+  try {
+    const result = integrate(system, settings);
+    let energyCheck: Omit<EnergyDriftReport, "series"> | null = null;
+    if (result.energy && system.energyConserved) {
+      const { series: _series, ...report } = energyDrift(result.energy, { threshold: energyDriftThreshold });
+      energyCheck = report;
+    }
+    return { ok: true, result, energyCheck };
+  } catch (error) {
+    return failure(error);
+  }
+}
+
+export function fitTask(payload: unknown): FitTaskOutput {
+  const input = payload as FitTaskInput;
+  const validated = validateModel(input.model);
+  const system = systemFromDerivation(validated, deriveModel(validated));
+  try {
+    const measured = parseMeasuredCsv(input.csvText, { coordinates: validated.coordinates });
+    const result = fitParameters({
+      system,
+      measured,
+      parameters: input.parameters,
+      settings: input.settings,
+      coordinateScales: input.coordinateScales,
+      maxIterations: input.maxIterations,
+      timeLimitMs: input.timeLimitMs,
+    });
+    return {
+      ok: true,
+      result,
+      measured: {
+        times: measured.times,
+        series: measured.series.map((s) => ({ coordinate: s.coordinate, unit: s.unit, targetUnit: s.targetUnit, values: s.values })),
+      },
+    };
+  } catch (error) {
+    return failure(error);
+  }
+}
+
+export const SIMULATION_TASKS = { simulate: simulateTask, fit: fitTask };
