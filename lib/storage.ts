@@ -1,5 +1,5 @@
 import "server-only";
-import { DeleteObjectCommand, GetObjectCommand, HeadObjectCommand, NoSuchKey, PutObjectCommand, S3Client, S3ServiceException } from "@aws-sdk/client-s3";
+import { DeleteObjectCommand, GetObjectCommand, HeadObjectCommand, ListObjectsV2Command, NoSuchKey, PutObjectCommand, S3Client, S3ServiceException } from "@aws-sdk/client-s3";
 import { env } from "@/lib/env";
 import { AppError } from "@/lib/errors";
 
@@ -86,6 +86,16 @@ export async function objectExists({ key }: { key: string }): Promise<boolean> {
   } catch (error) {
     if (isMissing(error)) return false;
     throw unavailable("look-up", error);
+  }
+}
+
+/** Keys under a prefix (at most `limit`), e.g. everything stored for one derivation. */
+export async function listObjectKeys({ prefix, limit = 1000 }: { prefix: string; limit?: number }): Promise<string[]> {
+  try {
+    const response = await client().send(new ListObjectsV2Command({ Bucket: env.S3_BUCKET, Prefix: prefix, MaxKeys: limit }));
+    return (response.Contents ?? []).flatMap((item) => (item.Key ? [item.Key] : []));
+  } catch (error) {
+    throw unavailable("listing", error);
   }
 }
 

@@ -24,8 +24,8 @@ export const fitSchema = z.object({
     .object({
       initialCoordinates: values.optional(),
       initialRates: values.optional(),
-      relativeTolerance: z.number().min(1e-14).max(1e-2).optional(),
-      absoluteTolerance: z.number().min(1e-16).max(1).optional(),
+      relativeTolerance: z.number().min(1e-12).max(0.1).optional(),
+      absoluteTolerance: z.number().positive().max(1).optional(),
       inputs: z.record(name, z.string().trim().min(1).max(2000)).optional(),
       parameters: values.optional(),
     })

@@ -20,8 +20,8 @@ export const runSettingsSchema = z
     startTime: finite.default(0),
     endTime: finite,
     outputStep: z.number().positive("Must be positive.").refine(Number.isFinite, "Must be a finite number."),
-    relativeTolerance: z.number().min(1e-14).max(1e-2).optional(),
-    absoluteTolerance: z.number().min(1e-16).max(1).optional(),
+    relativeTolerance: z.number().min(1e-12).max(0.1).optional(),
+    absoluteTolerance: z.number().positive().max(1).optional(),
     inputs: z
       .record(name, z.string().trim().min(1, "Write an expression of t.").max(2000))
       .refine((record) => Object.keys(record).length <= 50, "Too many inputs.")
