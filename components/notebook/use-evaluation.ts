@@ -1,0 +1,98 @@
+"use client";
+
+/**
+ * Server evaluation of the notebook: the document is posted (unsaved edits
+ * included) once edits settle, or at once on request. The server answers from
+ * its cache when the model is unchanged. The last good results stay on screen;
+ * they are marked stale while they belong to another version of the document
+ * or after an evaluation failed, whose diagnostics are returned for the editors.
+ */
+import { keepPreviousData, useQuery } from "@tanstack/react-query";
+import { useCallback, useEffect, useMemo, useState } from "react";
+import { apiFetch } from "@/lib/api/fetcher";
+import { AppError } from "@/lib/errors";
+import type { Model } from "@/lib/mechanics/model";
+import { documentToModel, type DerivationDocument } from "@/lib/notebook/document";
+import type { ModelDiagnostic, NotebookResults } from "@/lib/notebook/results";
+
+export interface EvaluationResponse {
+  cached: boolean;
+  modelHash: string;
+  result: NotebookResults;
+  timings: Record<string, number>;
+  requestMs: number;
+  evaluatedAt: string;
+}
+
+export interface Evaluation {
+  results: NotebookResults | null;
+  response: EvaluationResponse | null;
+  evaluating: boolean;
+  stale: boolean;
+  /** The latest evaluation's failure, if it failed. */
+  error: AppError | null;
+  diagnostics: readonly ModelDiagnostic[];
+  evaluatedModel: Model | undefined;
+  evaluateNow: () => void;
+}
+
+const NO_DIAGNOSTICS: readonly ModelDiagnostic[] = [];
+
+function diagnosticsOf(error: unknown): readonly ModelDiagnostic[] {
+  if (!(error instanceof AppError)) return NO_DIAGNOSTICS;
+  const list = (error.details as { diagnostics?: unknown } | undefined)?.diagnostics;
+  return Array.isArray(list) ? (list as ModelDiagnostic[]) : NO_DIAGNOSTICS;
+}
+
+export function useEvaluation({ derivationId, document, settleMs = 1_200 }: { derivationId: string; document: DerivationDocument; settleMs?: number }): Evaluation {
+  const json = JSON.stringify(document);
+  const [settled, setSettled] = useState(json);
+  const [lastGood, setLastGood] = useState<{ json: string; response: EvaluationResponse } | null>(null);
+
+  useEffect(() => {
+    if (json === settled) return;
+    const timer = setTimeout(() => setSettled(json), settleMs);
+    return () => clearTimeout(timer);
+  }, [json, settled, settleMs]);
+
+  const query = useQuery({
+    queryKey: ["derivations", derivationId, "evaluation", settled],
+    queryFn: ({ signal }) =>
+      apiFetch<EvaluationResponse>(`/api/derivations/${derivationId}/evaluate`, { method: "POST", body: { document: JSON.parse(settled) as unknown }, signal }),
+    placeholderData: keepPreviousData,
+    staleTime: Infinity,
+    gcTime: 5 * 60_000,
+    retry: false,
+    refetchOnWindowFocus: false,
+  });
+
+  useEffect(() => {
+    if (query.isSuccess && !query.isPlaceholderData && query.data) setLastGood({ json: settled, response: query.data });
+  }, [query.isSuccess, query.isPlaceholderData, query.data, settled]);
+
+  const error = query.isError && query.error instanceof AppError ? query.error : query.isError ? new AppError("internal:api", "The evaluation failed.") : null;
+  const evaluatedModel = useMemo(() => {
+    try {
+      return documentToModel(JSON.parse(settled) as DerivationDocument);
+    } catch {
+      return undefined;
+    }
+  }, [settled]);
+
+  const { refetch } = query;
+  const evaluateNow = useCallback(() => {
+    if (json === settled) void refetch();
+    else setSettled(json);
+  }, [json, settled, refetch]);
+
+  return {
+    results: lastGood?.response.result ?? null,
+    response: lastGood?.response ?? null,
+    evaluating: query.isFetching,
+    stale: lastGood !== null && (lastGood.json !== json || query.isError),
+    error,
+    diagnostics: query.isError ? diagnosticsOf(query.error) : NO_DIAGNOSTICS,
+    evaluatedModel,
+    evaluateNow,
+  };
+}
