@@ -18,7 +18,6 @@ import {
   type EquationForm,
   type EquationsCell,
   type LinearizationCell,
-  type SimulationCell,
 } from "@/lib/notebook/document";
 import { symbolLatex } from "@/lib/notebook/latex-preview";
 import type { NotebookResults } from "@/lib/notebook/results";
@@ -349,6 +348,5 @@ export function CodeExportCellView({ cell, results, evaluating, readOnly, onOper
 // ---------------------------------------------------------------------------
 // Simulation (settings and runs arrive with the simulation work)
 
-export function SimulationCellView(_props: GeneratedCellProps<SimulationCell>) {
-  return <p className="text-sm text-muted">Simulation runs from the notebook are not available in this version; the cell keeps its place and settings.</p>;
-}
+// The simulation cell lives in ./simulation (settings, worker runs, results loaded on first use).
+export { SimulationCellView } from "./simulation/simulation-cell";

@@ -57,6 +57,8 @@ export interface NotebookProps {
   onTermSelect?: (termId: string) => void;
   /** Id factory for new cells and rows (tests pass a deterministic one). */
   newId?: () => string;
+  /** The stored derivation's id: simulation cells use it for server runs and measured data. */
+  derivationId?: string;
 }
 
 const EMPTY_DIAGNOSTICS: readonly LocatedDiagnostic[] = [];
@@ -216,6 +218,8 @@ export function Notebook(props: NotebookProps) {
               readOnly={readOnly}
               dispatch={dispatch}
               newId={newId}
+              document={doc}
+              derivationId={props.derivationId}
               activeTerm={props.activeTerm}
               onTermFocus={props.onTermFocus}
               onTermSelect={props.onTermSelect}
@@ -244,12 +248,14 @@ interface CellBodyProps {
   readOnly: boolean;
   dispatch: (op: DocumentOperation) => void;
   newId: () => string;
+  document: DerivationDocument;
+  derivationId?: string;
   activeTerm?: string | null;
   onTermFocus?: (termId: string | null) => void;
   onTermSelect?: (termId: string) => void;
 }
 
-function CellBody({ cell, symbols, duplicates, diagnostics, results, evaluating, readOnly, dispatch, newId, ...terms }: CellBodyProps): ReactNode {
+function CellBody({ cell, symbols, duplicates, diagnostics, results, evaluating, readOnly, dispatch, newId, document, derivationId, ...terms }: CellBodyProps): ReactNode {
   const common = { readOnly, onOperation: dispatch };
   switch (cell.kind) {
     case "coordinates":
@@ -274,7 +280,7 @@ function CellBody({ cell, symbols, duplicates, diagnostics, results, evaluating,
     case "code-export":
       return <CodeExportCellView cell={cell} results={results} evaluating={evaluating} {...common} />;
     case "simulation":
-      return <SimulationCellView cell={cell} results={results} evaluating={evaluating} {...common} />;
+      return <SimulationCellView cell={cell} results={results} evaluating={evaluating} document={document} derivationId={derivationId} {...common} />;
   }
 }
 

@@ -1,0 +1,331 @@
+"use client";
+
+/**
+ * Measured data for the simulation cell: upload a CSV or a sketch image
+ * through the files API (the server's line-numbered errors shown as given),
+ * overlay a measured file on the charts, fit chosen parameters on the server
+ * and write the fitted values back to the Parameters cell.
+ */
+import { useCallback, useEffect, useMemo, useState } from "react";
+import { apiFetch } from "@/lib/api/fetcher";
+import { AppError, appErrorFromBody } from "@/lib/errors";
+import { documentSymbols, type DerivationDocument, type DocumentOperation } from "@/lib/notebook/document";
+import type { MeasuredOverlay } from "./results-view";
+import type { RunRequest } from "./settings";
+import { parseNumber } from "./settings";
+
+interface FileJson {
+  id: string;
+  kind: "measured_csv" | "image";
+  originalName: string;
+  sizeBytes: number;
+  summary: { timeUnit: string; columns: { coordinate: string; unit: string }[]; rowCount: number; timeSpan: { start: number; end: number } } | null;
+  url: string;
+  createdAt: string;
+}
+
+interface FitResponse {
+  fit: {
+    status: string;
+    parameters: { name: string; initial: number; value: number; standardError: number | null; unit: string | null }[];
+    residualRms: number;
+    observations: number;
+    iterations: number;
+  };
+  overlay: MeasuredOverlay & { fileId: string };
+}
+
+interface FitRow {
+  chosen: boolean;
+  initial: string;
+  min: string;
+  max: string;
+}
+
+export interface MeasuredPanelProps {
+  derivationId: string;
+  document: DerivationDocument;
+  readOnly?: boolean;
+  /** The cell's valid settings, used for inputs and tolerances of the fit (null while invalid). */
+  settings: RunRequest | null;
+  onOverlay: (overlay: MeasuredOverlay | null) => void;
+  onOperation: (op: DocumentOperation) => void;
+}
+
+/** Uploads one file; errors come back as the server's AppError (message names the line). */
+async function uploadFile(derivationId: string, file: File, kind: "measured_csv" | "image"): Promise<FileJson> {
+  const form = new FormData();
+  form.set("file", file);
+  form.set("kind", kind);
+  let response: Response;
+  try {
+    response = await fetch(`/api/derivations/${derivationId}/files`, { method: "POST", body: form, credentials: "same-origin" });
+  } catch (error) {
+    throw new AppError("unavailable:api", "The server could not be reached. Check your connection.", { cause: error });
+  }
+  const body: unknown = await response.json().catch(() => undefined);
+  if (!response.ok) throw appErrorFromBody(body, response.status);
+  return (body as { file: FileJson }).file;
+}
+
+function messageOf(error: unknown): string {
+  if (error instanceof AppError) {
+    const fieldMessages = Object.values(error.fieldErrors ?? {}).flat();
+    return fieldMessages.length > 0 && !fieldMessages.includes(error.message) ? `${error.message} ${fieldMessages.join(" ")}` : error.message;
+  }
+  return error instanceof Error ? error.message : String(error);
+}
+
+export function MeasuredPanel({ derivationId, document: doc, readOnly, settings, onOverlay, onOperation }: MeasuredPanelProps) {
+  const [files, setFiles] = useState<FileJson[]>([]);
+  const [uploadError, setUploadError] = useState<string | null>(null);
+  const [busy, setBusy] = useState<string | null>(null);
+  const [selected, setSelected] = useState<string>("");
+  const [rows, setRows] = useState<Record<string, FitRow>>({});
+  const [fit, setFit] = useState<FitResponse | null>(null);
+  const [fitError, setFitError] = useState<string | null>(null);
+  const [applied, setApplied] = useState(false);
+  const parameters = useMemo(() => {
+    const list: { name: string; value: string; cellId: string; rowId: string }[] = [];
+    for (const cell of doc.cells) if (cell.kind === "parameters") for (const row of cell.rows) if (row.name.trim()) list.push({ name: row.name.trim(), value: row.value, cellId: cell.id, rowId: row.id });
+    return list;
+  }, [doc]);
+  const symbols = useMemo(() => documentSymbols(doc), [doc]);
+
+  const load = useCallback(async () => {
+    try {
+      const { files: list } = await apiFetch<{ files: FileJson[] }>(`/api/derivations/${derivationId}/files`);
+      setFiles(list);
+    } catch {
+      setFiles([]);
+    }
+  }, [derivationId]);
+  useEffect(() => {
+    void load();
+  }, [load]);
+
+  const measuredFiles = files.filter((f) => f.kind === "measured_csv");
+  const images = files.filter((f) => f.kind === "image");
+
+  async function upload(file: File | undefined, kind: "measured_csv" | "image") {
+    if (!file) return;
+    setUploadError(null);
+    setBusy(kind === "image" ? "Uploading image…" : "Uploading measured data…");
+    try {
+      const stored = await uploadFile(derivationId, file, kind);
+      if (stored.kind === "measured_csv") setSelected(stored.id);
+      await load();
+    } catch (error) {
+      setUploadError(messageOf(error));
+    } finally {
+      setBusy(null);
+    }
+  }
+
+  async function showOnCharts(fileId: string) {
+    setUploadError(null);
+    try {
+      const response = await fetch(`/api/files/${fileId}`, { credentials: "same-origin" });
+      if (!response.ok) throw new Error("The file could not be read.");
+      const text = await response.text();
+      // The parser (with unit conversion) loads only when asked for.
+      const { parseMeasuredCsv } = await import("@/lib/simulate/measured");
+      const coordinates = doc.cells.flatMap((c) => (c.kind === "coordinates" ? c.rows.filter((r) => r.name.trim()).map((r) => ({ name: r.name.trim(), unit: r.unit.trim() })) : []));
+      const data = parseMeasuredCsv(text, { coordinates });
+      onOverlay({ times: data.times, series: data.series.map((s) => ({ coordinate: s.coordinate, unit: s.targetUnit, measured: s.values })) });
+    } catch (error) {
+      setUploadError(messageOf(error));
+    }
+  }
+
+  async function runFit() {
+    setFitError(null);
+    setFit(null);
+    setApplied(false);
+    const chosen = Object.entries(rows).filter(([name, row]) => row.chosen && parameters.some((p) => p.name === name));
+    if (!selected) return setFitError("Choose a measured file.");
+    if (chosen.length === 0) return setFitError("Choose at least one parameter to fit.");
+    const request = [];
+    for (const [name, row] of chosen) {
+      const initial = parseNumber(row.initial);
+      const min = parseNumber(row.min);
+      const max = parseNumber(row.max);
+      if (initial === null || min === null || max === null) return setFitError(`The bounds of ${name} must be numbers.`);
+      if (min !== undefined && max !== undefined && !(min < max)) return setFitError(`The minimum of ${name} must be below its maximum.`);
+      request.push({ name, ...(initial !== undefined ? { initial } : {}), ...(min !== undefined ? { min } : {}), ...(max !== undefined ? { max } : {}) });
+    }
+    setBusy("Fitting on the server…");
+    try {
+      const body = {
+        fileId: selected,
+        parameters: request,
+        ...(settings
+          ? { settings: { relativeTolerance: settings.relativeTolerance, absoluteTolerance: settings.absoluteTolerance, inputs: settings.inputs, parameters: settings.parameters } }
+          : {}),
+      };
+      const response = await apiFetch<FitResponse>(`/api/derivations/${derivationId}/fit`, { method: "POST", body });
+      setFit(response);
+      onOverlay(response.overlay);
+    } catch (error) {
+      setFitError(messageOf(error));
+    } finally {
+      setBusy(null);
+    }
+  }
+
+  function applyFit() {
+    if (!fit) return;
+    for (const fitted of fit.fit.parameters) {
+      const row = parameters.find((p) => p.name === fitted.name);
+      if (row) onOperation({ type: "updateRow", cellId: row.cellId, rowId: row.rowId, patch: { value: String(Number(fitted.value.toPrecision(8))) } });
+    }
+    setApplied(true);
+  }
+
+  return (
+    <details className="min-w-0 rounded border border-line px-3 py-2" data-testid="measured-panel">
+      <summary className="cursor-pointer text-sm font-medium">Measured data and fitting</summary>
+      <div className="mt-2 flex min-w-0 flex-col gap-3 text-sm">
+        {!readOnly && (
+          <div className="flex flex-wrap gap-3">
+            <label className="flex items-center gap-2">
+              <span>Upload measured CSV</span>
+              <input type="file" accept=".csv,text/csv" className="max-w-56 text-xs" onChange={(event) => void upload(event.target.files?.[0], "measured_csv")} />
+            </label>
+            <label className="flex items-center gap-2">
+              <span>Attach sketch image</span>
+              <input type="file" accept="image/png,image/jpeg,image/webp" className="max-w-56 text-xs" onChange={(event) => void upload(event.target.files?.[0], "image")} />
+            </label>
+          </div>
+        )}
+        <p className="text-xs text-muted">
+          CSV: a header row naming the time column and coordinates with units, e.g. <code className="font-mono">t [s], {symbols.coordinates[0] ?? "q"} [{"rad"}]</code>; time strictly increasing.
+        </p>
+        {busy && <p role="status">{busy}</p>}
+        {uploadError && (
+          <p className="rounded border border-danger/60 bg-danger-soft px-3 py-1.5 text-danger" role="alert" data-testid="upload-error">
+            {uploadError}
+          </p>
+        )}
+        {images.length > 0 && (
+          <div>
+            <p className="text-xs uppercase tracking-wide text-muted">Images (paste the Markdown into a Note cell)</p>
+            <ul className="flex flex-col gap-1">
+              {images.map((image) => (
+                <li key={image.id} className="flex min-w-0 flex-wrap items-center gap-2">
+                  <span className="truncate">{image.originalName}</span>
+                  <code className="select-all break-all font-mono text-xs">{`![${image.originalName.replace(/[[\]]/g, "")}](${image.url})`}</code>
+                </li>
+              ))}
+            </ul>
+          </div>
+        )}
+        {measuredFiles.length > 0 && (
+          <div className="flex flex-col gap-2">
+            <label className="flex flex-wrap items-center gap-2">
+              <span>Measured file</span>
+              <select className="max-w-full rounded border border-line bg-paper px-1 py-0.5" value={selected} onChange={(event) => setSelected(event.target.value)}>
+                <option value="">—</option>
+                {measuredFiles.map((f) => (
+                  <option key={f.id} value={f.id}>
+                    {f.originalName} ({f.summary ? `${f.summary.rowCount} rows, ${f.summary.columns.map((c) => c.coordinate).join(", ")}` : "measured"})
+                  </option>
+                ))}
+              </select>
+              <button type="button" className="text-action hover:underline disabled:opacity-40" disabled={!selected} onClick={() => void showOnCharts(selected)}>
+                Show on charts
+              </button>
+              <button type="button" className="text-muted hover:underline" onClick={() => onOverlay(null)}>
+                Hide
+              </button>
+            </label>
+            <fieldset className="min-w-0">
+              <legend className="text-xs uppercase tracking-wide text-muted">Fit parameters (least squares on the server)</legend>
+              <div className="overflow-x-auto">
+                <table className="text-[13px]">
+                  <thead>
+                    <tr className="text-left text-muted">
+                      <th className="pr-2 font-normal">Fit</th>
+                      <th className="pr-2 font-normal">Parameter</th>
+                      <th className="pr-2 font-normal">Initial</th>
+                      <th className="pr-2 font-normal">Min</th>
+                      <th className="pr-2 font-normal">Max</th>
+                    </tr>
+                  </thead>
+                  <tbody>
+                    {parameters.map((p) => {
+                      const row = rows[p.name] ?? { chosen: false, initial: "", min: "", max: "" };
+                      const set = (patch: Partial<FitRow>) => setRows((all) => ({ ...all, [p.name]: { ...row, ...patch } }));
+                      return (
+                        <tr key={p.name}>
+                          <td className="pr-2">
+                            <input type="checkbox" checked={row.chosen} aria-label={`Fit ${p.name}`} onChange={(event) => set({ chosen: event.target.checked })} />
+                          </td>
+                          <td className="pr-2 font-mono">{p.name}</td>
+                          {(["initial", "min", "max"] as const).map((key) => (
+                            <td key={key} className="pr-2">
+                              <input
+                                className="w-24 rounded border border-line bg-paper px-1 font-mono"
+                                value={row[key]}
+                                placeholder={key === "initial" ? p.value || "—" : ""}
+                                aria-label={`${p.name} ${key}`}
+                                onChange={(event) => set({ [key]: event.target.value })}
+                              />
+                            </td>
+                          ))}
+                        </tr>
+                      );
+                    })}
+                  </tbody>
+                </table>
+              </div>
+              <button type="button" className="mt-2 rounded border border-action px-3 py-1 text-action hover:bg-action-soft disabled:opacity-50" disabled={busy !== null} onClick={() => void runFit()}>
+                Fit
+              </button>
+            </fieldset>
+          </div>
+        )}
+        {fitError && (
+          <p className="text-danger" role="alert">
+            {fitError}
+          </p>
+        )}
+        {fit && (
+          <div className="flex min-w-0 flex-col gap-2" data-testid="fit-result">
+            <div className="overflow-x-auto">
+              <table className="text-[13px]">
+                <thead>
+                  <tr className="text-left text-muted">
+                    <th className="pr-3 font-normal">Parameter</th>
+                    <th className="pr-3 font-normal">Fitted value</th>
+                    <th className="pr-3 font-normal">Standard error</th>
+                    <th className="pr-3 font-normal">Unit</th>
+                  </tr>
+                </thead>
+                <tbody>
+                  {fit.fit.parameters.map((p) => (
+                    <tr key={p.name}>
+                      <td className="pr-3 font-mono">{p.name}</td>
+                      <td className="pr-3 font-mono">{Number(p.value.toPrecision(6))}</td>
+                      <td className="pr-3 font-mono">{p.standardError === null ? "not identifiable" : `± ${Number(p.standardError.toPrecision(2))}`}</td>
+                      <td className="pr-3">{p.unit ?? ""}</td>
+                    </tr>
+                  ))}
+                </tbody>
+              </table>
+            </div>
+            <p>
+              Residual RMS {fit.fit.residualRms.toExponential(3)} over {fit.fit.observations} readings, {fit.fit.iterations} iterations ({fit.fit.status}). Standard errors assume
+              independent, equal-variance measurement noise.
+            </p>
+            {!readOnly && (
+              <button type="button" className="self-start rounded bg-action px-3 py-1 text-action-ink hover:bg-action-strong" onClick={applyFit} disabled={applied}>
+                {applied ? "Written to the Parameters cell" : "Write fitted values to the Parameters cell"}
+              </button>
+            )}
+          </div>
+        )}
+      </div>
+    </details>
+  );
+}

@@ -1,0 +1,148 @@
+"use client";
+
+/**
+ * Results of one simulation: failure (reason and time reached, partial
+ * trajectory still plotted), energy drift check, small-amplitude check,
+ * charts of coordinates, rates, phase portrait and energy, the mechanism
+ * animation, and the trajectory as CSV. Loaded on first use, with uPlot.
+ */
+import { useMemo } from "react";
+import { energyDrift } from "@/lib/simulate/checks";
+import { Chart, type ChartSeries } from "./chart";
+import { MechanismAnimation } from "./mechanism-animation";
+import { FAILURE_LABELS, trajectoryCsv, type RunDisplay } from "./run-view";
+
+export interface MeasuredOverlay {
+  times: ArrayLike<number>;
+  series: { coordinate: string; unit?: string; measured: ArrayLike<number>; fitted?: ArrayLike<number> }[];
+}
+
+export interface ResultsViewProps {
+  run: RunDisplay;
+  measured?: MeasuredOverlay | null;
+}
+
+function formatNumber(value: number, digits = 3): string {
+  if (value === 0) return "0";
+  const magnitude = Math.abs(value);
+  return magnitude >= 1e-3 && magnitude < 1e5 ? String(Number(value.toPrecision(digits + 1))) : value.toExponential(digits - 1);
+}
+
+/** Measured values placed on the simulated time grid's union, so uPlot sees one x array. */
+function mergeOnTime(times: ArrayLike<number>, simulated: ArrayLike<number>[], overlayTimes: ArrayLike<number>, overlay: ArrayLike<number>[]) {
+  const x: number[] = [];
+  const sim = simulated.map(() => [] as (number | null)[]);
+  const meas = overlay.map(() => [] as (number | null)[]);
+  let i = 0;
+  let j = 0;
+  while (i < times.length || j < overlayTimes.length) {
+    const ti = i < times.length ? times[i]! : Infinity;
+    const tj = j < overlayTimes.length ? overlayTimes[j]! : Infinity;
+    const t = Math.min(ti, tj);
+    x.push(t);
+    simulated.forEach((s, k) => sim[k]!.push(ti === t ? s[i]! : null));
+    overlay.forEach((s, k) => meas[k]!.push(tj === t ? s[j]! : null));
+    if (ti === t) i++;
+    if (tj === t) j++;
+  }
+  return { x, sim, meas };
+}
+
+export default function ResultsView({ run, measured }: ResultsViewProps) {
+  const names = run.coordinateNames;
+
+  const coordinateChart = useMemo(() => {
+    const overlay = measured?.series.filter((s) => names.includes(s.coordinate)) ?? [];
+    if (!measured || overlay.length === 0) {
+      return { x: run.times, series: names.map((q, i) => ({ label: q, values: run.coordinates[i]! })) as ChartSeries[] };
+    }
+    const merged = mergeOnTime(run.times, run.coordinates, measured.times, overlay.map((s) => s.measured));
+    return {
+      x: merged.x,
+      series: [...names.map((q, i) => ({ label: q, values: merged.sim[i]! })), ...overlay.map((s, k) => ({ label: `${s.coordinate} measured`, values: merged.meas[k]!, points: true }))],
+    };
+  }, [run, measured, names]);
+  const rateSeries = useMemo<ChartSeries[]>(() => names.map((q, i) => ({ label: `${q}'`, values: run.rates[i]! })), [run, names]);
+  const phase = useMemo(() => names.map((q, i) => ({ label: `${q}' against ${q}`, x: run.coordinates[i]!, y: run.rates[i]! })), [run, names]);
+  const energySeries = useMemo<ChartSeries[] | null>(() => {
+    if (!run.energy || run.energy.length === 0) return null;
+    return [{ label: "(h − h₀)/|h₀|", values: energyDrift(run.energy).series }];
+  }, [run]);
+
+  const failure = run.failure;
+  const drift = run.energyCheck;
+  const oscillation = run.smallOscillation;
+
+  function downloadCsv() {
+    const blob = new Blob([trajectoryCsv(run)], { type: "text/csv" });
+    const url = URL.createObjectURL(blob);
+    const link = document.createElement("a");
+    link.href = url;
+    link.download = "trajectory.csv";
+    link.click();
+    setTimeout(() => URL.revokeObjectURL(url), 1000);
+  }
+
+  return (
+    <div className="flex min-w-0 flex-col gap-3" data-testid="simulation-results">
+      <div className="flex flex-wrap items-baseline gap-x-4 gap-y-1 text-sm">
+        <span className="font-medium">{run.label}</span>
+        <span className="text-muted">
+          {run.times.length.toLocaleString("en-GB")} points to t = {formatNumber(run.timeReached, 4)} s
+          {run.rhsEvaluations !== undefined && ` · ${run.rhsEvaluations.toLocaleString("en-GB")} right-hand-side evaluations`}
+          {run.wallTimeMs !== undefined && ` in ${formatNumber(run.wallTimeMs, 3)} ms`}
+        </span>
+        <button type="button" className="ml-auto rounded border border-line px-2 py-0.5 text-action hover:border-action" onClick={downloadCsv}>
+          Download CSV
+        </button>
+      </div>
+
+      {failure && (
+        <div className="rounded border border-danger/60 bg-danger-soft px-3 py-2 text-sm text-danger" role="alert" data-testid="simulation-failure">
+          <p className="font-medium">
+            Integration stopped: {FAILURE_LABELS[failure.reason] ?? failure.reason} at t = <span data-testid="time-reached">{formatNumber(failure.timeReached, 6)}</span> s.
+          </p>
+          <p>{failure.message}</p>
+          <p className="text-ink">The trajectory up to that time is plotted below.</p>
+        </div>
+      )}
+
+      {drift ? (
+        <p className={drift.warning ? "rounded border border-danger/60 bg-danger-soft px-3 py-2 text-sm text-danger" : "text-sm"} role={drift.warning ? "alert" : undefined} data-testid="energy-drift">
+          Energy drift (largest relative change of the energy function):{" "}
+          <strong className="font-mono" data-testid="energy-drift-value">
+            {drift.relativeDrift.toExponential(2)}
+          </strong>{" "}
+          — threshold {drift.threshold.toExponential(0)}.{" "}
+          {drift.warning
+            ? "Above the threshold for a conservative system: the model may not be conservative as written, or the tolerance is too loose."
+            : "Within the threshold."}
+        </p>
+      ) : (
+        run.energy && (
+          <p className="text-sm text-muted" data-testid="energy-not-conserved">
+            The energy function is not conserved in this model (dissipation, applied forces or explicit time), so its change is shown but not checked.
+          </p>
+        )
+      )}
+
+      {oscillation && (
+        <p className={oscillation.passed ? "text-sm" : "text-sm text-danger"} data-testid="small-oscillation">
+          Small-amplitude check ({oscillation.coordinate}, amplitude {formatNumber(oscillation.amplitude)}): linearization {formatNumber(oscillation.expectedFrequency, 5)} rad/s
+          {oscillation.measuredFrequency !== null ? `, simulation ${formatNumber(oscillation.measuredFrequency, 5)} rad/s` : ""}
+          {oscillation.relativeError !== null ? ` (relative difference ${oscillation.relativeError.toExponential(1)})` : ""} — {oscillation.passed ? "agree." : (oscillation.problem ?? "they disagree.")}
+        </p>
+      )}
+
+      <div className="grid min-w-0 gap-3 lg:grid-cols-2">
+        <Chart title="Coordinates" xLabel="t (s)" yLabel="q" x={coordinateChart.x} series={coordinateChart.series} testId="chart-coordinates" />
+        <Chart title="Rates" xLabel="t (s)" yLabel="q'" x={run.times} series={rateSeries} testId="chart-rates" />
+        <Chart title="Phase portrait" xLabel="q" yLabel="q'" x={run.times} series={[]} xy={phase} testId="chart-phase" />
+        {energySeries && <Chart title="Energy function, relative change" xLabel="t (s)" yLabel="relative change" x={run.times} series={energySeries} testId="chart-energy" />}
+      </div>
+
+      {run.pointsError && <p className="text-sm text-danger">The mechanism could not be drawn: {run.pointsError}</p>}
+      {run.points && run.points.length > 0 && <MechanismAnimation times={run.times} points={run.points} />}
+    </div>
+  );
+}

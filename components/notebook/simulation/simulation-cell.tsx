@@ -1,0 +1,428 @@
+"use client";
+
+/**
+ * The simulation cell: settings stored in the cell (text as typed), a run in
+ * this browser's Web Worker with progress and Cancel, a run on the server that
+ * is stored for the team, the stored runs, results (loaded on first use with
+ * uPlot), and measured data with parameter fitting.
+ */
+import clsx from "clsx";
+import { lazy, Suspense, useCallback, useEffect, useMemo, useState, type ReactNode } from "react";
+import { apiFetch } from "@/lib/api/fetcher";
+import { AppError } from "@/lib/errors";
+import { DocumentError, documentSymbols, documentToModel, type DerivationDocument, type DocumentOperation, type SimulationCell } from "@/lib/notebook/document";
+import type { NotebookResults } from "@/lib/notebook/results";
+import { ExpressionEditor } from "../editor/expression-editor";
+import { MeasuredPanel } from "./measured-panel";
+import { displayOfStoredRun, type RunDisplay, type StoredRunJson } from "./run-view";
+import { readSettings, validateSettings, type SimulationCellSettings } from "./settings";
+import type { MeasuredOverlay } from "./results-view";
+import { useSimulationWorker } from "./use-simulation-worker";
+
+const ResultsView = lazy(() => import("./results-view"));
+
+export interface SimulationCellProps {
+  cell: SimulationCell;
+  results: NotebookResults | null;
+  evaluating?: boolean;
+  readOnly?: boolean;
+  onOperation: (op: DocumentOperation) => void;
+  /** The whole document: its model is what the simulation integrates. */
+  document?: DerivationDocument;
+  /** Present when the derivation is stored: enables server runs, stored runs and measured data. */
+  derivationId?: string;
+}
+
+const inputClass = "w-full min-w-0 rounded border border-line bg-paper px-1.5 py-0.5 font-mono text-[13px] text-ink aria-[invalid=true]:border-danger";
+
+function FieldError({ message, id }: { message?: string; id: string }) {
+  if (!message) return null;
+  return (
+    <span id={id} className="text-xs text-danger">
+      {message}
+    </span>
+  );
+}
+
+function NumberField({
+  label,
+  name,
+  value,
+  error,
+  placeholder,
+  readOnly,
+  onChange,
+  cellId,
+}: {
+  label: ReactNode;
+  name: string;
+  value: string;
+  error?: string;
+  placeholder?: string;
+  readOnly?: boolean;
+  onChange: (value: string) => void;
+  cellId: string;
+}) {
+  const id = `${cellId}-${name}`;
+  return (
+    <label className="flex min-w-0 flex-col gap-0.5 text-[13px] text-muted" htmlFor={id}>
+      <span>{label}</span>
+      <input
+        id={id}
+        className={inputClass}
+        value={value}
+        placeholder={placeholder}
+        readOnly={readOnly}
+        inputMode="decimal"
+        aria-invalid={error ? true : undefined}
+        aria-describedby={error ? `${id}-error` : undefined}
+        onChange={(event) => onChange(event.target.value)}
+      />
+      <FieldError id={`${id}-error`} message={error} />
+    </label>
+  );
+}
+
+/** The settings form alone (also used by tests): every change is one `updateSettings` operation. */
+export function SimulationSettingsForm({
+  cell,
+  document: doc,
+  readOnly,
+  errors,
+  onOperation,
+}: {
+  cell: SimulationCell;
+  document: DerivationDocument;
+  readOnly?: boolean;
+  errors: Record<string, string>;
+  onOperation: (op: DocumentOperation) => void;
+}) {
+  const settings = readSettings(cell.settings);
+  const symbols = useMemo(() => documentSymbols(doc), [doc]);
+  const parameterValues = useMemo(() => {
+    const values = new Map<string, string>();
+    for (const c of doc.cells) if (c.kind === "parameters") for (const row of c.rows) values.set(row.name.trim(), row.value);
+    return values;
+  }, [doc]);
+  const update = (patch: Partial<SimulationCellSettings>) => onOperation({ type: "updateSettings", cellId: cell.id, patch });
+  const common = { readOnly, cellId: cell.id };
+
+  return (
+    <div className="flex min-w-0 flex-col gap-3" data-testid="simulation-settings">
+      {errors._ && <p className="text-sm text-danger">{errors._}</p>}
+      {symbols.coordinates.length > 0 && (
+        <fieldset className="min-w-0">
+          <legend className="mb-1 text-xs uppercase tracking-wide text-muted">Initial state</legend>
+          <div className="grid min-w-0 grid-cols-[repeat(auto-fill,minmax(9rem,1fr))] gap-2">
+            {symbols.coordinates.map((q) => (
+              <div key={q} className="contents">
+                <NumberField
+                  label={<span className="font-mono">{q}(t₀)</span>}
+                  name={`initialCoordinates.${q}`}
+                  value={settings.initialCoordinates[q] ?? ""}
+                  placeholder="0"
+                  error={errors[`initialCoordinates.${q}`]}
+                  onChange={(value) => update({ initialCoordinates: { ...settings.initialCoordinates, [q]: value } })}
+                  {...common}
+                />
+                <NumberField
+                  label={<span className="font-mono">{q}&apos;(t₀)</span>}
+                  name={`initialRates.${q}`}
+                  value={settings.initialRates[q] ?? ""}
+                  placeholder="0"
+                  error={errors[`initialRates.${q}`]}
+                  onChange={(value) => update({ initialRates: { ...settings.initialRates, [q]: value } })}
+                  {...common}
+                />
+              </div>
+            ))}
+          </div>
+        </fieldset>
+      )}
+      <fieldset className="min-w-0">
+        <legend className="mb-1 text-xs uppercase tracking-wide text-muted">Time and accuracy</legend>
+        <div className="grid min-w-0 grid-cols-[repeat(auto-fill,minmax(9rem,1fr))] gap-2">
+          <NumberField label="Start time (s)" name="startTime" value={settings.startTime} error={errors.startTime} onChange={(startTime) => update({ startTime })} {...common} />
+          <NumberField label="End time (s)" name="endTime" value={settings.endTime} error={errors.endTime} onChange={(endTime) => update({ endTime })} {...common} />
+          <NumberField label="Output step (s)" name="outputStep" value={settings.outputStep} error={errors.outputStep} onChange={(outputStep) => update({ outputStep })} {...common} />
+          <NumberField label="Relative tolerance" name="tolerance" value={settings.tolerance} error={errors.tolerance} onChange={(tolerance) => update({ tolerance })} {...common} />
+        </div>
+      </fieldset>
+      {symbols.inputs.length > 0 && (
+        <fieldset className="min-w-0">
+          <legend className="mb-1 text-xs uppercase tracking-wide text-muted">Inputs as functions of t (blank is 0)</legend>
+          <div className="flex min-w-0 flex-col gap-2">
+            {symbols.inputs.map((u) => (
+              <div key={u} className="grid min-w-0 grid-cols-[4rem_1fr] items-center gap-2">
+                <span className="font-mono text-sm">{u}(t) =</span>
+                <ExpressionEditor
+                  value={settings.inputs[u] ?? ""}
+                  onChange={(value) => update({ inputs: { ...settings.inputs, [u]: value } })}
+                  label={`Input ${u} as a function of t`}
+                  symbols={{ coordinates: [], parameters: symbols.parameters, inputs: [], definitions: [] }}
+                  allowEmpty
+                  readOnly={readOnly}
+                  placeholder="e.g. 0.5*sin(2*t)"
+                  data-testid={`simulation-input-${u}`}
+                />
+              </div>
+            ))}
+          </div>
+        </fieldset>
+      )}
+      {symbols.parameters.length > 0 && (
+        <fieldset className="min-w-0">
+          <legend className="mb-1 text-xs uppercase tracking-wide text-muted">Parameter overrides for this simulation (blank keeps the Parameters cell)</legend>
+          <div className="grid min-w-0 grid-cols-[repeat(auto-fill,minmax(9rem,1fr))] gap-2">
+            {symbols.parameters.map((p) => (
+              <NumberField
+                key={p}
+                label={<span className="font-mono">{p}</span>}
+                name={`parameterOverrides.${p}`}
+                value={settings.parameterOverrides[p] ?? ""}
+                placeholder={parameterValues.get(p) || "symbolic"}
+                error={errors[`parameterOverrides.${p}`]}
+                onChange={(value) => update({ parameterOverrides: { ...settings.parameterOverrides, [p]: value } })}
+                {...common}
+              />
+            ))}
+          </div>
+        </fieldset>
+      )}
+      <fieldset className="min-w-0">
+        <legend className="mb-1 text-xs uppercase tracking-wide text-muted">Mechanism points (definitions drawn as x, y)</legend>
+        {symbols.definitions.length === 0 ? (
+          <p className="text-sm text-muted">Add definitions of positions to draw the mechanism.</p>
+        ) : (
+          <div className="flex flex-col gap-1.5">
+            {settings.points.map((point, i) => (
+              <div key={i} className="flex flex-wrap items-center gap-2 text-sm">
+                <span className="text-muted">Point {i + 1}</span>
+                {(["x", "y"] as const).map((axis) => (
+                  <label key={axis} className="flex items-center gap-1">
+                    <span className="font-mono">{axis}</span>
+                    <select
+                      className="rounded border border-line bg-paper px-1 py-0.5 font-mono text-[13px] text-ink"
+                      value={point[axis]}
+                      disabled={readOnly}
+                      aria-label={`Point ${i + 1} ${axis}`}
+                      aria-invalid={errors[`points.${i}.${axis}`] ? true : undefined}
+                      onChange={(event) => update({ points: settings.points.map((p, j) => (j === i ? { ...p, [axis]: event.target.value } : p)) })}
+                    >
+                      <option value="">—</option>
+                      {symbols.definitions.map((d) => (
+                        <option key={d} value={d}>
+                          {d}
+                        </option>
+                      ))}
+                    </select>
+                  </label>
+                ))}
+                {!readOnly && (
+                  <button type="button" className="text-muted hover:text-danger" aria-label={`Remove point ${i + 1}`} onClick={() => update({ points: settings.points.filter((_, j) => j !== i) })}>
+                    ×
+                  </button>
+                )}
+                <FieldError id={`${cell.id}-point-${i}`} message={errors[`points.${i}.x`] ?? errors[`points.${i}.y`]} />
+              </div>
+            ))}
+            {!readOnly && (
+              <button type="button" className="self-start text-sm text-action hover:underline" onClick={() => update({ points: [...settings.points, guessPoint(symbols.definitions, settings.points.length)] })}>
+                + Add point
+              </button>
+            )}
+          </div>
+        )}
+      </fieldset>
+    </div>
+  );
+}
+
+/** Pairs definitions named x1/y1, x2/y2 … in order, as a starting suggestion. */
+function guessPoint(definitions: string[], index: number): { x: string; y: string } {
+  const xs = definitions.filter((d) => /^x/i.test(d));
+  const x = xs[index] ?? "";
+  const y = x ? (definitions.find((d) => d.toLowerCase() === `y${x.slice(1).toLowerCase()}`) ?? "") : "";
+  return { x, y };
+}
+
+/** The first mode of the linearization, when there is one and the Parameters cell's values are used. */
+function smallOscillationOf(results: NotebookResults | null, coordinates: string[]) {
+  const linearization = results?.linearization;
+  const selected = linearization?.selected;
+  const frequency = selected?.frequenciesHz[0];
+  if (!selected || frequency === undefined || !(frequency > 0) || !selected.stable) return null;
+  const equilibrium = linearization.equilibria[selected.index]?.values ?? {};
+  const modeShape = coordinates.map((_, i) => selected.modeShapes[i]?.[0] ?? 0);
+  if (modeShape.every((v) => v === 0)) return null;
+  return { expectedFrequency: 2 * Math.PI * frequency, equilibrium, modeShape };
+}
+
+export function SimulationCellView({ cell, results, readOnly, onOperation, document: doc, derivationId }: SimulationCellProps) {
+  const [run, setRun] = useState<RunDisplay | null>(null);
+  const [attempted, setAttempted] = useState(false);
+  const [problem, setProblem] = useState<string | null>(null);
+  const [serverBusy, setServerBusy] = useState(false);
+  const [storedRuns, setStoredRuns] = useState<StoredRunJson[] | null>(null);
+  const [overlay, setOverlay] = useState<MeasuredOverlay | null>(null);
+  const { state, start, cancel } = useSimulationWorker(setRun);
+
+  const symbols = useMemo(() => (doc ? documentSymbols(doc) : null), [doc]);
+  const settings = readSettings(cell.settings);
+  const validation = symbols ? validateSettings(settings, symbols) : null;
+  const errors = attempted && validation && !validation.ok ? validation.errors : {};
+
+  const loadRuns = useCallback(async () => {
+    if (!derivationId) return;
+    try {
+      const { runs } = await apiFetch<{ runs: StoredRunJson[] }>(`/api/derivations/${derivationId}/runs`);
+      setStoredRuns(runs);
+    } catch {
+      setStoredRuns([]);
+    }
+  }, [derivationId]);
+  useEffect(() => {
+    void loadRuns();
+  }, [loadRuns]);
+
+  if (!doc || !symbols || !validation) {
+    return <p className="text-sm text-muted">The simulation needs the derivation&apos;s document.</p>;
+  }
+
+  function prepare() {
+    setAttempted(true);
+    setProblem(null);
+    if (!validation?.ok) return null;
+    try {
+      return { model: documentToModel(doc!), request: validation.request, points: validation.points };
+    } catch (error) {
+      if (error instanceof DocumentError) setProblem(`${error.field}: ${error.message}`);
+      else throw error;
+      return null;
+    }
+  }
+
+  function runHere() {
+    const prepared = prepare();
+    if (!prepared) return;
+    const overrides = Object.keys(prepared.request.parameters).length > 0;
+    start({
+      model: prepared.model,
+      settings: { ...prepared.request, timeLimitMs: 60_000 },
+      points: prepared.points,
+      smallOscillation: overrides ? null : smallOscillationOf(results, symbols!.coordinates),
+    });
+  }
+
+  async function runOnServer() {
+    const prepared = prepare();
+    if (!prepared || !derivationId) return;
+    setServerBusy(true);
+    try {
+      const { run: stored } = await apiFetch<{ run: StoredRunJson }>(`/api/derivations/${derivationId}/runs`, { method: "POST", body: prepared.request });
+      const display = displayOfStoredRun(stored);
+      if (display) setRun(display);
+      await loadRuns();
+    } catch (error) {
+      setProblem(error instanceof AppError ? error.message : "The server run failed.");
+    } finally {
+      setServerBusy(false);
+    }
+  }
+
+  async function openRun(runId: string) {
+    setProblem(null);
+    try {
+      const { run: stored } = await apiFetch<{ run: StoredRunJson }>(`/api/derivations/${derivationId}/runs/${runId}`);
+      const display = displayOfStoredRun(stored);
+      if (display) setRun(display);
+      else setProblem("That run has no trajectory stored.");
+    } catch (error) {
+      setProblem(error instanceof AppError ? error.message : "The run could not be opened.");
+    }
+  }
+
+  const running = state.phase === "running";
+  const progress = state.phase === "running" ? (state.progress?.fraction ?? 0) : 0;
+
+  return (
+    <div className="flex min-w-0 flex-col gap-3">
+      <SimulationSettingsForm cell={cell} document={doc} readOnly={readOnly} errors={errors} onOperation={onOperation} />
+      <div className="flex flex-wrap items-center gap-2">
+        <button
+          type="button"
+          className="rounded bg-action px-3 py-1 text-sm text-action-ink hover:bg-action-strong disabled:opacity-50"
+          disabled={running}
+          onClick={runHere}
+          data-testid="simulation-run"
+        >
+          Run simulation
+        </button>
+        {derivationId && !readOnly && (
+          <button
+            type="button"
+            className="rounded border border-action px-3 py-1 text-sm text-action hover:bg-action-soft disabled:opacity-50"
+            disabled={serverBusy || running}
+            onClick={() => void runOnServer()}
+          >
+            {serverBusy ? "Running on server…" : "Run on server and save"}
+          </button>
+        )}
+        {running && (
+          <>
+            <progress className="h-2 w-40 max-w-full accent-[var(--action)]" max={1} value={progress} aria-label="Simulation progress" data-testid="simulation-progress" />
+            <span className="font-mono text-xs text-muted tabular-nums">{Math.round(progress * 100)} %</span>
+            <button type="button" className="rounded border border-line px-2 py-0.5 text-sm hover:border-danger hover:text-danger" onClick={cancel}>
+              Cancel
+            </button>
+          </>
+        )}
+      </div>
+      {attempted && !validation.ok && <p className="text-sm text-danger" role="alert">Correct the highlighted settings to run.</p>}
+      {problem && (
+        <p className="text-sm text-danger" role="alert">
+          {problem}
+        </p>
+      )}
+      {state.phase === "error" && (
+        <p className="rounded border border-danger/60 bg-danger-soft px-3 py-2 text-sm text-danger" role="alert" data-testid="simulation-error">
+          The simulation could not start{state.error.field ? ` (${state.error.field})` : ""}: {state.error.message}
+        </p>
+      )}
+      {storedRuns && storedRuns.length > 0 && (
+        <details className="text-sm">
+          <summary className="cursor-pointer text-muted">Stored runs ({storedRuns.length})</summary>
+          <ul className="mt-1 flex flex-col gap-1">
+            {storedRuns.map((stored) => (
+              <li key={stored.id} className="flex flex-wrap items-center gap-2">
+                <button type="button" className="text-action hover:underline" onClick={() => void openRun(stored.id)}>
+                  Open
+                </button>
+                <span className={clsx(stored.status === "failed" && "text-danger")}>
+                  {new Date(stored.createdAt).toLocaleString("en-GB", { dateStyle: "medium", timeStyle: "short" })} · {stored.createdBy?.name ?? "—"} · {stored.pointCount} points ·{" "}
+                  {stored.status === "failed" ? `failed at t = ${stored.timeReached}` : "completed"}
+                  {stored.energyDrift !== null && ` · drift ${stored.energyDrift.toExponential(1)}`}
+                </span>
+              </li>
+            ))}
+          </ul>
+        </details>
+      )}
+      {run && (
+        <Suspense fallback={<p className="text-sm text-muted">Loading charts…</p>}>
+          <ResultsView run={run} measured={overlay} />
+        </Suspense>
+      )}
+      {derivationId && (
+        <MeasuredPanel
+          derivationId={derivationId}
+          document={doc}
+          readOnly={readOnly}
+          settings={validation.ok ? validation.request : null}
+          onOverlay={setOverlay}
+          onOperation={onOperation}
+        />
+      )}
+    </div>
+  );
+}

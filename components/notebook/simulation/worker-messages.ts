@@ -1,0 +1,28 @@
+/** Messages between the simulation cell and its Web Worker (simulation.worker.ts). */
+import type { SmallOscillationReport } from "@/lib/simulate/checks";
+import type { SimulationSettingsMessage, WorkerErrorPayload, WorkerResponse } from "@/lib/simulate/worker-protocol";
+
+export interface ModelSimulationJob {
+  /** The model file of the document, validated and derived inside the worker. */
+  model: unknown;
+  settings: SimulationSettingsMessage;
+  /** Definition pairs drawn as the mechanism's points. */
+  points: { x: string; y: string }[];
+  energyDriftThreshold?: number;
+  /** The linearization's first mode, to compare a small swing against (rad/s). */
+  smallOscillation?: { expectedFrequency: number; equilibrium: Record<string, number>; modeShape: number[] } | null;
+}
+
+export type ModelSimulationRequest = { type: "start"; id: string; job: ModelSimulationJob } | { type: "cancel"; id: string };
+
+export interface PointTrack {
+  xName: string;
+  yName: string;
+  x: Float64Array;
+  y: Float64Array;
+}
+
+export type SimulationWorkerResponse =
+  | Exclude<WorkerResponse, { type: "result" }>
+  | (Extract<WorkerResponse, { type: "result" }> & { points?: PointTrack[]; pointsError?: string | null; smallOscillation?: SmallOscillationReport | null })
+  | { type: "error"; id: string; error: WorkerErrorPayload };
