@@ -1,19 +1,10 @@
 "use client";
 
-import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
-import {
-  createColumnHelper,
-  createSortedRowModel,
-  rowSortingFeature,
-  sortFn_alphanumeric,
-  sortFn_basic,
-  sortFn_datetime,
-  tableFeatures,
-  useTable,
-  type SortingState,
-} from "@tanstack/react-table";
+import { keepPreviousData, useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
+import { createColumnHelper, rowSortingFeature, tableFeatures, useTable, type SortingState } from "@tanstack/react-table";
 import Link from "next/link";
-import { useMemo, useRef, useState } from "react";
+import { useRouter } from "next/navigation";
+import { useEffect, useRef, useState } from "react";
 import { useShortcut } from "@/components/shortcuts";
 import { Button } from "@/components/ui/button";
 import { inputClass } from "@/components/ui/field";
@@ -23,6 +14,7 @@ import { apiFetch } from "@/lib/api/fetcher";
 import { can } from "@/lib/auth/permissions";
 import { derivationStatuses, roleLabels, statusLabels, type DerivationStatus, type MemberRole } from "@/lib/domain";
 import { DeleteDerivationDialog, DerivationTitleDialog } from "./derivation-dialogs";
+import { ImportDerivationDialog, NewDerivationDialog, type NewDerivationInput } from "./new-derivation-dialogs";
 
 export interface DerivationRow {
   id: string;
@@ -31,23 +23,29 @@ export interface DerivationRow {
   ownerId: string | null;
   ownerName: string | null;
   updatedByName: string | null;
+  coordinatesCount: number;
   updatedAt: string;
 }
 
-const statusOrder: Record<DerivationStatus, number> = { draft: 0, in_review: 1, approved: 2 };
+interface DerivationPage {
+  derivations: DerivationRow[];
+  page: number;
+  pageSize: number;
+  total: number;
+}
 
-const features = tableFeatures({
-  rowSortingFeature,
-  sortedRowModel: createSortedRowModel(),
-  sortFns: { alphanumeric: sortFn_alphanumeric, datetime: sortFn_datetime, basic: sortFn_basic },
-});
+// Sorting, filtering and paging happen on the server (the table only shows one page),
+// so the table keeps the sorting state but no client-side sorted row model.
+const features = tableFeatures({ rowSortingFeature });
 const helper = createColumnHelper<typeof features, DerivationRow>();
 const columns = helper.columns([
-  helper.accessor("title", { header: "Title", sortFn: "alphanumeric" }),
-  helper.accessor((row) => statusOrder[row.status], { id: "status", header: "Status", sortFn: "basic" }),
-  helper.accessor((row) => row.ownerName ?? "", { id: "owner", header: "Owner", sortFn: "alphanumeric" }),
-  helper.accessor((row) => new Date(row.updatedAt), { id: "updatedAt", header: "Last change", sortFn: "datetime" }),
+  helper.accessor("title", { header: "Title" }),
+  helper.accessor("status", { id: "status", header: "Status" }),
+  helper.accessor((row) => row.ownerName ?? "", { id: "owner", header: "Owner" }),
+  helper.accessor("coordinatesCount", { id: "coordinates", header: "Coordinates" }),
+  helper.accessor((row) => row.updatedAt, { id: "updatedAt", header: "Last edited" }),
 ]);
+const PAGE_SIZE = 20;
 
 const dateFormat = new Intl.DateTimeFormat("en-GB", { dateStyle: "medium", timeStyle: "short" });
 const emptyRows: DerivationRow[] = [];
@@ -64,16 +62,36 @@ export function DerivationsBoard({
   owners: { id: string; name: string }[];
 }) {
   const queryClient = useQueryClient();
-  const queryKey = ["teams", teamId, "derivations"];
-  const { data, error, isPending } = useQuery({
-    queryKey,
-    queryFn: ({ signal }) => apiFetch<{ derivations: DerivationRow[] }>(`/api/teams/${teamId}/derivations`, { signal }),
-  });
+  const router = useRouter();
   const [statusFilter, setStatusFilter] = useState<DerivationStatus | "">("");
   const [ownerFilter, setOwnerFilter] = useState("");
   const [search, setSearch] = useState("");
+  const [searchTerm, setSearchTerm] = useState("");
   const [sorting, setSorting] = useState<SortingState>([{ id: "updatedAt", desc: true }]);
+  const [page, setPage] = useState(1);
+  // Typing in the search box asks the server once the typing pauses.
+  useEffect(() => {
+    const timer = setTimeout(() => setSearchTerm(search.trim()), 250);
+    return () => clearTimeout(timer);
+  }, [search]);
+  useEffect(() => setPage(1), [statusFilter, ownerFilter, searchTerm, sorting]);
+  const sort = sorting[0];
+  const params = new URLSearchParams({ page: String(page), pageSize: String(PAGE_SIZE) });
+  if (sort) {
+    params.set("sort", sort.id);
+    params.set("direction", sort.desc ? "desc" : "asc");
+  }
+  if (statusFilter) params.set("status", statusFilter);
+  if (ownerFilter) params.set("ownerId", ownerFilter);
+  if (searchTerm) params.set("search", searchTerm);
+  const listKey = ["teams", teamId, "derivations"];
+  const { data, error, isPending, isFetching } = useQuery({
+    queryKey: [...listKey, params.toString()],
+    queryFn: ({ signal }) => apiFetch<DerivationPage>(`/api/teams/${teamId}/derivations?${params.toString()}`, { signal }),
+    placeholderData: keepPreviousData,
+  });
   const [creating, setCreating] = useState(false);
+  const [importing, setImporting] = useState(false);
   const [renaming, setRenaming] = useState<DerivationRow | null>(null);
   const [deleting, setDeleting] = useState<DerivationRow | null>(null);
   const searchRef = useRef<HTMLInputElement>(null);
@@ -81,26 +99,23 @@ export function DerivationsBoard({
 
   useShortcut("/", "Search derivations by title", () => searchRef.current?.focus());
   useShortcut("n", "New derivation", () => setCreating(true), mayCreate);
+  useShortcut("i", "Import a model file", () => setImporting(true), mayCreate);
 
-  const all = data?.derivations ?? emptyRows;
-  const rows = useMemo(() => {
-    const needle = search.trim().toLowerCase();
-    return all.filter(
-      (row) =>
-        (!statusFilter || row.status === statusFilter) &&
-        (!ownerFilter || row.ownerId === ownerFilter) &&
-        (!needle || row.title.toLowerCase().includes(needle)),
-    );
-  }, [all, statusFilter, ownerFilter, search]);
+  const rows = data?.derivations ?? emptyRows;
+  const total = data?.total ?? 0;
+  const pages = Math.max(1, Math.ceil(total / PAGE_SIZE));
+  const filtered = Boolean(statusFilter || ownerFilter || searchTerm);
 
-  const table = useTable({ features, columns, data: rows, state: { sorting }, onSortingChange: setSorting });
+  const table = useTable({ features, columns, data: rows, state: { sorting }, onSortingChange: setSorting, manualSorting: true, enableSortingRemoval: false });
 
-  const refresh = () => queryClient.invalidateQueries({ queryKey });
+  const refresh = () => queryClient.invalidateQueries({ queryKey: listKey });
   const create = useMutation({
-    mutationFn: (title: string) => apiFetch(`/api/teams/${teamId}/derivations`, { method: "POST", body: { title } }),
-    onSuccess: () => {
+    mutationFn: (input: NewDerivationInput) =>
+      apiFetch<{ derivation: { id: string } }>(`/api/teams/${teamId}/derivations`, { method: "POST", body: input }),
+    onSuccess: async ({ derivation }) => {
       setCreating(false);
-      return refresh();
+      await refresh();
+      router.push(`/derivations/${derivation.id}`);
     },
   });
   const rename = useMutation({
@@ -162,9 +177,14 @@ export function DerivationsBoard({
           </select>
         </label>
         {mayCreate ? (
-          <Button variant="primary" onClick={() => setCreating(true)} title="New derivation (n)">
-            New derivation
-          </Button>
+          <>
+            <Button onClick={() => setImporting(true)} title="Import a model file (i)">
+              Import
+            </Button>
+            <Button variant="primary" onClick={() => setCreating(true)} title="New derivation (n)">
+              New derivation
+            </Button>
+          </>
         ) : null}
       </div>
 
@@ -219,9 +239,12 @@ export function DerivationsBoard({
                     <StatusBadge status={row.status} />
                   </td>
                   <td className="px-3 py-2 text-muted">{row.ownerName ?? "—"}</td>
+                  <td className="px-3 py-2 text-right tabular-nums text-muted" data-testid="coordinates-count">
+                    {row.coordinatesCount}
+                  </td>
                   <td className="px-3 py-2 whitespace-nowrap text-muted">
                     {dateFormat.format(new Date(row.updatedAt))}
-                    {row.updatedByName ? <span className="hidden lg:inline"> · {row.updatedByName}</span> : null}
+                    {row.updatedByName ? <span className="hidden lg:inline"> · by {row.updatedByName}</span> : null}
                   </td>
                   <td className="px-3 py-2 text-right whitespace-nowrap">
                     {can(role, "derivation:rename", { status: row.status }) ? (
@@ -240,14 +263,14 @@ export function DerivationsBoard({
             })}
             {!isPending && rows.length === 0 ? (
               <tr>
-                <td colSpan={5} className="px-3 py-8 text-center text-muted">
-                  {all.length === 0 ? "No derivations yet." : "No derivation matches these filters."}
+                <td colSpan={6} className="px-3 py-8 text-center text-muted">
+                  {filtered ? "No derivation matches these filters." : "No derivations yet."}
                 </td>
               </tr>
             ) : null}
             {isPending ? (
               <tr>
-                <td colSpan={5} className="px-3 py-8 text-center text-muted">
+                <td colSpan={6} className="px-3 py-8 text-center text-muted">
                   Loading…
                 </td>
               </tr>
@@ -255,18 +278,42 @@ export function DerivationsBoard({
           </tbody>
         </table>
       </div>
+      <nav className="flex items-center justify-between gap-3 text-sm text-muted" aria-label="Pages">
+        <span data-testid="derivations-total">
+          {total === 0 ? "No derivations" : `${(page - 1) * PAGE_SIZE + 1}–${Math.min(page * PAGE_SIZE, total)} of ${total}`}
+          {isFetching && !isPending ? " · updating…" : ""}
+        </span>
+        <span className="flex items-center gap-2">
+          <Button size="sm" onClick={() => setPage((p) => Math.max(1, p - 1))} disabled={page <= 1}>
+            Previous
+          </Button>
+          <span>
+            Page {page} of {pages}
+          </span>
+          <Button size="sm" onClick={() => setPage((p) => Math.min(pages, p + 1))} disabled={page >= pages}>
+            Next
+          </Button>
+        </span>
+      </nav>
 
-      <DerivationTitleDialog
+      <NewDerivationDialog
         open={creating}
-        heading="New derivation"
-        submitLabel="Create"
-        initialTitle=""
         pending={create.isPending}
         error={create.error}
-        onSubmit={(title) => create.mutate(title)}
+        onSubmit={(input) => create.mutate(input)}
         onClose={() => {
           setCreating(false);
           create.reset();
+        }}
+      />
+      <ImportDerivationDialog
+        open={importing}
+        teamId={teamId}
+        onClose={() => setImporting(false)}
+        onImported={(id) => {
+          setImporting(false);
+          void refresh();
+          router.push(`/derivations/${id}`);
         }}
       />
       <DerivationTitleDialog
