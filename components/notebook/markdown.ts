@@ -59,5 +59,18 @@ const markdown = new Marked({ gfm: true, breaks: false, async: false, extensions
 export function renderNoteHtml(source: string): string | null {
   if (typeof window === "undefined" || !DOMPurify.isSupported) return null;
   const html = markdown.parse(source, { async: false });
-  return DOMPurify.sanitize(html, { FORBID_TAGS: ["style", "form", "input", "button", "textarea", "select"], FORBID_ATTR: ["srcset"] });
+  const fragment = DOMPurify.sanitize(html, { FORBID_TAGS: ["style", "form", "input", "button", "textarea", "select"], FORBID_ATTR: ["srcset"], RETURN_DOM_FRAGMENT: true });
+  // Images only from this site's file store (sketches attached to the derivation): an
+  // outside address would tell a third party who opened the note, and when.
+  for (const image of Array.from(fragment.querySelectorAll("img"))) {
+    if (!isAttachedImage(image.getAttribute("src") ?? "")) image.replaceWith(document.createTextNode(image.getAttribute("alt") ?? ""));
+  }
+  const holder = document.createElement("div");
+  holder.appendChild(fragment);
+  return holder.innerHTML;
+}
+
+/** A same-origin path to an attached file: `/api/files/<id>`. */
+export function isAttachedImage(src: string): boolean {
+  return /^\/api\/files\/[0-9a-fA-F-]{36}$/.test(src.trim());
 }

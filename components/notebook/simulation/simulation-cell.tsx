@@ -65,8 +65,8 @@ function NumberField({
 }) {
   const id = `${cellId}-${name}`;
   return (
-    <label className="flex min-w-0 flex-col gap-0.5 text-[13px] text-muted" htmlFor={id}>
-      <span>{label}</span>
+    <div className="flex min-w-0 flex-col gap-0.5 text-[13px] text-muted">
+      <label htmlFor={id}>{label}</label>
       <input
         id={id}
         className={inputClass}
@@ -79,7 +79,7 @@ function NumberField({
         onChange={(event) => onChange(event.target.value)}
       />
       <FieldError id={`${id}-error`} message={error} />
-    </label>
+    </div>
   );
 }
 
