@@ -72,6 +72,7 @@ export default function ResultsView({ run, measured }: ResultsViewProps) {
   const failure = run.failure;
   const drift = run.energyCheck;
   const oscillation = run.smallOscillation;
+  const uncheckedDrift = useMemo(() => (!drift && run.energy && run.energy.length > 0 ? energyDrift(run.energy).relativeDrift : null), [drift, run]);
 
   function downloadCsv() {
     const blob = new Blob([trajectoryCsv(run)], { type: "text/csv" });
@@ -119,9 +120,16 @@ export default function ResultsView({ run, measured }: ResultsViewProps) {
             : "Within the threshold."}
         </p>
       ) : (
-        run.energy && (
-          <p className="text-sm text-muted" data-testid="energy-not-conserved">
-            The energy function is not conserved in this model (dissipation, applied forces or explicit time), so its change is shown but not checked.
+        uncheckedDrift !== null && (
+          <p className="text-sm" data-testid="energy-drift">
+            Energy drift (largest relative change of the energy function):{" "}
+            <strong className="font-mono" data-testid="energy-drift-value">
+              {uncheckedDrift.toExponential(2)}
+            </strong>
+            .{" "}
+            <span className="text-muted">
+              Not checked against a threshold: the model has dissipation, applied forces or explicit time, so the energy function need not be conserved.
+            </span>
           </p>
         )
       )}

@@ -80,6 +80,14 @@ describe("simulation results view", () => {
     expect(warning.textContent).toContain("Above the threshold");
   });
 
+  it("reports the drift of a non-conservative model without judging it", () => {
+    render(<ResultsView run={{ ...syntheticRun(2e-3), energyCheck: null }} />);
+    expect(screen.queryByRole("alert")).toBeNull();
+    // The synthetic energy rises linearly by 2e-3 of its start value.
+    expect(screen.getByTestId("energy-drift-value").textContent).toBe("2.00e-3");
+    expect(screen.getByTestId("energy-drift").textContent).toContain("Not checked");
+  });
+
   it("shows the failure reason and the time reached, and still plots the partial trajectory", () => {
     render(<ResultsView run={syntheticRun(1e-10, true)} />);
     const failure = screen.getByTestId("simulation-failure");
