@@ -366,6 +366,7 @@ export function NotebookPage(props: NotebookPageProps) {
         diagnostics={evaluation.diagnostics}
         evaluatedModel={evaluation.evaluatedModel}
         readOnly={!canEdit}
+        derivationId={derivationId}
       />
       {CELL_SHORTCUTS.map((shortcut) => (
         <HelpEntry key={shortcut.keys} keys={shortcut.keys} description={`${shortcut.description} (focus in the cell)`} />
