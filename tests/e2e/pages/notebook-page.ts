@@ -1,0 +1,77 @@
+import { expect, type Download, type Locator, type Page } from "@playwright/test";
+
+/** KaTeX writes zero-width spaces after sub- and superscripts; compare text without them. */
+export function plainMath(text: string): string {
+  return text.replace(/[\u200b\s]/g, "");
+}
+
+/** The derivation notebook. */
+export class NotebookPage {
+  constructor(private readonly page: Page) {}
+
+  get id(): string {
+    return new URL(this.page.url()).pathname.split("/").pop() ?? "";
+  }
+
+  get saveStatus(): Locator {
+    return this.page.getByTestId("save-status");
+  }
+
+  get equations(): Locator {
+    return this.page.getByTestId("equations");
+  }
+
+  async expectOpen(): Promise<void> {
+    await expect(this.page.getByTestId("notebook")).toBeVisible();
+  }
+
+  /** Adds a row to a table cell and fills its cells (`{ Name: "theta1", Unit: "rad" }`). */
+  async addRow(noun: "coordinate" | "parameter" | "input" | "definition", values: Record<string, string>): Promise<void> {
+    const add = this.page.getByRole("button", { name: `+ Add ${noun}` });
+    await add.click();
+    const index = await this.page.getByRole("textbox", { name: new RegExp(`^Name, ${noun} \\d+$`) }).count();
+    for (const [column, value] of Object.entries(values)) {
+      if (column === "Expression") continue;
+      await this.page.getByRole("textbox", { name: `${column}, ${noun} ${index}` }).fill(value);
+    }
+    if (values.Expression !== undefined) await this.typeExpression(`Expression of ${values.Name}`, values.Expression);
+  }
+
+  /** Types into an expression editor (CodeMirror, built when it gets focus). */
+  async typeExpression(label: string, text: string): Promise<void> {
+    await this.page.getByRole("textbox", { name: label, exact: true }).click();
+    const editor = this.page.locator(`.cm-content[aria-label="${label}"]`);
+    await expect(editor).toBeFocused();
+    await this.page.keyboard.type(text);
+    await expect(editor).toHaveText(text);
+  }
+
+  async waitUntilSaved(): Promise<void> {
+    await expect(this.saveStatus).toHaveAttribute("data-state", "saved", { timeout: 20_000 });
+  }
+
+  async evaluate(): Promise<void> {
+    await this.page.getByRole("button", { name: /^Evaluat/ }).click();
+    await this.waitForResults();
+  }
+
+  async waitForResults(): Promise<void> {
+    await expect(this.page.getByTestId("evaluation-status")).toHaveAttribute("data-state", "current", { timeout: 45_000 });
+    await expect(this.equations.locator(".katex").first()).toBeVisible();
+  }
+
+  /** The typeset equations as plain text, one entry per equation. */
+  async equationTexts(): Promise<string[]> {
+    const items = this.equations.locator(".katex-display, .katex");
+    await expect(items.first()).toBeVisible();
+    return (await this.equations.locator(".katex-html").allTextContents()).map(plainMath);
+  }
+
+  async export(format: "Model file (.model.json)" | "LaTeX document (.tex)"): Promise<Download> {
+    await this.page.getByRole("button", { name: "Export ▾" }).click();
+    await expect(this.page.getByTestId("export-safety-note")).toContainText("Derived equations are a model");
+    const downloading = this.page.waitForEvent("download");
+    await this.page.getByRole("group", { name: "Export" }).getByRole("button", { name: format }).click();
+    return downloading;
+  }
+}
