@@ -12,7 +12,7 @@ import { useCallback, useEffect, useMemo, useState } from "react";
 import { apiFetch } from "@/lib/api/fetcher";
 import { AppError } from "@/lib/errors";
 import type { Model } from "@/lib/mechanics/model";
-import { documentToModel, type DerivationDocument } from "@/lib/notebook/document";
+import { coordinateNames, documentToModel, type DerivationDocument } from "@/lib/notebook/document";
 import type { ModelDiagnostic, NotebookResults } from "@/lib/notebook/results";
 
 export interface EvaluationResponse {
@@ -47,6 +47,9 @@ function diagnosticsOf(error: unknown): readonly ModelDiagnostic[] {
 export function useEvaluation({ derivationId, document, settleMs = 1_200 }: { derivationId: string; document: DerivationDocument; settleMs?: number }): Evaluation {
   const json = JSON.stringify(document);
   const [settled, setSettled] = useState(json);
+  // A notebook without coordinates has nothing to derive yet: wait for one, or for an explicit request.
+  const [requested, setRequested] = useState(false);
+  const ready = requested || coordinateNames(document).length > 0;
   const [lastGood, setLastGood] = useState<{ json: string; response: EvaluationResponse } | null>(null);
 
   useEffect(() => {
@@ -63,6 +66,7 @@ export function useEvaluation({ derivationId, document, settleMs = 1_200 }: { de
     staleTime: Infinity,
     gcTime: 5 * 60_000,
     retry: false,
+    enabled: ready,
     refetchOnWindowFocus: false,
   });
 
@@ -81,6 +85,7 @@ export function useEvaluation({ derivationId, document, settleMs = 1_200 }: { de
 
   const { refetch } = query;
   const evaluateNow = useCallback(() => {
+    setRequested(true);
     if (json === settled) void refetch();
     else setSettled(json);
   }, [json, settled, refetch]);
