@@ -14,6 +14,7 @@
 // seeded), builds the app with `npm run build` unless --no-build is given (then
 // an existing .next build is used), and stops the server it started.
 import { spawn, execFileSync, type ChildProcess } from "node:child_process";
+import { randomBytes } from "node:crypto";
 import { existsSync } from "node:fs";
 import { gzipSync } from "node:zlib";
 
@@ -25,7 +26,9 @@ const runs = 7;
 const log = (line: string) => process.stderr.write(`[bench:notebook] ${line}\n`);
 // next build and next start set NODE_ENV themselves.
 const { NODE_ENV: _nodeEnv, ...inherited } = process.env;
-const childEnv = { ...inherited, DATABASE_URL: databaseUrl, NEXTAUTH_URL: base } as unknown as NodeJS.ProcessEnv;
+// A production server refuses the development NEXTAUTH_SECRET (lib/env.ts); the bench signs in with a throwaway one.
+const nextAuthSecret = process.env.NEXTAUTH_SECRET ?? randomBytes(32).toString("base64url");
+const childEnv = { ...inherited, DATABASE_URL: databaseUrl, NEXTAUTH_URL: base, NEXTAUTH_SECRET: nextAuthSecret } as unknown as NodeJS.ProcessEnv;
 
 function sh(command: string, args: string[], env: NodeJS.ProcessEnv = childEnv): void {
   // Progress goes to stderr so stdout holds only the JSON figures.

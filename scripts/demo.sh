@@ -18,6 +18,7 @@ export NEXTAUTH_URL="${NEXTAUTH_URL:-http://localhost:3000}"
 # The demo serves a production build but keeps the development mailbox, so
 # invitation and reset links can be followed without a real mail server.
 export HOLONOMY_DEV_MAILBOX=1
+ensure_nextauth_secret
 
 npx tsx scripts/migrate.ts
 npx tsx --conditions=react-server scripts/seed.ts

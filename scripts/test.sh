@@ -50,6 +50,8 @@ export S3_ENDPOINT="http://127.0.0.1:$TEST_S3_PORT"
 export S3_BUCKET="$TEST_S3_BUCKET"
 export NEXTAUTH_URL="http://localhost:$HOLONOMY_TEST_APP_PORT"
 export HOLONOMY_DEV_MAILBOX=1
+# The browser suite's server is a production build, which needs its own secret.
+ensure_nextauth_secret
 
 fresh_test_database() {
   bash scripts/db.sh recreate holonomy_test

@@ -56,3 +56,18 @@ wait_for_port() {
 port_open() { (exec 3<>"/dev/tcp/127.0.0.1/$1") 2>/dev/null; }
 
 pid_alive() { [ -n "${1:-}" ] && kill -0 "$1" 2>/dev/null; }
+
+# The production builds the demo and the browser suite serve refuse the committed
+# development NEXTAUTH_SECRET (lib/env.ts). Unless one is set already, generate a
+# random secret once into .data/nextauth-secret (git-ignored, mode 600) and export it.
+ensure_nextauth_secret() {
+  if [ -n "${NEXTAUTH_SECRET:-}" ]; then export NEXTAUTH_SECRET; return 0; fi
+  local file="$DATA_DIR/nextauth-secret"
+  if [ ! -s "$file" ]; then
+    mkdir -p "$DATA_DIR"
+    (umask 077 && node -e "process.stdout.write(require('node:crypto').randomBytes(32).toString('base64url'))" >"$file")
+  fi
+  chmod 600 "$file"
+  NEXTAUTH_SECRET="$(cat "$file")"
+  export NEXTAUTH_SECRET
+}

@@ -1,0 +1,34 @@
+import { describe, expect, it } from "vitest";
+import { DEVELOPMENT_NEXTAUTH_SECRET, parseEnv } from "@/lib/env";
+
+const productionSecret = "k3Vq9xW2mZ7pR4tY8nB1cD6fG0hJ5sL2aQ9wE3rT7yU";
+
+describe("parseEnv: NEXTAUTH_SECRET", () => {
+  it("falls back to the development secret outside production", () => {
+    expect(parseEnv({ NODE_ENV: "development" }).NEXTAUTH_SECRET).toBe(DEVELOPMENT_NEXTAUTH_SECRET);
+    expect(parseEnv({ NODE_ENV: "test" }).NEXTAUTH_SECRET).toBe(DEVELOPMENT_NEXTAUTH_SECRET);
+  });
+
+  it("refuses a production server without a secret", () => {
+    expect(() => parseEnv({ NODE_ENV: "production" })).toThrow(/NEXTAUTH_SECRET: not set/);
+  });
+
+  it("refuses the committed development secret in production", () => {
+    expect(() => parseEnv({ NODE_ENV: "production", NEXTAUTH_SECRET: DEVELOPMENT_NEXTAUTH_SECRET })).toThrow(
+      /development secret must not be used in production/,
+    );
+  });
+
+  it("refuses a short secret in production", () => {
+    expect(() => parseEnv({ NODE_ENV: "production", NEXTAUTH_SECRET: "sixteen-chars-xx" })).toThrow(/too short/);
+  });
+
+  it("accepts a random secret in production", () => {
+    expect(parseEnv({ NODE_ENV: "production", NEXTAUTH_SECRET: productionSecret }).NEXTAUTH_SECRET).toBe(productionSecret);
+  });
+
+  it("lets `next build` through without a secret (it signs nothing)", () => {
+    const built = parseEnv({ NODE_ENV: "production", NEXT_PHASE: "phase-production-build" });
+    expect(built.NEXTAUTH_SECRET).toBe(DEVELOPMENT_NEXTAUTH_SECRET);
+  });
+});
