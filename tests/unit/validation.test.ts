@@ -20,6 +20,17 @@ describe("request schemas", () => {
     expect(fieldErrors.password[0]).toMatch(/10 characters/);
   });
 
+  it("caps a new password at bcrypt's 72 bytes, counted in UTF-8", () => {
+    expect(signUpSchema.safeParse({ name: "Ada", email: "a@b.test", password: "p".repeat(72) }).success).toBe(true);
+    const tooLong = signUpSchema.safeParse({ name: "Ada", email: "a@b.test", password: "p".repeat(73) });
+    expect(tooLong.success).toBe(false);
+    expect(fieldErrorsOf(tooLong.error!).password[0]).toMatch(/at most 72 bytes/);
+    // 36 "é" are 36 characters but 72 bytes; one more is 74 bytes.
+    expect(signUpSchema.safeParse({ name: "Ada", email: "a@b.test", password: "é".repeat(36) }).success).toBe(true);
+    const wide = resetPasswordSchema.safeParse({ token: "t", password: "é".repeat(37), confirmPassword: "é".repeat(37) });
+    expect(fieldErrorsOf(wide.error!).password[0]).toMatch(/at most 72 bytes/);
+  });
+
   it("requires the two new passwords to match", () => {
     const result = resetPasswordSchema.safeParse({ token: "t", password: "long-enough-pass", confirmPassword: "long-enough-past" });
     expect(result.success).toBe(false);
