@@ -112,7 +112,8 @@ export interface Autosave {
 
 export function useAutosave(options: AutosaveOptions): Autosave {
   const { derivationId, document, enabled, debounceMs = 1_000 } = options;
-  const retryDelays = options.retryDelaysMs ?? RETRY_DELAYS_MS;
+  // Held in a ref so a new array from the caller does not rebuild the callbacks on every render.
+  const retryDelays = useRef(options.retryDelaysMs ?? RETRY_DELAYS_MS);
   const json = JSON.stringify(document);
 
   const [status, setStatus] = useState<SaveStatus>({ state: "saved", savedAt: options.initialUpdatedAt });
@@ -129,6 +130,7 @@ export function useAutosave(options: AutosaveOptions): Autosave {
   useEffect(() => {
     saveRef.current = options.save;
     storageRef.current = options.storage;
+    retryDelays.current = options.retryDelaysMs ?? RETRY_DELAYS_MS;
   });
 
   const update = useCallback((next: SaveStatus) => {
@@ -183,7 +185,8 @@ export function useAutosave(options: AutosaveOptions): Autosave {
           attempt.current = 0;
           update({ state: "refused", message });
         } else {
-          const delay = retryDelays[Math.min(attempt.current - 1, retryDelays.length - 1)] ?? 30_000;
+          const delays = retryDelays.current;
+          const delay = delays[Math.min(attempt.current - 1, delays.length - 1)] ?? 30_000;
           update({ state: "retrying", attempt: attempt.current, retryAt: Date.now() + delay, message });
           timer.current = setTimeout(() => void run(), delay);
         }
@@ -192,7 +195,7 @@ export function useAutosave(options: AutosaveOptions): Autosave {
     );
     inFlight.current = request;
     return request;
-  }, [clearTimer, debounceMs, derivationId, retryDelays, storage, update]);
+  }, [clearTimer, debounceMs, derivationId, storage, update]);
 
   // Every change: keep the draft, then save once typing pauses.
   useEffect(() => {
@@ -210,7 +213,7 @@ export function useAutosave(options: AutosaveOptions): Autosave {
     const state = statusRef.current.state;
     // A conflict waits for the user; a pending retry keeps its own schedule.
     if (state === "conflict" || state === "retrying") return;
-    if (state !== "saving") update({ state: "unsaved" });
+    if (state !== "saving" && state !== "unsaved") update({ state: "unsaved" });
     if (!inFlight.current) {
       clearTimer();
       timer.current = setTimeout(() => void run(), debounceMs);
