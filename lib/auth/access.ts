@@ -3,7 +3,7 @@ import { getDerivationById } from "@/db/queries/derivations";
 import { getMembershipByTeamIdAndUserId, getTeamById } from "@/db/queries/teams";
 import type { Derivation, Membership, Team } from "@/db/schema";
 import { notFound } from "next/navigation";
-import { AppError } from "@/lib/errors";
+import { AppError, type ErrorSurface } from "@/lib/errors";
 import { assertCan, type Action } from "./permissions";
 import type { SessionUser } from "./session";
 
@@ -17,6 +17,15 @@ export interface TeamAccess {
 }
 
 const uuidPattern = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
+
+/**
+ * For ids that are not resolved through loadTeamFor / loadDerivationFor (e.g. a
+ * member's user id): a malformed id names nothing, so it is a 404 like a missing one.
+ */
+export function idOrNotFound(id: string, surface: ErrorSurface, message: string): string {
+  if (!uuidPattern.test(id)) throw new AppError(`not_found:${surface}`, message);
+  return id;
+}
 
 export async function loadTeamFor(user: SessionUser, teamId: string, action: Action): Promise<TeamAccess> {
   if (!uuidPattern.test(teamId)) throw new AppError("not_found:team", "Team not found.");

@@ -3,6 +3,8 @@ import { afterAll, beforeAll, beforeEach, describe, expect, it, vi } from "vites
 vi.mock("@/lib/auth/session", async () => (await import("./support/session")).sessionModule);
 
 import * as acceptRoute from "@/app/api/invites/[token]/accept/route";
+import * as derivationsRoute from "@/app/api/teams/[teamId]/derivations/route";
+import * as importRoute from "@/app/api/teams/[teamId]/derivations/import/route";
 import * as invitesRoute from "@/app/api/teams/[teamId]/invites/route";
 import * as memberRoute from "@/app/api/teams/[teamId]/members/[userId]/route";
 import * as membersRoute from "@/app/api/teams/[teamId]/members/route";
@@ -156,5 +158,22 @@ describe("roles and removal", () => {
     const outsider = await makeUser("outsider");
     signInAs(outsider);
     expect((await membersRoute.GET(jsonRequest("/", "GET"), params({ teamId: kestrel.team.id }))).status).toBe(404);
+  });
+
+  it("answers malformed team and member ids like missing ones (404), as every other route does", async () => {
+    signInAs(kestrel.members.lead);
+    const bad = "not-a-uuid";
+    const members = await membersRoute.GET(jsonRequest("/", "GET"), params({ teamId: bad }));
+    expect(members.status).toBe(404);
+    expect((await members.json()).error.code).toBe("not_found:team");
+    const badTeam = await memberRoute.PATCH(jsonRequest("/", "PATCH", { role: "viewer" }), params({ teamId: bad, userId: kestrel.members.viewer.id }));
+    expect(badTeam.status).toBe(404);
+    const badMember = await memberRoute.DELETE(jsonRequest("/", "DELETE"), params({ teamId: kestrel.team.id, userId: bad }));
+    expect(badMember.status).toBe(404);
+    expect((await badMember.json()).error.code).toBe("not_found:member");
+    const imported = await importRoute.POST(jsonRequest("/", "POST", { model: {} }), params({ teamId: bad }));
+    expect(imported.status).toBe(404);
+    expect((await invitesRoute.GET(jsonRequest("/", "GET"), params({ teamId: bad }))).status).toBe(404);
+    expect((await derivationsRoute.GET(jsonRequest("/", "GET"), params({ teamId: bad }))).status).toBe(404);
   });
 });

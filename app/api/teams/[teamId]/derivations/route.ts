@@ -5,14 +5,13 @@ import { apiRoute, readJson } from "@/lib/api/route";
 import { loadTeamFor } from "@/lib/auth/access";
 import { requireUser } from "@/lib/auth/session";
 import { createDerivationSchema, listDerivationsQuerySchema } from "@/lib/validation/derivations";
-import { uuidField } from "@/lib/validation/fields";
 import { parseOrThrow } from "@/lib/validation/parse";
 
 type Params = { teamId: string };
 
 export const GET = apiRoute<Params>(async (request, { params }) => {
   const user = await requireUser();
-  const teamId = parseOrThrow(uuidField, (await params).teamId);
+  const teamId = (await params).teamId;
   await loadTeamFor(user, teamId, "derivation:read");
   const query = Object.fromEntries(new URL(request.url).searchParams);
   const filters = parseOrThrow(listDerivationsQuerySchema, query);
@@ -26,7 +25,7 @@ export const GET = apiRoute<Params>(async (request, { params }) => {
 
 export const POST = apiRoute<Params>(async (request, { params }) => {
   const user = await requireUser();
-  const teamId = parseOrThrow(uuidField, (await params).teamId);
+  const teamId = (await params).teamId;
   await loadTeamFor(user, teamId, "derivation:create");
   const input = parseOrThrow(createDerivationSchema, await readJson(request));
   // A new derivation starts as a notebook document: blank, or from a template.

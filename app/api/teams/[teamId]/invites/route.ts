@@ -9,7 +9,6 @@ import { env } from "@/lib/env";
 import { AppError } from "@/lib/errors";
 import { absoluteUrl } from "@/lib/links";
 import { composeLinkMail, sendMail } from "@/lib/mailer";
-import { uuidField } from "@/lib/validation/fields";
 import { parseOrThrow } from "@/lib/validation/parse";
 import { inviteMemberSchema } from "@/lib/validation/teams";
 
@@ -17,7 +16,7 @@ type Params = { teamId: string };
 
 export const GET = apiRoute<Params>(async (_request, { params }) => {
   const user = await requireUser();
-  const teamId = parseOrThrow(uuidField, (await params).teamId);
+  const teamId = (await params).teamId;
   await loadTeamFor(user, teamId, "team:invite");
   const invites = await getOpenInvitesByTeamId({ teamId });
   return Response.json({
@@ -28,7 +27,7 @@ export const GET = apiRoute<Params>(async (_request, { params }) => {
 /** Invites someone by e-mail; the link in the message lets them join with the chosen role. */
 export const POST = apiRoute<Params>(async (request, { params }) => {
   const user = await requireUser();
-  const teamId = parseOrThrow(uuidField, (await params).teamId);
+  const teamId = (await params).teamId;
   const { team } = await loadTeamFor(user, teamId, "team:invite");
   const input = parseOrThrow(inviteMemberSchema, await readJson(request));
   const members = await getMembersByTeamId({ teamId });

@@ -9,7 +9,6 @@ import { ModelError } from "@/lib/mechanics/errors";
 import { validateModel } from "@/lib/mechanics/validate-model";
 import { modelToDocument } from "@/lib/notebook/document";
 import { AppError } from "@/lib/errors";
-import { uuidField } from "@/lib/validation/fields";
 import { parseOrThrow } from "@/lib/validation/parse";
 import { importOptionsSchema, MAX_MODEL_FILE_LENGTH } from "./schema";
 
@@ -56,7 +55,7 @@ async function readUpload(request: Request): Promise<{ text: string; title?: str
  */
 export const POST = apiRoute<Params>(async (request, { params }) => {
   const user = await requireUser();
-  const teamId = parseOrThrow(uuidField, (await params).teamId);
+  const teamId = (await params).teamId;
   await loadTeamFor(user, teamId, "derivation:create");
   const upload = await readUpload(request);
   let raw: unknown;

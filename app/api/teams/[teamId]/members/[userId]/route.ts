@@ -1,8 +1,7 @@
 import { deleteMembershipByTeamIdAndUserId, updateMemberRoleByTeamIdAndUserId } from "@/db/queries/teams";
 import { apiRoute, readJson } from "@/lib/api/route";
-import { loadTeamFor } from "@/lib/auth/access";
+import { idOrNotFound, loadTeamFor } from "@/lib/auth/access";
 import { requireUser } from "@/lib/auth/session";
-import { uuidField } from "@/lib/validation/fields";
 import { parseOrThrow } from "@/lib/validation/parse";
 import { changeRoleSchema } from "@/lib/validation/teams";
 
@@ -10,10 +9,9 @@ type Params = { teamId: string; userId: string };
 
 export const PATCH = apiRoute<Params>(async (request, { params }) => {
   const user = await requireUser();
-  const { teamId: rawTeamId, userId: rawUserId } = await params;
-  const teamId = parseOrThrow(uuidField, rawTeamId);
-  const userId = parseOrThrow(uuidField, rawUserId);
+  const { teamId, userId: rawUserId } = await params;
   await loadTeamFor(user, teamId, "team:manage-members");
+  const userId = idOrNotFound(rawUserId, "member", "That person is not a member of this team.");
   const { role } = parseOrThrow(changeRoleSchema, await readJson(request));
   const membership = await updateMemberRoleByTeamIdAndUserId({ teamId, userId, role, actorId: user.id });
   return Response.json({ membership });
@@ -21,10 +19,9 @@ export const PATCH = apiRoute<Params>(async (request, { params }) => {
 
 export const DELETE = apiRoute<Params>(async (_request, { params }) => {
   const user = await requireUser();
-  const { teamId: rawTeamId, userId: rawUserId } = await params;
-  const teamId = parseOrThrow(uuidField, rawTeamId);
-  const userId = parseOrThrow(uuidField, rawUserId);
+  const { teamId, userId: rawUserId } = await params;
   await loadTeamFor(user, teamId, "team:manage-members");
+  const userId = idOrNotFound(rawUserId, "member", "That person is not a member of this team.");
   await deleteMembershipByTeamIdAndUserId({ teamId, userId, actorId: user.id });
   return new Response(null, { status: 204 });
 });
