@@ -3,6 +3,10 @@ import { defineConfig } from "@playwright/test";
 // Browser suite: Debian's chromium (never a downloaded browser) against a
 // production build served by `next start`. scripts/test.sh builds the app,
 // prepares the test database and mail fake, and exports their settings.
+// This file reads process.env itself rather than lib/env.ts: its only setting is
+// the test runner's own port, which the app never reads, and importing lib/env.ts
+// would copy the app's development defaults (NEXTAUTH_SECRET among them) into the
+// environment of the production server started below.
 const port = Number(process.env.HOLONOMY_TEST_APP_PORT ?? 3100);
 
 export default defineConfig({
