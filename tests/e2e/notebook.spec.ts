@@ -91,7 +91,10 @@ test("an analyst enters a double pendulum, evaluates it, exports the model file 
 
   // A bad file is refused with its field and reason, and nothing is created.
   await dashboard.openTeam(demoTeam.name);
-  const before = await page.getByTestId("derivations-total").textContent();
+  const total = page.getByTestId("derivations-total");
+  await expect(total).toContainText(" of ");
+  await expect(total).not.toContainText("updating");
+  const before = await total.textContent();
   const badPath = `${artifactsDir}/bad.model.json`;
   await import("node:fs/promises").then((fs) => fs.writeFile(badPath, JSON.stringify({ ...model, coordinates: [{ name: "theta1" }] })));
   await page.getByRole("button", { name: "Import" }).click();

@@ -19,7 +19,7 @@ export class DashboardPage {
     await this.page.getByRole("button", { name: "New derivation" }).click();
     const dialog = this.page.getByRole("dialog", { name: "New derivation" });
     await dialog.getByRole("radio", { name: new RegExp(`^${template}`) }).check();
-    await dialog.getByLabel("Title").fill(title);
+    await dialog.getByLabel("Title", { exact: true }).fill(title);
     await dialog.getByRole("button", { name: "Create" }).click();
     await expect(this.page).toHaveURL(/\/derivations\/[0-9a-f-]{36}$/);
   }

@@ -27,12 +27,12 @@ export class NotebookPage {
 
   /** Adds a row to a table cell and fills its cells (`{ Name: "theta1", Unit: "rad" }`). */
   async addRow(noun: "coordinate" | "parameter" | "input" | "definition", values: Record<string, string>): Promise<void> {
-    const add = this.page.getByRole("button", { name: `+ Add ${noun}` });
-    await add.click();
-    const index = await this.page.getByRole("textbox", { name: new RegExp(`^Name, ${noun} \\d+$`) }).count();
+    const index = (await this.page.getByRole("textbox", { name: new RegExp(`^Name, ${noun} \\d+$`) }).count()) + 1;
+    await this.page.getByRole("button", { name: `+ Add ${noun}` }).click();
+    await expect(this.page.getByRole("textbox", { name: `Name, ${noun} ${index}`, exact: true })).toBeVisible();
     for (const [column, value] of Object.entries(values)) {
       if (column === "Expression") continue;
-      await this.page.getByRole("textbox", { name: `${column}, ${noun} ${index}` }).fill(value);
+      await this.page.getByRole("textbox", { name: `${column}, ${noun} ${index}`, exact: true }).fill(value);
     }
     if (values.Expression !== undefined) await this.typeExpression(`Expression of ${values.Name}`, values.Expression);
   }
