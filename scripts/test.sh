@@ -17,6 +17,19 @@ REPORT_DIR="$DATA_DIR/reports"
 ensure_node_modules
 ensure_chromium
 
+# The unit tests run exported Python code, which needs NumPy: python3 from PATH if it
+# has it, otherwise Debian's python3-numpy with Debian's interpreter. Tests read
+# HOLONOMY_PYTHON and never install anything themselves.
+ensure_python_numpy() {
+  if [ -n "${HOLONOMY_PYTHON:-}" ] && "$HOLONOMY_PYTHON" -c "import numpy" 2>/dev/null; then export HOLONOMY_PYTHON; return 0; fi
+  if command -v python3 >/dev/null 2>&1 && python3 -c "import numpy" 2>/dev/null; then export HOLONOMY_PYTHON=python3; return 0; fi
+  local debian_python=/usr/bin/python3
+  if ! "$debian_python" -c "import numpy" 2>/dev/null; then apt_install python3-numpy; fi
+  "$debian_python" -c "import numpy" 2>/dev/null || die "NumPy does not import after installing python3-numpy"
+  export HOLONOMY_PYTHON="$debian_python"
+}
+ensure_python_numpy
+
 started_pg=0
 started_mail=0
 started_s3=0

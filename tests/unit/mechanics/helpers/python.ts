@@ -10,17 +10,18 @@ function hasNumpy(python: string): boolean {
 }
 
 /**
- * A Python interpreter with NumPy for running exported code. Uses `python3` from
- * PATH if it has NumPy; otherwise installs Debian's python3-numpy (as root, with
- * apt-get) and uses the system interpreter. Throws if neither works, so a
- * missing NumPy fails the test instead of skipping it.
+ * The Python interpreter with NumPy for running exported code: HOLONOMY_PYTHON,
+ * or `python3` from PATH. scripts/test.sh provisions NumPy and sets the variable;
+ * tests never install anything. Throws when NumPy is missing, so the test fails
+ * with the fix in its message instead of skipping.
  */
 export function pythonWithNumpy(): string {
-  if (hasNumpy("python3")) return "python3";
-  const system = "/usr/bin/python3";
-  if (hasNumpy(system)) return system;
-  execFileSync("apt-get", ["update"], { stdio: "ignore", timeout: 300_000 });
-  execFileSync("apt-get", ["install", "-y", "--no-install-recommends", "python3-numpy"], { stdio: "ignore", timeout: 600_000, env: { ...process.env, DEBIAN_FRONTEND: "noninteractive" } });
-  if (!hasNumpy(system)) throw new Error("python3-numpy was installed but numpy still does not import");
-  return system;
+  const python = process.env.HOLONOMY_PYTHON || "python3";
+  if (!hasNumpy(python)) {
+    throw new Error(
+      `"${python}" cannot import numpy. Run the suite through \`npm test\` (scripts/test.sh installs Debian's python3-numpy), ` +
+        "or install NumPy and set HOLONOMY_PYTHON to that interpreter.",
+    );
+  }
+  return python;
 }
