@@ -4,7 +4,7 @@ import { SiteFooter } from "@/components/site-footer";
 import { SiteHeader } from "@/components/site-header";
 import { getTeamsByUserId } from "@/db/queries/teams";
 import { requirePageUser } from "@/lib/auth/session";
-import { devMailboxEnabled } from "@/lib/env";
+import { devMailboxAvailable } from "@/lib/dev-mailbox";
 
 export const dynamic = "force-dynamic";
 
@@ -14,7 +14,7 @@ export default async function AppLayout({ children }: { children: ReactNode }) {
   const teams = await getTeamsByUserId({ userId: user.id });
   return (
     <div className="flex min-h-screen flex-col">
-      <SiteHeader user={user} teams={teams.map(({ id, name, role }) => ({ id, name, role }))} showMailbox={devMailboxEnabled} />
+      <SiteHeader user={user} teams={teams.map(({ id, name, role }) => ({ id, name, role }))} showMailbox={await devMailboxAvailable()} />
       <main className="mx-auto w-full max-w-6xl flex-1 px-6 py-8">{children}</main>
       <SiteFooter />
     </div>

@@ -5,7 +5,7 @@ import type { ReactNode } from "react";
 import { Brand } from "@/components/brand";
 import { SiteFooter } from "@/components/site-footer";
 import { Notice } from "@/components/ui/notice";
-import { devMailboxEnabled } from "@/lib/env";
+import { devMailboxAvailable } from "@/lib/dev-mailbox";
 import { AppError } from "@/lib/errors";
 import { getCapturedMessage, listCapturedMessages, type CapturedMessage } from "@/lib/mailbox";
 
@@ -28,7 +28,7 @@ function linkify(text: string): ReactNode[] {
 }
 
 export default async function MailboxPage({ searchParams }: { searchParams: Promise<{ id?: string }> }) {
-  if (!devMailboxEnabled) notFound();
+  if (!(await devMailboxAvailable())) notFound();
   const { id } = await searchParams;
   let messages: CapturedMessage[] = [];
   let selected: CapturedMessage | null = null;
