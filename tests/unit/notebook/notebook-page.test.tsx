@@ -1,0 +1,113 @@
+// @vitest-environment jsdom
+import { QueryClient, QueryClientProvider } from "@tanstack/react-query";
+import { cleanup, configure, fireEvent, render, screen, waitFor, within } from "@testing-library/react";
+import { afterEach, beforeEach, describe, expect, it, vi } from "vitest";
+import { NotebookPage, type NotebookPageProps } from "@/components/notebook/notebook-page";
+import { ShortcutsProvider } from "@/components/shortcuts";
+import { modelToDocument } from "@/lib/notebook/document";
+import { templateModel } from "@/lib/notebook/templates";
+
+vi.mock("next/navigation", () => ({ useRouter: () => ({ push: vi.fn() }) }));
+configure({ asyncUtilTimeout: 5000 });
+
+const UPDATED = "2030-01-01T10:00:00.000Z";
+
+function props(overrides: Partial<NotebookPageProps> = {}): NotebookPageProps {
+  const document = modelToDocument(templateModel("single-pendulum"));
+  return {
+    derivationId: "d1",
+    teamId: "t1",
+    teamName: "Kestrel Lift & Motion",
+    status: "draft",
+    ownerName: "Ana Analyst",
+    roleLabel: "Analyst",
+    canEdit: true,
+    canRename: true,
+    initialDocument: document,
+    initialUpdatedAt: UPDATED,
+    rowTitle: document.title,
+    ...overrides,
+  };
+}
+
+function renderPage(p: NotebookPageProps) {
+  const client = new QueryClient({ defaultOptions: { queries: { retry: false } } });
+  return render(
+    <QueryClientProvider client={client}>
+      <ShortcutsProvider>
+        <NotebookPage {...p} />
+      </ShortcutsProvider>
+    </QueryClientProvider>,
+  );
+}
+
+const requests: { method: string; url: string; body: unknown }[] = [];
+
+beforeEach(() => {
+  requests.length = 0;
+  window.localStorage.clear();
+});
+afterEach(() => {
+  cleanup();
+  vi.unstubAllGlobals();
+});
+
+function stubFetch(answer: (method: string, url: string) => { status: number; body: unknown }) {
+  vi.stubGlobal(
+    "fetch",
+    vi.fn(async (url: string, init?: RequestInit) => {
+      const method = init?.method ?? "GET";
+      requests.push({ method, url, body: init?.body ? JSON.parse(String(init.body)) : undefined });
+      const { status, body } = answer(method, url);
+      return new Response(JSON.stringify(body), { status, headers: { "content-type": "application/json" } });
+    }),
+  );
+}
+
+describe("NotebookPage", () => {
+  it("lists the evaluator's errors with field and column when an evaluation fails", async () => {
+    stubFetch((method, url) =>
+      url.endsWith("/evaluate")
+        ? {
+            status: 422,
+            body: {
+              error: {
+                code: "unprocessable:model",
+                message: "potential, column 5: unknown symbol \"q\"",
+                details: { diagnostics: [{ code: "unknown-symbol", field: "potential", column: 5, length: 1, message: 'unknown symbol "q"' }] },
+              },
+            },
+          }
+        : { status: 200, body: { updatedAt: UPDATED } },
+    );
+    renderPage(props());
+    const errors = await screen.findByTestId("evaluation-errors");
+    expect(errors.textContent).toContain("potential, column 5: unknown symbol \"q\"");
+    expect(screen.getByTestId("evaluation-status").dataset.state).toBe("failed");
+    // The evaluated document is the page's own (unsaved edits included).
+    const evaluate = requests.find((r) => r.url.endsWith("/evaluate"));
+    expect((evaluate?.body as { document: { title: string } }).document.title).toBe("Hook block on a fixed hoist cable");
+  });
+
+  it("is read-only for a reader: no save state, no save button, inputs read-only, no writes", async () => {
+    stubFetch(() => ({ status: 200, body: { cached: true, modelHash: "h", result: { equations: [] }, timings: {}, requestMs: 3, evaluatedAt: UPDATED } }));
+    renderPage(props({ canEdit: false, canRename: false, roleLabel: "Viewer" }));
+    expect(screen.getByTestId("read-only-badge")).toBeTruthy();
+    expect(screen.queryByTestId("save-status")).toBeNull();
+    expect(screen.queryByRole("button", { name: "Save now" })).toBeNull();
+    const name = screen.getByRole("textbox", { name: "Name, coordinate 1" }) as HTMLInputElement;
+    expect(name.readOnly).toBe(true);
+    fireEvent.change(name, { target: { value: "phi" } });
+    await waitFor(() => expect(screen.getByTestId("evaluation-status").dataset.state).toBe("current"));
+    expect(requests.filter((r) => r.method !== "POST" || !r.url.endsWith("/evaluate"))).toEqual([]);
+  });
+
+  it("shows the export safety note beside the export actions", async () => {
+    stubFetch(() => ({ status: 200, body: { cached: true, modelHash: "h", result: { equations: [] }, timings: {}, requestMs: 3, evaluatedAt: UPDATED } }));
+    renderPage(props());
+    fireEvent.click(screen.getByRole("button", { name: "Export ▾" }));
+    const group = screen.getByRole("group", { name: "Export" });
+    expect(within(group).getByTestId("export-safety-note").textContent).toMatch(/Derived equations are a model/);
+    expect(within(group).getByRole("button", { name: "Model file (.model.json)" })).toBeTruthy();
+  });
+});
