@@ -128,6 +128,21 @@ export const signInAttempts = pgTable(
 );
 export type SignInAttempt = typeof signInAttempts.$inferSelect;
 
+// Requests counted against a rate limit other than the per-e-mail sign-in one
+// (failed sign-ins per client address, password-reset and sign-up requests).
+// `action` names the limit, `key` is what it is counted by (an address or an e-mail).
+export const rateLimitEvents = pgTable(
+  "rate_limit_events",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    action: text("action").notNull(),
+    key: text("key").notNull(),
+    ...timestamps,
+  },
+  (table) => [index("rate_limit_events_action_key_time_idx").on(table.action, table.key, table.createdAt)],
+);
+export type RateLimitEvent = typeof rateLimitEvents.$inferSelect;
+
 export const auditLog = pgTable(
   "audit_log",
   {

@@ -23,6 +23,9 @@ const envSchema = z.object({
   HOLONOMY_DEV_MAILBOX: flag,
   SIGN_IN_MAX_FAILURES: z.coerce.number().int().positive().default(5),
   SIGN_IN_WINDOW_MINUTES: z.coerce.number().int().positive().default(15),
+  // Failed sign-ins per client address (any e-mail) within the same window. Generous:
+  // offices share an address, and the browser suite signs in many times from 127.0.0.1.
+  SIGN_IN_MAX_FAILURES_PER_ADDRESS: z.coerce.number().int().positive().default(30),
   INVITE_TTL_HOURS: z.coerce.number().int().positive().default(72),
   PASSWORD_RESET_TTL_MINUTES: z.coerce.number().int().positive().default(60),
   // Object storage (S3-compatible). Locally the S3 fake started by scripts/s3.sh, with its fixed key pair.

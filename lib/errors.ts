@@ -54,6 +54,8 @@ const defaultMessages: Partial<Record<ErrorCode, string>> = {
   "unavailable:database": "The database is not reachable right now. Try again in a moment.",
   "internal:api": "Something went wrong on our side.",
   "rate_limited:sign_in": "Too many failed sign-in attempts. Wait a few minutes and try again.",
+  "rate_limited:sign_up": "Too many sign-up attempts. Wait a while and try again.",
+  "rate_limited:password_reset": "Too many password-reset requests. Wait a few minutes and try again.",
 };
 
 const kindMessages: Record<ErrorKind, string> = {

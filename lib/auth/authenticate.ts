@@ -5,6 +5,7 @@ import type { User } from "@/db/schema";
 import { env } from "@/lib/env";
 import { isDatabaseUnavailable } from "@/lib/errors";
 import { verifyAgainstDummy, verifyPassword } from "./password";
+import { countAgainst, isRateLimited, rateLimits } from "./rate-limit";
 
 export type AuthenticationResult =
   | { status: "ok"; user: User }
@@ -14,17 +15,28 @@ export type AuthenticationResult =
 
 /**
  * Checks an e-mail and password. Unknown e-mail and wrong password give the same
- * answer in the same time; too many recent failures for the address lock it for
- * the rest of the window, whatever the password.
+ * answer in the same time; too many recent failures for the e-mail address lock it
+ * for the rest of the window, whatever the password, and so do too many failures
+ * from one client address (`clientAddress`, null when unknown), whatever the e-mail.
  */
-export async function authenticate({ email, password }: { email: string; password: string }): Promise<AuthenticationResult> {
+export async function authenticate({
+  email,
+  password,
+  clientAddress = null,
+}: {
+  email: string;
+  password: string;
+  clientAddress?: string | null;
+}): Promise<AuthenticationResult> {
   try {
     const since = new Date(Date.now() - env.SIGN_IN_WINDOW_MINUTES * 60_000);
     const failures = await countSignInFailuresByEmail({ email, since });
     if (failures >= env.SIGN_IN_MAX_FAILURES) return { status: "rate_limited" };
+    if (clientAddress !== null && (await isRateLimited(rateLimits.signInFailuresByAddress, clientAddress))) return { status: "rate_limited" };
     const user = await getUserByEmail({ email });
     const valid = user ? await verifyPassword(password, user.passwordHash) : await verifyAgainstDummy(password);
     await recordSignInAttempt({ email, succeeded: valid });
+    if (!valid && clientAddress !== null) await countAgainst(rateLimits.signInFailuresByAddress, clientAddress);
     if (!valid || !user) return { status: "invalid" };
     return { status: "ok", user };
   } catch (error) {

@@ -1,6 +1,7 @@
 import "server-only";
 import type { NextAuthOptions } from "next-auth";
 import CredentialsProvider from "next-auth/providers/credentials";
+import { clientAddress } from "@/lib/client-address";
 import { env } from "@/lib/env";
 import { signInSchema } from "@/lib/validation/auth";
 import { authenticate } from "./authenticate";
@@ -23,10 +24,10 @@ export const authOptions: NextAuthOptions = {
         email: { label: "E-mail", type: "email" },
         password: { label: "Password", type: "password" },
       },
-      async authorize(credentials) {
+      async authorize(credentials, request) {
         const parsed = signInSchema.safeParse(credentials);
         if (!parsed.success) return null;
-        const result = await authenticate(parsed.data);
+        const result = await authenticate({ ...parsed.data, clientAddress: clientAddress(request?.headers ?? {}) });
         if (result.status === "ok") return { id: result.user.id, email: result.user.email, name: result.user.name };
         if (result.status === "rate_limited") throw new Error(signInErrors.rateLimited);
         if (result.status === "unavailable") throw new Error(signInErrors.unavailable);

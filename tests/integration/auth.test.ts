@@ -18,6 +18,15 @@ afterAll(async () => {
   await closeDatabase();
 });
 
+// A request as Next.js hands it to a route handler, with the client's address.
+function requestFrom(address: string, body: unknown): Request {
+  return new Request("http://localhost/", {
+    method: "POST",
+    headers: { "content-type": "application/json", "x-forwarded-for": address },
+    body: JSON.stringify(body),
+  });
+}
+
 async function resetTokenFor(email: string): Promise<string> {
   for (let attempt = 0; attempt < 20; attempt += 1) {
     const message = (await listCapturedMessages()).find((m) => m.to.some((to) => to.address === email));
@@ -48,6 +57,22 @@ describe("authenticate", () => {
     }
     expect((await authenticate({ email: user.email, password: testPassword })).status).toBe("rate_limited");
   });
+
+  it("blocks a client address after many failures across e-mails, counting failures only", async () => {
+    const user = await makeUser("byaddress");
+    const address = "198.51.100.23";
+    // Successful sign-ins from a shared address never count.
+    for (let attempt = 0; attempt < 3; attempt += 1) {
+      expect((await authenticate({ email: user.email, password: testPassword, clientAddress: address })).status).toBe("ok");
+    }
+    for (let attempt = 0; attempt < env.SIGN_IN_MAX_FAILURES_PER_ADDRESS; attempt += 1) {
+      // A different (unknown) e-mail each time, so the per-e-mail lock never triggers.
+      const result = await authenticate({ email: uniqueEmail(`spray${attempt}`), password: "not-the-password", clientAddress: address });
+      expect(result).toEqual({ status: "invalid" });
+    }
+    expect((await authenticate({ email: user.email, password: testPassword, clientAddress: address })).status).toBe("rate_limited");
+    expect((await authenticate({ email: user.email, password: testPassword, clientAddress: "198.51.100.24" })).status).toBe("ok");
+  });
 });
 
 describe("sign-up", () => {
@@ -77,6 +102,52 @@ describe("sign-up", () => {
     expect(body.teamId).toBe(team.id);
     const membership = await getMembershipByTeamIdAndUserId({ teamId: team.id, userId: body.user.id });
     expect(membership?.role).toBe("analyst");
+  });
+});
+
+describe("sign-up and password-reset rate limits", () => {
+  it("limits sign-ups per e-mail and per client address with 429 rate_limited:sign_up", async () => {
+    const email = uniqueEmail("repeat");
+    const body = { name: "Ines Varga", email, password: "long-enough-pass" };
+    expect((await signUpRoute.POST(requestFrom("203.0.113.40", body), params({}))).status).toBe(201);
+    // 5 attempts per e-mail per hour (lib/auth/rate-limit.ts), whatever their outcome.
+    for (let attempt = 1; attempt < 5; attempt += 1) {
+      expect((await signUpRoute.POST(requestFrom(`203.0.113.${41 + attempt}`, body), params({}))).status).toBe(409);
+    }
+    const limited = await signUpRoute.POST(requestFrom("203.0.113.50", body), params({}));
+    expect(limited.status).toBe(429);
+    expect((await limited.json()).error.code).toBe("rate_limited:sign_up");
+
+    const address = "203.0.113.60";
+    for (let attempt = 0; attempt < 20; attempt += 1) {
+      const response = await signUpRoute.POST(requestFrom(address, { ...body, email: uniqueEmail(`burst${attempt}`) }), params({}));
+      expect(response.status).toBe(201);
+    }
+    const burst = await signUpRoute.POST(requestFrom(address, { ...body, email: uniqueEmail("burst-extra") }), params({}));
+    expect(burst.status).toBe(429);
+    expect((await burst.json()).error.code).toBe("rate_limited:sign_up");
+  });
+
+  it("limits reset requests per e-mail and per client address, the same for known and unknown e-mails", async () => {
+    const user = await makeUser("resetlimit");
+    const ghost = uniqueEmail("resetghost");
+    for (let attempt = 0; attempt < 5; attempt += 1) {
+      expect((await forgotRoute.POST(requestFrom(`192.0.2.${attempt + 1}`, { email: user.email }), params({}))).status).toBe(200);
+      expect((await forgotRoute.POST(requestFrom(`192.0.2.${attempt + 101}`, { email: ghost }), params({}))).status).toBe(200);
+    }
+    const known = await forgotRoute.POST(requestFrom("192.0.2.200", { email: user.email }), params({}));
+    const unknown = await forgotRoute.POST(requestFrom("192.0.2.201", { email: ghost }), params({}));
+    expect(known.status).toBe(429);
+    expect(unknown.status).toBe(429);
+    expect(await known.json()).toEqual(await unknown.json());
+
+    const address = "192.0.2.250";
+    for (let attempt = 0; attempt < 20; attempt += 1) {
+      expect((await forgotRoute.POST(requestFrom(address, { email: uniqueEmail(`spread${attempt}`) }), params({}))).status).toBe(200);
+    }
+    const limited = await forgotRoute.POST(requestFrom(address, { email: uniqueEmail("spread-extra") }), params({}));
+    expect(limited.status).toBe(429);
+    expect((await limited.json()).error.code).toBe("rate_limited:password_reset");
   });
 });
 

@@ -46,7 +46,7 @@ export async function makeTeam(name = "Hoist test bench"): Promise<TeamFixture> 
 /** Empties every table; the schema itself was migrated fresh by the test runner. */
 export async function resetDatabase(): Promise<void> {
   await db.execute(sql`
-    truncate table audit_log, sign_in_attempts, password_reset_tokens, invites, derivations, memberships, teams, users
+    truncate table audit_log, sign_in_attempts, rate_limit_events, password_reset_tokens, invites, derivations, memberships, teams, users
     restart identity cascade
   `);
 }

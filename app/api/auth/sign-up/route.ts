@@ -2,7 +2,9 @@ import { acceptInviteByTokenHash } from "@/db/queries/invites";
 import { createUser } from "@/db/queries/users";
 import { apiRoute, readJson } from "@/lib/api/route";
 import { hashPassword } from "@/lib/auth/password";
+import { emailKey, enforceRateLimits, rateLimits } from "@/lib/auth/rate-limit";
 import { hashToken } from "@/lib/auth/tokens";
+import { clientAddress } from "@/lib/client-address";
 import { AppError, toAppError } from "@/lib/errors";
 import { signUpSchema } from "@/lib/validation/auth";
 import { parseOrThrow } from "@/lib/validation/parse";
@@ -10,9 +12,17 @@ import { parseOrThrow } from "@/lib/validation/parse";
 /**
  * Creates an account. With an invite token, the new account joins the inviting
  * team straight away; the client signs in afterwards through next-auth.
+ * Limited per client address and per e-mail (429).
  */
 export const POST = apiRoute(async (request) => {
   const input = parseOrThrow(signUpSchema, await readJson(request));
+  await enforceRateLimits(
+    [
+      [rateLimits.signUpByAddress, clientAddress(request.headers)],
+      [rateLimits.signUpByEmail, emailKey(input.email)],
+    ],
+    "rate_limited:sign_up",
+  );
   const user = await createUser({ email: input.email, name: input.name, passwordHash: await hashPassword(input.password) });
   if (!user) {
     throw new AppError("conflict:sign_up", "An account with this e-mail already exists.", {
