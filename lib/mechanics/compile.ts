@@ -2,7 +2,8 @@ import { ExpressionError } from "./errors";
 import type { Expr } from "./expr/ast";
 import { DEFAULT_PARSE_LIMITS, parseExpression, type ParseLimits } from "./expr/parse";
 import { ExpressionGraph, type GraphOp, type SymbolBinding } from "./graph";
-import { luFactor, luSolve } from "./lu";
+import { SingularMatrixError } from "../simulate/errors";
+import { createLuWorkspace, solveInPlace } from "../simulate/linear-solve";
 
 /**
  * Numeric evaluation compiled from the parsed tree only — never from text via
@@ -258,8 +259,8 @@ export function compileMassMatrixSystem(system: MassMatrixSystem): CompiledMassM
   const compiled = compileExpressions(texts, variables, { constants: system.parameters });
   const values = new Float64Array(variables.length);
   const out = new Float64Array(n * n + n);
-  const lu = new Float64Array(n * n);
-  const pivot = new Int32Array(n);
+  // One LU implementation serves the engine and the integrators (lib/simulate/linear-solve.ts).
+  const lu = n > 0 ? createLuWorkspace(n) : null;
 
   const load = (t: number, q: ArrayLike<number>, rates: ArrayLike<number>, u: ArrayLike<number>) => {
     for (let i = 0; i < n; i++) {
@@ -273,10 +274,15 @@ export function compileMassMatrixSystem(system: MassMatrixSystem): CompiledMassM
 
   const accelerations = (t: number, q: ArrayLike<number>, rates: ArrayLike<number>, u: ArrayLike<number>, result: Float64Array): boolean => {
     load(t, q, rates, u);
-    for (let i = 0; i < n * n; i++) lu[i] = out[i]!;
+    if (lu === null) return true;
+    for (let i = 0; i < n * n; i++) lu.matrix[i] = out[i]!;
     for (let i = 0; i < n; i++) result[i] = out[n * n + i]!;
-    if (!luFactor(n, lu, pivot)) return false;
-    luSolve(n, lu, pivot, result);
+    try {
+      solveInPlace(lu, result);
+    } catch (error) {
+      if (error instanceof SingularMatrixError) return false;
+      throw error;
+    }
     return true;
   };
 
