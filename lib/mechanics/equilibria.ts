@@ -1,6 +1,7 @@
 import { Matrix, SingularValueDecomposition } from "ml-matrix";
 import { compileAnalysis, linearizeAbout, type CompiledAnalysis, type Complex, type Linearization, type MechanicalSystem } from "./linearize";
 import { isAngleUnit } from "./units";
+import { seededRandom } from "./canonical/evaluate";
 
 export type Stability = "stable" | "unstable" | "marginal";
 
@@ -59,7 +60,7 @@ export function findEquilibria(system: MechanicalSystem, options: EquilibriumOpt
   const u = options.inputs ?? new Array<number>(m).fill(0);
   const t = options.t ?? 0;
   const zeros = new Array<number>(n).fill(0);
-  const random = mulberry32(options.seed ?? 1);
+  const random = seededRandom(options.seed ?? 1);
 
   const starts: number[][] = [...(options.starts ?? []).map((s) => [...s])];
   const angleGrid = [0, Math.PI, Math.PI / 2, -Math.PI / 2];
@@ -151,15 +152,4 @@ export function wrapAngle(x: number): number {
 function compareVectors(a: number[], b: number[]): number {
   for (let i = 0; i < a.length; i++) if (Math.abs(a[i]! - b[i]!) > 1e-9) return a[i]! - b[i]!;
   return 0;
-}
-
-function mulberry32(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
 }

@@ -24,7 +24,8 @@ export interface GraphNode {
   value: number;
 }
 
-const FOLD: Record<FunctionName, (x: number) => number> = {
+/** The numeric value of each whitelisted function (shared with the canonical form's evaluator). */
+export const FUNCTION_VALUES: Record<FunctionName, (x: number) => number> = {
   sin: Math.sin,
   cos: Math.cos,
   tan: Math.tan,
@@ -139,7 +140,7 @@ export class ExpressionGraph {
 
   call(fn: FunctionName, a: number): number {
     const ca = this.constValue(a);
-    if (ca !== null) return this.constant(FOLD[fn](ca));
+    if (ca !== null) return this.constant(FUNCTION_VALUES[fn](ca));
     return this.intern(fn, a, -1);
   }
 

@@ -1,6 +1,7 @@
 import { EngineLimitError } from "../errors";
 import type { FunctionName } from "../expr/ast";
 import * as C from "./coefficient";
+import { normaliseArgument } from "./general";
 import type { SymbolSpace } from "./space";
 import { canonicalTrig, combineAngles, makeTerm, mergeFactors, monomialKey, type Poly, type Term, type Trig } from "./term";
 
@@ -205,6 +206,11 @@ export class Algebra {
       throw new RangeError("division by zero");
     }
     if (Number.isInteger(exponent) && exponent > 0) return this.powInt(base, exponent);
+    if (base.size > 1) {
+      // Outside the class: one atom for equal bases, e.g. (1/(x+1) + 1)^(1/2) and ((x+2)/(x+1))^(1/2).
+      const normal = normaliseArgument(this, base);
+      if (normal !== base) return this.power(normal, exponent);
+    }
     if (base.size === 1) {
       const term = base.values().next().value!;
       if (term.g === null) {
@@ -291,6 +297,8 @@ export class Algebra {
       const term = arg.values().next().value!;
       if (term.f.length === 0 && term.g === null) return this.constant(C.toNumber(term.c) < 0 ? C.negate(term.c) : term.c);
     }
+    const normal = normaliseArgument(this, arg);
+    if (normal !== arg) return this.call(fn, normal);
     const id = this.space.functionAtom(fn, arg, polyKey(arg), this.dependencies(arg));
     return this.symbol(id, 1);
   }

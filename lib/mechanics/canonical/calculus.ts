@@ -1,5 +1,6 @@
 import * as C from "./coefficient";
 import type { Algebra } from "./algebra";
+import { generalPartial } from "./general";
 import { makeTerm, type Poly, type Term } from "./term";
 
 /**
@@ -34,6 +35,8 @@ export class Derivation {
     private readonly rule: SymbolRule,
     /** Plain symbols the rule is non-zero on; atoms depending on none of them are constant. */
     private readonly active: (id: number) => boolean,
+    /** For ∂/∂x: x. Atom derivatives are then offered to nerdamer (checked against the chain rule). */
+    private readonly variable?: number,
   ) {}
 
   /** D(symbol) including atoms by the chain rule. */
@@ -52,6 +55,7 @@ export class Derivation {
         const inner = this.apply(entry.arg!);
         result = inner.size === 0 ? null : this.alg.mul(outerDerivative(this.alg, entry.fn!, entry.arg!), inner);
       }
+      if (this.variable !== undefined && result !== null) result = atomPartial(this.alg, id, this.variable, result);
     } else result = this.rule(id);
     if (result !== null && result.size === 0) result = null;
     this.cache.set(id, result);
@@ -135,7 +139,21 @@ function outerDerivative(alg: Algebra, fn: string, u: Poly): Poly {
 /** ∂/∂x for a plain symbol x (a coordinate, a rate, an acceleration). */
 export function partialDerivative(alg: Algebra, x: number): Derivation {
   const one = alg.constant(C.ONE);
-  return new Derivation(alg, (id) => (id === x ? one : null), (id) => id === x);
+  return new Derivation(alg, (id) => (id === x ? one : null), (id) => id === x, x);
+}
+
+/** Partial derivatives of atoms, per symbol table, so nerdamer sees each (atom, x) once per derivation. */
+const atomPartials = new WeakMap<object, Map<string, Poly | null>>();
+
+/** ∂(atom)/∂x: nerdamer's where it is verified (see general.ts), else the chain rule's `engine`. */
+function atomPartial(alg: Algebra, atom: number, x: number, engine: Poly | null): Poly | null {
+  let memo = atomPartials.get(alg.space);
+  if (memo === undefined) atomPartials.set(alg.space, (memo = new Map()));
+  const key = `${atom}:${x}`;
+  if (memo.has(key)) return memo.get(key)!;
+  const result = generalPartial(alg, atom, x, engine);
+  memo.set(key, result);
+  return result;
 }
 
 /**

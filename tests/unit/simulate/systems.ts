@@ -85,17 +85,8 @@ export function keplerOrbit(values: { mu?: number; k?: number } = {}): Mechanica
   });
 }
 
-/** Mulberry32: a small seeded generator, so randomized tests repeat exactly. */
-export function seededRandom(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+/** The engine's seeded generator (mulberry32), so randomised tests are repeatable. */
+export { seededRandom } from "@/lib/mechanics/canonical/evaluate";
 
 /** Standard normal deviates from a uniform generator (Box–Muller). */
 export function gaussian(random: () => number): () => number {

@@ -3,17 +3,8 @@
 import type { Expr } from "@/lib/mechanics/expr/ast";
 import { parseExpression } from "@/lib/mechanics/expr/parse";
 
-/** mulberry32: a small seeded PRNG returning floats in [0, 1). */
-export function mulberry32(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+/** The engine's seeded generator (mulberry32), so randomised tests are repeatable. */
+export { seededRandom as mulberry32 } from "@/lib/mechanics/canonical/evaluate";
 
 export function uniform(random: () => number, lo: number, hi: number): number {
   return lo + (hi - lo) * random();

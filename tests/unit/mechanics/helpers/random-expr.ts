@@ -1,16 +1,7 @@
 import type { Expr } from "@/lib/mechanics/expr/ast";
 
-/** A small seeded generator (mulberry32) so randomised tests are repeatable. */
-export function seededRandom(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+/** The engine's seeded generator (mulberry32), so randomised tests are repeatable. */
+export { seededRandom } from "@/lib/mechanics/canonical/evaluate";
 
 /** Evaluates a tree by walking it — the reference the compiled tape is checked against. */
 export function evaluateTree(e: Expr, values: Record<string, number>): number {
