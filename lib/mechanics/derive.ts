@@ -3,6 +3,7 @@ import type { Expr, SymbolNode } from "./expr/ast";
 import { TIME } from "./expr/ast";
 import type { Model } from "./model";
 import { analyzeModel, type ModelAnalysis } from "./validate-model";
+import { solveAccelerations, type AccelerationsResult } from "./accelerations";
 import { Algebra, DEFAULT_ALGEBRA_LIMITS } from "./canonical/algebra";
 import { partialDerivative, RateUnavailableError, timeDerivative, type Derivation } from "./canonical/calculus";
 import * as C from "./canonical/coefficient";
@@ -64,6 +65,8 @@ export interface DerivationResult {
   /** L depends on t explicitly. */
   explicitTime: boolean;
   hamiltonian: HamiltonianResult;
+  /** q'' solved from M q'' = f for one or two coordinates (see accelerations.ts). */
+  accelerations: AccelerationsResult;
   timing: DerivationTiming;
 }
 
@@ -125,6 +128,7 @@ export function deriveModel(model: Model, options: DeriveOptions = {}): Derivati
   });
 
   const hamiltonian = legendreTransform(canonical, names, options.hamiltonianMaxSize ?? 3, model);
+  const accelerations = solveAccelerations(alg, names, canonical.massMatrix, canonical.forcing);
   const end = now();
   return {
     coordinates: names,
@@ -137,6 +141,7 @@ export function deriveModel(model: Model, options: DeriveOptions = {}): Derivati
     conserved,
     explicitTime: canonical.explicitTime,
     hamiltonian,
+    accelerations,
     timing: {
       canonicalMs: canonical.canonicalMs,
       equationsMs: afterEquations - start - canonical.canonicalMs,

@@ -40,3 +40,5 @@ export { topLevelTerms } from "./terms";
 export type { SignedTerm } from "./terms";
 export { exportCode, CODE_LANGUAGES } from "./codegen";
 export type { CodeExportInput, CodeLanguage } from "./codegen";
+export { solveAccelerations, ACCELERATIONS_MAX_SIZE } from "./accelerations";
+export type { AccelerationsResult, SolvedAcceleration } from "./accelerations";
