@@ -7,6 +7,7 @@ export type ErrorKind =
   | "not_found"
   | "conflict"
   | "unprocessable"
+  | "length_required"
   | "too_large"
   | "rate_limited"
   | "unavailable"
@@ -42,6 +43,7 @@ export const statusByKind: Record<ErrorKind, number> = {
   not_found: 404,
   conflict: 409,
   unprocessable: 422,
+  length_required: 411,
   too_large: 413,
   rate_limited: 429,
   unavailable: 503,
@@ -65,6 +67,7 @@ const kindMessages: Record<ErrorKind, string> = {
   not_found: "Not found.",
   conflict: "That conflicts with existing data.",
   unprocessable: "The content cannot be processed as it stands.",
+  length_required: "Send the upload with a Content-Length header.",
   too_large: "The upload is larger than the limit.",
   rate_limited: "Too many requests. Try again later.",
   unavailable: "A service is not reachable right now.",

@@ -16,7 +16,7 @@ import { closeEnginePool } from "@/lib/engine/pool";
 import { modelToDocument, type DerivationDocument } from "@/lib/notebook/document";
 import type { Model } from "@/lib/mechanics/model";
 import { safetyNote } from "@/lib/domain";
-import { jsonRequest, makeTeam, params, resetDatabase, type TeamFixture } from "./support/fixtures";
+import { formRequest, jsonRequest, makeTeam, params, resetDatabase, type TeamFixture } from "./support/fixtures";
 import { signInAs, signOut } from "./support/session";
 
 let kestrel: TeamFixture;
@@ -247,7 +247,7 @@ describe("import and export", () => {
     const form = new FormData();
     form.set("file", new File([JSON.stringify(modelFile)], "imported-seat-rig.model.json", { type: "application/json" }));
     form.set("title", "Seat rig, round trip");
-    const again = await importRoute.POST(new Request(`http://localhost/api/teams/${kestrel.team.id}/derivations/import`, { method: "POST", body: form }), params({ teamId: kestrel.team.id }));
+    const again = await importRoute.POST(await formRequest(`/api/teams/${kestrel.team.id}/derivations/import`, form), params({ teamId: kestrel.team.id }));
     expect(again.status).toBe(201);
     const copy = (await again.json()).derivation;
     expect(copy.title).toBe("Seat rig, round trip");
@@ -276,11 +276,24 @@ describe("import and export", () => {
 
     const form = new FormData();
     form.set("file", new File(["{ not json"], "broken.model.json"));
-    const notJson = await importRoute.POST(new Request(`http://localhost/api/teams/${kestrel.team.id}/derivations/import`, { method: "POST", body: form }), params({ teamId: kestrel.team.id }));
+    const notJson = await importRoute.POST(await formRequest(`/api/teams/${kestrel.team.id}/derivations/import`, form), params({ teamId: kestrel.team.id }));
     expect(notJson.status).toBe(422);
     expect((await notJson.json()).error.fieldErrors.file[0]).toMatch(/not JSON/);
 
     expect((await listDerivations(kestrel)).total).toBe(before);
+  });
+
+  it("refuses an import without a Content-Length (411) or declaring more than the limit (413) before reading it", async () => {
+    signInAs(kestrel.members.analyst);
+    const url = `http://localhost/api/teams/${kestrel.team.id}/derivations/import`;
+    const unsized = await importRoute.POST(new Request(url, { method: "POST", headers: { "content-type": "application/json" }, body: JSON.stringify(seatModel()) }), params({ teamId: kestrel.team.id }));
+    expect(unsized.status).toBe(411);
+    const huge = await importRoute.POST(
+      new Request(url, { method: "POST", headers: { "content-type": "application/json", "content-length": String(50 * 1024 * 1024) }, body: "{}" }),
+      params({ teamId: kestrel.team.id }),
+    );
+    expect(huge.status).toBe(413);
+    expect((await huge.json()).error.code).toBe("too_large:model");
   });
 
   it("refuses an import by a viewer", async () => {

@@ -18,7 +18,7 @@ import { documentToModel, modelToDocument, type DerivationDocument } from "@/lib
 import { energyDrift, estimatePeriod } from "@/lib/simulate/checks";
 import { closeSimulationPool } from "@/lib/simulation/pool";
 import { listObjectKeys, objectExists } from "@/lib/storage";
-import { jsonRequest, makeTeam, params, resetDatabase, type TeamFixture } from "./support/fixtures";
+import { formRequest, jsonRequest, makeTeam, params, resetDatabase, type TeamFixture } from "./support/fixtures";
 import { signInAs, signOut } from "./support/session";
 
 let kestrel: TeamFixture;
@@ -74,15 +74,15 @@ async function makeDerivation(fixture: TeamFixture, model: Model) {
   return derivation.id;
 }
 
-function uploadRequest(derivationId: string, name: string, bytes: Uint8Array | string, type = "text/csv", kind?: string): Request {
+function uploadRequest(derivationId: string, name: string, bytes: Uint8Array | string, type = "text/csv", kind?: string): Promise<Request> {
   const form = new FormData();
   form.set("file", new File([typeof bytes === "string" ? bytes : new Uint8Array(bytes)], name, { type }));
   if (kind) form.set("kind", kind);
-  return new Request(`http://localhost/api/derivations/${derivationId}/files`, { method: "POST", body: form });
+  return formRequest(`/api/derivations/${derivationId}/files`, form);
 }
 
-function upload(derivationId: string, name: string, bytes: Uint8Array | string, type?: string, kind?: string) {
-  return derivationFilesRoute.POST(uploadRequest(derivationId, name, bytes, type, kind), params({ id: derivationId }));
+async function upload(derivationId: string, name: string, bytes: Uint8Array | string, type?: string, kind?: string) {
+  return derivationFilesRoute.POST(await uploadRequest(derivationId, name, bytes, type, kind), params({ id: derivationId }));
 }
 
 async function listFiles(derivationId: string) {
@@ -211,6 +211,44 @@ describe("measured data and image uploads", () => {
     });
     const response = await derivationFilesRoute.POST(request, params({ id }));
     expect(response.status).toBe(413);
+  });
+
+  it("refuses an upload without a Content-Length (411) and cuts off a body longer than it declared", async () => {
+    const id = await makeDerivation(kestrel, pendulum);
+    signInAs(kestrel.members.analyst);
+    const form = new FormData();
+    form.set("file", new File(["t,x\n0,0\n"], "run.csv", { type: "text/csv" }));
+    const encoded = new Response(form);
+    const contentType = encoded.headers.get("content-type") ?? "";
+    const bytes = new Uint8Array(await encoded.arrayBuffer());
+    const unsized = await derivationFilesRoute.POST(
+      new Request(`http://localhost/api/derivations/${id}/files`, { method: "POST", headers: { "content-type": contentType }, body: bytes }),
+      params({ id }),
+    );
+    expect(unsized.status).toBe(411);
+    expect((await unsized.json()).error.code).toBe("length_required:api");
+
+    // A streamed body far past the limit while claiming a small length: reading stops, nothing is stored.
+    let sent = 0;
+    const chunk = new Uint8Array(1024 * 1024).fill(48);
+    const endless = new ReadableStream<Uint8Array>({
+      pull(controller) {
+        sent += chunk.byteLength;
+        controller.enqueue(chunk);
+      },
+    });
+    const lying = await derivationFilesRoute.POST(
+      new Request(`http://localhost/api/derivations/${id}/files`, {
+        method: "POST",
+        headers: { "content-type": contentType, "content-length": String(bytes.byteLength) },
+        body: endless,
+        duplex: "half",
+      } as RequestInit),
+      params({ id }),
+    );
+    expect(lying.status).toBe(400);
+    expect(sent).toBeLessThanOrEqual(2 * chunk.byteLength);
+    expect(await listFiles(id)).toEqual([]);
   });
 
   it("stores a PNG, serves it inline with its type, and refuses SVG", async () => {

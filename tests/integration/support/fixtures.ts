@@ -51,11 +51,24 @@ export async function resetDatabase(): Promise<void> {
   `);
 }
 
+// Requests carry Content-Length as browsers send it; upload routes refuse bodies without one.
 export function jsonRequest(url: string, method: string, body?: unknown): Request {
+  const text = body === undefined ? undefined : typeof body === "string" ? body : JSON.stringify(body);
   return new Request(`http://localhost${url}`, {
     method,
-    headers: body === undefined ? undefined : { "content-type": "application/json" },
-    body: body === undefined ? undefined : typeof body === "string" ? body : JSON.stringify(body),
+    headers: text === undefined ? undefined : { "content-type": "application/json", "content-length": String(Buffer.byteLength(text)) },
+    body: text,
+  });
+}
+
+/** A multipart/form-data POST with its boundary and Content-Length, as a browser sends a form. */
+export async function formRequest(url: string, form: FormData): Promise<Request> {
+  const encoded = new Response(form);
+  const body = new Uint8Array(await encoded.arrayBuffer());
+  return new Request(`http://localhost${url}`, {
+    method: "POST",
+    headers: { "content-type": encoded.headers.get("content-type") ?? "", "content-length": String(body.byteLength) },
+    body,
   });
 }
 

@@ -2,6 +2,7 @@ import { randomUUID } from "node:crypto";
 import { createFile, getFilesByDerivationId } from "@/db/queries/files";
 import type { MeasuredFileSummary, StoredFile } from "@/db/schema";
 import { fileView } from "@/lib/simulation/views";
+import { formDataOf, readBodyWithin } from "@/lib/api/body";
 import { apiRoute } from "@/lib/api/route";
 import { loadDerivationFor } from "@/lib/auth/access";
 import { requireUser } from "@/lib/auth/session";
@@ -41,12 +42,12 @@ export const POST = apiRoute<Params>(async (request, { params }) => {
   const { derivation } = await loadDerivationFor(user, id, "derivation:attach");
 
   const largestLimit = Math.max(env.UPLOAD_MAX_CSV_BYTES, env.UPLOAD_MAX_IMAGE_BYTES);
-  const declared = Number(request.headers.get("content-length") ?? "");
-  if (Number.isFinite(declared) && declared > largestLimit + MULTIPART_OVERHEAD_BYTES) throw tooLarge(largestLimit);
+  // Refused before reading when the declared length is missing or too large, and cut off while reading past the limit.
+  const body = await readBodyWithin(request, { limit: largestLimit + MULTIPART_OVERHEAD_BYTES, tooLarge: () => tooLarge(largestLimit) });
 
   let form: FormData;
   try {
-    form = await request.formData();
+    form = await formDataOf(request, body);
   } catch {
     throw new AppError("bad_request:validation", "Send the file as multipart/form-data in a field named \"file\".");
   }

@@ -1,4 +1,5 @@
 import { createDerivation } from "@/db/queries/derivations";
+import { formDataOf, readBodyWithin } from "@/lib/api/body";
 import { apiRoute } from "@/lib/api/route";
 import { loadTeamFor } from "@/lib/auth/access";
 import { requireUser } from "@/lib/auth/session";
@@ -21,10 +22,18 @@ function fileProblem(reason: string): AppError {
   });
 }
 
+// A model file of MAX_MODEL_FILE_LENGTH characters (UTF-16 code units) takes at most
+// 3 bytes per unit in UTF-8, plus room for the multipart framing around it.
+const MAX_IMPORT_BODY_BYTES = 3 * MAX_MODEL_FILE_LENGTH + 64 * 1024;
+
 async function readUpload(request: Request): Promise<{ text: string; title?: string } | { model: unknown; title?: string }> {
   const type = request.headers.get("content-type") ?? "";
+  const bytes = await readBodyWithin(request, {
+    limit: MAX_IMPORT_BODY_BYTES,
+    tooLarge: () => new AppError("too_large:model", `The upload is larger than the limit of ${MAX_IMPORT_BODY_BYTES} bytes.`),
+  });
   if (type.startsWith("multipart/form-data")) {
-    const form = await request.formData().catch(() => {
+    const form = await formDataOf(request, bytes).catch(() => {
       throw new AppError("bad_request:validation", "The upload could not be read.");
     });
     const file = form.get("file");
@@ -33,7 +42,7 @@ async function readUpload(request: Request): Promise<{ text: string; title?: str
     const title = form.get("title");
     return { text: await file.text(), title: typeof title === "string" && title.trim() !== "" ? title : undefined };
   }
-  const text = await request.text();
+  const text = new TextDecoder().decode(bytes);
   if (text.length > MAX_MODEL_FILE_LENGTH) throw fileProblem(`the body is ${text.length} characters; the limit is ${MAX_MODEL_FILE_LENGTH}`);
   let body: unknown;
   try {
