@@ -15,6 +15,15 @@ export HOLONOMY_TEST_APP_PORT="${HOLONOMY_TEST_APP_PORT:-3100}"
 REPORT_DIR="$DATA_DIR/reports"
 
 ensure_node_modules
+
+# Static checks first: the run fails when types or lint are red (the build skips its
+# own type check, so this is the gate). Tests still run, to report everything at once.
+static_failures=()
+log "typecheck"
+npm run --silent typecheck || static_failures+=("typecheck")
+log "lint"
+npm run --silent lint || static_failures+=("lint")
+
 ensure_chromium
 
 # The unit tests run exported Python code, which needs NumPy: python3 from PATH if it
@@ -72,7 +81,7 @@ fresh_test_database() {
 }
 
 rm -rf "$REPORT_DIR"; mkdir -p "$REPORT_DIR"
-failed_steps=()
+failed_steps=(${static_failures[@]+"${static_failures[@]}"})
 
 # Unit and integration run one after the other: the engine's unit tests include
 # wall-time limits that should not compete with integration work for 2 cores.

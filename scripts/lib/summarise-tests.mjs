@@ -49,6 +49,12 @@ if (playwright) {
   notes.push(failedSteps.includes("next build") ? "playwright: not run (build failed)" : "playwright: no report");
 }
 
+// Static checks (typecheck, lint) leave no report: each failed one counts once.
+for (const step of failedSteps.filter((name) => ["typecheck", "lint"].includes(name))) {
+  failed += 1;
+  notes.push(`${step}: failed`);
+}
+
 console.error(`[holonomy] ${notes.join("; ")}`);
 console.log(`${passed} passed, ${failed} failed`);
 process.exit(failed > 0 ? 1 : 0);
