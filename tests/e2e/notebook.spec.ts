@@ -113,6 +113,8 @@ test("a viewer reads a derivation but cannot edit it, and the API refuses the vi
   const signIn = new SignInPage(page);
   await signIn.goto();
   await signIn.signIn(viewer.email, demoPassword);
+  // Sign-in finishes (session cookie set) before the next navigation, or that navigation lands back on sign-in.
+  await expect(page).toHaveURL(/\/teams$/);
   const dashboard = new DashboardPage(page);
   await dashboard.openTeam(demoTeam.name);
   await dashboard.table.getByRole("link", { name: /Gantry crane: trolley/ }).click();

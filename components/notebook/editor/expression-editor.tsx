@@ -82,6 +82,9 @@ export function ExpressionEditor(props: ExpressionEditorProps) {
       state: EditorState.create({
         doc: value,
         extensions: [
+          // First, so it outranks the label expressionExtensions sets: CodeMirror keeps the
+          // highest-precedence value of an attribute, and this compartment follows `label`.
+          labelCompartment.current.of(EditorView.contentAttributes.of({ "aria-label": label, "aria-describedby": messagesId })),
           expressionExtensions({
             label,
             id: props.id,
@@ -95,7 +98,6 @@ export function ExpressionEditor(props: ExpressionEditorProps) {
             onEnter: () => callbacks.current.onEnter?.(),
           }),
           readOnlyCompartment.current.of(readOnlyExtensions(readOnly)),
-          labelCompartment.current.of(EditorView.contentAttributes.of({ "aria-describedby": messagesId })),
           EditorView.updateListener.of((update) => {
             if (update.docChanged && !update.transactions.some((tr) => tr.annotation(external))) {
               callbacks.current.onChange(update.state.doc.toString());
