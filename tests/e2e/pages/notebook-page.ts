@@ -57,13 +57,18 @@ export class NotebookPage {
 
   async waitForResults(): Promise<void> {
     await expect(this.page.getByTestId("evaluation-status")).toHaveAttribute("data-state", "current", { timeout: 45_000 });
+    // Display math is typeset once it comes near the viewport (components/notebook/math.tsx): scroll to it, as a reader would.
+    await this.equations.scrollIntoViewIfNeeded();
     await expect(this.equations.locator(".katex").first()).toBeVisible();
   }
 
   /** The typeset equations as plain text, one entry per equation. */
   async equationTexts(): Promise<string[]> {
     const items = this.equations.locator(".katex-display, .katex");
+    await this.equations.scrollIntoViewIfNeeded();
     await expect(items.first()).toBeVisible();
+    // Every equation typeset, not only the first.
+    await expect(this.equations.locator(".hn-math-pending")).toHaveCount(0);
     return (await this.equations.locator(".katex-html").allTextContents()).map(plainMath);
   }
 
