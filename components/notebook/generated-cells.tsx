@@ -160,18 +160,25 @@ export function EquationsCellView({ cell, results, evaluating, readOnly, onOpera
 
 export function ConservedCellView({ results, evaluating }: GeneratedCellProps<ConservedCell>) {
   if (!results) return <Pending evaluating={evaluating} />;
+  // The energy function is always shown once at the top; when it is conserved it is
+  // labelled so there rather than repeated in the list below.
+  const conserved = results.conserved ?? [];
+  const energyConserved = conserved.find((quantity) => quantity.name === "energy function");
+  const others = results.energyLatex ? conserved.filter((quantity) => quantity !== energyConserved) : conserved;
   return (
     <div className="hn-result-body flex min-w-0 flex-col gap-2">
       {results.energyLatex && (
         <div>
-          <div className="text-xs text-muted">Energy function</div>
+          <div className="text-xs text-muted">
+            Energy function{energyConserved ? ` — conserved: ${energyConserved.reason}` : " — not conserved"}
+          </div>
           <MathView latex={`h = ${results.energyLatex}`} display />
         </div>
       )}
-      {(results.conserved ?? []).length === 0 ? (
+      {conserved.length === 0 ? (
         <p className="text-sm text-muted">No conserved quantity found: the Lagrangian depends on time, or dissipation or applied forces act, and no coordinate is cyclic.</p>
       ) : (
-        results.conserved!.map((quantity) => (
+        others.map((quantity) => (
           <div key={quantity.name} className="min-w-0">
             <div className="text-xs text-muted">
               {quantity.name} — {quantity.reason}

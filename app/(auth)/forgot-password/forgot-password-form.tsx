@@ -31,7 +31,7 @@ export function ForgotPasswordForm() {
   });
 
   return (
-    <form onSubmit={onSubmit} noValidate className="space-y-4" aria-label="Reset your password">
+    <form method="post" onSubmit={onSubmit} noValidate className="space-y-4" aria-label="Reset your password">
       {sentMessage ? <Notice tone="info">{sentMessage}</Notice> : null}
       {formError ? <Notice tone="error">{formError}</Notice> : null}
       <Field label="E-mail" type="email" autoComplete="email" autoFocus error={errors.email?.message} {...register("email")} />

@@ -38,7 +38,7 @@ export function SignInForm({ returnTo, passwordWasReset, initialEmail }: { retur
   });
 
   return (
-    <form onSubmit={onSubmit} noValidate className="space-y-4" aria-label="Sign in">
+    <form method="post" onSubmit={onSubmit} noValidate className="space-y-4" aria-label="Sign in">
       {passwordWasReset ? <Notice tone="info">Your password was changed. Sign in with the new one.</Notice> : null}
       {formError ? <Notice tone="error">{formError}</Notice> : null}
       <Field label="E-mail" type="email" autoComplete="email" autoFocus error={errors.email?.message} {...register("email")} />

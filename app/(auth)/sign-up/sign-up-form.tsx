@@ -53,7 +53,7 @@ export function SignUpForm({ inviteToken, invitedEmail }: { inviteToken?: string
   });
 
   return (
-    <form onSubmit={onSubmit} noValidate className="space-y-4" aria-label="Create an account">
+    <form method="post" onSubmit={onSubmit} noValidate className="space-y-4" aria-label="Create an account">
       {formError ? <Notice tone="error">{formError}</Notice> : null}
       <Field label="Name" autoComplete="name" autoFocus error={errors.name?.message} {...register("name")} />
       <Field

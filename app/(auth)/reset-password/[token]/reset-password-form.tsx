@@ -31,7 +31,7 @@ export function ResetPasswordForm({ token }: { token: string }) {
   });
 
   return (
-    <form onSubmit={onSubmit} noValidate className="space-y-4" aria-label="Choose a new password">
+    <form method="post" onSubmit={onSubmit} noValidate className="space-y-4" aria-label="Choose a new password">
       {formError ? <Notice tone="error">{formError}</Notice> : null}
       <input type="hidden" {...register("token")} />
       <Field label="New password" type="password" autoComplete="new-password" autoFocus hint="At least 10 characters." error={errors.password?.message} {...register("password")} />
