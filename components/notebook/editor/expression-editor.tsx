@@ -11,13 +11,10 @@
  * notebook with dozens of expressions renders quickly.
  */
 import { useEffect, useId, useRef, useState } from "react";
-import { Annotation, Compartment, EditorState, Transaction } from "@codemirror/state";
-import { EditorView } from "@codemirror/view";
-import { forEachDiagnostic, forceLinting, setDiagnosticsEffect } from "@codemirror/lint";
 import { useNearViewport } from "../use-near-viewport";
 import type { DocumentSymbols } from "@/lib/notebook/document";
-import { EMPTY_SYMBOLS, setServerDiagnosticsEffect, setSymbolsEffect, type ExpressionDiagnostic } from "./context";
-import { expressionExtensions } from "./extensions";
+import type { ExpressionDiagnostic } from "./context";
+import type { ExpressionViewHandle, ShownDiagnostic } from "./expression-view";
 
 export interface ExpressionEditorProps {
   value: string;
@@ -46,114 +43,83 @@ export interface ExpressionEditorProps {
   "data-testid"?: string;
 }
 
-/** Marks transactions that bring the editor in line with `value`, so they do not echo to onChange. */
-const external = Annotation.define<boolean>();
-
-interface ShownDiagnostic {
-  from: number;
-  to: number;
-  severity: string;
-  message: string;
-}
-
 export function ExpressionEditor(props: ExpressionEditorProps) {
   const { value, label, symbols, diagnostics, diagnosticsFor = null, readOnly = false } = props;
   const wrapperRef = useRef<HTMLDivElement>(null);
   const hostRef = useRef<HTMLDivElement>(null);
-  const viewRef = useRef<EditorView | null>(null);
+  const viewRef = useRef<ExpressionViewHandle | null>(null);
   const near = useNearViewport(wrapperRef);
   const [focusRequested, setFocusRequested] = useState(false);
   const [mounted, setMounted] = useState(false);
   const active = near || focusRequested;
-  const readOnlyCompartment = useRef(new Compartment());
-  const labelCompartment = useRef(new Compartment());
   const callbacks = useRef({ onChange: props.onChange, onEnter: props.onEnter, onBlur: props.onBlur });
   callbacks.current = { onChange: props.onChange, onEnter: props.onEnter, onBlur: props.onBlur };
+  // The latest props, read when the lazily loaded view is created.
+  const latest = useRef({ value, label, symbols, diagnostics, diagnosticsFor, readOnly, focusRequested });
+  latest.current = { value, label, symbols, diagnostics, diagnosticsFor, readOnly, focusRequested };
   const [shown, setShown] = useState<ShownDiagnostic[]>([]);
   const messagesId = useId();
 
-  // Create the view once per mount (when first near the viewport); later prop changes are dispatched below.
+  // Load CodeMirror and create the view once per mount (when first near the viewport or focused);
+  // later prop changes are forwarded by the effects below.
   useEffect(() => {
     const host = hostRef.current;
     if (!host || !active) return;
-    const serverItems = { text: diagnosticsFor, items: diagnostics ?? [] };
-    const view = new EditorView({
-      parent: host,
-      state: EditorState.create({
-        doc: value,
-        extensions: [
-          // First, so it outranks the label expressionExtensions sets: CodeMirror keeps the
-          // highest-precedence value of an attribute, and this compartment follows `label`.
-          labelCompartment.current.of(EditorView.contentAttributes.of({ "aria-label": label, "aria-describedby": messagesId })),
-          expressionExtensions({
-            label,
-            id: props.id,
-            multiline: props.multiline,
-            placeholder: props.placeholder,
-            symbols: symbols ?? EMPTY_SYMBOLS,
-            diagnostics: serverItems,
-            allowEmpty: props.allowEmpty,
-            checkSymbols: props.checkSymbols ?? symbols !== undefined,
-            lintDelay: props.lintDelay,
-            onEnter: () => callbacks.current.onEnter?.(),
-          }),
-          readOnlyCompartment.current.of(readOnlyExtensions(readOnly)),
-          EditorView.updateListener.of((update) => {
-            if (update.docChanged && !update.transactions.some((tr) => tr.annotation(external))) {
-              callbacks.current.onChange(update.state.doc.toString());
-            }
-            if (update.transactions.some((tr) => tr.effects.some((effect) => effect.is(setDiagnosticsEffect)))) {
-              const list: ShownDiagnostic[] = [];
-              forEachDiagnostic(update.state, (d, from, to) => list.push({ from, to, severity: d.severity, message: d.message }));
-              setShown(list);
-            }
-            if (update.focusChanged && !update.view.hasFocus) callbacks.current.onBlur?.();
-          }),
-        ],
-      }),
-    });
-    viewRef.current = view;
-    setMounted(true);
-    if (focusRequested) {
+    let cancelled = false;
+    let handle: ExpressionViewHandle | null = null;
+    void import("./expression-view").then(({ createExpressionView }) => {
+      if (cancelled) return;
+      const now = latest.current;
+      handle = createExpressionView({
+        parent: host,
+        value: now.value,
+        label: now.label,
+        describedBy: messagesId,
+        id: props.id,
+        multiline: props.multiline,
+        placeholder: props.placeholder,
+        symbols: now.symbols,
+        diagnostics: { text: now.diagnosticsFor, items: now.diagnostics ?? [] },
+        allowEmpty: props.allowEmpty,
+        checkSymbols: props.checkSymbols ?? now.symbols !== undefined,
+        lintDelay: props.lintDelay,
+        readOnly: now.readOnly,
+        onChange: (text) => callbacks.current.onChange(text),
+        onEnter: () => callbacks.current.onEnter?.(),
+        onBlur: () => callbacks.current.onBlur?.(),
+        onDiagnostics: setShown,
+      });
+      viewRef.current = handle;
+      setMounted(true);
       // Focus came to the plain-text stand-in: continue at the end of the text.
-      view.dispatch({ selection: { anchor: view.state.doc.length } });
-      view.focus();
-    }
+      if (now.focusRequested) handle.focusAtEnd();
+    });
     return () => {
-      view.destroy();
+      cancelled = true;
+      handle?.destroy();
       viewRef.current = null;
     };
     // Built once, when `active` turns true (it never turns back); the effects below follow prop changes.
   }, [active]);
 
   useEffect(() => {
-    const view = viewRef.current;
-    if (!view || view.state.doc.toString() === value) return;
-    view.dispatch({
-      changes: { from: 0, to: view.state.doc.length, insert: value },
-      annotations: [external.of(true), Transaction.addToHistory.of(false)],
-    });
+    viewRef.current?.setValue(value);
   }, [value]);
 
   useEffect(() => {
-    viewRef.current?.dispatch({ effects: setSymbolsEffect.of(symbols ?? EMPTY_SYMBOLS) });
+    viewRef.current?.setSymbols(symbols);
   }, [symbols]);
 
   useEffect(() => {
-    const view = viewRef.current;
-    if (!view) return;
-    view.dispatch({ effects: setServerDiagnosticsEffect.of({ text: diagnosticsFor, items: diagnostics ?? [] }) });
-    forceLinting(view);
+    viewRef.current?.setDiagnostics({ text: diagnosticsFor, items: diagnostics ?? [] });
   }, [diagnostics, diagnosticsFor]);
 
   useEffect(() => {
-    viewRef.current?.dispatch({ effects: readOnlyCompartment.current.reconfigure(readOnlyExtensions(readOnly)) });
+    viewRef.current?.setReadOnly(readOnly);
   }, [readOnly]);
 
   useEffect(() => {
-    viewRef.current?.dispatch({
-      effects: labelCompartment.current.reconfigure(EditorView.contentAttributes.of({ "aria-label": label, "aria-describedby": messagesId })),
-    });
+    viewRef.current?.setLabel(label, messagesId);
   }, [label, messagesId]);
 
   return (
@@ -180,8 +146,4 @@ export function ExpressionEditor(props: ExpressionEditorProps) {
       </ul>
     </div>
   );
-}
-
-function readOnlyExtensions(readOnly: boolean) {
-  return [EditorState.readOnly.of(readOnly), EditorView.editable.of(!readOnly)];
 }

@@ -15,11 +15,14 @@ configure({ asyncUtilTimeout: 5000 });
 
 const symbols: DocumentSymbols = { coordinates: ["theta"], parameters: ["m", "l", "g"], inputs: ["u"], definitions: ["y"] };
 
-function viewOf(label: string): EditorView {
-  const content = screen.getByRole("textbox", { name: label });
-  const view = EditorView.findFromDOM(content);
-  if (!view) throw new Error("no editor view");
-  return view;
+/** The mounted editor's view; CodeMirror loads on first use, so wait for it to replace the stand-in. */
+async function viewOf(label: string): Promise<EditorView> {
+  return waitFor(() => {
+    const content = screen.getByRole("textbox", { name: label });
+    const view = EditorView.findFromDOM(content);
+    if (!view) throw new Error("no editor view yet");
+    return view;
+  });
 }
 
 /** Types text at the end of the editor the way keyboard input reaches CodeMirror. */
@@ -47,10 +50,10 @@ function Controlled(props: Partial<ExpressionEditorProps> & { initial: string; o
 }
 
 describe("ExpressionEditor", () => {
-  it("mounts with the value, an accessible name, and reports typing through onChange", () => {
+  it("mounts with the value, an accessible name, and reports typing through onChange", async () => {
     const onValue = vi.fn();
     render(<Controlled initial="1/2*m*l^2*theta'^2" onValue={onValue} />);
-    const view = viewOf("Kinetic energy T");
+    const view = await viewOf("Kinetic energy T");
     expect(view.state.doc.toString()).toBe("1/2*m*l^2*theta'^2");
     typeAtEnd(view, " + 0");
     expect(onValue).toHaveBeenLastCalledWith("1/2*m*l^2*theta'^2 + 0");
@@ -58,7 +61,7 @@ describe("ExpressionEditor", () => {
 
   it("underlines a parse error at its column and lists it under the editor", async () => {
     render(<Controlled initial="m*g*y" />);
-    const view = viewOf("Kinetic energy T");
+    const view = await viewOf("Kinetic energy T");
     typeAtEnd(view, " + (l");
     const item = await screen.findByText(/expected "\)"/);
     // "m*g*y + (l" is 10 characters; the parser reports the missing ")" at the end, column 11.
@@ -87,39 +90,39 @@ describe("ExpressionEditor", () => {
       />,
     );
     expect(await screen.findByText(/unit mismatch: term m\*theta'\^2/)).toBeTruthy();
-    typeAtEnd(viewOf("Kinetic energy T"), "*l^2");
+    typeAtEnd(await viewOf("Kinetic energy T"), "*l^2");
     await waitFor(() => expect(screen.queryByText(/unit mismatch/)).toBeNull());
   });
 
-  it("keeps a single-line editor on one line", () => {
+  it("keeps a single-line editor on one line", async () => {
     const onValue = vi.fn();
     render(<Controlled initial="x" onValue={onValue} />);
-    const view = viewOf("Kinetic energy T");
+    const view = await viewOf("Kinetic energy T");
     typeAtEnd(view, "\n+ y");
     expect(view.state.doc.lines).toBe(1);
     expect(onValue).toHaveBeenLastCalledWith("x + y");
   });
 
-  it("follows a new value from the parent without echoing it back", () => {
+  it("follows a new value from the parent without echoing it back", async () => {
     const onChange = vi.fn();
     const { rerender } = render(<ExpressionEditor label="V" value="m*g*y" onChange={onChange} />);
     rerender(<ExpressionEditor label="V" value="-m*g*l*cos(theta)" onChange={onChange} />);
-    expect(viewOf("V").state.doc.toString()).toBe("-m*g*l*cos(theta)");
+    expect((await viewOf("V")).state.doc.toString()).toBe("-m*g*l*cos(theta)");
     expect(onChange).not.toHaveBeenCalled();
   });
 
-  it("destroys its EditorView on unmount", () => {
+  it("destroys its EditorView on unmount", async () => {
     const { unmount } = render(<ExpressionEditor label="V" value="m*g*y" onChange={() => {}} />);
-    const view = viewOf("V");
+    const view = await viewOf("V");
     const destroy = vi.spyOn(view, "destroy");
     unmount();
     expect(destroy).toHaveBeenCalledTimes(1);
     expect(view.dom.isConnected).toBe(false);
   });
 
-  it("is read-only when asked", () => {
+  it("is read-only when asked", async () => {
     render(<ExpressionEditor label="V" value="m*g*y" onChange={() => {}} readOnly />);
-    expect(viewOf("V").state.readOnly).toBe(true);
+    expect((await viewOf("V")).state.readOnly).toBe(true);
     expect(screen.getByRole("textbox", { name: "V" }).getAttribute("contenteditable")).toBe("false");
   });
 });
@@ -127,7 +130,7 @@ describe("ExpressionEditor", () => {
 describe("completion and local checks", () => {
   it("offers coordinates with rate and acceleration, definitions, parameters, inputs and functions", async () => {
     render(<Controlled initial="th" />);
-    const view = viewOf("Kinetic energy T");
+    const view = await viewOf("Kinetic energy T");
     const result = symbolCompletionSource(new CompletionContext(view.state, 2, false));
     expect(result?.from).toBe(0);
     const labels = result!.options.map((o) => `${o.label}:${o.detail}`);
@@ -154,7 +157,7 @@ describe("off-screen editors", () => {
       const stand = screen.getByRole("textbox", { name: "V" });
       expect(stand.textContent).toBe("m*g*y");
       act(() => stand.focus());
-      const view = viewOf("V");
+      const view = await viewOf("V");
       expect(view.hasFocus || document.activeElement === view.contentDOM).toBe(true);
       expect(view.state.selection.main.head).toBe(5);
       typeAtEnd(view, "1");
