@@ -5,7 +5,7 @@ import { requireUser } from "@/lib/auth/session";
 import { AppError } from "@/lib/errors";
 import { parseOrThrow } from "@/lib/validation/parse";
 import { derivationIdOf } from "../derivation-id";
-import { documentOrFieldErrors, saveContentSchema } from "./schema";
+import { saveContentSchema, validDocumentOrThrow } from "./schema";
 
 type Params = { id: string };
 
@@ -15,12 +15,11 @@ export const PUT = apiRoute<Params>(async (request, { params }) => {
   const id = await derivationIdOf(params);
   await loadDerivationFor(user, id, "derivation:edit");
   const input = parseOrThrow(saveContentSchema, await readJson(request));
-  const parsed = documentOrFieldErrors(input.document);
-  if (!parsed.ok) throw new AppError("bad_request:validation", "The notebook document is not valid.", { fieldErrors: parsed.fieldErrors });
+  const document = validDocumentOrThrow(input.document);
   const saved = await updateDerivationContentById({
     id,
     actorId: user.id,
-    content: parsed.document as unknown as Record<string, unknown>,
+    content: document as unknown as Record<string, unknown>,
     baseUpdatedAt: input.baseUpdatedAt ? new Date(input.baseUpdatedAt) : undefined,
   });
   if (!saved) {

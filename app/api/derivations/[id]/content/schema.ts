@@ -1,4 +1,6 @@
 import { z } from "zod";
+import { documentFromContent } from "@/lib/engine/document-content";
+import { AppError } from "@/lib/errors";
 import { parseStoredDocument, type DerivationDocument } from "@/lib/notebook/document";
 
 /**
@@ -17,4 +19,16 @@ export function documentOrFieldErrors(input: unknown): { ok: true; document: Der
   const fieldErrors: Record<string, string[]> = {};
   for (const issue of parsed.issues.slice(0, 50)) (fieldErrors[issue.path ? `document.${issue.path}` : "document"] ??= []).push(issue.message);
   return { ok: false, fieldErrors };
+}
+
+/** A posted notebook document, validated; throws a 400 with field errors when it is not valid. */
+export function validDocumentOrThrow(input: unknown): DerivationDocument {
+  const parsed = documentOrFieldErrors(input);
+  if (!parsed.ok) throw new AppError("bad_request:validation", "The notebook document is not valid.", { fieldErrors: parsed.fieldErrors });
+  return parsed.document;
+}
+
+/** The document a request works on: the one it posted (unsaved edits included), else the stored one. */
+export function documentForRequest(posted: unknown, derivation: { content: unknown; title: string }): DerivationDocument {
+  return posted !== undefined ? validDocumentOrThrow(posted) : documentFromContent(derivation.content, derivation.title);
 }

@@ -1,12 +1,10 @@
 import { apiRoute } from "@/lib/api/route";
 import { loadDerivationFor } from "@/lib/auth/access";
 import { requireUser } from "@/lib/auth/session";
-import { documentFromContent } from "@/lib/engine/document-content";
 import { evaluateDocumentCached } from "@/lib/engine/evaluation-service";
 import { readOptionalJson } from "@/lib/engine/optional-json";
-import { AppError } from "@/lib/errors";
 import { parseOrThrow } from "@/lib/validation/parse";
-import { documentOrFieldErrors } from "../content/schema";
+import { documentForRequest } from "../content/schema";
 import { derivationIdOf } from "../derivation-id";
 import { linearizeSchema } from "./schema";
 
@@ -22,14 +20,7 @@ export const POST = apiRoute<Params>(async (request, { params }) => {
   const id = await derivationIdOf(params);
   const { derivation } = await loadDerivationFor(user, id, "derivation:read");
   const input = parseOrThrow(linearizeSchema, await readOptionalJson(request));
-  let document;
-  if (input.document !== undefined) {
-    const parsed = documentOrFieldErrors(input.document);
-    if (!parsed.ok) throw new AppError("bad_request:validation", "The notebook document is not valid.", { fieldErrors: parsed.fieldErrors });
-    document = parsed.document;
-  } else {
-    document = documentFromContent(derivation.content, derivation.title);
-  }
+  const document = documentForRequest(input.document, derivation);
   const evaluation = await evaluateDocumentCached({ document, linearization: { equilibriumIndex: input.equilibriumIndex, inputValues: input.inputValues } });
   const { result } = evaluation;
   return Response.json({
