@@ -10,33 +10,13 @@
  * and are not part of a run.
  */
 import { deriveModel } from "../lib/mechanics/derive";
-import type { Model } from "../lib/mechanics/model";
+import { chainModel } from "../lib/mechanics/templates/chain";
 import { energyDrift } from "../lib/simulate/checks";
 import { integrate, type SimulationSettings } from "../lib/simulate/integrate";
 import { systemFromDerivation } from "../lib/simulate/system";
 
-const model: Model = {
-  title: "Double pendulum (bench)",
-  coordinates: [
-    { name: "theta1", unit: "rad" },
-    { name: "theta2", unit: "rad" },
-  ],
-  parameters: [
-    { name: "m1", unit: "kg", value: 1 },
-    { name: "m2", unit: "kg", value: 1 },
-    { name: "l1", unit: "m", value: 1 },
-    { name: "l2", unit: "m", value: 1 },
-    { name: "g", unit: "m/s^2", value: 9.81 },
-  ],
-  definitions: [
-    { name: "x1", expr: "l1*sin(theta1)" },
-    { name: "y1", expr: "-l1*cos(theta1)" },
-    { name: "x2", expr: "x1 + l2*sin(theta2)" },
-    { name: "y2", expr: "y1 - l2*cos(theta2)" },
-  ],
-  kinetic: "1/2*m1*(x1'^2 + y1'^2) + 1/2*m2*(x2'^2 + y2'^2)",
-  potential: "m1*g*y1 + m2*g*y2",
-};
+// m1 = m2 = 1 kg, l1 = l2 = 1 m, g = 9.81 m/s², built from Cartesian definitions like the app's template.
+const model = chainModel({ links: 2, masses: [1, 1], lengths: [1, 1], gravity: 9.81 });
 
 const settings: SimulationSettings = {
   initialCoordinates: { theta1: 2, theta2: 2 },

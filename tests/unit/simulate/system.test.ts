@@ -1,34 +1,14 @@
 import { describe, expect, it } from "vitest";
 import { deriveModel } from "@/lib/mechanics/derive";
-import type { Model } from "@/lib/mechanics/model";
 import { energyDrift } from "@/lib/simulate/checks";
+import { chainModel } from "@/lib/mechanics/templates/chain";
 import { SimulationSetupError } from "@/lib/simulate/errors";
 import { integrate } from "@/lib/simulate/integrate";
 import { layoutOf, systemFromDerivation, systemFromMassMatrixForm, variableNames } from "@/lib/simulate/system";
 import { doublePendulum, seededRandom } from "./systems";
 
-const doublePendulumModel: Model = {
-  title: "Test rig arm, two links",
-  coordinates: [
-    { name: "theta1", unit: "rad" },
-    { name: "theta2", unit: "rad" },
-  ],
-  parameters: [
-    { name: "m1", unit: "kg", value: 1.4 },
-    { name: "m2", unit: "kg", value: 0.7 },
-    { name: "l1", unit: "m", value: 0.9 },
-    { name: "l2", unit: "m", value: 0.6 },
-    { name: "g", unit: "m/s^2", value: 9.81 },
-  ],
-  definitions: [
-    { name: "x1", expr: "l1*sin(theta1)" },
-    { name: "y1", expr: "-l1*cos(theta1)" },
-    { name: "x2", expr: "x1 + l2*sin(theta2)" },
-    { name: "y2", expr: "y1 - l2*cos(theta2)" },
-  ],
-  kinetic: "1/2*m1*(x1'^2 + y1'^2) + 1/2*m2*(x2'^2 + y2'^2)",
-  potential: "m1*g*y1 + m2*g*y2",
-};
+// A two-link test rig arm: the double pendulum from Cartesian definitions, unequal links.
+const doublePendulumModel = chainModel({ links: 2, masses: [1.4, 0.7], lengths: [0.9, 0.6], gravity: 9.81 });
 
 describe("system adapters", () => {
   it("lays out the packed variables as q, q', t, inputs, parameters", () => {

@@ -4,39 +4,7 @@ import type { Expr } from "@/lib/mechanics/expr/ast";
 export { seededRandom } from "@/lib/mechanics/canonical/evaluate";
 
 /** Evaluates a tree by walking it — the reference the compiled tape is checked against. */
-export function evaluateTree(e: Expr, values: Record<string, number>): number {
-  switch (e.kind) {
-    case "num":
-      return e.value;
-    case "pi":
-      return Math.PI;
-    case "sym": {
-      const key = e.name + "'".repeat(e.order);
-      if (!(key in values)) throw new Error(`no value for ${key}`);
-      return values[key]!;
-    }
-    case "neg":
-      return -evaluateTree(e.arg, values);
-    case "call":
-      return Math[e.fn](evaluateTree(e.arg, values));
-    case "bin": {
-      const a = evaluateTree(e.left, values);
-      const b = evaluateTree(e.right, values);
-      switch (e.op) {
-        case "+":
-          return a + b;
-        case "-":
-          return a - b;
-        case "*":
-          return a * b;
-        case "/":
-          return a / b;
-        case "^":
-          return Math.pow(a, b);
-      }
-    }
-  }
-}
+export { evaluateTree } from "./numeric";
 
 const span = { start: 0, end: 0 };
 
