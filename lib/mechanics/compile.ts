@@ -2,8 +2,8 @@ import { ExpressionError } from "./errors";
 import type { Expr } from "./expr/ast";
 import { DEFAULT_PARSE_LIMITS, parseExpression, type ParseLimits } from "./expr/parse";
 import { ExpressionGraph, type GraphOp, type SymbolBinding } from "./graph";
-import { SingularMatrixError } from "../simulate/errors";
-import { createLuWorkspace, solveInPlace } from "../simulate/linear-solve";
+import { SingularMatrixError } from "../numeric/errors";
+import { createLuWorkspace, solveInPlace } from "../numeric/linear-solve";
 
 /**
  * Numeric evaluation compiled from the parsed tree only — never from text via

@@ -2,8 +2,8 @@
 // Worker entries are separate modules: browser-worker.ts and node-worker.ts.
 export { SingularMatrixError, SimulationSetupError, MeasuredDataError, FitError } from "./errors";
 export type { SimulationSetupErrorCode, MeasuredDataErrorCode, FitErrorCode } from "./errors";
-export { createLuWorkspace, factorInPlace, substituteInPlace, solveInPlace, DEFAULT_SINGULAR_TOLERANCE } from "./linear-solve";
-export type { LuWorkspace } from "./linear-solve";
+export { createLuWorkspace, factorInPlace, substituteInPlace, solveInPlace, DEFAULT_SINGULAR_TOLERANCE } from "../numeric/linear-solve";
+export type { LuWorkspace } from "../numeric/linear-solve";
 export { systemFromMassMatrixForm, systemFromDerivation, variableNames, layoutOf } from "./system";
 export type {
   MechanicalSystem,

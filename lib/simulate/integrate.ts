@@ -1,6 +1,6 @@
 import { Outcome, Solver, type OutputFunction } from "odex";
 import { SimulationSetupError, SingularMatrixError } from "./errors";
-import { createLuWorkspace, solveInPlace } from "./linear-solve";
+import { createLuWorkspace, solveInPlace } from "../numeric/linear-solve";
 import { compileLocated, layoutOf, type MechanicalSystem, type VariableLayout } from "./system";
 
 /** Values given per coordinate: an array in coordinate order, or a record by name (missing names are 0). */

@@ -3,9 +3,9 @@
 // bundle, rebuilt first, so the cache key's engine version is the server's.
 import { execFileSync } from "node:child_process";
 import { getDerivationsByTeamId, getDerivationById } from "@/db/queries/derivations";
-import { documentFromContent } from "@/lib/engine/document-content";
-import { evaluateDocumentCached } from "@/lib/engine/evaluation-service";
-import { closeEnginePool } from "@/lib/engine/pool";
+import { documentFromContent } from "@/lib/evaluation/document-content";
+import { evaluateDocumentCached } from "@/lib/evaluation/service";
+import { closeEnginePool } from "@/lib/workers/engine-pool";
 
 export async function seedDemoEvaluations({ teamId, titles }: { teamId: string; titles: string[] }): Promise<string[]> {
   execFileSync("npm", ["run", "--silent", "build:workers"], { stdio: "inherit" });

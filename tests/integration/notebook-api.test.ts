@@ -12,7 +12,7 @@ import * as derivationRoute from "@/app/api/derivations/[id]/route";
 import * as importRoute from "@/app/api/teams/[teamId]/derivations/import/route";
 import * as teamDerivationsRoute from "@/app/api/teams/[teamId]/derivations/route";
 import { closeDatabase } from "@/db/client";
-import { closeEnginePool } from "@/lib/engine/pool";
+import { closeEnginePool } from "@/lib/workers/engine-pool";
 import { modelToDocument, type DerivationDocument } from "@/lib/notebook/document";
 import type { Model } from "@/lib/mechanics/model";
 import { safetyNote } from "@/lib/domain";

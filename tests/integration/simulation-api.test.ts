@@ -16,7 +16,7 @@ import { createDerivation, getDerivationById } from "@/db/queries/derivations";
 import type { Model } from "@/lib/mechanics/model";
 import { documentToModel, modelToDocument, type DerivationDocument } from "@/lib/notebook/document";
 import { energyDrift, estimatePeriod } from "@/lib/simulate/checks";
-import { closeSimulationPool } from "@/lib/simulation/pool";
+import { closeSimulationPool } from "@/lib/workers/simulation-pool";
 import { listObjectKeys, objectExists } from "@/lib/storage";
 import { formRequest, jsonRequest, makeTeam, params, resetDatabase, type TeamFixture } from "./support/fixtures";
 import { signInAs, signOut } from "./support/session";

@@ -47,7 +47,7 @@ export function trajectoryCsv(run: RunDisplay): string {
   return `${lines.join("\n")}\n`;
 }
 
-/** A stored run as the runs API returns it (see lib/simulation/views.ts). */
+/** A stored run as the runs API returns it (see lib/runs/views.ts). */
 export interface StoredRunJson {
   id: string;
   status: "completed" | "failed";

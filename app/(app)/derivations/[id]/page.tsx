@@ -5,7 +5,7 @@ import { loadDerivationFor, orNotFound } from "@/lib/auth/access";
 import { can } from "@/lib/auth/permissions";
 import { requirePageUser } from "@/lib/auth/session";
 import { roleLabels } from "@/lib/domain";
-import { documentFromContent } from "@/lib/engine/document-content";
+import { documentFromContent } from "@/lib/evaluation/document-content";
 
 export const metadata: Metadata = { title: "Derivation" };
 

@@ -1,11 +1,11 @@
 import { apiRoute } from "@/lib/api/route";
 import { loadDerivationFor } from "@/lib/auth/access";
 import { requireUser } from "@/lib/auth/session";
-import { documentFromContent, modelFromDocument } from "@/lib/engine/document-content";
-import { downloadResponse } from "@/lib/engine/download";
-import { codeExportInput, codeFileName, engineCodeLanguage } from "@/lib/engine/evaluate";
-import { engineErrorToAppError, evaluateDocumentCached } from "@/lib/engine/evaluation-service";
-import { getEnginePool } from "@/lib/engine/pool";
+import { documentFromContent, modelFromDocument } from "@/lib/evaluation/document-content";
+import { downloadResponse } from "@/lib/api/download";
+import { codeExportInput, codeFileName, engineCodeLanguage } from "@/lib/evaluation/evaluate";
+import { engineErrorToAppError, evaluateDocumentCached } from "@/lib/evaluation/service";
+import { getEnginePool } from "@/lib/workers/engine-pool";
 import { parseOrThrow } from "@/lib/validation/parse";
 import { derivationIdOf } from "../derivation-id";
 import { codeQuerySchema } from "./schema";

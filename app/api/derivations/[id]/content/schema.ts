@@ -1,5 +1,5 @@
 import { z } from "zod";
-import { documentFromContent } from "@/lib/engine/document-content";
+import { documentFromContent } from "@/lib/evaluation/document-content";
 import { AppError } from "@/lib/errors";
 import { parseStoredDocument, type DerivationDocument } from "@/lib/notebook/document";
 

@@ -1,8 +1,8 @@
 import { apiRoute } from "@/lib/api/route";
 import { loadDerivationFor } from "@/lib/auth/access";
 import { requireUser } from "@/lib/auth/session";
-import { evaluateDocumentCached } from "@/lib/engine/evaluation-service";
-import { readOptionalJson } from "@/lib/engine/optional-json";
+import { evaluateDocumentCached } from "@/lib/evaluation/service";
+import { readOptionalJson } from "@/lib/api/optional-json";
 import { parseOrThrow } from "@/lib/validation/parse";
 import { documentForRequest } from "../content/schema";
 import { derivationIdOf } from "../derivation-id";

@@ -1,10 +1,10 @@
 import { apiRoute } from "@/lib/api/route";
 import { loadDerivationFor } from "@/lib/auth/access";
 import { requireUser } from "@/lib/auth/session";
-import { documentFromContent, modelFromDocument } from "@/lib/engine/document-content";
-import { downloadResponse, fileBaseName } from "@/lib/engine/download";
-import { evaluateDocumentCached } from "@/lib/engine/evaluation-service";
-import { latexDocument } from "@/lib/engine/latex-document";
+import { documentFromContent, modelFromDocument } from "@/lib/evaluation/document-content";
+import { downloadResponse, fileBaseName } from "@/lib/api/download";
+import { evaluateDocumentCached } from "@/lib/evaluation/service";
+import { latexDocument } from "@/lib/evaluation/latex-document";
 import { parseOrThrow } from "@/lib/validation/parse";
 import { derivationIdOf } from "../derivation-id";
 import { exportQuerySchema } from "./schema";

@@ -1,7 +1,7 @@
 import { apiRoute, readJson } from "@/lib/api/route";
 import { loadDerivationFor } from "@/lib/auth/access";
 import { requireUser } from "@/lib/auth/session";
-import { applyFittedValues } from "@/lib/simulation/apply-fit";
+import { applyFittedValues } from "@/lib/runs/apply-fit";
 import { parseOrThrow } from "@/lib/validation/parse";
 import { derivationIdOf } from "../../derivation-id";
 import { applyFitSchema } from "./schema";

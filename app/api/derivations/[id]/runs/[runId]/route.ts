@@ -1,8 +1,8 @@
 import { apiRoute } from "@/lib/api/route";
 import { loadDerivationFor } from "@/lib/auth/access";
 import { requireUser } from "@/lib/auth/session";
-import { trajectoryOfRun } from "@/lib/simulation/service";
-import { runView } from "@/lib/simulation/views";
+import { trajectoryOfRun } from "@/lib/runs/service";
+import { runView } from "@/lib/runs/views";
 import { derivationIdOf } from "../../derivation-id";
 import { runOf } from "./run-id";
 

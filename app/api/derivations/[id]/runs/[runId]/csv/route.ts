@@ -2,9 +2,9 @@ import { apiRoute } from "@/lib/api/route";
 import { loadDerivationFor } from "@/lib/auth/access";
 import { requireUser } from "@/lib/auth/session";
 import { AppError } from "@/lib/errors";
-import { trajectoryOfRun } from "@/lib/simulation/service";
-import { trajectoryCsv } from "@/lib/simulation/trajectory";
-import { safeFileName } from "@/lib/simulation/uploads";
+import { trajectoryOfRun } from "@/lib/runs/service";
+import { trajectoryCsv } from "@/lib/runs/trajectory";
+import { safeFileName } from "@/lib/runs/uploads";
 import { derivationIdOf } from "../../../derivation-id";
 import { runOf } from "../run-id";
 

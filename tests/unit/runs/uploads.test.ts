@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
 import { MeasuredDataError } from "@/lib/simulate/errors";
-import { decodeCsv, imageTypeOf, looksLikeMarkup, safeFileName, summariseMeasuredCsv, UploadError } from "@/lib/simulation/uploads";
+import { decodeCsv, imageTypeOf, looksLikeMarkup, safeFileName, summariseMeasuredCsv, UploadError } from "@/lib/runs/uploads";
 
 const bytes = (...values: number[]) => Uint8Array.from(values);
 const text = (value: string) => new TextEncoder().encode(value);

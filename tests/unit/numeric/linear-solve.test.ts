@@ -1,8 +1,8 @@
 import { describe, expect, it } from "vitest";
 import { Matrix, solve } from "ml-matrix";
 import { SingularMatrixError } from "@/lib/simulate/errors";
-import { createLuWorkspace, factorInPlace, solveInPlace, substituteInPlace } from "@/lib/simulate/linear-solve";
-import { seededRandom } from "./systems";
+import { createLuWorkspace, factorInPlace, solveInPlace, substituteInPlace } from "@/lib/numeric/linear-solve";
+import { seededRandom } from "../simulate/systems";
 
 describe("LU with partial pivoting", () => {
   it("agrees with ml-matrix on random well-conditioned systems (seeded)", () => {

@@ -1,7 +1,7 @@
 import "server-only";
 import path from "node:path";
 import { EnginePool } from "@/lib/mechanics/worker/pool";
-import { lazyPool } from "@/lib/engine/lazy-pool";
+import { lazyPool } from "@/lib/workers/lazy-pool";
 
 /** The bundled simulation worker (`npm run build:workers`), resolved from the project folder. */
 export function simulationWorkerFile(): string {
@@ -11,7 +11,7 @@ export function simulationWorkerFile(): string {
 /** Memory caps per simulation thread: a run keeps its whole trajectory, a fit one measured file. */
 const SIMULATION_RESOURCE_LIMITS = { maxOldGenerationSizeMb: 384, maxYoungGenerationSizeMb: 48, stackSizeMb: 4 };
 
-// One pool beside the engine's (lib/engine/pool.ts): a long simulation must not hold up derivations.
+// One pool beside the engine's (lib/workers/engine-pool.ts): a long simulation must not hold up derivations.
 const simulationPool = lazyPool({
   key: "holonomySimulationPool",
   name: "simulation",

@@ -6,8 +6,8 @@ import type { DerivationDocument } from "@/lib/notebook/document";
 import { AppError } from "@/lib/errors";
 import { modelErrorToAppError, modelFromDocument } from "./document-content";
 import { evaluateModel, evaluationHash, settingsOfDocument, type EngineRunner, type EvaluationResult, type LinearizationSettings } from "./evaluate";
-import { getEnginePool } from "./pool";
-import { engineVersion } from "./worker-file";
+import { getEnginePool } from "@/lib/workers/engine-pool";
+import { engineVersion } from "@/lib/workers/worker-file";
 
 export interface EvaluationResponse {
   cached: boolean;

@@ -1,5 +1,5 @@
 /**
- * Worker-thread entry of the server's simulation pool (lib/simulation/pool.ts),
+ * Worker-thread entry of the server's simulation pool (lib/workers/simulation-pool.ts),
  * served with the engine pool's protocol. `npm run build:workers` bundles it to
  * dist/workers/simulation-worker.mjs.
  */

@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { decimate, decimationStride, trajectoryCsv, valueCount } from "@/lib/simulation/trajectory";
+import { decimate, decimationStride, trajectoryCsv, valueCount } from "@/lib/runs/trajectory";
 import { parseMeasuredCsv } from "@/lib/simulate/measured";
 
 const trajectory = {

@@ -1,0 +1,13 @@
+#!/usr/bin/env bash
+# Bundles the worker-thread entries that the server loads by path at run time
+# (dist/workers/*.mjs): the engine worker and the simulation worker. They are
+# plain Node ESM bundles; the banner gives bundled CommonJS packages a `require`.
+set -euo pipefail
+cd "$(dirname "${BASH_SOURCE[0]}")/.."
+banner="import { createRequire as __createRequire } from 'node:module'; const require = __createRequire(import.meta.url);"
+bundle() {
+  npx esbuild "$1" --bundle --platform=node --format=esm --target=node20 \
+    --outfile="dist/workers/$2" --banner:js="$banner" --log-level=warning
+}
+bundle lib/mechanics/worker/engine-worker.ts engine-worker.mjs
+bundle lib/runs/simulation-worker.ts simulation-worker.mjs
