@@ -35,7 +35,8 @@ function forwardedFor(source: HeaderSource): string[] {
  */
 export function clientAddress(source: HeaderSource): string | null {
   const hops = forwardedFor(source);
-  if (hops.length > 0) return hops[hops.length - 1];
+  const nearest = hops.at(-1);
+  if (nearest !== undefined) return nearest;
   const real = header(source, "x-real-ip");
   return real ? normaliseAddress(real) : null;
 }
@@ -45,7 +46,7 @@ const loopbackHosts = new Set(["localhost", "127.0.0.1", "[::1]", "::1"]);
 function hostName(host: string): string {
   const trimmed = host.trim().toLowerCase();
   if (trimmed.startsWith("[")) return trimmed.slice(0, trimmed.indexOf("]") + 1);
-  return trimmed.split(":")[0];
+  return trimmed.split(":")[0] ?? trimmed;
 }
 
 function isLoopbackAddress(address: string): boolean {

@@ -131,7 +131,7 @@ const errorKinds = new Set(Object.keys(statusByKind));
 /** Rebuilds an AppError from a JSON error body (used by the client fetcher). */
 export function appErrorFromBody(body: unknown, fallbackStatus: number): AppError {
   const error = (body as Partial<ErrorBody> | null)?.error;
-  if (error && typeof error.code === "string" && errorKinds.has(error.code.split(":")[0])) {
+  if (error && typeof error.code === "string" && errorKinds.has(error.code.split(":")[0] ?? "")) {
     return new AppError(error.code, error.message, { fieldErrors: error.fieldErrors, details: error.details });
   }
   const kind = (Object.entries(statusByKind).find(([, status]) => status === fallbackStatus)?.[0] ??

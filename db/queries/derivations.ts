@@ -1,4 +1,5 @@
 import "server-only";
+import { returnedRow } from "./returned-row";
 import { and, asc, count, desc, eq, ilike, sql, type SQL } from "drizzle-orm";
 import { alias } from "drizzle-orm/pg-core";
 import { db, type Executor } from "../client";
@@ -124,10 +125,10 @@ export async function createDerivation({
   status?: DerivationStatus;
 }): Promise<Derivation> {
   return db.transaction(async (tx) => {
-    const [derivation] = await tx
-      .insert(derivations)
-      .values({ teamId, title: title.trim(), ownerId, updatedById: ownerId, content, status })
-      .returning();
+    const derivation = returnedRow(
+      await tx.insert(derivations).values({ teamId, title: title.trim(), ownerId, updatedById: ownerId, content, status }).returning(),
+      "derivation",
+    );
     await recordAuditEvent({ teamId, actorId: ownerId, action: "derivation.create", targetType: "derivation", targetId: derivation.id }, tx);
     return derivation;
   });
@@ -143,7 +144,8 @@ export async function updateDerivationById({
   changes: { title?: string; status?: DerivationStatus; content?: Record<string, unknown> };
 }): Promise<Derivation> {
   return db.transaction(async (tx) => {
-    const [derivation] = await tx
+    const derivation = returnedRow(
+      await tx
       .update(derivations)
       .set({
         ...(changes.title !== undefined ? { title: changes.title.trim() } : {}),
@@ -153,7 +155,9 @@ export async function updateDerivationById({
         updatedAt: new Date(),
       })
       .where(eq(derivations.id, id))
-      .returning();
+      .returning(),
+      "derivation",
+    );
     await recordAuditEvent(
       { teamId: derivation.teamId, actorId, action: "derivation.update", targetType: "derivation", targetId: id, details: { fields: Object.keys(changes) } },
       tx,

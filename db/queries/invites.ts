@@ -1,4 +1,5 @@
 import "server-only";
+import { returnedRow } from "./returned-row";
 import { and, desc, eq, gt, isNull } from "drizzle-orm";
 import { AppError } from "@/lib/errors";
 import { db, type Executor } from "../client";
@@ -52,10 +53,10 @@ async function insertInvite(
   executor: Executor,
   { teamId, email, role, tokenHash, invitedById, expiresAt }: { teamId: string; email: string; role: MemberRole; tokenHash: string; invitedById: string; expiresAt: Date },
 ): Promise<Invite> {
-  const [invite] = await executor
-    .insert(invites)
-    .values({ teamId, email: normaliseEmail(email), role, tokenHash, invitedById, expiresAt })
-    .returning();
+  const invite = returnedRow(
+    await executor.insert(invites).values({ teamId, email: normaliseEmail(email), role, tokenHash, invitedById, expiresAt }).returning(),
+    "invite",
+  );
   await recordAuditEvent(
     { teamId, actorId: invitedById, action: "invite.create", targetType: "invite", targetId: invite.id, details: { email: invite.email, role } },
     executor,

@@ -1,4 +1,5 @@
 import "server-only";
+import { returnedRow } from "./returned-row";
 import { and, asc, count, eq, sql } from "drizzle-orm";
 import { AppError } from "@/lib/errors";
 import { db, type Executor } from "../client";
@@ -32,12 +33,15 @@ function slugify(name: string): string {
 export async function createTeamWithLead({ name, leadUserId }: { name: string; leadUserId: string }): Promise<Team> {
   return db.transaction(async (tx) => {
     const base = slugify(name);
-    const [{ taken }] = await tx
-      .select({ taken: count() })
-      .from(teams)
-      .where(sql`${teams.slug} = ${base} or ${teams.slug} like ${base + "-%"}`);
+    const { taken } = returnedRow(
+      await tx
+        .select({ taken: count() })
+        .from(teams)
+        .where(sql`${teams.slug} = ${base} or ${teams.slug} like ${base + "-%"}`),
+      "team slug count",
+    );
     const slug = taken === 0 ? base : `${base}-${crypto.randomUUID().slice(0, 8)}`;
-    const [team] = await tx.insert(teams).values({ name: name.trim(), slug }).returning();
+    const team = returnedRow(await tx.insert(teams).values({ name: name.trim(), slug }).returning(), "team");
     await tx.insert(memberships).values({ teamId: team.id, userId: leadUserId, role: "lead" });
     await recordAuditEvent({ teamId: team.id, actorId: leadUserId, action: "team.create", targetType: "team", targetId: team.id }, tx);
     return team;
@@ -106,15 +110,17 @@ export async function upsertMembership(
   { teamId, userId, role }: { teamId: string; userId: string; role: MemberRole },
   executor: Executor = db,
 ): Promise<Membership> {
-  const [membership] = await executor
-    .insert(memberships)
-    .values({ teamId, userId, role })
-    .onConflictDoUpdate({
-      target: [memberships.teamId, memberships.userId],
-      set: { role, updatedAt: new Date() },
-    })
-    .returning();
-  return membership;
+  return returnedRow(
+    await executor
+      .insert(memberships)
+      .values({ teamId, userId, role })
+      .onConflictDoUpdate({
+        target: [memberships.teamId, memberships.userId],
+        set: { role, updatedAt: new Date() },
+      })
+      .returning(),
+    "membership",
+  );
 }
 
 // Locks the team's membership rows so two concurrent changes cannot both remove
@@ -147,11 +153,10 @@ export async function updateMemberRoleByTeamIdAndUserId({
     if (current.role === "lead" && role !== "lead" && leads <= 1) {
       throw new AppError("conflict:member", "A team needs at least one lead. Make someone else lead first.");
     }
-    const [updated] = await tx
-      .update(memberships)
-      .set({ role, updatedAt: new Date() })
-      .where(eq(memberships.id, current.id))
-      .returning();
+    const updated = returnedRow(
+      await tx.update(memberships).set({ role, updatedAt: new Date() }).where(eq(memberships.id, current.id)).returning(),
+      "membership",
+    );
     await recordAuditEvent(
       { teamId, actorId, action: "member.role_change", targetType: "user", targetId: userId, details: { from: current.role, to: role } },
       tx,

@@ -104,7 +104,7 @@ export function normalizeModel(model: Model): unknown {
     kinetic: model.kinetic.trim(),
     potential: model.potential.trim(),
     dissipation: (model.dissipation ?? "").trim(),
-    forces: Object.fromEntries(Object.entries(model.forces ?? {}).map(([k, v]) => [k.trim(), v.trim()]).sort(([a], [b]) => (a < b ? -1 : 1))),
+    forces: Object.fromEntries(Object.entries(model.forces ?? {}).map(([k, v]) => [k.trim(), v.trim()]).sort(([a], [b]) => ((a ?? "") < (b ?? "") ? -1 : 1))),
   };
 }
 

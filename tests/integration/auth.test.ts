@@ -31,7 +31,7 @@ async function resetTokenFor(email: string): Promise<string> {
   for (let attempt = 0; attempt < 20; attempt += 1) {
     const message = (await listCapturedMessages()).find((m) => m.to.some((to) => to.address === email));
     const link = message?.text.match(/\/reset-password\/(\S+)/);
-    if (link) return link[1];
+    if (link?.[1]) return link[1];
     await new Promise((resolve) => setTimeout(resolve, 100));
   }
   throw new Error(`no reset e-mail for ${email}`);

@@ -34,7 +34,7 @@ async function inviteLinkFor(email: string): Promise<string> {
   for (let attempt = 0; attempt < 20; attempt += 1) {
     const message = (await listCapturedMessages()).find((m) => m.to.some((to) => to.address === email));
     const link = message?.text.match(/https?:\/\/\S+\/invite\/(\S+)/);
-    if (link) return link[1];
+    if (link?.[1]) return link[1];
     await new Promise((resolve) => setTimeout(resolve, 100));
   }
   throw new Error(`no invitation e-mail for ${email}`);

@@ -30,7 +30,7 @@ export function SignInForm({ returnTo, passwordWasReset, initialEmail }: { retur
     setFormError(null);
     const result = await signIn("credentials", { ...values, redirect: false });
     if (!result || result.error) {
-      setFormError(messages[result?.error ?? ""] ?? messages.CredentialsSignin);
+      setFormError(messages[result?.error ?? ""] ?? messages.CredentialsSignin ?? null);
       return;
     }
     router.replace(returnTo);
