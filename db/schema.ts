@@ -147,16 +147,20 @@ export const auditLog = pgTable(
   "audit_log",
   {
     id: uuid("id").primaryKey().defaultRandom(),
-    teamId: uuid("team_id").references(() => teams.id, { onDelete: "cascade" }),
-    actorId: uuid("actor_id").references(() => users.id, { onDelete: "set null" }),
-    // e.g. "derivation.create", "member.role_change"
+    // No foreign keys: the log is append-only (a trigger refuses UPDATE, DELETE and TRUNCATE),
+    // so a row must outlive the team or user it names instead of cascading with them.
+    teamId: uuid("team_id"),
+    actorId: uuid("actor_id"),
+    // e.g. "derivation.create", "member.role_change", "auth.sign_in_failed"
     action: text("action").notNull(),
     targetType: text("target_type").notNull(),
     targetId: text("target_id"),
     details: jsonb("details").$type<Record<string, unknown>>().notNull().default({}),
+    /** The client address the request came from; null for scripts and the seed. */
+    address: text("address"),
     ...timestamps,
   },
-  (table) => [index("audit_log_team_time_idx").on(table.teamId, table.createdAt)],
+  (table) => [index("audit_log_team_time_idx").on(table.teamId, table.createdAt), index("audit_log_actor_time_idx").on(table.actorId, table.createdAt)],
 );
 export type AuditLogEntry = typeof auditLog.$inferSelect;
 

@@ -8,6 +8,7 @@ export const actions = [
   "team:read",
   "team:manage-members",
   "team:invite",
+  "team:audit",
   "derivation:read",
   "derivation:create",
   "derivation:edit",
@@ -37,6 +38,8 @@ const rules: Record<Action, Record<MemberRole, Rule>> = {
   "team:read": { lead: true, analyst: true, reviewer: true, viewer: true },
   "team:manage-members": { lead: true, analyst: false, reviewer: false, viewer: false },
   "team:invite": { lead: true, analyst: false, reviewer: false, viewer: false },
+  // The audit log names people, addresses and times: leads only.
+  "team:audit": { lead: true, analyst: false, reviewer: false, viewer: false },
   "derivation:read": { lead: true, analyst: true, reviewer: true, viewer: true },
   "derivation:create": { lead: true, analyst: true, reviewer: false, viewer: false },
   "derivation:edit": { lead: true, analyst: notApproved, reviewer: false, viewer: false },

@@ -43,10 +43,14 @@ export async function makeTeam(name = "Hoist test bench"): Promise<TeamFixture> 
   return { team, members };
 }
 
-/** Empties every table; the schema itself was migrated fresh by the test runner. */
+/**
+ * Empties every table but the audit log, which refuses deletion (it is append-only); tests
+ * read it per team, and every test makes its teams afresh. The schema itself was migrated
+ * fresh by the test runner.
+ */
 export async function resetDatabase(): Promise<void> {
   await db.execute(sql`
-    truncate table audit_log, sign_in_attempts, rate_limit_events, password_reset_tokens, invites, derivations, memberships, teams, users
+    truncate table sign_in_attempts, rate_limit_events, password_reset_tokens, invites, derivations, memberships, teams, users
     restart identity cascade
   `);
 }
