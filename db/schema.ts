@@ -131,6 +131,31 @@ export type SignInAttempt = typeof signInAttempts.$inferSelect;
 // Requests counted against a rate limit other than the per-e-mail sign-in one
 // (failed sign-ins per client address, password-reset and sign-up requests).
 // `action` names the limit, `key` is what it is counted by (an address or an e-mail).
+/**
+ * Team API tokens for downstream builds: read-only, shown once, stored as a
+ * SHA-256 hash; `prefix` (the first characters) lets people tell them apart.
+ */
+export const apiTokens = pgTable(
+  "api_tokens",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    teamId: uuid("team_id").notNull().references(() => teams.id, { onDelete: "cascade" }),
+    name: text("name").notNull(),
+    tokenHash: text("token_hash").notNull().unique(),
+    prefix: text("prefix").notNull(),
+    scope: text("scope").notNull().default("read"),
+    createdById: uuid("created_by_id").references(() => users.id, { onDelete: "set null" }),
+    expiresAt: timestamp("expires_at", { withTimezone: true }),
+    revokedAt: timestamp("revoked_at", { withTimezone: true }),
+    revokedById: uuid("revoked_by_id").references(() => users.id, { onDelete: "set null" }),
+    lastUsedAt: timestamp("last_used_at", { withTimezone: true }),
+    lastUsedAddress: text("last_used_address"),
+    ...timestamps,
+  },
+  (table) => [index("api_tokens_team_idx").on(table.teamId, table.createdAt)],
+);
+export type ApiToken = typeof apiTokens.$inferSelect;
+
 export const rateLimitEvents = pgTable(
   "rate_limit_events",
   {

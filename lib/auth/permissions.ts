@@ -9,6 +9,7 @@ export const actions = [
   "team:manage-members",
   "team:invite",
   "team:audit",
+  "team:manage-tokens",
   "derivation:read",
   "derivation:create",
   "derivation:edit",
@@ -40,6 +41,8 @@ const rules: Record<Action, Record<MemberRole, Rule>> = {
   "team:invite": { lead: true, analyst: false, reviewer: false, viewer: false },
   // The audit log names people, addresses and times: leads only.
   "team:audit": { lead: true, analyst: false, reviewer: false, viewer: false },
+  // API tokens read the team's approved equations from outside: leads issue and revoke them.
+  "team:manage-tokens": { lead: true, analyst: false, reviewer: false, viewer: false },
   "derivation:read": { lead: true, analyst: true, reviewer: true, viewer: true },
   "derivation:create": { lead: true, analyst: true, reviewer: false, viewer: false },
   "derivation:edit": { lead: true, analyst: notApproved, reviewer: false, viewer: false },

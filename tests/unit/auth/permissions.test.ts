@@ -12,6 +12,7 @@ const expected: Record<Action, { draft: MemberRole[]; approved: MemberRole[] }> 
   "team:manage-members": { draft: ["lead"], approved: ["lead"] },
   "team:invite": { draft: ["lead"], approved: ["lead"] },
   "team:audit": { draft: ["lead"], approved: ["lead"] },
+  "team:manage-tokens": { draft: ["lead"], approved: ["lead"] },
   "derivation:read": { draft: ["lead", "analyst", "reviewer", "viewer"], approved: ["lead", "analyst", "reviewer", "viewer"] },
   "derivation:create": { draft: ["lead", "analyst"], approved: ["lead", "analyst"] },
   "derivation:edit": { draft: ["lead", "analyst"], approved: ["lead"] },
