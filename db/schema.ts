@@ -108,6 +108,12 @@ export const derivations = pgTable(
     // The model file (see DESIGN.md) until the notebook issue gives it structure.
     content: jsonb("content").$type<Record<string, unknown>>().notNull().default({}),
     updatedById: uuid("updated_by_id").references(() => users.id, { onDelete: "set null" }),
+    /** People who changed the content since the latest revision; the next revision names them as its authors. */
+    pendingAuthorIds: uuid("pending_author_ids").array().notNull().default([]),
+    /** Set while the derivation is approved and locked: the exact revision that was approved. */
+    lockedRevisionId: uuid("locked_revision_id"),
+    lockedAt: timestamp("locked_at", { withTimezone: true }),
+    lockedById: uuid("locked_by_id").references(() => users.id, { onDelete: "set null" }),
     ...timestamps,
   },
   (table) => [index("derivations_team_idx").on(table.teamId, table.updatedAt)],
@@ -131,6 +137,110 @@ export type SignInAttempt = typeof signInAttempts.$inferSelect;
 // Requests counted against a rate limit other than the per-e-mail sign-in one
 // (failed sign-ins per client address, password-reset and sign-up requests).
 // `action` names the limit, `key` is what it is counted by (an address or an e-mail).
+export const revisionKinds = ["auto", "checkpoint", "restore", "review", "import"] as const;
+export type RevisionKind = (typeof revisionKinds)[number];
+export const revisionKind = pgEnum("revision_kind", revisionKinds);
+
+/**
+ * A derivation's history: each revision is a full copy of the document with the
+ * SHA-256 of its RFC 8785 canonical JSON, numbered from 1 per derivation. Rows
+ * are never rewritten; a restore adds a revision.
+ */
+export const revisions = pgTable(
+  "revisions",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    derivationId: uuid("derivation_id").notNull().references(() => derivations.id, { onDelete: "cascade" }),
+    number: integer("number").notNull(),
+    kind: revisionKind("kind").notNull(),
+    /** A checkpoint's name, or what a restore restored. */
+    name: text("name"),
+    contentHash: text("content_hash").notNull(),
+    title: text("title").notNull(),
+    content: jsonb("content").$type<Record<string, unknown>>().notNull(),
+    /** Derived results at this revision (equations, mass matrix…), filled when they are known. */
+    results: jsonb("results").$type<Record<string, unknown>>(),
+    authorIds: uuid("author_ids").array().notNull().default([]),
+    createdById: uuid("created_by_id").references(() => users.id, { onDelete: "set null" }),
+    ...timestamps,
+  },
+  (table) => [uniqueIndex("revisions_derivation_number_idx").on(table.derivationId, table.number)],
+);
+export type Revision = typeof revisions.$inferSelect;
+
+export const reviewDecisions = ["pending", "signed_off", "changes_requested"] as const;
+export type ReviewDecision = (typeof reviewDecisions)[number];
+export const reviewDecision = pgEnum("review_decision", reviewDecisions);
+
+/** One request for review of one revision; closed when changes are requested, a new request is made, or it is approved. */
+export const reviewRequests = pgTable(
+  "review_requests",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    derivationId: uuid("derivation_id").notNull().references(() => derivations.id, { onDelete: "cascade" }),
+    revisionId: uuid("revision_id").notNull().references(() => revisions.id, { onDelete: "cascade" }),
+    requestedById: uuid("requested_by_id").references(() => users.id, { onDelete: "set null" }),
+    message: text("message").notNull().default(""),
+    closedAt: timestamp("closed_at", { withTimezone: true }),
+    ...timestamps,
+  },
+  (table) => [index("review_requests_derivation_idx").on(table.derivationId, table.createdAt)],
+);
+export type ReviewRequest = typeof reviewRequests.$inferSelect;
+
+/** A reviewer (or lead) asked to review, and what they decided. */
+export const reviewAssignments = pgTable(
+  "review_assignments",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    requestId: uuid("request_id").notNull().references(() => reviewRequests.id, { onDelete: "cascade" }),
+    reviewerId: uuid("reviewer_id").notNull().references(() => users.id, { onDelete: "cascade" }),
+    decision: reviewDecision("decision").notNull().default("pending"),
+    comment: text("comment").notNull().default(""),
+    decidedAt: timestamp("decided_at", { withTimezone: true }),
+    ...timestamps,
+  },
+  (table) => [uniqueIndex("review_assignments_request_reviewer_idx").on(table.requestId, table.reviewerId)],
+);
+export type ReviewAssignment = typeof reviewAssignments.$inferSelect;
+
+/** Every approval of a derivation, kept after an unlock (with who unlocked it, when and why). */
+export const approvals = pgTable(
+  "approvals",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    derivationId: uuid("derivation_id").notNull().references(() => derivations.id, { onDelete: "cascade" }),
+    revisionId: uuid("revision_id").notNull().references(() => revisions.id, { onDelete: "cascade" }),
+    contentHash: text("content_hash").notNull(),
+    approvedById: uuid("approved_by_id").references(() => users.id, { onDelete: "set null" }),
+    approvedAt: timestamp("approved_at", { withTimezone: true }).notNull().defaultNow(),
+    unlockedAt: timestamp("unlocked_at", { withTimezone: true }),
+    unlockedById: uuid("unlocked_by_id").references(() => users.id, { onDelete: "set null" }),
+    unlockReason: text("unlock_reason"),
+    ...timestamps,
+  },
+  (table) => [index("approvals_derivation_idx").on(table.derivationId, table.approvedAt)],
+);
+export type Approval = typeof approvals.$inferSelect;
+
+/** In-app notifications (review requests, decisions, approvals); read when `readAt` is set. */
+export const notifications = pgTable(
+  "notifications",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    userId: uuid("user_id").notNull().references(() => users.id, { onDelete: "cascade" }),
+    teamId: uuid("team_id").references(() => teams.id, { onDelete: "cascade" }),
+    derivationId: uuid("derivation_id").references(() => derivations.id, { onDelete: "cascade" }),
+    actorId: uuid("actor_id").references(() => users.id, { onDelete: "set null" }),
+    kind: text("kind").notNull(),
+    text: text("text").notNull(),
+    readAt: timestamp("read_at", { withTimezone: true }),
+    ...timestamps,
+  },
+  (table) => [index("notifications_user_idx").on(table.userId, table.createdAt)],
+);
+export type Notification = typeof notifications.$inferSelect;
+
 /**
  * Team API tokens for downstream builds: read-only, shown once, stored as a
  * SHA-256 hash; `prefix` (the first characters) lets people tell them apart.

@@ -48,7 +48,7 @@ export async function loadDerivationFor(user: SessionUser, derivationId: string,
     ? await getMembershipByTeamIdAndUserId({ teamId: derivation.teamId, userId: user.id })
     : null;
   if (!derivation || !membership) throw new AppError("not_found:derivation", "Derivation not found.");
-  assertCan(membership.role, action, { status: derivation.status });
+  assertCan(membership.role, action, { status: derivation.status, locked: derivation.lockedAt !== null });
   return { derivation, membership };
 }
 

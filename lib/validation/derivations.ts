@@ -29,11 +29,12 @@ export type CreateDerivationInput = z.infer<typeof createDerivationSchema>;
 export const updateDerivationSchema = z
   .object({
     title: derivationTitleField.optional(),
-    status: statusField.optional(),
     content: contentField.optional(),
+    // The status moves only through review: request review, sign off or request changes, approve, unlock.
+    status: z.never({ error: "The status changes through review: request review, then a lead approves (or unlocks)." }).optional(),
   })
-  .refine((value) => Object.values(value).some((field) => field !== undefined), {
-    message: "Change at least one of title, status or content.",
+  .refine((value) => value.title !== undefined || value.content !== undefined, {
+    message: "Change at least one of title or content.",
   });
 export type UpdateDerivationInput = z.infer<typeof updateDerivationSchema>;
 

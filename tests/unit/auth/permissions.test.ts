@@ -23,6 +23,8 @@ const expected: Record<Action, { draft: MemberRole[]; approved: MemberRole[] }> 
   "derivation:lock": { draft: ["lead"], approved: ["lead"] },
   "derivation:attach": { draft: ["lead", "analyst"], approved: ["lead"] },
   "derivation:simulate": { draft: ["lead", "analyst", "reviewer"], approved: ["lead", "analyst", "reviewer"] },
+  "derivation:request-review": { draft: ["lead", "analyst"], approved: ["lead", "analyst"] },
+  "derivation:review": { draft: ["lead", "reviewer"], approved: ["lead", "reviewer"] },
 };
 
 describe("permission table", () => {

@@ -22,11 +22,13 @@ export const PUT = apiRoute<Params>(async (request, { params }) => {
     content: document as unknown as Record<string, unknown>,
     baseUpdatedAt: input.baseUpdatedAt ? new Date(input.baseUpdatedAt) : undefined,
   });
-  if (!saved) {
-    const { derivation } = await loadDerivationFor(user, id, "derivation:read");
+  if (saved.status === "missing") throw new AppError("not_found:derivation", "Derivation not found.");
+  // Approved between the page's load and this save: the approval won the race.
+  if (saved.status === "locked") throw new AppError("locked:derivation", "This derivation was approved and locked while you were editing. Your last change was not saved.");
+  if (saved.status === "conflict") {
     throw new AppError("conflict:derivation", "Someone else saved this derivation since your copy was loaded.", {
-      details: { updatedAt: derivation.updatedAt.toISOString(), updatedById: derivation.updatedById },
+      details: { updatedAt: saved.derivation.updatedAt.toISOString(), updatedById: saved.derivation.updatedById },
     });
   }
-  return Response.json({ updatedAt: saved.updatedAt.toISOString(), updatedById: saved.updatedById });
+  return Response.json({ updatedAt: saved.derivation.updatedAt.toISOString(), updatedById: saved.derivation.updatedById });
 });
