@@ -125,7 +125,10 @@ export function NotebookPage(props: NotebookPageProps) {
     const aside = storage.getItem(recoveryKey(derivationId));
     if (aside) {
       try {
-        setRecovery(JSON.parse(aside) as { document: DerivationDocument; reason: string });
+        const entry = JSON.parse(aside) as { document: unknown; reason: string };
+        // Set aside by an earlier version of the page, perhaps: migrated like stored content.
+        const parsed = parseStoredDocument(entry.document);
+        if (parsed.ok) setRecovery({ document: parsed.document, reason: String(entry.reason) });
       } catch {
         storage.removeItem(recoveryKey(derivationId));
       }
