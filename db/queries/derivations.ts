@@ -3,6 +3,7 @@ import { returnedRow } from "./returned-row";
 import { and, asc, count, desc, eq, ilike, sql, type SQL } from "drizzle-orm";
 import { alias } from "drizzle-orm/pg-core";
 import { db, type Executor } from "../client";
+import type { DerivationDocument } from "@/lib/notebook/document";
 import { derivations, users, type Derivation, type DerivationStatus } from "../schema";
 import { recordAuditEvent } from "./audit";
 
@@ -115,13 +116,14 @@ export async function createDerivation({
   teamId,
   title,
   ownerId,
-  content = {},
+  content,
   status = "draft",
 }: {
   teamId: string;
   title: string;
   ownerId: string;
-  content?: Record<string, unknown>;
+  /** Validated on its way in (`validDocumentOrThrow`). */
+  content: DerivationDocument;
   status?: DerivationStatus;
 }): Promise<Derivation> {
   return db.transaction(async (tx) => {
@@ -141,7 +143,7 @@ export async function updateDerivationById({
 }: {
   id: string;
   actorId: string;
-  changes: { title?: string; status?: DerivationStatus; content?: Record<string, unknown> };
+  changes: { title?: string; status?: DerivationStatus; content?: DerivationDocument };
 }): Promise<Derivation> {
   return db.transaction(async (tx) => {
     const derivation = returnedRow(
@@ -193,7 +195,7 @@ export async function updateDerivationContentById({
 }: {
   id: string;
   actorId: string;
-  content: Record<string, unknown>;
+  content: DerivationDocument;
   baseUpdatedAt?: Date;
 }): Promise<Derivation | null> {
   const conditions: SQL[] = [eq(derivations.id, id)];

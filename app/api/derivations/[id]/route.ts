@@ -4,6 +4,7 @@ import { loadDerivationFor } from "@/lib/auth/access";
 import { assertCan, type Action } from "@/lib/auth/permissions";
 import { requireUser } from "@/lib/auth/session";
 import { AppError } from "@/lib/errors";
+import { validDocumentOrThrow } from "@/lib/evaluation/document-content";
 import { updateDerivationSchema } from "@/lib/validation/derivations";
 import { uuidField } from "@/lib/validation/fields";
 import { parseOrThrow } from "@/lib/validation/parse";
@@ -37,7 +38,9 @@ export const PATCH = apiRoute<Params>(async (request, { params }) => {
     needed.add(changes.status === "approved" || derivation.status === "approved" ? "derivation:approve" : "derivation:edit");
   }
   for (const action of needed) assertCan(membership.role, action, { status: derivation.status });
-  const updated = await updateDerivationById({ id, actorId: user.id, changes });
+  const { content, ...rest } = changes;
+  const document = content === undefined ? undefined : validDocumentOrThrow(content, { field: "content", title: derivation.title });
+  const updated = await updateDerivationById({ id, actorId: user.id, changes: document ? { ...rest, content: document } : rest });
   return Response.json({ derivation: updated });
 });
 
