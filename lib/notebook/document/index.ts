@@ -7,6 +7,7 @@
  * - `symbols.ts`: the names a document defines; where a model field sits in it
  * - `model-file.ts`: conversion to and from the model file
  * - `migrations.ts` + `stored.ts`: reading a stored document of any version
+ * - `recover.ts`: the model file recoverable from content that does not read
  *
  * No React, no engine internals beyond the model types: this folder runs in the
  * browser, on the server and in tests alike.
@@ -99,3 +100,4 @@ export {
   type StoredDocumentVersion1,
 } from "./migrations";
 export { parseStoredDocument, type ParseStoredOptions, type StoredDocumentResult } from "./stored";
+export { recoverModel, type RecoveredModel } from "./recover";
