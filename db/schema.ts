@@ -12,6 +12,7 @@ import {
   uniqueIndex,
   uuid,
 } from "drizzle-orm/pg-core";
+import type { StoredDocument } from "@/lib/notebook/document";
 import { derivationStatuses, memberRoles, type DerivationStatus, type MemberRole } from "@/lib/domain";
 
 // Every table carries created_at / updated_at. updated_at is set by the query
@@ -105,8 +106,9 @@ export const derivations = pgTable(
     title: text("title").notNull(),
     status: derivationStatus("status").notNull().default("draft"),
     ownerId: uuid("owner_id").references(() => users.id, { onDelete: "set null" }),
-    // The model file (see DESIGN.md) until the notebook issue gives it structure.
-    content: jsonb("content").$type<Record<string, unknown>>().notNull().default({}),
+    // The notebook document. Rows keep the version they were written at; read
+    // them through parseStoredDocument, which migrates older ones.
+    content: jsonb("content").$type<StoredDocument>().notNull().default({}),
     updatedById: uuid("updated_by_id").references(() => users.id, { onDelete: "set null" }),
     /** People who changed the content since the latest revision; the next revision names them as its authors. */
     pendingAuthorIds: uuid("pending_author_ids").array().notNull().default([]),

@@ -125,7 +125,10 @@ export function NotebookPage(props: NotebookPageProps) {
     const aside = storage.getItem(recoveryKey(derivationId));
     if (aside) {
       try {
-        setRecovery(JSON.parse(aside) as { document: DerivationDocument; reason: string });
+        const entry = JSON.parse(aside) as { document: unknown; reason: string };
+        // Set aside by an earlier version of the page, perhaps: migrated like stored content.
+        const parsed = parseStoredDocument(entry.document);
+        if (parsed.ok) setRecovery({ document: parsed.document, reason: String(entry.reason) });
       } catch {
         storage.removeItem(recoveryKey(derivationId));
       }
@@ -160,7 +163,7 @@ export function NotebookPage(props: NotebookPageProps) {
   async function loadServerVersion() {
     const { data, error } = await record.refetch();
     if (error || !data) return setNotice(`Could not load the saved version: ${error?.message ?? "no answer"}. Your copy is unchanged.`);
-    const parsed = parseStoredDocument(data.derivation.content);
+    const parsed = parseStoredDocument(data.derivation.content, { title: data.derivation.title });
     if (!parsed.ok) return setNotice("The saved version could not be read as a notebook. Your copy is unchanged.");
     keepAside(docRef.current, "Your copy, set aside when you loaded the version someone else saved.");
     autosave.reset(parsed.document, data.derivation.updatedAt);

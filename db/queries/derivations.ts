@@ -15,6 +15,7 @@ export type SaveContentResult =
 import { and, asc, count, desc, eq, ilike, sql, type SQL } from "drizzle-orm";
 import { alias } from "drizzle-orm/pg-core";
 import { db, type Executor } from "../client";
+import type { DerivationDocument } from "@/lib/notebook/document";
 import { derivations, users, type Derivation, type DerivationStatus } from "../schema";
 import { recordAuditEvent } from "./audit";
 
@@ -127,13 +128,14 @@ export async function createDerivation({
   teamId,
   title,
   ownerId,
-  content = {},
+  content,
   status = "draft",
 }: {
   teamId: string;
   title: string;
   ownerId: string;
-  content?: Record<string, unknown>;
+  /** Validated on its way in (`validDocumentOrThrow`). */
+  content: DerivationDocument;
   status?: DerivationStatus;
 }): Promise<Derivation> {
   return db.transaction(async (tx) => {
@@ -154,7 +156,7 @@ export async function updateDerivationById({
 }: {
   id: string;
   actorId: string;
-  changes: { title?: string; content?: Record<string, unknown> };
+  changes: { title?: string; content?: DerivationDocument };
 }): Promise<Derivation | null> {
   return db.transaction(async (tx) => {
     const current = await lockDerivationRow(tx, id);
@@ -206,7 +208,7 @@ export async function updateDerivationContentById({
 }: {
   id: string;
   actorId: string;
-  content: Record<string, unknown>;
+  content: DerivationDocument;
   baseUpdatedAt?: Date;
 }): Promise<SaveContentResult> {
   return db.transaction(async (tx) => {

@@ -3,7 +3,8 @@ import { statusField, uuidField } from "./fields";
 
 export const derivationTitleField = z.string().trim().min(1, "Give the derivation a title.").max(160, "Use at most 160 characters.");
 
-// Content is the model file (DESIGN.md) for now; the notebook issue narrows it.
+// A notebook document of any schema version; the handler migrates and validates it in full
+// (validDocumentOrThrow in lib/evaluation/document-content.ts), so field errors carry its paths.
 const contentField = z.record(z.string(), z.unknown());
 
 // Template ids are the notebook's (lib/notebook/templates.ts); the short

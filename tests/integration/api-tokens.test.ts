@@ -9,6 +9,7 @@ import * as v1DerivationsRoute from "@/app/api/v1/derivations/route";
 import { closeDatabase, db } from "@/db/client";
 import { getAuditRowsByTeamId } from "@/db/queries/audit";
 import { createDerivation } from "@/db/queries/derivations";
+import { blankDocument } from "@/lib/notebook/document";
 import { jsonRequest, makeTeam, params, resetDatabase, type TeamFixture } from "./support/fixtures";
 import { signInAs, signOut } from "./support/session";
 
@@ -32,9 +33,9 @@ beforeAll(async () => {
   await resetDatabase();
   kestrel = await makeTeam("Kestrel token bay");
   otherTeam = await makeTeam("Another firm");
-  await createDerivation({ teamId: kestrel.team.id, title: "Approved gimbal pitch axis", ownerId: kestrel.members.analyst.id, status: "approved" });
-  await createDerivation({ teamId: kestrel.team.id, title: "Draft trolley", ownerId: kestrel.members.analyst.id });
-  await createDerivation({ teamId: otherTeam.team.id, title: "Other firm's approved rig", ownerId: otherTeam.members.analyst.id, status: "approved" });
+  await createDerivation({ teamId: kestrel.team.id, title: "Approved gimbal pitch axis", content: blankDocument("Approved gimbal pitch axis"), ownerId: kestrel.members.analyst.id, status: "approved" });
+  await createDerivation({ teamId: kestrel.team.id, title: "Draft trolley", content: blankDocument("Draft trolley"), ownerId: kestrel.members.analyst.id });
+  await createDerivation({ teamId: otherTeam.team.id, title: "Other firm's approved rig", content: blankDocument("Other firm's approved rig"), ownerId: otherTeam.members.analyst.id, status: "approved" });
 });
 
 beforeEach(() => signOut());

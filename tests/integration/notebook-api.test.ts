@@ -13,7 +13,7 @@ import * as importRoute from "@/app/api/teams/[teamId]/derivations/import/route"
 import * as teamDerivationsRoute from "@/app/api/teams/[teamId]/derivations/route";
 import { closeDatabase } from "@/db/client";
 import { closeEnginePool } from "@/lib/workers/engine-pool";
-import { modelToDocument, type DerivationDocument } from "@/lib/notebook/document";
+import { DOCUMENT_SCHEMA_VERSION, modelToDocument, type DerivationDocument } from "@/lib/notebook/document";
 import type { Model } from "@/lib/mechanics/model";
 import { safetyNote } from "@/lib/domain";
 import { formRequest, jsonRequest, makeTeam, params, resetDatabase, type TeamFixture } from "./support/fixtures";
@@ -358,7 +358,7 @@ describe("creation from templates and the dashboard list", () => {
   it("creates blank and template notebooks, checks the chain size, and lists with counts, sorting and pages", async () => {
     const team = await makeTeam("Template bay");
     const blank = await create(team, { title: "Blank one" });
-    expect(blank.content.schemaVersion).toBe(1);
+    expect(blank.content.schemaVersion).toBe(DOCUMENT_SCHEMA_VERSION);
     expect(blank.content.cells.map((cell) => cell.kind)).toContain("kinetic");
     const chain = await create(team, { title: "Five-link chain", template: "n-link-chain", links: 5 });
     expect(chain.content.title).toBe("Five-link chain");

@@ -54,7 +54,7 @@ async function revisionsOf(user: SessionUser, id: string) {
 }
 
 async function newDerivation(title = "Hoist rope tension") {
-  return createDerivation({ teamId: kestrel.team.id, title, ownerId: kestrel.members.analyst.id, content: blankDocument(title) as unknown as Record<string, unknown> });
+  return createDerivation({ teamId: kestrel.team.id, title, ownerId: kestrel.members.analyst.id, content: blankDocument(title) });
 }
 
 beforeAll(async () => {

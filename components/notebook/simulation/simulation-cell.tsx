@@ -10,12 +10,12 @@ import clsx from "clsx";
 import { lazy, Suspense, useCallback, useEffect, useMemo, useState, type ReactNode } from "react";
 import { apiFetch } from "@/lib/api/fetcher";
 import { AppError } from "@/lib/errors";
-import { DocumentError, documentSymbols, documentToModel, type DerivationDocument, type DocumentOperation, type SimulationCell } from "@/lib/notebook/document";
+import { DocumentError, documentSymbols, documentToModel, type DerivationDocument, type DocumentOperation, type SimulationCell, type SimulationSettings } from "@/lib/notebook/document";
 import type { NotebookResults } from "@/lib/notebook/results";
 import { ExpressionEditor } from "../editor/expression-editor";
 import { MeasuredPanel } from "./measured-panel";
 import { displayOfStoredRun, type RunDisplay, type StoredRunJson } from "./run-view";
-import { readSettings, validateSettings, type SimulationCellSettings } from "./settings";
+import { validateSettings } from "./settings";
 import type { MeasuredOverlay } from "./results-view";
 import { useSimulationWorker } from "./use-simulation-worker";
 
@@ -97,14 +97,14 @@ export function SimulationSettingsForm({
   errors: Record<string, string>;
   onOperation: (op: DocumentOperation) => void;
 }) {
-  const settings = readSettings(cell.settings);
+  const settings = cell.settings;
   const symbols = useMemo(() => documentSymbols(doc), [doc]);
   const parameterValues = useMemo(() => {
     const values = new Map<string, string>();
     for (const c of doc.cells) if (c.kind === "parameters") for (const row of c.rows) values.set(row.name.trim(), row.value);
     return values;
   }, [doc]);
-  const update = (patch: Partial<SimulationCellSettings>) => onOperation({ type: "updateSettings", cellId: cell.id, patch });
+  const update = (patch: Partial<SimulationSettings>) => onOperation({ type: "updateSettings", cellId: cell.id, patch });
   const common = { readOnly, cellId: cell.id };
 
   return (
@@ -268,7 +268,7 @@ export function SimulationCellView({ cell, results, readOnly, onOperation, docum
   const { state, start, cancel } = useSimulationWorker(setRun);
 
   const symbols = useMemo(() => (doc ? documentSymbols(doc) : null), [doc]);
-  const settings = readSettings(cell.settings);
+  const settings = cell.settings;
   const validation = symbols ? validateSettings(settings, symbols) : null;
   const errors = attempted && validation && !validation.ok ? validation.errors : {};
 

@@ -1,11 +1,12 @@
 import type { Metadata } from "next";
 import { NotebookPage } from "@/components/notebook/notebook-page";
+import { UnreadableContent } from "@/components/notebook/unreadable-content";
 import { getTeamById } from "@/db/queries/teams";
 import { loadDerivationFor, orNotFound } from "@/lib/auth/access";
 import { can } from "@/lib/auth/permissions";
 import { requirePageUser } from "@/lib/auth/session";
 import { roleLabels } from "@/lib/domain";
-import { documentFromContent } from "@/lib/evaluation/document-content";
+import { parseStoredDocument, recoverModel } from "@/lib/notebook/document";
 
 export const metadata: Metadata = { title: "Derivation" };
 
@@ -15,7 +16,21 @@ export default async function DerivationPage({ params }: { params: Promise<{ id:
   const user = await requirePageUser(`/derivations/${id}`);
   const { derivation, membership } = await orNotFound(() => loadDerivationFor(user, id, "derivation:read"));
   const team = await getTeamById({ id: derivation.teamId });
-  const document = documentFromContent(derivation.content, derivation.title);
+  const stored = parseStoredDocument(derivation.content, { title: derivation.title });
+  if (!stored.ok) {
+    // Content this version cannot read: say what is wrong and offer what can be saved, never a 500.
+    return (
+      <UnreadableContent
+        derivationId={derivation.id}
+        teamId={derivation.teamId}
+        teamName={team?.name ?? "Team"}
+        title={derivation.title}
+        issues={stored.issues}
+        newerVersion={stored.newerVersion}
+        omitted={recoverModel(derivation.content, derivation.title).omitted}
+      />
+    );
+  }
   const canEdit = can(membership.role, "derivation:edit", { status: derivation.status });
   return (
     <NotebookPage
@@ -28,7 +43,7 @@ export default async function DerivationPage({ params }: { params: Promise<{ id:
       roleLabel={roleLabels[membership.role]}
       canEdit={canEdit}
       canRename={canEdit && can(membership.role, "derivation:rename", { status: derivation.status })}
-      initialDocument={document}
+      initialDocument={stored.document}
       initialUpdatedAt={derivation.updatedAt.toISOString()}
       rowTitle={derivation.title}
     />

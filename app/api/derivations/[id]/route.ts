@@ -4,6 +4,7 @@ import { loadDerivationFor } from "@/lib/auth/access";
 import { assertCan, type Action } from "@/lib/auth/permissions";
 import { requireUser } from "@/lib/auth/session";
 import { AppError } from "@/lib/errors";
+import { validDocumentOrThrow } from "@/lib/evaluation/document-content";
 import { updateDerivationSchema } from "@/lib/validation/derivations";
 import { uuidField } from "@/lib/validation/fields";
 import { parseOrThrow } from "@/lib/validation/parse";
@@ -33,7 +34,8 @@ export const PATCH = apiRoute<Params>(async (request, { params }) => {
   if (changes.title !== undefined) needed.add("derivation:rename");
   if (changes.content !== undefined) needed.add("derivation:edit");
   for (const action of needed) assertCan(membership.role, action, { status: derivation.status, locked: derivation.lockedAt !== null });
-  const updated = await updateDerivationById({ id, actorId: user.id, changes: { title: changes.title, content: changes.content } });
+  const document = changes.content === undefined ? undefined : validDocumentOrThrow(changes.content, { field: "content", title: derivation.title });
+  const updated = await updateDerivationById({ id, actorId: user.id, changes: { title: changes.title, content: document } });
   if (!updated) throw new AppError("locked:derivation", "This derivation was approved and locked meanwhile; nothing was changed.");
   return Response.json({ derivation: updated });
 });

@@ -3,9 +3,10 @@ import { apiRoute, readJson } from "@/lib/api/route";
 import { loadDerivationFor } from "@/lib/auth/access";
 import { requireUser } from "@/lib/auth/session";
 import { AppError } from "@/lib/errors";
+import { validDocumentOrThrow } from "@/lib/evaluation/document-content";
 import { parseOrThrow } from "@/lib/validation/parse";
 import { derivationIdOf } from "../derivation-id";
-import { saveContentSchema, validDocumentOrThrow } from "./schema";
+import { saveContentSchema } from "./schema";
 
 type Params = { id: string };
 
@@ -19,7 +20,7 @@ export const PUT = apiRoute<Params>(async (request, { params }) => {
   const saved = await updateDerivationContentById({
     id,
     actorId: user.id,
-    content: document as unknown as Record<string, unknown>,
+    content: document,
     baseUpdatedAt: input.baseUpdatedAt ? new Date(input.baseUpdatedAt) : undefined,
   });
   if (saved.status === "missing") throw new AppError("not_found:derivation", "Derivation not found.");
