@@ -1,11 +1,13 @@
 import type { Metadata } from "next";
 import { NotebookPage } from "@/components/notebook/notebook-page";
 import { getTeamById } from "@/db/queries/teams";
+import { getViewPreferencesByUserIdAndDerivationId } from "@/db/queries/view-preferences";
 import { loadDerivationFor, orNotFound } from "@/lib/auth/access";
 import { can } from "@/lib/auth/permissions";
 import { requirePageUser } from "@/lib/auth/session";
 import { roleLabels } from "@/lib/domain";
 import { documentFromContent } from "@/lib/evaluation/document-content";
+import { readViewPreferences } from "@/lib/notebook/view-preferences";
 
 export const metadata: Metadata = { title: "Derivation" };
 
@@ -14,7 +16,7 @@ export default async function DerivationPage({ params }: { params: Promise<{ id:
   const { id } = await params;
   const user = await requirePageUser(`/derivations/${id}`);
   const { derivation, membership } = await orNotFound(() => loadDerivationFor(user, id, "derivation:read"));
-  const team = await getTeamById({ id: derivation.teamId });
+  const [team, view] = await Promise.all([getTeamById({ id: derivation.teamId }), getViewPreferencesByUserIdAndDerivationId({ userId: user.id, derivationId: derivation.id })]);
   const document = documentFromContent(derivation.content, derivation.title);
   const canEdit = can(membership.role, "derivation:edit", { status: derivation.status });
   return (
@@ -28,7 +30,9 @@ export default async function DerivationPage({ params }: { params: Promise<{ id:
       roleLabel={roleLabels[membership.role]}
       canEdit={canEdit}
       canRename={canEdit && can(membership.role, "derivation:rename", { status: derivation.status })}
+      canSimulate={can(membership.role, "derivation:simulate", { status: derivation.status })}
       initialDocument={document}
+      initialViewPreferences={readViewPreferences(view?.preferences)}
       initialUpdatedAt={derivation.updatedAt.toISOString()}
       rowTitle={derivation.title}
     />
