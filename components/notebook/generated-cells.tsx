@@ -240,7 +240,6 @@ export function LinearizationCellView(props: LinearizationCellProps) {
   const view = chooser(props);
   const linear = results?.linearization;
   const selected = linear?.selected;
-  const equilibriumLabel = (index: number) => `${index + 1}. ${linear?.equilibria[index]?.label ?? "first found"}`;
   return (
     <div className="flex min-w-0 flex-col gap-3">
       <div className="flex flex-wrap items-end gap-3 text-[13px]">
@@ -261,7 +260,7 @@ export function LinearizationCellView(props: LinearizationCellProps) {
         </label>
         {documentSettings && documentSettings.equilibriumIndex !== cell.settings.equilibriumIndex ? (
           <ViewChoiceNote
-            documentLabel={`equilibrium ${equilibriumLabel(documentSettings.equilibriumIndex)}`}
+            documentLabel={`equilibrium ${documentSettings.equilibriumIndex + 1}`}
             onReset={onViewChange && (() => onViewChange({ equilibriumIndex: undefined }))}
             onMakeDefault={onMakeDefault}
           />

@@ -133,9 +133,10 @@ export function NotebookPage(props: NotebookPageProps) {
   const personalCells = useMemo(() => doc.cells.map((cell) => personalCell(cell, preferences)), [doc.cells, preferences]);
   const viewResults = useViewResults({ derivationId, results: evaluation.results, resultsDocumentJson: evaluation.resultsDocumentJson, cells: personalCells });
   const view = useMemo<NotebookView>(
-    () => ({ preferences, results: viewResults, choose, changeSimulation: (cellId, patch) => changeSimulation(cellId, patch) }),
+    () => ({ preferences, results: viewResults, choose, changeSimulation }),
     [preferences, viewResults, choose, changeSimulation],
   );
+  const canStoreRuns = props.canSimulate ?? canEdit;
   const hasSimulationCell = doc.cells.some((cell) => cell.kind === "simulation");
   const [ownSimulationOpen, setOwnSimulationOpen] = useState(() => preferences.ownSimulation !== undefined);
   const ownSimulationRef = useRef<HTMLElement>(null);
@@ -290,7 +291,6 @@ export function NotebookPage(props: NotebookPageProps) {
             {!hasSimulationCell ? (
               <Button
                 size="sm"
-                aria-pressed={ownSimulationOpen}
                 title="Simulate this derivation with your own settings; the document is not changed"
                 onClick={() => {
                   setOwnSimulationOpen(true);
@@ -418,7 +418,7 @@ export function NotebookPage(props: NotebookPageProps) {
         readOnly={!canEdit}
         derivationId={derivationId}
         view={view}
-        canStoreRuns={props.canSimulate ?? canEdit}
+        canStoreRuns={canStoreRuns}
       />
       {!hasSimulationCell && ownSimulationOpen ? (
         <OwnSimulation
@@ -427,7 +427,7 @@ export function NotebookPage(props: NotebookPageProps) {
           results={evaluation.results}
           derivationId={derivationId}
           settings={preferences.ownSimulation}
-          canStoreRuns={props.canSimulate ?? canEdit}
+          canStoreRuns={canStoreRuns}
           onSettingsChange={(patch) => changeSimulation(null, patch)}
           onClose={() => setOwnSimulationOpen(false)}
         />

@@ -62,6 +62,25 @@ export function useViewPreferences({ derivationId, initial, settleMs = 500 }: { 
     return () => clearTimeout(timer);
   }, [preferences, settleMs, store]);
 
+  // Leaving the page (or this derivation) before the choices settled: send them on their way anyway.
+  useEffect(() => {
+    const flush = () => {
+      if (JSON.stringify(latest.current) === stored.current) return;
+      void fetch(`/api/derivations/${derivationId}/view-preferences`, {
+        method: "PUT",
+        keepalive: true,
+        credentials: "same-origin",
+        headers: { "content-type": "application/json" },
+        body: JSON.stringify({ preferences: latest.current }),
+      }).catch(() => undefined);
+    };
+    window.addEventListener("pagehide", flush);
+    return () => {
+      window.removeEventListener("pagehide", flush);
+      flush();
+    };
+  }, [derivationId]);
+
   const choose = useCallback((cellId: string, patch: ViewChoicePatch) => setPreferences((current) => setViewChoice(current, cellId, patch)), []);
   const changeSimulation = useCallback(
     (cellId: string | null, patch: Record<string, unknown> | undefined) =>
