@@ -412,3 +412,20 @@ export const simulationRuns = pgTable(
 );
 export type SimulationRun = typeof simulationRuns.$inferSelect;
 export type NewSimulationRun = typeof simulationRuns.$inferInsert;
+
+// A person's own view of a derivation (equation form, equilibrium, code language,
+// simulation settings tried): per user and derivation, never part of the document,
+// so readers may keep them. The shape is lib/notebook/view-preferences.ts.
+export const viewPreferences = pgTable(
+  "view_preferences",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    userId: uuid("user_id").notNull().references(() => users.id, { onDelete: "cascade" }),
+    derivationId: uuid("derivation_id").notNull().references(() => derivations.id, { onDelete: "cascade" }),
+    preferences: jsonb("preferences").$type<Record<string, unknown>>().notNull(),
+    ...timestamps,
+  },
+  (table) => [uniqueIndex("view_preferences_user_derivation_idx").on(table.userId, table.derivationId)],
+);
+export type ViewPreferencesRow = typeof viewPreferences.$inferSelect;
+export type NewViewPreferencesRow = typeof viewPreferences.$inferInsert;

@@ -22,6 +22,7 @@ import {
 import { symbolLatex } from "@/lib/notebook/latex-preview";
 import type { NotebookResults } from "@/lib/notebook/results";
 import { MathView } from "./math";
+import { ViewChoiceNote } from "./view-choice";
 
 export const SAFETY_NOTE =
   "Derived equations are a model. Before they drive real hardware or a safety-relevant decision, validate them against tests and the applicable codes and standards, under a qualified engineer's responsibility.";
@@ -33,6 +34,24 @@ export interface GeneratedCellProps<C> {
   evaluating?: boolean;
   readOnly?: boolean;
   onOperation: (op: DocumentOperation) => void;
+  /**
+   * A person's view choice (form, equilibrium, language): when given, the
+   * choice is theirs and `cell.settings` already carry it; readers may make it
+   * too. Without it a choice changes the document's setting.
+   */
+  onViewChange?: (patch: Record<string, unknown>) => void;
+  /** The document's own settings (the author's defaults), to show where a view choice differs. */
+  documentSettings?: C extends { settings: infer S } ? S : never;
+  /** Makes this person's choice the document's setting (for those who may edit). */
+  onMakeDefault?: () => void;
+}
+
+/** Where a view choice goes: the person's own view, or the document's setting. */
+function chooser<C extends { id: string }>({ cell, readOnly, onOperation, onViewChange }: GeneratedCellProps<C>) {
+  return {
+    disabled: readOnly && !onViewChange,
+    choose: (patch: Record<string, unknown>) => (onViewChange ? onViewChange(patch) : onOperation({ type: "updateSettings", cellId: cell.id, patch })),
+  };
 }
 
 function Pending({ evaluating }: { evaluating?: boolean }) {
@@ -57,7 +76,9 @@ export interface EquationsCellProps extends GeneratedCellProps<EquationsCell> {
 
 const FORM_LABELS: Record<EquationForm, string> = { residual: "Residual form", "mass-matrix": "Mass-matrix form", accelerations: "Accelerations" };
 
-export function EquationsCellView({ cell, results, evaluating, readOnly, onOperation, activeTerm = null, onTermFocus, onTermSelect }: EquationsCellProps) {
+export function EquationsCellView(props: EquationsCellProps) {
+  const { cell, results, evaluating, activeTerm = null, onTermFocus, onTermSelect, documentSettings, onViewChange, onMakeDefault } = props;
+  const view = chooser(props);
   const containerRef = useRef<HTMLDivElement>(null);
   const [hovered, setHovered] = useState<string | null>(null);
   const shown = hovered ?? activeTerm;
@@ -117,8 +138,8 @@ export function EquationsCellView({ cell, results, evaluating, readOnly, onOpera
           <select
             className="rounded border border-line bg-paper px-1.5 py-0.5 text-ink"
             value={form}
-            disabled={readOnly}
-            onChange={(event) => onOperation({ type: "updateSettings", cellId: cell.id, patch: { form: event.target.value } })}
+            disabled={view.disabled}
+            onChange={(event) => view.choose({ form: event.target.value })}
           >
             {EQUATION_FORMS.map((option) => (
               <option key={option} value={option}>
@@ -127,6 +148,9 @@ export function EquationsCellView({ cell, results, evaluating, readOnly, onOpera
             ))}
           </select>
         </label>
+        {documentSettings && documentSettings.form !== form ? (
+          <ViewChoiceNote documentLabel={FORM_LABELS[documentSettings.form].toLowerCase()} onReset={onViewChange && (() => onViewChange({ form: undefined }))} onMakeDefault={onMakeDefault} />
+        ) : null}
         {results?.timingMs !== undefined && <span className="text-xs text-muted">derived in {results.timingMs.toFixed(0)} ms</span>}
       </div>
       <div
@@ -211,7 +235,9 @@ export interface LinearizationCellProps extends GeneratedCellProps<Linearization
   inputNames: readonly string[];
 }
 
-export function LinearizationCellView({ cell, results, evaluating, readOnly, onOperation, inputNames }: LinearizationCellProps) {
+export function LinearizationCellView(props: LinearizationCellProps) {
+  const { cell, results, evaluating, readOnly, onOperation, inputNames, documentSettings, onViewChange, onMakeDefault } = props;
+  const view = chooser(props);
   const linear = results?.linearization;
   const selected = linear?.selected;
   return (
@@ -222,8 +248,8 @@ export function LinearizationCellView({ cell, results, evaluating, readOnly, onO
           <select
             className="rounded border border-line bg-paper px-1.5 py-0.5 text-ink"
             value={cell.settings.equilibriumIndex}
-            disabled={readOnly || !linear || linear.equilibria.length === 0}
-            onChange={(event) => onOperation({ type: "updateSettings", cellId: cell.id, patch: { equilibriumIndex: Number(event.target.value) } })}
+            disabled={view.disabled || !linear || linear.equilibria.length === 0}
+            onChange={(event) => view.choose({ equilibriumIndex: Number(event.target.value) })}
           >
             {(linear?.equilibria.length ? linear.equilibria : [{ label: "first found", values: {} }]).map((equilibrium, index) => (
               <option key={index} value={index}>
@@ -232,6 +258,13 @@ export function LinearizationCellView({ cell, results, evaluating, readOnly, onO
             ))}
           </select>
         </label>
+        {documentSettings && documentSettings.equilibriumIndex !== cell.settings.equilibriumIndex ? (
+          <ViewChoiceNote
+            documentLabel={`equilibrium ${documentSettings.equilibriumIndex + 1}`}
+            onReset={onViewChange && (() => onViewChange({ equilibriumIndex: undefined }))}
+            onMakeDefault={onMakeDefault}
+          />
+        ) : null}
         {inputNames.map((name) => (
           <label key={name} className="flex flex-col gap-1 text-muted">
             Input {name}
@@ -292,7 +325,9 @@ export function LinearizationCellView({ cell, results, evaluating, readOnly, onO
 
 const LANGUAGE_LABELS: Record<CodeExportLanguage, string> = { python: "Python (NumPy)", typescript: "TypeScript", c: "C", julia: "Julia", octave: "MATLAB/Octave" };
 
-export function CodeExportCellView({ cell, results, evaluating, readOnly, onOperation }: GeneratedCellProps<CodeExportCell>) {
+export function CodeExportCellView(props: GeneratedCellProps<CodeExportCell>) {
+  const { cell, results, evaluating, documentSettings, onViewChange, onMakeDefault } = props;
+  const view = chooser(props);
   const [copied, setCopied] = useState(false);
   const code = results?.code?.find((entry) => entry.language === cell.settings.language);
 
@@ -321,8 +356,8 @@ export function CodeExportCellView({ cell, results, evaluating, readOnly, onOper
           <select
             className="rounded border border-line bg-paper px-1.5 py-0.5 text-ink"
             value={cell.settings.language}
-            disabled={readOnly}
-            onChange={(event) => onOperation({ type: "updateSettings", cellId: cell.id, patch: { language: event.target.value } })}
+            disabled={view.disabled}
+            onChange={(event) => view.choose({ language: event.target.value })}
           >
             {CODE_EXPORT_LANGUAGES.map((language) => (
               <option key={language} value={language}>
@@ -337,11 +372,16 @@ export function CodeExportCellView({ cell, results, evaluating, readOnly, onOper
         <button type="button" className="rounded border border-line px-2 py-0.5 text-ink hover:border-action hover:text-action disabled:opacity-40" disabled={!code} onClick={download}>
           Download
         </button>
+        {documentSettings && documentSettings.language !== cell.settings.language ? (
+          <ViewChoiceNote documentLabel={LANGUAGE_LABELS[documentSettings.language]} onReset={onViewChange && (() => onViewChange({ language: undefined }))} onMakeDefault={onMakeDefault} />
+        ) : null}
       </div>
       {!results ? (
         <Pending evaluating={evaluating} />
       ) : !code ? (
-        <p className="text-sm text-muted">No {LANGUAGE_LABELS[cell.settings.language]} code in these results.</p>
+        <p className="text-sm text-muted" role="status">
+          {evaluating ? `Preparing ${LANGUAGE_LABELS[cell.settings.language]} code…` : `No ${LANGUAGE_LABELS[cell.settings.language]} code in these results.`}
+        </p>
       ) : (
         <pre className="hn-result-body max-h-96 overflow-auto rounded bg-sunken p-2 font-mono text-xs text-ink">{code.source}</pre>
       )}

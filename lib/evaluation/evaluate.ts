@@ -171,7 +171,7 @@ export function massMatrixLatex(result: DerivationResult): string {
 }
 
 /** The system with numbers for the parameters, or the reason there is none. */
-export function mechanicalSystemOf(model: Model, result: DerivationResult): MechanicalSystem | { reason: string } {
+export function mechanicalSystemOf(model: Model, result: Pick<DerivationResult, "coordinates" | "massMatrix" | "forcing">): MechanicalSystem | { reason: string } {
   const symbolic = model.parameters.filter((p) => p.value === undefined).map((p) => p.name);
   if (symbolic.length > 0) return { reason: `Give ${symbolic.join(", ")} a value to find equilibria and linearize.` };
   return {
@@ -324,4 +324,29 @@ export async function evaluateModel(runner: EngineRunner, model: Model, settings
 
 function round(ms: number): number {
   return Math.round(ms * 100) / 100;
+}
+
+/**
+ * An evaluation's result linearized about another equilibrium or input: only
+ * the equilibrium search and the linearization run; the derivation (M and f)
+ * is taken from `base`, so nothing is derived again.
+ */
+export async function relinearize(
+  runner: EngineRunner,
+  model: Model,
+  base: EvaluationResult,
+  settings: LinearizationSettings,
+): Promise<{ result: EvaluationResult; timings: Pick<EvaluationTimings, "analysisMs" | "totalMs"> }> {
+  const started = performance.now();
+  const system = mechanicalSystemOf(model, base);
+  const analysis = "reason" in system ? { equilibria: [], note: system.reason } : await analyseSystem(runner, system, settings);
+  const { linearization: _linearization, linearizationNote: _note, ...rest } = base;
+  const result: EvaluationResult = {
+    ...rest,
+    ...(analysis.linearization ? { linearization: analysis.linearization } : {}),
+    ...(analysis.note ? { linearizationNote: analysis.note } : {}),
+    equilibria: analysis.equilibria,
+  };
+  const analysisMs = round(performance.now() - started);
+  return { result, timings: { analysisMs, totalMs: analysisMs } };
 }

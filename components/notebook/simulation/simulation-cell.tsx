@@ -31,6 +31,15 @@ export interface SimulationCellProps {
   document?: DerivationDocument;
   /** Present when the derivation is stored: enables server runs, stored runs and measured data. */
   derivationId?: string;
+  /**
+   * The settings are this person's own (they may not edit the document): edits
+   * go here instead of the document, and the form stays editable when `readOnly`.
+   */
+  onSettingsChange?: (patch: Partial<SimulationSettings>) => void;
+  /** Goes back to the document's settings; offered while the person's own differ. */
+  onResetSettings?: () => void;
+  /** May store runs on the server (defaults to being able to edit). */
+  canStoreRuns?: boolean;
 }
 
 const inputClass = "w-full min-w-0 rounded border border-line bg-paper px-1.5 py-0.5 font-mono text-[13px] text-ink aria-[invalid=true]:border-danger";
@@ -90,12 +99,15 @@ export function SimulationSettingsForm({
   readOnly,
   errors,
   onOperation,
+  onSettingsChange,
 }: {
   cell: SimulationCell;
   document: DerivationDocument;
   readOnly?: boolean;
   errors: Record<string, string>;
   onOperation: (op: DocumentOperation) => void;
+  /** Edits go here instead of the document (a person's own settings). */
+  onSettingsChange?: (patch: Partial<SimulationSettings>) => void;
 }) {
   const settings = cell.settings;
   const symbols = useMemo(() => documentSymbols(doc), [doc]);
@@ -104,7 +116,7 @@ export function SimulationSettingsForm({
     for (const c of doc.cells) if (c.kind === "parameters") for (const row of c.rows) values.set(row.name.trim(), row.value);
     return values;
   }, [doc]);
-  const update = (patch: Partial<SimulationSettings>) => onOperation({ type: "updateSettings", cellId: cell.id, patch });
+  const update = (patch: Partial<SimulationSettings>) => (onSettingsChange ? onSettingsChange(patch) : onOperation({ type: "updateSettings", cellId: cell.id, patch }));
   const common = { readOnly, cellId: cell.id };
 
   return (
@@ -258,7 +270,7 @@ function smallOscillationOf(results: NotebookResults | null, coordinates: string
   return { expectedFrequency: 2 * Math.PI * frequency, equilibrium, modeShape };
 }
 
-export function SimulationCellView({ cell, results, readOnly, onOperation, document: doc, derivationId }: SimulationCellProps) {
+export function SimulationCellView({ cell, results, readOnly, onOperation, document: doc, derivationId, onSettingsChange, onResetSettings, canStoreRuns = !readOnly }: SimulationCellProps) {
   const [run, setRun] = useState<RunDisplay | null>(null);
   const [attempted, setAttempted] = useState(false);
   const [problem, setProblem] = useState<string | null>(null);
@@ -347,7 +359,17 @@ export function SimulationCellView({ cell, results, readOnly, onOperation, docum
 
   return (
     <div className="flex min-w-0 flex-col gap-3">
-      <SimulationSettingsForm cell={cell} document={doc} readOnly={readOnly} errors={errors} onOperation={onOperation} />
+      {onSettingsChange ? (
+        <p className="flex flex-wrap items-center gap-x-2 text-xs text-muted" data-testid="own-simulation-settings">
+          <span>These settings are yours: runs here use them, and the document is not changed.</span>
+          {onResetSettings ? (
+            <button type="button" className="text-action hover:underline" onClick={onResetSettings}>
+              Reset my settings
+            </button>
+          ) : null}
+        </p>
+      ) : null}
+      <SimulationSettingsForm cell={cell} document={doc} readOnly={readOnly && !onSettingsChange} errors={errors} onOperation={onOperation} onSettingsChange={onSettingsChange} />
       <div className="flex flex-wrap items-center gap-2">
         <button
           type="button"
@@ -358,7 +380,7 @@ export function SimulationCellView({ cell, results, readOnly, onOperation, docum
         >
           Run simulation
         </button>
-        {derivationId && !readOnly && (
+        {derivationId && canStoreRuns && (
           <button
             type="button"
             className="rounded border border-action px-3 py-1 text-sm text-action hover:bg-action-soft disabled:opacity-50"

@@ -2,11 +2,13 @@ import type { Metadata } from "next";
 import { NotebookPage } from "@/components/notebook/notebook-page";
 import { UnreadableContent } from "@/components/notebook/unreadable-content";
 import { getTeamById } from "@/db/queries/teams";
+import { getViewPreferencesByUserIdAndDerivationId } from "@/db/queries/view-preferences";
 import { loadDerivationFor, orNotFound } from "@/lib/auth/access";
 import { can } from "@/lib/auth/permissions";
 import { requirePageUser } from "@/lib/auth/session";
 import { roleLabels } from "@/lib/domain";
 import { parseStoredDocument, recoverModel } from "@/lib/notebook/document";
+import { readViewPreferences } from "@/lib/notebook/view-preferences";
 
 export const metadata: Metadata = { title: "Derivation" };
 
@@ -15,7 +17,7 @@ export default async function DerivationPage({ params }: { params: Promise<{ id:
   const { id } = await params;
   const user = await requirePageUser(`/derivations/${id}`);
   const { derivation, membership } = await orNotFound(() => loadDerivationFor(user, id, "derivation:read"));
-  const team = await getTeamById({ id: derivation.teamId });
+  const [team, view] = await Promise.all([getTeamById({ id: derivation.teamId }), getViewPreferencesByUserIdAndDerivationId({ userId: user.id, derivationId: derivation.id })]);
   const stored = parseStoredDocument(derivation.content, { title: derivation.title });
   if (!stored.ok) {
     // Content this version cannot read: say what is wrong and offer what can be saved, never a 500.
@@ -31,7 +33,8 @@ export default async function DerivationPage({ params }: { params: Promise<{ id:
       />
     );
   }
-  const canEdit = can(membership.role, "derivation:edit", { status: derivation.status });
+  const locked = derivation.lockedAt !== null;
+  const canEdit = can(membership.role, "derivation:edit", { status: derivation.status, locked });
   return (
     <NotebookPage
       key={derivation.id}
@@ -42,8 +45,10 @@ export default async function DerivationPage({ params }: { params: Promise<{ id:
       ownerName={derivation.ownerName}
       roleLabel={roleLabels[membership.role]}
       canEdit={canEdit}
-      canRename={canEdit && can(membership.role, "derivation:rename", { status: derivation.status })}
+      canRename={canEdit && can(membership.role, "derivation:rename", { status: derivation.status, locked })}
+      canSimulate={can(membership.role, "derivation:simulate", { status: derivation.status, locked })}
       initialDocument={stored.document}
+      initialViewPreferences={readViewPreferences(view?.preferences)}
       initialUpdatedAt={derivation.updatedAt.toISOString()}
       rowTitle={derivation.title}
     />
