@@ -11,7 +11,7 @@ import type { DerivationResult } from "@/lib/mechanics/derive";
 import type { Equilibrium } from "@/lib/mechanics/equilibria";
 import { symbolLatex, toLatex, type LatexTerm } from "@/lib/mechanics/latex";
 import { matchEigenvalues, type Linearization, type MechanicalSystem } from "@/lib/mechanics/linearize";
-import { frequencyScale, STABILITY_TOLERANCE } from "@/lib/mechanics/stability";
+import { stabilityTolerance } from "@/lib/mechanics/stability";
 import type { Model } from "@/lib/mechanics/model";
 import type { CodeExportLanguage, DerivationDocument, LinearizationCell } from "@/lib/notebook/document";
 import type { ModeView, NotebookResults } from "@/lib/notebook/results";
@@ -231,7 +231,9 @@ export async function analyseSystem(
   const chosen = equilibria[index]!;
   const lin = await runner.run<Linearization>("linearize", { system, point: { q: chosen.q, inputs: inputValues } });
   // The verdict is the equilibrium's own (classifyStability), so the list and the cell always agree.
-  const tolerance = STABILITY_TOLERANCE * frequencyScale(lin.A);
+  // Eigenvalue parts within the rule's tolerance of 0 are shown as 0, as the rule reads them.
+  const tolerance = stabilityTolerance(lin.A);
+  const rounded = (l: { re: number; im: number }) => ({ re: Math.abs(l.re) <= tolerance ? 0 : l.re, im: Math.abs(l.im) <= tolerance ? 0 : l.im });
   const damped = matchEigenvalues(lin.modes, lin.eigenvalues);
   return {
     equilibria,
@@ -244,9 +246,9 @@ export async function analyseSystem(
         A: withoutRoundingNoise(lin.A, system.coordinates.length),
         B: withoutRoundingNoise(lin.B, system.coordinates.length),
         modes: lin.modes.map(
-          (mode, k): ModeView => ({ kind: mode.kind, hertz: mode.hertz, growthRate: mode.growthRate, shape: mode.shape, eigenvalue: damped[k] ?? null }),
+          (mode, k): ModeView => ({ kind: mode.kind, hertz: mode.hertz, growthRate: mode.growthRate, shape: mode.shape, eigenvalue: damped[k] ? rounded(damped[k]) : null }),
         ),
-        eigenvalues: lin.eigenvalues.map((l) => ({ re: Math.abs(l.re) <= tolerance ? 0 : l.re, im: Math.abs(l.im) <= tolerance ? 0 : l.im })),
+        eigenvalues: lin.eigenvalues.map(rounded),
         stability: chosen.stability,
         stabilityReason: chosen.stabilityReason,
       },

@@ -33,7 +33,7 @@ export { linearizeAbout, compileAnalysis, normalModes, matchEigenvalues } from "
 export type { MechanicalSystem, OperatingPoint, Linearization, Mode, ModeKind, Complex, CompiledAnalysis } from "./linearize";
 export { findEquilibria, wrapAngle } from "./equilibria";
 export type { Equilibrium, EquilibriumOptions, Stability } from "./equilibria";
-export { classifyStability, frequencyScale, formatEigenvalue, STABILITY_RULE, STABILITY_TOLERANCE } from "./stability";
+export { classifyStability, frequencyScale, stabilityTolerance, formatEigenvalue, STABILITY_RULE, STABILITY_TOLERANCE } from "./stability";
 export type { StabilityVerdict } from "./stability";
 export { checkModelUnits, unitOfExpression, parseUnit, formatDimension, isAngleUnit } from "./units";
 export type { Dimension } from "./units";

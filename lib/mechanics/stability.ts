@@ -42,6 +42,11 @@ export function frequencyScale(A: readonly (readonly number[])[]): number {
   return Math.max(Math.sqrt(stiffness), damping);
 }
 
+/** τ for a state matrix: STABILITY_TOLERANCE × `frequencyScale(A)`, in 1/s. Real or imaginary parts within τ of 0 are 0. */
+export function stabilityTolerance(A: readonly (readonly number[])[]): number {
+  return STABILITY_TOLERANCE * frequencyScale(A);
+}
+
 /**
  * Classifies an equilibrium from its linearization; the one rule used for
  * every verdict the product shows (STABILITY_RULE states it in words):
@@ -72,7 +77,7 @@ export function frequencyScale(A: readonly (readonly number[])[]): number {
 export function classifyStability(linearization: Pick<Linearization, "A" | "eigenvalues" | "stiffness" | "damping">): StabilityVerdict {
   const { A, eigenvalues } = linearization;
   const scale = frequencyScale(A);
-  const tolerance = STABILITY_TOLERANCE * scale;
+  const tolerance = stabilityTolerance(A);
   const verdict = (stability: Stability, reason: string, asymptotic = false): StabilityVerdict => ({ stability, asymptotic, reason, tolerance });
 
   if (eigenvalues.length === 0) return verdict("stable", "the system has no state to disturb.", true);

@@ -321,7 +321,7 @@ export function explainSmallOscillation(report: SmallOscillationReport): string 
     return `The check could not be made: ${report.problem ?? "no frequency was measured"}.`;
   }
   const damping =
-    report.comparedFrequency !== report.expectedFrequency
+    Math.abs(report.comparedFrequency - report.expectedFrequency) > 1e-12 * report.expectedFrequency
       ? ` Damping slows the swing, so the simulation is compared with the damped frequency ${Number(report.comparedFrequency.toPrecision(6))} rad/s.`
       : "";
   const share =

@@ -7,7 +7,7 @@ import type { NotebookResults } from "@/lib/notebook/results";
 import type { ModelSimulationJob } from "./worker-messages";
 
 /**
- * The small-amplitude check for the linearization's lowest oscillating mode,
+ * The small-amplitude check for the linearization's lowest mode that swings,
  * when the Parameters cell's values are used and the equilibrium is not
  * unstable (a marginal one, such as a trolley free to roll, still swings).
  * The timed coordinate is one that takes no part in a rigid mode when there
@@ -17,7 +17,8 @@ export function smallOscillationOf(results: NotebookResults | null, coordinates:
   const linearization = results?.linearization;
   const selected = linearization?.selected;
   if (!selected || selected.stability === "unstable") return null;
-  const mode = selected.modes.find((m) => m.kind === "oscillating" && m.hertz !== null && m.hertz > 0 && (m.eigenvalue === null || m.eigenvalue.im > 0));
+  // A mode without an oscillating eigenvalue of A is overdamped: there is no swing to time.
+  const mode = selected.modes.find((m) => m.kind === "oscillating" && m.hertz !== null && m.hertz > 0 && m.eigenvalue !== null && m.eigenvalue.im > 0);
   if (!mode) return null;
   const equilibrium = linearization.equilibria[selected.index]?.values ?? {};
   const modeShape = coordinates.map((_, i) => mode.shape[i] ?? 0);
@@ -31,6 +32,7 @@ export function smallOscillationOf(results: NotebookResults | null, coordinates:
     equilibrium,
     modeShape,
     coordinate: coordinates[timed]!,
-    ...(mode.eigenvalue ? { eigenvalue: mode.eigenvalue } : {}),
+    // Without damping (Re λ written as 0) the swing runs at the natural frequency itself.
+    ...(mode.eigenvalue && mode.eigenvalue.re !== 0 ? { eigenvalue: mode.eigenvalue } : {}),
   };
 }

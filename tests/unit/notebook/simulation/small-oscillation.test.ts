@@ -7,7 +7,9 @@ import { smallOscillationOf } from "@/components/notebook/simulation/small-oscil
 import { deriveModel } from "@/lib/mechanics/derive";
 import { checkSmallOscillation, explainSmallOscillation } from "@/lib/simulate/checks";
 import { systemFromMassMatrixForm } from "@/lib/simulate/system";
-import { demoModel, evaluateDemo } from "../../evaluation/in-process";
+import { evaluateModel } from "@/lib/evaluation/evaluate";
+import { templateModel } from "@/lib/notebook/templates";
+import { demoModel, evaluateDemo, inProcessRunner } from "../../evaluation/in-process";
 
 /** The system the simulation worker builds from a model (simulation.worker.ts). */
 function simulatedSystem(titleStart: string) {
@@ -44,6 +46,21 @@ describe("small-amplitude check from the notebook's results", () => {
     expect(report.passed).toBe(true);
     // ζ = c/(2√(k m)) = 0.325, so ω_d/ω = √(1 − ζ²) = 0.946 (Thomson & Dahleh, Theory of Vibration with Applications, 5th ed., §2.6 — from memory).
     expect(report.comparedFrequency / report.expectedFrequency).toBeCloseTo(Math.sqrt(1 - (1300 / (2 * Math.sqrt(42000 * 95))) ** 2), 10);
+  });
+
+  it("undamped hook block: compares with the natural frequency itself", async () => {
+    const model = templateModel("single-pendulum");
+    const { result } = await evaluateModel(inProcessRunner, model, { linearization: { equilibriumIndex: 0, inputValues: {} }, codeLanguages: [] });
+    expect(result.linearization!.selected!.stability).toBe("stable");
+    const job = smallOscillationOf(result, result.coordinates)!;
+    expect(job.eigenvalue).toBeUndefined();
+    // Simple pendulum ω = √(g/l), l = 3.5 m (fact of the trade).
+    expect(job.expectedFrequency).toBeCloseTo(Math.sqrt(9.81 / 3.5), 10);
+    const derived = deriveModel(model);
+    const system = systemFromMassMatrixForm({ coordinates: derived.coordinates, parameters: model.parameters.map((p) => ({ name: p.name, value: p.value })), massMatrix: derived.massMatrix, forcing: derived.forcing });
+    const report = checkSmallOscillation(system, job);
+    expect(report.passed).toBe(true);
+    expect(explainSmallOscillation(report)).not.toContain("Damping");
   });
 
   it("makes no check about an unstable equilibrium", async () => {
