@@ -10,10 +10,11 @@ import type { CodeExportInput, CodeLanguage } from "@/lib/mechanics/codegen";
 import type { DerivationResult } from "@/lib/mechanics/derive";
 import type { Equilibrium } from "@/lib/mechanics/equilibria";
 import { symbolLatex, toLatex, type LatexTerm } from "@/lib/mechanics/latex";
-import type { Linearization, MechanicalSystem } from "@/lib/mechanics/linearize";
+import { matchEigenvalues, type Linearization, type MechanicalSystem } from "@/lib/mechanics/linearize";
+import { stabilityTolerance } from "@/lib/mechanics/stability";
 import type { Model } from "@/lib/mechanics/model";
 import type { CodeExportLanguage, DerivationDocument, LinearizationCell } from "@/lib/notebook/document";
-import type { NotebookResults } from "@/lib/notebook/results";
+import type { ModeView, NotebookResults } from "@/lib/notebook/results";
 
 /** Anything that runs the engine's named tasks: the server's EnginePool, or an in-process stand-in. */
 export interface EngineRunner {
@@ -229,7 +230,11 @@ export async function analyseSystem(
   const index = Math.min(Math.max(0, settings.equilibriumIndex), equilibria.length - 1);
   const chosen = equilibria[index]!;
   const lin = await runner.run<Linearization>("linearize", { system, point: { q: chosen.q, inputs: inputValues } });
-  const oscillating = lin.modes.filter((mode) => mode.hertz !== null);
+  // The verdict is the equilibrium's own (classifyStability), so the list and the cell always agree.
+  // Eigenvalue parts within the rule's tolerance of 0 are shown as 0, as the rule reads them.
+  const tolerance = stabilityTolerance(lin.A);
+  const rounded = (l: { re: number; im: number }) => ({ re: Math.abs(l.re) <= tolerance ? 0 : l.re, im: Math.abs(l.im) <= tolerance ? 0 : l.im });
+  const damped = matchEigenvalues(lin.modes, lin.eigenvalues);
   return {
     equilibria,
     linearization: {
@@ -238,15 +243,55 @@ export async function analyseSystem(
         index,
         stateNames: lin.state,
         inputNames: lin.inputs,
-        A: lin.A,
-        B: lin.B,
-        frequenciesHz: oscillating.map((mode) => mode.hertz!),
-        // Columns are modes, rows are coordinates.
-        modeShapes: system.coordinates.map((_, i) => oscillating.map((mode) => mode.shape[i]!)),
-        stable: chosen.stability === "stable",
+        A: withoutRoundingNoise(lin.A, system.coordinates.length),
+        B: withoutRoundingNoise(lin.B, system.coordinates.length),
+        modes: lin.modes.map(
+          (mode, k): ModeView => ({ kind: mode.kind, hertz: mode.hertz, growthRate: mode.growthRate, shape: mode.shape, eigenvalue: damped[k] ? rounded(damped[k]) : null }),
+        ),
+        eigenvalues: lin.eigenvalues.map(rounded),
+        stability: chosen.stability,
+        stabilityReason: chosen.stabilityReason,
       },
     },
   };
+}
+
+/** Relative size below which a matrix entry is rounding noise (a few ulps of the block it sits in). */
+export const ROUNDING_NOISE = 1e-12;
+
+/**
+ * A state or input matrix with rounding noise written as 0: an entry whose
+ * size is at most ROUNDING_NOISE × the largest entry of its block. Blocks
+ * follow the units: the rows of q' (the first `n`) apart from the rows of q'',
+ * and within those the columns of q, of q' (A) or of each input (B), so a
+ * small damping entry is never judged against a large stiffness one.
+ *
+ * @example withoutRoundingNoise([[0, 1], [-4, 3.67e-15]], 1) // [[0, 1], [-4, 0]] only if 3.67e-15 is noise next to its block
+ */
+export function withoutRoundingNoise(matrix: readonly (readonly number[])[], n: number): number[][] {
+  const columns = matrix[0]?.length ?? 0;
+  // A has two column blocks (q, q'); B one block per input column.
+  const blockOf = (j: number) => (columns === 2 * n ? (j < n ? 0 : 1) : j);
+  const rowBlock = (i: number) => (i < n ? 0 : 1);
+  const largest = new Map<string, number>();
+  matrix.forEach((row, i) =>
+    row.forEach((value, j) => {
+      const key = `${rowBlock(i)},${blockOf(j)}`;
+      largest.set(key, Math.max(largest.get(key) ?? 0, Math.abs(value)));
+    }),
+  );
+  return matrix.map((row, i) => row.map((value, j) => (Math.abs(value) <= ROUNDING_NOISE * largest.get(`${rowBlock(i)},${blockOf(j)}`)! ? 0 : value)));
+}
+
+/** What keeps the energy function from being conserved, in words (deriveModel's condition, spelled out). */
+export function energyNotConservedReason(model: Model, derived: Pick<DerivationResult, "explicitTime">): string {
+  const forced = Object.entries(model.forces ?? {}).filter(([, text]) => text.trim() !== "" && text.trim() !== "0");
+  const reasons = [
+    ...(derived.explicitTime ? ["the Lagrangian depends on t explicitly"] : []),
+    ...(!["", "0"].includes((model.dissipation ?? "").trim()) ? ["the dissipation function removes energy"] : []),
+    ...(forced.length > 0 ? [`applied forces act (${forced.map(([coordinate, text]) => `${text.trim()} on ${coordinate}`).join(", ")})`] : []),
+  ];
+  return reasons.length > 0 ? reasons.join("; ") : "the derivation found a non-conservative term";
 }
 
 /** The code-export input for a derivation result. */
@@ -280,6 +325,16 @@ export async function evaluateModel(runner: EngineRunner, model: Model, settings
   const solved = solvedAccelerations(derived);
   const accelerations = solved?.map(({ coordinate, expr }) => ({ coordinate, latex: `${symbolLatex(coordinate, 2)} = ${toLatex(expr)}` }));
   const conserved = derived.conserved.map((quantity) => ({ name: quantity.name, latex: toLatex(quantity.expr), reason: quantity.reason }));
+  const cyclicMomenta = derived.cyclicMomenta.map((entry) => {
+    const p = `p_{${symbolLatex(entry.coordinate, 0)}}`;
+    return {
+      coordinate: entry.coordinate,
+      conserved: entry.conserved,
+      rateLatex: `${p} = ${toLatex(entry.momentum)},\\qquad \\dot{${p}} = ${toLatex(entry.rate)}`,
+      actedOnBy: entry.actedOnBy,
+    };
+  });
+  const energyNotConserved = derived.conserved.some((quantity) => quantity.name === "energy function") ? undefined : energyNotConservedReason(model, derived);
   const afterLatex = performance.now();
 
   const system = mechanicalSystemOf(model, derived);
@@ -313,6 +368,8 @@ export async function evaluateModel(runner: EngineRunner, model: Model, settings
       : { accelerationsNote: `Accelerations are written out for up to ${MAX_SOLVED_ACCELERATIONS} coordinates; use the mass-matrix form or the code export for this system.` }),
     energyLatex: toLatex(derived.energy),
     conserved,
+    cyclicMomenta,
+    ...(energyNotConserved ? { energyNotConserved } : {}),
     ...(analysis.linearization ? { linearization: analysis.linearization } : {}),
     ...(analysis.note ? { linearizationNote: analysis.note } : {}),
     equilibria: analysis.equilibria,

@@ -38,6 +38,21 @@ export interface ConservedQuantity {
   reason: string;
 }
 
+/**
+ * A cyclic coordinate (L does not depend on it) and the balance of its
+ * momentum p = ∂L/∂q': dp/dt = Q − ∂D/∂q', the applied generalized force on
+ * it minus the dissipation acting on it. Conserved when both are absent.
+ */
+export interface CyclicMomentum {
+  coordinate: string;
+  momentum: string;
+  conserved: boolean;
+  /** dp/dt in the input syntax; "0" when conserved. */
+  rate: string;
+  /** What acts on the coordinate: an applied force (the model's forces entry), the dissipation function, both, or neither. */
+  actedOnBy: ("applied force" | "dissipation")[];
+}
+
 export type HamiltonianResult =
   | { available: true; expr: string; momenta: { coordinate: string; symbol: string }[] }
   | { available: false; reason: string };
@@ -61,6 +76,8 @@ export interface DerivationResult {
   momenta: MomentumResult[];
   /** Coordinates L does not depend on. */
   cyclic: string[];
+  /** The momentum balance of each cyclic coordinate, in the order of `cyclic`. */
+  cyclicMomenta: CyclicMomentum[];
   conserved: ConservedQuantity[];
   /** L depends on t explicitly. */
   explicitTime: boolean;
@@ -119,11 +136,20 @@ export function deriveModel(model: Model, options: DeriveOptions = {}): Derivati
       reason: "L has no explicit t and there is no dissipation or applied force",
     });
   }
+  const cyclicMomenta: CyclicMomentum[] = [];
   names.forEach((name, i) => {
     if (!canonical.cyclic[i]) return;
-    const dissipates = alg.dependsOn(canonical.dissipation, space.rates[i]!);
-    if (canonical.forces[i]!.size === 0 && !dissipates) {
-      conserved.push({ name: `momentum of ${name}`, expr: text(canonical.momenta[i]!), reason: `${name} is cyclic and no force or dissipation acts on it` });
+    // With ∂L/∂q = 0 Lagrange's equation leaves dp/dt = Q − ∂D/∂q'.
+    const dissipative = partialDerivative(alg, space.rates[i]!).apply(canonical.dissipation);
+    const rate = alg.sub(canonical.forces[i]!, dissipative);
+    const actedOnBy: CyclicMomentum["actedOnBy"] = [];
+    if (canonical.forces[i]!.size > 0) actedOnBy.push("applied force");
+    if (dissipative.size > 0) actedOnBy.push("dissipation");
+    const momentum = text(canonical.momenta[i]!);
+    const isConserved = rate.size === 0;
+    cyclicMomenta.push({ coordinate: name, momentum, conserved: isConserved, rate: isConserved ? "0" : text(rate), actedOnBy });
+    if (isConserved) {
+      conserved.push({ name: `momentum of ${name}`, expr: momentum, reason: `${name} is cyclic and no force or dissipation acts on it` });
     }
   });
 
@@ -138,6 +164,7 @@ export function deriveModel(model: Model, options: DeriveOptions = {}): Derivati
     energy: text(canonical.energy),
     momenta: canonical.momenta.map((p, i) => ({ coordinate: names[i]!, expr: text(p) })),
     cyclic: names.filter((_, i) => canonical.cyclic[i]),
+    cyclicMomenta,
     conserved,
     explicitTime: canonical.explicitTime,
     hamiltonian,

@@ -14,6 +14,7 @@ export type {
   EquationResult,
   MomentumResult,
   ConservedQuantity,
+  CyclicMomentum,
   HamiltonianResult,
   DerivationTiming,
 } from "./derive";
@@ -28,10 +29,12 @@ export type { CompiledExpressions, CompileOptions, MassMatrixSystem, CompiledMas
 export { ExpressionGraph } from "./graph";
 export { residualJacobians } from "./jacobians";
 export type { ResidualJacobians } from "./jacobians";
-export { linearizeAbout, compileAnalysis, normalModes } from "./linearize";
-export type { MechanicalSystem, OperatingPoint, Linearization, Mode, Complex, CompiledAnalysis } from "./linearize";
+export { linearizeAbout, compileAnalysis, normalModes, matchEigenvalues } from "./linearize";
+export type { MechanicalSystem, OperatingPoint, Linearization, Mode, ModeKind, Complex, CompiledAnalysis } from "./linearize";
 export { findEquilibria, wrapAngle } from "./equilibria";
 export type { Equilibrium, EquilibriumOptions, Stability } from "./equilibria";
+export { classifyStability, frequencyScale, stabilityTolerance, formatEigenvalue, STABILITY_RULE, STABILITY_TOLERANCE } from "./stability";
+export type { StabilityVerdict } from "./stability";
 export { checkModelUnits, unitOfExpression, parseUnit, formatDimension, isAngleUnit } from "./units";
 export type { Dimension } from "./units";
 export { toLatex, toLatexTerms, symbolLatex, termId } from "./latex";

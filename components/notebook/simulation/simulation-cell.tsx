@@ -16,6 +16,7 @@ import { ExpressionEditor } from "../editor/expression-editor";
 import { MeasuredPanel } from "./measured-panel";
 import { displayOfStoredRun, type RunDisplay, type StoredRunJson } from "./run-view";
 import { validateSettings } from "./settings";
+import { smallOscillationOf } from "./small-oscillation";
 import type { MeasuredOverlay } from "./results-view";
 import { useSimulationWorker } from "./use-simulation-worker";
 
@@ -256,18 +257,6 @@ function guessPoint(definitions: string[], index: number): { x: string; y: strin
   const x = xs[index] ?? "";
   const y = x ? (definitions.find((d) => d.toLowerCase() === `y${x.slice(1).toLowerCase()}`) ?? "") : "";
   return { x, y };
-}
-
-/** The first mode of the linearization, when there is one and the Parameters cell's values are used. */
-function smallOscillationOf(results: NotebookResults | null, coordinates: string[]) {
-  const linearization = results?.linearization;
-  const selected = linearization?.selected;
-  const frequency = selected?.frequenciesHz[0];
-  if (!selected || frequency === undefined || !(frequency > 0) || !selected.stable) return null;
-  const equilibrium = linearization.equilibria[selected.index]?.values ?? {};
-  const modeShape = coordinates.map((_, i) => selected.modeShapes[i]?.[0] ?? 0);
-  if (modeShape.every((v) => v === 0)) return null;
-  return { expectedFrequency: 2 * Math.PI * frequency, equilibrium, modeShape };
 }
 
 export function SimulationCellView({ cell, results, readOnly, onOperation, document: doc, derivationId, onSettingsChange, onResetSettings, canStoreRuns = !readOnly }: SimulationCellProps) {
