@@ -1,13 +1,10 @@
-import { apiRoute } from "@/lib/api/route";
-import { loadDerivationFor } from "@/lib/auth/access";
-import { requireUser } from "@/lib/auth/session";
+import { derivationRoute } from "@/lib/api/resource-route";
 import { documentFromContent, modelFromDocument } from "@/lib/evaluation/document-content";
 import { downloadResponse } from "@/lib/api/download";
 import { codeExportInput, codeFileName, engineCodeLanguage } from "@/lib/evaluation/evaluate";
 import { engineErrorToAppError, evaluateDocumentCached } from "@/lib/evaluation/service";
 import { getEnginePool } from "@/lib/workers/engine-pool";
 import { parseOrThrow } from "@/lib/validation/parse";
-import { derivationIdOf } from "../derivation-id";
 import { codeQuerySchema } from "./schema";
 
 type Params = { id: string };
@@ -16,10 +13,7 @@ type Params = { id: string };
  * Downloads M, f, the accelerations and A, B as code. The engine writes the
  * safety note into the file's comment header.
  */
-export const GET = apiRoute<Params>(async (request, { params }) => {
-  const user = await requireUser();
-  const id = await derivationIdOf(params);
-  const { derivation } = await loadDerivationFor(user, id, "derivation:read");
+export const GET = derivationRoute<Params>("derivation:read", async ({ request, derivation }) => {
   const query = parseOrThrow(codeQuerySchema, Object.fromEntries(new URL(request.url).searchParams));
   const language = engineCodeLanguage(query.language);
   const document = documentFromContent(derivation.content, derivation.title);
