@@ -2,7 +2,6 @@
 import { afterEach, beforeAll, describe, expect, it, vi } from "vitest";
 import { cleanup, render, screen, within } from "@testing-library/react";
 import type { RunDisplay } from "@/components/notebook/simulation/run-view";
-import { trajectoryCsv } from "@/components/notebook/simulation/run-view";
 
 // jsdom has no canvas: a stand-in records what each chart was given.
 const charts: { title: string; seriesLabels: string[]; mode?: number; width: number }[] = [];
@@ -53,6 +52,7 @@ function syntheticRun(drift: number, failed = false): RunDisplay {
     rates: [times.map((t) => -Math.sin(t))],
     energy: times.map((_, k) => 0.5 * (1 + (drift * k) / (count - 1))),
     energyCheck: { relativeDrift: drift, threshold: 1e-5, warning: drift > 1e-5 },
+    coordinateUnits: { x: "m" },
   };
 }
 
@@ -100,14 +100,5 @@ describe("simulation results view", () => {
   it("overlays measured readings on the coordinate chart", () => {
     render(<ResultsView run={syntheticRun(1e-10)} measured={{ times: [0.05, 0.15], series: [{ coordinate: "x", measured: [0.99, 0.98] }] }} />);
     expect(charts.find((c) => c.title === "Coordinates")?.seriesLabels).toEqual(["x", "x measured"]);
-  });
-});
-
-describe("trajectory CSV", () => {
-  it("has one column per coordinate, rate and the energy", () => {
-    const csv = trajectoryCsv(syntheticRun(0)).split("\n");
-    expect(csv[0]).toBe("t,x,x',energy");
-    expect(csv[1]).toBe("0,1,0,0.5");
-    expect(csv).toHaveLength(101 + 2);
   });
 });
