@@ -1,6 +1,6 @@
 import { isAngleUnitText, MODEL_UNIT_SYMBOLS, parseUnitText, UnitError } from "../units";
 import { constantValue } from "./differentiate";
-import { ExpressionError, ModelError } from "./errors";
+import { ModelError } from "./errors";
 import type { Expr } from "./expr/ast";
 import { formatExpression, parseExpression } from "./expr/parse";
 import type { Model } from "./model";
@@ -87,13 +87,7 @@ export function formatDimension(d: Dimension): string {
  */
 export function unitOfExpression(expr: string | Expr, symbolUnits: Readonly<Record<string, string | Dimension>>, field = "expression"): Dimension | null {
   const text = typeof expr === "string" ? expr : null;
-  let tree: Expr;
-  try {
-    tree = typeof expr === "string" ? parseExpression(expr) : expr;
-  } catch (error) {
-    if (error instanceof ExpressionError) throw ModelError.fromExpression(field, error);
-    throw error;
-  }
+  const tree = typeof expr === "string" ? ModelError.inField(field, () => parseExpression(expr)) : expr;
   const lookup = (name: string): Dimension | undefined => {
     const u = symbolUnits[name];
     return u === undefined ? undefined : typeof u === "string" ? parseUnit(u, field) : u;
@@ -225,14 +219,7 @@ export function checkModelUnits(model: Model, equations?: readonly { coordinate:
     return unit;
   };
   function infer(text: string, field: string): Dimension | null {
-    let tree: Expr;
-    try {
-      tree = parseExpression(text);
-    } catch (error) {
-      if (error instanceof ExpressionError) throw ModelError.fromExpression(field, error);
-      throw error;
-    }
-    return new UnitInference(lookup, field, text).of(tree);
+    return new UnitInference(lookup, field, text).of(ModelError.inField(field, () => parseExpression(text)));
   }
   for (const name of definitions.keys()) lookup(name);
 
