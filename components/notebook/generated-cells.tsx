@@ -22,9 +22,7 @@ import {
 import { symbolLatex } from "@/lib/notebook/latex-preview";
 import type { NotebookResults } from "@/lib/notebook/results";
 import { MathView } from "./math";
-
-export const SAFETY_NOTE =
-  "Derived equations are a model. Before they drive real hardware or a safety-relevant decision, validate them against tests and the applicable codes and standards, under a qualified engineer's responsibility.";
+import { safetyNote } from "@/lib/domain";
 
 export interface GeneratedCellProps<C> {
   cell: C;
@@ -346,7 +344,7 @@ export function CodeExportCellView({ cell, results, evaluating, readOnly, onOper
         <pre className="hn-result-body max-h-96 overflow-auto rounded bg-sunken p-2 font-mono text-xs text-ink">{code.source}</pre>
       )}
       <p className="border-l-2 border-seal pl-2 text-xs text-muted" role="note">
-        {SAFETY_NOTE}
+        {safetyNote}
       </p>
     </div>
   );

@@ -14,11 +14,10 @@ import { useShortcut } from "@/components/shortcuts";
 import { Button } from "@/components/ui/button";
 import { StatusBadge } from "@/components/ui/status-badge";
 import { apiFetch } from "@/lib/api/fetcher";
-import type { DerivationStatus } from "@/lib/domain";
+import { safetyNote, type DerivationStatus } from "@/lib/domain";
 import { AppError, appErrorFromBody } from "@/lib/errors";
 import { applyOperation, documentToModel, parseStoredDocument, type DerivationDocument } from "@/lib/notebook/document";
 import { CELL_SHORTCUTS } from "./cell-frame";
-import { SAFETY_NOTE } from "./generated-cells";
 import { Notebook } from "./notebook";
 import { readDraft, removeDraft, useAutosave, type SaveFunction, type SaveStatus } from "./use-autosave";
 import { useEvaluation } from "./use-evaluation";
@@ -285,7 +284,7 @@ export function NotebookPage(props: NotebookPageProps) {
                     </p>
                   ) : null}
                   <p className="border-l-2 border-seal pl-2 text-xs text-muted" role="note" data-testid="export-safety-note">
-                    {SAFETY_NOTE}
+                    {safetyNote}
                   </p>
                 </div>
               ) : null}
