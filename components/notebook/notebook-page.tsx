@@ -15,6 +15,7 @@ import { Button } from "@/components/ui/button";
 import { StatusBadge } from "@/components/ui/status-badge";
 import { apiFetch } from "@/lib/api/fetcher";
 import { safetyNote, type DerivationStatus } from "@/lib/domain";
+import type { DerivationJson } from "@/lib/derivations/views";
 import { AppError, appErrorFromBody } from "@/lib/errors";
 import { applyOperation, documentToModel, parseStoredDocument, type DerivationDocument } from "@/lib/notebook/document";
 import { CELL_SHORTCUTS } from "./cell-frame";
@@ -37,7 +38,7 @@ export interface NotebookPageProps {
 }
 
 interface DerivationRecord {
-  derivation: { title: string; content: unknown; updatedAt: string; updatedByName?: string | null };
+  derivation: DerivationJson;
 }
 
 const timeFormat = new Intl.DateTimeFormat("en-GB", { timeStyle: "short" });
@@ -104,7 +105,7 @@ export function NotebookPage(props: NotebookPageProps) {
       // The dashboard lists the row's title; keep it in step with the document's.
       const title = document.title.trim();
       if (props.canRename && title && title !== rowTitle.current) {
-        const renamed = await apiFetch<{ derivation: { updatedAt: string; title: string } }>(`/api/derivations/${derivationId}`, { method: "PATCH", body: { title } });
+        const renamed = await apiFetch<DerivationRecord>(`/api/derivations/${derivationId}`, { method: "PATCH", body: { title } });
         rowTitle.current = renamed.derivation.title;
         updatedAt = renamed.derivation.updatedAt;
       }

@@ -1,5 +1,6 @@
 import { derivationRoute } from "@/lib/api/resource-route";
 import { evaluateDocumentCached } from "@/lib/evaluation/service";
+import type { LinearizationResponse } from "@/lib/evaluation/views";
 import { readOptionalJson } from "@/lib/api/optional-json";
 import { parseOrThrow } from "@/lib/validation/parse";
 import { documentForRequest } from "../content/schema";
@@ -17,7 +18,7 @@ export const POST = derivationRoute<Params>("derivation:read", async ({ request,
   const document = documentForRequest(input.document, derivation);
   const evaluation = await evaluateDocumentCached({ document, linearization: { equilibriumIndex: input.equilibriumIndex, inputValues: input.inputValues } });
   const { result } = evaluation;
-  return Response.json({
+  const answer: LinearizationResponse = {
     cached: evaluation.cached,
     modelHash: evaluation.modelHash,
     timings: evaluation.timings,
@@ -25,5 +26,6 @@ export const POST = derivationRoute<Params>("derivation:read", async ({ request,
     linearization: result.linearization ?? null,
     equilibria: result.equilibria ?? [],
     ...(result.linearizationNote ? { note: result.linearizationNote } : {}),
-  });
+  };
+  return Response.json(answer);
 });

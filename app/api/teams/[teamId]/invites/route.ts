@@ -9,15 +9,14 @@ import { AppError } from "@/lib/errors";
 import { absoluteUrl } from "@/lib/links";
 import { composeLinkMail, sendMail } from "@/lib/mailer";
 import { parseOrThrow } from "@/lib/validation/parse";
+import { inviteView } from "@/lib/teams/views";
 import { inviteMemberSchema } from "@/lib/validation/teams";
 
 type Params = { teamId: string };
 
 export const GET = teamRoute<Params>("team:invite", async ({ params: { teamId } }) => {
   const invites = await getOpenInvitesByTeamId({ teamId });
-  return Response.json({
-    invites: invites.map(({ id, email, role, expiresAt, createdAt }) => ({ id, email, role, expiresAt, createdAt })),
-  });
+  return Response.json({ invites: invites.map(inviteView) });
 });
 
 /** Invites someone by e-mail; the link in the message lets them join with the chosen role. */
