@@ -1,4 +1,4 @@
-import { CsvError, parse as parseCsv } from "csv-parse/browser/esm/sync";
+import Papa from "papaparse";
 import { parseUnitText, sameUnitDimension, siUnitText, type ParsedUnit, type UnitDimension } from "../units";
 import { MeasuredDataError } from "./errors";
 
@@ -25,8 +25,8 @@ import { MeasuredDataError } from "./errors";
  *   coordinate is written `[1]`.
  * - Cells are separated by commas; a header without commas may use
  *   semicolons or tabs instead, and the data rows then use the same. Cells may
- *   be wrapped in double quotes (then they may hold the delimiter); whitespace
- *   around a delimiter is ignored. Numbers use a decimal point (`1.5`, `-2e-3`).
+ *   be wrapped in double quotes (then, quoted from the cell's first character,
+ *   they may hold the delimiter); whitespace around a delimiter is ignored. Numbers use a decimal point (`1.5`, `-2e-3`).
  * - Every data row has one number per column: no empty cells, no `NaN`, no
  *   infinities. Time increases strictly from row to row.
  * - A time column and at least one coordinate column are required, and at
@@ -87,35 +87,63 @@ interface CsvRecord {
 }
 
 /**
- * The file's records through csv-parse: quoted cells may hold the delimiter,
- * whitespace around delimiters is dropped, `#` lines and blank lines are
- * skipped. Each record keeps its physical line number.
+ * The file's records through papaparse: quoted cells may hold the delimiter
+ * or a line break, `#` lines and blank lines are skipped, and each record
+ * keeps the physical line where it ends. papaparse opens a quote only at a
+ * cell's first character (RFC 4180), so a cell written `, "2"` is trimmed and
+ * unquoted here, as such files were read before.
  */
 function csvRecords(text: string, delimiter: string): CsvRecord[] {
-  let rows: { record: string[]; info: { lines: number } }[];
-  try {
-    // With `info`, each record comes as { record, info } (the typings do not model it).
-    rows = parseCsv(text, { delimiter, trim: true, comment: "#", comment_no_infix: true, skip_empty_lines: true, relax_column_count: true, info: true }) as unknown as typeof rows;
-  } catch (error) {
-    if (error instanceof CsvError) {
-      const line = typeof (error as { lines?: unknown }).lines === "number" ? (error as unknown as { lines: number }).lines : null;
-      throw new MeasuredDataError("syntax", csvProblem(error), line);
-    }
-    throw error;
-  }
-  return rows.flatMap(({ record, info }) => (record.length === 1 && record[0] === "" ? [] : [{ cells: record.map((cell) => cell.trim()), line: info.lines }]));
+  const records: CsvRecord[] = [];
+  let counted = 0;
+  let line = 1;
+  /** The 1-based line of a text index (indexes only grow, so the count runs once over the text). */
+  const lineAt = (index: number): number => {
+    for (; counted < index; counted++) if (text.charCodeAt(counted) === 10) line++;
+    return line;
+  };
+  let problem: MeasuredDataError | null = null;
+  Papa.parse<string[]>(text, {
+    delimiter,
+    newline: "\n",
+    comments: "#",
+    skipEmptyLines: "greedy",
+    step: (results, parser) => {
+      const error = results.errors[0];
+      if (error) {
+        problem = new MeasuredDataError("syntax", csvProblem(error), lineAt(error.index ?? results.meta.cursor));
+        parser.abort();
+        return;
+      }
+      const end = results.meta.cursor;
+      const rowEnd = end > 0 && text.charCodeAt(end - 1) === 10 ? end - 1 : end;
+      const cells = results.data.map(unquote);
+      // A comment indented by spaces is not papaparse's comment; skip it here.
+      if (cells[0]?.startsWith("#")) {
+        lineAt(end);
+        return;
+      }
+      records.push({ cells, line: lineAt(rowEnd) });
+    },
+  });
+  if (problem) throw problem;
+  return records;
 }
 
-function csvProblem(error: CsvError): string {
+function unquote(cell: string): string {
+  let value = cell.trim();
+  if (value.length >= 2 && value.startsWith('"') && value.endsWith('"')) value = value.slice(1, -1).trim();
+  return value;
+}
+
+function csvProblem(error: Papa.ParseError): string {
   switch (error.code) {
-    case "CSV_QUOTE_NOT_CLOSED":
+    case "MissingQuotes":
       return "a quoted cell is not closed";
-    case "INVALID_OPENING_QUOTE":
-      return "a quote appears inside a cell; quote the whole cell";
-    case "CSV_NON_TRIMABLE_CHAR_AFTER_CLOSING_QUOTE":
-      return "text follows a closing quote in the same cell";
+    case "InvalidQuotes":
+      return "a quote is misplaced inside a quoted cell (write a quote in a quoted cell as two quotes)";
     default:
-      return `the line does not read as CSV (${error.message.replace(/ at line \d+.*$/, "")})`;
+      return `the line does not read as CSV (${error.message})`;
   }
 }
 
