@@ -3,7 +3,7 @@ import { statusField, uuidField } from "./fields";
 
 export const derivationTitleField = z.string().trim().min(1, "Give the derivation a title.").max(160, "Use at most 160 characters.");
 
-// Content is the model file (DESIGN.md) for now; the notebook issue narrows it.
+// Content is a notebook document (lib/notebook/document.ts), or a model file in older rows.
 const contentField = z.record(z.string(), z.unknown());
 
 // Template ids are the notebook's (lib/notebook/templates.ts); the short
