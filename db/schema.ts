@@ -383,6 +383,18 @@ export interface StoredTrajectory {
   energy: number[] | null;
 }
 
+/** What a stored run keeps beside its trajectory (lib/runs/service.ts writes it). */
+export interface RunSummary {
+  /** Each coordinate's unit in the model the run used. */
+  coordinateUnits?: Record<string, string>;
+  parameterValues?: Record<string, number>;
+  stats?: { rhsEvaluations: number; acceptedSteps?: number; wallTimeMs: number; stepTolerance?: { relative: number; absolute: number } };
+  /** Present when the energy function was conserved, so its drift is a check. */
+  energyCheck?: { relativeDrift: number; maxDeviation?: number; reference?: number; threshold: number; warning: boolean } | null;
+  /** t, each coordinate and each rate (`q'`) at the last output time. */
+  finalState?: Record<string, number> | null;
+}
+
 // A simulation run on the server, kept with its settings so teammates see the
 // same plots. Small trajectories sit in `trajectory`; large ones in object
 // storage under `trajectoryKey` (exactly one of the two is set).
@@ -397,7 +409,7 @@ export const simulationRuns = pgTable(
     failureReason: text("failure_reason"),
     failureMessage: text("failure_message"),
     timeReached: doublePrecision("time_reached").notNull(),
-    summary: jsonb("summary").$type<Record<string, unknown>>().notNull().default({}),
+    summary: jsonb("summary").$type<RunSummary>().notNull().default({}),
     trajectory: jsonb("trajectory").$type<StoredTrajectory>(),
     trajectoryKey: text("trajectory_key"),
     pointCount: integer("point_count").notNull(),

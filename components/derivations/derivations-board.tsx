@@ -12,27 +12,13 @@ import { Notice } from "@/components/ui/notice";
 import { StatusBadge } from "@/components/ui/status-badge";
 import { apiFetch } from "@/lib/api/fetcher";
 import { can } from "@/lib/auth/permissions";
+import type { DerivationPageJson, DerivationSummaryJson } from "@/lib/derivations/views";
 import { derivationStatuses, roleLabels, statusLabels, type DerivationStatus, type MemberRole } from "@/lib/domain";
 import { DeleteDerivationDialog, DerivationTitleDialog } from "./derivation-dialogs";
 import { ImportDerivationDialog, NewDerivationDialog, type NewDerivationInput } from "./new-derivation-dialogs";
 
-export interface DerivationRow {
-  id: string;
-  title: string;
-  status: DerivationStatus;
-  ownerId: string | null;
-  ownerName: string | null;
-  updatedByName: string | null;
-  coordinatesCount: number;
-  updatedAt: string;
-}
-
-interface DerivationPage {
-  derivations: DerivationRow[];
-  page: number;
-  pageSize: number;
-  total: number;
-}
+export type DerivationRow = DerivationSummaryJson;
+type DerivationPage = DerivationPageJson;
 
 // Sorting, filtering and paging happen on the server (the table only shows one page),
 // so the table keeps the sorting state but no client-side sorted row model.

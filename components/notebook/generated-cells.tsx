@@ -23,10 +23,8 @@ import { symbolLatex } from "@/lib/notebook/latex-preview";
 import { STABILITY_RULE } from "@/lib/mechanics/stability-rule";
 import type { ModeView, NotebookResults } from "@/lib/notebook/results";
 import { MathView } from "./math";
+import { safetyNote } from "@/lib/domain";
 import { ViewChoiceNote } from "./view-choice";
-
-export const SAFETY_NOTE =
-  "Derived equations are a model. Before they drive real hardware or a safety-relevant decision, validate them against tests and the applicable codes and standards, under a qualified engineer's responsibility.";
 
 export interface GeneratedCellProps<C> {
   cell: C;
@@ -469,7 +467,7 @@ export function CodeExportCellView(props: GeneratedCellProps<CodeExportCell>) {
         <pre className="hn-result-body max-h-96 overflow-auto rounded bg-sunken p-2 font-mono text-xs text-ink">{code.source}</pre>
       )}
       <p className="border-l-2 border-seal pl-2 text-xs text-muted" role="note">
-        {SAFETY_NOTE}
+        {safetyNote}
       </p>
     </div>
   );

@@ -16,12 +16,12 @@ import { useShortcut } from "@/components/shortcuts";
 import { Button } from "@/components/ui/button";
 import { StatusBadge } from "@/components/ui/status-badge";
 import { apiFetch } from "@/lib/api/fetcher";
-import type { DerivationStatus } from "@/lib/domain";
+import { safetyNote, type DerivationStatus } from "@/lib/domain";
+import type { DerivationJson } from "@/lib/derivations/views";
 import { AppError, appErrorFromBody } from "@/lib/errors";
 import { applyOperation, documentToModel, parseStoredDocument, type DerivationDocument } from "@/lib/notebook/document";
 import { EMPTY_VIEW_PREFERENCES, personalCell, type ViewPreferences } from "@/lib/notebook/view-preferences";
 import { CELL_SHORTCUTS } from "./cell-frame";
-import { SAFETY_NOTE } from "./generated-cells";
 import { Notebook, type NotebookView } from "./notebook";
 import { OwnSimulation } from "./own-simulation";
 import { readDraft, removeDraft, useAutosave, type SaveFunction, type SaveStatus } from "./use-autosave";
@@ -48,7 +48,7 @@ export interface NotebookPageProps {
 }
 
 interface DerivationRecord {
-  derivation: { title: string; content: unknown; updatedAt: string; updatedByName?: string | null };
+  derivation: DerivationJson;
 }
 
 const timeFormat = new Intl.DateTimeFormat("en-GB", { timeStyle: "short" });
@@ -115,7 +115,7 @@ export function NotebookPage(props: NotebookPageProps) {
       // The dashboard lists the row's title; keep it in step with the document's.
       const title = document.title.trim();
       if (props.canRename && title && title !== rowTitle.current) {
-        const renamed = await apiFetch<{ derivation: { updatedAt: string; title: string } }>(`/api/derivations/${derivationId}`, { method: "PATCH", body: { title } });
+        const renamed = await apiFetch<DerivationRecord>(`/api/derivations/${derivationId}`, { method: "PATCH", body: { title } });
         rowTitle.current = renamed.derivation.title;
         updatedAt = renamed.derivation.updatedAt;
       }
@@ -331,7 +331,7 @@ export function NotebookPage(props: NotebookPageProps) {
                     </p>
                   ) : null}
                   <p className="border-l-2 border-seal pl-2 text-xs text-muted" role="note" data-testid="export-safety-note">
-                    {SAFETY_NOTE}
+                    {safetyNote}
                   </p>
                 </div>
               ) : null}

@@ -11,18 +11,12 @@ import { keepPreviousData, useQuery } from "@tanstack/react-query";
 import { useCallback, useEffect, useMemo, useState } from "react";
 import { apiFetch } from "@/lib/api/fetcher";
 import { AppError } from "@/lib/errors";
+import type { EvaluationResponse } from "@/lib/evaluation/views";
 import type { Model } from "@/lib/mechanics/model";
 import { coordinateNames, documentToModel, type DerivationDocument } from "@/lib/notebook/document";
 import type { ModelDiagnostic, NotebookResults } from "@/lib/notebook/results";
 
-export interface EvaluationResponse {
-  cached: boolean;
-  modelHash: string;
-  result: NotebookResults;
-  timings: Record<string, number>;
-  requestMs: number;
-  evaluatedAt: string;
-}
+export type { EvaluationResponse };
 
 export interface Evaluation {
   results: NotebookResults | null;

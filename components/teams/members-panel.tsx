@@ -11,22 +11,11 @@ import { Notice } from "@/components/ui/notice";
 import { apiFetch } from "@/lib/api/fetcher";
 import { memberRoles, roleDescriptions, roleLabels, type MemberRole } from "@/lib/domain";
 import { AppError } from "@/lib/errors";
+import type { InviteJson, MemberJson } from "@/lib/teams/views";
 import { inviteMemberSchema, type InviteMemberInput } from "@/lib/validation/teams";
 
-interface MemberRow {
-  userId: string;
-  email: string;
-  name: string;
-  role: MemberRole;
-  joinedAt: string;
-}
-
-interface InviteRow {
-  id: string;
-  email: string;
-  role: MemberRole;
-  expiresAt: string;
-}
+type MemberRow = MemberJson;
+type InviteRow = InviteJson;
 
 const dateFormat = new Intl.DateTimeFormat("en-GB", { dateStyle: "medium" });
 

@@ -1,8 +1,8 @@
 import "server-only";
 import { returnedRow } from "./returned-row";
 import { and, desc, eq, gt, isNull } from "drizzle-orm";
-import { AppError } from "@/lib/errors";
 import { db, type Executor } from "../client";
+import { ConflictError, NotFoundError, NotPermittedError } from "../errors";
 import { invites, teams, type Invite, type MemberRole, type Membership } from "../schema";
 import { recordAuditEvent } from "./audit";
 import { upsertMembership } from "./teams";
@@ -99,12 +99,12 @@ export async function acceptInviteByTokenHash({
 }): Promise<{ invite: Invite; membership: Membership }> {
   return db.transaction(async (tx) => {
     const [invite] = await tx.select().from(invites).where(eq(invites.tokenHash, tokenHash)).for("update").limit(1);
-    if (!invite) throw new AppError("not_found:invite", "This invite link is not valid.");
+    if (!invite) throw new NotFoundError("invite", "This invite link is not valid.");
     const state = inviteState(invite);
-    if (state === "used") throw new AppError("conflict:invite", "This invite has already been used.");
-    if (state === "expired") throw new AppError("conflict:invite", "This invite has expired. Ask a team lead for a new one.");
+    if (state === "used") throw new ConflictError("invite", "This invite has already been used.");
+    if (state === "expired") throw new ConflictError("invite", "This invite has expired. Ask a team lead for a new one.");
     if (invite.email !== normaliseEmail(userEmail)) {
-      throw new AppError("forbidden:invite", `This invite was sent to ${invite.email}. Sign in with that address to accept it.`);
+      throw new NotPermittedError("invite", `This invite was sent to ${invite.email}. Sign in with that address to accept it.`);
     }
     await tx.update(invites).set({ usedAt: new Date(), usedById: userId, updatedAt: new Date() }).where(eq(invites.id, invite.id));
     const existing = await tx.query.memberships.findFirst({

@@ -1,6 +1,7 @@
 import "server-only";
 import { getDerivationById } from "@/db/queries/derivations";
 import { getMembershipByTeamIdAndUserId, getTeamById } from "@/db/queries/teams";
+import { NotFoundError } from "@/db/errors";
 import type { Derivation, Membership, Team } from "@/db/schema";
 import { notFound } from "next/navigation";
 import { AppError, type ErrorSurface } from "@/lib/errors";
@@ -61,6 +62,7 @@ export async function orNotFound<T>(load: () => Promise<T>): Promise<T> {
     return await load();
   } catch (error) {
     if (error instanceof AppError && (error.kind === "not_found" || error.kind === "bad_request")) notFound();
+    if (error instanceof NotFoundError) notFound();
     throw error;
   }
 }

@@ -6,6 +6,7 @@
  * route and the demo seed can cache them in PostgreSQL.
  */
 import { createHash } from "node:crypto";
+import { fileBaseName } from "@/lib/files/names";
 import type { CodeExportInput, CodeLanguage } from "@/lib/mechanics/codegen";
 import type { DerivationResult } from "@/lib/mechanics/derive";
 import type { Equilibrium } from "@/lib/mechanics/equilibria";
@@ -74,7 +75,7 @@ export function engineCodeLanguage(language: CodeExportLanguage | CodeLanguage):
 }
 
 export function codeFileName(title: string, language: CodeLanguage): string {
-  const base = title.toLowerCase().replace(/[^a-z0-9]+/g, "_").replace(/^_+|_+$/g, "").slice(0, 60) || "model";
+  const base = fileBaseName(title, { separator: "_", fallback: "model", maxLength: 60 });
   return `${base}.${CODE_EXTENSION[language]}`;
 }
 

@@ -259,12 +259,7 @@ export function deriveCanonical(model: Model, options: DeriveOptions = {}): Cano
 }
 
 function convert(alg: Algebra, tree: Expr, field: string, resolve: (node: SymbolNode) => Poly): Poly {
-  try {
-    return toCanonical(alg, tree, resolve);
-  } catch (error) {
-    if (error instanceof ExpressionError) throw ModelError.fromExpression(field, error);
-    throw error;
-  }
+  return ModelError.inField(field, () => toCanonical(alg, tree, resolve));
 }
 
 /** Each definition's value, rate and acceleration, computed on demand in dependency order. */

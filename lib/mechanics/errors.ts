@@ -56,6 +56,21 @@ export class ModelError extends Error {
     return new ModelError(error.code, field, error.message, error.column, error.length);
   }
 
+  /**
+   * Runs `work` on one field's text; an ExpressionError it throws becomes a
+   * ModelError naming the field (same code, column and length).
+   *
+   * @example const tree = ModelError.inField("kinetic", () => parseExpression(model.kinetic));
+   */
+  static inField<T>(field: string, work: () => T): T {
+    try {
+      return work();
+    } catch (error) {
+      if (error instanceof ExpressionError) throw ModelError.fromExpression(field, error);
+      throw error;
+    }
+  }
+
   /** One line for a terminal: `kinetic, column 12: unknown symbol "l3"`. */
   toLine(): string {
     return this.column === null ? `${this.field}: ${this.message}` : `${this.field}, column ${this.column}: ${this.message}`;

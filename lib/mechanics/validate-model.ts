@@ -1,5 +1,5 @@
 import { z } from "zod";
-import { ExpressionError, ModelError } from "./errors";
+import { ModelError } from "./errors";
 import { RESERVED_NAMES, TIME, walk, type Expr } from "./expr/ast";
 import { parseExpression } from "./expr/parse";
 import type { Model } from "./model";
@@ -161,13 +161,7 @@ export function analyzeModel(model: Model, limits: ModelLimits = DEFAULT_MODEL_L
   });
 
   const parse = (text: string, field: string): Expr => {
-    let tree: Expr;
-    try {
-      tree = parseExpression(text);
-    } catch (error) {
-      if (error instanceof ExpressionError) throw ModelError.fromExpression(field, error);
-      throw error;
-    }
+    const tree = ModelError.inField(field, () => parseExpression(text));
     checkSymbols(tree, field, roles);
     return tree;
   };

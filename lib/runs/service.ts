@@ -14,6 +14,7 @@ import type { WorkerErrorPayload } from "@/lib/simulate/worker-protocol";
 import { deleteObject, getObjectBytes, putObject } from "@/lib/storage";
 import { getSimulationPool } from "@/lib/workers/simulation-pool";
 import type { FitTaskInput, FitTaskOutput, SimulateTaskInput, SimulateTaskOutput } from "./tasks";
+import type { FitJson } from "./views";
 import { INLINE_TRAJECTORY_VALUES, decimate, decimationStride, storedTrajectoryOf, valueCount } from "./trajectory";
 
 /** Time a worker may spend deriving and compiling before the integration's own clock starts. */
@@ -183,7 +184,7 @@ export interface FitRequest {
 }
 
 /** Fits parameters of the derivation's current model to a stored measured file, in the simulation pool. */
-export async function fitToMeasuredFile({ derivation, request }: { derivation: Derivation; request: FitRequest }) {
+export async function fitToMeasuredFile({ derivation, request }: { derivation: Derivation; request: FitRequest }): Promise<Omit<FitJson, "applied">> {
   if (request.file.kind !== "measured_csv") {
     throw new AppError("unprocessable:fit", "Choose a measured-data CSV to fit to.", { fieldErrors: { fileId: ["Not a measured-data file."] } });
   }

@@ -1,5 +1,6 @@
 // Public API of the simulation library (framework-free; runs in a Web Worker and in Node worker threads).
-// Worker entries are separate modules: browser-worker.ts and node-worker.ts.
+// The worker handler (worker-protocol.ts) serves the notebook's Web Worker (components/notebook/simulation);
+// the server runs simulations through lib/runs (tasks.ts in the simulation worker pool).
 export { SingularMatrixError, SimulationSetupError, MeasuredDataError, FitError } from "./errors";
 export type { SimulationSetupErrorCode, MeasuredDataErrorCode, FitErrorCode } from "./errors";
 export { createLuWorkspace, factorInPlace, substituteInPlace, solveInPlace, DEFAULT_SINGULAR_TOLERANCE } from "../numeric/linear-solve";

@@ -365,6 +365,14 @@ describe("server simulation runs", () => {
     const last = lines.at(-1)!.split(",").map(Number);
     expect(last[0]).toBe(10);
     expect(last[1]).toBe(run.trajectory.coordinates[0].at(-1));
+    expect(csv.headers.get("content-disposition")).toMatch(/^attachment; filename="[a-z0-9-]+-run-\d{4}-\d{2}-\d{2}T\d{2}-\d{2}-\d{2}\.csv"$/);
+
+    // The download is measured data as it stands: an analyst can attach it to the derivation again.
+    signInAs(kestrel.members.analyst);
+    const again = await upload(id, "run-export.csv", lines.join("\n"));
+    expect(again.status).toBe(201);
+    const { file } = await again.json();
+    expect(file.summary).toMatchObject({ timeUnit: "s", rowCount: 10001, columns: [{ coordinate: "theta", unit: "rad", targetUnit: "rad" }], timeSpan: { start: 0, end: 10 } });
   });
 
   it("keeps a large trajectory in object storage and serves it the same way", async () => {

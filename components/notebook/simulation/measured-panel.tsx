@@ -10,29 +10,10 @@ import { useCallback, useEffect, useMemo, useState } from "react";
 import { apiFetch } from "@/lib/api/fetcher";
 import { AppError, appErrorFromBody } from "@/lib/errors";
 import { documentSymbols, parseParameterValue, type DerivationDocument, type DocumentOperation } from "@/lib/notebook/document";
+import type { FileJson } from "@/lib/files/views";
+import type { FitJson } from "@/lib/runs/views";
 import type { MeasuredOverlay } from "./results-view";
 import type { RunRequest } from "./settings";
-
-interface FileJson {
-  id: string;
-  kind: "measured_csv" | "image";
-  originalName: string;
-  sizeBytes: number;
-  summary: { timeUnit: string; columns: { coordinate: string; unit: string }[]; rowCount: number; timeSpan: { start: number; end: number } } | null;
-  url: string;
-  createdAt: string;
-}
-
-interface FitResponse {
-  fit: {
-    status: string;
-    parameters: { name: string; initial: number; value: number; standardError: number | null; unit: string | null }[];
-    residualRms: number;
-    observations: number;
-    iterations: number;
-  };
-  overlay: MeasuredOverlay & { fileId: string };
-}
 
 interface FitRow {
   chosen: boolean;
@@ -81,7 +62,7 @@ export function MeasuredPanel({ derivationId, document: doc, readOnly, settings,
   const [busy, setBusy] = useState<string | null>(null);
   const [selected, setSelected] = useState<string>("");
   const [rows, setRows] = useState<Record<string, FitRow>>({});
-  const [fit, setFit] = useState<FitResponse | null>(null);
+  const [fit, setFit] = useState<FitJson | null>(null);
   const [fitError, setFitError] = useState<string | null>(null);
   const [applied, setApplied] = useState(false);
   const parameters = useMemo(() => {
@@ -162,7 +143,7 @@ export function MeasuredPanel({ derivationId, document: doc, readOnly, settings,
           ? { settings: { relativeTolerance: settings.relativeTolerance, absoluteTolerance: settings.absoluteTolerance, inputs: settings.inputs, parameters: settings.parameters } }
           : {}),
       };
-      const response = await apiFetch<FitResponse>(`/api/derivations/${derivationId}/fit`, { method: "POST", body });
+      const response = await apiFetch<FitJson>(`/api/derivations/${derivationId}/fit`, { method: "POST", body });
       setFit(response);
       onOverlay(response.overlay);
     } catch (error) {

@@ -10,7 +10,8 @@ import { useMemo } from "react";
 import { energyDrift, explainSmallOscillation } from "@/lib/simulate/checks";
 import { Chart, type ChartSeries } from "./chart";
 import { MechanismAnimation } from "./mechanism-animation";
-import { FAILURE_LABELS, trajectoryCsv, type RunDisplay } from "./run-view";
+import { trajectoryCsv } from "@/lib/simulate/trajectory-csv";
+import { FAILURE_LABELS, type RunDisplay } from "./run-view";
 
 export interface MeasuredOverlay {
   times: ArrayLike<number>;
@@ -75,7 +76,7 @@ export default function ResultsView({ run, measured }: ResultsViewProps) {
   const uncheckedDrift = useMemo(() => (!drift && run.energy && run.energy.length > 0 ? energyDrift(run.energy).relativeDrift : null), [drift, run]);
 
   function downloadCsv() {
-    const blob = new Blob([trajectoryCsv(run)], { type: "text/csv" });
+    const blob = new Blob([trajectoryCsv(run, run.coordinateUnits)], { type: "text/csv" });
     const url = URL.createObjectURL(blob);
     const link = document.createElement("a");
     link.href = url;

@@ -14,7 +14,8 @@ import { DocumentError, documentSymbols, documentToModel, type DerivationDocumen
 import type { NotebookResults } from "@/lib/notebook/results";
 import { ExpressionEditor } from "../editor/expression-editor";
 import { MeasuredPanel } from "./measured-panel";
-import { displayOfStoredRun, type RunDisplay, type StoredRunJson } from "./run-view";
+import type { RunJson } from "@/lib/runs/views";
+import { displayOfStoredRun, type RunDisplay } from "./run-view";
 import { validateSettings } from "./settings";
 import { smallOscillationOf } from "./small-oscillation";
 import type { MeasuredOverlay } from "./results-view";
@@ -264,7 +265,7 @@ export function SimulationCellView({ cell, results, readOnly, onOperation, docum
   const [attempted, setAttempted] = useState(false);
   const [problem, setProblem] = useState<string | null>(null);
   const [serverBusy, setServerBusy] = useState(false);
-  const [storedRuns, setStoredRuns] = useState<StoredRunJson[] | null>(null);
+  const [storedRuns, setStoredRuns] = useState<RunJson[] | null>(null);
   const [overlay, setOverlay] = useState<MeasuredOverlay | null>(null);
   const { state, start, cancel } = useSimulationWorker(setRun);
 
@@ -276,7 +277,7 @@ export function SimulationCellView({ cell, results, readOnly, onOperation, docum
   const loadRuns = useCallback(async () => {
     if (!derivationId) return;
     try {
-      const { runs } = await apiFetch<{ runs: StoredRunJson[] }>(`/api/derivations/${derivationId}/runs`);
+      const { runs } = await apiFetch<{ runs: RunJson[] }>(`/api/derivations/${derivationId}/runs`);
       setStoredRuns(runs);
     } catch {
       setStoredRuns([]);
@@ -320,7 +321,7 @@ export function SimulationCellView({ cell, results, readOnly, onOperation, docum
     if (!prepared || !derivationId) return;
     setServerBusy(true);
     try {
-      const { run: stored } = await apiFetch<{ run: StoredRunJson }>(`/api/derivations/${derivationId}/runs`, { method: "POST", body: prepared.request });
+      const { run: stored } = await apiFetch<{ run: RunJson }>(`/api/derivations/${derivationId}/runs`, { method: "POST", body: prepared.request });
       const display = displayOfStoredRun(stored);
       if (display) setRun(display);
       await loadRuns();
@@ -334,7 +335,7 @@ export function SimulationCellView({ cell, results, readOnly, onOperation, docum
   async function openRun(runId: string) {
     setProblem(null);
     try {
-      const { run: stored } = await apiFetch<{ run: StoredRunJson }>(`/api/derivations/${derivationId}/runs/${runId}`);
+      const { run: stored } = await apiFetch<{ run: RunJson }>(`/api/derivations/${derivationId}/runs/${runId}`);
       const display = displayOfStoredRun(stored);
       if (display) setRun(display);
       else setProblem("That run has no trajectory stored.");

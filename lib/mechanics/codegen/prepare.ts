@@ -3,6 +3,7 @@ import { ModelError } from "../errors";
 import { parseExpression } from "../expr/parse";
 import { residualJacobians } from "../jacobians";
 import { hoistCommonSubexpressions, printHoisted, type PrintedFunction, type Syntax } from "./cse";
+import { safetyNote } from "../../domain";
 
 export type CodeLanguage = "c" | "python" | "julia" | "matlab" | "typescript";
 export const CODE_LANGUAGES: readonly CodeLanguage[] = ["c", "python", "julia", "matlab", "typescript"];
@@ -35,8 +36,6 @@ export interface PreparedModel {
   print(syntax: Omit<Syntax, "variable">, reference: (slot: SlotReference) => string): { mass: PrintedFunction; forcing: PrintedFunction; jacobians: PrintedFunction };
 }
 
-export const SAFETY_NOTE =
-  "Derived equations are a model. Before they drive real hardware or a safety-relevant decision, validate them against tests and the applicable codes and standards, under a qualified engineer's responsibility.";
 
 export function prepareModel(input: CodeExportInput): PreparedModel {
   const coordinates = [...input.coordinates];
@@ -94,6 +93,7 @@ export function describeInterface(model: PreparedModel, base: 0 | 1): string[] {
     `Inputs u: ${list(model.inputs)}`,
     `Parameters p: ${model.parameters.map((p, i) => `${i + base}: ${p.name}${p.unit ? ` [${p.unit}]` : ""}${p.value === undefined ? " (no default)" : ` = ${p.value}`}`).join(", ") || "(none)"}`,
     `State-space matrices linearize q'' = M^-1 f at any state with x = [q; qd]: dx/dt ≈ A x + B u.`,
-    SAFETY_NOTE,
+    // The product's one safety note (lib/domain.ts, plain data), as on the pages and in the LaTeX export.
+    safetyNote,
   ];
 }

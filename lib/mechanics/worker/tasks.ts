@@ -1,5 +1,4 @@
 import { exportCode, type CodeExportInput, type CodeLanguage } from "../codegen";
-import { compileMassMatrixSystem } from "../compile";
 import { deriveModel, type DeriveOptions } from "../derive";
 import { findEquilibria, type EquilibriumOptions } from "../equilibria";
 import { toLatexTerms } from "../latex";
@@ -51,11 +50,5 @@ export const ENGINE_TASKS: Record<string, EngineTask> = {
   latex(payload) {
     const { expressions } = payload as { expressions: string[] };
     return expressions.map((text) => toLatexTerms(text));
-  },
-  /** { system, t, x, u } → { dxdt } or null when M is singular: one right-hand side, for checks from the server. */
-  stateDerivative(payload) {
-    const { system, t, x, u } = payload as { system: MechanicalSystem; t: number; x: number[]; u?: number[] };
-    const dxdt = new Float64Array(x.length);
-    return compileMassMatrixSystem(system).stateDerivative(t, x, u ?? [], dxdt) ? { dxdt: Array.from(dxdt) } : null;
   },
 };

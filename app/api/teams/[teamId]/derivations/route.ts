@@ -2,18 +2,14 @@ import { countDerivationsByTeamId, createDerivation, getDerivationsByTeamId } fr
 import { validDocumentOrThrow } from "@/lib/evaluation/document-content";
 import { blankDocument } from "@/lib/notebook/document";
 import { templateDocument } from "@/lib/notebook/templates";
-import { apiRoute, readJson } from "@/lib/api/route";
-import { loadTeamFor } from "@/lib/auth/access";
-import { requireUser } from "@/lib/auth/session";
+import { teamRoute } from "@/lib/api/resource-route";
+import { readJson } from "@/lib/api/route";
 import { createDerivationSchema, listDerivationsQuerySchema } from "@/lib/validation/derivations";
 import { parseOrThrow } from "@/lib/validation/parse";
 
 type Params = { teamId: string };
 
-export const GET = apiRoute<Params>(async (request, { params }) => {
-  const user = await requireUser();
-  const teamId = (await params).teamId;
-  await loadTeamFor(user, teamId, "derivation:read");
+export const GET = teamRoute<Params>("derivation:read", async ({ request, params: { teamId } }) => {
   const query = Object.fromEntries(new URL(request.url).searchParams);
   const filters = parseOrThrow(listDerivationsQuerySchema, query);
   const { page, pageSize, sort, direction, ...where } = filters;
@@ -24,10 +20,7 @@ export const GET = apiRoute<Params>(async (request, { params }) => {
   return Response.json({ derivations, page, pageSize, total });
 });
 
-export const POST = apiRoute<Params>(async (request, { params }) => {
-  const user = await requireUser();
-  const teamId = (await params).teamId;
-  await loadTeamFor(user, teamId, "derivation:create");
+export const POST = teamRoute<Params>("derivation:create", async ({ request, params: { teamId }, user }) => {
   const input = parseOrThrow(createDerivationSchema, await readJson(request));
   // A new derivation starts as a notebook document: blank, or from a template.
   const content = validDocumentOrThrow(

@@ -1,8 +1,6 @@
 import { createDerivation } from "@/db/queries/derivations";
 import { formDataOf, readBodyWithin } from "@/lib/api/body";
-import { apiRoute } from "@/lib/api/route";
-import { loadTeamFor } from "@/lib/auth/access";
-import { requireUser } from "@/lib/auth/session";
+import { teamRoute } from "@/lib/api/resource-route";
 import { modelErrorToAppError, validDocumentOrThrow } from "@/lib/evaluation/document-content";
 import { engineErrorToAppError } from "@/lib/evaluation/service";
 import { getEnginePool } from "@/lib/workers/engine-pool";
@@ -61,10 +59,7 @@ async function readUpload(request: Request): Promise<{ text: string; title?: str
  * (schema with field and reason, then units) before anything is written, and
  * the derivation is created in one transaction.
  */
-export const POST = apiRoute<Params>(async (request, { params }) => {
-  const user = await requireUser();
-  const teamId = (await params).teamId;
-  await loadTeamFor(user, teamId, "derivation:create");
+export const POST = teamRoute<Params>("derivation:create", async ({ request, params: { teamId }, user }) => {
   const upload = await readUpload(request);
   let raw: unknown;
   if ("text" in upload) {
