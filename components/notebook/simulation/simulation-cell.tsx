@@ -246,6 +246,13 @@ function guessPoint(definitions: string[], index: number): { x: string; y: strin
   return { x, y };
 }
 
+/** Each coordinate's unit as written in the Coordinates cell. */
+function coordinateUnitsOf(doc: DerivationDocument): Record<string, string> {
+  const units: Record<string, string> = {};
+  for (const c of doc.cells) if (c.kind === "coordinates") for (const row of c.rows) if (row.name.trim()) units[row.name.trim()] = row.unit.trim();
+  return units;
+}
+
 /** The first mode of the linearization, when there is one and the Parameters cell's values are used. */
 function smallOscillationOf(results: NotebookResults | null, coordinates: string[]) {
   const linearization = results?.linearization;
@@ -268,6 +275,7 @@ export function SimulationCellView({ cell, results, readOnly, onOperation, docum
   const { state, start, cancel } = useSimulationWorker(setRun);
 
   const symbols = useMemo(() => (doc ? documentSymbols(doc) : null), [doc]);
+  const coordinateUnits = useMemo(() => (doc ? coordinateUnitsOf(doc) : {}), [doc]);
   const settings = readSettings(cell.settings);
   const validation = symbols ? validateSettings(settings, symbols) : null;
   const errors = attempted && validation && !validation.ok ? validation.errors : {};
@@ -410,7 +418,7 @@ export function SimulationCellView({ cell, results, readOnly, onOperation, docum
       )}
       {run && (
         <Suspense fallback={<p className="text-sm text-muted">Loading charts…</p>}>
-          <ResultsView run={run} measured={overlay} />
+          <ResultsView run={run} measured={overlay} units={coordinateUnits} />
         </Suspense>
       )}
       {derivationId && (
