@@ -7,7 +7,7 @@ import type { DocumentSymbols } from "@/lib/notebook/document";
 import type { SimulationSettingsMessage } from "@/lib/simulate/worker-protocol";
 
 export interface PointPair {
-  /** Definition names giving x and y of one drawn point of the mechanism. */
+  /** Names giving x and y of one drawn point: a definition, a coordinate, or "0" for a fixed zero. */
   x: string;
   y: string;
 }
@@ -150,7 +150,9 @@ export function validateSettings(settings: SimulationCellSettings, symbols: Docu
   points.forEach((p, i) => {
     for (const axis of ["x", "y"] as const) {
       const name = p[axis].trim();
-      if (!symbols.definitions.includes(name)) errors[`points.${i}.${axis}`] = name === "" ? "Choose a definition." : `"${name}" is not a definition.`;
+      if (name !== "0" && !symbols.definitions.includes(name) && !symbols.coordinates.includes(name)) {
+        errors[`points.${i}.${axis}`] = name === "" ? "Choose a definition or coordinate." : `"${name}" is not a definition or coordinate.`;
+      }
     }
   });
 
