@@ -70,7 +70,7 @@ function explainGroup(group: NotIdentifiable, result: Pick<FitResult, "recordMov
     if (!result.recordMoves) {
       return {
         parameters: group.parameters,
-        why: `Nothing moves in the measured record (${listOf(measured)} stay constant), so ${names} ${several ? "have" : "has"} nothing to act on.`,
+        why: `Nothing moves in the measured record (${listOf(measured)} ${measured.length > 1 ? "stay" : "stays"} constant), so ${names} ${several ? "have" : "has"} nothing to act on.`,
         remedy: `Use a record in which the system moves: released from a displaced position or with an initial rate, or ${withInput}.`,
       };
     }

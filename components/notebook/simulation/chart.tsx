@@ -101,7 +101,7 @@ export function Chart({ title, xLabel, yLabel, x, series, xy, height = 220, test
       ticks: { stroke: look.grid, width: 1, size: 4 },
     };
     const axes: uPlot.Axis[] = [
-      { ...axis, label: xLabel },
+      { ...axis, label: xLabel, size: 28, labelSize: 16, labelGap: 2 },
       { ...axis, label: yLabel, size: 56 },
     ];
     const width = Math.max(200, Math.floor(element.clientWidth || 600));
@@ -130,6 +130,8 @@ export function Chart({ title, xLabel, yLabel, x, series, xy, height = 220, test
         height,
         scales: { x: { time: false } },
         axes,
+        // A quiet legend: names only, no "--" placeholders for values until the cursor moves.
+        legend: { show: true, live: false },
         series: [
           { label: xLabel },
           ...series.map((s, i) => {

@@ -197,12 +197,12 @@ export function MeasuredPanel({ derivationId, document: doc, readOnly, settings,
       <div className="mt-2 flex min-w-0 flex-col gap-3 text-sm">
         {!readOnly && (
           <div className="flex flex-wrap gap-3">
-            <label className="flex items-center gap-2">
-              <span>Upload measured CSV</span>
+            <label className="flex flex-wrap items-center gap-2">
+              <span className="whitespace-nowrap">Upload measured CSV</span>
               <input type="file" accept=".csv,text/csv" className="max-w-56 text-xs" onChange={(event) => void upload(event.target.files?.[0], "measured_csv")} />
             </label>
-            <label className="flex items-center gap-2">
-              <span>Attach sketch image</span>
+            <label className="flex flex-wrap items-center gap-2">
+              <span className="whitespace-nowrap">Attach sketch image</span>
               <input type="file" accept="image/png,image/jpeg,image/webp" className="max-w-56 text-xs" onChange={(event) => void upload(event.target.files?.[0], "image")} />
             </label>
           </div>
@@ -357,7 +357,7 @@ export function MeasuredPanel({ derivationId, document: doc, readOnly, settings,
               Residual RMS (fitted − measured) over {fit.fit.observations.toLocaleString("en-GB")} readings: {fit.fit.report.residuals.map((r) => r.text).join("; ")}.{" "}
               <span className="text-muted">{fit.fit.report.standardErrorNote}</span>
             </p>
-            {!readOnly && (
+            {!readOnly && fit.fit.status !== "unchanged" && (
               <button type="button" className="self-start rounded bg-action px-3 py-1 text-action-ink hover:bg-action-strong" onClick={applyFit} disabled={applied}>
                 {applied ? "Written to the Parameters cell" : "Write fitted values to the Parameters cell"}
               </button>

@@ -29,6 +29,11 @@ export function pointSourcesOf(doc: DerivationDocument): PointSources {
 
 const LENGTH_UNITS = new Set(["m", "mm", "cm", "km"]);
 
+/** A coordinate in a length unit can be drawn as a support moving along a track. */
+export function isLengthUnit(unit: string): boolean {
+  return LENGTH_UNITS.has(unit.trim());
+}
+
 /** The y partner's possible names for an x-like name: xL → yL, x1 → y1, bx → by, p_x → p_y. */
 function partnerNames(name: string): string[] {
   const names: string[] = [];
@@ -89,7 +94,7 @@ export function suggestPoints(sources: PointSources): PointPair[] {
     paired.add(name).add(partner);
   }
   for (const { name, unit } of sources.coordinates) {
-    if (!LENGTH_UNITS.has(unit)) continue;
+    if (!isLengthUnit(unit)) continue;
     points.push(isVertical(name) ? { x: FIXED_ZERO, y: name } : { x: name, y: FIXED_ZERO });
   }
   const dependencies = coordinateDependencies(sources);

@@ -14,7 +14,7 @@ import { DocumentError, documentSymbols, documentToModel, type DerivationDocumen
 import type { NotebookResults } from "@/lib/notebook/results";
 import { ExpressionEditor } from "../editor/expression-editor";
 import { MeasuredPanel } from "./measured-panel";
-import { FIXED_ZERO, nextPoint, pointSourcesOf } from "./mechanism-points";
+import { FIXED_ZERO, isLengthUnit, nextPoint, pointSourcesOf } from "./mechanism-points";
 import { displayOfStoredRun, type RunDisplay, type StoredRunJson } from "./run-view";
 import { readSettings, validateSettings, type SimulationCellSettings } from "./settings";
 import type { MeasuredOverlay } from "./results-view";
@@ -193,7 +193,7 @@ export function SimulationSettingsForm({
       )}
       <fieldset className="min-w-0">
         <legend className="mb-1 text-xs uppercase tracking-wide text-muted">Mechanism points (positions drawn as x, y)</legend>
-        {symbols.definitions.length === 0 && !pointSources.coordinates.some((c) => ["m", "mm", "cm", "km"].includes(c.unit)) ? (
+        {symbols.definitions.length === 0 && !pointSources.coordinates.some((c) => isLengthUnit(c.unit)) ? (
           <p className="text-sm text-muted">Add definitions of positions (or a coordinate in metres) to draw the mechanism.</p>
         ) : (
           <div className="flex flex-col gap-1.5">

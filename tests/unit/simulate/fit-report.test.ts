@@ -117,7 +117,7 @@ describe("fit explanations", () => {
     expect(result.recordMoves).toBe(false);
     const report = explainFit(result, { coordinateUnits: { x: "m" }, inputs: ["u"] });
     expect(report.outcome).toContain("already reproduce the data exactly");
-    expect(report.notIdentifiable[0]!.why).toContain("Nothing moves in the measured record (x stay");
+    expect(report.notIdentifiable[0]!.why).toContain("Nothing moves in the measured record (x stays constant)");
     expect(report.notIdentifiable[0]!.remedy).toContain("(u)");
   });
 

@@ -94,5 +94,7 @@ describe("measured data panel", () => {
     expect(groups.textContent).toContain("acts on theta, which is not in the file");
     expect(groups.textContent).toContain("Data that would identify it: Measure theta as well");
     expect(screen.getByTestId("fit-residual").textContent).toContain("x: 0.0021 m RMS");
+    // Starting values are not a result: nothing to write back.
+    expect(screen.queryByRole("button", { name: /Write fitted values/ })).toBeNull();
   });
 });
