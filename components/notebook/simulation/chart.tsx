@@ -65,6 +65,24 @@ function toArray(values: ArrayLike<number | null>): (number | null)[] {
   return Array.from(values, (v) => (v === null || Number.isFinite(v) ? v : null));
 }
 
+/**
+ * Tick labels that stay readable at any scale: plain decimals with as many
+ * places as the tick spacing needs, exponent form for very small or large
+ * values (an energy drift of 1e-10 would otherwise print as rows of "0").
+ */
+export function formatTicks(splits: readonly number[]): string[] {
+  const finite = splits.filter((v) => Number.isFinite(v));
+  if (finite.length === 0) return splits.map(String);
+  const step = finite.length > 1 ? Math.abs(finite[1]! - finite[0]!) : Math.abs(finite[0]!) || 1;
+  const largest = Math.max(...finite.map(Math.abs));
+  const exact = (format: (v: number) => string) => finite.every((v) => Math.abs(Number(format(v)) - v) <= 1e-6 * (step || largest || 1));
+  const exponent = largest >= 1e5 || (step > 0 && step < 1e-3);
+  let digits = 0;
+  const format = (v: number) => (exponent ? v.toExponential(digits) : v.toFixed(digits));
+  while (digits < 8 && !exact(format)) digits++;
+  return splits.map((v) => (v === 0 || Math.abs(v) < 1e-9 * step ? "0" : format(v).replace("e+", "e")));
+}
+
 /** Colour and dash of palette slot i: six colours, then the same six dashed, then dotted. */
 export function seriesStyle(palette: readonly string[], index: number): { stroke: string; dash: number[] | undefined } {
   return { stroke: palette[index % palette.length]!, dash: DASHES[Math.floor(index / palette.length) % DASHES.length] };
@@ -99,6 +117,7 @@ export function Chart({ title, xLabel, yLabel, x, series, xy, height = 220, test
       labelSize: 22,
       grid: { stroke: look.grid, width: 1 },
       ticks: { stroke: look.grid, width: 1, size: 4 },
+      values: (_plot, splits) => formatTicks(splits),
     };
     const axes: uPlot.Axis[] = [
       { ...axis, label: xLabel, size: 28, labelSize: 16, labelGap: 2 },
