@@ -180,7 +180,7 @@ print(json.dumps(out))
     );
     const results = JSON.parse(execFileSync(python, [path.join(dir, `${key}_driver.py`), JSON.stringify(states)], { encoding: "utf8" })) as Result[];
     states.forEach((c, k) => expectClose(results[k]!, engine(model, c), `Python case ${k}`));
-  });
+  }, 30_000);
 
   it("TypeScript runs under tsx and matches the engine to 1e-12", () => {
     writeFileSync(path.join(dir, `${key}-model.ts`), exportCode(model, "typescript"));
@@ -194,7 +194,8 @@ console.log(JSON.stringify(cases.map((c) => ({ M: model.massMatrix(c.q, c.qd, c.
     const tsx = path.resolve("node_modules/.bin/tsx");
     const results = JSON.parse(execFileSync(tsx, [path.join(dir, `${key}-driver.ts`), JSON.stringify(states)], { encoding: "utf8" })) as Result[];
     states.forEach((c, k) => expectClose(results[k]!, engine(model, c), `TypeScript case ${k}`));
-  });
+    // Starting tsx takes seconds on a busy two-core machine.
+  }, 30_000);
 });
 
 describe("exported code speaks the product's words", () => {
