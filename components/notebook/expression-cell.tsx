@@ -80,8 +80,9 @@ export function ForcesCellEditor({ cell, symbols, diagnostics = [], readOnly = f
         return (
           <div key={coordinate} className="min-w-0">
             <div className="flex items-start gap-2">
-              <span className="w-24 shrink-0 truncate pt-1.5 font-mono text-sm text-muted" aria-hidden="true">
-                Q[{coordinate}] =
+              <span className="w-24 shrink-0 truncate pt-1.5 text-sm text-muted" aria-hidden="true" data-testid={`force-label-${coordinate}`}>
+                <span className="italic">Q</span>
+                <sub className="font-mono">{coordinate}</sub> =
               </span>
               <ExpressionEditor
                 className="min-w-0 flex-1"

@@ -10,6 +10,7 @@ import { AppError } from "@/lib/errors";
 import { EngineLimitError } from "@/lib/mechanics/errors";
 import type { Model } from "@/lib/mechanics/model";
 import { updateRow, type DerivationDocument, type ParametersCell } from "@/lib/notebook/document";
+import { explainFit } from "@/lib/simulate/fit-report";
 import type { WorkerErrorPayload } from "@/lib/simulate/worker-protocol";
 import { deleteObject, getObjectBytes, putObject } from "@/lib/storage";
 import { getSimulationPool } from "@/lib/workers/simulation-pool";
@@ -223,7 +224,15 @@ export async function fitToMeasuredFile({ derivation, request }: { derivation: D
       iterations: result.iterations,
       simulations: result.simulations,
       covariance: result.covariance,
+      notIdentifiable: result.notIdentifiable,
+      recordMoves: result.recordMoves,
       wallTimeMs: result.wallTimeMs,
+      // The same sentences for every client: how it ended, residuals with units, what the data cannot determine.
+      report: explainFit(result, {
+        coordinateUnits: Object.fromEntries(measured.series.map((series) => [series.coordinate, series.targetUnit])),
+        inputs: (model.inputs ?? []).map((input) => input.name),
+        appliedInputs: Object.entries(request.settings?.inputs ?? {}).filter(([, expr]) => String(expr).trim() !== "").map(([name]) => name),
+      }),
     },
     overlay: {
       fileId: request.file.id,

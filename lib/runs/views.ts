@@ -5,7 +5,8 @@
  * safe to import on the client.
  */
 import type { RunSummary, SimulationRun, SimulationRunStatus, StoredTrajectory } from "@/db/schema";
-import type { FitStatus, FittedParameter } from "@/lib/simulate/fit";
+import type { FitStatus, FittedParameter, NotIdentifiable } from "@/lib/simulate/fit";
+import type { FitReport } from "@/lib/simulate/fit-report";
 
 export type { RunSummary } from "@/db/schema";
 
@@ -56,8 +57,12 @@ export interface FitJson {
     observations: number;
     iterations: number;
     simulations: number;
-    covariance: number[][] | null;
+    covariance: (number | null)[][] | null;
+    notIdentifiable: NotIdentifiable[];
+    recordMoves: boolean;
     wallTimeMs: number;
+    /** How the fit ended, the residuals with their units and what the data cannot determine, in words. */
+    report: FitReport;
   };
   overlay: {
     fileId: string;

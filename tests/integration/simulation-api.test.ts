@@ -517,6 +517,11 @@ describe("fitting to uploaded rig data", () => {
     const { fit, overlay, applied } = await response.json();
     expect(applied).toBeNull();
     expect(fit.status).toBe("converged");
+    // The result explains itself: how it ended, and the residual in the coordinate's unit.
+    expect(fit.report.outcome).toMatch(/^Converged after \d+ iterations/);
+    expect(fit.report.residuals).toEqual([expect.objectContaining({ coordinate: "z", unit: "m" })]);
+    expect(fit.report.residuals[0].text).toMatch(/^z: .* m RMS$/);
+    expect(fit.notIdentifiable).toEqual([]);
     const k = fit.parameters.find((p: { name: string }) => p.name === "k");
     const c = fit.parameters.find((p: { name: string }) => p.name === "c");
     // Stated tolerance: within 1 % of the true stiffness and 5 % of the true damping, and within

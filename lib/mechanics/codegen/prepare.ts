@@ -89,10 +89,11 @@ export function describeInterface(model: PreparedModel, base: 0 | 1): string[] {
   const list = (names: string[]) => names.map((name, i) => `${i + base}: ${name}`).join(", ") || "(none)";
   return [
     `${model.title} — equations of motion M(q, q', t, u) q'' = f(q, q', t, u), exported by Holonomy.`,
-    `Coordinates q (rates qd): ${list(model.coordinates)}`,
-    `Inputs u: ${list(model.inputs)}`,
-    `Parameters p: ${model.parameters.map((p, i) => `${i + base}: ${p.name}${p.unit ? ` [${p.unit}]` : ""}${p.value === undefined ? " (no default)" : ` = ${p.value}`}`).join(", ") || "(none)"}`,
-    `State-space matrices linearize q'' = M^-1 f at any state with x = [q; qd]: dx/dt ≈ A x + B u.`,
+    `Arguments: coordinates (q), rates (q'), accelerations (q''), parameters and inputs (u) are arrays in the order listed here; t is the time.`,
+    `Coordinates (rates in the same order): ${list(model.coordinates)}`,
+    `Inputs: ${list(model.inputs)}`,
+    `Parameters: ${model.parameters.map((p, i) => `${i + base}: ${p.name}${p.unit ? ` [${p.unit}]` : ""}${p.value === undefined ? " (no default)" : ` = ${p.value}`}`).join(", ") || "(none)"}`,
+    `State-space matrices linearize q'' = M^-1 f at any state with x = [coordinates; rates]: dx/dt ≈ A x + B u.`,
     // The product's one safety note (lib/domain.ts, plain data), as on the pages and in the LaTeX export.
     safetyNote,
   ];
