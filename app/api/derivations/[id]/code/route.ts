@@ -1,3 +1,4 @@
+import { auditExport } from "@/lib/api/audit-export";
 import { apiRoute } from "@/lib/api/route";
 import { readOptionalJson } from "@/lib/api/optional-json";
 import { loadDerivationFor } from "@/lib/auth/access";
@@ -24,6 +25,7 @@ export const GET = apiRoute<Params>(async (request, { params }) => {
   const query = parseOrThrow(codeQuerySchema, Object.fromEntries(new URL(request.url).searchParams));
   const document = documentFromContent(derivation.content, derivation.title);
   const code = await codeOfDocument({ document, language: engineCodeLanguage(query.language), fallbackTitle: derivation.title });
+  await auditExport({ actorId: user.id, derivation, format: "code", details: { language: code.language } });
   return downloadResponse(code.source, { filename: code.filename, contentType: "text/plain" });
 });
 

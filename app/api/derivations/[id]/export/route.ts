@@ -1,3 +1,4 @@
+import { auditExport } from "@/lib/api/audit-export";
 import { apiRoute } from "@/lib/api/route";
 import { loadDerivationFor } from "@/lib/auth/access";
 import { requireUser } from "@/lib/auth/session";
@@ -22,9 +23,11 @@ export const GET = apiRoute<Params>(async (request, { params }) => {
   if (!model.title.trim()) model.title = derivation.title;
   const base = fileBaseName(model.title || derivation.title);
   if (format === "model") {
+    await auditExport({ actorId: user.id, derivation, format });
     return downloadResponse(`${JSON.stringify(model, null, 2)}\n`, { filename: `${base}.model.json`, contentType: "application/json" });
   }
   // The equations come from the (cached) evaluation; a model that does not derive is a 422.
   const { result } = await evaluateDocumentCached({ document });
+  await auditExport({ actorId: user.id, derivation, format });
   return downloadResponse(latexDocument(model, result), { filename: `${base}.tex`, contentType: "application/x-tex" });
 });

@@ -1,4 +1,5 @@
 import { downloadResponse, fileBaseName } from "@/lib/api/download";
+import { auditExport } from "@/lib/api/audit-export";
 import { apiRoute } from "@/lib/api/route";
 import { loadDerivationFor } from "@/lib/auth/access";
 import { requireUser } from "@/lib/auth/session";
@@ -18,5 +19,6 @@ export const GET = apiRoute<Params>(async (_request, { params }) => {
   const id = await derivationIdOf(params);
   const { derivation } = await loadDerivationFor(user, id, "derivation:read");
   const { model } = recoverModel(derivation.content, derivation.title);
+  await auditExport({ actorId: user.id, derivation, format: "recovered-model" });
   return downloadResponse(`${JSON.stringify(model, null, 2)}\n`, { filename: `${fileBaseName(model.title)}.recovered.model.json`, contentType: "application/json" });
 });

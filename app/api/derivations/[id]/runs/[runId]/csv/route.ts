@@ -1,3 +1,4 @@
+import { auditExport } from "@/lib/api/audit-export";
 import { apiRoute } from "@/lib/api/route";
 import { loadDerivationFor } from "@/lib/auth/access";
 import { requireUser } from "@/lib/auth/session";
@@ -19,6 +20,7 @@ export const GET = apiRoute<Params>(async (_request, { params }) => {
   const trajectory = await trajectoryOfRun(run);
   if (!trajectory) throw new AppError("not_found:simulation", "The run's trajectory is missing from storage.");
   const units = (run.summary as { coordinateUnits?: Record<string, string> }).coordinateUnits ?? {};
+  await auditExport({ actorId: user.id, derivation, format: "trajectory-csv", details: { runId: run.id } });
   const name = safeFileName(`${derivation.title} run ${run.createdAt.toISOString().slice(0, 19).replace(/:/g, "-")}.csv`, "run.csv");
   return new Response(trajectoryCsv(trajectory, units), {
     headers: {
