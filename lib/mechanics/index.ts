@@ -45,3 +45,5 @@ export { exportCode, CODE_LANGUAGES } from "./codegen";
 export type { CodeExportInput, CodeLanguage } from "./codegen";
 export { solveAccelerations, ACCELERATIONS_MAX_SIZE } from "./accelerations";
 export type { AccelerationsResult, SolvedAcceleration } from "./accelerations";
+export { derivationReport } from "./report";
+export type { DerivationReport } from "./report";

@@ -3,6 +3,7 @@ import { deriveModel, type DeriveOptions } from "../derive";
 import { findEquilibria, type EquilibriumOptions } from "../equilibria";
 import { toLatexTerms } from "../latex";
 import { linearizeAbout, type MechanicalSystem, type OperatingPoint } from "../linearize";
+import { derivationReport } from "../report";
 import { checkModelUnits } from "../units";
 import { validateModel } from "../validate-model";
 
@@ -24,6 +25,11 @@ export const ENGINE_TASKS: Record<string, EngineTask> = {
     const result = deriveModel(model, options);
     if (units) checkModelUnits(model, result.equations);
     return result;
+  },
+  /** { model } → DerivationReport: the derivation CLI's output (the public API serves it). */
+  report(payload) {
+    const { model } = payload as { model: unknown };
+    return derivationReport(model);
   },
   /** { model } → { ok: true }; throws ModelError on a unit problem. */
   checkUnits(payload) {

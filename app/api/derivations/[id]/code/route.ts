@@ -1,3 +1,4 @@
+import { auditExport } from "@/lib/api/audit-export";
 import { readOptionalJson } from "@/lib/api/optional-json";
 import { derivationRoute } from "@/lib/api/resource-route";
 import { documentFromContent } from "@/lib/evaluation/document-content";
@@ -14,10 +15,11 @@ type Params = { id: string };
  * Downloads M, f, the accelerations and A, B as code. The engine writes the
  * safety note into the file's comment header.
  */
-export const GET = derivationRoute<Params>("derivation:read", async ({ request, derivation }) => {
+export const GET = derivationRoute<Params>("derivation:read", async ({ request, user, derivation }) => {
   const query = parseOrThrow(codeQuerySchema, Object.fromEntries(new URL(request.url).searchParams));
   const document = documentFromContent(derivation.content, derivation.title);
   const code = await codeOfDocument({ document, language: engineCodeLanguage(query.language), fallbackTitle: derivation.title });
+  await auditExport({ actorId: user.id, derivation, format: "code", details: { language: code.language } });
   return downloadResponse(code.source, { filename: code.filename, contentType: "text/plain" });
 });
 

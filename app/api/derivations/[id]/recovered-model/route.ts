@@ -1,4 +1,5 @@
 import { downloadResponse, fileBaseName } from "@/lib/api/download";
+import { auditExport } from "@/lib/api/audit-export";
 import { derivationRoute } from "@/lib/api/resource-route";
 import { recoverModel } from "@/lib/notebook/document";
 
@@ -10,7 +11,8 @@ type Params = { id: string };
  * values that are not numbers left symbolic. For readable content it is the
  * exported model file.
  */
-export const GET = derivationRoute<Params>("derivation:read", async ({ derivation }) => {
+export const GET = derivationRoute<Params>("derivation:read", async ({ user, derivation }) => {
   const { model } = recoverModel(derivation.content, derivation.title);
+  await auditExport({ actorId: user.id, derivation, format: "recovered-model" });
   return downloadResponse(`${JSON.stringify(model, null, 2)}\n`, { filename: `${fileBaseName(model.title)}.recovered.model.json`, contentType: "application/json" });
 });

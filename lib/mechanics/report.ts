@@ -1,0 +1,46 @@
+import { deriveModel, type ConservedQuantity } from "./derive";
+import { toLatex } from "./latex";
+import { checkModelUnits } from "./units";
+import { validateModel } from "./validate-model";
+
+/**
+ * A model's equations as the derivation CLI prints them and the public API
+ * serves them: plain data, expressions in the input syntax (`q'` rate, `q''`
+ * acceleration), LaTeX without the "= 0".
+ */
+export interface DerivationReport {
+  coordinates: string[];
+  equations: { coordinate: string; residual: string; latex: string }[];
+  /** M[i][j] = ∂residual_i/∂q_j''; symmetric. */
+  massMatrix: string[][];
+  /** f with residual = M q'' − f. */
+  forcing: string[];
+  /** The energy function h = Σ q'·∂L/∂q' − L. */
+  energy: string;
+  conserved: ConservedQuantity[];
+  /** In-process derivation time (ms). */
+  timingMs: number;
+}
+
+/**
+ * Validates `raw` as a model file, checks its units before and after deriving,
+ * and reports the equations. Throws ModelError (invalid model, unit mismatch)
+ * and EngineLimitError like `deriveModel`.
+ *
+ * @example derivationReport(JSON.parse(text)).equations[0].residual // "m*x'' + k*x"
+ */
+export function derivationReport(raw: unknown): DerivationReport {
+  const model = validateModel(raw);
+  checkModelUnits(model);
+  const result = deriveModel(model);
+  checkModelUnits(model, result.equations);
+  return {
+    coordinates: result.coordinates,
+    equations: result.equations.map((e) => ({ coordinate: e.coordinate, residual: e.residual, latex: toLatex(e.residual) })),
+    massMatrix: result.massMatrix,
+    forcing: result.forcing,
+    energy: result.energy,
+    conserved: result.conserved.map(({ name, expr, reason }) => ({ name, expr, reason })),
+    timingMs: Math.round(result.timing.totalMs * 100) / 100,
+  };
+}
