@@ -108,9 +108,14 @@ export const derivations = pgTable(
     // The model file (see DESIGN.md) until the notebook issue gives it structure.
     content: jsonb("content").$type<Record<string, unknown>>().notNull().default({}),
     updatedById: uuid("updated_by_id").references(() => users.id, { onDelete: "set null" }),
+    // Set when the derivation is moved to the team's trash. A trashed derivation is
+    // invisible everywhere but the trash list; it is removed for good (rows and
+    // stored objects) once TRASH_RETENTION_DAYS have passed (lib/derivations/trash.ts).
+    deletedAt: timestamp("deleted_at", { withTimezone: true }),
+    deletedById: uuid("deleted_by_id").references(() => users.id, { onDelete: "set null" }),
     ...timestamps,
   },
-  (table) => [index("derivations_team_idx").on(table.teamId, table.updatedAt)],
+  (table) => [index("derivations_team_idx").on(table.teamId, table.updatedAt), index("derivations_team_trash_idx").on(table.teamId, table.deletedAt)],
 );
 export type Derivation = typeof derivations.$inferSelect;
 export type NewDerivation = typeof derivations.$inferInsert;
@@ -271,3 +276,24 @@ export const simulationRuns = pgTable(
 );
 export type SimulationRun = typeof simulationRuns.$inferSelect;
 export type NewSimulationRun = typeof simulationRuns.$inferInsert;
+
+// Requests that create a derivation (create, import, notebook import) may carry an
+// `Idempotency-Key` header. The first request with a key records the derivation it
+// created; a repeat with the same key and the same request gets the same answer
+// instead of a second derivation. `fingerprint` is the SHA-256 of what was asked,
+// so the key cannot be reused for a different request. Keys expire after a day.
+export const idempotencyKeys = pgTable(
+  "idempotency_keys",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    userId: uuid("user_id").notNull().references(() => users.id, { onDelete: "cascade" }),
+    key: text("key").notNull(),
+    // e.g. "derivation.create", "derivation.import", "derivation.import_notebook"
+    operation: text("operation").notNull(),
+    fingerprint: text("fingerprint").notNull(),
+    derivationId: uuid("derivation_id").notNull().references(() => derivations.id, { onDelete: "cascade" }),
+    ...timestamps,
+  },
+  (table) => [uniqueIndex("idempotency_keys_user_key_idx").on(table.userId, table.key)],
+);
+export type IdempotencyKey = typeof idempotencyKeys.$inferSelect;

@@ -13,6 +13,9 @@ export const actions = [
   "derivation:edit",
   "derivation:rename",
   "derivation:delete",
+  "derivation:read-trash",
+  "derivation:restore",
+  "derivation:purge",
   "derivation:comment",
   "derivation:approve",
   "derivation:lock",
@@ -25,6 +28,8 @@ export type Action = (typeof actions)[number];
 export interface ResourceContext {
   /** Status of the derivation the action targets. */
   status?: DerivationStatus;
+  /** Whether the member asking owns the derivation (unknown counts as no). */
+  isOwner?: boolean;
 }
 
 type Rule = boolean | ((resource: ResourceContext | undefined) => boolean);
@@ -32,6 +37,10 @@ type Rule = boolean | ((resource: ResourceContext | undefined) => boolean);
 // An approved derivation is frozen for analysts; only a lead may change it
 // (for instance to reopen it). Rules as data: one row per action.
 const notApproved: Rule = (resource) => resource?.status !== "approved";
+// Deleting a colleague's work is a lead's decision; an analyst deletes (and
+// restores) only derivations they own.
+const ownNotApproved: Rule = (resource) => resource?.isOwner === true && resource.status !== "approved";
+const own: Rule = (resource) => resource?.isOwner === true;
 
 const rules: Record<Action, Record<MemberRole, Rule>> = {
   "team:read": { lead: true, analyst: true, reviewer: true, viewer: true },
@@ -41,7 +50,12 @@ const rules: Record<Action, Record<MemberRole, Rule>> = {
   "derivation:create": { lead: true, analyst: true, reviewer: false, viewer: false },
   "derivation:edit": { lead: true, analyst: notApproved, reviewer: false, viewer: false },
   "derivation:rename": { lead: true, analyst: notApproved, reviewer: false, viewer: false },
-  "derivation:delete": { lead: true, analyst: notApproved, reviewer: false, viewer: false },
+  // Deleting moves the derivation to the team's trash (restorable for TRASH_RETENTION_DAYS).
+  "derivation:delete": { lead: true, analyst: ownNotApproved, reviewer: false, viewer: false },
+  "derivation:read-trash": { lead: true, analyst: true, reviewer: false, viewer: false },
+  "derivation:restore": { lead: true, analyst: own, reviewer: false, viewer: false },
+  // Removing from the trash before the retention period ends cannot be undone.
+  "derivation:purge": { lead: true, analyst: false, reviewer: false, viewer: false },
   "derivation:comment": { lead: true, analyst: true, reviewer: true, viewer: false },
   "derivation:approve": { lead: true, analyst: false, reviewer: false, viewer: false },
   "derivation:lock": { lead: true, analyst: false, reviewer: false, viewer: false },

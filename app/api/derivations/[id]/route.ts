@@ -1,4 +1,5 @@
-import { deleteDerivationById, updateDerivationById } from "@/db/queries/derivations";
+import { trashDerivationById, updateDerivationById } from "@/db/queries/derivations";
+import { purgeExpiredTrash } from "@/lib/derivations/trash";
 import { apiRoute, readJson } from "@/lib/api/route";
 import { loadDerivationFor } from "@/lib/auth/access";
 import { assertCan, type Action } from "@/lib/auth/permissions";
@@ -41,10 +42,12 @@ export const PATCH = apiRoute<Params>(async (request, { params }) => {
   return Response.json({ derivation: updated });
 });
 
+/** Moves the derivation to its team's trash (owner or lead; restorable for TRASH_RETENTION_DAYS). */
 export const DELETE = apiRoute<Params>(async (_request, { params }) => {
   const user = await requireUser();
   const id = await derivationId(params);
-  await loadDerivationFor(user, id, "derivation:delete");
-  await deleteDerivationById({ id, actorId: user.id });
+  const { derivation } = await loadDerivationFor(user, id, "derivation:delete");
+  if (!(await trashDerivationById({ id, actorId: user.id }))) throw new AppError("not_found:derivation", "Derivation not found.");
+  await purgeExpiredTrash({ teamId: derivation.teamId });
   return new Response(null, { status: 204 });
 });
