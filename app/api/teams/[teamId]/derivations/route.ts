@@ -1,6 +1,7 @@
 import { countDerivationsByTeamId, createDerivation, getDerivationsByTeamId } from "@/db/queries/derivations";
 import { blankDocument } from "@/lib/notebook/document";
 import { templateDocument } from "@/lib/notebook/templates";
+import { beginCreateOnce, createdResponse, requestFingerprint } from "@/lib/api/idempotency";
 import { apiRoute, readJson } from "@/lib/api/route";
 import { loadTeamFor } from "@/lib/auth/access";
 import { requireUser } from "@/lib/auth/session";
@@ -28,12 +29,16 @@ export const POST = apiRoute<Params>(async (request, { params }) => {
   const teamId = (await params).teamId;
   await loadTeamFor(user, teamId, "derivation:create");
   const input = parseOrThrow(createDerivationSchema, await readJson(request));
+  // With an Idempotency-Key, a repeated request (a double click, a retry) answers with the first derivation.
+  const once = await beginCreateOnce({ request, userId: user.id, operation: "derivation.create", fingerprint: requestFingerprint(teamId, JSON.stringify(input)) });
+  if (once.earlier) return createdResponse({ derivation: once.earlier, replayed: true });
   // A new derivation starts as a notebook document: blank, or from a template.
   const content =
     input.content ??
     (input.template && input.template !== "blank"
       ? { ...templateDocument(input.template, { links: input.links }), title: input.title }
       : blankDocument(input.title));
-  const derivation = await createDerivation({ teamId, title: input.title, ownerId: user.id, content: content as unknown as Record<string, unknown> });
-  return Response.json({ derivation }, { status: 201 });
+  return createdResponse(
+    await once.create((idempotency) => createDerivation({ teamId, title: input.title, ownerId: user.id, content: content as unknown as Record<string, unknown>, idempotency })),
+  );
 });

@@ -1,5 +1,6 @@
 import { createDerivation } from "@/db/queries/derivations";
 import { formDataOf, readBodyWithin } from "@/lib/api/body";
+import { beginCreateOnce, createdResponse, requestFingerprint } from "@/lib/api/idempotency";
 import { apiRoute } from "@/lib/api/route";
 import { loadTeamFor } from "@/lib/auth/access";
 import { requireUser } from "@/lib/auth/session";
@@ -67,6 +68,10 @@ export const POST = apiRoute<Params>(async (request, { params }) => {
   const teamId = (await params).teamId;
   await loadTeamFor(user, teamId, "derivation:create");
   const upload = await readUpload(request);
+  // A repeated request with the same Idempotency-Key answers with the first import, before any checking.
+  const fingerprint = requestFingerprint(teamId, "text" in upload ? upload.text : JSON.stringify(upload.model ?? null), upload.title ?? "");
+  const once = await beginCreateOnce({ request, userId: user.id, operation: "derivation.import", fingerprint });
+  if (once.earlier) return createdResponse({ derivation: once.earlier, replayed: true });
   let raw: unknown;
   if ("text" in upload) {
     try {
@@ -91,6 +96,7 @@ export const POST = apiRoute<Params>(async (request, { params }) => {
   }
   const title = (options.title ?? model.title).trim().slice(0, 160) || "Imported derivation";
   const document = modelToDocument({ ...model, title });
-  const derivation = await createDerivation({ teamId, title, ownerId: user.id, content: document as unknown as Record<string, unknown> });
-  return Response.json({ derivation }, { status: 201 });
+  return createdResponse(
+    await once.create((idempotency) => createDerivation({ teamId, title, ownerId: user.id, content: document as unknown as Record<string, unknown>, idempotency })),
+  );
 });
