@@ -32,7 +32,8 @@ export type ErrorSurface =
   | "file"
   | "storage"
   | "simulation"
-  | "fit";
+  | "fit"
+  | "archive";
 
 export type ErrorCode = `${ErrorKind}:${ErrorSurface}`;
 
