@@ -103,10 +103,7 @@ export async function exportNotebookArchive(derivation: Derivation): Promise<{ b
 export function archiveProblemsToAppError(error: NotebookArchiveError): AppError {
   const fieldErrors: Record<string, string[]> = {};
   for (const problem of error.problems) (fieldErrors[problem.path] ??= []).push(problem.message);
-  const message =
-    error.problems.length === 1
-      ? `Nothing was imported: ${error.message}.`
-      : `Nothing was imported: the archive has ${error.problems.length} problems, listed below.`;
+  const message = error.problems.length === 1 ? `${error.message}.` : `The archive has ${error.problems.length} problems, listed below.`;
   return new AppError("unprocessable:archive", message, { fieldErrors, details: { problems: error.problems } });
 }
 
