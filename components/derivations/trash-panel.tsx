@@ -30,8 +30,9 @@ interface TrashPage {
 const dateFormat = new Intl.DateTimeFormat("en-GB", { dateStyle: "medium", timeStyle: "short" });
 const dayFormat = new Intl.DateTimeFormat("en-GB", { dateStyle: "medium" });
 
-function daysLeft(purgeAt: string, now: number): number {
-  return Math.max(0, Math.ceil((Date.parse(purgeAt) - now) / 86_400_000));
+/** Whole days (started days count) until `purgeAt`; never more than the retention period, whatever the clocks say. */
+function daysLeft(purgeAt: string, now: number, retentionDays: number): number {
+  return Math.min(retentionDays, Math.max(0, Math.ceil((Date.parse(purgeAt) - now) / 86_400_000)));
 }
 
 /**
@@ -43,8 +44,8 @@ export function TrashPanel({ teamId, role, currentUserId }: { teamId: string; ro
   const queryClient = useQueryClient();
   const [open, setOpen] = useState(false);
   const [purging, setPurging] = useState<TrashedRow | null>(null);
-  const [now] = useState(() => Date.now());
-  const { data, error, isPending } = useQuery({
+  // Days left are counted from when the list was read, not from when the panel mounted.
+  const { data, error, isPending, dataUpdatedAt } = useQuery({
     queryKey: trashKey(teamId),
     queryFn: ({ signal }) => apiFetch<TrashPage>(`/api/teams/${teamId}/trash`, { signal }),
   });
@@ -111,7 +112,7 @@ export function TrashPanel({ teamId, role, currentUserId }: { teamId: string; ro
               <tbody>
                 {rows.map((row) => {
                   const context = { status: row.status, isOwner: row.ownerId === currentUserId };
-                  const left = daysLeft(row.purgeAt, now);
+                  const left = daysLeft(row.purgeAt, dataUpdatedAt, data?.retentionDays ?? 30);
                   return (
                     <tr key={row.id} className="border-b border-line last:border-0">
                       <td className="px-3 py-2 font-medium">{row.title}</td>

@@ -40,14 +40,16 @@ const rows: TrashedRow[] = [
 ];
 
 let requests: { url: string; method: string }[];
+let listed: TrashedRow[];
 
 beforeEach(() => {
   requests = [];
+  listed = rows;
   vi.stubGlobal(
     "fetch",
     vi.fn(async (url: string, init: RequestInit) => {
       requests.push({ url, method: init.method ?? "GET" });
-      if ((init.method ?? "GET") === "GET") return new Response(JSON.stringify({ retentionDays: 30, derivations: rows }), { status: 200 });
+      if ((init.method ?? "GET") === "GET") return new Response(JSON.stringify({ retentionDays: 30, derivations: listed }), { status: 200 });
       return new Response(JSON.stringify({ derivation: { id: "d-own" } }), { status: 200 });
     }),
   );
@@ -58,14 +60,14 @@ afterEach(() => {
   vi.unstubAllGlobals();
 });
 
-async function openTrash(role: MemberRole) {
+async function openTrash(role: MemberRole, count = 2) {
   const client = new QueryClient({ defaultOptions: { queries: { retry: false } } });
   render(
     <QueryClientProvider client={client}>
       <TrashPanel teamId="team-1" role={role} currentUserId="me" />
     </QueryClientProvider>,
   );
-  await waitFor(() => expect(screen.getByTestId("trash-count").textContent).toBe("(2)"));
+  await waitFor(() => expect(screen.getByTestId("trash-count").textContent).toBe(`(${count})`));
   fireEvent.click(screen.getByRole("button", { name: /Trash/ }));
   return screen.getByTestId("trash-table");
 }
@@ -80,6 +82,14 @@ describe("TrashPanel", () => {
 
     fireEvent.click(within(table).getByRole("button", { name: "Restore Hoist drum brake" }));
     await waitFor(() => expect(requests).toContainEqual({ url: "/api/teams/team-1/trash/d-own/restore", method: "POST" }));
+  });
+
+  it("counts the days left from when the list was read and never shows more than the retention period", async () => {
+    // Deleted "in a minute" by the server's clock: a server a little ahead of the browser.
+    const ahead = new Date(Date.now() + 60_000);
+    listed = [{ ...rows[0]!, deletedAt: ahead.toISOString(), purgeAt: new Date(ahead.getTime() + 30 * DAY).toISOString() }];
+    const table = await openTrash("analyst", 1);
+    expect(table.textContent).toContain("(30 days left)");
   });
 
   it("lets a lead restore anything and delete for good after confirming", async () => {
