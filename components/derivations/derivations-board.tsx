@@ -86,7 +86,7 @@ export function DerivationsBoard({
   if (ownerFilter) params.set("ownerId", ownerFilter);
   if (searchTerm) params.set("search", searchTerm);
   const listKey = derivationListKey(teamId);
-  const { data, error, isPending, isFetching } = useQuery({
+  const { data, error, isPending, isFetching, dataUpdatedAt } = useQuery({
     queryKey: [...listKey, params.toString()],
     queryFn: ({ signal }) => apiFetch<DerivationPage>(`/api/teams/${teamId}/derivations?${params.toString()}`, { signal }),
     placeholderData: keepPreviousData,
@@ -95,7 +95,7 @@ export function DerivationsBoard({
   const [importing, setImporting] = useState(false);
   const [renaming, setRenaming] = useState<DerivationRow | null>(null);
   const [deleting, setDeleting] = useState<DerivationRow | null>(null);
-  const [trashed, setTrashed] = useState<DerivationRow | null>(null);
+  const [trashed, setTrashed] = useState<{ row: DerivationRow; at: number } | null>(null);
   const searchRef = useRef<HTMLInputElement>(null);
   const mayCreate = can(role, "derivation:create");
 
@@ -104,6 +104,10 @@ export function DerivationsBoard({
   useShortcut("i", "Import a model file", () => setImporting(true), mayCreate);
 
   const rows = data?.derivations ?? emptyRows;
+  // Listed again in an answer read after the deletion (restored from the trash panel, say): nothing left to undo.
+  useEffect(() => {
+    if (trashed && dataUpdatedAt > trashed.at && rows.some((row) => row.id === trashed.row.id)) setTrashed(null);
+  }, [rows, trashed, dataUpdatedAt]);
   const total = data?.total ?? 0;
   const pages = Math.max(1, Math.ceil(total / PAGE_SIZE));
   const filtered = Boolean(statusFilter || ownerFilter || searchTerm);
@@ -129,7 +133,7 @@ export function DerivationsBoard({
     mutationFn: (row: DerivationRow) => apiFetch(`/api/derivations/${row.id}`, { method: "DELETE" }),
     onSuccess: (_answer, row) => {
       setDeleting(null);
-      setTrashed(row);
+      setTrashed({ row, at: Date.now() });
       void queryClient.invalidateQueries({ queryKey: trashKey(teamId) });
       return refresh();
     },
@@ -208,10 +212,10 @@ export function DerivationsBoard({
       {trashed ? (
         <div className="flex flex-wrap items-center gap-3 rounded border border-line bg-surface px-3 py-2 text-sm" role="status" data-testid="trashed-notice">
           <span className="mr-auto">
-            Moved <strong>{trashed.title}</strong> to the team&apos;s trash.
+            Moved <strong>{trashed.row.title}</strong> to the team&apos;s trash.
             {undo.error ? <span className="text-danger"> Could not undo: {undo.error.message}</span> : null}
           </span>
-          <Button size="sm" onClick={() => undo.mutate(trashed)} disabled={undo.isPending}>
+          <Button size="sm" onClick={() => undo.mutate(trashed.row)} disabled={undo.isPending}>
             {undo.isPending ? "Restoring…" : "Undo"}
           </Button>
           <Button size="sm" variant="ghost" onClick={() => setTrashed(null)} aria-label="Dismiss">
