@@ -116,9 +116,14 @@ export const derivations = pgTable(
     lockedRevisionId: uuid("locked_revision_id"),
     lockedAt: timestamp("locked_at", { withTimezone: true }),
     lockedById: uuid("locked_by_id").references(() => users.id, { onDelete: "set null" }),
+    // Set when the derivation is moved to the team's trash. A trashed derivation is
+    // invisible everywhere but the trash list; it is removed for good (rows and
+    // stored objects) once TRASH_RETENTION_DAYS have passed (lib/derivations/trash.ts).
+    deletedAt: timestamp("deleted_at", { withTimezone: true }),
+    deletedById: uuid("deleted_by_id").references(() => users.id, { onDelete: "set null" }),
     ...timestamps,
   },
-  (table) => [index("derivations_team_idx").on(table.teamId, table.updatedAt)],
+  (table) => [index("derivations_team_idx").on(table.teamId, table.updatedAt), index("derivations_team_trash_idx").on(table.teamId, table.deletedAt)],
 );
 export type Derivation = typeof derivations.$inferSelect;
 export type NewDerivation = typeof derivations.$inferInsert;
@@ -441,3 +446,23 @@ export const viewPreferences = pgTable(
 );
 export type ViewPreferencesRow = typeof viewPreferences.$inferSelect;
 export type NewViewPreferencesRow = typeof viewPreferences.$inferInsert;
+// Requests that create a derivation (create, import, notebook import) may carry an
+// `Idempotency-Key` header. The first request with a key records the derivation it
+// created; a repeat with the same key and the same request gets the same answer
+// instead of a second derivation. `fingerprint` is the SHA-256 of what was asked,
+// so the key cannot be reused for a different request. Keys expire after a day.
+export const idempotencyKeys = pgTable(
+  "idempotency_keys",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    userId: uuid("user_id").notNull().references(() => users.id, { onDelete: "cascade" }),
+    key: text("key").notNull(),
+    // e.g. "derivation.create", "derivation.import", "derivation.import_notebook"
+    operation: text("operation").notNull(),
+    fingerprint: text("fingerprint").notNull(),
+    derivationId: uuid("derivation_id").notNull().references(() => derivations.id, { onDelete: "cascade" }),
+    ...timestamps,
+  },
+  (table) => [uniqueIndex("idempotency_keys_user_key_idx").on(table.userId, table.key)],
+);
+export type IdempotencyKey = typeof idempotencyKeys.$inferSelect;

@@ -39,7 +39,8 @@ export type ErrorSurface =
   | "token"
   | "revision"
   | "review"
-  | "notification";
+  | "notification"
+  | "archive";
 
 export type ErrorCode = `${ErrorKind}:${ErrorSurface}`;
 

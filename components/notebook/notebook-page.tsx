@@ -93,7 +93,7 @@ export function NotebookPage(props: NotebookPageProps) {
   const [notice, setNotice] = useState<string | null>(null);
   const [exportOpen, setExportOpen] = useState(false);
   const [exportError, setExportError] = useState<string | null>(null);
-  const [exporting, setExporting] = useState<"model" | "latex" | null>(null);
+  const [exporting, setExporting] = useState<"model" | "latex" | "notebook" | null>(null);
   const rowTitle = useRef(props.rowTitle);
   const docRef = useRef(doc);
   useEffect(() => {
@@ -210,7 +210,7 @@ export function NotebookPage(props: NotebookPageProps) {
     await autosave.overwrite(data.derivation.updatedAt);
   }
 
-  async function exportFile(format: "model" | "latex") {
+  async function exportFile(format: "model" | "latex" | "notebook") {
     setExportError(null);
     setExporting(format);
     try {
@@ -218,7 +218,7 @@ export function NotebookPage(props: NotebookPageProps) {
       if (canEdit && autosave.status.state !== "saved" && !(await autosave.saveNow())) {
         throw new Error("The latest changes are not saved yet, so the export would miss them. Save, then export again.");
       }
-      await download(`/api/derivations/${derivationId}/export?format=${format}`);
+      await download(format === "notebook" ? `/api/derivations/${derivationId}/export/notebook` : `/api/derivations/${derivationId}/export?format=${format}`);
       setExportOpen(false);
     } catch (error) {
       setExportError(error instanceof Error ? error.message : "The export failed.");
@@ -324,6 +324,15 @@ export function NotebookPage(props: NotebookPageProps) {
                   </Button>
                   <Button size="sm" className="w-full justify-start" onClick={() => void exportFile("latex")} disabled={exporting !== null} title="l">
                     {exporting === "latex" ? "Preparing…" : "LaTeX document (.tex)"}
+                  </Button>
+                  <Button
+                    size="sm"
+                    className="w-full justify-start"
+                    onClick={() => void exportFile("notebook")}
+                    disabled={exporting !== null}
+                    title="The whole notebook with its stored runs and files; import it from a team dashboard"
+                  >
+                    {exporting === "notebook" ? "Preparing…" : "Notebook archive (.notebook.zip)"}
                   </Button>
                   {exportError ? (
                     <p className="text-danger" role="alert">

@@ -79,7 +79,8 @@ function poolError(surface: "simulation" | "fit", error: unknown, limitMs: numbe
   return engineErrorToAppError(error);
 }
 
-function trajectoryKey(derivationId: string, runId: string): string {
+/** Where a large run's trajectory is stored. */
+export function trajectoryKey(derivationId: string, runId: string): string {
   return `derivations/${derivationId}/runs/${runId}/trajectory.json`;
 }
 

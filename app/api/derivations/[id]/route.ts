@@ -1,6 +1,7 @@
-import { deleteDerivationById, updateDerivationById } from "@/db/queries/derivations";
+import { trashDerivationById, updateDerivationById } from "@/db/queries/derivations";
 import { derivationRoute } from "@/lib/api/resource-route";
 import { readJson } from "@/lib/api/route";
+import { purgeExpiredTrash } from "@/lib/derivations/trash";
 import { assertCan, type Action } from "@/lib/auth/permissions";
 import { AppError } from "@/lib/errors";
 import { validDocumentOrThrow } from "@/lib/evaluation/document-content";
@@ -26,7 +27,9 @@ export const PATCH = derivationRoute<Params>("derivation:read", async ({ request
   return Response.json({ derivation: updated });
 });
 
+/** Moves the derivation to its team's trash (owner or lead; restorable for TRASH_RETENTION_DAYS). */
 export const DELETE = derivationRoute<Params>("derivation:delete", async ({ user, derivation }) => {
-  await deleteDerivationById({ id: derivation.id, actorId: user.id });
+  if (!(await trashDerivationById({ id: derivation.id, actorId: user.id }))) throw new AppError("not_found:derivation", "Derivation not found.");
+  await purgeExpiredTrash({ teamId: derivation.teamId });
   return new Response(null, { status: 204 });
 });

@@ -1,5 +1,6 @@
 import { createDerivation } from "@/db/queries/derivations";
 import { formDataOf, readBodyWithin } from "@/lib/api/body";
+import { beginCreateOnce, createdResponse, requestFingerprint } from "@/lib/api/idempotency";
 import { teamRoute } from "@/lib/api/resource-route";
 import { modelErrorToAppError, validDocumentOrThrow } from "@/lib/evaluation/document-content";
 import { engineErrorToAppError } from "@/lib/evaluation/service";
@@ -61,6 +62,10 @@ async function readUpload(request: Request): Promise<{ text: string; title?: str
  */
 export const POST = teamRoute<Params>("derivation:create", async ({ request, params: { teamId }, user }) => {
   const upload = await readUpload(request);
+  // A repeated request with the same Idempotency-Key answers with the first import, before any checking.
+  const fingerprint = requestFingerprint(teamId, "text" in upload ? upload.text : JSON.stringify(upload.model ?? null), upload.title ?? "");
+  const once = await beginCreateOnce({ request, userId: user.id, operation: "derivation.import", fingerprint });
+  if (once.earlier) return createdResponse({ derivation: once.earlier, replayed: true });
   let raw: unknown;
   if ("text" in upload) {
     try {
@@ -86,6 +91,5 @@ export const POST = teamRoute<Params>("derivation:create", async ({ request, par
   const title = (options.title ?? model.title).trim().slice(0, 160) || "Imported derivation";
   // The model file is the oldest stored version: the migrations turn it into a notebook document.
   const document = validDocumentOrThrow({ ...model, title }, { field: "file" });
-  const derivation = await createDerivation({ teamId, title, ownerId: user.id, content: document });
-  return Response.json({ derivation }, { status: 201 });
+  return createdResponse(await once.create((idempotency) => createDerivation({ teamId, title, ownerId: user.id, content: document, idempotency })));
 });
