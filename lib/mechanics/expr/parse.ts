@@ -258,7 +258,9 @@ function format(expr: Expr, parent: number): string {
       const p = PRECEDENCE[expr.op];
       // Left-associative operators need parentheses on a right operand of equal precedence;
       // ^ is right-associative, so it needs them on the left.
-      const left = format(expr.left, expr.op === "^" ? p + 1 : p);
+      // The parser reads `-a*b` as (−a)·b: a negated left factor needs no parentheses.
+      const leadingMinus = expr.left.kind === "neg" && (expr.op === "*" || expr.op === "/");
+      const left = leadingMinus ? format(expr.left, 0) : format(expr.left, expr.op === "^" ? p + 1 : p);
       const right = format(expr.right, expr.op === "^" ? 3 : p + 1);
       const text = `${left}${expr.op === "^" ? "^" : ` ${expr.op} `}${right}`.replace(/ ([*/]) /g, "$1");
       return p < parent ? `(${text})` : text;
