@@ -5,7 +5,7 @@
 import { readFileSync, statSync } from "node:fs";
 import { deriveModel } from "../lib/mechanics/derive";
 import { EngineLimitError, ModelError } from "../lib/mechanics/errors";
-import { toLatex } from "../lib/mechanics/latex";
+import { printDerivation } from "../lib/mechanics/print";
 import { checkModelUnits } from "../lib/mechanics/units";
 import { validateModel } from "../lib/mechanics/validate-model";
 
@@ -49,13 +49,15 @@ function main(): void {
     checkModelUnits(model);
     const result = deriveModel(model);
     checkModelUnits(model, result.equations);
+    // The edge: expressions printed once, text in the input syntax and LaTeX of the display form.
+    const printed = printDerivation(result);
     const output = {
-      coordinates: result.coordinates,
-      equations: result.equations.map((e) => ({ coordinate: e.coordinate, residual: e.residual, latex: toLatex(e.residual) })),
-      massMatrix: result.massMatrix,
-      forcing: result.forcing,
-      energy: result.energy,
-      conserved: result.conserved,
+      coordinates: printed.coordinates,
+      equations: printed.equations.map((e) => ({ coordinate: e.coordinate, residual: e.residual, latex: e.latex })),
+      massMatrix: printed.massMatrix,
+      forcing: printed.forcing,
+      energy: printed.energy,
+      conserved: printed.conserved.map(({ name, expr, reason }) => ({ name, expr, reason })),
       timingMs: Math.round(result.timing.totalMs * 100) / 100,
     };
     process.stdout.write(`${JSON.stringify(output, null, 2)}\n`);

@@ -16,14 +16,21 @@ import type { Poly, Term, Trig } from "./term";
  * @example formatExpression(polyToExpr(space, p)) // "m*l^2*theta'' + m*g*l*sin(theta)"
  */
 export function polyToExpr(space: SymbolSpace, p: Poly): Expr {
-  return sum(orderedTerms(space, p).map((t) => ({ negative: C.toNumber(t.c) < 0, term: termMagnitude(space, t) })));
+  return sum(orderedRows(space, p).map((row) => ({ negative: C.toNumber(row.term.c) < 0, term: row.magnitude })));
 }
 
 /** The terms of a sum in output order: acceleration terms first (by coordinate), then rate terms, then the rest; by text within each. */
 export function orderedTerms(space: SymbolSpace, p: Poly): Term[] {
-  const rows = [...p.values()].map((t) => ({ term: t, text: formatExpression(termMagnitude(space, t)), order: termOrder(space, t) }));
+  return orderedRows(space, p).map((row) => row.term);
+}
+
+function orderedRows(space: SymbolSpace, p: Poly): { term: Term; magnitude: Expr }[] {
+  const rows = [...p.values()].map((term) => {
+    const magnitude = termMagnitude(space, term);
+    return { term, magnitude, text: formatExpression(magnitude), order: termOrder(space, term) };
+  });
   rows.sort((a, b) => a.order - b.order || (a.text < b.text ? -1 : a.text > b.text ? 1 : 0));
-  return rows.map((r) => r.term);
+  return rows;
 }
 
 /** Accelerations (by coordinate), then rates, then coordinates, then time, then constants and inputs. */
@@ -54,7 +61,12 @@ export function termToExpr(space: SymbolSpace, t: Term): Expr {
 }
 
 /** |coefficient| × factors × sin/cos over the denominator. */
-function termMagnitude(space: SymbolSpace, t: Term): Expr {
+export function termMagnitude(space: SymbolSpace, t: Term): Expr {
+  return quotient(termParts(space, t));
+}
+
+/** The factors of a term's magnitude: the number first, then the factors by kind, then sin or cos; over the denominator. */
+export function termParts(space: SymbolSpace, t: Term): { numerator: Expr[]; denominator: Expr[] } {
   const numerator: Expr[] = [];
   const denominator: Expr[] = [];
   const factors: [number, number][] = [];
@@ -73,12 +85,38 @@ function termMagnitude(space: SymbolSpace, t: Term): Expr {
     const magnitude = Math.abs(C.toNumber(t.c));
     if (magnitude !== 1 || numerator.length === 0) numerator.unshift(num(magnitude));
   }
-  const top = product(numerator);
-  return denominator.length === 0 ? top : bin("/", top, product(denominator));
+  return { numerator, denominator };
+}
+
+/** Π numerator / Π denominator (no bar when the denominator is empty); a factor 1 beside others is dropped. */
+export function quotient({ numerator, denominator }: { numerator: readonly Expr[]; denominator: readonly Expr[] }): Expr {
+  const one = (e: Expr) => e.kind === "num" && e.value === 1;
+  const top = numerator.length > 1 && numerator.some(one) ? numerator.filter((e) => !one(e)) : numerator;
+  const bottom = denominator.some(one) ? denominator.filter((e) => !one(e)) : denominator;
+  return bottom.length === 0 ? product(top) : bin("/", product(top), product(bottom));
+}
+
+/**
+ * Trees of factors and sines already built, per symbol table: a derivation
+ * writes the same few thousands of times. Trees are never changed after they
+ * are built, so results may share them.
+ */
+const built = new WeakMap<SymbolSpace, Map<string, Expr>>();
+
+function memo(space: SymbolSpace, key: string, make: () => Expr): Expr {
+  let cache = built.get(space);
+  if (cache === undefined) built.set(space, (cache = new Map()));
+  let tree = cache.get(key);
+  if (tree === undefined) cache.set(key, (tree = make()));
+  return tree;
 }
 
 /** One factor of a term, symbol `id` to the power `e` (> 0). */
 export function factorToExpr(space: SymbolSpace, id: number, e: number): Expr {
+  return memo(space, `${id}^${e}`, () => buildFactor(space, id, e));
+}
+
+function buildFactor(space: SymbolSpace, id: number, e: number): Expr {
   const entry = space.entry(id);
   switch (entry.kind) {
     case "function":
@@ -121,17 +159,26 @@ export function toFraction(x: number): [number, number] {
 
 /** sin or cos of an angle combination: `cos(theta1 - theta2)`, `sin(omega*t + phi)`. */
 export function trigToExpr(space: SymbolSpace, g: Trig): Expr {
+  return memo(space, g.key, () => buildTrig(space, g));
+}
+
+function buildTrig(space: SymbolSpace, g: Trig): Expr {
+  return call(g.sin ? "sin" : "cos", comboToExpr(space, g.combo));
+}
+
+/** An angle combination Σ c·b as a sum: `theta1 - theta2`, `2*omega*t + phi`. */
+export function comboToExpr(space: SymbolSpace, combo: readonly number[]): Expr {
   const members: { negative: boolean; term: Expr }[] = [];
-  for (let i = 0; i < g.combo.length; i += 2) {
-    const entry = space.entry(g.combo[i]!);
-    const c = g.combo[i + 1]!;
+  for (let i = 0; i < combo.length; i += 2) {
+    const entry = space.entry(combo[i]!);
+    const c = combo[i + 1]!;
     const magnitude = Math.abs(c);
     let body: Expr;
     if (entry.kind === "one") {
       const [p, q] = toFraction(magnitude);
       body = Number.isFinite(q) && q !== 1 ? bin("/", num(p), num(q)) : num(magnitude);
     } else {
-      const angle = entry.kind === "phase" ? phaseToExpr(space, entry.phase!) : entry.kind === "pi" ? pi() : sym(entry.name);
+      const angle = angleToExpr(space, combo[i]!);
       const [p, q] = toFraction(magnitude);
       if (!Number.isFinite(q)) body = times(num(magnitude), angle);
       else {
@@ -141,7 +188,13 @@ export function trigToExpr(space: SymbolSpace, g: Trig): Expr {
     }
     members.push({ negative: c < 0, term: body });
   }
-  return call(g.sin ? "sin" : "cos", sum(members));
+  return sum(members);
+}
+
+/** One member of an angle combination: a coordinate or parameter, π, or a phase. */
+export function angleToExpr(space: SymbolSpace, id: number): Expr {
+  const entry = space.entry(id);
+  return entry.kind === "phase" ? phaseToExpr(space, entry.phase!) : entry.kind === "pi" ? pi() : sym(entry.name);
 }
 
 /** monomial·t: `omega*t`, `t/tau`, `t`. */

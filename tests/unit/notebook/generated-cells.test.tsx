@@ -9,6 +9,7 @@ import type { NotebookResults } from "@/lib/notebook/results";
 import { templateModel } from "@/lib/notebook/templates";
 import { toLatexTerms } from "@/lib/mechanics/latex";
 import { deriveModel } from "@/lib/mechanics/derive";
+import { printDerivation } from "@/lib/mechanics/print";
 
 afterEach(cleanup);
 // Editors lint after a pause and KaTeX loads on first use; allow for a busy machine.
@@ -46,12 +47,12 @@ describe("equations cell", () => {
   });
 
   it("renders the long equations of a 5-link chain without a KaTeX error", async () => {
-    const derived = deriveModel(templateModel("n-link-chain", { links: 5 }));
-    const chain: NotebookResults = { equations: derived.equations.map((e) => ({ coordinate: e.coordinate, residual: e.residual, latex: `${toLatexTerms(e.residual).latex} = 0` })) };
+    const derived = printDerivation(deriveModel(templateModel("n-link-chain", { links: 5 })));
+    const chain: NotebookResults = { equations: derived.equations.map((e) => ({ coordinate: e.coordinate, residual: e.residual, latex: `${e.termLatex} = 0` })) };
     const { container } = render(<EquationsCellView cell={cell} results={chain} onOperation={() => {}} />);
     await typeset(container);
     expect(container.querySelectorAll(".katex-error")).toHaveLength(0);
-    const perEquation = derived.equations.map((e) => toLatexTerms(e.residual).terms.length);
+    const perEquation = derived.equations.map((e) => e.terms.length);
     expect(container.querySelectorAll("[data-term]")).toHaveLength(perEquation.reduce((a, b) => a + b, 0));
     // jsdom parses KaTeX's large HTML slowly; the browser renders this in well under a second.
   }, 30_000);

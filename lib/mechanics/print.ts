@@ -1,0 +1,101 @@
+import type { AccelerationsResult } from "./accelerations";
+import type { DerivationResult, DerivationTiming, HamiltonianResult } from "./derive";
+import type { Expr } from "./expr/ast";
+import { formatExpression } from "./expr/parse";
+import { toLatex, toLatexTerms, type LatexTerm } from "./latex";
+import { topLevelTerms } from "./terms";
+
+/** An equation printed: the canonical residual as text, the display form as LaTeX, plain and with its terms marked. */
+export interface PrintedEquation {
+  coordinate: string;
+  /** The canonical residual in the input syntax. */
+  residual: string;
+  /** LaTeX of the display form (without "= 0"). */
+  latex: string;
+  /** The same LaTeX with each top-level term wrapped in \htmlData{term=ID}{…} (see toLatexTerms). */
+  termLatex: string;
+  terms: LatexTerm[];
+}
+
+/**
+ * A derivation printed where it leaves the engine: every expression as text
+ * in the input syntax (canonical form, for computing and comparing) and the
+ * expressions a reader looks at also as LaTeX (display form). This is what
+ * the engine worker's `derive` task answers with and what the derivation CLI
+ * prints from; a caller in the engine's own thread keeps the trees instead.
+ */
+export interface PrintedDerivation {
+  coordinates: string[];
+  equations: PrintedEquation[];
+  massMatrix: string[][];
+  forcing: string[];
+  energy: string;
+  /** LaTeX of M, f and h in display form. */
+  latex: { massMatrix: string[][]; forcing: string[]; energy: string };
+  momenta: { coordinate: string; expr: string }[];
+  cyclic: string[];
+  freeCoordinates: string[];
+  conserved: { name: string; expr: string; latex: string; reason: string }[];
+  explicitTime: boolean;
+  hamiltonian: { available: true; expr: string; momenta: { coordinate: string; symbol: string }[] } | { available: false; reason: string };
+  /** q'' = expr (LaTeX of the right-hand side), or why there is no closed form. */
+  accelerations: { coordinate: string; expr: string; latex: string }[] | { available: false; reason: string };
+  timing: DerivationTiming;
+}
+
+/**
+ * Prints a derivation once: text with formatExpression, LaTeX with toLatex.
+ *
+ * @example printDerivation(deriveModel(model)).equations[0].residual // "m*l^2*theta'' + m*g*l*sin(theta)"
+ */
+export function printDerivation(result: DerivationResult): PrintedDerivation {
+  const text = (e: Expr) => formatExpression(e);
+  return {
+    coordinates: result.coordinates,
+    equations: result.equations.map((equation) => {
+      const marked = toLatexTerms(equation.display);
+      return { coordinate: equation.coordinate, residual: text(equation.residual), latex: toLatex(equation.display), termLatex: marked.latex, terms: marked.terms };
+    }),
+    massMatrix: result.massMatrix.map((row) => row.map(text)),
+    forcing: result.forcing.map(text),
+    energy: text(result.energy),
+    latex: {
+      massMatrix: result.display.massMatrix.map((row) => row.map((e) => toLatex(e))),
+      forcing: result.display.forcing.map((e) => toLatex(e)),
+      energy: toLatex(result.display.energy),
+    },
+    momenta: result.momenta.map((p) => ({ coordinate: p.coordinate, expr: text(p.expr) })),
+    cyclic: result.cyclic,
+    freeCoordinates: result.freeCoordinates,
+    conserved: result.conserved.map((q) => ({ name: q.name, expr: text(q.expr), latex: toLatex(q.display), reason: q.reason })),
+    explicitTime: result.explicitTime,
+    hamiltonian: printHamiltonian(result.hamiltonian),
+    accelerations: printAccelerations(result.accelerations),
+    timing: result.timing,
+  };
+}
+
+function printHamiltonian(h: HamiltonianResult): PrintedDerivation["hamiltonian"] {
+  return h.available ? { available: true, expr: formatExpression(h.expr), momenta: h.momenta } : h;
+}
+
+function printAccelerations(a: AccelerationsResult): PrintedDerivation["accelerations"] {
+  if (!Array.isArray(a)) return a;
+  return a.map((solved) => ({ coordinate: solved.coordinate, expr: formatExpression(solved.expr), latex: quotientLatex(solved.display) }));
+}
+
+/** Numerators longer than this are written (1/D)·(N), so that N can break between its terms. */
+const FRACTION_MAX_TERMS = 4;
+
+/**
+ * N/D as \frac{N}{D}, or for a long N as \frac{1}{D}\Bigl(N\Bigr): a fraction
+ * bar cannot break over lines, the terms inside fixed-size parentheses can.
+ *
+ * @example quotientLatex(parseExpression("(a + b + c + d + e)/m")) // "\\frac{1}{m}\\Bigl(a + b + c + d + e\\Bigr)"
+ */
+export function quotientLatex(e: Expr): string {
+  if (e.kind === "bin" && e.op === "/" && topLevelTerms(e.left).length > FRACTION_MAX_TERMS) {
+    return `\\frac{1}{${toLatex(e.right)}}\\Bigl(${toLatex(e.left)}\\Bigr)`;
+  }
+  return toLatex(e);
+}
