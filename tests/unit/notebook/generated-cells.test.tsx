@@ -54,6 +54,18 @@ describe("equations cell", () => {
     expect(container.querySelectorAll(".katex-error")).toHaveLength(0);
     const perEquation = derived.equations.map((e) => e.terms.length);
     expect(container.querySelectorAll("[data-term]")).toHaveLength(perEquation.reduce((a, b) => a + b, 0));
+    // Long equations break between terms rather than scroll: each is typeset as breakable inline math in
+    // display style, where KaTeX puts every top-level term in its own box with a break allowed after it.
+    const views = [...container.querySelectorAll<HTMLElement>(".hn-math-display")];
+    expect(views).toHaveLength(5);
+    for (const view of views) {
+      expect(view.classList.contains("hn-math-breakable")).toBe(true);
+      expect(view.querySelector(".katex-display")).toBeNull();
+      const terms = [...view.querySelectorAll<HTMLElement>("[data-term]")];
+      const boxes = new Set(terms.map((term) => term.closest(".katex-base")));
+      expect(boxes.has(null)).toBe(false);
+      expect(boxes.size).toBe(terms.length);
+    }
     // jsdom parses KaTeX's large HTML slowly; the browser renders this in well under a second.
   }, 30_000);
 
