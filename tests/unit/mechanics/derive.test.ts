@@ -97,6 +97,8 @@ describe("deriveModel: published equations of motion", () => {
     expect(sameExpression(result.equations[0]!.residual, "(M+m)*x'' + m*l*theta''*cos(theta) - m*l*theta'^2*sin(theta) - F", q)).toBe(true);
     expect(sameExpression(result.equations[1]!.residual, "m*l*x''*cos(theta) + m*l^2*theta'' - m*g*l*sin(theta)", q)).toBe(true);
     expect(result.cyclic).toEqual(["x"]);
+    // Neither M nor f contains x itself: every equilibrium is one of a continuum along the track.
+    expect(result.freeCoordinates).toEqual(["x"]);
     // x is cyclic but the force F acts on it: its momentum is not conserved, nor is h.
     expect(result.conserved).toEqual([]);
   });
@@ -183,6 +185,8 @@ describe("deriveModel: published equations of motion", () => {
     };
     const result = deriveModel(model);
     expect(result.massMatrix.map((row) => row.map(text))).toEqual([["m", "0"], ["0", "m"]]);
+    // The springs hold both carriages: no coordinate is free.
+    expect(result.freeCoordinates).toEqual([]);
     // K = −∂f/∂x, from the forcing.
     const q = { coordinates: ["x1", "x2"] };
     expect(sameExpression(result.forcing[0]!, "-2*k*x1 + k*x2", q)).toBe(true);
