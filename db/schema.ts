@@ -12,6 +12,7 @@ import {
   uniqueIndex,
   uuid,
 } from "drizzle-orm/pg-core";
+import type { StoredDocument } from "@/lib/notebook/document";
 import { derivationStatuses, memberRoles, type DerivationStatus, type MemberRole } from "@/lib/domain";
 
 // Every table carries created_at / updated_at. updated_at is set by the query
@@ -105,9 +106,16 @@ export const derivations = pgTable(
     title: text("title").notNull(),
     status: derivationStatus("status").notNull().default("draft"),
     ownerId: uuid("owner_id").references(() => users.id, { onDelete: "set null" }),
-    // The model file (see DESIGN.md) until the notebook issue gives it structure.
-    content: jsonb("content").$type<Record<string, unknown>>().notNull().default({}),
+    // The notebook document. Rows keep the version they were written at; read
+    // them through parseStoredDocument, which migrates older ones.
+    content: jsonb("content").$type<StoredDocument>().notNull().default({}),
     updatedById: uuid("updated_by_id").references(() => users.id, { onDelete: "set null" }),
+    /** People who changed the content since the latest revision; the next revision names them as its authors. */
+    pendingAuthorIds: uuid("pending_author_ids").array().notNull().default([]),
+    /** Set while the derivation is approved and locked: the exact revision that was approved. */
+    lockedRevisionId: uuid("locked_revision_id"),
+    lockedAt: timestamp("locked_at", { withTimezone: true }),
+    lockedById: uuid("locked_by_id").references(() => users.id, { onDelete: "set null" }),
     ...timestamps,
   },
   (table) => [index("derivations_team_idx").on(table.teamId, table.updatedAt)],
@@ -131,6 +139,135 @@ export type SignInAttempt = typeof signInAttempts.$inferSelect;
 // Requests counted against a rate limit other than the per-e-mail sign-in one
 // (failed sign-ins per client address, password-reset and sign-up requests).
 // `action` names the limit, `key` is what it is counted by (an address or an e-mail).
+export const revisionKinds = ["auto", "checkpoint", "restore", "review", "import"] as const;
+export type RevisionKind = (typeof revisionKinds)[number];
+export const revisionKind = pgEnum("revision_kind", revisionKinds);
+
+/**
+ * A derivation's history: each revision is a full copy of the document with the
+ * SHA-256 of its RFC 8785 canonical JSON, numbered from 1 per derivation. Rows
+ * are never rewritten; a restore adds a revision.
+ */
+export const revisions = pgTable(
+  "revisions",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    derivationId: uuid("derivation_id").notNull().references(() => derivations.id, { onDelete: "cascade" }),
+    number: integer("number").notNull(),
+    kind: revisionKind("kind").notNull(),
+    /** A checkpoint's name, or what a restore restored. */
+    name: text("name"),
+    contentHash: text("content_hash").notNull(),
+    title: text("title").notNull(),
+    content: jsonb("content").$type<Record<string, unknown>>().notNull(),
+    /** Derived results at this revision (equations, mass matrix…), filled when they are known. */
+    results: jsonb("results").$type<Record<string, unknown>>(),
+    authorIds: uuid("author_ids").array().notNull().default([]),
+    createdById: uuid("created_by_id").references(() => users.id, { onDelete: "set null" }),
+    ...timestamps,
+  },
+  (table) => [uniqueIndex("revisions_derivation_number_idx").on(table.derivationId, table.number)],
+);
+export type Revision = typeof revisions.$inferSelect;
+
+export const reviewDecisions = ["pending", "signed_off", "changes_requested"] as const;
+export type ReviewDecision = (typeof reviewDecisions)[number];
+export const reviewDecision = pgEnum("review_decision", reviewDecisions);
+
+/** One request for review of one revision; closed when changes are requested, a new request is made, or it is approved. */
+export const reviewRequests = pgTable(
+  "review_requests",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    derivationId: uuid("derivation_id").notNull().references(() => derivations.id, { onDelete: "cascade" }),
+    revisionId: uuid("revision_id").notNull().references(() => revisions.id, { onDelete: "cascade" }),
+    requestedById: uuid("requested_by_id").references(() => users.id, { onDelete: "set null" }),
+    message: text("message").notNull().default(""),
+    closedAt: timestamp("closed_at", { withTimezone: true }),
+    ...timestamps,
+  },
+  (table) => [index("review_requests_derivation_idx").on(table.derivationId, table.createdAt)],
+);
+export type ReviewRequest = typeof reviewRequests.$inferSelect;
+
+/** A reviewer (or lead) asked to review, and what they decided. */
+export const reviewAssignments = pgTable(
+  "review_assignments",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    requestId: uuid("request_id").notNull().references(() => reviewRequests.id, { onDelete: "cascade" }),
+    reviewerId: uuid("reviewer_id").notNull().references(() => users.id, { onDelete: "cascade" }),
+    decision: reviewDecision("decision").notNull().default("pending"),
+    comment: text("comment").notNull().default(""),
+    decidedAt: timestamp("decided_at", { withTimezone: true }),
+    ...timestamps,
+  },
+  (table) => [uniqueIndex("review_assignments_request_reviewer_idx").on(table.requestId, table.reviewerId)],
+);
+export type ReviewAssignment = typeof reviewAssignments.$inferSelect;
+
+/** Every approval of a derivation, kept after an unlock (with who unlocked it, when and why). */
+export const approvals = pgTable(
+  "approvals",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    derivationId: uuid("derivation_id").notNull().references(() => derivations.id, { onDelete: "cascade" }),
+    revisionId: uuid("revision_id").notNull().references(() => revisions.id, { onDelete: "cascade" }),
+    contentHash: text("content_hash").notNull(),
+    approvedById: uuid("approved_by_id").references(() => users.id, { onDelete: "set null" }),
+    approvedAt: timestamp("approved_at", { withTimezone: true }).notNull().defaultNow(),
+    unlockedAt: timestamp("unlocked_at", { withTimezone: true }),
+    unlockedById: uuid("unlocked_by_id").references(() => users.id, { onDelete: "set null" }),
+    unlockReason: text("unlock_reason"),
+    ...timestamps,
+  },
+  (table) => [index("approvals_derivation_idx").on(table.derivationId, table.approvedAt)],
+);
+export type Approval = typeof approvals.$inferSelect;
+
+/** In-app notifications (review requests, decisions, approvals); read when `readAt` is set. */
+export const notifications = pgTable(
+  "notifications",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    userId: uuid("user_id").notNull().references(() => users.id, { onDelete: "cascade" }),
+    teamId: uuid("team_id").references(() => teams.id, { onDelete: "cascade" }),
+    derivationId: uuid("derivation_id").references(() => derivations.id, { onDelete: "cascade" }),
+    actorId: uuid("actor_id").references(() => users.id, { onDelete: "set null" }),
+    kind: text("kind").notNull(),
+    text: text("text").notNull(),
+    readAt: timestamp("read_at", { withTimezone: true }),
+    ...timestamps,
+  },
+  (table) => [index("notifications_user_idx").on(table.userId, table.createdAt)],
+);
+export type Notification = typeof notifications.$inferSelect;
+
+/**
+ * Team API tokens for downstream builds: read-only, shown once, stored as a
+ * SHA-256 hash; `prefix` (the first characters) lets people tell them apart.
+ */
+export const apiTokens = pgTable(
+  "api_tokens",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    teamId: uuid("team_id").notNull().references(() => teams.id, { onDelete: "cascade" }),
+    name: text("name").notNull(),
+    tokenHash: text("token_hash").notNull().unique(),
+    prefix: text("prefix").notNull(),
+    scope: text("scope").notNull().default("read"),
+    createdById: uuid("created_by_id").references(() => users.id, { onDelete: "set null" }),
+    expiresAt: timestamp("expires_at", { withTimezone: true }),
+    revokedAt: timestamp("revoked_at", { withTimezone: true }),
+    revokedById: uuid("revoked_by_id").references(() => users.id, { onDelete: "set null" }),
+    lastUsedAt: timestamp("last_used_at", { withTimezone: true }),
+    lastUsedAddress: text("last_used_address"),
+    ...timestamps,
+  },
+  (table) => [index("api_tokens_team_idx").on(table.teamId, table.createdAt)],
+);
+export type ApiToken = typeof apiTokens.$inferSelect;
+
 export const rateLimitEvents = pgTable(
   "rate_limit_events",
   {
@@ -147,16 +284,20 @@ export const auditLog = pgTable(
   "audit_log",
   {
     id: uuid("id").primaryKey().defaultRandom(),
-    teamId: uuid("team_id").references(() => teams.id, { onDelete: "cascade" }),
-    actorId: uuid("actor_id").references(() => users.id, { onDelete: "set null" }),
-    // e.g. "derivation.create", "member.role_change"
+    // No foreign keys: the log is append-only (a trigger refuses UPDATE, DELETE and TRUNCATE),
+    // so a row must outlive the team or user it names instead of cascading with them.
+    teamId: uuid("team_id"),
+    actorId: uuid("actor_id"),
+    // e.g. "derivation.create", "member.role_change", "auth.sign_in_failed"
     action: text("action").notNull(),
     targetType: text("target_type").notNull(),
     targetId: text("target_id"),
     details: jsonb("details").$type<Record<string, unknown>>().notNull().default({}),
+    /** The client address the request came from; null for scripts and the seed. */
+    address: text("address"),
     ...timestamps,
   },
-  (table) => [index("audit_log_team_time_idx").on(table.teamId, table.createdAt)],
+  (table) => [index("audit_log_team_time_idx").on(table.teamId, table.createdAt), index("audit_log_actor_time_idx").on(table.actorId, table.createdAt)],
 );
 export type AuditLogEntry = typeof auditLog.$inferSelect;
 
@@ -271,3 +412,20 @@ export const simulationRuns = pgTable(
 );
 export type SimulationRun = typeof simulationRuns.$inferSelect;
 export type NewSimulationRun = typeof simulationRuns.$inferInsert;
+
+// A person's own view of a derivation (equation form, equilibrium, code language,
+// simulation settings tried): per user and derivation, never part of the document,
+// so readers may keep them. The shape is lib/notebook/view-preferences.ts.
+export const viewPreferences = pgTable(
+  "view_preferences",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    userId: uuid("user_id").notNull().references(() => users.id, { onDelete: "cascade" }),
+    derivationId: uuid("derivation_id").notNull().references(() => derivations.id, { onDelete: "cascade" }),
+    preferences: jsonb("preferences").$type<Record<string, unknown>>().notNull(),
+    ...timestamps,
+  },
+  (table) => [uniqueIndex("view_preferences_user_derivation_idx").on(table.userId, table.derivationId)],
+);
+export type ViewPreferencesRow = typeof viewPreferences.$inferSelect;
+export type NewViewPreferencesRow = typeof viewPreferences.$inferInsert;

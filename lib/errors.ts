@@ -6,6 +6,7 @@ export type ErrorKind =
   | "forbidden"
   | "not_found"
   | "conflict"
+  | "locked"
   | "unprocessable"
   | "length_required"
   | "too_large"
@@ -32,7 +33,11 @@ export type ErrorSurface =
   | "file"
   | "storage"
   | "simulation"
-  | "fit";
+  | "fit"
+  | "token"
+  | "revision"
+  | "review"
+  | "notification";
 
 export type ErrorCode = `${ErrorKind}:${ErrorSurface}`;
 
@@ -42,6 +47,7 @@ export const statusByKind: Record<ErrorKind, number> = {
   forbidden: 403,
   not_found: 404,
   conflict: 409,
+  locked: 423,
   unprocessable: 422,
   length_required: 411,
   too_large: 413,
@@ -66,6 +72,7 @@ const kindMessages: Record<ErrorKind, string> = {
   forbidden: "Your role does not allow this.",
   not_found: "Not found.",
   conflict: "That conflicts with existing data.",
+  locked: "This is approved and locked; a lead can unlock it with a reason.",
   unprocessable: "The content cannot be processed as it stands.",
   length_required: "Send the upload with a Content-Length header.",
   too_large: "The upload is larger than the limit.",

@@ -6,6 +6,8 @@ import { createTeamWithLead, getTeamBySlug, upsertMembership } from "@/db/querie
 import { createUser, getUserByEmail, updateUserPasswordById } from "@/db/queries/users";
 import { demoDerivations, demoPassword, demoTeam, demoUsers } from "@/db/seed/demo";
 import { hashPassword } from "@/lib/auth/password";
+import { AppError } from "@/lib/errors";
+import { validDocumentOrThrow } from "@/lib/evaluation/document-content";
 import { seedDemoEvaluations } from "./lib/seed-evaluations";
 
 async function main(): Promise<void> {
@@ -33,16 +35,17 @@ async function main(): Promise<void> {
   const existing = new Map((await getDerivationsByTeamId({ teamId: team.id })).map((d) => [d.title, d.id]));
   let added = 0;
   for (const item of demoDerivations) {
+    const content = validDocumentOrThrow(item.content, { field: "content", title: item.title });
     const existingId = existing.get(item.title);
     if (existingId) {
       // Rows seeded before the notebook held a bare model file; give them the worked notebook.
       const stored = await getDerivationById({ id: existingId });
       if (stored && !("cells" in stored.content)) {
-        await updateDerivationById({ id: existingId, actorId: userIds.get(item.owner)!, changes: { content: item.content } });
+        await updateDerivationById({ id: existingId, actorId: userIds.get(item.owner)!, changes: { content } });
       }
       continue;
     }
-    await createDerivation({ teamId: team.id, title: item.title, ownerId: userIds.get(item.owner)!, content: item.content, status: item.status });
+    await createDerivation({ teamId: team.id, title: item.title, ownerId: userIds.get(item.owner)!, content, status: item.status });
     added += 1;
   }
   console.log(`[holonomy] demo team "${team.name}" ready: ${demoUsers.length} members, ${added} derivations added`);
@@ -52,7 +55,7 @@ async function main(): Promise<void> {
 
 main()
   .catch((error: unknown) => {
-    console.error("[holonomy] seed failed:", error instanceof Error ? error.message : error);
+    console.error("[holonomy] seed failed:", error instanceof Error ? error.message : error, AppError.isAppError(error) ? (error.fieldErrors ?? "") : "");
     process.exitCode = 1;
   })
   .finally(() => closeDatabase());

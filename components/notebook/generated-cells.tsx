@@ -20,8 +20,10 @@ import {
   type LinearizationCell,
 } from "@/lib/notebook/document";
 import { symbolLatex } from "@/lib/notebook/latex-preview";
-import type { NotebookResults } from "@/lib/notebook/results";
+import { STABILITY_RULE } from "@/lib/mechanics/stability-rule";
+import type { ModeView, NotebookResults } from "@/lib/notebook/results";
 import { MathView } from "./math";
+import { ViewChoiceNote } from "./view-choice";
 
 export const SAFETY_NOTE =
   "Derived equations are a model. Before they drive real hardware or a safety-relevant decision, validate them against tests and the applicable codes and standards, under a qualified engineer's responsibility.";
@@ -33,6 +35,24 @@ export interface GeneratedCellProps<C> {
   evaluating?: boolean;
   readOnly?: boolean;
   onOperation: (op: DocumentOperation) => void;
+  /**
+   * A person's view choice (form, equilibrium, language): when given, the
+   * choice is theirs and `cell.settings` already carry it; readers may make it
+   * too. Without it a choice changes the document's setting.
+   */
+  onViewChange?: (patch: Record<string, unknown>) => void;
+  /** The document's own settings (the author's defaults), to show where a view choice differs. */
+  documentSettings?: C extends { settings: infer S } ? S : never;
+  /** Makes this person's choice the document's setting (for those who may edit). */
+  onMakeDefault?: () => void;
+}
+
+/** Where a view choice goes: the person's own view, or the document's setting. */
+function chooser<C extends { id: string }>({ cell, readOnly, onOperation, onViewChange }: GeneratedCellProps<C>) {
+  return {
+    disabled: readOnly && !onViewChange,
+    choose: (patch: Record<string, unknown>) => (onViewChange ? onViewChange(patch) : onOperation({ type: "updateSettings", cellId: cell.id, patch })),
+  };
 }
 
 function Pending({ evaluating }: { evaluating?: boolean }) {
@@ -57,7 +77,9 @@ export interface EquationsCellProps extends GeneratedCellProps<EquationsCell> {
 
 const FORM_LABELS: Record<EquationForm, string> = { residual: "Residual form", "mass-matrix": "Mass-matrix form", accelerations: "Accelerations" };
 
-export function EquationsCellView({ cell, results, evaluating, readOnly, onOperation, activeTerm = null, onTermFocus, onTermSelect }: EquationsCellProps) {
+export function EquationsCellView(props: EquationsCellProps) {
+  const { cell, results, evaluating, activeTerm = null, onTermFocus, onTermSelect, documentSettings, onViewChange, onMakeDefault } = props;
+  const view = chooser(props);
   const containerRef = useRef<HTMLDivElement>(null);
   const [hovered, setHovered] = useState<string | null>(null);
   const shown = hovered ?? activeTerm;
@@ -117,8 +139,8 @@ export function EquationsCellView({ cell, results, evaluating, readOnly, onOpera
           <select
             className="rounded border border-line bg-paper px-1.5 py-0.5 text-ink"
             value={form}
-            disabled={readOnly}
-            onChange={(event) => onOperation({ type: "updateSettings", cellId: cell.id, patch: { form: event.target.value } })}
+            disabled={view.disabled}
+            onChange={(event) => view.choose({ form: event.target.value })}
           >
             {EQUATION_FORMS.map((option) => (
               <option key={option} value={option}>
@@ -127,6 +149,9 @@ export function EquationsCellView({ cell, results, evaluating, readOnly, onOpera
             ))}
           </select>
         </label>
+        {documentSettings && documentSettings.form !== form ? (
+          <ViewChoiceNote documentLabel={FORM_LABELS[documentSettings.form].toLowerCase()} onReset={onViewChange && (() => onViewChange({ form: undefined }))} onMakeDefault={onMakeDefault} />
+        ) : null}
         {results?.timingMs !== undefined && <span className="text-xs text-muted">derived in {results.timingMs.toFixed(0)} ms</span>}
       </div>
       <div
@@ -165,18 +190,22 @@ export function ConservedCellView({ results, evaluating }: GeneratedCellProps<Co
   const conserved = results.conserved ?? [];
   const energyConserved = conserved.find((quantity) => quantity.name === "energy function");
   const others = results.energyLatex ? conserved.filter((quantity) => quantity !== energyConserved) : conserved;
+  const cyclic = results.cyclicMomenta ?? [];
+  const forcedCyclic = cyclic.filter((entry) => !entry.conserved);
   return (
     <div className="hn-result-body flex min-w-0 flex-col gap-2">
       {results.energyLatex && (
         <div>
           <div className="text-xs text-muted">
-            Energy function{energyConserved ? ` — conserved: ${energyConserved.reason}` : " — not conserved"}
+            Energy function{energyConserved ? ` — conserved: ${energyConserved.reason}` : ` — not conserved${results.energyNotConserved ? `: ${results.energyNotConserved}` : ""}`}
           </div>
           <MathView latex={`h = ${results.energyLatex}`} display breakable />
         </div>
       )}
       {conserved.length === 0 ? (
-        <p className="text-sm text-muted">No conserved quantity found: the Lagrangian depends on time, or dissipation or applied forces act, and no coordinate is cyclic.</p>
+        <p className="text-sm text-muted">
+          No conserved quantity found.{results.cyclicMomenta && cyclic.length === 0 ? " No coordinate is cyclic (the Lagrangian depends on every coordinate)." : ""}
+        </p>
       ) : (
         others.map((quantity) => (
           <div key={quantity.name} className="min-w-0">
@@ -187,8 +216,22 @@ export function ConservedCellView({ results, evaluating }: GeneratedCellProps<Co
           </div>
         ))
       )}
+      {forcedCyclic.map((entry) => (
+        <div key={entry.coordinate} className="min-w-0 text-sm" data-testid="cyclic-not-conserved">
+          <p>
+            <span className="font-mono">{entry.coordinate}</span> is cyclic (the Lagrangian does not depend on it), but its momentum is not conserved: {actingText(entry.actedOnBy)} on it.
+          </p>
+          <MathView latex={entry.rateLatex} label={`Momentum balance of ${entry.coordinate}`} />
+        </div>
+      ))}
     </div>
   );
+}
+
+function actingText(actedOnBy: readonly string[]): string {
+  if (actedOnBy.length === 0) return "a generalized force acts";
+  const names = actedOnBy.map((cause) => (cause === "applied force" ? "the applied force" : "the dissipation"));
+  return `${names.join(" and ")} act${names.length === 1 ? "s" : ""}`;
 }
 
 // ---------------------------------------------------------------------------
@@ -207,11 +250,15 @@ function matrixLatex(rows: number[][]): string {
   return `\\begin{bmatrix}${rows.map((row) => row.map(formatNumber).join(" & ")).join(" \\\\ ")}\\end{bmatrix}`;
 }
 
+type ModeStability = "stable" | "marginal" | "unstable";
+
 export interface LinearizationCellProps extends GeneratedCellProps<LinearizationCell> {
   inputNames: readonly string[];
 }
 
-export function LinearizationCellView({ cell, results, evaluating, readOnly, onOperation, inputNames }: LinearizationCellProps) {
+export function LinearizationCellView(props: LinearizationCellProps) {
+  const { cell, results, evaluating, readOnly, onOperation, inputNames, documentSettings, onViewChange, onMakeDefault } = props;
+  const view = chooser(props);
   const linear = results?.linearization;
   const selected = linear?.selected;
   return (
@@ -222,8 +269,8 @@ export function LinearizationCellView({ cell, results, evaluating, readOnly, onO
           <select
             className="rounded border border-line bg-paper px-1.5 py-0.5 text-ink"
             value={cell.settings.equilibriumIndex}
-            disabled={readOnly || !linear || linear.equilibria.length === 0}
-            onChange={(event) => onOperation({ type: "updateSettings", cellId: cell.id, patch: { equilibriumIndex: Number(event.target.value) } })}
+            disabled={view.disabled || !linear || linear.equilibria.length === 0}
+            onChange={(event) => view.choose({ equilibriumIndex: Number(event.target.value) })}
           >
             {(linear?.equilibria.length ? linear.equilibria : [{ label: "first found", values: {} }]).map((equilibrium, index) => (
               <option key={index} value={index}>
@@ -232,6 +279,13 @@ export function LinearizationCellView({ cell, results, evaluating, readOnly, onO
             ))}
           </select>
         </label>
+        {documentSettings && documentSettings.equilibriumIndex !== cell.settings.equilibriumIndex ? (
+          <ViewChoiceNote
+            documentLabel={`equilibrium ${documentSettings.equilibriumIndex + 1}`}
+            onReset={onViewChange && (() => onViewChange({ equilibriumIndex: undefined }))}
+            onMakeDefault={onMakeDefault}
+          />
+        ) : null}
         {inputNames.map((name) => (
           <label key={name} className="flex flex-col gap-1 text-muted">
             Input {name}
@@ -257,32 +311,94 @@ export function LinearizationCellView({ cell, results, evaluating, readOnly, onO
           <MathView latex={`\\dot{\\mathbf{x}} = A\\,\\mathbf{x} + B\\,\\mathbf{u},\\quad \\mathbf{x} = \\begin{bmatrix}${selected.stateNames.map((n) => symbolLatex(n.replace(/'+$/, ""), (n.match(/'/g)?.length ?? 0) as 0 | 1 | 2)).join(" \\\\ ")}\\end{bmatrix}`} display />
           <MathView latex={`A = ${matrixLatex(selected.A)}`} display label="State matrix A" />
           {selected.inputNames.length > 0 && <MathView latex={`B = ${matrixLatex(selected.B)}`} display label="Input matrix B" />}
-          <p className={clsx("text-sm", selected.stable ? "text-ink" : "text-danger")}>{selected.stable ? "Stable equilibrium." : "Unstable equilibrium."}</p>
-          {selected.frequenciesHz.length > 0 && (
-            <div className="overflow-x-auto">
-              <table className="text-sm">
-                <caption className="text-left text-xs text-muted">Natural frequencies and mode shapes</caption>
-                <thead>
-                  <tr className="text-left text-xs text-muted">
-                    <th className="pr-4 font-medium">Mode</th>
-                    <th className="pr-4 font-medium">Frequency (Hz)</th>
-                    <th className="font-medium">Shape</th>
-                  </tr>
-                </thead>
-                <tbody className="font-mono">
-                  {selected.frequenciesHz.map((frequency, mode) => (
-                    <tr key={mode}>
-                      <td className="pr-4">{mode + 1}</td>
-                      <td className="pr-4">{Number(frequency.toPrecision(5))}</td>
-                      <td>{selected.modeShapes.map((row) => Number((row[mode] ?? 0).toPrecision(3))).join(", ")}</td>
-                    </tr>
-                  ))}
-                </tbody>
-              </table>
-            </div>
-          )}
+          <StabilityVerdictView stability={selected.stability} reason={selected.stabilityReason} eigenvalues={selected.eigenvalues} />
+          {selected.modes.length > 0 && <ModeTable modes={selected.modes} coordinates={coordinatesOf(selected.stateNames)} />}
         </div>
       )}
+    </div>
+  );
+}
+
+const STABILITY_HEADINGS: Record<ModeStability, string> = {
+  stable: "Stable equilibrium.",
+  marginal: "Marginal equilibrium.",
+  unstable: "Unstable equilibrium.",
+};
+
+/** The verdict of the one stability rule, the clause that decided it, the eigenvalues it read, and the rule itself. */
+function StabilityVerdictView({ stability, reason, eigenvalues }: { stability: ModeStability; reason: string; eigenvalues: { re: number; im: number }[] }) {
+  // One entry per real eigenvalue or conjugate pair; the pair's lower half is implied by "±".
+  const listed = eigenvalues.filter((l) => l.im >= 0).sort((a, b) => b.re - a.re || a.im - b.im);
+  return (
+    <div className="flex flex-col gap-1 text-sm" data-testid="stability-verdict">
+      <p>
+        <strong className={clsx("font-medium", stability === "unstable" ? "text-danger" : stability === "marginal" ? "text-review" : "text-ink")}>{STABILITY_HEADINGS[stability]}</strong> {reason}
+      </p>
+      <p className="text-muted">
+        Eigenvalues of A (1/s):{" "}
+        {listed.map((l, k) => (
+          <span key={k} className={clsx("font-mono", l.re > 0 && "text-danger")}>
+            {k > 0 && ", "}
+            {eigenvalueText(l)}
+            {l.re > 0 && " (grows)"}
+          </span>
+        ))}
+      </p>
+      <details className="text-xs text-muted">
+        <summary className="cursor-pointer">How the verdict is decided</summary>
+        <p className="mt-1">{STABILITY_RULE}</p>
+      </details>
+    </div>
+  );
+}
+
+function eigenvalueText({ re, im }: { re: number; im: number }): string {
+  const part = (value: number) => Number(value.toPrecision(4)).toString().replace("-", "−");
+  if (im === 0) return part(re);
+  return re === 0 ? `±${part(im)}i` : `${part(re)} ± ${part(im)}i`;
+}
+
+/** Coordinate names from the state names [q; q']. */
+function coordinatesOf(stateNames: readonly string[]): string[] {
+  return stateNames.filter((name) => !name.endsWith("'"));
+}
+
+/** Every mode of the linearization, the growing (divergent) ones marked, none left out. */
+function ModeTable({ modes, coordinates }: { modes: ModeView[]; coordinates: string[] }) {
+  const precision = (value: number, digits: number) => Number(value.toPrecision(digits)).toString().replace("-", "−");
+  return (
+    <div className="overflow-x-auto">
+      <table className="text-sm">
+        <caption className="text-left text-xs text-muted">Modes of K v = ω² M v (undamped), with the damped frequency and damping ratio of the matching eigenvalue of A</caption>
+        <thead>
+          <tr className="text-left text-xs text-muted">
+            <th className="pr-4 font-medium">Mode</th>
+            <th className="pr-4 font-medium">Frequency (Hz)</th>
+            <th className="pr-4 font-medium">Damped (Hz), ζ</th>
+            <th className="font-medium">Shape ({coordinates.join(", ")})</th>
+          </tr>
+        </thead>
+        <tbody className="font-mono">
+          {modes.map((mode, k) => (
+            <tr key={k} data-testid="mode-row" data-kind={mode.kind} className={clsx(mode.kind === "divergent" && "text-danger")}>
+              <td className="pr-4">{k + 1}</td>
+              <td className="pr-4">
+                {mode.kind === "oscillating" && precision(mode.hertz!, 5)}
+                {mode.kind === "rigid" && <span className="font-sans">0 (rigid: no restoring stiffness)</span>}
+                {mode.kind === "divergent" && <span className="font-sans">growing: exp({precision(mode.growthRate!, 4)}·t), no oscillation</span>}
+              </td>
+              <td className="pr-4">
+                {mode.eigenvalue ? (
+                  `${precision(mode.eigenvalue.im / (2 * Math.PI), 5)}, ζ = ${precision(-mode.eigenvalue.re / Math.hypot(mode.eigenvalue.re, mode.eigenvalue.im), 3)}`
+                ) : (
+                  <span className="font-sans text-muted">—</span>
+                )}
+              </td>
+              <td>{mode.shape.map((value) => precision(value, 3)).join(", ")}</td>
+            </tr>
+          ))}
+        </tbody>
+      </table>
     </div>
   );
 }
@@ -292,7 +408,9 @@ export function LinearizationCellView({ cell, results, evaluating, readOnly, onO
 
 const LANGUAGE_LABELS: Record<CodeExportLanguage, string> = { python: "Python (NumPy)", typescript: "TypeScript", c: "C", julia: "Julia", octave: "MATLAB/Octave" };
 
-export function CodeExportCellView({ cell, results, evaluating, readOnly, onOperation }: GeneratedCellProps<CodeExportCell>) {
+export function CodeExportCellView(props: GeneratedCellProps<CodeExportCell>) {
+  const { cell, results, evaluating, documentSettings, onViewChange, onMakeDefault } = props;
+  const view = chooser(props);
   const [copied, setCopied] = useState(false);
   const code = results?.code?.find((entry) => entry.language === cell.settings.language);
 
@@ -321,8 +439,8 @@ export function CodeExportCellView({ cell, results, evaluating, readOnly, onOper
           <select
             className="rounded border border-line bg-paper px-1.5 py-0.5 text-ink"
             value={cell.settings.language}
-            disabled={readOnly}
-            onChange={(event) => onOperation({ type: "updateSettings", cellId: cell.id, patch: { language: event.target.value } })}
+            disabled={view.disabled}
+            onChange={(event) => view.choose({ language: event.target.value })}
           >
             {CODE_EXPORT_LANGUAGES.map((language) => (
               <option key={language} value={language}>
@@ -337,11 +455,16 @@ export function CodeExportCellView({ cell, results, evaluating, readOnly, onOper
         <button type="button" className="rounded border border-line px-2 py-0.5 text-ink hover:border-action hover:text-action disabled:opacity-40" disabled={!code} onClick={download}>
           Download
         </button>
+        {documentSettings && documentSettings.language !== cell.settings.language ? (
+          <ViewChoiceNote documentLabel={LANGUAGE_LABELS[documentSettings.language]} onReset={onViewChange && (() => onViewChange({ language: undefined }))} onMakeDefault={onMakeDefault} />
+        ) : null}
       </div>
       {!results ? (
         <Pending evaluating={evaluating} />
       ) : !code ? (
-        <p className="text-sm text-muted">No {LANGUAGE_LABELS[cell.settings.language]} code in these results.</p>
+        <p className="text-sm text-muted" role="status">
+          {evaluating ? `Preparing ${LANGUAGE_LABELS[cell.settings.language]} code…` : `No ${LANGUAGE_LABELS[cell.settings.language]} code in these results.`}
+        </p>
       ) : (
         <pre className="hn-result-body max-h-96 overflow-auto rounded bg-sunken p-2 font-mono text-xs text-ink">{code.source}</pre>
       )}

@@ -5,11 +5,13 @@
  * evaluation, exports and recovery of unsaved work. Readers (viewers,
  * reviewers, anyone once a derivation is approved without the right to edit)
  * get the same screen read-only; the server refuses their writes as well.
+ * Everyone keeps their own view (equation form, equilibrium, code language,
+ * and, without the right to edit, simulation settings) apart from the document.
  */
 import { useQuery } from "@tanstack/react-query";
 import clsx from "clsx";
 import Link from "next/link";
-import { useCallback, useEffect, useRef, useState } from "react";
+import { useCallback, useEffect, useMemo, useRef, useState } from "react";
 import { useShortcut } from "@/components/shortcuts";
 import { Button } from "@/components/ui/button";
 import { StatusBadge } from "@/components/ui/status-badge";
@@ -17,11 +19,15 @@ import { apiFetch } from "@/lib/api/fetcher";
 import type { DerivationStatus } from "@/lib/domain";
 import { AppError, appErrorFromBody } from "@/lib/errors";
 import { applyOperation, documentToModel, parseStoredDocument, type DerivationDocument } from "@/lib/notebook/document";
+import { EMPTY_VIEW_PREFERENCES, personalCell, type ViewPreferences } from "@/lib/notebook/view-preferences";
 import { CELL_SHORTCUTS } from "./cell-frame";
 import { SAFETY_NOTE } from "./generated-cells";
-import { Notebook } from "./notebook";
+import { Notebook, type NotebookView } from "./notebook";
+import { OwnSimulation } from "./own-simulation";
 import { readDraft, removeDraft, useAutosave, type SaveFunction, type SaveStatus } from "./use-autosave";
 import { useEvaluation } from "./use-evaluation";
+import { useViewPreferences } from "./use-view-preferences";
+import { useViewResults } from "./use-view-results";
 
 export interface NotebookPageProps {
   derivationId: string;
@@ -32,7 +38,11 @@ export interface NotebookPageProps {
   roleLabel: string;
   canEdit: boolean;
   canRename: boolean;
+  /** May store simulation runs on the server (reviewers may, viewers may not). */
+  canSimulate?: boolean;
   initialDocument: DerivationDocument;
+  /** This person's view of the derivation, as stored for them. */
+  initialViewPreferences?: ViewPreferences;
   initialUpdatedAt: string;
   rowTitle: string;
 }
@@ -117,6 +127,27 @@ export function NotebookPage(props: NotebookPageProps) {
   const autosave = useAutosave({ derivationId, document: doc, initialUpdatedAt: props.initialUpdatedAt, initialServerDocument: props.initialDocument, enabled: canEdit, save });
   const evaluation = useEvaluation({ derivationId, document: doc });
 
+  // This person's view: choices over the document's settings, and what they need from the server.
+  const viewPreferences = useViewPreferences({ derivationId, initial: props.initialViewPreferences ?? EMPTY_VIEW_PREFERENCES });
+  const { preferences, choose, changeSimulation } = viewPreferences;
+  const personalCells = useMemo(() => doc.cells.map((cell) => personalCell(cell, preferences)), [doc.cells, preferences]);
+  const viewResults = useViewResults({ derivationId, results: evaluation.results, resultsDocumentJson: evaluation.resultsDocumentJson, cells: personalCells });
+  const view = useMemo<NotebookView>(
+    () => ({ preferences, results: viewResults, choose, changeSimulation }),
+    [preferences, viewResults, choose, changeSimulation],
+  );
+  const canStoreRuns = props.canSimulate ?? canEdit;
+  const hasSimulationCell = doc.cells.some((cell) => cell.kind === "simulation");
+  const [ownSimulationOpen, setOwnSimulationOpen] = useState(() => preferences.ownSimulation !== undefined);
+  const ownSimulationRef = useRef<HTMLElement>(null);
+  const [scrollToOwnSimulation, setScrollToOwnSimulation] = useState(false);
+  useEffect(() => {
+    if (!scrollToOwnSimulation) return;
+    setScrollToOwnSimulation(false);
+    ownSimulationRef.current?.scrollIntoView({ behavior: "smooth", block: "start" });
+    ownSimulationRef.current?.querySelector<HTMLElement>("input, button")?.focus({ preventScroll: true });
+  }, [scrollToOwnSimulation]);
+
   // Work this browser kept from an earlier visit: resume it when it was based on the version
   // the server still holds, otherwise set it aside where it can be restored.
   useEffect(() => {
@@ -125,7 +156,10 @@ export function NotebookPage(props: NotebookPageProps) {
     const aside = storage.getItem(recoveryKey(derivationId));
     if (aside) {
       try {
-        setRecovery(JSON.parse(aside) as { document: DerivationDocument; reason: string });
+        const entry = JSON.parse(aside) as { document: unknown; reason: string };
+        // Set aside by an earlier version of the page, perhaps: migrated like stored content.
+        const parsed = parseStoredDocument(entry.document);
+        if (parsed.ok) setRecovery({ document: parsed.document, reason: String(entry.reason) });
       } catch {
         storage.removeItem(recoveryKey(derivationId));
       }
@@ -160,7 +194,7 @@ export function NotebookPage(props: NotebookPageProps) {
   async function loadServerVersion() {
     const { data, error } = await record.refetch();
     if (error || !data) return setNotice(`Could not load the saved version: ${error?.message ?? "no answer"}. Your copy is unchanged.`);
-    const parsed = parseStoredDocument(data.derivation.content);
+    const parsed = parseStoredDocument(data.derivation.content, { title: data.derivation.title });
     if (!parsed.ok) return setNotice("The saved version could not be read as a notebook. Your copy is unchanged.");
     keepAside(docRef.current, "Your copy, set aside when you loaded the version someone else saved.");
     autosave.reset(parsed.document, data.derivation.updatedAt);
@@ -257,6 +291,18 @@ export function NotebookPage(props: NotebookPageProps) {
               {evaluation.evaluating ? <Spinner /> : null}
               {evaluation.evaluating ? "Evaluating…" : "Evaluate"}
             </Button>
+            {!hasSimulationCell ? (
+              <Button
+                size="sm"
+                title="Simulate this derivation with your own settings; the document is not changed"
+                onClick={() => {
+                  setOwnSimulationOpen(true);
+                  setScrollToOwnSimulation(true);
+                }}
+              >
+                Simulate
+              </Button>
+            ) : null}
             {canEdit ? (
               <Button size="sm" onClick={() => void saveNow()} title="Save now (s, or Ctrl+S)" disabled={autosave.status.state === "saved" || autosave.status.state === "conflict"}>
                 Save now
@@ -296,7 +342,9 @@ export function NotebookPage(props: NotebookPageProps) {
 
       {!canEdit ? (
         <p className="rounded border border-line bg-surface px-3 py-2 text-sm text-muted" data-testid="read-only-note">
-          You can read and evaluate this derivation; editing it is for its team&apos;s analysts and leads{props.status === "approved" ? " (and, once approved, its lead)" : ""}.
+          You can read and evaluate this derivation, choose how you view it and simulate it with your own settings
+          {props.canSimulate ? " (and store your runs for the team)" : ""}; editing it is for its team&apos;s analysts and leads
+          {props.status === "approved" ? " (and, once approved, its lead)" : ""}.
         </p>
       ) : null}
 
@@ -356,6 +404,11 @@ export function NotebookPage(props: NotebookPageProps) {
       ) : null}
 
       <EvaluationBar evaluation={evaluation} responseMs={response?.requestMs} cached={response?.cached} />
+      {viewPreferences.saveError || viewResults.error ? (
+        <p className="text-sm text-danger" role="alert" data-testid="view-error">
+          {viewResults.error ? `Your view choice could not be shown: ${viewResults.error}` : `Your view choices apply on this page but could not be stored: ${viewPreferences.saveError}`}
+        </p>
+      ) : null}
 
       <Notebook
         document={doc}
@@ -367,7 +420,21 @@ export function NotebookPage(props: NotebookPageProps) {
         evaluatedModel={evaluation.evaluatedModel}
         readOnly={!canEdit}
         derivationId={derivationId}
+        view={view}
+        canStoreRuns={canStoreRuns}
       />
+      {!hasSimulationCell && ownSimulationOpen ? (
+        <OwnSimulation
+          ref={ownSimulationRef}
+          document={doc}
+          results={evaluation.results}
+          derivationId={derivationId}
+          settings={preferences.ownSimulation}
+          canStoreRuns={canStoreRuns}
+          onSettingsChange={(patch) => changeSimulation(null, patch)}
+          onClose={() => setOwnSimulationOpen(false)}
+        />
+      ) : null}
       {CELL_SHORTCUTS.map((shortcut) => (
         <HelpEntry key={shortcut.keys} keys={shortcut.keys} description={`${shortcut.description} (focus in the cell)`} />
       ))}

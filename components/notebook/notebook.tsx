@@ -32,11 +32,27 @@ import {
 } from "@/lib/notebook/document";
 import { duplicateNames } from "@/lib/notebook/field-checks";
 import { locateDiagnostics, type LocatedDiagnostic, type ModelDiagnostic, type NotebookResults } from "@/lib/notebook/results";
+import { personalCell, VIEW_CHOICE_KEYS, type ViewPreferences } from "@/lib/notebook/view-preferences";
 import { CellFrame } from "./cell-frame";
 import { EnergyCellEditor, ForcesCellEditor } from "./expression-cell";
 import { CodeExportCellView, ConservedCellView, EquationsCellView, LinearizationCellView, SimulationCellView } from "./generated-cells";
 import { NoteCellEditor } from "./note-cell";
 import { TableCellEditor } from "./table-cell";
+import type { ViewChoicePatch } from "./use-view-preferences";
+import { resultsForCell, type ViewResults } from "./use-view-results";
+
+/**
+ * This person's own view of the notebook: their choices laid over the
+ * document's settings, the results those choices need, and where a new choice
+ * goes. Choosing never changes the document.
+ */
+export interface NotebookView {
+  preferences: ViewPreferences;
+  results: ViewResults;
+  choose: (cellId: string, patch: ViewChoicePatch) => void;
+  /** Simulation settings of a person who may not edit (`undefined` goes back to the document's). */
+  changeSimulation: (cellId: string, patch: Record<string, unknown> | undefined) => void;
+}
 
 export interface NotebookProps {
   document: DerivationDocument;
@@ -59,6 +75,14 @@ export interface NotebookProps {
   newId?: () => string;
   /** The stored derivation's id: simulation cells use it for server runs and measured data. */
   derivationId?: string;
+  /**
+   * This person's view choices (equation form, equilibrium, code language, and
+   * simulation settings when they may not edit). Without it, a choice changes
+   * the document's setting.
+   */
+  view?: NotebookView;
+  /** May store simulation runs on the server (defaults to being able to edit). */
+  canStoreRuns?: boolean;
 }
 
 const EMPTY_DIAGNOSTICS: readonly LocatedDiagnostic[] = [];
@@ -171,63 +195,71 @@ export function Notebook(props: NotebookProps) {
         </p>
       )}
       {doc.cells.length === 0 && <p className="text-sm text-muted">This derivation has no cells. Add one to begin.</p>}
-      {doc.cells.map((cell, index) => (
-        <Fragment key={cell.id}>
-          <CellFrame
-            cell={cell}
-            index={index}
-            count={doc.cells.length}
-            readOnly={readOnly}
-            stale={isGeneratedCell(cell) && stale && results !== null}
-            busy={isGeneratedCell(cell) && evaluating && results !== null}
-            canDuplicate={canAddCell(doc, cell.kind)}
-            onCollapse={(collapsed) => dispatch({ type: "setCollapsed", cellId: cell.id, collapsed })}
-            onDuplicate={() => dispatch({ type: "duplicateCell", cellId: cell.id, newCellId: newId() })}
-            onDelete={() => remove(cell, index)}
-            onMove={(delta) => {
-              const to = index + delta;
-              if (to >= 0 && to < doc.cells.length) move(cell.id, to);
-            }}
-            onDragStart={(event) => {
-              event.dataTransfer.setData("text/plain", cell.id);
-              event.dataTransfer.effectAllowed = "move";
-              setDragId(cell.id);
-            }}
-            onDragEnd={() => {
-              setDragId(null);
-              setDrop(null);
-            }}
-            onDragOver={(event) => {
-              if (!dragId && !event.dataTransfer.types.includes("text/plain")) return;
-              event.preventDefault();
-              event.dataTransfer.dropEffect = "move";
-              const side = sideOf(event);
-              if (drop?.id !== cell.id || drop.side !== side) setDrop({ id: cell.id, side });
-            }}
-            onDrop={(event) => dropOn(event, cell)}
-            dragging={dragId === cell.id}
-            dropSide={drop?.id === cell.id && dragId !== cell.id ? drop.side : null}
-          >
-            <CellBody
+      {doc.cells.map((cell, index) => {
+        const view = props.view;
+        const shown = view ? personalCell(cell, view.preferences, { ownSimulation: readOnly }) : cell;
+        const viewed = view ? resultsForCell(shown, results, view.results) : { results, computing: false, stale: false };
+        return (
+          <Fragment key={cell.id}>
+            <CellFrame
               cell={cell}
-              symbols={symbols}
-              duplicates={duplicates}
-              diagnostics={located.byCell.get(cell.id) ?? EMPTY_DIAGNOSTICS}
-              results={results}
-              evaluating={evaluating}
+              index={index}
+              count={doc.cells.length}
               readOnly={readOnly}
-              dispatch={dispatch}
-              newId={newId}
-              document={doc}
-              derivationId={props.derivationId}
-              activeTerm={props.activeTerm}
-              onTermFocus={props.onTermFocus}
-              onTermSelect={props.onTermSelect}
-            />
-          </CellFrame>
-          {!readOnly && index < doc.cells.length - 1 && <AddCellControl doc={doc} index={index + 1} onAdd={add} compact />}
-        </Fragment>
-      ))}
+              stale={isGeneratedCell(cell) && ((stale && results !== null) || viewed.stale)}
+              busy={isGeneratedCell(cell) && ((evaluating && results !== null) || viewed.computing)}
+              canDuplicate={canAddCell(doc, cell.kind)}
+              onCollapse={(collapsed) => dispatch({ type: "setCollapsed", cellId: cell.id, collapsed })}
+              onDuplicate={() => dispatch({ type: "duplicateCell", cellId: cell.id, newCellId: newId() })}
+              onDelete={() => remove(cell, index)}
+              onMove={(delta) => {
+                const to = index + delta;
+                if (to >= 0 && to < doc.cells.length) move(cell.id, to);
+              }}
+              onDragStart={(event) => {
+                event.dataTransfer.setData("text/plain", cell.id);
+                event.dataTransfer.effectAllowed = "move";
+                setDragId(cell.id);
+              }}
+              onDragEnd={() => {
+                setDragId(null);
+                setDrop(null);
+              }}
+              onDragOver={(event) => {
+                if (!dragId && !event.dataTransfer.types.includes("text/plain")) return;
+                event.preventDefault();
+                event.dataTransfer.dropEffect = "move";
+                const side = sideOf(event);
+                if (drop?.id !== cell.id || drop.side !== side) setDrop({ id: cell.id, side });
+              }}
+              onDrop={(event) => dropOn(event, cell)}
+              dragging={dragId === cell.id}
+              dropSide={drop?.id === cell.id && dragId !== cell.id ? drop.side : null}
+            >
+              <CellBody
+                cell={shown}
+                documentCell={cell}
+                view={view}
+                canStoreRuns={props.canStoreRuns ?? !readOnly}
+                symbols={symbols}
+                duplicates={duplicates}
+                diagnostics={located.byCell.get(cell.id) ?? EMPTY_DIAGNOSTICS}
+                results={viewed.results}
+                evaluating={evaluating || viewed.computing}
+                readOnly={readOnly}
+                dispatch={dispatch}
+                newId={newId}
+                document={doc}
+                derivationId={props.derivationId}
+                activeTerm={props.activeTerm}
+                onTermFocus={props.onTermFocus}
+                onTermSelect={props.onTermSelect}
+              />
+            </CellFrame>
+            {!readOnly && index < doc.cells.length - 1 && <AddCellControl doc={doc} index={index + 1} onAdd={add} compact />}
+          </Fragment>
+        );
+      })}
       {!readOnly && <AddCellControl doc={doc} index={doc.cells.length} onAdd={add} />}
     </div>
   );
@@ -239,7 +271,12 @@ function sideOf(event: DragEvent<HTMLElement>): "before" | "after" {
 }
 
 interface CellBodyProps {
+  /** The cell as this person sees it (their view choices laid over the document's settings). */
   cell: Cell;
+  /** The cell as the document holds it. */
+  documentCell: Cell;
+  view?: NotebookView;
+  canStoreRuns: boolean;
   symbols: DocumentSymbols;
   duplicates: ReadonlySet<string>;
   diagnostics: readonly LocatedDiagnostic[];
@@ -255,8 +292,32 @@ interface CellBodyProps {
   onTermSelect?: (termId: string) => void;
 }
 
-function CellBody({ cell, symbols, duplicates, diagnostics, results, evaluating, readOnly, dispatch, newId, document, derivationId, ...terms }: CellBodyProps): ReactNode {
+/**
+ * What a generated cell needs for this person's view choice: where the choice
+ * goes, the document's setting to compare with, and (for those who may edit)
+ * making their choice the document's.
+ */
+function viewChoiceProps(shown: Cell, documentCell: Cell, view: NotebookView | undefined, readOnly: boolean, dispatch: (op: DocumentOperation) => void) {
+  const key = VIEW_CHOICE_KEYS[shown.kind as keyof typeof VIEW_CHOICE_KEYS] as string | undefined;
+  if (!view || !key || !("settings" in shown) || !("settings" in documentCell)) return {};
+  const value = (shown.settings as Record<string, unknown>)[key];
+  const differs = (documentCell.settings as Record<string, unknown>)[key] !== value;
+  return {
+    documentSettings: documentCell.settings as never,
+    onViewChange: (patch: Record<string, unknown>) => view.choose(documentCell.id, patch),
+    onMakeDefault:
+      readOnly || !differs
+        ? undefined
+        : () => {
+            dispatch({ type: "updateSettings", cellId: documentCell.id, patch: { [key]: value } });
+            view.choose(documentCell.id, { [key]: undefined });
+          },
+  };
+}
+
+function CellBody({ cell, documentCell, view, canStoreRuns, symbols, duplicates, diagnostics, results, evaluating, readOnly, dispatch, newId, document, derivationId, ...terms }: CellBodyProps): ReactNode {
   const common = { readOnly, onOperation: dispatch };
+  const choice = viewChoiceProps(cell, documentCell, view, readOnly, dispatch);
   switch (cell.kind) {
     case "coordinates":
     case "parameters":
@@ -272,15 +333,30 @@ function CellBody({ cell, symbols, duplicates, diagnostics, results, evaluating,
     case "note":
       return <NoteCellEditor cell={cell} {...common} />;
     case "equations":
-      return <EquationsCellView cell={cell} results={results} evaluating={evaluating} {...terms} {...common} />;
+      return <EquationsCellView cell={cell} results={results} evaluating={evaluating} {...terms} {...common} {...choice} />;
     case "conserved":
       return <ConservedCellView cell={cell} results={results} evaluating={evaluating} {...common} />;
     case "linearization":
-      return <LinearizationCellView cell={cell} results={results} evaluating={evaluating} inputNames={symbols.inputs} {...common} />;
+      return <LinearizationCellView cell={cell} results={results} evaluating={evaluating} inputNames={symbols.inputs} {...common} {...choice} />;
     case "code-export":
-      return <CodeExportCellView cell={cell} results={results} evaluating={evaluating} {...common} />;
-    case "simulation":
-      return <SimulationCellView cell={cell} results={results} evaluating={evaluating} document={document} derivationId={derivationId} {...common} />;
+      return <CodeExportCellView cell={cell} results={results} evaluating={evaluating} {...common} {...choice} />;
+    case "simulation": {
+      // Someone who may not edit runs the simulation with settings of their own.
+      const own = view && readOnly ? view : null;
+      return (
+        <SimulationCellView
+          cell={cell}
+          results={results}
+          evaluating={evaluating}
+          document={document}
+          derivationId={derivationId}
+          canStoreRuns={canStoreRuns}
+          onSettingsChange={own ? (patch) => own.changeSimulation(cell.id, patch) : undefined}
+          onResetSettings={own?.preferences.cells[cell.id]?.simulation ? () => own.changeSimulation(cell.id, undefined) : undefined}
+          {...common}
+        />
+      );
+    }
   }
 }
 

@@ -12,7 +12,7 @@
  */
 import { useCallback, useEffect, useRef, useState } from "react";
 import { AppError } from "@/lib/errors";
-import type { DerivationDocument } from "@/lib/notebook/document";
+import { parseStoredDocument, type DerivationDocument } from "@/lib/notebook/document";
 
 export type SaveStatus =
   | { state: "saved"; savedAt: string | null }
@@ -43,13 +43,18 @@ export function draftKey(derivationId: string): string {
   return `holonomy:draft:${derivationId}`;
 }
 
-/** The unsaved draft kept for a derivation, if any (and readable). */
+/**
+ * The unsaved draft kept for a derivation, if any (and readable). A draft an
+ * earlier version of the page wrote is migrated like stored content.
+ */
 export function readDraft(storage: Storage | undefined, derivationId: string): DraftRecord | null {
   try {
     const text = storage?.getItem(draftKey(derivationId));
     if (!text) return null;
-    const draft = JSON.parse(text) as DraftRecord;
-    return draft && typeof draft === "object" && draft.document && Array.isArray(draft.document.cells) ? draft : null;
+    const draft = JSON.parse(text) as Omit<DraftRecord, "document"> & { document: unknown };
+    if (!draft || typeof draft !== "object") return null;
+    const parsed = parseStoredDocument(draft.document);
+    return parsed.ok ? { ...draft, document: parsed.document } : null;
   } catch {
     return null;
   }

@@ -33,6 +33,8 @@ export interface Evaluation {
   error: AppError | null;
   diagnostics: readonly ModelDiagnostic[];
   evaluatedModel: Model | undefined;
+  /** The document (as JSON) the results belong to; view choices ask the server about this one. */
+  resultsDocumentJson: string | null;
   evaluateNow: () => void;
 }
 
@@ -98,6 +100,7 @@ export function useEvaluation({ derivationId, document, settleMs = 1_200 }: { de
     error,
     diagnostics: query.isError ? diagnosticsOf(query.error) : NO_DIAGNOSTICS,
     evaluatedModel,
+    resultsDocumentJson: lastGood?.json ?? null,
     evaluateNow,
   };
 }

@@ -1,8 +1,21 @@
 import "server-only";
 import { returnedRow } from "./returned-row";
+import { currentRevision, getLatestRevisionByDerivationId, lockDerivationRow } from "./revisions";
+
+/** A pause in editing this long ends a stretch of work: the state it left becomes an automatic revision. */
+export const AUTO_REVISION_PAUSE_MS = 2 * 60_000;
+/** During continuous editing, an automatic revision at most this often. */
+export const AUTO_REVISION_INTERVAL_MS = 10 * 60_000;
+
+export type SaveContentResult =
+  | { status: "saved"; derivation: Derivation }
+  | { status: "missing" }
+  | { status: "locked"; derivation: Derivation }
+  | { status: "conflict"; derivation: Derivation };
 import { and, asc, count, desc, eq, ilike, sql, type SQL } from "drizzle-orm";
 import { alias } from "drizzle-orm/pg-core";
 import { db, type Executor } from "../client";
+import type { DerivationDocument } from "@/lib/notebook/document";
 import { derivations, users, type Derivation, type DerivationStatus } from "../schema";
 import { recordAuditEvent } from "./audit";
 
@@ -115,13 +128,14 @@ export async function createDerivation({
   teamId,
   title,
   ownerId,
-  content = {},
+  content,
   status = "draft",
 }: {
   teamId: string;
   title: string;
   ownerId: string;
-  content?: Record<string, unknown>;
+  /** Validated on its way in (`validDocumentOrThrow`). */
+  content: DerivationDocument;
   status?: DerivationStatus;
 }): Promise<Derivation> {
   return db.transaction(async (tx) => {
@@ -134,6 +148,7 @@ export async function createDerivation({
   });
 }
 
+/** Renames or replaces the content; null (nothing changed) when the derivation is locked. */
 export async function updateDerivationById({
   id,
   actorId,
@@ -141,27 +156,27 @@ export async function updateDerivationById({
 }: {
   id: string;
   actorId: string;
-  changes: { title?: string; status?: DerivationStatus; content?: Record<string, unknown> };
-}): Promise<Derivation> {
+  changes: { title?: string; content?: DerivationDocument };
+}): Promise<Derivation | null> {
   return db.transaction(async (tx) => {
+    const current = await lockDerivationRow(tx, id);
+    if (!current || current.lockedAt) return null;
     const derivation = returnedRow(
       await tx
-      .update(derivations)
-      .set({
-        ...(changes.title !== undefined ? { title: changes.title.trim() } : {}),
-        ...(changes.status !== undefined ? { status: changes.status } : {}),
-        ...(changes.content !== undefined ? { content: changes.content } : {}),
-        updatedById: actorId,
-        updatedAt: new Date(),
-      })
-      .where(eq(derivations.id, id))
-      .returning(),
+        .update(derivations)
+        .set({
+          ...(changes.title !== undefined ? { title: changes.title.trim() } : {}),
+          ...(changes.content !== undefined ? { content: changes.content } : {}),
+          pendingAuthorIds: [...new Set([...current.pendingAuthorIds, actorId])],
+          updatedById: actorId,
+          updatedAt: new Date(),
+        })
+        .where(eq(derivations.id, id))
+        .returning(),
       "derivation",
     );
-    await recordAuditEvent(
-      { teamId: derivation.teamId, actorId, action: "derivation.update", targetType: "derivation", targetId: id, details: { fields: Object.keys(changes) } },
-      tx,
-    );
+    const fields = Object.keys(changes).filter((key) => changes[key as keyof typeof changes] !== undefined);
+    await recordAuditEvent({ teamId: derivation.teamId, actorId, action: "derivation.update", targetType: "derivation", targetId: id, details: { fields } }, tx);
     return derivation;
   });
 }
@@ -193,15 +208,37 @@ export async function updateDerivationContentById({
 }: {
   id: string;
   actorId: string;
-  content: Record<string, unknown>;
+  content: DerivationDocument;
   baseUpdatedAt?: Date;
-}): Promise<Derivation | null> {
-  const conditions: SQL[] = [eq(derivations.id, id)];
-  if (baseUpdatedAt) conditions.push(sql`date_trunc('milliseconds', ${derivations.updatedAt}) = ${baseUpdatedAt.toISOString()}::timestamptz`);
-  const [derivation] = await db
-    .update(derivations)
-    .set({ content, updatedById: actorId, updatedAt: new Date() })
-    .where(and(...conditions))
-    .returning();
-  return derivation ?? null;
+}): Promise<SaveContentResult> {
+  return db.transaction(async (tx) => {
+    // The row lock orders this save against an approval of the same derivation.
+    const current = await lockDerivationRow(tx, id);
+    if (!current) return { status: "missing" } as const;
+    if (current.lockedAt) return { status: "locked", derivation: current } as const;
+    if (baseUpdatedAt && current.updatedAt.toISOString().slice(0, 23) !== baseUpdatedAt.toISOString().slice(0, 23)) {
+      return { status: "conflict", derivation: current } as const;
+    }
+    const now = new Date();
+    // After a pause in editing, the state the pause left is kept as an automatic revision.
+    if (now.getTime() - current.updatedAt.getTime() >= AUTO_REVISION_PAUSE_MS && current.pendingAuthorIds.length > 0) {
+      await currentRevision(tx, { derivation: current, kind: "auto", createdById: null });
+    }
+    const pendingAuthorIds = [...new Set([...(await pendingAuthorsOf(tx, id)), actorId])];
+    const saved = returnedRow(
+      await tx.update(derivations).set({ content, updatedById: actorId, updatedAt: now, pendingAuthorIds }).where(eq(derivations.id, id)).returning(),
+      "derivation",
+    );
+    // During long stretches of activity, at most every few minutes.
+    const latest = await getLatestRevisionByDerivationId({ derivationId: id }, tx);
+    if (!latest || now.getTime() - latest.createdAt.getTime() >= AUTO_REVISION_INTERVAL_MS) {
+      await currentRevision(tx, { derivation: saved, kind: "auto", createdById: null });
+    }
+    return { status: "saved", derivation: saved } as const;
+  });
+}
+
+async function pendingAuthorsOf(executor: Executor, id: string): Promise<string[]> {
+  const [row] = await executor.select({ pending: derivations.pendingAuthorIds }).from(derivations).where(eq(derivations.id, id)).limit(1);
+  return row?.pending ?? [];
 }

@@ -1,6 +1,7 @@
 import "server-only";
 import { and, eq, sql, type SQL } from "drizzle-orm";
 import { db } from "../client";
+import type { DerivationDocument } from "@/lib/notebook/document";
 import { derivations, type Derivation } from "../schema";
 import { recordAuditEvent } from "./audit";
 
@@ -21,7 +22,7 @@ export async function applyFittedParametersByDerivationId({
   id: string;
   teamId: string;
   actorId: string;
-  content: Record<string, unknown>;
+  content: DerivationDocument;
   values: Record<string, number>;
   fileId: string | null;
   baseUpdatedAt?: Date;

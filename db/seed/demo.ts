@@ -3,7 +3,7 @@
 // plausible round numbers chosen for the demo, not measured data.
 import type { DerivationStatus, MemberRole } from "@/lib/domain";
 import type { Model } from "@/lib/mechanics/model";
-import { createCell, modelToDocument, type Cell, type DerivationDocument } from "@/lib/notebook/document";
+import { createCell, modelToDocument, type Cell, type DerivationDocument, type StoredDocument } from "@/lib/notebook/document";
 
 export const demoPassword = "kestrel-demo-2041";
 export const demoTeam = { name: "Kestrel Lift & Motion", slug: "kestrel-lift-motion" };
@@ -98,7 +98,12 @@ const seatSuspension: Model = {
   forces: { z: "F_b" },
 };
 
-export const demoDerivations: { title: string; status: DerivationStatus; owner: string; content: Record<string, unknown> }[] = [
+/**
+ * The demo derivations. Content is stored as any version of the document may
+ * be, so the last one is a pre-notebook model file; scripts/seed.ts writes each
+ * through the same validation (and migration) as the API.
+ */
+export const demoDerivations: { title: string; status: DerivationStatus; owner: string; content: StoredDocument }[] = [
   {
     title: craneTrolley.title,
     status: "approved",
@@ -112,7 +117,7 @@ export const demoDerivations: { title: string; status: DerivationStatus; owner: 
         "For small swings about the hanging position the pendulum frequency is $$f = \\frac{1}{2\\pi}\\sqrt{\\frac{g}{l}\\left(1 + \\frac{m}{M}\\right)}$$",
       ].join("\n"),
       { linearization: true, code: "c" },
-    ) as unknown as Record<string, unknown>,
+    ),
   },
   {
     title: cameraGimbal.title,
@@ -126,7 +131,7 @@ export const demoDerivations: { title: string; status: DerivationStatus; owner: 
         "The centre of mass sits $h_c$ below the tilt axis, so the cradle rights itself; pan is free apart from damping.",
       ].join("\n"),
       { linearization: true, code: "python" },
-    ) as unknown as Record<string, unknown>,
+    ),
   },
   {
     title: seatSuspension.title,
@@ -139,7 +144,7 @@ export const demoDerivations: { title: string; status: DerivationStatus; owner: 
         "Expected undamped natural frequency $f_n = \\frac{1}{2\\pi}\\sqrt{k/m} \\approx 3.3$ Hz for the values below.",
       ].join("\n"),
       { linearization: true },
-    ) as unknown as Record<string, unknown>,
+    ),
   },
   {
     title: "Gantry crane: hoist drum and rope stretch",

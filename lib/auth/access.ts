@@ -16,7 +16,7 @@ export interface TeamAccess {
   membership: Membership;
 }
 
-const uuidPattern = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
+export const uuidPattern = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 
 /**
  * For ids that are not resolved through loadTeamFor / loadDerivationFor (e.g. a
@@ -48,7 +48,7 @@ export async function loadDerivationFor(user: SessionUser, derivationId: string,
     ? await getMembershipByTeamIdAndUserId({ teamId: derivation.teamId, userId: user.id })
     : null;
   if (!derivation || !membership) throw new AppError("not_found:derivation", "Derivation not found.");
-  assertCan(membership.role, action, { status: derivation.status });
+  assertCan(membership.role, action, { status: derivation.status, locked: derivation.lockedAt !== null });
   return { derivation, membership };
 }
 

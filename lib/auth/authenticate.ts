@@ -1,4 +1,5 @@
 import "server-only";
+import { recordAuditEvent } from "@/db/queries/audit";
 import { countSignInFailuresByEmail, recordSignInAttempt } from "@/db/queries/sign-in-attempts";
 import { getUserByEmail } from "@/db/queries/users";
 import type { User } from "@/db/schema";
@@ -31,13 +32,32 @@ export async function authenticate({
   try {
     const since = new Date(Date.now() - env.SIGN_IN_WINDOW_MINUTES * 60_000);
     const failures = await countSignInFailuresByEmail({ email, since });
-    if (failures >= env.SIGN_IN_MAX_FAILURES) return { status: "rate_limited" };
-    if (clientAddress !== null && (await isRateLimited(rateLimits.signInFailuresByAddress, clientAddress))) return { status: "rate_limited" };
+    const limited =
+      failures >= env.SIGN_IN_MAX_FAILURES || (clientAddress !== null && (await isRateLimited(rateLimits.signInFailuresByAddress, clientAddress)));
     const user = await getUserByEmail({ email });
+    // Every attempt is audited against the account it named (none for an unknown e-mail).
+    const audit = (action: string, reason?: string) =>
+      recordAuditEvent({
+        teamId: null,
+        actorId: user?.id ?? null,
+        action,
+        targetType: "user",
+        targetId: user?.id ?? null,
+        details: reason ? { email, reason } : { email },
+        address: clientAddress,
+      });
+    if (limited) {
+      await audit("auth.sign_in_failed", "rate_limited");
+      return { status: "rate_limited" };
+    }
     const valid = user ? await verifyPassword(password, user.passwordHash) : await verifyAgainstDummy(password);
     await recordSignInAttempt({ email, succeeded: valid });
     if (!valid && clientAddress !== null) await countAgainst(rateLimits.signInFailuresByAddress, clientAddress);
-    if (!valid || !user) return { status: "invalid" };
+    if (!valid || !user) {
+      await audit("auth.sign_in_failed", "invalid_credentials");
+      return { status: "invalid" };
+    }
+    await audit("auth.sign_in");
     return { status: "ok", user };
   } catch (error) {
     if (isDatabaseUnavailable(error)) {

@@ -8,6 +8,8 @@ export const actions = [
   "team:read",
   "team:manage-members",
   "team:invite",
+  "team:audit",
+  "team:manage-tokens",
   "derivation:read",
   "derivation:create",
   "derivation:edit",
@@ -18,6 +20,8 @@ export const actions = [
   "derivation:lock",
   "derivation:attach",
   "derivation:simulate",
+  "derivation:request-review",
+  "derivation:review",
 ] as const;
 export type Action = (typeof actions)[number];
 
@@ -25,7 +29,25 @@ export type Action = (typeof actions)[number];
 export interface ResourceContext {
   /** Status of the derivation the action targets. */
   status?: DerivationStatus;
+  /** Whether the derivation is approved and locked (then nothing may change it until a lead unlocks it). */
+  locked?: boolean;
 }
+
+/**
+ * Actions that change a derivation's record. While it is locked they are refused
+ * for every role with 423, whatever the role allows otherwise; unlocking
+ * (`derivation:lock`) is how a lead reopens it.
+ */
+export const writeActions: ReadonlySet<Action> = new Set<Action>([
+  "derivation:edit",
+  "derivation:rename",
+  "derivation:delete",
+  "derivation:attach",
+  "derivation:simulate",
+  "derivation:request-review",
+  "derivation:review",
+  "derivation:approve",
+]);
 
 type Rule = boolean | ((resource: ResourceContext | undefined) => boolean);
 
@@ -37,6 +59,10 @@ const rules: Record<Action, Record<MemberRole, Rule>> = {
   "team:read": { lead: true, analyst: true, reviewer: true, viewer: true },
   "team:manage-members": { lead: true, analyst: false, reviewer: false, viewer: false },
   "team:invite": { lead: true, analyst: false, reviewer: false, viewer: false },
+  // The audit log names people, addresses and times: leads only.
+  "team:audit": { lead: true, analyst: false, reviewer: false, viewer: false },
+  // API tokens read the team's approved equations from outside: leads issue and revoke them.
+  "team:manage-tokens": { lead: true, analyst: false, reviewer: false, viewer: false },
   "derivation:read": { lead: true, analyst: true, reviewer: true, viewer: true },
   "derivation:create": { lead: true, analyst: true, reviewer: false, viewer: false },
   "derivation:edit": { lead: true, analyst: notApproved, reviewer: false, viewer: false },
@@ -50,18 +76,29 @@ const rules: Record<Action, Record<MemberRole, Rule>> = {
   // Running a simulation or a fit stores a run but leaves the document alone,
   // so reviewers may check a derivation by running it.
   "derivation:simulate": { lead: true, analyst: true, reviewer: true, viewer: false },
+  // Whoever may edit asks for review; reviewers and leads sign off or request changes.
+  "derivation:request-review": { lead: true, analyst: true, reviewer: false, viewer: false },
+  "derivation:review": { lead: true, analyst: false, reviewer: true, viewer: false },
 };
 
-/** May a member with `role` perform `action` (on `resource`)? No role means no. */
+/** May a member with `role` perform `action` (on `resource`)? No role means no; a locked derivation refuses every write. */
 export function can(role: MemberRole | null | undefined, action: Action, resource?: ResourceContext): boolean {
   if (!role) return false;
+  if (resource?.locked && writeActions.has(action)) return false;
   const rule = rules[action][role];
   return typeof rule === "function" ? rule(resource) : rule;
 }
 
-/** Throws AppError("forbidden:<surface>") unless `can` says yes. */
+/**
+ * Throws unless `can` says yes: AppError("locked:derivation") (423) for a write to a
+ * locked derivation that the role could otherwise make, AppError("forbidden:<surface>") otherwise.
+ */
 export function assertCan(role: MemberRole | null | undefined, action: Action, resource?: ResourceContext): void {
   if (!can(role, action, resource)) {
+    // The lock is the reason when the role could make this change to an unlocked draft.
+    if (resource?.locked && writeActions.has(action) && can(role, action, { status: "draft", locked: false })) {
+      throw new AppError("locked:derivation", "This derivation is approved and locked. A lead can unlock it, giving a reason.");
+    }
     const surface = action.split(":")[0] as ErrorSurface;
     throw new AppError(`forbidden:${surface}`, `Your role (${role ?? "none"}) does not allow ${action}.`);
   }

@@ -19,6 +19,9 @@ export const rateLimits = {
   passwordResetByEmail: { action: "password_reset:email", max: 5, windowMinutes: 15 },
   signUpByAddress: { action: "sign_up:address", max: 20, windowMinutes: 60 },
   signUpByEmail: { action: "sign_up:email", max: 5, windowMinutes: 60 },
+  // The public API: a build may poll, but not hammer; guessing tokens is cut off early.
+  apiRequestsByToken: { action: "api:token", max: 600, windowMinutes: 10 },
+  apiTokenFailuresByAddress: { action: "api_failure:address", max: 30, windowMinutes: 15 },
 } satisfies Record<string, RateLimit>;
 
 const windowStart = (limit: RateLimit) => new Date(Date.now() - limit.windowMinutes * 60_000);

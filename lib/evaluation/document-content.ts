@@ -1,34 +1,51 @@
 import {
-  blankDocument,
   DocumentError,
   documentToModel,
-  modelToDocument,
   parseStoredDocument,
   type DerivationDocument,
+  type DocumentIssue,
 } from "@/lib/notebook/document";
 import type { Model } from "@/lib/mechanics/model";
 import { ModelError } from "@/lib/mechanics/errors";
-import { validateModel } from "@/lib/mechanics/validate-model";
-import { AppError } from "@/lib/errors";
+import { AppError, type FieldErrors } from "@/lib/errors";
+
+/** At most this many issues travel in one answer; the first ones locate the problem. */
+const MAX_ISSUES = 50;
+
+function fieldErrorsOf(issues: DocumentIssue[], field: string): FieldErrors {
+  const fieldErrors: FieldErrors = {};
+  for (const issue of issues.slice(0, MAX_ISSUES)) (fieldErrors[issue.path ? `${field}.${issue.path}` : field] ??= []).push(issue.message);
+  return fieldErrors;
+}
 
 /**
- * The notebook document stored in a derivation's content. Rows written before
- * the notebook existed hold a model file (or nothing); those are read as the
- * document the model file converts to, so every derivation opens.
+ * The one gate for content written to a derivation (create, update, autosave,
+ * import, fits, seed): a document of any schema version (a pre-notebook model
+ * file is version 0) in, the migrated and validated document out. Throws a 400
+ * with field errors keyed `<field>.<path>` (`content.cells[2].rows[0].name`), or
+ * a 422 for a document written by a newer Holonomy than this one.
+ */
+export function validDocumentOrThrow(input: unknown, { field = "document", title }: { field?: string; title?: string } = {}): DerivationDocument {
+  const parsed = parseStoredDocument(input, { title });
+  if (parsed.ok) return parsed.document;
+  const fieldErrors = fieldErrorsOf(parsed.issues, field);
+  if (parsed.newerVersion !== undefined) {
+    throw new AppError("unprocessable:derivation", `This notebook document was written by a newer version of Holonomy (schema ${parsed.newerVersion}); update Holonomy to open it.`, { fieldErrors });
+  }
+  throw new AppError("bad_request:validation", "The notebook document is not valid.", { fieldErrors });
+}
+
+/**
+ * The notebook document stored in a derivation's content, migrated from the
+ * version it was written at (rows written before the notebook hold a model
+ * file, or nothing). A 422 listing the issues when it cannot be read; the
+ * notebook page shows those instead (see `parseStoredDocument`).
  */
 export function documentFromContent(content: unknown, title: string): DerivationDocument {
-  const stored = parseStoredDocument(content);
+  const stored = parseStoredDocument(content, { title });
   if (stored.ok) return stored.document;
-  if (content === null || typeof content !== "object" || Object.keys(content).length === 0) return blankDocument(title);
-  if (!("cells" in content)) {
-    try {
-      return modelToDocument({ ...(validateModel(content) as Model), title: (content as { title?: string }).title ?? title });
-    } catch {
-      // fall through: neither a document nor a model file
-    }
-  }
-  throw new AppError("unprocessable:derivation", "The stored content of this derivation is not a notebook document.", {
-    details: { issues: stored.issues.slice(0, 20) },
+  throw new AppError("unprocessable:derivation", "The stored content of this derivation is not a notebook document this version of Holonomy can read.", {
+    details: { issues: stored.issues.slice(0, MAX_ISSUES) },
   });
 }
 

@@ -10,11 +10,12 @@ import type { CodeExportInput, CodeLanguage } from "@/lib/mechanics/codegen";
 import type { MassMatrixSystem } from "@/lib/mechanics/compile";
 import type { Equilibrium } from "@/lib/mechanics/equilibria";
 import { symbolLatex, type LatexTerm } from "@/lib/mechanics/latex";
-import type { Linearization } from "@/lib/mechanics/linearize";
+import { matchEigenvalues, type Linearization } from "@/lib/mechanics/linearize";
+import { stabilityTolerance } from "@/lib/mechanics/stability";
 import type { Model } from "@/lib/mechanics/model";
 import type { PrintedDerivation } from "@/lib/mechanics/print";
 import type { CodeExportLanguage, DerivationDocument, LinearizationCell } from "@/lib/notebook/document";
-import type { NotebookResults } from "@/lib/notebook/results";
+import type { ModeView, NotebookResults } from "@/lib/notebook/results";
 
 /** Anything that runs the engine's named tasks: the server's EnginePool, or an in-process stand-in. */
 export interface EngineRunner {
@@ -49,6 +50,8 @@ export interface EvaluationResult extends NotebookResults {
   /** M and f in the input syntax (residual = M q'' − f), for code export and the API. */
   massMatrix: string[][];
   forcing: string[];
+  /** Coordinates neither M nor f contains (the engine's freeCoordinates): relinearizing a stored result keeps one equilibrium per continuum. */
+  freeCoordinates?: string[];
   /** Why there is no linearization (symbolic parameters, no equilibrium found…); absent when there is one. */
   linearizationNote?: string;
   equilibria?: (Equilibrium & { label: string })[];
@@ -212,7 +215,11 @@ export async function analyseSystem(
   const index = Math.min(Math.max(0, settings.equilibriumIndex), equilibria.length - 1);
   const chosen = equilibria[index]!;
   const lin = await runner.run<Linearization>("linearize", { system, point: { q: chosen.q, inputs: inputValues } });
-  const oscillating = lin.modes.filter((mode) => mode.hertz !== null);
+  // The verdict is the equilibrium's own (classifyStability), so the list and the cell always agree.
+  // Eigenvalue parts within the rule's tolerance of 0 are shown as 0, as the rule reads them.
+  const tolerance = stabilityTolerance(lin.A);
+  const rounded = (l: { re: number; im: number }) => ({ re: Math.abs(l.re) <= tolerance ? 0 : l.re, im: Math.abs(l.im) <= tolerance ? 0 : l.im });
+  const damped = matchEigenvalues(lin.modes, lin.eigenvalues);
   return {
     equilibria,
     linearization: {
@@ -221,15 +228,55 @@ export async function analyseSystem(
         index,
         stateNames: lin.state,
         inputNames: lin.inputs,
-        A: lin.A,
-        B: lin.B,
-        frequenciesHz: oscillating.map((mode) => mode.hertz!),
-        // Columns are modes, rows are coordinates.
-        modeShapes: system.coordinates.map((_, i) => oscillating.map((mode) => mode.shape[i]!)),
-        stable: chosen.stability === "stable",
+        A: withoutRoundingNoise(lin.A, system.coordinates.length),
+        B: withoutRoundingNoise(lin.B, system.coordinates.length),
+        modes: lin.modes.map(
+          (mode, k): ModeView => ({ kind: mode.kind, hertz: mode.hertz, growthRate: mode.growthRate, shape: mode.shape, eigenvalue: damped[k] ? rounded(damped[k]) : null }),
+        ),
+        eigenvalues: lin.eigenvalues.map(rounded),
+        stability: chosen.stability,
+        stabilityReason: chosen.stabilityReason,
       },
     },
   };
+}
+
+/** Relative size below which a matrix entry is rounding noise (a few ulps of the block it sits in). */
+export const ROUNDING_NOISE = 1e-12;
+
+/**
+ * A state or input matrix with rounding noise written as 0: an entry whose
+ * size is at most ROUNDING_NOISE × the largest entry of its block. Blocks
+ * follow the units: the rows of q' (the first `n`) apart from the rows of q'',
+ * and within those the columns of q, of q' (A) or of each input (B), so a
+ * small damping entry is never judged against a large stiffness one.
+ *
+ * @example withoutRoundingNoise([[0, 1], [-4, 3.67e-15]], 1) // [[0, 1], [-4, 0]] only if 3.67e-15 is noise next to its block
+ */
+export function withoutRoundingNoise(matrix: readonly (readonly number[])[], n: number): number[][] {
+  const columns = matrix[0]?.length ?? 0;
+  // A has two column blocks (q, q'); B one block per input column.
+  const blockOf = (j: number) => (columns === 2 * n ? (j < n ? 0 : 1) : j);
+  const rowBlock = (i: number) => (i < n ? 0 : 1);
+  const largest = new Map<string, number>();
+  matrix.forEach((row, i) =>
+    row.forEach((value, j) => {
+      const key = `${rowBlock(i)},${blockOf(j)}`;
+      largest.set(key, Math.max(largest.get(key) ?? 0, Math.abs(value)));
+    }),
+  );
+  return matrix.map((row, i) => row.map((value, j) => (Math.abs(value) <= ROUNDING_NOISE * largest.get(`${rowBlock(i)},${blockOf(j)}`)! ? 0 : value)));
+}
+
+/** What keeps the energy function from being conserved, in words (deriveModel's condition, spelled out). */
+export function energyNotConservedReason(model: Model, derived: Pick<PrintedDerivation, "explicitTime">): string {
+  const forced = Object.entries(model.forces ?? {}).filter(([, text]) => text.trim() !== "" && text.trim() !== "0");
+  const reasons = [
+    ...(derived.explicitTime ? ["the Lagrangian depends on t explicitly"] : []),
+    ...(!["", "0"].includes((model.dissipation ?? "").trim()) ? ["the dissipation function removes energy"] : []),
+    ...(forced.length > 0 ? [`applied forces act (${forced.map(([coordinate, text]) => `${text.trim()} on ${coordinate}`).join(", ")})`] : []),
+  ];
+  return reasons.length > 0 ? reasons.join("; ") : "the derivation found a non-conservative term";
 }
 
 /** The code-export input for a derivation result. */
@@ -261,6 +308,16 @@ export async function evaluateModel(runner: EngineRunner, model: Model, settings
     terms: equation.terms,
   }));
   const conserved = derived.conserved.map((quantity) => ({ name: quantity.name, latex: quantity.latex, reason: quantity.reason }));
+  const cyclicMomenta = derived.cyclicMomenta.map((entry) => {
+    const p = `p_{${symbolLatex(entry.coordinate, 0)}}`;
+    return {
+      coordinate: entry.coordinate,
+      conserved: entry.conserved,
+      rateLatex: `${p} = ${entry.latex.momentum},\\qquad \\dot{${p}} = ${entry.latex.rate}`,
+      actedOnBy: entry.actedOnBy,
+    };
+  });
+  const energyNotConserved = derived.conserved.some((quantity) => quantity.name === "energy function") ? undefined : energyNotConservedReason(model, derived);
   const afterLatex = performance.now();
 
   const system = mechanicalSystemOf(model, derived);
@@ -288,11 +345,14 @@ export async function evaluateModel(runner: EngineRunner, model: Model, settings
     coordinates: derived.coordinates,
     massMatrix: derived.massMatrix,
     forcing: derived.forcing,
+    freeCoordinates: derived.freeCoordinates,
     equations,
     massMatrixLatex: massMatrixLatex(derived),
     ...accelerationsView(derived),
     energyLatex: derived.latex.energy,
     conserved,
+    cyclicMomenta,
+    ...(energyNotConserved ? { energyNotConserved } : {}),
     ...(analysis.linearization ? { linearization: analysis.linearization } : {}),
     ...(analysis.note ? { linearizationNote: analysis.note } : {}),
     equilibria: analysis.equilibria,
@@ -304,4 +364,29 @@ export async function evaluateModel(runner: EngineRunner, model: Model, settings
 
 function round(ms: number): number {
   return Math.round(ms * 100) / 100;
+}
+
+/**
+ * An evaluation's result linearized about another equilibrium or input: only
+ * the equilibrium search and the linearization run; the derivation (M and f)
+ * is taken from `base`, so nothing is derived again.
+ */
+export async function relinearize(
+  runner: EngineRunner,
+  model: Model,
+  base: EvaluationResult,
+  settings: LinearizationSettings,
+): Promise<{ result: EvaluationResult; timings: Pick<EvaluationTimings, "analysisMs" | "totalMs"> }> {
+  const started = performance.now();
+  const system = mechanicalSystemOf(model, base);
+  const analysis = "reason" in system ? { equilibria: [], note: system.reason } : await analyseSystem(runner, system, settings, base.freeCoordinates ?? []);
+  const { linearization: _linearization, linearizationNote: _note, ...rest } = base;
+  const result: EvaluationResult = {
+    ...rest,
+    ...(analysis.linearization ? { linearization: analysis.linearization } : {}),
+    ...(analysis.note ? { linearizationNote: analysis.note } : {}),
+    equilibria: analysis.equilibria,
+  };
+  const analysisMs = round(performance.now() - started);
+  return { result, timings: { analysisMs, totalMs: analysisMs } };
 }

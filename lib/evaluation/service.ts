@@ -5,7 +5,20 @@ import type { Model } from "@/lib/mechanics/model";
 import type { DerivationDocument } from "@/lib/notebook/document";
 import { AppError } from "@/lib/errors";
 import { modelErrorToAppError, modelFromDocument } from "./document-content";
-import { evaluateModel, evaluationHash, settingsOfDocument, type EngineRunner, type EvaluationResult, type LinearizationSettings } from "./evaluate";
+import type { CodeLanguage } from "@/lib/mechanics/codegen";
+import {
+  codeExportInput,
+  codeFileName,
+  engineCodeLanguage,
+  evaluateModel,
+  evaluationHash,
+  relinearize,
+  settingsOfDocument,
+  type EngineRunner,
+  type EvaluationResult,
+  type EvaluationSettings,
+  type LinearizationSettings,
+} from "./evaluate";
 import { getEnginePool } from "@/lib/workers/engine-pool";
 import { engineVersion } from "@/lib/workers/worker-file";
 
@@ -46,18 +59,8 @@ export async function evaluateModelCached({
   const started = performance.now();
   const version = engineVersion();
   const modelHash = evaluationHash(model, settings, version);
-  const hit = await getEvaluationByModelHash({ modelHash });
-  if (hit) {
-    return {
-      cached: true,
-      modelHash,
-      engineVersion: hit.engineVersion,
-      result: hit.result as unknown as EvaluationResult,
-      timings: hit.timings,
-      requestMs: Math.round((performance.now() - started) * 100) / 100,
-      evaluatedAt: hit.updatedAt.toISOString(),
-    };
-  }
+  const hit = await cachedEvaluation(modelHash, started);
+  if (hit) return hit;
   let evaluated;
   try {
     evaluated = await evaluateModel(runner ?? getEnginePool(), model, settings);
@@ -81,7 +84,68 @@ export async function evaluateModelCached({
   };
 }
 
-/** Evaluates a notebook document (its model, its linearization and code-export settings). */
+/** The cached evaluation under `modelHash`, or null on a miss. */
+async function cachedEvaluation(modelHash: string, started: number): Promise<EvaluationResponse | null> {
+  const hit = await getEvaluationByModelHash({ modelHash });
+  if (!hit) return null;
+  return {
+    cached: true,
+    modelHash,
+    engineVersion: hit.engineVersion,
+    result: hit.result as unknown as EvaluationResult,
+    timings: hit.timings,
+    requestMs: Math.round((performance.now() - started) * 100) / 100,
+    evaluatedAt: hit.updatedAt.toISOString(),
+  };
+}
+
+/**
+ * A model's evaluation with other linearization settings than `base`: the
+ * evaluation with `base` (cached, or run once) supplies the derivation, and
+ * only the equilibria and the linearization are computed again. Choosing
+ * another equilibrium costs the analysis, never a new derivation.
+ */
+async function relinearizedModelCached({
+  model,
+  base,
+  settings,
+  runner,
+}: {
+  model: Model;
+  base: EvaluationSettings;
+  settings: EvaluationSettings;
+  runner?: EngineRunner;
+}): Promise<EvaluationResponse> {
+  const started = performance.now();
+  const version = engineVersion();
+  const modelHash = evaluationHash(model, settings, version);
+  const hit = await cachedEvaluation(modelHash, started);
+  if (hit) return hit;
+  const derived = await evaluateModelCached({ model, settings: base, runner });
+  let relinearized;
+  try {
+    relinearized = await relinearize(runner ?? getEnginePool(), model, derived.result, settings.linearization);
+  } catch (error) {
+    throw engineErrorToAppError(error);
+  }
+  const timings = { ...relinearized.timings };
+  const row = await upsertEvaluationByModelHash({ modelHash, engineVersion: version, result: relinearized.result as unknown as Record<string, unknown>, timings });
+  return {
+    cached: false,
+    modelHash,
+    engineVersion: version,
+    result: relinearized.result,
+    timings,
+    requestMs: Math.round((performance.now() - started) * 100) / 100,
+    evaluatedAt: row.updatedAt.toISOString(),
+  };
+}
+
+/**
+ * Evaluates a notebook document (its model, its linearization and code-export
+ * settings). With other linearization settings than the document's, the
+ * document's own evaluation is reused and only the linearization is redone.
+ */
 export async function evaluateDocumentCached({
   document,
   linearization,
@@ -90,5 +154,38 @@ export async function evaluateDocumentCached({
   linearization?: Partial<LinearizationSettings>;
 }): Promise<EvaluationResponse> {
   const model = modelFromDocument(document);
-  return evaluateModelCached({ model, settings: settingsOfDocument(document, linearization) });
+  const own = settingsOfDocument(document);
+  if (!linearization) return evaluateModelCached({ model, settings: own });
+  const settings = settingsOfDocument(document, linearization);
+  const version = engineVersion();
+  if (evaluationHash(model, settings, version) === evaluationHash(model, own, version)) return evaluateModelCached({ model, settings: own });
+  return relinearizedModelCached({ model, base: own, settings });
+}
+
+/**
+ * The document's model as code in `language`: from the document's evaluation
+ * when it already holds that language, otherwise exported from its M and f
+ * (no new derivation). `fallbackTitle` names the file when the document has no title.
+ */
+export async function codeOfDocument({
+  document,
+  language,
+  fallbackTitle,
+}: {
+  document: DerivationDocument;
+  language: CodeLanguage;
+  fallbackTitle: string;
+}): Promise<{ language: CodeLanguage; filename: string; source: string }> {
+  const model = modelFromDocument(document);
+  if (!model.title.trim()) model.title = fallbackTitle;
+  const { result } = await evaluateDocumentCached({ document });
+  let source = result.code?.find((entry) => engineCodeLanguage(entry.language as "octave") === language)?.source;
+  if (source === undefined) {
+    try {
+      ({ code: source } = await getEnginePool().run<{ code: string }>("exportCode", { input: codeExportInput(model, result), language }));
+    } catch (error) {
+      throw engineErrorToAppError(error);
+    }
+  }
+  return { language, filename: codeFileName(model.title, language), source };
 }

@@ -51,6 +51,23 @@ export interface ConservedQuantity {
   reason: string;
 }
 
+/**
+ * A cyclic coordinate (L does not depend on it) and the balance of its
+ * momentum p = ∂L/∂q': dp/dt = Q − ∂D/∂q', the applied generalized force on
+ * it minus the dissipation acting on it. Conserved when both are absent.
+ */
+export interface CyclicMomentum {
+  coordinate: string;
+  momentum: Expr;
+  conserved: boolean;
+  /** dp/dt; the number 0 when conserved. */
+  rate: Expr;
+  /** `momentum` and `rate` in display form. */
+  display: { momentum: Expr; rate: Expr };
+  /** What acts on the coordinate: an applied force (the model's forces entry), the dissipation function, both, or neither. */
+  actedOnBy: ("applied force" | "dissipation")[];
+}
+
 export type HamiltonianResult =
   | { available: true; expr: Expr; momenta: { coordinate: string; symbol: string }[] }
   | { available: false; reason: string };
@@ -76,6 +93,8 @@ export interface DerivationResult {
   momenta: MomentumResult[];
   /** Coordinates L does not depend on. */
   cyclic: string[];
+  /** The momentum balance of each cyclic coordinate, in the order of `cyclic`. */
+  cyclicMomenta: CyclicMomentum[];
   /**
    * Coordinates that neither M nor f contains (only their rates and
    * accelerations appear): the equations do not fix their value, so every
@@ -142,11 +161,26 @@ export function deriveModel(model: Model, options: DeriveOptions = {}): Derivati
       reason: "L has no explicit t and there is no dissipation or applied force",
     });
   }
+  const cyclicMomenta: CyclicMomentum[] = [];
   names.forEach((name, i) => {
     if (!canonical.cyclic[i]) return;
-    const dissipates = alg.dependsOn(canonical.dissipation, space.rates[i]!);
-    if (canonical.forces[i]!.size === 0 && !dissipates) {
-      const momentum = canonical.momenta[i]!;
+    // With ∂L/∂q = 0 Lagrange's equation leaves dp/dt = Q − ∂D/∂q'.
+    const dissipative = partialDerivative(alg, space.rates[i]!).apply(canonical.dissipation);
+    const rate = alg.sub(canonical.forces[i]!, dissipative);
+    const actedOnBy: CyclicMomentum["actedOnBy"] = [];
+    if (canonical.forces[i]!.size > 0) actedOnBy.push("applied force");
+    if (dissipative.size > 0) actedOnBy.push("dissipation");
+    const momentum = canonical.momenta[i]!;
+    const isConserved = rate.size === 0;
+    cyclicMomenta.push({
+      coordinate: name,
+      momentum: tree(momentum),
+      conserved: isConserved,
+      rate: tree(rate),
+      display: { momentum: display(momentum), rate: display(rate) },
+      actedOnBy,
+    });
+    if (isConserved) {
       conserved.push({ name: `momentum of ${name}`, expr: tree(momentum), display: display(momentum), reason: `${name} is cyclic and no force or dissipation acts on it` });
     }
   });
@@ -164,6 +198,7 @@ export function deriveModel(model: Model, options: DeriveOptions = {}): Derivati
     display: { massMatrix: canonical.massMatrix.map((row) => row.map(display)), forcing: canonical.forcing.map(display), energy: display(canonical.energy) },
     momenta: canonical.momenta.map((p, i) => ({ coordinate: names[i]!, expr: tree(p) })),
     cyclic: names.filter((_, i) => canonical.cyclic[i]),
+    cyclicMomenta,
     freeCoordinates,
     conserved,
     explicitTime: canonical.explicitTime,

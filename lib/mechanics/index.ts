@@ -15,6 +15,7 @@ export type {
   EquationResult,
   MomentumResult,
   ConservedQuantity,
+  CyclicMomentum,
   HamiltonianResult,
   DerivationTiming,
 } from "./derive";
@@ -29,10 +30,12 @@ export type { CompiledExpressions, CompileOptions, MassMatrixSystem, CompiledMas
 export { ExpressionGraph } from "./graph";
 export { residualJacobians } from "./jacobians";
 export type { ResidualJacobians } from "./jacobians";
-export { linearizeAbout, compileAnalysis, normalModes } from "./linearize";
-export type { OperatingPoint, Linearization, Mode, Complex, CompiledAnalysis } from "./linearize";
+export { linearizeAbout, compileAnalysis, normalModes, matchEigenvalues } from "./linearize";
+export type { OperatingPoint, Linearization, Mode, ModeKind, Complex, CompiledAnalysis } from "./linearize";
 export { findEquilibria, wrapAngle } from "./equilibria";
 export type { Equilibrium, EquilibriumOptions, Stability } from "./equilibria";
+export { classifyStability, frequencyScale, stabilityTolerance, formatEigenvalue, STABILITY_RULE, STABILITY_TOLERANCE } from "./stability";
+export type { StabilityVerdict } from "./stability";
 export { checkModelUnits, unitOfExpression, parseUnit, formatDimension, isAngleUnit } from "./units";
 export type { Dimension } from "./units";
 export { toLatex, toLatexTerms, joinLatexTerms, symbolLatex, termId } from "./latex";

@@ -34,6 +34,15 @@ export interface PrintedDerivation {
   latex: { massMatrix: string[][]; forcing: string[]; energy: string };
   momenta: { coordinate: string; expr: string }[];
   cyclic: string[];
+  /** The momentum balance of each cyclic coordinate: p and dp/dt as text and as LaTeX of the display form. */
+  cyclicMomenta: {
+    coordinate: string;
+    momentum: string;
+    rate: string;
+    latex: { momentum: string; rate: string };
+    conserved: boolean;
+    actedOnBy: ("applied force" | "dissipation")[];
+  }[];
   freeCoordinates: string[];
   conserved: { name: string; expr: string; latex: string; reason: string }[];
   explicitTime: boolean;
@@ -66,6 +75,14 @@ export function printDerivation(result: DerivationResult): PrintedDerivation {
     },
     momenta: result.momenta.map((p) => ({ coordinate: p.coordinate, expr: text(p.expr) })),
     cyclic: result.cyclic,
+    cyclicMomenta: result.cyclicMomenta.map((c) => ({
+      coordinate: c.coordinate,
+      momentum: text(c.momentum),
+      rate: text(c.rate),
+      latex: { momentum: toLatex(c.display.momentum), rate: toLatex(c.display.rate) },
+      conserved: c.conserved,
+      actedOnBy: c.actedOnBy,
+    })),
     freeCoordinates: result.freeCoordinates,
     conserved: result.conserved.map((q) => ({ name: q.name, expr: text(q.expr), latex: toLatex(q.display), reason: q.reason })),
     explicitTime: result.explicitTime,

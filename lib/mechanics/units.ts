@@ -217,17 +217,29 @@ class UnitInference {
     return DIMENSIONLESS;
   }
 
+  /**
+   * The unit of a sum whose terms must agree. When they do not, the term
+   * blamed (underlined) is one that disagrees with the unit most terms share;
+   * on a tie the earlier terms set the unit, so the later one is blamed.
+   * checkModelUnits checks a cell's top-level terms against the cell's
+   * expected unit instead, which decides even a two-term tie.
+   */
   private sum(e: Expr): Dimension | null {
-    let first: { term: Expr; unit: Dimension } | null = null;
+    const terms: { term: Expr; unit: Dimension }[] = [];
     for (const { term } of topLevelTerms(e)) {
       const unit = this.of(term);
-      if (unit === null) continue;
-      if (first === null) first = { term, unit };
-      else if (!sameDimension(first.unit, unit)) {
-        this.fail(term, `the term ${this.quote(term)} has unit ${formatDimension(unit)} but ${this.quote(first.term)} has unit ${formatDimension(first.unit)}`);
-      }
+      if (unit !== null) terms.push({ term, unit });
     }
-    return first === null ? null : first.unit;
+    if (terms.length === 0) return null;
+    const majority = terms.reduce((best, candidate) => {
+      const count = (unit: Dimension) => terms.filter((t) => sameDimension(t.unit, unit)).length;
+      return count(candidate.unit) > count(best.unit) ? candidate : best;
+    });
+    const odd = terms.find((t) => !sameDimension(t.unit, majority.unit));
+    if (odd) {
+      this.fail(odd.term, `the term ${this.quote(odd.term)} has unit ${formatDimension(odd.unit)} but ${this.quote(majority.term)} has unit ${formatDimension(majority.unit)}`);
+    }
+    return majority.unit;
   }
 }
 
@@ -281,7 +293,8 @@ export function checkModelUnits(model: Model, equations?: readonly { coordinate:
     // The model's text is pointed at by column; a derived equation is quoted by its printed term.
     const tree = expressionTree(source, derived ? DERIVED_EXPRESSION_LIMITS : DEFAULT_PARSE_LIMITS);
     const inference = new UnitInference(lookup, field, typeof source === "string" && !derived ? source : null);
-    inference.of(tree); // the terms of every inner sum must agree first
+    // Each top-level term against the cell's unit (inner sums by majority inside
+    // inference.of), so the term underlined is the one that is not, say, an energy.
     for (const { term } of topLevelTerms(tree)) {
       const unit = inference.of(term);
       if (unit !== null && !sameDimension(unit, expected)) {

@@ -25,6 +25,14 @@ export interface NotebookResults {
   accelerationsNote?: string;
   energyLatex?: string;
   conserved?: { name: string; latex: string; reason: string }[];
+  /** Why the energy function is not conserved (explicit time, dissipation, applied forces); absent when it is. */
+  energyNotConserved?: string;
+  /**
+   * Each cyclic coordinate (L does not depend on it) with its momentum and the
+   * momentum balance dp/dt = Q − ∂D/∂q' as one LaTeX line, and what acts on it;
+   * `conserved` when nothing does.
+   */
+  cyclicMomenta?: { coordinate: string; conserved: boolean; rateLatex: string; actedOnBy: string[] }[];
   linearization?: {
     equilibria: { label: string; values: Record<string, number> }[];
     /** For the equilibrium the linearization cell chose. */
@@ -34,14 +42,34 @@ export interface NotebookResults {
       inputNames: string[];
       A: number[][];
       B: number[][];
-      /** Natural frequencies in Hz, with mode shapes as columns over the coordinates. */
-      frequenciesHz: number[];
-      modeShapes: number[][];
-      stable: boolean;
+      /** Every mode of K v = ω² M v, by ω²: oscillating, rigid (ω = 0) and divergent (ω² < 0) ones. */
+      modes: ModeView[];
+      /** Eigenvalues of A, rounding noise below the stability tolerance written as 0. */
+      eigenvalues: { re: number; im: number }[];
+      /** The verdict of the one stability rule (lib/mechanics/stability.ts), as the equilibrium list shows it. */
+      stability: "stable" | "marginal" | "unstable";
+      /** The clause of the rule that decided, in words. */
+      stabilityReason: string;
     };
   };
   code?: { language: string; filename: string; source: string }[];
   timingMs?: number;
+}
+
+/** One mode of the linearization, as the notebook shows it. */
+export interface ModeView {
+  kind: "oscillating" | "rigid" | "divergent";
+  /** Undamped natural frequency; 0 for a rigid mode, null for a divergent one. */
+  hertz: number | null;
+  /** √(−ω²) in 1/s for a divergent mode (the undamped motion grows like exp(rate·t)), else null. */
+  growthRate: number | null;
+  /** Over the coordinates, largest entry +1. */
+  shape: number[];
+  /**
+   * The mode's eigenvalue of A (Im λ > 0) once damping is included, when it has
+   * an oscillating one: damped frequency Im λ/2π, damping ratio ζ = −Re λ/|λ|.
+   */
+  eigenvalue: { re: number; im: number } | null;
 }
 
 /** A problem the evaluator found, as `ModelError.toJSON()` gives it. */

@@ -2,6 +2,7 @@ import "server-only";
 import { applyFittedParametersByDerivationId } from "@/db/queries/fits";
 import type { Derivation } from "@/db/schema";
 import { AppError } from "@/lib/errors";
+import { validDocumentOrThrow } from "@/lib/evaluation/document-content";
 import { documentOf, withParameterValues } from "./service";
 
 /** Writes fitted values into the stored document's Parameters cell, audited; 409 when the row moved on. */
@@ -18,12 +19,12 @@ export async function applyFittedValues({
   fileId: string | null;
   baseUpdatedAt?: Date;
 }): Promise<{ updatedAt: string; values: Record<string, number> }> {
-  const document = withParameterValues(documentOf(derivation), values);
+  const document = validDocumentOrThrow(withParameterValues(documentOf(derivation), values));
   const saved = await applyFittedParametersByDerivationId({
     id: derivation.id,
     teamId: derivation.teamId,
     actorId,
-    content: document as unknown as Record<string, unknown>,
+    content: document,
     values,
     fileId,
     baseUpdatedAt,

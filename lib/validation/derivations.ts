@@ -3,7 +3,8 @@ import { statusField, uuidField } from "./fields";
 
 export const derivationTitleField = z.string().trim().min(1, "Give the derivation a title.").max(160, "Use at most 160 characters.");
 
-// Content is the model file (DESIGN.md) for now; the notebook issue narrows it.
+// A notebook document of any schema version; the handler migrates and validates it in full
+// (validDocumentOrThrow in lib/evaluation/document-content.ts), so field errors carry its paths.
 const contentField = z.record(z.string(), z.unknown());
 
 // Template ids are the notebook's (lib/notebook/templates.ts); the short
@@ -29,11 +30,12 @@ export type CreateDerivationInput = z.infer<typeof createDerivationSchema>;
 export const updateDerivationSchema = z
   .object({
     title: derivationTitleField.optional(),
-    status: statusField.optional(),
     content: contentField.optional(),
+    // The status moves only through review: request review, sign off or request changes, approve, unlock.
+    status: z.never({ error: "The status changes through review: request review, then a lead approves (or unlocks)." }).optional(),
   })
-  .refine((value) => Object.values(value).some((field) => field !== undefined), {
-    message: "Change at least one of title, status or content.",
+  .refine((value) => value.title !== undefined || value.content !== undefined, {
+    message: "Change at least one of title or content.",
   });
 export type UpdateDerivationInput = z.infer<typeof updateDerivationSchema>;
 

@@ -92,29 +92,20 @@ describe("derivations API", () => {
     expect(remove.status).toBe(404);
   });
 
-  it("lets the lead approve, then freezes the derivation for analysts", async () => {
+  it("renames by PATCH but never changes the status there (review, approve and unlock do)", async () => {
     const { derivation } = await (await createAs(kestrel, "analyst", "Gimbal pitch axis")).json();
     const patch = (body: unknown) => derivationRoute.PATCH(jsonRequest(`/api/derivations/${derivation.id}`, "PATCH", body), params({ id: derivation.id }));
 
     signInAs(kestrel.members.analyst);
     expect((await patch({ title: "Gimbal pitch axis, offset payload" })).status).toBe(200);
-    expect((await patch({ status: "in_review" })).status).toBe(200);
-    const selfApproval = await patch({ status: "approved" });
-    expect(selfApproval.status).toBe(403);
-
     signInAs(kestrel.members.lead);
     const approval = await patch({ status: "approved" });
-    expect(approval.status).toBe(200);
-    expect((await approval.json()).derivation.status).toBe("approved");
-
-    signInAs(kestrel.members.analyst);
-    expect((await patch({ title: "Renamed after approval" })).status).toBe(403);
-    const deletion = await derivationRoute.DELETE(jsonRequest(`/api/derivations/${derivation.id}`, "DELETE"), params({ id: derivation.id }));
-    expect(deletion.status).toBe(403);
+    expect(approval.status).toBe(400);
+    expect((await approval.json()).error.fieldErrors.status[0]).toMatch(/through review/);
 
     signInAs(kestrel.members.viewer);
     const read = await (await derivationRoute.GET(jsonRequest(`/api/derivations/${derivation.id}`, "GET"), params({ id: derivation.id }))).json();
-    expect(read.derivation).toMatchObject({ title: "Gimbal pitch axis, offset payload", status: "approved", updatedById: kestrel.members.lead.id });
+    expect(read.derivation).toMatchObject({ title: "Gimbal pitch axis, offset payload", status: "draft", updatedById: kestrel.members.analyst.id });
   });
 
   it("deletes by permission and then answers 404", async () => {

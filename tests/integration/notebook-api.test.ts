@@ -13,7 +13,7 @@ import * as importRoute from "@/app/api/teams/[teamId]/derivations/import/route"
 import * as teamDerivationsRoute from "@/app/api/teams/[teamId]/derivations/route";
 import { closeDatabase } from "@/db/client";
 import { closeEnginePool } from "@/lib/workers/engine-pool";
-import { modelToDocument, type DerivationDocument } from "@/lib/notebook/document";
+import { DOCUMENT_SCHEMA_VERSION, modelToDocument, type DerivationDocument } from "@/lib/notebook/document";
 import type { Model } from "@/lib/mechanics/model";
 import { safetyNote } from "@/lib/domain";
 import { formRequest, jsonRequest, makeTeam, params, resetDatabase, type TeamFixture } from "./support/fixtures";
@@ -111,8 +111,8 @@ describe("POST /api/derivations/[id]/evaluate", () => {
     // Undamped natural frequency of a mass on a spring, f = sqrt(k/m)/(2π):
     // W. T. Thomson & M. D. Dahleh, Theory of Vibration with Applications, 5th ed., §2.1.
     const expectedHz = Math.sqrt(42000 / runMass) / (2 * Math.PI);
-    expect(miss.result.linearization.selected.frequenciesHz[0]).toBeCloseTo(expectedHz, 6);
-    expect(miss.result.linearization.selected.stable).toBe(true);
+    expect(miss.result.linearization.selected.modes[0].hertz).toBeCloseTo(expectedHz, 6);
+    expect(miss.result.linearization.selected.stability).toBe("stable");
 
     signInAs(kestrel.members.viewer);
     const started = performance.now();
@@ -174,7 +174,7 @@ describe("POST /api/derivations/[id]/linearize", () => {
     // Template values: M = 250 kg, m = 800 kg, l = 6 m. The linearized load swing on a
     // free cart has ω² = (g/l)(1 + m/M) (a fact of the trade for the hanging cart pendulum; from memory).
     const expectedHz = Math.sqrt((9.81 / 6) * (1 + 800 / 250)) / (2 * Math.PI);
-    expect(linearization.selected.frequenciesHz.some((f: number) => Math.abs(f - expectedHz) < 1e-6)).toBe(true);
+    expect(linearization.selected.modes.some((mode: { hertz: number | null }) => mode.hertz !== null && Math.abs(mode.hertz - expectedHz) < 1e-6)).toBe(true);
     expect(linearization.selected.A).toHaveLength(4);
     expect(linearization.selected.B[2]).toHaveLength(1);
   });
@@ -358,7 +358,7 @@ describe("creation from templates and the dashboard list", () => {
   it("creates blank and template notebooks, checks the chain size, and lists with counts, sorting and pages", async () => {
     const team = await makeTeam("Template bay");
     const blank = await create(team, { title: "Blank one" });
-    expect(blank.content.schemaVersion).toBe(1);
+    expect(blank.content.schemaVersion).toBe(DOCUMENT_SCHEMA_VERSION);
     expect(blank.content.cells.map((cell) => cell.kind)).toContain("kinetic");
     const chain = await create(team, { title: "Five-link chain", template: "n-link-chain", links: 5 });
     expect(chain.content.title).toBe("Five-link chain");

@@ -14,7 +14,8 @@ import { closeDatabase } from "@/db/client";
 import { getAuditEventsByTeamId } from "@/db/queries/audit";
 import { createDerivation, getDerivationById } from "@/db/queries/derivations";
 import type { Model } from "@/lib/mechanics/model";
-import { documentToModel, modelToDocument, type DerivationDocument } from "@/lib/notebook/document";
+import { documentFromContent } from "@/lib/evaluation/document-content";
+import { documentToModel, modelToDocument } from "@/lib/notebook/document";
 import { energyDrift, estimatePeriod } from "@/lib/simulate/checks";
 import { closeSimulationPool } from "@/lib/workers/simulation-pool";
 import { listObjectKeys, objectExists } from "@/lib/storage";
@@ -69,7 +70,7 @@ async function makeDerivation(fixture: TeamFixture, model: Model) {
     teamId: fixture.team.id,
     title: model.title,
     ownerId: fixture.members.analyst.id,
-    content: modelToDocument(model) as unknown as Record<string, unknown>,
+    content: modelToDocument(model),
   });
   return derivation.id;
 }
@@ -543,7 +544,7 @@ describe("fitting to uploaded rig data", () => {
     );
     expect(apply.status).toBe(200);
     const stored = await getDerivationById({ id });
-    const model = documentToModel(stored!.content as unknown as DerivationDocument);
+    const model = documentToModel(documentFromContent(stored!.content, stored!.title));
     const value = (name: string) => model.parameters.find((p) => p.name === name)!.value!;
     expect(value("k")).toBeCloseTo(k.value, 5);
     expect(value("c")).toBeCloseTo(c.value, 6);

@@ -9,10 +9,9 @@
 import { useCallback, useEffect, useMemo, useState } from "react";
 import { apiFetch } from "@/lib/api/fetcher";
 import { AppError, appErrorFromBody } from "@/lib/errors";
-import { documentSymbols, type DerivationDocument, type DocumentOperation } from "@/lib/notebook/document";
+import { documentSymbols, parseParameterValue, type DerivationDocument, type DocumentOperation } from "@/lib/notebook/document";
 import type { MeasuredOverlay } from "./results-view";
 import type { RunRequest } from "./settings";
-import { parseNumber } from "./settings";
 
 interface FileJson {
   id: string;
@@ -147,9 +146,9 @@ export function MeasuredPanel({ derivationId, document: doc, readOnly, settings,
     if (chosen.length === 0) return setFitError("Choose at least one parameter to fit.");
     const request = [];
     for (const [name, row] of chosen) {
-      const initial = parseNumber(row.initial);
-      const min = parseNumber(row.min);
-      const max = parseNumber(row.max);
+      const initial = parseParameterValue(row.initial);
+      const min = parseParameterValue(row.min);
+      const max = parseParameterValue(row.max);
       if (initial === null || min === null || max === null) return setFitError(`The bounds of ${name} must be numbers.`);
       if (min !== undefined && max !== undefined && !(min < max)) return setFitError(`The minimum of ${name} must be below its maximum.`);
       request.push({ name, ...(initial !== undefined ? { initial } : {}), ...(min !== undefined ? { min } : {}), ...(max !== undefined ? { max } : {}) });

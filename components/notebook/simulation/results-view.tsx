@@ -7,7 +7,7 @@
  * animation, and the trajectory as CSV. Loaded on first use, with uPlot.
  */
 import { useMemo } from "react";
-import { energyDrift } from "@/lib/simulate/checks";
+import { energyDrift, explainSmallOscillation } from "@/lib/simulate/checks";
 import { Chart, type ChartSeries } from "./chart";
 import { MechanismAnimation } from "./mechanism-animation";
 import { FAILURE_LABELS, trajectoryCsv, type RunDisplay } from "./run-view";
@@ -135,11 +135,15 @@ export default function ResultsView({ run, measured }: ResultsViewProps) {
       )}
 
       {oscillation && (
-        <p className={oscillation.passed ? "text-sm" : "text-sm text-danger"} data-testid="small-oscillation">
-          Small-amplitude check ({oscillation.coordinate}, amplitude {formatNumber(oscillation.amplitude)}): linearization {formatNumber(oscillation.expectedFrequency, 5)} rad/s
-          {oscillation.measuredFrequency !== null ? `, simulation ${formatNumber(oscillation.measuredFrequency, 5)} rad/s` : ""}
-          {oscillation.relativeError !== null ? ` (relative difference ${oscillation.relativeError.toExponential(1)})` : ""} — {oscillation.passed ? "agree." : (oscillation.problem ?? "they disagree.")}
-        </p>
+        <div className={oscillation.passed ? "text-sm" : "text-sm text-danger"} data-testid="small-oscillation">
+          <p>
+            Small-amplitude check ({oscillation.coordinate}, amplitude {formatNumber(oscillation.amplitude)}): linearization {formatNumber(oscillation.comparedFrequency, 5)} rad/s
+            {oscillation.measuredFrequency !== null ? `, simulation ${formatNumber(oscillation.measuredFrequency, 5)} rad/s` : ""}
+            {oscillation.relativeError !== null ? ` (relative difference ${oscillation.relativeError.toExponential(1)}` : ""}
+            {oscillation.relativeError !== null && oscillation.threshold !== null ? `, accepted up to ${oscillation.threshold.toExponential(1)})` : oscillation.relativeError !== null ? ")" : ""}.
+          </p>
+          <p className={oscillation.passed ? "text-muted" : undefined}>{explainSmallOscillation(oscillation)}</p>
+        </div>
       )}
 
       <div className="grid min-w-0 gap-3 lg:grid-cols-2">

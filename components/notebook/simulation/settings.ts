@@ -1,87 +1,13 @@
 /**
- * The simulation cell's settings as stored in the document (text as typed, so
- * a half-written number is never lost) and their validation into the numbers
- * the integrator and the runs API take.
+ * Validation of the simulation cell's settings (their stored shape and
+ * defaults are part of the document schema: `SimulationSettings`) into the
+ * numbers the integrator and the runs API take.
  */
-import type { DocumentSymbols } from "@/lib/notebook/document";
+import { parseParameterValue, type DocumentSymbols, type PointPair, type SimulationSettings } from "@/lib/notebook/document";
 import type { SimulationSettingsMessage } from "@/lib/simulate/worker-protocol";
-
-export interface PointPair {
-  /** Definition names giving x and y of one drawn point of the mechanism. */
-  x: string;
-  y: string;
-}
-
-export interface SimulationCellSettings {
-  initialCoordinates: Record<string, string>;
-  initialRates: Record<string, string>;
-  startTime: string;
-  endTime: string;
-  outputStep: string;
-  tolerance: string;
-  /** Inputs as expressions of t and the parameters. */
-  inputs: Record<string, string>;
-  /** Parameter values replacing the Parameters cell for this simulation only. */
-  parameterOverrides: Record<string, string>;
-  points: PointPair[];
-}
-
-export const DEFAULT_SETTINGS: SimulationCellSettings = {
-  initialCoordinates: {},
-  initialRates: {},
-  startTime: "0",
-  endTime: "10",
-  outputStep: "0.01",
-  tolerance: "1e-8",
-  inputs: {},
-  parameterOverrides: {},
-  points: [],
-};
 
 /** Most output points an interactive run asks for. */
 export const MAX_OUTPUT_POINTS = 200_000;
-
-function record(value: unknown): Record<string, string> {
-  if (!value || typeof value !== "object" || Array.isArray(value)) return {};
-  return Object.fromEntries(Object.entries(value).filter((entry): entry is [string, string] => typeof entry[1] === "string"));
-}
-
-function text(value: unknown, fallback: string): string {
-  return typeof value === "string" ? value : fallback;
-}
-
-/** Reads the cell's free-form settings, filling what is missing with defaults. */
-export function readSettings(raw: Record<string, unknown>): SimulationCellSettings {
-  const points = Array.isArray(raw.points)
-    ? raw.points.flatMap((p: unknown) => {
-        if (!p || typeof p !== "object") return [];
-        const { x, y } = p as Record<string, unknown>;
-        return typeof x === "string" && typeof y === "string" ? [{ x, y }] : [];
-      })
-    : [];
-  return {
-    initialCoordinates: record(raw.initialCoordinates),
-    initialRates: record(raw.initialRates),
-    startTime: text(raw.startTime, DEFAULT_SETTINGS.startTime),
-    endTime: text(raw.endTime, DEFAULT_SETTINGS.endTime),
-    outputStep: text(raw.outputStep, DEFAULT_SETTINGS.outputStep),
-    tolerance: text(raw.tolerance, DEFAULT_SETTINGS.tolerance),
-    inputs: record(raw.inputs),
-    parameterOverrides: record(raw.parameterOverrides),
-    points,
-  };
-}
-
-const NUMBER_TEXT = /^[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?$/;
-
-/** A number as typed; `undefined` when blank, `null` when not a number. */
-export function parseNumber(value: string): number | undefined | null {
-  const trimmed = value.trim();
-  if (trimmed === "") return undefined;
-  if (!NUMBER_TEXT.test(trimmed)) return null;
-  const parsed = Number(trimmed);
-  return Number.isFinite(parsed) ? parsed : null;
-}
 
 /** Settings ready for the worker and the runs API (same names as the runs schema). */
 export interface RunRequest extends SimulationSettingsMessage {
@@ -102,10 +28,10 @@ export type SettingsValidation = { ok: true; request: RunRequest; points: PointP
  * Checks the settings against the derivation's symbols. Error keys name the
  * field the form shows them under (`initialCoordinates.theta`, `endTime`, …).
  */
-export function validateSettings(settings: SimulationCellSettings, symbols: DocumentSymbols): SettingsValidation {
+export function validateSettings(settings: SimulationSettings, symbols: DocumentSymbols): SettingsValidation {
   const errors: Record<string, string> = {};
   const numberField = (key: string, value: string, { required = false, blankAs }: { required?: boolean; blankAs?: number } = {}) => {
-    const parsed = parseNumber(value);
+    const parsed = parseParameterValue(value);
     if (parsed === null) {
       errors[key] = `"${value.trim()}" is not a number.`;
       return NaN;

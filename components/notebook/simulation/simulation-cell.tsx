@@ -10,12 +10,13 @@ import clsx from "clsx";
 import { lazy, Suspense, useCallback, useEffect, useMemo, useState, type ReactNode } from "react";
 import { apiFetch } from "@/lib/api/fetcher";
 import { AppError } from "@/lib/errors";
-import { DocumentError, documentSymbols, documentToModel, type DerivationDocument, type DocumentOperation, type SimulationCell } from "@/lib/notebook/document";
+import { DocumentError, documentSymbols, documentToModel, type DerivationDocument, type DocumentOperation, type SimulationCell, type SimulationSettings } from "@/lib/notebook/document";
 import type { NotebookResults } from "@/lib/notebook/results";
 import { ExpressionEditor } from "../editor/expression-editor";
 import { MeasuredPanel } from "./measured-panel";
 import { displayOfStoredRun, type RunDisplay, type StoredRunJson } from "./run-view";
-import { readSettings, validateSettings, type SimulationCellSettings } from "./settings";
+import { validateSettings } from "./settings";
+import { smallOscillationOf } from "./small-oscillation";
 import type { MeasuredOverlay } from "./results-view";
 import { useSimulationWorker } from "./use-simulation-worker";
 
@@ -31,6 +32,15 @@ export interface SimulationCellProps {
   document?: DerivationDocument;
   /** Present when the derivation is stored: enables server runs, stored runs and measured data. */
   derivationId?: string;
+  /**
+   * The settings are this person's own (they may not edit the document): edits
+   * go here instead of the document, and the form stays editable when `readOnly`.
+   */
+  onSettingsChange?: (patch: Partial<SimulationSettings>) => void;
+  /** Goes back to the document's settings; offered while the person's own differ. */
+  onResetSettings?: () => void;
+  /** May store runs on the server (defaults to being able to edit). */
+  canStoreRuns?: boolean;
 }
 
 const inputClass = "w-full min-w-0 rounded border border-line bg-paper px-1.5 py-0.5 font-mono text-[13px] text-ink aria-[invalid=true]:border-danger";
@@ -90,21 +100,24 @@ export function SimulationSettingsForm({
   readOnly,
   errors,
   onOperation,
+  onSettingsChange,
 }: {
   cell: SimulationCell;
   document: DerivationDocument;
   readOnly?: boolean;
   errors: Record<string, string>;
   onOperation: (op: DocumentOperation) => void;
+  /** Edits go here instead of the document (a person's own settings). */
+  onSettingsChange?: (patch: Partial<SimulationSettings>) => void;
 }) {
-  const settings = readSettings(cell.settings);
+  const settings = cell.settings;
   const symbols = useMemo(() => documentSymbols(doc), [doc]);
   const parameterValues = useMemo(() => {
     const values = new Map<string, string>();
     for (const c of doc.cells) if (c.kind === "parameters") for (const row of c.rows) values.set(row.name.trim(), row.value);
     return values;
   }, [doc]);
-  const update = (patch: Partial<SimulationCellSettings>) => onOperation({ type: "updateSettings", cellId: cell.id, patch });
+  const update = (patch: Partial<SimulationSettings>) => (onSettingsChange ? onSettingsChange(patch) : onOperation({ type: "updateSettings", cellId: cell.id, patch }));
   const common = { readOnly, cellId: cell.id };
 
   return (
@@ -246,19 +259,7 @@ function guessPoint(definitions: string[], index: number): { x: string; y: strin
   return { x, y };
 }
 
-/** The first mode of the linearization, when there is one and the Parameters cell's values are used. */
-function smallOscillationOf(results: NotebookResults | null, coordinates: string[]) {
-  const linearization = results?.linearization;
-  const selected = linearization?.selected;
-  const frequency = selected?.frequenciesHz[0];
-  if (!selected || frequency === undefined || !(frequency > 0) || !selected.stable) return null;
-  const equilibrium = linearization.equilibria[selected.index]?.values ?? {};
-  const modeShape = coordinates.map((_, i) => selected.modeShapes[i]?.[0] ?? 0);
-  if (modeShape.every((v) => v === 0)) return null;
-  return { expectedFrequency: 2 * Math.PI * frequency, equilibrium, modeShape };
-}
-
-export function SimulationCellView({ cell, results, readOnly, onOperation, document: doc, derivationId }: SimulationCellProps) {
+export function SimulationCellView({ cell, results, readOnly, onOperation, document: doc, derivationId, onSettingsChange, onResetSettings, canStoreRuns = !readOnly }: SimulationCellProps) {
   const [run, setRun] = useState<RunDisplay | null>(null);
   const [attempted, setAttempted] = useState(false);
   const [problem, setProblem] = useState<string | null>(null);
@@ -268,7 +269,7 @@ export function SimulationCellView({ cell, results, readOnly, onOperation, docum
   const { state, start, cancel } = useSimulationWorker(setRun);
 
   const symbols = useMemo(() => (doc ? documentSymbols(doc) : null), [doc]);
-  const settings = readSettings(cell.settings);
+  const settings = cell.settings;
   const validation = symbols ? validateSettings(settings, symbols) : null;
   const errors = attempted && validation && !validation.ok ? validation.errors : {};
 
@@ -347,7 +348,17 @@ export function SimulationCellView({ cell, results, readOnly, onOperation, docum
 
   return (
     <div className="flex min-w-0 flex-col gap-3">
-      <SimulationSettingsForm cell={cell} document={doc} readOnly={readOnly} errors={errors} onOperation={onOperation} />
+      {onSettingsChange ? (
+        <p className="flex flex-wrap items-center gap-x-2 text-xs text-muted" data-testid="own-simulation-settings">
+          <span>These settings are yours: runs here use them, and the document is not changed.</span>
+          {onResetSettings ? (
+            <button type="button" className="text-action hover:underline" onClick={onResetSettings}>
+              Reset my settings
+            </button>
+          ) : null}
+        </p>
+      ) : null}
+      <SimulationSettingsForm cell={cell} document={doc} readOnly={readOnly && !onSettingsChange} errors={errors} onOperation={onOperation} onSettingsChange={onSettingsChange} />
       <div className="flex flex-wrap items-center gap-2">
         <button
           type="button"
@@ -358,7 +369,7 @@ export function SimulationCellView({ cell, results, readOnly, onOperation, docum
         >
           Run simulation
         </button>
-        {derivationId && !readOnly && (
+        {derivationId && canStoreRuns && (
           <button
             type="button"
             className="rounded border border-action px-3 py-1 text-sm text-action hover:bg-action-soft disabled:opacity-50"

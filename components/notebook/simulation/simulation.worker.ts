@@ -152,11 +152,18 @@ function smallOscillationOf(form: MassMatrixForm, job: ModelSimulationJob): Smal
   } catch (error) {
     return {
       expectedFrequency: check.expectedFrequency,
+      comparedFrequency: check.eigenvalue ? Math.abs(check.eigenvalue.im) : check.expectedFrequency,
       measuredFrequency: null,
       relativeError: null,
+      amplitudeShift: null,
+      integrationAllowance: 0,
+      timingAllowance: 0,
+      allowance: null,
+      threshold: null,
       passed: false,
-      coordinate: form.coordinates[0] ?? "",
+      coordinate: check.coordinate ?? form.coordinates[0] ?? "",
       amplitude: 0,
+      periods: 0,
       problem: error instanceof Error ? error.message : String(error),
     };
   }

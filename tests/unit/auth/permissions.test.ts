@@ -11,6 +11,8 @@ const expected: Record<Action, { draft: MemberRole[]; approved: MemberRole[] }> 
   "team:read": { draft: ["lead", "analyst", "reviewer", "viewer"], approved: ["lead", "analyst", "reviewer", "viewer"] },
   "team:manage-members": { draft: ["lead"], approved: ["lead"] },
   "team:invite": { draft: ["lead"], approved: ["lead"] },
+  "team:audit": { draft: ["lead"], approved: ["lead"] },
+  "team:manage-tokens": { draft: ["lead"], approved: ["lead"] },
   "derivation:read": { draft: ["lead", "analyst", "reviewer", "viewer"], approved: ["lead", "analyst", "reviewer", "viewer"] },
   "derivation:create": { draft: ["lead", "analyst"], approved: ["lead", "analyst"] },
   "derivation:edit": { draft: ["lead", "analyst"], approved: ["lead"] },
@@ -21,6 +23,8 @@ const expected: Record<Action, { draft: MemberRole[]; approved: MemberRole[] }> 
   "derivation:lock": { draft: ["lead"], approved: ["lead"] },
   "derivation:attach": { draft: ["lead", "analyst"], approved: ["lead"] },
   "derivation:simulate": { draft: ["lead", "analyst", "reviewer"], approved: ["lead", "analyst", "reviewer"] },
+  "derivation:request-review": { draft: ["lead", "analyst"], approved: ["lead", "analyst"] },
+  "derivation:review": { draft: ["lead", "reviewer"], approved: ["lead", "reviewer"] },
 };
 
 describe("permission table", () => {

@@ -101,6 +101,19 @@ describe("deriveModel: published equations of motion", () => {
     expect(result.freeCoordinates).toEqual(["x"]);
     // x is cyclic but the force F acts on it: its momentum is not conserved, nor is h.
     expect(result.conserved).toEqual([]);
+    // Lagrange's equation of a cyclic x leaves dp/dt = F (fact of the trade).
+    expect(result.cyclicMomenta).toHaveLength(1);
+    const [balance] = result.cyclicMomenta;
+    expect([balance!.coordinate, balance!.conserved, text(balance!.rate), balance!.actedOnBy]).toEqual(["x", false, "F", ["applied force"]]);
+    expect(sameExpression(balance!.momentum, "(M+m)*x' + m*l*theta'*cos(theta)", q)).toBe(true);
+
+    // With wheel damping D = ½ b x'² as well: dp/dt = F − b x'; without either, p is conserved.
+    const damped = deriveModel({ ...model, parameters: [...model.parameters, param("b", "N*s/m")], dissipation: "1/2*b*x'^2" });
+    expect(damped.cyclicMomenta.map((c) => [c.conserved, c.actedOnBy])).toEqual([[false, ["applied force", "dissipation"]]]);
+    expect(sameExpression(damped.cyclicMomenta[0]!.rate, "F - b*x'", q)).toBe(true);
+    const free = deriveModel({ ...model, forces: {} });
+    expect(free.cyclicMomenta.map((c) => [c.conserved, text(c.rate), c.actedOnBy])).toEqual([[true, "0", []]]);
+    expect(free.conserved.map((c) => c.name)).toContain("momentum of x");
   });
 
   it("Atwood machine with a heavy pulley has a = g (m1 − m2)/(m1 + m2 + J/r²)", () => {

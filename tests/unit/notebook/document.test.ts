@@ -1,5 +1,6 @@
 import { describe, expect, it } from "vitest";
 import {
+  DEFAULT_SIMULATION_SETTINGS,
   DOCUMENT_SCHEMA_VERSION,
   DocumentError,
   addCell,
@@ -161,6 +162,17 @@ describe("cell operations", () => {
     doc = addCell(doc, createCell("code-export", "code"));
     expect(() => updateSettings(doc, "code", { language: "cobol" })).toThrow(DocumentError);
     expect(() => updateSettings(doc, "c1", { form: "residual" })).toThrow(/has no settings/);
+  });
+
+  it("gives a new simulation cell the default settings and keeps its settings typed", () => {
+    let doc = addCell(base(), createCell("simulation", "sim"));
+    expect(doc.cells.find((c) => c.id === "sim")).toMatchObject({ settings: DEFAULT_SIMULATION_SETTINGS });
+    doc = updateSettings(doc, "sim", { endTime: "4", initialCoordinates: { theta: "0.2" } });
+    expect(doc.cells.find((c) => c.id === "sim")).toMatchObject({ settings: { ...DEFAULT_SIMULATION_SETTINGS, endTime: "4", initialCoordinates: { theta: "0.2" } } });
+    expect(() => updateSettings(doc, "sim", { endTime: 4 })).toThrow(DocumentError);
+    expect(() => updateSettings(doc, "sim", { solver: "rk4" })).toThrow(DocumentError);
+    // The defaults object is never shared with a cell.
+    expect(createCell("simulation").settings).not.toBe(DEFAULT_SIMULATION_SETTINGS);
   });
 
   it("applies operations given as data the same as the functions", () => {

@@ -3,7 +3,7 @@ import { act, cleanup, renderHook } from "@testing-library/react";
 import { afterEach, beforeEach, describe, expect, it, vi } from "vitest";
 import { draftKey, readDraft, useAutosave, type SaveFunction } from "@/components/notebook/use-autosave";
 import { AppError } from "@/lib/errors";
-import { blankDocument, setTitle, type DerivationDocument } from "@/lib/notebook/document";
+import { DEFAULT_SIMULATION_SETTINGS, DOCUMENT_SCHEMA_VERSION, blankDocument, setTitle, type DerivationDocument } from "@/lib/notebook/document";
 
 const ID = "derivation-1";
 const T0 = "2030-01-01T10:00:00.000Z";
@@ -175,5 +175,17 @@ describe("useAutosave", () => {
     expect(save).not.toHaveBeenCalled();
     expect(window.localStorage.getItem(draftKey(ID))).toBeNull();
     expect(await result.current.saveNow()).toBe(false);
+  });
+
+  it("reads a draft an earlier version of the page kept as the migrated document, and ignores one it cannot read", () => {
+    const olderDraft = { schemaVersion: 1, title: "Hoist", cells: [{ id: "s", collapsed: false, kind: "simulation", settings: { endTime: "3" } }] };
+    window.localStorage.setItem(draftKey(ID), JSON.stringify({ document: olderDraft, baseUpdatedAt: T0, writtenAt: T0 }));
+    expect(readDraft(window.localStorage, ID)).toEqual({
+      document: { schemaVersion: DOCUMENT_SCHEMA_VERSION, title: "Hoist", cells: [{ id: "s", collapsed: false, kind: "simulation", settings: { ...DEFAULT_SIMULATION_SETTINGS, endTime: "3" } }] },
+      baseUpdatedAt: T0,
+      writtenAt: T0,
+    });
+    window.localStorage.setItem(draftKey(ID), JSON.stringify({ document: { cells: "lost" }, baseUpdatedAt: T0, writtenAt: T0 }));
+    expect(readDraft(window.localStorage, ID)).toBeNull();
   });
 });

@@ -1,11 +1,14 @@
 import type { Metadata } from "next";
 import { NotebookPage } from "@/components/notebook/notebook-page";
+import { UnreadableContent } from "@/components/notebook/unreadable-content";
 import { getTeamById } from "@/db/queries/teams";
+import { getViewPreferencesByUserIdAndDerivationId } from "@/db/queries/view-preferences";
 import { loadDerivationFor, orNotFound } from "@/lib/auth/access";
 import { can } from "@/lib/auth/permissions";
 import { requirePageUser } from "@/lib/auth/session";
 import { roleLabels } from "@/lib/domain";
-import { documentFromContent } from "@/lib/evaluation/document-content";
+import { parseStoredDocument, recoverModel } from "@/lib/notebook/document";
+import { readViewPreferences } from "@/lib/notebook/view-preferences";
 
 export const metadata: Metadata = { title: "Derivation" };
 
@@ -14,9 +17,24 @@ export default async function DerivationPage({ params }: { params: Promise<{ id:
   const { id } = await params;
   const user = await requirePageUser(`/derivations/${id}`);
   const { derivation, membership } = await orNotFound(() => loadDerivationFor(user, id, "derivation:read"));
-  const team = await getTeamById({ id: derivation.teamId });
-  const document = documentFromContent(derivation.content, derivation.title);
-  const canEdit = can(membership.role, "derivation:edit", { status: derivation.status });
+  const [team, view] = await Promise.all([getTeamById({ id: derivation.teamId }), getViewPreferencesByUserIdAndDerivationId({ userId: user.id, derivationId: derivation.id })]);
+  const stored = parseStoredDocument(derivation.content, { title: derivation.title });
+  if (!stored.ok) {
+    // Content this version cannot read: say what is wrong and offer what can be saved, never a 500.
+    return (
+      <UnreadableContent
+        derivationId={derivation.id}
+        teamId={derivation.teamId}
+        teamName={team?.name ?? "Team"}
+        title={derivation.title}
+        issues={stored.issues}
+        newerVersion={stored.newerVersion}
+        omitted={recoverModel(derivation.content, derivation.title).omitted}
+      />
+    );
+  }
+  const locked = derivation.lockedAt !== null;
+  const canEdit = can(membership.role, "derivation:edit", { status: derivation.status, locked });
   return (
     <NotebookPage
       key={derivation.id}
@@ -27,8 +45,10 @@ export default async function DerivationPage({ params }: { params: Promise<{ id:
       ownerName={derivation.ownerName}
       roleLabel={roleLabels[membership.role]}
       canEdit={canEdit}
-      canRename={canEdit && can(membership.role, "derivation:rename", { status: derivation.status })}
-      initialDocument={document}
+      canRename={canEdit && can(membership.role, "derivation:rename", { status: derivation.status, locked })}
+      canSimulate={can(membership.role, "derivation:simulate", { status: derivation.status, locked })}
+      initialDocument={stored.document}
+      initialViewPreferences={readViewPreferences(view?.preferences)}
       initialUpdatedAt={derivation.updatedAt.toISOString()}
       rowTitle={derivation.title}
     />

@@ -27,9 +27,16 @@ export default async function TeamDashboardPage({ params }: { params: Promise<{ 
             {members.length === 1 ? "member" : "members"}
           </p>
         </div>
-        <Link href={`/teams/${team.id}/settings`} className="text-sm text-action hover:underline">
-          {can(membership.role, "team:manage-members") ? "Members and invitations" : "Members"}
-        </Link>
+        <div className="flex gap-4">
+          {can(membership.role, "team:audit") ? (
+            <Link href={`/teams/${team.id}/audit`} className="text-sm text-action hover:underline">
+              Audit log
+            </Link>
+          ) : null}
+          <Link href={`/teams/${team.id}/settings`} className="text-sm text-action hover:underline">
+            {can(membership.role, "team:manage-members") ? "Members and invitations" : "Members"}
+          </Link>
+        </div>
       </div>
       <DerivationsBoard
         teamId={team.id}

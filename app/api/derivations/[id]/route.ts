@@ -4,6 +4,7 @@ import { loadDerivationFor } from "@/lib/auth/access";
 import { assertCan, type Action } from "@/lib/auth/permissions";
 import { requireUser } from "@/lib/auth/session";
 import { AppError } from "@/lib/errors";
+import { validDocumentOrThrow } from "@/lib/evaluation/document-content";
 import { updateDerivationSchema } from "@/lib/validation/derivations";
 import { uuidField } from "@/lib/validation/fields";
 import { parseOrThrow } from "@/lib/validation/parse";
@@ -32,12 +33,10 @@ export const PATCH = apiRoute<Params>(async (request, { params }) => {
   const needed = new Set<Action>();
   if (changes.title !== undefined) needed.add("derivation:rename");
   if (changes.content !== undefined) needed.add("derivation:edit");
-  // Approving, or moving an approved derivation back, is a lead's decision.
-  if (changes.status !== undefined) {
-    needed.add(changes.status === "approved" || derivation.status === "approved" ? "derivation:approve" : "derivation:edit");
-  }
-  for (const action of needed) assertCan(membership.role, action, { status: derivation.status });
-  const updated = await updateDerivationById({ id, actorId: user.id, changes });
+  for (const action of needed) assertCan(membership.role, action, { status: derivation.status, locked: derivation.lockedAt !== null });
+  const document = changes.content === undefined ? undefined : validDocumentOrThrow(changes.content, { field: "content", title: derivation.title });
+  const updated = await updateDerivationById({ id, actorId: user.id, changes: { title: changes.title, content: document } });
+  if (!updated) throw new AppError("locked:derivation", "This derivation was approved and locked meanwhile; nothing was changed.");
   return Response.json({ derivation: updated });
 });
 

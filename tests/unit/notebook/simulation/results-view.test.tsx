@@ -3,6 +3,8 @@ import { afterEach, beforeAll, describe, expect, it, vi } from "vitest";
 import { cleanup, render, screen, within } from "@testing-library/react";
 import type { RunDisplay } from "@/components/notebook/simulation/run-view";
 import { trajectoryCsv } from "@/components/notebook/simulation/run-view";
+import { checkSmallOscillation } from "@/lib/simulate/checks";
+import { pendulum } from "../../simulate/systems";
 
 // jsdom has no canvas: a stand-in records what each chart was given.
 const charts: { title: string; seriesLabels: string[]; mode?: number; width: number }[] = [];
@@ -109,5 +111,22 @@ describe("trajectory CSV", () => {
     expect(csv[0]).toBe("t,x,x',energy");
     expect(csv[1]).toBe("0,1,0,0.5");
     expect(csv).toHaveLength(101 + 2);
+  });
+
+  it("says what a small-amplitude difference means, and marks a disagreement", () => {
+    const omega = Math.sqrt(9.81 / 0.8);
+    // Landau & Lifshitz, Mechanics, §28 (from memory): at 0.05 rad the pendulum runs slow by A²/16 = 1.6e-4.
+    const agree = checkSmallOscillation(pendulum({ l: 0.8 }), { expectedFrequency: omega, amplitude: 0.05 });
+    const { rerender } = render(<ResultsView run={{ ...syntheticRun(0), smallOscillation: agree }} />);
+    const paragraph = screen.getByTestId("small-oscillation");
+    expect(paragraph.textContent).toContain("relative difference 1.6e-4, accepted up to");
+    expect(paragraph.textContent).toContain("They agree");
+    expect(paragraph.textContent).toContain("the shift grows with amplitude squared");
+    expect(paragraph.classList.contains("text-danger")).toBe(false);
+
+    const disagree = checkSmallOscillation(pendulum({ l: 0.8 }), { expectedFrequency: omega * (1 - 2.5e-4) });
+    rerender(<ResultsView run={{ ...syntheticRun(0), smallOscillation: disagree }} />);
+    expect(screen.getByTestId("small-oscillation").textContent).toContain("They disagree: of the relative difference 2.5e-4");
+    expect(screen.getByTestId("small-oscillation").classList.contains("text-danger")).toBe(true);
   });
 });

@@ -1,5 +1,6 @@
 import type { Metadata } from "next";
 import Link from "next/link";
+import { ApiTokensPanel } from "@/components/teams/api-tokens-panel";
 import { MembersPanel } from "@/components/teams/members-panel";
 import { loadTeamFor, orNotFound } from "@/lib/auth/access";
 import { can } from "@/lib/auth/permissions";
@@ -25,6 +26,7 @@ export default async function TeamSettingsPage({ params }: { params: Promise<{ t
         mayManage={can(membership.role, "team:manage-members")}
         mayInvite={can(membership.role, "team:invite")}
       />
+      {can(membership.role, "team:manage-tokens") ? <ApiTokensPanel teamId={team.id} /> : null}
     </div>
   );
 }

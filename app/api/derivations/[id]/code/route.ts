@@ -1,14 +1,15 @@
 import { apiRoute } from "@/lib/api/route";
+import { readOptionalJson } from "@/lib/api/optional-json";
 import { loadDerivationFor } from "@/lib/auth/access";
 import { requireUser } from "@/lib/auth/session";
-import { documentFromContent, modelFromDocument } from "@/lib/evaluation/document-content";
+import { documentFromContent } from "@/lib/evaluation/document-content";
 import { downloadResponse } from "@/lib/api/download";
-import { codeExportInput, codeFileName, engineCodeLanguage } from "@/lib/evaluation/evaluate";
-import { engineErrorToAppError, evaluateDocumentCached } from "@/lib/evaluation/service";
-import { getEnginePool } from "@/lib/workers/engine-pool";
+import { engineCodeLanguage } from "@/lib/evaluation/evaluate";
+import { codeOfDocument } from "@/lib/evaluation/service";
 import { parseOrThrow } from "@/lib/validation/parse";
+import { documentForRequest } from "../content/schema";
 import { derivationIdOf } from "../derivation-id";
-import { codeQuerySchema } from "./schema";
+import { codeQuerySchema, codeRequestSchema } from "./schema";
 
 type Params = { id: string };
 
@@ -21,19 +22,22 @@ export const GET = apiRoute<Params>(async (request, { params }) => {
   const id = await derivationIdOf(params);
   const { derivation } = await loadDerivationFor(user, id, "derivation:read");
   const query = parseOrThrow(codeQuerySchema, Object.fromEntries(new URL(request.url).searchParams));
-  const language = engineCodeLanguage(query.language);
   const document = documentFromContent(derivation.content, derivation.title);
-  const model = modelFromDocument(document);
-  if (!model.title.trim()) model.title = derivation.title;
-  const { result } = await evaluateDocumentCached({ document });
-  const cached = result.code?.find((entry) => engineCodeLanguage(entry.language as "octave") === language);
-  let source = cached?.source;
-  if (source === undefined) {
-    try {
-      ({ code: source } = await getEnginePool().run<{ code: string }>("exportCode", { input: codeExportInput(model, result), language }));
-    } catch (error) {
-      throw engineErrorToAppError(error);
-    }
-  }
-  return downloadResponse(source, { filename: codeFileName(model.title, language), contentType: "text/plain" });
+  const code = await codeOfDocument({ document, language: engineCodeLanguage(query.language), fallbackTitle: derivation.title });
+  return downloadResponse(code.source, { filename: code.filename, contentType: "text/plain" });
+});
+
+/**
+ * The same code as JSON, for the notebook's code cell when a person picks a
+ * language the document's evaluation does not hold. The document is the stored
+ * one unless one is posted (unsaved edits); nothing is stored or derived again.
+ */
+export const POST = apiRoute<Params>(async (request, { params }) => {
+  const user = await requireUser();
+  const id = await derivationIdOf(params);
+  const { derivation } = await loadDerivationFor(user, id, "derivation:read");
+  const input = parseOrThrow(codeRequestSchema, await readOptionalJson(request));
+  const document = documentForRequest(input.document, derivation);
+  const code = await codeOfDocument({ document, language: engineCodeLanguage(input.language), fallbackTitle: derivation.title });
+  return Response.json({ language: input.language, filename: code.filename, source: code.source });
 });

@@ -3,9 +3,10 @@ import { apiRoute, readJson } from "@/lib/api/route";
 import { loadDerivationFor } from "@/lib/auth/access";
 import { requireUser } from "@/lib/auth/session";
 import { AppError } from "@/lib/errors";
+import { validDocumentOrThrow } from "@/lib/evaluation/document-content";
 import { parseOrThrow } from "@/lib/validation/parse";
 import { derivationIdOf } from "../derivation-id";
-import { saveContentSchema, validDocumentOrThrow } from "./schema";
+import { saveContentSchema } from "./schema";
 
 type Params = { id: string };
 
@@ -19,14 +20,16 @@ export const PUT = apiRoute<Params>(async (request, { params }) => {
   const saved = await updateDerivationContentById({
     id,
     actorId: user.id,
-    content: document as unknown as Record<string, unknown>,
+    content: document,
     baseUpdatedAt: input.baseUpdatedAt ? new Date(input.baseUpdatedAt) : undefined,
   });
-  if (!saved) {
-    const { derivation } = await loadDerivationFor(user, id, "derivation:read");
+  if (saved.status === "missing") throw new AppError("not_found:derivation", "Derivation not found.");
+  // Approved between the page's load and this save: the approval won the race.
+  if (saved.status === "locked") throw new AppError("locked:derivation", "This derivation was approved and locked while you were editing. Your last change was not saved.");
+  if (saved.status === "conflict") {
     throw new AppError("conflict:derivation", "Someone else saved this derivation since your copy was loaded.", {
-      details: { updatedAt: derivation.updatedAt.toISOString(), updatedById: derivation.updatedById },
+      details: { updatedAt: saved.derivation.updatedAt.toISOString(), updatedById: saved.derivation.updatedById },
     });
   }
-  return Response.json({ updatedAt: saved.updatedAt.toISOString(), updatedById: saved.updatedById });
+  return Response.json({ updatedAt: saved.derivation.updatedAt.toISOString(), updatedById: saved.derivation.updatedById });
 });

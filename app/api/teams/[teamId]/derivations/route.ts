@@ -1,4 +1,5 @@
 import { countDerivationsByTeamId, createDerivation, getDerivationsByTeamId } from "@/db/queries/derivations";
+import { validDocumentOrThrow } from "@/lib/evaluation/document-content";
 import { blankDocument } from "@/lib/notebook/document";
 import { templateDocument } from "@/lib/notebook/templates";
 import { apiRoute, readJson } from "@/lib/api/route";
@@ -29,11 +30,13 @@ export const POST = apiRoute<Params>(async (request, { params }) => {
   await loadTeamFor(user, teamId, "derivation:create");
   const input = parseOrThrow(createDerivationSchema, await readJson(request));
   // A new derivation starts as a notebook document: blank, or from a template.
-  const content =
+  const content = validDocumentOrThrow(
     input.content ??
-    (input.template && input.template !== "blank"
-      ? { ...templateDocument(input.template, { links: input.links }), title: input.title }
-      : blankDocument(input.title));
-  const derivation = await createDerivation({ teamId, title: input.title, ownerId: user.id, content: content as unknown as Record<string, unknown> });
+      (input.template && input.template !== "blank"
+        ? { ...templateDocument(input.template, { links: input.links }), title: input.title }
+        : blankDocument(input.title)),
+    { field: "content", title: input.title },
+  );
+  const derivation = await createDerivation({ teamId, title: input.title, ownerId: user.id, content });
   return Response.json({ derivation }, { status: 201 });
 });

@@ -3,12 +3,11 @@ import { formDataOf, readBodyWithin } from "@/lib/api/body";
 import { apiRoute } from "@/lib/api/route";
 import { loadTeamFor } from "@/lib/auth/access";
 import { requireUser } from "@/lib/auth/session";
-import { modelErrorToAppError } from "@/lib/evaluation/document-content";
+import { modelErrorToAppError, validDocumentOrThrow } from "@/lib/evaluation/document-content";
 import { engineErrorToAppError } from "@/lib/evaluation/service";
 import { getEnginePool } from "@/lib/workers/engine-pool";
 import { ModelError } from "@/lib/mechanics/errors";
 import { validateModel } from "@/lib/mechanics/validate-model";
-import { modelToDocument } from "@/lib/notebook/document";
 import { AppError } from "@/lib/errors";
 import { parseOrThrow } from "@/lib/validation/parse";
 import { importOptionsSchema, MAX_MODEL_FILE_LENGTH } from "./schema";
@@ -90,7 +89,8 @@ export const POST = apiRoute<Params>(async (request, { params }) => {
     throw engineErrorToAppError(error);
   }
   const title = (options.title ?? model.title).trim().slice(0, 160) || "Imported derivation";
-  const document = modelToDocument({ ...model, title });
-  const derivation = await createDerivation({ teamId, title, ownerId: user.id, content: document as unknown as Record<string, unknown> });
+  // The model file is the oldest stored version: the migrations turn it into a notebook document.
+  const document = validDocumentOrThrow({ ...model, title }, { field: "file" });
+  const derivation = await createDerivation({ teamId, title, ownerId: user.id, content: document });
   return Response.json({ derivation }, { status: 201 });
 });
