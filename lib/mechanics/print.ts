@@ -101,18 +101,31 @@ function printAccelerations(a: AccelerationsResult): PrintedDerivation["accelera
   return a.map((solved) => ({ coordinate: solved.coordinate, expr: formatExpression(solved.expr), latex: quotientLatex(solved.display) }));
 }
 
-/** Numerators longer than this are written (1/D)·(N), so that N can break between its terms. */
-const FRACTION_MAX_TERMS = 4;
+/** Numerators wider than this many symbols are written (1/D)·(N): about the width of a notebook column. */
+const FRACTION_MAX_WIDTH = 48;
 
 /**
- * N/D as \frac{N}{D}, or for a long N as \frac{1}{D}\Bigl(N\Bigr): a fraction
- * bar cannot break over lines, the terms inside fixed-size parentheses can.
+ * N/D as \\frac{N}{D}, or for a wide N of several terms as
+ * \\frac{1}{D}\\Bigl(N\\Bigr): a fraction bar cannot break over lines, the
+ * terms inside fixed-size parentheses can (KaTeX breaks inline math after a
+ * top-level + − = and at \\allowbreak).
  *
- * @example quotientLatex(parseExpression("(a + b + c + d + e)/m")) // "\\frac{1}{m}\\Bigl(a + b + c + d + e\\Bigr)"
+ * @example quotientLatex(parseExpression("(a*x' + b*y' + c*z' - d*sin(x) - e*cos(y)*u)/m")) // "\\frac{1}{m}\\Bigl(…\\Bigr)"
  */
 export function quotientLatex(e: Expr): string {
-  if (e.kind === "bin" && e.op === "/" && topLevelTerms(e.left).length > FRACTION_MAX_TERMS) {
-    return `\\frac{1}{${toLatex(e.right)}}\\Bigl(${toLatex(e.left)}\\Bigr)`;
+  if (e.kind === "bin" && e.op === "/" && topLevelTerms(e.left).length > 2) {
+    const numerator = toLatex(e.left);
+    // \\allowbreak: the parentheses may start a line of their own.
+    if (visibleWidth(numerator) > FRACTION_MAX_WIDTH) return `\\frac{1}{${toLatex(e.right)}}\\,\\allowbreak\\Bigl(${numerator}\\Bigr)`;
   }
   return toLatex(e);
+}
+
+/** Roughly how many symbols LaTeX shows: a function name counts its letters, any other command one, markup nothing. */
+function visibleWidth(latex: string): number {
+  return latex
+    .replace(/\\(left|right|,|;|quad|qquad)/g, "")
+    .replace(/\\(sin|cos|tan|exp|ln|sinh|cosh|tanh|arcsin|arccos|arctan)\b/g, "fun")
+    .replace(/\\[A-Za-z]+/g, "x")
+    .replace(/[{}^_\s]/g, "").length;
 }
