@@ -430,11 +430,12 @@ function factorSum(space: SymbolSpace, terms: readonly Term[]): Parts & { negati
 }
 
 /** Groups the terms that share the most common symbol power (ties: the higher power, then the later symbol), recursively. */
+function plainTerm(space: SymbolSpace, t: Term): Signed {
+  return { negative: C.toNumber(t.c) < 0, term: quotient(termParts(space, t)) };
+}
+
 function partialFactor(space: SymbolSpace, terms: readonly Term[]): Signed[] {
-  const plain = (t: Term): Signed => {
-    const parts = termParts(space, t);
-    return { negative: C.toNumber(t.c) < 0, term: quotient(parts) };
-  };
+  const plain = (t: Term) => plainTerm(space, t);
   if (terms.length <= 2) return terms.map(plain);
   let best: { id: number; e: number; count: number } | null = null;
   const seen = new Set<string>();

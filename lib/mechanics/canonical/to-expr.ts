@@ -90,10 +90,13 @@ export function termParts(space: SymbolSpace, t: Term): { numerator: Expr[]; den
 
 /** Π numerator / Π denominator (no bar when the denominator is empty); a factor 1 beside others is dropped. */
 export function quotient({ numerator, denominator }: { numerator: readonly Expr[]; denominator: readonly Expr[] }): Expr {
-  const one = (e: Expr) => e.kind === "num" && e.value === 1;
   const top = numerator.length > 1 && numerator.some(one) ? numerator.filter((e) => !one(e)) : numerator;
   const bottom = denominator.some(one) ? denominator.filter((e) => !one(e)) : denominator;
   return bottom.length === 0 ? product(top) : bin("/", product(top), product(bottom));
+}
+
+function one(e: Expr): boolean {
+  return e.kind === "num" && e.value === 1;
 }
 
 /**
