@@ -116,14 +116,14 @@ export function EquationsCellView(props: EquationsCellProps) {
         <div className="text-xs text-muted">
           Equation for <span className="font-mono">{equation.coordinate}</span>
         </div>
-        <MathView latex={equation.latex} display label={`Euler–Lagrange equation for ${equation.coordinate}`} onTypeset={typeset} />
+        <MathView latex={equation.latex} display breakable label={`Euler–Lagrange equation for ${equation.coordinate}`} onTypeset={typeset} />
       </div>
     ));
   } else if (form === "mass-matrix") {
     body = results.massMatrixLatex ? <MathView latex={results.massMatrixLatex} display label="Mass-matrix form" /> : <p className="text-sm text-muted">The mass-matrix form was not part of these results.</p>;
   } else {
     body = results.accelerations?.length ? (
-      results.accelerations.map((entry) => <MathView key={entry.coordinate} latex={entry.latex} display label={`Acceleration of ${entry.coordinate}`} />)
+      results.accelerations.map((entry) => <MathView key={entry.coordinate} latex={entry.latex} display breakable label={`Acceleration of ${entry.coordinate}`} />)
     ) : (
       <p className="text-sm text-muted">{results.accelerationsNote ?? "Accelerations are solved only where the system is small enough."}</p>
     );
@@ -197,7 +197,7 @@ export function ConservedCellView({ results, evaluating }: GeneratedCellProps<Co
           <div className="text-xs text-muted">
             Energy function{energyConserved ? ` — conserved: ${energyConserved.reason}` : ` — not conserved${results.energyNotConserved ? `: ${results.energyNotConserved}` : ""}`}
           </div>
-          <MathView latex={`h = ${results.energyLatex}`} display />
+          <MathView latex={`h = ${results.energyLatex}`} display breakable />
         </div>
       )}
       {conserved.length === 0 ? (
@@ -210,7 +210,7 @@ export function ConservedCellView({ results, evaluating }: GeneratedCellProps<Co
             <div className="text-xs text-muted">
               {quantity.name} — {quantity.reason}
             </div>
-            <MathView latex={quantity.latex} display />
+            <MathView latex={quantity.latex} display breakable />
           </div>
         ))
       )}

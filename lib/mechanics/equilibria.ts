@@ -1,5 +1,6 @@
 import { Matrix, SingularValueDecomposition } from "ml-matrix";
-import { compileAnalysis, linearizeAbout, type CompiledAnalysis, type Complex, type Linearization, type MechanicalSystem } from "./linearize";
+import type { MassMatrixSystem } from "./compile";
+import { compileAnalysis, linearizeAbout, type CompiledAnalysis, type Complex, type Linearization } from "./linearize";
 import { classifyStability, type Stability } from "./stability";
 import { isAngleUnit } from "./units";
 import { seededRandom } from "./canonical/evaluate";
@@ -55,7 +56,7 @@ export interface EquilibriumOptions {
  * findEquilibria({ coordinates: ["theta"], coordinateUnits: ["rad"], massMatrix: [["m*l^2"]], forcing: ["-m*g*l*sin(theta)"], parameters: { m: 1, l: 1, g: 9.81 } })
  * // θ = 0 stable, θ = π unstable
  */
-export function findEquilibria(system: MechanicalSystem, options: EquilibriumOptions = {}): Equilibrium[] {
+export function findEquilibria(system: MassMatrixSystem, options: EquilibriumOptions = {}): Equilibrium[] {
   const compiled = compileAnalysis(system);
   const { n, m } = compiled;
   const angular = options.angular ?? system.coordinates.map((_, i) => isAngleUnit(system.coordinateUnits?.[i] ?? ""));

@@ -1,18 +1,7 @@
 import { CholeskyDecomposition, EigenvalueDecomposition, LuDecomposition, Matrix, solve } from "ml-matrix";
-import { compileExpressions, type CompiledExpressions } from "./compile";
+import { compileExpressions, type CompiledExpressions, type MassMatrixSystem } from "./compile";
 import { ModelError } from "./errors";
 import { residualJacobians } from "./jacobians";
-
-/** The mass-matrix form with numbers for the parameters, as the analysis functions take it. */
-export interface MechanicalSystem {
-  coordinates: readonly string[];
-  /** Units of the coordinates, in order; "rad" marks an angle (wrapped modulo 2π by findEquilibria). */
-  coordinateUnits?: readonly string[];
-  inputs?: readonly string[];
-  massMatrix: readonly (readonly string[])[];
-  forcing: readonly string[];
-  parameters: Readonly<Record<string, number>>;
-}
 
 export interface OperatingPoint {
   q: readonly number[];
@@ -84,7 +73,7 @@ export interface CompiledAnalysis {
   };
 }
 
-export function compileAnalysis(system: MechanicalSystem): CompiledAnalysis {
+export function compileAnalysis(system: MassMatrixSystem): CompiledAnalysis {
   const n = system.coordinates.length;
   const inputs = system.inputs ?? [];
   const m = inputs.length;
@@ -133,7 +122,7 @@ export function compileAnalysis(system: MechanicalSystem): CompiledAnalysis {
  * @example
  * linearizeAbout({ coordinates: ["x"], massMatrix: [["m"]], forcing: ["-k*x"], parameters: { m: 1, k: 4 } }, { q: [0] }).modes[0].radPerSecond // 2
  */
-export function linearizeAbout(system: MechanicalSystem | CompiledAnalysis, point: OperatingPoint): Linearization {
+export function linearizeAbout(system: MassMatrixSystem | CompiledAnalysis, point: OperatingPoint): Linearization {
   const compiled = "evaluator" in system ? system : compileAnalysis(system);
   const { n, m } = compiled;
   const zeros = new Array<number>(n).fill(0);

@@ -1,12 +1,12 @@
-import { deriveModel, type ConservedQuantity } from "./derive";
-import { toLatex } from "./latex";
+import { deriveModel } from "./derive";
+import { printDerivation } from "./print";
 import { checkModelUnits } from "./units";
 import { validateModel } from "./validate-model";
 
 /**
  * A model's equations as the derivation CLI prints them and the public API
  * serves them: plain data, expressions in the input syntax (`q'` rate, `q''`
- * acceleration), LaTeX without the "= 0".
+ * acceleration, canonical form), LaTeX of the display form without the "= 0".
  */
 export interface DerivationReport {
   coordinates: string[];
@@ -17,7 +17,7 @@ export interface DerivationReport {
   forcing: string[];
   /** The energy function h = Σ q'·∂L/∂q' − L. */
   energy: string;
-  conserved: ConservedQuantity[];
+  conserved: { name: string; expr: string; reason: string }[];
   /** In-process derivation time (ms). */
   timingMs: number;
 }
@@ -34,13 +34,15 @@ export function derivationReport(raw: unknown): DerivationReport {
   checkModelUnits(model);
   const result = deriveModel(model);
   checkModelUnits(model, result.equations);
+  // The edge: expressions printed once, text in the input syntax and LaTeX of the display form.
+  const printed = printDerivation(result);
   return {
-    coordinates: result.coordinates,
-    equations: result.equations.map((e) => ({ coordinate: e.coordinate, residual: e.residual, latex: toLatex(e.residual) })),
-    massMatrix: result.massMatrix,
-    forcing: result.forcing,
-    energy: result.energy,
-    conserved: result.conserved.map(({ name, expr, reason }) => ({ name, expr, reason })),
+    coordinates: printed.coordinates,
+    equations: printed.equations.map((e) => ({ coordinate: e.coordinate, residual: e.residual, latex: e.latex })),
+    massMatrix: printed.massMatrix,
+    forcing: printed.forcing,
+    energy: printed.energy,
+    conserved: printed.conserved.map(({ name, expr, reason }) => ({ name, expr, reason })),
     timingMs: Math.round(result.timing.totalMs * 100) / 100,
   };
 }

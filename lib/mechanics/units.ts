@@ -2,10 +2,9 @@ import { isAngleUnitText, MODEL_UNIT_SYMBOLS, parseUnitText, UnitError } from ".
 import { constantValue } from "./differentiate";
 import { ModelError } from "./errors";
 import type { Expr } from "./expr/ast";
-import { formatExpression, parseExpression } from "./expr/parse";
+import { DEFAULT_PARSE_LIMITS, DERIVED_EXPRESSION_LIMITS, expressionTree, formatExpression, parseExpression, type ExpressionSource } from "./expr/parse";
 import type { Model } from "./model";
 import { topLevelTerms } from "./terms";
-import { DERIVED_EXPRESSION_LIMITS } from "./compile";
 
 /**
  * Units of coordinates, parameters and inputs, and a dimensional check of a
@@ -200,13 +199,13 @@ class UnitInference {
  * Checks a model's units: T and V are energies, D a power, each generalized
  * force has unit J / unit(q), every definition has a consistent unit, the
  * arguments of sin, cos, exp… are dimensionless and the terms of every sum
- * agree. With `equations` (from the derivation), every top-level term of each
- * residual must have the unit of its coordinate's generalized force.
+ * agree. With `equations` (from the derivation, as trees), every top-level
+ * term of each residual must have the unit of its coordinate's generalized force.
  * Throws ModelError("unit" | "unit_mismatch" | "unknown_symbol", field, …).
  *
  * @example checkModelUnits(model, derived.equations)
  */
-export function checkModelUnits(model: Model, equations?: readonly { coordinate: string; residual: string }[]): void {
+export function checkModelUnits(model: Model, equations?: readonly { coordinate: string; residual: ExpressionSource }[]): void {
   const units = new Map<string, Dimension>();
   const declare = (list: readonly { name: string; unit: string }[] | undefined, key: string) =>
     (list ?? []).forEach((item, i) => units.set(item.name, parseUnit(item.unit ?? "", `${key}[${i}].unit`)));
@@ -235,9 +234,10 @@ export function checkModelUnits(model: Model, equations?: readonly { coordinate:
   }
   for (const name of definitions.keys()) lookup(name);
 
-  const expectEachTerm = (text: string, field: string, expected: Dimension, what: string, textIsUser = true) => {
-    const tree = parseExpression(text, textIsUser ? undefined : DERIVED_EXPRESSION_LIMITS);
-    const inference = new UnitInference(lookup, field, textIsUser ? text : null);
+  const expectEachTerm = (source: ExpressionSource, field: string, expected: Dimension, what: string, derived = false) => {
+    // The model's text is pointed at by column; a derived equation is quoted by its printed term.
+    const tree = expressionTree(source, derived ? DERIVED_EXPRESSION_LIMITS : DEFAULT_PARSE_LIMITS);
+    const inference = new UnitInference(lookup, field, typeof source === "string" && !derived ? source : null);
     // Each top-level term against the cell's unit (inner sums by majority inside
     // inference.of), so the term underlined is the one that is not, say, an energy.
     for (const { term } of topLevelTerms(tree)) {
@@ -257,6 +257,6 @@ export function checkModelUnits(model: Model, equations?: readonly { coordinate:
     expectEachTerm(text, `forces.${coordinate}`, generalizedForceUnit(coordinate), `the generalized force on ${coordinate}`);
   }
   (equations ?? []).forEach((equation, i) => {
-    expectEachTerm(equation.residual, `equations[${i}].residual`, generalizedForceUnit(equation.coordinate), `the equation of ${equation.coordinate}`, false);
+    expectEachTerm(equation.residual, `equations[${i}].residual`, generalizedForceUnit(equation.coordinate), `the equation of ${equation.coordinate}`, true);
   });
 }

@@ -14,7 +14,7 @@ export type {
   SpecializedEvaluators,
   MassMatrixForm,
   ExpressionCompiler,
-  CompiledExpressions,
+  ExpressionEvaluator,
   VariableLayout,
 } from "./system";
 export { integrate, integrateInSlices, STEP_TOLERANCE_FACTOR } from "./integrate";

@@ -1,6 +1,5 @@
-import { DERIVED_EXPRESSION_LIMITS } from "../compile";
 import { ModelError } from "../errors";
-import { parseExpression } from "../expr/parse";
+import { expressionTree, type ExpressionSource } from "../expr/parse";
 import { residualJacobians } from "../jacobians";
 import { hoistCommonSubexpressions, printHoisted, type PrintedFunction, type Syntax } from "./cse";
 import { safetyNote } from "../../domain";
@@ -16,8 +15,9 @@ export interface CodeExportInput {
   /** In the order of the generated `p` vector; `value` becomes the default. */
   parameters: readonly { name: string; value?: number; unit?: string }[];
   inputs?: readonly string[];
-  massMatrix: readonly (readonly string[])[];
-  forcing: readonly string[];
+  /** Trees, or text (parsed once here). */
+  massMatrix: readonly (readonly ExpressionSource[])[];
+  forcing: readonly ExpressionSource[];
 }
 
 /** Which array a variable slot lives in, and its 0-based index there. */
@@ -55,10 +55,11 @@ export function prepareModel(input: CodeExportInput): PreparedModel {
     if (index < 3 * n + 1 + m) return { array: "u", index: index - 3 * n - 1 };
     return { array: "p", index: index - 3 * n - 1 - m };
   };
-  const jac = residualJacobians({ coordinates, inputs, massMatrix: input.massMatrix, forcing: input.forcing });
-  const parse = (text: string) => parseExpression(text, DERIVED_EXPRESSION_LIMITS);
-  const mass = hoistCommonSubexpressions(input.massMatrix.flat().map(parse), variables);
-  const forcing = hoistCommonSubexpressions(input.forcing.map(parse), variables);
+  const massTrees = input.massMatrix.map((row) => row.map((entry) => expressionTree(entry)));
+  const forcingTrees = input.forcing.map((entry) => expressionTree(entry));
+  const jac = residualJacobians({ coordinates, inputs, massMatrix: massTrees, forcing: forcingTrees });
+  const mass = hoistCommonSubexpressions(massTrees.flat(), variables);
+  const forcing = hoistCommonSubexpressions(forcingTrees, variables);
   const jacobians = hoistCommonSubexpressions([...jac.byCoordinate.flat(), ...jac.byRate.flat(), ...jac.byInput.flat()], variables);
   const name = (input.name ?? "model").replace(/[^A-Za-z0-9_]/g, "_").replace(/^([^A-Za-z])/, "m_$1") || "model";
   return {

@@ -1,11 +1,15 @@
 /**
  * evaluateModel on the demo models with an in-process engine: the verdicts the
  * notebook shows (stability, modes, conserved quantities) checked against
- * hand results for the crane trolley, the camera gimbal and the seat rig.
+ * hand results for the crane trolley, the camera gimbal and the seat rig; and
+ * how the engine's results are shown (display form, accelerations, free coordinates).
  */
 import { describe, expect, it } from "vitest";
-import { analyseSystem, energyNotConservedReason, withoutRoundingNoise } from "@/lib/evaluation/evaluate";
+import { analyseSystem, distinctEquilibria, energyNotConservedReason, evaluateModel, withoutRoundingNoise, type EvaluationSettings } from "@/lib/evaluation/evaluate";
+import type { Equilibrium } from "@/lib/mechanics/equilibria";
+import type { Model } from "@/lib/mechanics/model";
 import { STABILITY_TOLERANCE } from "@/lib/mechanics/stability";
+import { chainModel } from "@/lib/mechanics/templates/chain";
 import { evaluateDemo, inProcessRunner } from "./in-process";
 
 const g = 9.81;
@@ -146,5 +150,63 @@ describe("conserved quantities", () => {
   it("names explicit time among the reasons the energy function is not conserved", () => {
     const model = { title: "t", coordinates: [{ name: "x", unit: "m" }], parameters: [], kinetic: "x'^2", potential: "0" };
     expect(energyNotConservedReason(model, { explicitTime: true })).toBe("the Lagrangian depends on t explicitly");
+  });
+});
+
+describe("how the derivation is shown", () => {
+  const settings: EvaluationSettings = { linearization: { equilibriumIndex: 0, inputValues: {} }, codeLanguages: [] };
+  /** A 3-link chain with every parameter given a value. */
+  const chain3: Model = { ...chainModel({ links: 3 }), parameters: chainModel({ links: 3 }).parameters.map((p) => ({ ...p, value: 1 })) };
+
+  it("shows the equations in display form, each displayed term marked for comments", async () => {
+    const result = await evaluateDemo("Camera gimbal");
+    const [psi] = result.equations;
+    expect(psi!.latex).toMatch(/ = 0$/);
+    // The demo gimbal's T has I_2 sin²θ + I_3 cos²θ; the equation shows it so.
+    expect(psi!.latex).toContain("I_{2}\\,\\sin^{2}\\left(\\theta\\right)");
+    for (const term of psi!.terms) expect(psi!.latex).toContain(`\\htmlData{term=${term.id}}{${term.latex}}`);
+    // The residual text for the API stays the canonical form.
+    expect(psi!.residual).toContain("cos(2*theta)");
+  });
+
+  it("shows the engine's accelerations, common factors cancelled", async () => {
+    const result = await evaluateDemo("Gantry crane: trolley");
+    expect(result.accelerationsNote).toBeUndefined();
+    expect(result.accelerations!.map((a) => a.coordinate)).toEqual(["x", "theta"]);
+    // (F − b x' + m l θ'² sin θ + m g sin θ cos θ)/(M + m sin²θ): the cart with a hanging load (from memory).
+    expect(result.accelerations![0]!.latex).toMatch(/^\\ddot\{x\} = \\frac\{.*\}\{M \+ m\\,\\sin\^\{2\}\\left\(\\theta\\right\)\}$/);
+  });
+
+  it("says plainly when there is no closed form for the accelerations", async () => {
+    const { result } = await evaluateModel(inProcessRunner, chain3, settings);
+    expect(result.accelerations).toBeUndefined();
+    expect(result.accelerationsNote).toBe(
+      "No closed form for the accelerations: all 3 coordinates are coupled through the mass matrix (a 3×3 block); accelerations are solved symbolically only for blocks up to 2×2. The mass-matrix form and the code export hold the full equations.",
+    );
+  });
+
+  it("lists one equilibrium per hanging and upright load, the trolley position being free", async () => {
+    const result = await evaluateDemo("Gantry crane: trolley");
+    // The equations contain x only through x' and x'': every trolley position is an equilibrium.
+    expect(result.freeCoordinates).toEqual(["x"]);
+    const listed = result.equilibria!.map((e) => e.q);
+    expect(listed).toHaveLength(2);
+    expect(listed[0]).toEqual([0, 0]);
+    expect(listed[1]![0]).toBe(0);
+    expect(listed[1]![1]).toBeCloseTo(Math.PI, 9);
+  });
+});
+
+describe("distinctEquilibria", () => {
+  const at = (q: number[]) => ({ q }) as unknown as Equilibrium;
+
+  it("keeps one equilibrium per value of the coordinates that are not free", () => {
+    const found = [at([0.5, 0]), at([-2, 1e-12]), at([1.25, Math.PI])];
+    expect(distinctEquilibria(["x", "theta"], ["x"], found).map((e) => e.q)).toEqual([
+      [0, 0],
+      [0, Math.PI],
+    ]);
+    // With no free coordinate the trolley positions are distinct equilibria.
+    expect(distinctEquilibria(["x", "theta"], [], found)).toHaveLength(3);
   });
 });

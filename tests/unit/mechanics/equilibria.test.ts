@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
 import { findEquilibria, wrapAngle } from "@/lib/mechanics/equilibria";
-import type { MechanicalSystem } from "@/lib/mechanics/linearize";
+import type { MassMatrixSystem } from "@/lib/mechanics/compile";
 
 /**
  * Bead of mass m on a hoop of radius R spinning at a constant rate ω about its
@@ -8,7 +8,7 @@ import type { MechanicalSystem } from "@/lib/mechanics/linearize";
  *   m R² θ'' = m R² ω² sin θ cos θ − m g R sin θ.
  * J. R. Taylor, Classical Mechanics (2005), the bead-on-a-spinning-hoop example of ch. 7 (from memory).
  */
-const beadOnHoop = (omega: number): MechanicalSystem => ({
+const beadOnHoop = (omega: number): MassMatrixSystem => ({
   coordinates: ["theta"],
   coordinateUnits: ["rad"],
   massMatrix: [["m*R^2"]],

@@ -1,15 +1,16 @@
 import { describe, expect, it } from "vitest";
-import { linearizeAbout, type MechanicalSystem } from "@/lib/mechanics/linearize";
+import type { MassMatrixSystem } from "@/lib/mechanics/compile";
+import { linearizeAbout } from "@/lib/mechanics/linearize";
 import { classifyStability, formatEigenvalue, frequencyScale, STABILITY_RULE, STABILITY_TOLERANCE } from "@/lib/mechanics/stability";
 
 /** Unit masses, q'' = forcing; a linear system written out by hand. */
-const linearSystem = (coordinates: string[], forcing: string[], parameters: Record<string, number> = {}): MechanicalSystem => ({
+const linearSystem = (coordinates: string[], forcing: string[], parameters: Record<string, number> = {}): MassMatrixSystem => ({
   coordinates,
   massMatrix: coordinates.map((_, i) => coordinates.map((__, j) => (i === j ? "1" : "0"))),
   forcing,
   parameters,
 });
-const verdictOf = (system: MechanicalSystem) => classifyStability(linearizeAbout(system, { q: system.coordinates.map(() => 0) }));
+const verdictOf = (system: MassMatrixSystem) => classifyStability(linearizeAbout(system, { q: system.coordinates.map(() => 0) }));
 
 describe("classifyStability", () => {
   it("a damped oscillator is asymptotically stable", () => {

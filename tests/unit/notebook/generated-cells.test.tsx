@@ -11,6 +11,7 @@ import type { NotebookResults } from "@/lib/notebook/results";
 import { templateModel } from "@/lib/notebook/templates";
 import { toLatexTerms } from "@/lib/mechanics/latex";
 import { deriveModel } from "@/lib/mechanics/derive";
+import { printDerivation } from "@/lib/mechanics/print";
 
 afterEach(cleanup);
 // Editors lint after a pause and KaTeX loads on first use; allow for a busy machine.
@@ -48,13 +49,25 @@ describe("equations cell", () => {
   });
 
   it("renders the long equations of a 5-link chain without a KaTeX error", async () => {
-    const derived = deriveModel(templateModel("n-link-chain", { links: 5 }));
-    const chain: NotebookResults = { equations: derived.equations.map((e) => ({ coordinate: e.coordinate, residual: e.residual, latex: `${toLatexTerms(e.residual).latex} = 0` })) };
+    const derived = printDerivation(deriveModel(templateModel("n-link-chain", { links: 5 })));
+    const chain: NotebookResults = { equations: derived.equations.map((e) => ({ coordinate: e.coordinate, residual: e.residual, latex: `${e.termLatex} = 0` })) };
     const { container } = render(<EquationsCellView cell={cell} results={chain} onOperation={() => {}} />);
     await typeset(container);
     expect(container.querySelectorAll(".katex-error")).toHaveLength(0);
-    const perEquation = derived.equations.map((e) => toLatexTerms(e.residual).terms.length);
+    const perEquation = derived.equations.map((e) => e.terms.length);
     expect(container.querySelectorAll("[data-term]")).toHaveLength(perEquation.reduce((a, b) => a + b, 0));
+    // Long equations break between terms rather than scroll: each is typeset as breakable inline math in
+    // display style, where KaTeX puts every top-level term in its own box with a break allowed after it.
+    const views = [...container.querySelectorAll<HTMLElement>(".hn-math-display")];
+    expect(views).toHaveLength(5);
+    for (const view of views) {
+      expect(view.classList.contains("hn-math-breakable")).toBe(true);
+      expect(view.querySelector(".katex-display")).toBeNull();
+      const terms = [...view.querySelectorAll<HTMLElement>("[data-term]")];
+      const boxes = new Set(terms.map((term) => term.closest(".katex-base")));
+      expect(boxes.has(null)).toBe(false);
+      expect(boxes.size).toBe(terms.length);
+    }
     // jsdom parses KaTeX's large HTML slowly; the browser renders this in well under a second.
   }, 30_000);
 
