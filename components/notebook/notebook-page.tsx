@@ -10,13 +10,14 @@ import { useQuery } from "@tanstack/react-query";
 import clsx from "clsx";
 import Link from "next/link";
 import { useCallback, useEffect, useRef, useState } from "react";
-import { useShortcut } from "@/components/shortcuts";
+import { useShortcut, useShortcutHelp } from "@/components/shortcuts";
 import { Button } from "@/components/ui/button";
 import { StatusBadge } from "@/components/ui/status-badge";
 import { apiFetch } from "@/lib/api/fetcher";
 import type { DerivationStatus } from "@/lib/domain";
 import { AppError, appErrorFromBody } from "@/lib/errors";
 import { applyOperation, documentToModel, parseStoredDocument, type DerivationDocument } from "@/lib/notebook/document";
+import { diagnosticLine } from "@/lib/notebook/results";
 import { CELL_SHORTCUTS } from "./cell-frame";
 import { SAFETY_NOTE } from "./generated-cells";
 import { Notebook } from "./notebook";
@@ -197,8 +198,9 @@ export function NotebookPage(props: NotebookPageProps) {
   const { saveNow } = autosave;
   useShortcut("e", "Evaluate the derivation now", evaluateNow);
   useShortcut("s", "Save now", () => void saveNow(), canEdit);
-  useShortcut("x", "Export the model file (.model.json)", () => void exportFile("model"));
-  useShortcut("l", "Export the equations as a LaTeX document", () => void exportFile("latex"));
+  // Downloads leave the page: chords, so a stray key press cannot start one.
+  useShortcut("Alt+Shift+X", "Export the model file (.model.json)", () => void exportFile("model"));
+  useShortcut("Alt+Shift+L", "Export the equations as a LaTeX document", () => void exportFile("latex"));
 
   // The same two actions from inside an editor, where single keys type text.
   useEffect(() => {
@@ -273,10 +275,10 @@ export function NotebookPage(props: NotebookPageProps) {
                   aria-label="Export"
                   onKeyDown={(event) => event.key === "Escape" && setExportOpen(false)}
                 >
-                  <Button size="sm" className="w-full justify-start" onClick={() => void exportFile("model")} disabled={exporting !== null} title="x">
+                  <Button size="sm" className="w-full justify-start" onClick={() => void exportFile("model")} disabled={exporting !== null} title="Alt+Shift+X">
                     {exporting === "model" ? "Preparing…" : "Model file (.model.json)"}
                   </Button>
-                  <Button size="sm" className="w-full justify-start" onClick={() => void exportFile("latex")} disabled={exporting !== null} title="l">
+                  <Button size="sm" className="w-full justify-start" onClick={() => void exportFile("latex")} disabled={exporting !== null} title="Alt+Shift+L">
                     {exporting === "latex" ? "Preparing…" : "LaTeX document (.tex)"}
                   </Button>
                   {exportError ? (
@@ -355,7 +357,7 @@ export function NotebookPage(props: NotebookPageProps) {
         </section>
       ) : null}
 
-      <EvaluationBar evaluation={evaluation} responseMs={response?.requestMs} cached={response?.cached} />
+      <EvaluationBar evaluation={evaluation} document={doc} responseMs={response?.requestMs} cached={response?.cached} />
 
       <Notebook
         document={doc}
@@ -377,11 +379,9 @@ export function NotebookPage(props: NotebookPageProps) {
   );
 }
 
-function noop() {}
-
 /** Lists a key handled elsewhere (by the cells or a key listener) in the help dialog. */
 function HelpEntry({ keys, description, enabled = true }: { keys: string; description: string; enabled?: boolean }) {
-  useShortcut(keys, description, noop, enabled);
+  useShortcutHelp(keys, description, enabled);
   return null;
 }
 
@@ -435,7 +435,17 @@ function SaveIndicator({ status, onRetry }: { status: SaveStatus; onRetry: () =>
   );
 }
 
-function EvaluationBar({ evaluation, responseMs, cached }: { evaluation: ReturnType<typeof useEvaluation>; responseMs?: number; cached?: boolean }) {
+function EvaluationBar({
+  evaluation,
+  document,
+  responseMs,
+  cached,
+}: {
+  evaluation: ReturnType<typeof useEvaluation>;
+  document: DerivationDocument;
+  responseMs?: number;
+  cached?: boolean;
+}) {
   const { error, evaluating, stale, results, diagnostics } = evaluation;
   return (
     <div className="space-y-1 text-sm" data-testid="evaluation-status" data-state={evaluating ? "evaluating" : error ? "failed" : stale ? "stale" : results ? "current" : "none"}>
@@ -450,14 +460,7 @@ function EvaluationBar({ evaluation, responseMs, cached }: { evaluation: ReturnT
             Evaluation failed{results ? "; the results below are from the last good evaluation and are marked stale" : ""}.
           </p>
           <ul className="list-disc pl-5">
-            {diagnostics.length > 0
-              ? diagnostics.map((d, i) => (
-                  <li key={i}>
-                    <span className="font-mono">{d.field || "model"}</span>
-                    {d.column !== null ? `, column ${d.column}` : ""}: {d.message}
-                  </li>
-                ))
-              : [<li key="message">{error.message}</li>]}
+            {diagnostics.length > 0 ? diagnostics.map((d, i) => <li key={i}>{diagnosticLine(document, d)}</li>) : [<li key="message">{error.message}</li>]}
           </ul>
         </div>
       ) : results && !evaluating ? (

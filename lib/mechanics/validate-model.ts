@@ -1,31 +1,24 @@
 import { z } from "zod";
 import { ExpressionError, ModelError } from "./errors";
 import { RESERVED_NAMES, TIME, walk, type Expr } from "./expr/ast";
+import { greekAdvice, hasGreekLetter } from "./expr/greek";
 import { parseExpression } from "./expr/parse";
 import type { Model } from "./model";
 
-/** Size limits checked before any symbolic work. */
-export interface ModelLimits {
-  maxCoordinates: number;
-  maxParameters: number;
-  maxInputs: number;
-  maxDefinitions: number;
-  /** Sum of the lengths of all expression texts. */
-  maxTotalTextLength: number;
-}
+import { DEFAULT_MODEL_LIMITS, type ModelLimits } from "./limits";
 
-export const DEFAULT_MODEL_LIMITS: ModelLimits = {
-  maxCoordinates: 12,
-  maxParameters: 200,
-  maxInputs: 50,
-  maxDefinitions: 200,
-  maxTotalTextLength: 100_000,
-};
+export { DEFAULT_MODEL_LIMITS, type ModelLimits };
 
+const IDENTIFIER = /^[A-Za-z_][A-Za-z0-9_]*$/;
 const identifier = z
   .string()
   .max(64, "names are at most 64 characters")
-  .regex(/^[A-Za-z_][A-Za-z0-9_]*$/, "a name is a letter or _ followed by letters, digits or _");
+  .refine((name) => IDENTIFIER.test(name), {
+    error: (issue) => {
+      const name = String(issue.input);
+      return hasGreekLetter(name) ? `"${name}": ${greekAdvice(name)}` : "a name is a letter or _ followed by letters, digits or _";
+    },
+  });
 const unit = z.string().max(200);
 const description = z.string().max(4000).optional();
 const namedUnit = z.object({ name: identifier, unit, description });

@@ -5,6 +5,7 @@
  * authority.
  */
 import { RESERVED_NAMES } from "../mechanics/expr/ast";
+import { greekAdvice, hasGreekLetter } from "../mechanics/expr/greek";
 import { isBlankRow, parseParameterValue, type DerivationDocument, type TableKind } from "./document";
 
 /** SI symbols a unit may be written with (DESIGN.md, "Model file"). */
@@ -97,7 +98,10 @@ const IDENTIFIER = /^[A-Za-z_][A-Za-z0-9_]*$/;
 export function checkSymbolName(text: string): FieldCheck {
   const name = text.trim();
   if (name === "") return { ok: false, message: "a name is required", position: 0 };
-  if (!IDENTIFIER.test(name)) return { ok: false, message: "letters, digits and _ only, starting with a letter", position: 0 };
+  if (!IDENTIFIER.test(name)) {
+    if (hasGreekLetter(name)) return { ok: false, message: greekAdvice(name), position: 0 };
+    return { ok: false, message: "letters, digits and _ only, starting with a letter", position: 0 };
+  }
   if (RESERVED_NAMES.has(name)) return { ok: false, message: `"${name}" is reserved by the expression language`, position: 0 };
   return OK;
 }
