@@ -4,7 +4,8 @@ export { ModelError, ExpressionError, EngineLimitError } from "./errors";
 export type { ModelErrorCode, ExpressionErrorCode } from "./errors";
 export { parseExpression, formatExpression } from "./expr/parse";
 export type { Expr } from "./expr/ast";
-export { validateModel, analyzeModel, DEFAULT_MODEL_LIMITS } from "./validate-model";
+export { validateModel, analyzeModel, collectModelIssues, DEFAULT_MODEL_LIMITS } from "./validate-model";
+export { readModelFile, jsonSyntaxIssues } from "./model-file";
 export type { ModelLimits, ModelAnalysis } from "./validate-model";
 export { deriveModel, deriveCanonical } from "./derive";
 export type {

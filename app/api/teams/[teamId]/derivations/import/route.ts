@@ -3,11 +3,10 @@ import { formDataOf, readBodyWithin } from "@/lib/api/body";
 import { apiRoute } from "@/lib/api/route";
 import { loadTeamFor } from "@/lib/auth/access";
 import { requireUser } from "@/lib/auth/session";
-import { modelErrorToAppError } from "@/lib/evaluation/document-content";
+import { modelIssuesToAppError } from "@/lib/evaluation/document-content";
 import { engineErrorToAppError } from "@/lib/evaluation/service";
 import { getEnginePool } from "@/lib/workers/engine-pool";
-import { ModelError } from "@/lib/mechanics/errors";
-import { validateModel } from "@/lib/mechanics/validate-model";
+import { collectModelIssues, readModelFile } from "@/lib/mechanics";
 import { modelToDocument } from "@/lib/notebook/document";
 import { AppError } from "@/lib/errors";
 import { parseOrThrow } from "@/lib/validation/parse";
@@ -67,23 +66,9 @@ export const POST = apiRoute<Params>(async (request, { params }) => {
   const teamId = (await params).teamId;
   await loadTeamFor(user, teamId, "derivation:create");
   const upload = await readUpload(request);
-  let raw: unknown;
-  if ("text" in upload) {
-    try {
-      raw = JSON.parse(upload.text);
-    } catch (error) {
-      throw fileProblem(`not JSON (${error instanceof Error ? error.message : "parse error"})`);
-    }
-  } else raw = upload.model;
   const options = parseOrThrow(importOptionsSchema, { title: upload.title });
-
-  let model;
-  try {
-    model = validateModel(raw);
-  } catch (error) {
-    if (error instanceof ModelError) throw modelErrorToAppError(error);
-    throw error;
-  }
+  const { model, issues } = "text" in upload ? readModelFile(upload.text) : collectModelIssues(upload.model);
+  if (!model) throw modelIssuesToAppError(issues);
   try {
     await getEnginePool().run("checkUnits", { model });
   } catch (error) {
