@@ -4,13 +4,10 @@ import { apiRoute, readJson } from "@/lib/api/route";
 import { loadTeamFor } from "@/lib/auth/access";
 import { requireUser } from "@/lib/auth/session";
 import { createToken } from "@/lib/auth/tokens";
-import { roleLabels } from "@/lib/domain";
-import { env } from "@/lib/env";
 import { AppError } from "@/lib/errors";
-import { absoluteUrl } from "@/lib/links";
-import { composeLinkMail, sendMail } from "@/lib/mailer";
 import { parseOrThrow } from "@/lib/validation/parse";
 import { inviteMemberSchema } from "@/lib/validation/teams";
+import { deliverInvite, inviteExpiry, inviteJson } from "./invite-mail";
 
 type Params = { teamId: string };
 
@@ -19,12 +16,13 @@ export const GET = apiRoute<Params>(async (_request, { params }) => {
   const teamId = (await params).teamId;
   await loadTeamFor(user, teamId, "team:invite");
   const invites = await getOpenInvitesByTeamId({ teamId });
-  return Response.json({
-    invites: invites.map(({ id, email, role, expiresAt, createdAt }) => ({ id, email, role, expiresAt, createdAt })),
-  });
+  return Response.json({ invites: invites.map(inviteJson) });
 });
 
-/** Invites someone by e-mail; the link in the message lets them join with the chosen role. */
+/**
+ * Invites someone by e-mail; the link in the message lets them join with the
+ * chosen role. Inviting an address again replaces its open invitation.
+ */
 export const POST = apiRoute<Params>(async (request, { params }) => {
   const user = await requireUser();
   const teamId = (await params).teamId;
@@ -43,21 +41,8 @@ export const POST = apiRoute<Params>(async (request, { params }) => {
     role: input.role,
     tokenHash,
     invitedById: user.id,
-    expiresAt: new Date(Date.now() + env.INVITE_TTL_HOURS * 3_600_000),
-    deliver: (stored) =>
-      sendMail(
-        composeLinkMail({
-          to: stored.email,
-          subject: `${user.name} invited you to ${team.name} on Holonomy`,
-          intro: `${user.name} invited you to join ${team.name} on Holonomy as ${roleLabels[stored.role].toLowerCase()}.`,
-          linkLabel: "Accept the invitation",
-          link: absoluteUrl(`/invite/${token}`),
-          footnote: `The link works once and expires in ${env.INVITE_TTL_HOURS} hours.`,
-        }),
-      ),
+    expiresAt: inviteExpiry(),
+    deliver: deliverInvite({ inviter: user, team, token }),
   });
-  return Response.json(
-    { invite: { id: invite.id, email: invite.email, role: invite.role, expiresAt: invite.expiresAt } },
-    { status: 201 },
-  );
+  return Response.json({ invite: inviteJson(invite), replaced: invite.replaced }, { status: 201 });
 });
