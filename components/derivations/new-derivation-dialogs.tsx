@@ -1,8 +1,10 @@
 "use client";
 
 import { useEffect, useRef, useState } from "react";
+import { MAX_MODEL_FILE_LENGTH } from "@/app/api/teams/[teamId]/derivations/import/schema";
 import { Button } from "@/components/ui/button";
 import { Dialog } from "@/components/ui/dialog";
+import { FileInput, fileTooLarge } from "@/components/ui/file-input";
 import { inputClass } from "@/components/ui/field";
 import { Notice } from "@/components/ui/notice";
 import { AppError, appErrorFromBody } from "@/lib/errors";
@@ -159,6 +161,8 @@ export function ImportDerivationDialog({ open, teamId, onImported, onClose }: { 
   async function submit() {
     const file = fileRef.current?.files?.[0];
     if (!file) return setError(new AppError("bad_request:validation", "Choose a .model.json file.", { fieldErrors: { file: ["Choose a .model.json file."] } }));
+    const refusal = fileTooLarge(file, MAX_MODEL_FILE_LENGTH);
+    if (refusal) return setError(new AppError("too_large:model", refusal));
     setPending(true);
     setError(null);
     try {
@@ -186,11 +190,17 @@ export function ImportDerivationDialog({ open, teamId, onImported, onClose }: { 
           void submit();
         }}
       >
-        <p className="text-sm text-muted">A <span className="font-mono">.model.json</span> file becomes a new derivation in this team. A file with a problem is refused as a whole, with the field and the reason.</p>
-        <label className="block text-sm">
-          <span className="mb-1 block font-medium">Model file</span>
-          <input ref={fileRef} type="file" name="file" accept=".json,application/json" className="block w-full text-sm" onChange={() => setError(null)} />
-        </label>
+        <p className="text-sm text-muted">A <span className="font-mono">.model.json</span> file becomes a new derivation in this team. A file with a problem is refused as a whole, with every problem listed.</p>
+        <FileInput
+          ref={fileRef}
+          label="Model file"
+          name="file"
+          accept=".json,application/json"
+          maxBytes={MAX_MODEL_FILE_LENGTH}
+          hint="A .model.json file"
+          onFile={() => setError(null)}
+          onRefused={(message) => setError(new AppError("too_large:model", message))}
+        />
         {error ? (
           <div className="rounded border border-danger/60 bg-danger-soft px-3 py-2 text-sm" role="alert" data-testid="import-error">
             <p className="font-medium text-danger">Not imported. {error.message}</p>

@@ -21,6 +21,7 @@ import { diagnosticLine } from "@/lib/notebook/results";
 import { CELL_SHORTCUTS } from "./cell-frame";
 import { SAFETY_NOTE } from "./generated-cells";
 import { Notebook } from "./notebook";
+import { UploadLimitsProvider, type UploadLimits } from "./upload-limits";
 import { readDraft, removeDraft, useAutosave, type SaveFunction, type SaveStatus } from "./use-autosave";
 import { useEvaluation } from "./use-evaluation";
 
@@ -32,9 +33,16 @@ export interface NotebookPageProps {
   ownerName: string | null;
   roleLabel: string;
   canEdit: boolean;
+  /**
+   * Why a reader cannot edit: the derivation is approved and locked (their role could edit it
+   * otherwise), or their role never edits. Ignored when `canEdit`.
+   */
+  readOnlyReason?: "approved" | "role";
   canRename: boolean;
   initialDocument: DerivationDocument;
   initialUpdatedAt: string;
+  /** The server's upload limits, stated and applied where files are chosen. */
+  uploadLimits?: UploadLimits;
   rowTitle: string;
 }
 
@@ -79,6 +87,7 @@ async function download(url: string): Promise<void> {
 
 export function NotebookPage(props: NotebookPageProps) {
   const { derivationId, canEdit } = props;
+  const readOnlyReason = canEdit ? undefined : (props.readOnlyReason ?? "role");
   const [doc, setDoc] = useState(props.initialDocument);
   const [recovery, setRecovery] = useState<{ document: DerivationDocument; reason: string } | null>(null);
   const [notice, setNotice] = useState<string | null>(null);
@@ -228,14 +237,17 @@ export function NotebookPage(props: NotebookPageProps) {
         </Link>
         <div className="flex flex-wrap items-center gap-3">
           {canEdit && props.canRename ? (
-            <input
-              aria-label="Derivation title"
-              data-testid="derivation-title"
-              className="min-w-0 flex-1 rounded border border-transparent bg-transparent px-1 text-2xl font-semibold hover:border-line focus:border-action focus:outline-none"
-              value={doc.title}
-              maxLength={160}
-              onChange={(event) => setDoc((current) => applyOperation(current, { type: "setTitle", title: event.target.value }))}
-            />
+            // The page's one heading holds the editable title, so the notebook still has an h1.
+            <h1 className="min-w-0 flex-1">
+              <input
+                aria-label="Derivation title"
+                data-testid="derivation-title"
+                className="w-full rounded border border-transparent bg-transparent px-1 text-2xl font-semibold hover:border-line focus:border-action focus:outline-none"
+                value={doc.title}
+                maxLength={160}
+                onChange={(event) => setDoc((current) => applyOperation(current, { type: "setTitle", title: event.target.value }))}
+              />
+            </h1>
           ) : (
             <h1 className="min-w-0 flex-1 text-2xl font-semibold" data-testid="derivation-title">
               {doc.title}
@@ -250,8 +262,12 @@ export function NotebookPage(props: NotebookPageProps) {
           {canEdit ? (
             <SaveIndicator status={autosave.status} onRetry={() => void saveNow()} />
           ) : (
-            <span className="rounded border border-line bg-sunken px-2 py-0.5 text-xs text-muted" data-testid="read-only-badge">
-              Read-only
+            <span
+              className={clsx("rounded border px-2 py-0.5 text-xs", readOnlyReason === "approved" ? "border-seal/60 bg-seal-soft text-seal" : "border-line bg-sunken text-muted")}
+              data-testid="read-only-badge"
+              data-reason={readOnlyReason}
+            >
+              {readOnlyReason === "approved" ? "Read-only: approved and locked" : `Read-only for ${props.roleLabel.toLowerCase()}s`}
             </span>
           )}
           <div className="ml-auto flex flex-wrap items-center gap-2" role="toolbar" aria-label="Derivation actions">
@@ -297,9 +313,17 @@ export function NotebookPage(props: NotebookPageProps) {
       </header>
 
       {!canEdit ? (
-        <p className="rounded border border-line bg-surface px-3 py-2 text-sm text-muted" data-testid="read-only-note">
-          You can read and evaluate this derivation; editing it is for its team&apos;s analysts and leads{props.status === "approved" ? " (and, once approved, its lead)" : ""}.
-        </p>
+        readOnlyReason === "approved" ? (
+          <p className="rounded border border-seal/60 bg-seal-soft px-3 py-2 text-sm text-ink" data-testid="read-only-note" data-reason="approved">
+            <strong className="font-semibold text-seal">Approved and locked.</strong> This derivation was approved, so it is frozen: only a lead of the team can
+            change it or reopen it. You can still read, evaluate and export it.
+          </p>
+        ) : (
+          <p className="rounded border border-line bg-surface px-3 py-2 text-sm text-muted" data-testid="read-only-note" data-reason="role">
+            <strong className="font-semibold text-ink">Read-only for your role.</strong> As {props.roleLabel.toLowerCase()} you can read, evaluate and export this
+            derivation; editing it is for the team&apos;s analysts and leads.
+          </p>
+        )
       ) : null}
 
       {notice ? (
@@ -359,7 +383,8 @@ export function NotebookPage(props: NotebookPageProps) {
 
       <EvaluationBar evaluation={evaluation} document={doc} responseMs={response?.requestMs} cached={response?.cached} />
 
-      <Notebook
+      <UploadLimitsProvider limits={props.uploadLimits}>
+        <Notebook
         document={doc}
         onChange={(next) => setDoc(next)}
         results={evaluation.results}
@@ -369,7 +394,8 @@ export function NotebookPage(props: NotebookPageProps) {
         evaluatedModel={evaluation.evaluatedModel}
         readOnly={!canEdit}
         derivationId={derivationId}
-      />
+        />
+      </UploadLimitsProvider>
       {CELL_SHORTCUTS.map((shortcut) => (
         <HelpEntry key={shortcut.keys} keys={shortcut.keys} description={`${shortcut.description} (focus in the cell)`} />
       ))}

@@ -1,10 +1,12 @@
 import type { Metadata } from "next";
+import { CurrentTeam } from "@/components/current-team";
 import { NotebookPage } from "@/components/notebook/notebook-page";
 import { getTeamById } from "@/db/queries/teams";
 import { loadDerivationFor, orNotFound } from "@/lib/auth/access";
 import { can } from "@/lib/auth/permissions";
 import { requirePageUser } from "@/lib/auth/session";
 import { roleLabels } from "@/lib/domain";
+import { env } from "@/lib/env";
 import { documentFromContent } from "@/lib/evaluation/document-content";
 
 export const metadata: Metadata = { title: "Derivation" };
@@ -17,8 +19,12 @@ export default async function DerivationPage({ params }: { params: Promise<{ id:
   const team = await getTeamById({ id: derivation.teamId });
   const document = documentFromContent(derivation.content, derivation.title);
   const canEdit = can(membership.role, "derivation:edit", { status: derivation.status });
+  // A role that could edit a draft but not this derivation is held back by its approval.
+  const readOnlyReason = canEdit ? undefined : can(membership.role, "derivation:edit", { status: "draft" }) ? "approved" : "role";
   return (
-    <NotebookPage
+    <>
+      <CurrentTeam teamId={derivation.teamId} />
+      <NotebookPage
       key={derivation.id}
       derivationId={derivation.id}
       teamId={derivation.teamId}
@@ -27,10 +33,13 @@ export default async function DerivationPage({ params }: { params: Promise<{ id:
       ownerName={derivation.ownerName}
       roleLabel={roleLabels[membership.role]}
       canEdit={canEdit}
+      readOnlyReason={readOnlyReason}
       canRename={canEdit && can(membership.role, "derivation:rename", { status: derivation.status })}
       initialDocument={document}
       initialUpdatedAt={derivation.updatedAt.toISOString()}
       rowTitle={derivation.title}
-    />
+        uploadLimits={{ csvBytes: env.UPLOAD_MAX_CSV_BYTES, imageBytes: env.UPLOAD_MAX_IMAGE_BYTES }}
+      />
+    </>
   );
 }
