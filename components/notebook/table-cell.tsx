@@ -24,6 +24,14 @@ const COLUMNS: Record<TableCell["kind"], Column[]> = {
   definitions: ["name", "expr", "description"],
 };
 
+// Below these widths the grid scrolls inside its cell (on a phone) instead of squeezing its fields.
+const MIN_WIDTHS: Record<TableCell["kind"], string> = {
+  coordinates: "min-w-[30rem]",
+  inputs: "min-w-[30rem]",
+  parameters: "min-w-[38rem]",
+  definitions: "min-w-[36rem]",
+};
+
 const HEADINGS: Record<Column, string> = { name: "Name", unit: "Unit", value: "Value", expr: "Expression", description: "Description" };
 
 const ROW_NOUN: Record<TableCell["kind"], string> = { coordinates: "coordinate", parameters: "parameter", inputs: "input", definitions: "definition" };
@@ -97,7 +105,7 @@ export function TableCellEditor({ cell, symbols, duplicateNames, diagnostics = [
   return (
     <div className="min-w-0">
       <div className="overflow-x-auto">
-        <table ref={tableRef} className="w-full border-collapse text-sm">
+        <table ref={tableRef} className={clsx("w-full border-collapse text-sm", MIN_WIDTHS[cell.kind])}>
           <thead>
             <tr className="text-left text-xs uppercase tracking-wide text-muted">
               {columns.map((column) => (

@@ -69,14 +69,15 @@ export function MembersPanel({ teamId, currentUserId, mayManage, mayInvite }: { 
   });
 
   return (
-    <div className="grid gap-8 lg:grid-cols-[1fr_20rem]">
-      <section aria-labelledby="members-heading" className="space-y-3">
+    <div className="grid min-w-0 gap-8 lg:grid-cols-[minmax(0,1fr)_20rem]">
+      <section aria-labelledby="members-heading" className="min-w-0 space-y-3">
         <h2 id="members-heading" className="text-lg font-semibold">
           Members
         </h2>
         {actionError ? <Notice tone="error">{actionError}</Notice> : null}
         {members.error ? <Notice tone="error">{members.error.message}</Notice> : null}
-        <div className="overflow-x-auto rounded border border-line bg-surface">
+        {/* relative: keeps the screen-reader-only header text inside this scroll box, so the page does not widen on a phone. */}
+        <div className="relative overflow-x-auto rounded border border-line bg-surface">
           <table className="w-full text-sm" data-testid="members-table">
             <thead className="border-b border-line bg-sunken/60 text-left">
               <tr>
@@ -147,7 +148,7 @@ export function MembersPanel({ teamId, currentUserId, mayManage, mayInvite }: { 
       </section>
 
       {mayInvite ? (
-        <aside className="space-y-4">
+        <aside className="min-w-0 space-y-4">
           <InviteForm teamId={teamId} onInvited={() => queryClient.invalidateQueries({ queryKey: invitesKey })} />
           <OpenInvites teamId={teamId} invites={invites.data?.invites ?? []} error={invites.error?.message ?? null} onChanged={() => queryClient.invalidateQueries({ queryKey: invitesKey })} />
         </aside>

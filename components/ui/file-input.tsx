@@ -16,7 +16,7 @@ export function formatBytes(bytes: number): string {
  */
 export function fileTooLarge(file: File, maxBytes: number): string | null {
   if (file.size <= maxBytes) return null;
-  return `${file.name} is ${formatBytes(file.size)}; the limit is ${formatBytes(maxBytes)}. Nothing was sent.`;
+  return `The file "${file.name}" is ${formatBytes(file.size)}; the limit is ${formatBytes(maxBytes)}. Nothing was sent.`;
 }
 
 interface FileInputProps extends Omit<InputHTMLAttributes<HTMLInputElement>, "type" | "onChange"> {

@@ -31,7 +31,7 @@ describe("FileInput", () => {
     vi.stubGlobal("fetch", fetchSpy);
     render(<FileInput label="Upload measured CSV" maxBytes={1_000} onFile={onFile} onRefused={onRefused} />);
     choose(screen.getByLabelText("Upload measured CSV"), new File(["x".repeat(1_500)], "swing-test.csv", { type: "text/csv" }));
-    expect(onRefused).toHaveBeenCalledWith("swing-test.csv is 2 kB; the limit is 1 kB. Nothing was sent.");
+    expect(onRefused).toHaveBeenCalledWith('The file "swing-test.csv" is 2 kB; the limit is 1 kB. Nothing was sent.');
     expect(onFile).toHaveBeenCalledWith(null);
     expect(fetchSpy).not.toHaveBeenCalled();
     vi.unstubAllGlobals();
