@@ -3,10 +3,10 @@
 import clsx from "clsx";
 import { forwardRef, useId, type InputHTMLAttributes } from "react";
 
-/** "1.5 MB", "500 kB": sizes as people read them (decimal units, as file managers show them). */
+/** "10 MB", "488 kB": sizes in binary units, as the server states its own limits (10 MB = 10 × 1024² bytes). */
 export function formatBytes(bytes: number): string {
-  if (bytes >= 1_000_000) return `${Number((bytes / 1_000_000).toFixed(1))} MB`;
-  if (bytes >= 1_000) return `${Number((bytes / 1_000).toFixed(0))} kB`;
+  if (bytes >= 1024 * 1024) return `${Number((bytes / (1024 * 1024)).toFixed(1))} MB`;
+  if (bytes >= 1024) return `${Math.round(bytes / 1024)} kB`;
   return `${bytes} bytes`;
 }
 

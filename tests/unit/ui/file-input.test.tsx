@@ -16,7 +16,7 @@ describe("FileInput", () => {
     const onRefused = vi.fn();
     render(<FileInput label="Model file" maxBytes={500_000} hint="A .model.json file" onFile={onFile} onRefused={onRefused} />);
     const input = screen.getByLabelText("Model file");
-    expect(screen.getByTestId("file-limit").textContent).toBe("A .model.json file, up to 500 kB.");
+    expect(screen.getByTestId("file-limit").textContent).toBe("A .model.json file, up to 488 kB.");
     expect(input.getAttribute("aria-describedby")).toBe(screen.getByTestId("file-limit").id);
     const file = new File(["{}"], "hoist.model.json", { type: "application/json" });
     choose(input, file);
@@ -29,18 +29,19 @@ describe("FileInput", () => {
     const onRefused = vi.fn();
     const fetchSpy = vi.fn();
     vi.stubGlobal("fetch", fetchSpy);
-    render(<FileInput label="Upload measured CSV" maxBytes={1_000} onFile={onFile} onRefused={onRefused} />);
-    choose(screen.getByLabelText("Upload measured CSV"), new File(["x".repeat(1_500)], "swing-test.csv", { type: "text/csv" }));
+    render(<FileInput label="Upload measured CSV" maxBytes={1_024} onFile={onFile} onRefused={onRefused} />);
+    choose(screen.getByLabelText("Upload measured CSV"), new File(["x".repeat(2_048)], "swing-test.csv", { type: "text/csv" }));
     expect(onRefused).toHaveBeenCalledWith('The file "swing-test.csv" is 2 kB; the limit is 1 kB. Nothing was sent.');
     expect(onFile).toHaveBeenCalledWith(null);
     expect(fetchSpy).not.toHaveBeenCalled();
     vi.unstubAllGlobals();
   });
 
-  it("formats sizes as file managers show them", () => {
+  it("formats sizes in the binary units the server states its limits in", () => {
     expect(formatBytes(512)).toBe("512 bytes");
-    expect(formatBytes(500_000)).toBe("500 kB");
-    expect(formatBytes(10 * 1024 * 1024)).toBe("10.5 MB");
+    expect(formatBytes(500_000)).toBe("488 kB");
+    expect(formatBytes(10 * 1024 * 1024)).toBe("10 MB");
+    expect(formatBytes(1.5 * 1024 * 1024)).toBe("1.5 MB");
     expect(fileTooLarge(new File(["ab"], "a.csv"), 2)).toBeNull();
   });
 });
