@@ -210,7 +210,8 @@ export function DerivationsBoard({
         </div>
       ) : null}
 
-      <div className="overflow-x-auto rounded border border-line bg-surface">
+      {/* relative: the header's screen-reader-only text is positioned inside this scroll box, not the page (which it would widen on a phone). */}
+      <div className="relative overflow-x-auto rounded border border-line bg-surface">
         <table className="w-full text-sm" data-testid="derivations-table">
           <thead className="border-b border-line bg-sunken/60 text-left">
             {table.getHeaderGroups().map((group) => (

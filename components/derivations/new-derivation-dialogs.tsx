@@ -2,14 +2,19 @@
 
 import { useMutation } from "@tanstack/react-query";
 import { useEffect, useRef, useState } from "react";
+import { MAX_MODEL_FILE_LENGTH } from "@/app/api/teams/[teamId]/derivations/import/schema";
 import { Button } from "@/components/ui/button";
 import { Dialog } from "@/components/ui/dialog";
+import { FileInput, fileTooLarge, formatBytes } from "@/components/ui/file-input";
 import { inputClass } from "@/components/ui/field";
 import { Notice } from "@/components/ui/notice";
 import { apiFetch } from "@/lib/api/fetcher";
 import { AppError } from "@/lib/errors";
 import { MAX_CHAIN_LINKS, MIN_CHAIN_LINKS, TEMPLATES, type TemplateId } from "@/lib/notebook/templates";
 import { useIdempotencyKey } from "./use-idempotency-key";
+
+/** The server's default archive limit (NOTEBOOK_ARCHIVE_MAX_BYTES); the server checks the configured one. */
+const NOTEBOOK_ARCHIVE_UPLOAD_LIMIT = 50 * 1024 * 1024;
 
 export interface NewDerivationInput {
   title: string;
@@ -230,20 +235,20 @@ export function ImportDerivationDialog({ open, teamId, onImported, onClose }: { 
           A <span className="font-mono">.model.json</span> file (the model) or a <span className="font-mono">.notebook.zip</span> archive (the whole notebook with its
           stored runs and files) becomes a new derivation in this team. A file with a problem is refused as a whole, with every field or entry and the reason.
         </p>
-        <label className="block text-sm">
-          <span className="mb-1 block font-medium">Model file or notebook archive</span>
-          <input
-            ref={fileRef}
-            type="file"
-            name="file"
-            accept=".json,application/json,.zip,application/zip"
-            className="block w-full text-sm"
-            onChange={() => {
-              setMissing(null);
-              clear();
-            }}
-          />
-        </label>
+        <FileInput
+          ref={fileRef}
+          label="Model file or notebook archive"
+          name="file"
+          accept=".json,application/json,.zip,application/zip"
+          maxBytes={NOTEBOOK_ARCHIVE_UPLOAD_LIMIT}
+          hint={`A .model.json file (up to ${formatBytes(MAX_MODEL_FILE_LENGTH)}) or a .notebook.zip archive`}
+          onFile={(file) => {
+            clear();
+            const refusal = file && !file.name.endsWith(".zip") ? fileTooLarge(file, MAX_MODEL_FILE_LENGTH) : null;
+            setMissing(refusal ? new AppError("too_large:model", refusal) : null);
+          }}
+          onRefused={(message) => setMissing(new AppError("too_large:model", message))}
+        />
         {error ? (
           <div className="rounded border border-danger/60 bg-danger-soft px-3 py-2 text-sm" role="alert" data-testid="import-error">
             <p className="font-medium text-danger">Not imported. {error.message}</p>

@@ -288,9 +288,9 @@ export function LinearizationCellView(props: LinearizationCellProps) {
           <label key={name} className="flex flex-col gap-1 text-muted">
             Input {name}
             <input
-              className="w-24 rounded border border-line bg-paper px-1.5 py-0.5 font-mono text-ink"
+              className="w-24 rounded border border-line bg-paper px-1.5 py-0.5 font-mono text-ink placeholder:font-sans placeholder:text-xs placeholder:italic placeholder:text-muted/70"
               value={cell.settings.inputValues[name] ?? ""}
-              placeholder="0"
+              placeholder="blank = 0"
               readOnly={readOnly}
               inputMode="decimal"
               onChange={(event) =>

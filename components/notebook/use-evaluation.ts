@@ -32,6 +32,12 @@ export interface Evaluation {
   evaluateNow: () => void;
 }
 
+/** A coordinate, a kinetic and a potential energy: the least the engine can derive from. */
+export function modelIsWritten(document: DerivationDocument): boolean {
+  const written = (kind: "kinetic" | "potential") => document.cells.some((cell) => cell.kind === kind && cell.expr.trim() !== "");
+  return coordinateNames(document).length > 0 && written("kinetic") && written("potential");
+}
+
 const NO_DIAGNOSTICS: readonly ModelDiagnostic[] = [];
 
 function diagnosticsOf(error: unknown): readonly ModelDiagnostic[] {
@@ -43,9 +49,10 @@ function diagnosticsOf(error: unknown): readonly ModelDiagnostic[] {
 export function useEvaluation({ derivationId, document, settleMs = 1_200 }: { derivationId: string; document: DerivationDocument; settleMs?: number }): Evaluation {
   const json = JSON.stringify(document);
   const [settled, setSettled] = useState(json);
-  // A notebook without coordinates has nothing to derive yet: wait for one, or for an explicit request.
+  // A notebook whose model is not written yet has nothing to derive: evaluating it would only list
+  // the cells still blank. Wait until it is, or for an explicit request.
   const [requested, setRequested] = useState(false);
-  const ready = requested || coordinateNames(document).length > 0;
+  const ready = requested || modelIsWritten(document);
   const [lastGood, setLastGood] = useState<{ json: string; response: EvaluationResponse } | null>(null);
 
   useEffect(() => {

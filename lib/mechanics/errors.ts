@@ -31,7 +31,7 @@ export class ExpressionError extends Error {
   }
 }
 
-export type ModelErrorCode = ExpressionErrorCode | "schema" | "duplicate_name" | "reserved_name" | "unit" | "unit_mismatch" | "too_large" | "singular";
+export type ModelErrorCode = ExpressionErrorCode | "syntax" | "schema" | "duplicate_name" | "reserved_name" | "unit" | "unit_mismatch" | "too_large" | "singular";
 
 /**
  * A problem in a model, located by field path (`kinetic`, `definitions[1].expr`,

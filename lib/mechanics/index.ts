@@ -5,7 +5,8 @@ export type { ModelErrorCode, ExpressionErrorCode } from "./errors";
 export { parseExpression, formatExpression, expressionTree } from "./expr/parse";
 export type { ExpressionSource } from "./expr/parse";
 export type { Expr } from "./expr/ast";
-export { validateModel, analyzeModel, DEFAULT_MODEL_LIMITS } from "./validate-model";
+export { validateModel, analyzeModel, collectModelIssues, DEFAULT_MODEL_LIMITS } from "./validate-model";
+export { readModelFile, jsonSyntaxIssues } from "./model-file";
 export type { ModelLimits, ModelAnalysis } from "./validate-model";
 export { deriveModel, deriveCanonical } from "./derive";
 export type {

@@ -6,6 +6,7 @@
  */
 import { RESERVED_NAMES } from "../mechanics/expr/ast";
 import { MODEL_UNIT_SYMBOLS, parseUnitText, UnitError } from "../units";
+import { greekAdvice, hasGreekLetter } from "../mechanics/expr/greek";
 import { isBlankRow, parseParameterValue, type DerivationDocument, type TableKind } from "./document";
 
 export type FieldCheck = { ok: true } | { ok: false; message: string; /** 0-based position in the text */ position: number };
@@ -41,7 +42,10 @@ const IDENTIFIER = /^[A-Za-z_][A-Za-z0-9_]*$/;
 export function checkSymbolName(text: string): FieldCheck {
   const name = text.trim();
   if (name === "") return { ok: false, message: "a name is required", position: 0 };
-  if (!IDENTIFIER.test(name)) return { ok: false, message: "letters, digits and _ only, starting with a letter", position: 0 };
+  if (!IDENTIFIER.test(name)) {
+    if (hasGreekLetter(name)) return { ok: false, message: greekAdvice(name), position: 0 };
+    return { ok: false, message: "letters, digits and _ only, starting with a letter", position: 0 };
+  }
   if (RESERVED_NAMES.has(name)) return { ok: false, message: `"${name}" is reserved by the expression language`, position: 0 };
   return OK;
 }

@@ -5,7 +5,7 @@
  * `\htmlData{term=ID}{…}`); the notebook only renders it.
  */
 import type { Model } from "../mechanics/model";
-import { locateModelField, type DerivationDocument, type FieldLocation } from "./document";
+import { CELL_LABELS, locateModelField, type DerivationDocument, type FieldLocation } from "./document";
 
 export interface EquationView {
   coordinate: string;
@@ -132,4 +132,37 @@ export function toEditorDiagnostic(located: LocatedDiagnostic, currentText: stri
   const text = located.text ?? currentText;
   if (column === null) return { from: 0, to: text.length, message, source: code };
   return { from: column - 1, to: column - 1 + Math.max(1, length), message, source: code };
+}
+
+const COLUMN_HEADINGS: Record<string, string> = { name: "Name", unit: "Unit", value: "Value", expr: "Expression", description: "Description" };
+const ROW_NOUNS: Record<string, string> = { coordinates: "coordinate", parameters: "parameter", inputs: "input", definitions: "definition" };
+
+/**
+ * The label the analyst sees for a model field: `kinetic` → "Kinetic energy",
+ * `parameters[1].unit` → "Unit, parameter 2 (g)", `definitions[0].expr` →
+ * "Expression of x1", `forces.theta` → "Generalized force on theta". Row
+ * numbers count the rows as the grid shows them, blank ones included.
+ */
+export function fieldLabel(doc: DerivationDocument, field: string): string {
+  if (field === "" || field === "model") return "The model";
+  if (field === "title") return "Title";
+  const location = locateModelField(doc, field);
+  const cell = location ? doc.cells.find((c) => c.id === location.cellId) : undefined;
+  if (!location || !cell) return field;
+  if (location.coordinate) return `Generalized force on ${location.coordinate}`;
+  if (!location.rowId || !("rows" in cell)) return cell.title ?? CELL_LABELS[cell.kind];
+  const rows = cell.rows as { id: string; name: string }[];
+  const index = rows.findIndex((row) => row.id === location.rowId);
+  const row = rows[index];
+  const name = row?.name.trim() ?? "";
+  if (location.column === "expr" && name !== "") return `Expression of ${name}`;
+  const where = `${ROW_NOUNS[cell.kind] ?? "row"} ${index + 1}${name !== "" && location.column !== "name" ? ` (${name})` : ""}`;
+  const heading = location.column ? COLUMN_HEADINGS[location.column] : undefined;
+  return heading ? `${heading}, ${where}` : where.charAt(0).toUpperCase() + where.slice(1);
+}
+
+/** One line for a diagnostic, in the analyst's labels: `Kinetic energy, column 12: unknown symbol "l3"`. */
+export function diagnosticLine(doc: DerivationDocument, diagnostic: Pick<ModelDiagnostic, "field" | "column" | "message">): string {
+  const label = fieldLabel(doc, diagnostic.field);
+  return `${label}${diagnostic.column !== null ? `, column ${diagnostic.column}` : ""}: ${diagnostic.message}`;
 }

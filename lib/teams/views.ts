@@ -17,10 +17,12 @@ export interface InviteJson {
   role: Invite["role"];
   /** ISO 8601. */
   expiresAt: string;
-  /** ISO 8601; absent in the answer to creating one. */
-  createdAt?: string;
+  /** ISO 8601. */
+  createdAt: string;
+  /** When the invitation was last sent (created, replaced or re-sent); ISO 8601. */
+  sentAt: string;
 }
 
-export function inviteView({ id, email, role, expiresAt, createdAt }: Pick<Invite, "id" | "email" | "role" | "expiresAt" | "createdAt">): InviteJson {
-  return { id, email, role, expiresAt: expiresAt.toISOString(), createdAt: createdAt.toISOString() };
+export function inviteView({ id, email, role, expiresAt, createdAt, updatedAt }: Pick<Invite, "id" | "email" | "role" | "expiresAt" | "createdAt" | "updatedAt">): InviteJson {
+  return { id, email, role, expiresAt: expiresAt.toISOString(), createdAt: createdAt.toISOString(), sentAt: updatedAt.toISOString() };
 }

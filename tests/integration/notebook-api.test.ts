@@ -278,7 +278,8 @@ describe("import and export", () => {
     form.set("file", new File(["{ not json"], "broken.model.json"));
     const notJson = await importRoute.POST(await formRequest(`/api/teams/${kestrel.team.id}/derivations/import`, form), params({ teamId: kestrel.team.id }));
     expect(notJson.status).toBe(422);
-    expect((await notJson.json()).error.fieldErrors.file[0]).toMatch(/not JSON/);
+    // Malformed JSON is reported with its line and column.
+    expect((await notJson.json()).error.fieldErrors.file[0]).toMatch(/line 1, column 3/);
 
     expect((await listDerivations(kestrel)).total).toBe(before);
   });

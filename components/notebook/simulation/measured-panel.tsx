@@ -10,8 +10,10 @@ import { useCallback, useEffect, useMemo, useState } from "react";
 import { apiFetch } from "@/lib/api/fetcher";
 import { AppError, appErrorFromBody } from "@/lib/errors";
 import { documentSymbols, parseParameterValue, type DerivationDocument, type DocumentOperation } from "@/lib/notebook/document";
+import { FileInput } from "@/components/ui/file-input";
 import type { FileJson } from "@/lib/files/views";
 import type { FitJson } from "@/lib/runs/views";
+import { useUploadLimits } from "../upload-limits";
 import type { MeasuredOverlay } from "./results-view";
 import type { RunRequest } from "./settings";
 
@@ -76,6 +78,7 @@ export function MeasuredPanel({ derivationId, document: doc, readOnly, settings,
     return list;
   }, [doc]);
   const symbols = useMemo(() => documentSymbols(doc), [doc]);
+  const uploadLimits = useUploadLimits();
 
   const load = useCallback(async () => {
     try {
@@ -175,14 +178,24 @@ export function MeasuredPanel({ derivationId, document: doc, readOnly, settings,
       <div className="mt-2 flex min-w-0 flex-col gap-3 text-sm">
         {!readOnly && (
           <div className="flex flex-wrap gap-3">
-            <label className="flex flex-wrap items-center gap-2">
-              <span className="whitespace-nowrap">Upload measured CSV</span>
-              <input type="file" accept=".csv,text/csv" className="max-w-56 text-xs" onChange={(event) => void upload(event.target.files?.[0], "measured_csv")} />
-            </label>
-            <label className="flex flex-wrap items-center gap-2">
-              <span className="whitespace-nowrap">Attach sketch image</span>
-              <input type="file" accept="image/png,image/jpeg,image/webp" className="max-w-56 text-xs" onChange={(event) => void upload(event.target.files?.[0], "image")} />
-            </label>
+            <FileInput
+              inline
+              label="Upload measured CSV"
+              accept=".csv,text/csv"
+              maxBytes={uploadLimits.csvBytes}
+              hint="CSV"
+              onFile={(file) => void upload(file ?? undefined, "measured_csv")}
+              onRefused={setUploadError}
+            />
+            <FileInput
+              inline
+              label="Attach sketch image"
+              accept="image/png,image/jpeg,image/webp"
+              maxBytes={uploadLimits.imageBytes}
+              hint="PNG, JPEG or WebP"
+              onFile={(file) => void upload(file ?? undefined, "image")}
+              onRefused={setUploadError}
+            />
           </div>
         )}
         <p className="text-xs text-muted">

@@ -1,5 +1,6 @@
 import { ExpressionError } from "../errors";
 import { FUNCTION_NAMES, type BinaryOperator, type Expr, type FunctionName } from "./ast";
+import { GREEK_LETTER_NAMES, greekAdvice } from "./greek";
 
 /**
  * Limits applied before any symbolic work, so that untrusted text cannot make
@@ -104,6 +105,7 @@ function tokenize(text: string): Token[] {
       continue;
     }
     if (ch === "'") throw new ExpressionError("parse", `a prime must follow a name (write q', not (q)')`, start);
+    if (GREEK_LETTER_NAMES[ch]) throw new ExpressionError("parse", `unexpected character "${ch}": ${greekAdvice(ch)}`, start);
     throw new ExpressionError("parse", `unexpected character "${ch}"`, start);
   }
   tokens.push({ type: "end", start: text.length, end: text.length });

@@ -2,11 +2,10 @@ import { createDerivation } from "@/db/queries/derivations";
 import { formDataOf, readBodyWithin } from "@/lib/api/body";
 import { beginCreateOnce, createdResponse, requestFingerprint } from "@/lib/api/idempotency";
 import { teamRoute } from "@/lib/api/resource-route";
-import { modelErrorToAppError, validDocumentOrThrow } from "@/lib/evaluation/document-content";
+import { modelIssuesToAppError, validDocumentOrThrow } from "@/lib/evaluation/document-content";
 import { engineErrorToAppError } from "@/lib/evaluation/service";
 import { getEnginePool } from "@/lib/workers/engine-pool";
-import { ModelError } from "@/lib/mechanics/errors";
-import { validateModel } from "@/lib/mechanics/validate-model";
+import { collectModelIssues, readModelFile } from "@/lib/mechanics";
 import { AppError } from "@/lib/errors";
 import { parseOrThrow } from "@/lib/validation/parse";
 import { importOptionsSchema, MAX_MODEL_FILE_LENGTH } from "./schema";
@@ -66,23 +65,9 @@ export const POST = teamRoute<Params>("derivation:create", async ({ request, par
   const fingerprint = requestFingerprint(teamId, "text" in upload ? upload.text : JSON.stringify(upload.model ?? null), upload.title ?? "");
   const once = await beginCreateOnce({ request, userId: user.id, operation: "derivation.import", fingerprint });
   if (once.earlier) return createdResponse({ derivation: once.earlier, replayed: true });
-  let raw: unknown;
-  if ("text" in upload) {
-    try {
-      raw = JSON.parse(upload.text);
-    } catch (error) {
-      throw fileProblem(`not JSON (${error instanceof Error ? error.message : "parse error"})`);
-    }
-  } else raw = upload.model;
   const options = parseOrThrow(importOptionsSchema, { title: upload.title });
-
-  let model;
-  try {
-    model = validateModel(raw);
-  } catch (error) {
-    if (error instanceof ModelError) throw modelErrorToAppError(error);
-    throw error;
-  }
+  const { model, issues } = "text" in upload ? readModelFile(upload.text) : collectModelIssues(upload.model);
+  if (!model) throw modelIssuesToAppError(issues);
   try {
     await getEnginePool().run("checkUnits", { model });
   } catch (error) {
