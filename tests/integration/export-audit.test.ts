@@ -1,4 +1,3 @@
-import { execFileSync } from "node:child_process";
 import { afterAll, beforeAll, beforeEach, describe, expect, it, vi } from "vitest";
 
 vi.mock("@/lib/auth/session", async () => (await import("./support/session")).sessionModule);
@@ -43,7 +42,6 @@ async function exportEvents() {
 
 beforeAll(async () => {
   // The pools run the bundled workers; build them from the current sources.
-  execFileSync("npm", ["run", "--silent", "build:workers"], { stdio: "inherit" });
   await resetDatabase();
   kestrel = await makeTeam("Kestrel export bay");
   const derivation = await createDerivation({ teamId: kestrel.team.id, title: hoistModel.title, ownerId: kestrel.members.analyst.id, content: modelToDocument(hoistModel) });

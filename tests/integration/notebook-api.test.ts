@@ -1,4 +1,3 @@
-import { execFileSync } from "node:child_process";
 import { afterAll, beforeAll, beforeEach, describe, expect, it, vi } from "vitest";
 
 vi.mock("@/lib/auth/session", async () => (await import("./support/session")).sessionModule);
@@ -72,7 +71,6 @@ async function listDerivations(fixture: TeamFixture, query = "") {
 
 beforeAll(async () => {
   // The pool runs the bundled worker; build it from the current engine sources.
-  execFileSync("npm", ["run", "--silent", "build:workers"], { stdio: "inherit" });
   await resetDatabase();
   kestrel = await makeTeam("Kestrel rig bay");
   otherTeam = await makeTeam("Another firm");

@@ -1,4 +1,3 @@
-import { execFileSync } from "node:child_process";
 import { Validator as OpenApiValidator } from "@seriousme/openapi-schema-validator";
 import Ajv2020 from "ajv/dist/2020";
 import addFormats from "ajv-formats";
@@ -136,7 +135,6 @@ function expectMatchesResponse(path: string, status: number, body: unknown) {
 
 beforeAll(async () => {
   // The pool runs the bundled worker; build it from the current engine sources.
-  execFileSync("npm", ["run", "--silent", "build:workers"], { stdio: "inherit" });
   await resetDatabase();
   kestrel = await makeTeam("Kestrel API bay");
   otherTeam = await makeTeam("Another firm");

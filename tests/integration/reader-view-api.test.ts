@@ -1,4 +1,3 @@
-import { execFileSync } from "node:child_process";
 import { afterAll, afterEach, beforeAll, describe, expect, it, vi } from "vitest";
 
 vi.mock("@/lib/auth/session", async () => (await import("./support/session")).sessionModule);
@@ -82,7 +81,6 @@ async function storedRow(id: string) {
 
 beforeAll(async () => {
   // The pools run the bundled workers; build them from the current sources.
-  execFileSync("npm", ["run", "--silent", "build:workers"], { stdio: "inherit" });
   await resetDatabase();
   kestrel = await makeTeam("Kestrel review desk");
   otherTeam = await makeTeam("Another firm");
