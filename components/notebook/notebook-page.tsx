@@ -153,13 +153,17 @@ export function NotebookPage(props: NotebookPageProps) {
   const [scrollToOwnSimulation, setScrollToOwnSimulation] = useState(false);
   useEffect(() => {
     if (!scrollToOwnSimulation) return;
+    // A one-shot request: the panel exists only after the render that opened it.
+    // eslint-disable-next-line react-hooks/set-state-in-effect -- resets the request once it is served
     setScrollToOwnSimulation(false);
     ownSimulationRef.current?.scrollIntoView({ behavior: "smooth", block: "start" });
     ownSimulationRef.current?.querySelector<HTMLElement>("input, button")?.focus({ preventScroll: true });
   }, [scrollToOwnSimulation]);
 
   // Work this browser kept from an earlier visit: resume it when it was based on the version
-  // the server still holds, otherwise set it aside where it can be restored.
+  // the server still holds, otherwise set it aside where it can be restored. localStorage
+  // exists only in the browser, so this runs after mount (the page is a new one per derivation).
+  const { initialDocument, initialUpdatedAt } = props;
   useEffect(() => {
     if (!canEdit) return;
     const storage = window.localStorage;
@@ -169,22 +173,28 @@ export function NotebookPage(props: NotebookPageProps) {
         const entry = JSON.parse(aside) as { document: unknown; reason: string };
         // Set aside by an earlier version of the page, perhaps: migrated like stored content.
         const parsed = parseStoredDocument(entry.document);
+        // eslint-disable-next-line react-hooks/set-state-in-effect -- state read from localStorage, an external system
         if (parsed.ok) setRecovery({ document: parsed.document, reason: String(entry.reason) });
       } catch {
         storage.removeItem(recoveryKey(derivationId));
       }
     }
     const draft = readDraft(storage, derivationId);
-    if (!draft || JSON.stringify(draft.document) === JSON.stringify(props.initialDocument)) return;
-    if (draft.baseUpdatedAt === props.initialUpdatedAt) {
+    if (!draft || JSON.stringify(draft.document) === JSON.stringify(initialDocument)) return;
+    if (draft.baseUpdatedAt === initialUpdatedAt) {
       setDoc(draft.document);
       setNotice("Restored changes from this browser that had not reached the server yet; saving them now.");
     } else {
-      keepAside(draft.document, "This browser kept changes made to an older version of this derivation, which has changed since.");
+      const entry = { document: draft.document, reason: "This browser kept changes made to an older version of this derivation, which has changed since." };
+      setRecovery(entry);
+      try {
+        storage.setItem(recoveryKey(derivationId), JSON.stringify(entry));
+      } catch {
+        // still shown on the page
+      }
       removeDraft(storage, derivationId);
     }
-    // Runs once, for the version the page loaded with.
-  }, []);
+  }, [canEdit, derivationId, initialDocument, initialUpdatedAt]);
 
   function keepAside(document: DerivationDocument, reason: string) {
     const entry = { document, reason };

@@ -223,8 +223,8 @@ export function useAutosave(options: AutosaveOptions): Autosave {
       clearTimer();
       timer.current = setTimeout(() => void run(), debounceMs);
     }
-    // `document` is represented by `json`.
-  }, [json, enabled, debounceMs, derivationId, run, clearTimer, update, storage]);
+    // `json` is `document` serialised; both change together.
+  }, [json, document, enabled, debounceMs, derivationId, run, clearTimer, update, storage]);
 
   useEffect(() => clearTimer, [clearTimer]);
 

@@ -25,6 +25,8 @@ function Page({ onExport, onNew }: { onExport: () => void; onNew: () => void }) 
     <div>
       <button type="button">+ Add parameter</button>
       <input aria-label="Description" />
+      {/* A plain link on purpose: single-key shortcuts must not fire from any link. */}
+      {/* eslint-disable-next-line @next/next/no-html-link-for-pages */}
       <a href="/teams">Teams</a>
       <div role="textbox" tabIndex={0} aria-label="Expression" />
       <p data-testid="plain">text</p>

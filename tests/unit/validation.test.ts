@@ -44,8 +44,10 @@ describe("request schemas", () => {
 
   it("refuses an empty derivation update", () => {
     expect(updateDerivationSchema.safeParse({}).success).toBe(false);
-    expect(updateDerivationSchema.safeParse({ status: "in_review" }).success).toBe(true);
-    expect(updateDerivationSchema.safeParse({ status: "locked" }).success).toBe(false);
+    // The status moves only through review, approval and unlock, never by PATCH.
+    expect(updateDerivationSchema.safeParse({ status: "in_review" }).success).toBe(false);
+    expect(updateDerivationSchema.safeParse({ title: "Hoist drum", status: "approved" }).success).toBe(false);
+    expect(updateDerivationSchema.safeParse({ title: "Hoist drum" }).success).toBe(true);
   });
 
   it("parseOrThrow raises bad_request:validation with field errors", () => {

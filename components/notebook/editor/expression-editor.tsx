@@ -10,7 +10,7 @@
  * the focus); until then the text shows as plain, focusable monospace, so a
  * notebook with dozens of expressions renders quickly.
  */
-import { useEffect, useId, useRef, useState } from "react";
+import { useEffect, useId, useLayoutEffect, useRef, useState } from "react";
 import { useNearViewport } from "../use-near-viewport";
 import type { DocumentSymbols } from "@/lib/notebook/document";
 import type { ExpressionDiagnostic } from "./context";
@@ -53,10 +53,14 @@ export function ExpressionEditor(props: ExpressionEditorProps) {
   const [mounted, setMounted] = useState(false);
   const active = near || focusRequested;
   const callbacks = useRef({ onChange: props.onChange, onEnter: props.onEnter, onBlur: props.onBlur });
-  callbacks.current = { onChange: props.onChange, onEnter: props.onEnter, onBlur: props.onBlur };
-  // The latest props, read when the lazily loaded view is created.
-  const latest = useRef({ value, label, symbols, diagnostics, diagnosticsFor, readOnly, focusRequested });
-  latest.current = { value, label, symbols, diagnostics, diagnosticsFor, readOnly, focusRequested };
+  // The latest props, read when the lazily loaded view is created (its options are fixed from then on).
+  const latestProps = { ...props, value, label, symbols, diagnostics, diagnosticsFor, readOnly, focusRequested };
+  const latest = useRef(latestProps);
+  // Refs are written after render, never during it; the view reads them from its own callbacks and effects.
+  useLayoutEffect(() => {
+    callbacks.current = { onChange: props.onChange, onEnter: props.onEnter, onBlur: props.onBlur };
+    latest.current = latestProps;
+  });
   const [shown, setShown] = useState<ShownDiagnostic[]>([]);
   const messagesId = useId();
 
@@ -75,14 +79,14 @@ export function ExpressionEditor(props: ExpressionEditorProps) {
         value: now.value,
         label: now.label,
         describedBy: messagesId,
-        id: props.id,
-        multiline: props.multiline,
-        placeholder: props.placeholder,
+        id: now.id,
+        multiline: now.multiline,
+        placeholder: now.placeholder,
         symbols: now.symbols,
         diagnostics: { text: now.diagnosticsFor, items: now.diagnostics ?? [] },
-        allowEmpty: props.allowEmpty,
-        checkSymbols: props.checkSymbols ?? now.symbols !== undefined,
-        lintDelay: props.lintDelay,
+        allowEmpty: now.allowEmpty,
+        checkSymbols: now.checkSymbols ?? now.symbols !== undefined,
+        lintDelay: now.lintDelay,
         readOnly: now.readOnly,
         onChange: (text) => callbacks.current.onChange(text),
         onEnter: () => callbacks.current.onEnter?.(),
@@ -100,7 +104,7 @@ export function ExpressionEditor(props: ExpressionEditorProps) {
       viewRef.current = null;
     };
     // Built once, when `active` turns true (it never turns back); the effects below follow prop changes.
-  }, [active]);
+  }, [active, messagesId]);
 
   useEffect(() => {
     viewRef.current?.setValue(value);

@@ -9,7 +9,7 @@
  * point keeps its distance from it. Play, pause and a scrub slider run over
  * the output times.
  */
-import { useEffect, useMemo, useRef, useState } from "react";
+import { useEffect, useLayoutEffect, useMemo, useRef, useState } from "react";
 import { useThemeVersion } from "./chart";
 
 export type PointMotion = "fixed" | "horizontal" | "vertical" | "free";
@@ -106,15 +106,22 @@ export function MechanismAnimation({ times, points }: MechanismAnimationProps) {
   }, [points]);
   const layout = useMemo(() => layoutOf(points, bounds.span), [points, bounds.span]);
 
+  // The frame shown, for the playback loop to start from (written after render, never during it).
+  const shownFrame = useRef(frame);
+  useLayoutEffect(() => {
+    shownFrame.current = frame;
+  });
+
   // Playback in simulated time (1 s per second), from the frame shown.
   useEffect(() => {
     if (!playing || count < 2) return;
+    const first = shownFrame.current;
     const startWall = performance.now();
-    const startSim = times[frame]!;
+    const startSim = times[first]!;
     let handle = 0;
     const step = () => {
       const target = startSim + (performance.now() - startWall) / 1000;
-      let k = frame;
+      let k = first;
       while (k < count - 1 && times[k + 1]! <= target) k++;
       setFrame(k);
       if (k >= count - 1) {

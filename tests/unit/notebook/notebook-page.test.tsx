@@ -127,7 +127,7 @@ describe("NotebookPage", () => {
   it("says why a reader cannot edit: approved and locked, or the role", () => {
     stubFetch(() => ({ status: 200, body: { cached: true, modelHash: "h", result: { equations: [] }, timings: {}, requestMs: 3, evaluatedAt: UPDATED } }));
     const { unmount } = renderPage(props({ canEdit: false, canRename: false, status: "approved", readOnlyReason: "approved" }));
-    expect(screen.getByTestId("read-only-note").textContent).toMatch(/^Approved and locked\. .*only a lead of the team can change it or reopen it/);
+    expect(screen.getByTestId("read-only-note").textContent).toMatch(/^Approved and locked\. .*a lead of the team can unlock it, giving a reason/);
     expect(screen.getByTestId("read-only-badge").textContent).toBe("Read-only: approved and locked");
     unmount();
     renderPage(props({ canEdit: false, canRename: false, roleLabel: "Reviewer", readOnlyReason: "role" }));
