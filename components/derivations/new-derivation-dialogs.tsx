@@ -241,10 +241,12 @@ export function ImportDerivationDialog({ open, teamId, onImported, onClose }: { 
           name="file"
           accept=".json,application/json,.zip,application/zip"
           maxBytes={NOTEBOOK_ARCHIVE_UPLOAD_LIMIT}
-          hint={`A .model.json file (up to ${formatBytes(MAX_MODEL_FILE_LENGTH)}) or a .notebook.zip archive`}
+          hint={`A .model.json file up to ${formatBytes(MAX_MODEL_FILE_LENGTH)}, or a .notebook.zip archive`}
           onFile={(file) => {
             clear();
+            // A model file has a smaller limit than an archive: refuse it here, and clear it, so nothing is sent.
             const refusal = file && !file.name.endsWith(".zip") ? fileTooLarge(file, MAX_MODEL_FILE_LENGTH) : null;
+            if (refusal && fileRef.current) fileRef.current.value = "";
             setMissing(refusal ? new AppError("too_large:model", refusal) : null);
           }}
           onRefused={(message) => setMissing(new AppError("too_large:model", message))}

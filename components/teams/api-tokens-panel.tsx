@@ -115,7 +115,8 @@ export function ApiTokensPanel({ teamId }: { teamId: string }) {
           </div>
         </Notice>
       ) : null}
-      <div className="overflow-x-auto rounded border border-line bg-surface">
+      {/* relative: keeps the screen-reader-only header text inside this scroll box, so the page does not widen on a phone. */}
+      <div className="relative overflow-x-auto rounded border border-line bg-surface">
         <table className="w-full text-sm" data-testid="api-tokens-table">
           <thead className="border-b border-line bg-sunken/60 text-left">
             <tr>
