@@ -1,5 +1,6 @@
 import type { Metadata } from "next";
 import { NotebookPage } from "@/components/notebook/notebook-page";
+import { DerivationReview } from "@/components/review/derivation-review";
 import { UnreadableContent } from "@/components/notebook/unreadable-content";
 import { getTeamById } from "@/db/queries/teams";
 import { getViewPreferencesByUserIdAndDerivationId } from "@/db/queries/view-preferences";
@@ -9,6 +10,7 @@ import { requirePageUser } from "@/lib/auth/session";
 import { roleLabels } from "@/lib/domain";
 import { parseStoredDocument, recoverModel } from "@/lib/notebook/document";
 import { readViewPreferences } from "@/lib/notebook/view-preferences";
+import { reviewPanelData } from "@/lib/review/panel-data";
 
 export const metadata: Metadata = { title: "Derivation" };
 
@@ -17,7 +19,11 @@ export default async function DerivationPage({ params }: { params: Promise<{ id:
   const { id } = await params;
   const user = await requirePageUser(`/derivations/${id}`);
   const { derivation, membership } = await orNotFound(() => loadDerivationFor(user, id, "derivation:read"));
-  const [team, view] = await Promise.all([getTeamById({ id: derivation.teamId }), getViewPreferencesByUserIdAndDerivationId({ userId: user.id, derivationId: derivation.id })]);
+  const [team, view, review] = await Promise.all([
+    getTeamById({ id: derivation.teamId }),
+    getViewPreferencesByUserIdAndDerivationId({ userId: user.id, derivationId: derivation.id }),
+    reviewPanelData({ derivation, membership, userId: user.id }),
+  ]);
   const stored = parseStoredDocument(derivation.content, { title: derivation.title });
   if (!stored.ok) {
     // Content this version cannot read: say what is wrong and offer what can be saved, never a 500.
@@ -51,6 +57,7 @@ export default async function DerivationPage({ params }: { params: Promise<{ id:
       initialViewPreferences={readViewPreferences(view?.preferences)}
       initialUpdatedAt={derivation.updatedAt.toISOString()}
       rowTitle={derivation.title}
+      review={<DerivationReview data={review} />}
     />
   );
 }
