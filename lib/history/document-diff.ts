@@ -140,18 +140,19 @@ function parameterRows(doc: DerivationDocument): ParameterRow[] {
 const PARAMETER_FIELDS = ["name", "unit", "value", "description"] as const;
 
 /**
- * Parameters of both revisions side by side: rows are matched by their id (so a
- * renamed parameter is one changed row), then by name.
+ * Parameters of both revisions side by side: rows are matched by name, then
+ * by row id (so a renamed parameter is one changed row).
  */
 export function compareParameters(before: DerivationDocument, after: DerivationDocument): ParameterChange[] {
   const oldRows = parameterRows(before);
   const newRows = parameterRows(after);
   const unmatched = new Set(oldRows);
-  const pairs: [ParameterRow | null, ParameterRow][] = newRows.map((row) => {
-    const match = oldRows.find((old) => unmatched.has(old) && old.id === row.id) ?? oldRows.find((old) => unmatched.has(old) && old.name.trim() === row.name.trim());
+  const take = (match: ParameterRow | undefined) => {
     if (match) unmatched.delete(match);
-    return [match ?? null, row];
-  });
+    return match ?? null;
+  };
+  const byName = newRows.map((row) => take(oldRows.find((old) => unmatched.has(old) && old.name.trim() === row.name.trim())));
+  const pairs: [ParameterRow | null, ParameterRow][] = newRows.map((row, i) => [byName[i] ?? take(oldRows.find((old) => unmatched.has(old) && old.id === row.id)), row]);
   const changes: ParameterChange[] = pairs.map(([old, row]) => {
     if (!old) return { status: "added", before: null, after: row, fields: [] };
     const fields = PARAMETER_FIELDS.filter((field) => old[field].trim() !== row[field].trim());
@@ -161,14 +162,40 @@ export function compareParameters(before: DerivationDocument, after: DerivationD
   return changes;
 }
 
-/** Compares two documents cell by cell (matched by cell id), in the newer document's order, removed cells last. */
+/**
+ * Pairs the cells of two documents: by id when the kind agrees (ids are stable
+ * while a notebook is edited), then the remaining cells of a kind in order (a
+ * document rebuilt from a model file gets new ids).
+ */
+function pairCells(before: DerivationDocument, after: DerivationDocument): Map<Cell, Cell> {
+  const pairs = new Map<Cell, Cell>();
+  const unpaired = new Set(before.cells);
+  for (const cell of after.cells) {
+    const match = before.cells.find((old) => unpaired.has(old) && old.id === cell.id && old.kind === cell.kind);
+    if (match) {
+      pairs.set(cell, match);
+      unpaired.delete(match);
+    }
+  }
+  for (const cell of after.cells) {
+    if (pairs.has(cell)) continue;
+    const match = before.cells.find((old) => unpaired.has(old) && old.kind === cell.kind);
+    if (match) {
+      pairs.set(cell, match);
+      unpaired.delete(match);
+    }
+  }
+  return pairs;
+}
+
+/** Compares two documents cell by cell, in the newer document's order, removed cells last. */
 export function compareDocuments(before: DerivationDocument, after: DerivationDocument): DocumentComparison {
-  const oldById = new Map(before.cells.map((cell) => [cell.id, cell]));
-  const newIds = new Set(after.cells.map((cell) => cell.id));
-  const cells = [...after.cells.map((cell) => cellChange(oldById.get(cell.id), cell)), ...before.cells.filter((cell) => !newIds.has(cell.id)).map((cell) => cellChange(cell, undefined))];
-  const commonOld = before.cells.filter((cell) => newIds.has(cell.id)).map((cell) => cell.id);
-  const commonNew = after.cells.filter((cell) => oldById.has(cell.id)).map((cell) => cell.id);
-  const moved = commonOld.some((id, i) => commonNew[i] !== id);
+  const pairs = pairCells(before, after);
+  const paired = new Set(pairs.values());
+  const cells = [...after.cells.map((cell) => cellChange(pairs.get(cell), cell)), ...before.cells.filter((cell) => !paired.has(cell)).map((cell) => cellChange(cell, undefined))];
+  const commonOld = before.cells.filter((cell) => paired.has(cell));
+  const commonNew = after.cells.filter((cell) => pairs.has(cell)).map((cell) => pairs.get(cell)!);
+  const moved = commonOld.some((cell, i) => commonNew[i] !== cell);
   const title = { before: before.title, after: after.title, changed: before.title !== after.title };
   return {
     title,

@@ -26,6 +26,10 @@ function splitLines(value: string): string[] {
   return lines;
 }
 
+function withFinalNewline(text: string): string {
+  return text === "" || text.endsWith("\n") ? text : `${text}\n`;
+}
+
 function wordParts(before: string, after: string): { removed: DiffPart[]; added: DiffPart[] } {
   const removed: DiffPart[] = [];
   const added: DiffPart[] = [];
@@ -46,7 +50,8 @@ function wordParts(before: string, after: string): { removed: DiffPart[]; added:
 export function textDiff(before: string, after: string): DiffLine[] {
   if (before === after) return splitLines(after).map((text) => ({ kind: "same", text }));
   const out: DiffLine[] = [];
-  const changes = diffLines(before, after);
+  // Every line ends in a newline, so a last line that gains a successor is not reported as changed.
+  const changes = diffLines(withFinalNewline(before), withFinalNewline(after));
   for (let i = 0; i < changes.length; i++) {
     const change = changes[i]!;
     if (!change.added && !change.removed) {
