@@ -40,10 +40,9 @@ export function formatValue(value: number): string {
 
 function Section({ number, title, children, id }: { number: number; title: string; children: ReactNode; id: string }) {
   return (
-    <section className="hn-report-section space-y-3" aria-labelledby={id}>
+    <section className="hn-report-section space-y-3" aria-labelledby={id} data-testid={id}>
       <h2 id={id} className="border-b border-line pb-1 text-lg font-semibold">
-        <span className="mr-2 font-mono text-muted">{number}</span>
-        {title}
+        <span className="mr-2 font-mono text-muted">{number}</span> {title}
       </h2>
       {children}
     </section>

@@ -261,7 +261,7 @@ export function ApproveDialog({
         <div className="flex justify-end gap-2">
           <Button onClick={onClose}>Cancel</Button>
           <Button variant="primary" onClick={onConfirm} disabled={pending || !latest} autoFocus>
-            {pending ? "Approving…" : `Approve revision ${latest?.number ?? ""}`.trim()}
+            {pending ? "Approving…" : `Approve and lock revision ${latest?.number ?? ""}`.trim()}
           </Button>
         </div>
       </div>

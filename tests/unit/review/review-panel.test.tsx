@@ -152,7 +152,7 @@ describe("review panel", () => {
     renderPanel(panel);
     const reviewers = screen.getAllByTestId("reviewer");
     expect(reviewers.map((item) => item.getAttribute("data-decision"))).toEqual(["signed_off", "changes_requested"]);
-    expect(text(reviewers[1])).toContain("Check the drum inertia.");
+    expect(text(reviewers[1]!)).toContain("Check the drum inertia.");
   });
 
   it("refuses a lead's approval of their own changes, naming the reason", () => {
@@ -174,7 +174,7 @@ describe("review panel", () => {
     expect(text(dialog)).toContain(HASH.slice(0, 12));
     answer = (method, url) =>
       url.endsWith("/approve") ? { status: 409, body: { error: { code: "conflict:revision", message: "The derivation changed after revision 2. Review the current content before approving it." } } } : { status: 200, body: {} };
-    fireEvent.click(within(dialog).getByRole("button", { name: "Approve revision 2" }));
+    fireEvent.click(within(dialog).getByRole("button", { name: "Approve and lock revision 2" }));
     expect(text(await within(dialog).findByRole("alert"))).toContain("changed after revision 2");
     expect(requests[0]).toEqual({ method: "POST", url: "/api/derivations/d1/approve", body: { revisionId: "r2" } });
     expect(router.refresh).not.toHaveBeenCalled();
