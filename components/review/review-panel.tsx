@@ -50,6 +50,14 @@ function Summary({ data }: { data: ReviewPanelData }) {
       </p>
     );
   }
+  if (data.status === "approved") {
+    // Marked approved before approvals locked a revision: there is nothing to name.
+    return (
+      <p>
+        <strong className="font-semibold text-seal">Approved</strong> — no revision is locked, so there is no approval record to show.
+      </p>
+    );
+  }
   if (data.status === "in_review" && request?.open) {
     const decided = request.reviewers.filter((reviewer) => reviewer.decision === "signed_off").length;
     return (
@@ -102,7 +110,11 @@ export function ReviewPanel({ data }: { data: ReviewPanelData }) {
   const [requesting, setRequesting] = useState(false);
   const [deciding, setDeciding] = useState<DecisionKind | null>(null);
   const [approving, setApproving] = useState(false);
-  const [expanded, setExpanded] = useState(data.status === "in_review" || (data.request !== null && !data.request.open && !data.lock));
+  // Open while a review is under way or has just come back with changes; a reader's toggle holds until the request or status changes.
+  const requestKey = `${data.status}:${data.request?.createdAt ?? ""}:${data.request?.open ?? ""}`;
+  const [toggled, setToggled] = useState<{ key: string; open: boolean } | null>(null);
+  const expanded = toggled?.key === requestKey ? toggled.open : data.status === "in_review" || (data.request !== null && !data.request.open && !data.lock);
+  const setExpanded = (open: boolean) => setToggled({ key: requestKey, open });
 
   const mine = myAssignment(data);
   const blocker = approvalBlocker(data);
@@ -143,7 +155,7 @@ export function ReviewPanel({ data }: { data: ReviewPanelData }) {
         </nav>
         <div className="flex flex-wrap items-center gap-2" role="group" aria-label="Review actions">
           {request ? (
-            <Button size="sm" variant="ghost" aria-expanded={expanded} aria-controls="review-details" onClick={() => setExpanded((open) => !open)}>
+            <Button size="sm" variant="ghost" aria-expanded={expanded} aria-controls="review-details" onClick={() => setExpanded(!expanded)}>
               {expanded ? "Hide reviews" : `Reviews (${request.reviewers.length})`}
             </Button>
           ) : null}
