@@ -7,7 +7,7 @@ const nextConfig = {
   // Type checking is its own gate (`npm run typecheck`), so a build, which the
   // demo and the browser suite each need once, stays quick on small machines.
   typescript: { ignoreBuildErrors: true },
-  serverExternalPackages: ["nerdamer", "mathjs"],
+  serverExternalPackages: ["nerdamer"],
   // Baseline headers for every response. No script-src policy: Next's inline
   // bootstrap scripts, KaTeX and the engine's Web Workers would need nonces or
   // hashes first. frame-ancestors covers what X-Frame-Options does for newer browsers.

@@ -12,10 +12,14 @@ export default defineConfig({
     },
   },
   test: {
+    // The worker bundles are built once per run, before any test file (tests/support/build-workers.ts).
+    globalSetup: ["tests/support/build-workers.ts"],
     projects: [
       {
         extends: true,
-        test: { name: "unit", include: ["tests/unit/**/*.test.ts", "tests/unit/**/*.test.tsx"], environment: "node" },
+        // Component tests render KaTeX and CodeMirror under jsdom: on a busy 2-core machine some take
+        // several seconds, so the per-test limit is wider than vitest's 5 s default.
+        test: { name: "unit", include: ["tests/unit/**/*.test.ts", "tests/unit/**/*.test.tsx"], environment: "node", testTimeout: 20_000 },
       },
       {
         extends: true,

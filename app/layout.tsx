@@ -19,6 +19,12 @@ export default function RootLayout({ children }: { children: ReactNode }) {
         <script dangerouslySetInnerHTML={{ __html: themeScript }} />
       </head>
       <body className="min-h-screen font-sans text-[15px] leading-relaxed">
+        <a
+          href="#main"
+          className="sr-only rounded border border-action bg-surface px-3 py-1.5 text-sm text-action focus:not-sr-only focus:fixed focus:top-2 focus:left-2 focus:z-50"
+        >
+          Skip to content
+        </a>
         <Providers>{children}</Providers>
       </body>
     </html>

@@ -1,14 +1,32 @@
-import Link from "next/link";
+import { NotFoundContent } from "@/components/page-problems";
+import { PublicHeader } from "@/components/public-header";
+import { SiteFooter } from "@/components/site-footer";
+import { SiteHeader } from "@/components/site-header";
+import { getTeamsByUserId } from "@/db/queries/teams";
+import { getSessionUser } from "@/lib/auth/session";
+import { devMailboxAvailable } from "@/lib/dev-mailbox";
 
-export default function NotFound() {
+/** The site header for whoever is looking: the signed-in one, or the public one (also when the database is down). */
+async function Header() {
+  try {
+    const user = await getSessionUser();
+    if (!user) return <PublicHeader />;
+    const teams = await getTeamsByUserId({ userId: user.id });
+    return <SiteHeader user={user} teams={teams.map(({ id, name, role }) => ({ id, name, role }))} showMailbox={await devMailboxAvailable()} />;
+  } catch {
+    return <PublicHeader />;
+  }
+}
+
+// An address no route matches.
+export default async function NotFound() {
   return (
-    <main className="mx-auto max-w-lg px-6 py-16" data-testid="not-found">
-      <p className="font-mono text-sm text-muted">404</p>
-      <h1 className="mt-1 mb-2 text-xl font-semibold">Nothing here</h1>
-      <p className="mb-4 text-sm text-muted">This page does not exist, or it belongs to a team you are not a member of.</p>
-      <Link href="/teams" className="text-action hover:underline">
-        Go to your teams
-      </Link>
-    </main>
+    <div className="flex min-h-screen flex-col">
+      <Header />
+      <main id="main" tabIndex={-1} className="mx-auto w-full max-w-6xl flex-1 px-6 py-8">
+        <NotFoundContent />
+      </main>
+      <SiteFooter />
+    </div>
   );
 }

@@ -3,6 +3,7 @@
 import { QueryClient, QueryClientProvider } from "@tanstack/react-query";
 import { useState, type ReactNode } from "react";
 import { AppError } from "@/lib/errors";
+import { CurrentTeamProvider } from "./current-team";
 import { ShortcutsProvider } from "./shortcuts";
 
 export function Providers({ children }: { children: ReactNode }) {
@@ -20,7 +21,9 @@ export function Providers({ children }: { children: ReactNode }) {
   );
   return (
     <QueryClientProvider client={queryClient}>
-      <ShortcutsProvider>{children}</ShortcutsProvider>
+      <ShortcutsProvider>
+        <CurrentTeamProvider>{children}</CurrentTeamProvider>
+      </ShortcutsProvider>
     </QueryClientProvider>
   );
 }

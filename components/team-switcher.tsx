@@ -2,6 +2,7 @@
 
 import { useParams, useRouter } from "next/navigation";
 import { roleLabels, type MemberRole } from "@/lib/domain";
+import { useCurrentTeamId } from "./current-team";
 
 export interface TeamOption {
   id: string;
@@ -9,17 +10,19 @@ export interface TeamOption {
   role: MemberRole;
 }
 
-/** Jumps between the user's teams; the current one comes from the URL. */
+/** Jumps between the user's teams; the current one comes from the URL, or from the page (a derivation's team). */
 export function TeamSwitcher({ teams }: { teams: TeamOption[] }) {
   const router = useRouter();
   const params = useParams<{ teamId?: string }>();
+  const declared = useCurrentTeamId();
   if (teams.length === 0) return null;
+  const current = params.teamId ?? declared ?? "";
   return (
     <label className="flex items-center gap-2 text-sm">
       <span className="sr-only">Team</span>
       <select
         aria-label="Switch team"
-        value={params.teamId ?? ""}
+        value={teams.some((team) => team.id === current) ? current : ""}
         onChange={(event) => {
           if (event.target.value) router.push(`/teams/${event.target.value}`);
           else router.push("/teams");

@@ -35,7 +35,7 @@ export function ThemeToggle() {
       onClick={toggleTheme}
       className="rounded border border-transparent px-2 py-1 text-sm text-muted hover:border-line hover:text-ink"
       aria-label={theme === "dark" ? "Switch to light theme" : "Switch to dark theme"}
-      title="Switch theme (t)"
+      title="Switch theme (Alt+Shift+T)"
     >
       {theme === "dark" ? "Light" : "Dark"}
     </button>

@@ -116,9 +116,14 @@ export const derivations = pgTable(
     lockedRevisionId: uuid("locked_revision_id"),
     lockedAt: timestamp("locked_at", { withTimezone: true }),
     lockedById: uuid("locked_by_id").references(() => users.id, { onDelete: "set null" }),
+    // Set when the derivation is moved to the team's trash. A trashed derivation is
+    // invisible everywhere but the trash list; it is removed for good (rows and
+    // stored objects) once TRASH_RETENTION_DAYS have passed (lib/derivations/trash.ts).
+    deletedAt: timestamp("deleted_at", { withTimezone: true }),
+    deletedById: uuid("deleted_by_id").references(() => users.id, { onDelete: "set null" }),
     ...timestamps,
   },
-  (table) => [index("derivations_team_idx").on(table.teamId, table.updatedAt)],
+  (table) => [index("derivations_team_idx").on(table.teamId, table.updatedAt), index("derivations_team_trash_idx").on(table.teamId, table.deletedAt)],
 );
 export type Derivation = typeof derivations.$inferSelect;
 export type NewDerivation = typeof derivations.$inferInsert;
@@ -383,6 +388,18 @@ export interface StoredTrajectory {
   energy: number[] | null;
 }
 
+/** What a stored run keeps beside its trajectory (lib/runs/service.ts writes it). */
+export interface RunSummary {
+  /** Each coordinate's unit in the model the run used. */
+  coordinateUnits?: Record<string, string>;
+  parameterValues?: Record<string, number>;
+  stats?: { rhsEvaluations: number; acceptedSteps?: number; wallTimeMs: number; stepTolerance?: { relative: number; absolute: number } };
+  /** Present when the energy function was conserved, so its drift is a check. */
+  energyCheck?: { relativeDrift: number; maxDeviation?: number; reference?: number; threshold: number; warning: boolean } | null;
+  /** t, each coordinate and each rate (`q'`) at the last output time. */
+  finalState?: Record<string, number> | null;
+}
+
 // A simulation run on the server, kept with its settings so teammates see the
 // same plots. Small trajectories sit in `trajectory`; large ones in object
 // storage under `trajectoryKey` (exactly one of the two is set).
@@ -397,7 +414,7 @@ export const simulationRuns = pgTable(
     failureReason: text("failure_reason"),
     failureMessage: text("failure_message"),
     timeReached: doublePrecision("time_reached").notNull(),
-    summary: jsonb("summary").$type<Record<string, unknown>>().notNull().default({}),
+    summary: jsonb("summary").$type<RunSummary>().notNull().default({}),
     trajectory: jsonb("trajectory").$type<StoredTrajectory>(),
     trajectoryKey: text("trajectory_key"),
     pointCount: integer("point_count").notNull(),
@@ -429,3 +446,23 @@ export const viewPreferences = pgTable(
 );
 export type ViewPreferencesRow = typeof viewPreferences.$inferSelect;
 export type NewViewPreferencesRow = typeof viewPreferences.$inferInsert;
+// Requests that create a derivation (create, import, notebook import) may carry an
+// `Idempotency-Key` header. The first request with a key records the derivation it
+// created; a repeat with the same key and the same request gets the same answer
+// instead of a second derivation. `fingerprint` is the SHA-256 of what was asked,
+// so the key cannot be reused for a different request. Keys expire after a day.
+export const idempotencyKeys = pgTable(
+  "idempotency_keys",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    userId: uuid("user_id").notNull().references(() => users.id, { onDelete: "cascade" }),
+    key: text("key").notNull(),
+    // e.g. "derivation.create", "derivation.import", "derivation.import_notebook"
+    operation: text("operation").notNull(),
+    fingerprint: text("fingerprint").notNull(),
+    derivationId: uuid("derivation_id").notNull().references(() => derivations.id, { onDelete: "cascade" }),
+    ...timestamps,
+  },
+  (table) => [uniqueIndex("idempotency_keys_user_key_idx").on(table.userId, table.key)],
+);
+export type IdempotencyKey = typeof idempotencyKeys.$inferSelect;

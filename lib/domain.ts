@@ -27,5 +27,8 @@ export const statusLabels: Record<DerivationStatus, string> = {
   approved: "Approved",
 };
 
+/** Days a deleted derivation stays in its team's trash, restorable, before it is removed for good. */
+export const TRASH_RETENTION_DAYS = 30;
+
 export const safetyNote =
   "Derived equations are a model. Before they drive real hardware or a safety-relevant decision, validate them against tests and the applicable codes and standards, under a qualified engineer's responsibility.";

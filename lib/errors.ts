@@ -1,3 +1,5 @@
+import { DataError, type DataErrorKind } from "@/db/errors";
+
 // One error type for the whole app. Codes are "<kind>:<surface>"; the kind picks
 // the HTTP status, the surface says what it is about.
 export type ErrorKind =
@@ -37,7 +39,8 @@ export type ErrorSurface =
   | "token"
   | "revision"
   | "review"
-  | "notification";
+  | "notification"
+  | "archive";
 
 export type ErrorCode = `${ErrorKind}:${ErrorSurface}`;
 
@@ -171,12 +174,16 @@ export function isDatabaseUnavailable(error: unknown): boolean {
   return false;
 }
 
+const kindOfDataError: Record<DataErrorKind, ErrorKind> = { not_found: "not_found", conflict: "conflict", not_permitted: "forbidden" };
+
 /**
- * Maps anything thrown in a request to an AppError. Unknown errors are logged
- * with their detail and returned as a generic 500; database outages become 503.
+ * Maps anything thrown in a request to an AppError. Data errors from db/
+ * keep their message and become the status of their kind; unknown errors are
+ * logged with their detail and returned as a generic 500; database outages become 503.
  */
 export function toAppError(error: unknown): AppError {
   if (error instanceof AppError) return error;
+  if (error instanceof DataError) return new AppError(`${kindOfDataError[error.kind]}:${error.entity}`, error.message, { cause: error });
   if (isDatabaseUnavailable(error)) {
     console.error("[holonomy] database unavailable:", (error as Error)?.message ?? error);
     return new AppError("unavailable:database", undefined, { cause: error });

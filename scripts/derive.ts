@@ -3,11 +3,8 @@
 //
 //   npm run --silent derive -- path/to/file.model.json
 import { readFileSync, statSync } from "node:fs";
-import { deriveModel } from "../lib/mechanics/derive";
 import { EngineLimitError, ModelError } from "../lib/mechanics/errors";
-import { toLatex } from "../lib/mechanics/latex";
-import { checkModelUnits } from "../lib/mechanics/units";
-import { validateModel } from "../lib/mechanics/validate-model";
+import { derivationReport } from "../lib/mechanics/report";
 
 const MAX_FILE_BYTES = 1_000_000;
 
@@ -45,20 +42,7 @@ function main(): void {
     fail(`model${jsonErrorLocation(text, message)}: not valid JSON (${message})`, 2);
   }
   try {
-    const model = validateModel(json);
-    checkModelUnits(model);
-    const result = deriveModel(model);
-    checkModelUnits(model, result.equations);
-    const output = {
-      coordinates: result.coordinates,
-      equations: result.equations.map((e) => ({ coordinate: e.coordinate, residual: e.residual, latex: toLatex(e.residual) })),
-      massMatrix: result.massMatrix,
-      forcing: result.forcing,
-      energy: result.energy,
-      conserved: result.conserved,
-      timingMs: Math.round(result.timing.totalMs * 100) / 100,
-    };
-    process.stdout.write(`${JSON.stringify(output, null, 2)}\n`);
+    process.stdout.write(`${JSON.stringify(derivationReport(json), null, 2)}\n`);
   } catch (error) {
     if (error instanceof ModelError) fail(error.toLine(), 2);
     if (error instanceof EngineLimitError) fail(`model: ${error.message}`, 2);

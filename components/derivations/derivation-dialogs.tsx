@@ -8,6 +8,7 @@ import { Button } from "@/components/ui/button";
 import { Dialog } from "@/components/ui/dialog";
 import { Field } from "@/components/ui/field";
 import { Notice } from "@/components/ui/notice";
+import { TRASH_RETENTION_DAYS } from "@/lib/domain";
 import { AppError } from "@/lib/errors";
 import { derivationTitleField } from "@/lib/validation/derivations";
 
@@ -84,12 +85,13 @@ export function DeleteDerivationDialog({
       <div className="space-y-4">
         {error ? <Notice tone="error">{error.message}</Notice> : null}
         <p className="text-sm">
-          Delete <strong>{derivation?.title}</strong>? This removes it for the whole team and cannot be undone.
+          Delete <strong>{derivation?.title}</strong>? It moves to the team&apos;s trash with its runs and files; its owner or a lead can restore it
+          there for {TRASH_RETENTION_DAYS} days, after which it is removed for good.
         </p>
         <div className="flex justify-end gap-2">
           <Button onClick={onClose}>Keep it</Button>
           <Button variant="danger" onClick={onConfirm} disabled={pending}>
-            {pending ? "Deleting…" : "Delete"}
+            {pending ? "Moving to trash…" : "Move to trash"}
           </Button>
         </div>
       </div>

@@ -12,27 +12,14 @@ import { Notice } from "@/components/ui/notice";
 import { StatusBadge } from "@/components/ui/status-badge";
 import { apiFetch } from "@/lib/api/fetcher";
 import { can } from "@/lib/auth/permissions";
+import type { DerivationPageJson, DerivationSummaryJson } from "@/lib/derivations/views";
 import { derivationStatuses, roleLabels, statusLabels, type DerivationStatus, type MemberRole } from "@/lib/domain";
 import { DeleteDerivationDialog, DerivationTitleDialog } from "./derivation-dialogs";
-import { ImportDerivationDialog, NewDerivationDialog, type NewDerivationInput } from "./new-derivation-dialogs";
+import { ImportDerivationDialog, NewDerivationDialog } from "./new-derivation-dialogs";
+import { derivationListKey, trashKey } from "./query-keys";
 
-export interface DerivationRow {
-  id: string;
-  title: string;
-  status: DerivationStatus;
-  ownerId: string | null;
-  ownerName: string | null;
-  updatedByName: string | null;
-  coordinatesCount: number;
-  updatedAt: string;
-}
-
-interface DerivationPage {
-  derivations: DerivationRow[];
-  page: number;
-  pageSize: number;
-  total: number;
-}
+export type DerivationRow = DerivationSummaryJson;
+type DerivationPage = DerivationPageJson;
 
 // Sorting, filtering and paging happen on the server (the table only shows one page),
 // so the table keeps the sorting state but no client-side sorted row model.
@@ -84,8 +71,8 @@ export function DerivationsBoard({
   if (statusFilter) params.set("status", statusFilter);
   if (ownerFilter) params.set("ownerId", ownerFilter);
   if (searchTerm) params.set("search", searchTerm);
-  const listKey = ["teams", teamId, "derivations"];
-  const { data, error, isPending, isFetching } = useQuery({
+  const listKey = derivationListKey(teamId);
+  const { data, error, isPending, isFetching, dataUpdatedAt } = useQuery({
     queryKey: [...listKey, params.toString()],
     queryFn: ({ signal }) => apiFetch<DerivationPage>(`/api/teams/${teamId}/derivations?${params.toString()}`, { signal }),
     placeholderData: keepPreviousData,
@@ -94,6 +81,7 @@ export function DerivationsBoard({
   const [importing, setImporting] = useState(false);
   const [renaming, setRenaming] = useState<DerivationRow | null>(null);
   const [deleting, setDeleting] = useState<DerivationRow | null>(null);
+  const [trashed, setTrashed] = useState<{ row: DerivationRow; at: number } | null>(null);
   const searchRef = useRef<HTMLInputElement>(null);
   const mayCreate = can(role, "derivation:create");
 
@@ -102,6 +90,10 @@ export function DerivationsBoard({
   useShortcut("i", "Import a model file", () => setImporting(true), mayCreate);
 
   const rows = data?.derivations ?? emptyRows;
+  // Listed again in an answer read after the deletion (restored from the trash panel, say): nothing left to undo.
+  useEffect(() => {
+    if (trashed && dataUpdatedAt > trashed.at && rows.some((row) => row.id === trashed.row.id)) setTrashed(null);
+  }, [rows, trashed, dataUpdatedAt]);
   const total = data?.total ?? 0;
   const pages = Math.max(1, Math.ceil(total / PAGE_SIZE));
   const filtered = Boolean(statusFilter || ownerFilter || searchTerm);
@@ -109,15 +101,12 @@ export function DerivationsBoard({
   const table = useTable({ features, columns, data: rows, state: { sorting }, onSortingChange: setSorting, manualSorting: true, enableSortingRemoval: false });
 
   const refresh = () => queryClient.invalidateQueries({ queryKey: listKey });
-  const create = useMutation({
-    mutationFn: (input: NewDerivationInput) =>
-      apiFetch<{ derivation: { id: string } }>(`/api/teams/${teamId}/derivations`, { method: "POST", body: input }),
-    onSuccess: async ({ derivation }) => {
-      setCreating(false);
-      await refresh();
-      router.push(`/derivations/${derivation.id}`);
-    },
-  });
+  const opened = (id: string) => {
+    setCreating(false);
+    setImporting(false);
+    void refresh();
+    router.push(`/derivations/${id}`);
+  };
   const rename = useMutation({
     mutationFn: ({ id, title }: { id: string; title: string }) => apiFetch(`/api/derivations/${id}`, { method: "PATCH", body: { title } }),
     onSuccess: () => {
@@ -125,10 +114,21 @@ export function DerivationsBoard({
       return refresh();
     },
   });
+  // Deleting moves the derivation to the team's trash; the notice offers to undo it at once.
   const remove = useMutation({
-    mutationFn: (id: string) => apiFetch(`/api/derivations/${id}`, { method: "DELETE" }),
-    onSuccess: () => {
+    mutationFn: (row: DerivationRow) => apiFetch(`/api/derivations/${row.id}`, { method: "DELETE" }),
+    onSuccess: (_answer, row) => {
       setDeleting(null);
+      setTrashed({ row, at: Date.now() });
+      void queryClient.invalidateQueries({ queryKey: trashKey(teamId) });
+      return refresh();
+    },
+  });
+  const undo = useMutation({
+    mutationFn: (row: DerivationRow) => apiFetch(`/api/teams/${teamId}/trash/${row.id}/restore`, { method: "POST" }),
+    onSuccess: () => {
+      setTrashed(null);
+      void queryClient.invalidateQueries({ queryKey: trashKey(teamId) });
       return refresh();
     },
   });
@@ -195,8 +195,23 @@ export function DerivationsBoard({
       ) : null}
 
       {error ? <Notice tone="error">{error.message}</Notice> : null}
+      {trashed ? (
+        <div className="flex flex-wrap items-center gap-3 rounded border border-line bg-surface px-3 py-2 text-sm" role="status" data-testid="trashed-notice">
+          <span className="mr-auto">
+            Moved <strong>{trashed.row.title}</strong> to the team&apos;s trash.
+            {undo.error ? <span className="text-danger"> Could not undo: {undo.error.message}</span> : null}
+          </span>
+          <Button size="sm" onClick={() => undo.mutate(trashed.row)} disabled={undo.isPending}>
+            {undo.isPending ? "Restoring…" : "Undo"}
+          </Button>
+          <Button size="sm" variant="ghost" onClick={() => setTrashed(null)} aria-label="Dismiss">
+            ✕
+          </Button>
+        </div>
+      ) : null}
 
-      <div className="overflow-x-auto rounded border border-line bg-surface">
+      {/* relative: the header's screen-reader-only text is positioned inside this scroll box, not the page (which it would widen on a phone). */}
+      <div className="relative overflow-x-auto rounded border border-line bg-surface">
         <table className="w-full text-sm" data-testid="derivations-table">
           <thead className="border-b border-line bg-sunken/60 text-left">
             {table.getHeaderGroups().map((group) => (
@@ -252,7 +267,7 @@ export function DerivationsBoard({
                         Rename
                       </Button>
                     ) : null}
-                    {can(role, "derivation:delete", { status: row.status }) ? (
+                    {can(role, "derivation:delete", { status: row.status, isOwner: row.ownerId === currentUserId }) ? (
                       <Button size="sm" variant="ghost" onClick={() => setDeleting(row)} aria-label={`Delete ${row.title}`} className="hover:text-danger">
                         Delete
                       </Button>
@@ -296,26 +311,8 @@ export function DerivationsBoard({
         </span>
       </nav>
 
-      <NewDerivationDialog
-        open={creating}
-        pending={create.isPending}
-        error={create.error}
-        onSubmit={(input) => create.mutate(input)}
-        onClose={() => {
-          setCreating(false);
-          create.reset();
-        }}
-      />
-      <ImportDerivationDialog
-        open={importing}
-        teamId={teamId}
-        onClose={() => setImporting(false)}
-        onImported={(id) => {
-          setImporting(false);
-          void refresh();
-          router.push(`/derivations/${id}`);
-        }}
-      />
+      <NewDerivationDialog open={creating} teamId={teamId} onCreated={opened} onClose={() => setCreating(false)} />
+      <ImportDerivationDialog open={importing} teamId={teamId} onImported={opened} onClose={() => setImporting(false)} />
       <DerivationTitleDialog
         open={renaming !== null}
         heading="Rename derivation"
@@ -333,7 +330,7 @@ export function DerivationsBoard({
         derivation={deleting}
         pending={remove.isPending}
         error={remove.error}
-        onConfirm={() => deleting && remove.mutate(deleting.id)}
+        onConfirm={() => deleting && remove.mutate(deleting)}
         onClose={() => {
           setDeleting(null);
           remove.reset();

@@ -1,12 +1,20 @@
 "use client";
 
+import { useMutation } from "@tanstack/react-query";
 import { useEffect, useRef, useState } from "react";
+import { MAX_MODEL_FILE_LENGTH } from "@/app/api/teams/[teamId]/derivations/import/schema";
 import { Button } from "@/components/ui/button";
 import { Dialog } from "@/components/ui/dialog";
+import { FileInput, fileTooLarge, formatBytes } from "@/components/ui/file-input";
 import { inputClass } from "@/components/ui/field";
 import { Notice } from "@/components/ui/notice";
-import { AppError, appErrorFromBody } from "@/lib/errors";
+import { apiFetch } from "@/lib/api/fetcher";
+import { AppError } from "@/lib/errors";
 import { MAX_CHAIN_LINKS, MIN_CHAIN_LINKS, TEMPLATES, type TemplateId } from "@/lib/notebook/templates";
+import { useIdempotencyKey } from "./use-idempotency-key";
+
+/** The server's default archive limit (NOTEBOOK_ARCHIVE_MAX_BYTES); the server checks the configured one. */
+const NOTEBOOK_ARCHIVE_UPLOAD_LIMIT = 50 * 1024 * 1024;
 
 export interface NewDerivationInput {
   title: string;
@@ -16,20 +24,51 @@ export interface NewDerivationInput {
 
 const BLANK = { id: "blank" as const, title: "Blank", description: "An empty notebook: coordinates, parameters, energies and the equations cell, to fill in." };
 
+type Created = { derivation: { id: string } };
+
+/**
+ * A create request that runs once however often it is sent: the button is
+ * disabled from the first click until the answer (a guard also stops a second
+ * submit in the same tick), and the request carries an Idempotency-Key, so a
+ * retry or a double submit that still reaches the server gets the first
+ * derivation back instead of a second one.
+ */
+function useCreateOnce<Input>(send: (input: Input, key: string) => Promise<Created>, { identity, onCreated }: { identity: (input: Input) => string; onCreated: (id: string) => void }) {
+  const { keyFor, reset } = useIdempotencyKey();
+  const inFlight = useRef(false);
+  const [submitting, setSubmitting] = useState(false);
+  const mutation = useMutation({
+    mutationFn: (input: Input) => send(input, keyFor(identity(input))),
+    onSuccess: ({ derivation }) => {
+      reset();
+      onCreated(derivation.id);
+    },
+    onSettled: () => {
+      inFlight.current = false;
+      setSubmitting(false);
+    },
+  });
+  const { reset: resetMutation } = mutation;
+  return {
+    pending: submitting || mutation.isPending,
+    error: mutation.error,
+    submit(input: Input) {
+      if (inFlight.current) return;
+      inFlight.current = true;
+      setSubmitting(true);
+      mutation.mutate(input);
+    },
+    clear: resetMutation,
+  };
+}
+
 /** New derivation: a title and a starting point (blank or one of the templates; the chain asks for N). */
-export function NewDerivationDialog({
-  open,
-  pending,
-  error,
-  onSubmit,
-  onClose,
-}: {
-  open: boolean;
-  pending: boolean;
-  error: Error | null;
-  onSubmit: (input: NewDerivationInput) => void;
-  onClose: () => void;
-}) {
+export function NewDerivationDialog({ open, teamId, onCreated, onClose }: { open: boolean; teamId: string; onCreated: (id: string) => void; onClose: () => void }) {
+  const { pending, error, submit, clear } = useCreateOnce(
+    (input: NewDerivationInput, key: string) =>
+      apiFetch<Created>(`/api/teams/${teamId}/derivations`, { method: "POST", body: input, headers: { "Idempotency-Key": key } }),
+    { identity: (input) => JSON.stringify(input), onCreated },
+  );
   const [title, setTitle] = useState("");
   const [template, setTemplate] = useState<TemplateId | "blank">("blank");
   const [links, setLinks] = useState(3);
@@ -43,7 +82,8 @@ export function NewDerivationDialog({
     setLinks(3);
     setTitleTouched(false);
     setProblem(null);
-  }, [open]);
+    clear();
+  }, [open, clear]);
 
   const chosen = template === "blank" ? BLANK : (TEMPLATES.find((t) => t.id === template) ?? BLANK);
   const fieldError = error instanceof AppError ? (error.fieldErrors?.title?.[0] ?? error.fieldErrors?.links?.[0]) : undefined;
@@ -72,7 +112,7 @@ export function NewDerivationDialog({
             return setProblem(`Choose between ${MIN_CHAIN_LINKS} and ${MAX_CHAIN_LINKS} links.`);
           }
           setProblem(null);
-          onSubmit({ title: trimmed, template, ...(template === "n-link-chain" ? { links } : {}) });
+          submit({ title: trimmed, template, ...(template === "n-link-chain" ? { links } : {}) });
         }}
       >
         {error && !fieldError ? <Notice tone="error">{error.message}</Notice> : null}
@@ -139,63 +179,81 @@ export function NewDerivationDialog({
   );
 }
 
+/** A notebook archive by its name, or by the zip signature ("PK\x03\x04") when the name says nothing. */
+async function isNotebookArchive(file: File): Promise<boolean> {
+  if (/\.zip$/i.test(file.name)) return true;
+  if (/\.json$/i.test(file.name)) return false;
+  const head = new Uint8Array(await file.slice(0, 4).arrayBuffer());
+  return head[0] === 0x50 && head[1] === 0x4b && head[2] === 0x03 && head[3] === 0x04;
+}
+
 /**
- * Import a .model.json: the server validates the whole file before it creates
- * anything, so a refused file leaves no half-made derivation; its field and
- * reason are shown here.
+ * Import a .model.json (the model only) or a .notebook.zip (the whole
+ * notebook with its runs and files): the server checks the whole file before
+ * it creates anything, so a refused file leaves no half-made derivation; every
+ * problem is listed here with its field or archive entry.
  */
 export function ImportDerivationDialog({ open, teamId, onImported, onClose }: { open: boolean; teamId: string; onImported: (id: string) => void; onClose: () => void }) {
   const fileRef = useRef<HTMLInputElement>(null);
-  const [pending, setPending] = useState(false);
-  const [error, setError] = useState<AppError | null>(null);
-
-  useEffect(() => {
-    if (open) {
-      setError(null);
-      setPending(false);
-    }
-  }, [open]);
-
-  async function submit() {
-    const file = fileRef.current?.files?.[0];
-    if (!file) return setError(new AppError("bad_request:validation", "Choose a .model.json file.", { fieldErrors: { file: ["Choose a .model.json file."] } }));
-    setPending(true);
-    setError(null);
-    try {
+  const [missing, setMissing] = useState<AppError | null>(null);
+  const { pending, error: failure, submit, clear } = useCreateOnce(
+    async (file: File, key: string) => {
       const body = new FormData();
       body.set("file", file);
-      const response = await fetch(`/api/teams/${teamId}/derivations/import`, { method: "POST", body, credentials: "same-origin" });
-      const json = (await response.json().catch(() => null)) as { derivation?: { id: string } } | null;
-      if (!response.ok || !json?.derivation) throw appErrorFromBody(json, response.status);
-      onImported(json.derivation.id);
-    } catch (caught) {
-      setError(caught instanceof AppError ? caught : new AppError("unavailable:api", "The server could not be reached. Check your connection."));
-    } finally {
-      setPending(false);
-    }
+      const path = (await isNotebookArchive(file)) ? "import/notebook" : "import";
+      return apiFetch<Created>(`/api/teams/${teamId}/derivations/${path}`, { method: "POST", body, headers: { "Idempotency-Key": key } });
+    },
+    { identity: (file) => `${file.name}\u0000${file.size}\u0000${file.lastModified}`, onCreated: onImported },
+  );
+  const error = missing ?? (failure instanceof AppError ? failure : failure ? new AppError("unavailable:api", failure.message) : null);
+
+  useEffect(() => {
+    if (!open) return;
+    setMissing(null);
+    clear();
+  }, [open, clear]);
+
+  function start() {
+    const file = fileRef.current?.files?.[0];
+    if (!file) return setMissing(new AppError("bad_request:validation", "Choose a .model.json or .notebook.zip file.", { fieldErrors: { file: ["Choose a .model.json or .notebook.zip file."] } }));
+    setMissing(null);
+    submit(file);
   }
 
   const fieldLines = error?.fieldErrors ? Object.entries(error.fieldErrors).flatMap(([field, reasons]) => (reasons ?? []).map((reason) => `${field}: ${reason}`)) : [];
 
   return (
-    <Dialog open={open} onClose={onClose} title="Import a model file">
+    <Dialog open={open} onClose={onClose} title="Import a model file or notebook archive">
       <form
         className="space-y-4"
         onSubmit={(event) => {
           event.preventDefault();
-          void submit();
+          start();
         }}
       >
-        <p className="text-sm text-muted">A <span className="font-mono">.model.json</span> file becomes a new derivation in this team. A file with a problem is refused as a whole, with the field and the reason.</p>
-        <label className="block text-sm">
-          <span className="mb-1 block font-medium">Model file</span>
-          <input ref={fileRef} type="file" name="file" accept=".json,application/json" className="block w-full text-sm" onChange={() => setError(null)} />
-        </label>
+        <p className="text-sm text-muted">
+          A <span className="font-mono">.model.json</span> file (the model) or a <span className="font-mono">.notebook.zip</span> archive (the whole notebook with its
+          stored runs and files) becomes a new derivation in this team. A file with a problem is refused as a whole, with every field or entry and the reason.
+        </p>
+        <FileInput
+          ref={fileRef}
+          label="Model file or notebook archive"
+          name="file"
+          accept=".json,application/json,.zip,application/zip"
+          maxBytes={NOTEBOOK_ARCHIVE_UPLOAD_LIMIT}
+          hint={`A .model.json file (up to ${formatBytes(MAX_MODEL_FILE_LENGTH)}) or a .notebook.zip archive`}
+          onFile={(file) => {
+            clear();
+            const refusal = file && !file.name.endsWith(".zip") ? fileTooLarge(file, MAX_MODEL_FILE_LENGTH) : null;
+            setMissing(refusal ? new AppError("too_large:model", refusal) : null);
+          }}
+          onRefused={(message) => setMissing(new AppError("too_large:model", message))}
+        />
         {error ? (
           <div className="rounded border border-danger/60 bg-danger-soft px-3 py-2 text-sm" role="alert" data-testid="import-error">
             <p className="font-medium text-danger">Not imported. {error.message}</p>
             {fieldLines.length > 0 && !(fieldLines.length === 1 && error.message.includes(fieldLines[0]!.split(": ").slice(1).join(": "))) ? (
-              <ul className="list-disc pl-5 font-mono text-xs">
+              <ul className="max-h-60 list-disc overflow-y-auto pl-5 font-mono text-xs">
                 {fieldLines.map((line) => (
                   <li key={line}>{line}</li>
                 ))}

@@ -11,9 +11,9 @@ import { ExpressionEditor } from "./editor/expression-editor";
 import { MathView } from "./math";
 
 const ENERGY: Record<EnergyCell["kind"], { symbol: string; latex: string; label: string; placeholder: string }> = {
-  kinetic: { symbol: "T", latex: "T", label: "Kinetic energy T", placeholder: "1/2*m*(x1'^2 + y1'^2)" },
-  potential: { symbol: "V", latex: "V", label: "Potential energy V", placeholder: "m*g*y1" },
-  dissipation: { symbol: "D", latex: "D", label: "Dissipation function D", placeholder: "1/2*c*theta'^2" },
+  kinetic: { symbol: "T", latex: "T", label: "Kinetic energy T", placeholder: "e.g. 1/2*m*x'^2" },
+  potential: { symbol: "V", latex: "V", label: "Potential energy V", placeholder: "e.g. m*g*y" },
+  dissipation: { symbol: "D", latex: "D", label: "Dissipation function D", placeholder: "e.g. 1/2*c*theta'^2" },
 };
 
 /** The rendering under an editor, updated as the analyst types (the engine's LaTeX of the typed tree). */
@@ -80,8 +80,9 @@ export function ForcesCellEditor({ cell, symbols, diagnostics = [], readOnly = f
         return (
           <div key={coordinate} className="min-w-0">
             <div className="flex items-start gap-2">
-              <span className="w-24 shrink-0 truncate pt-1.5 font-mono text-sm text-muted" aria-hidden="true">
-                Q[{coordinate}] =
+              <span className="w-24 shrink-0 truncate pt-1.5 text-sm text-muted" aria-hidden="true" data-testid={`force-label-${coordinate}`}>
+                <span className="italic">Q</span>
+                <sub className="font-mono">{coordinate}</sub> =
               </span>
               <ExpressionEditor
                 className="min-w-0 flex-1"
@@ -90,7 +91,7 @@ export function ForcesCellEditor({ cell, symbols, diagnostics = [], readOnly = f
                 onChange={(expr) => onOperation({ type: "setForce", cellId: cell.id, coordinate, expr })}
                 symbols={symbols}
                 readOnly={readOnly}
-                placeholder="0"
+                placeholder="blank means no force"
                 allowEmpty
                 diagnostics={own.map((d) => toEditorDiagnostic(d, text))}
                 diagnosticsFor={own[0]?.text ?? null}

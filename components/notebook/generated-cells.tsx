@@ -20,12 +20,11 @@ import {
   type LinearizationCell,
 } from "@/lib/notebook/document";
 import { symbolLatex } from "@/lib/notebook/latex-preview";
-import type { NotebookResults } from "@/lib/notebook/results";
+import { STABILITY_RULE } from "@/lib/mechanics/stability-rule";
+import type { ModeView, NotebookResults } from "@/lib/notebook/results";
 import { MathView } from "./math";
+import { safetyNote } from "@/lib/domain";
 import { ViewChoiceNote } from "./view-choice";
-
-export const SAFETY_NOTE =
-  "Derived equations are a model. Before they drive real hardware or a safety-relevant decision, validate them against tests and the applicable codes and standards, under a qualified engineer's responsibility.";
 
 export interface GeneratedCellProps<C> {
   cell: C;
@@ -117,14 +116,14 @@ export function EquationsCellView(props: EquationsCellProps) {
         <div className="text-xs text-muted">
           Equation for <span className="font-mono">{equation.coordinate}</span>
         </div>
-        <MathView latex={equation.latex} display label={`Euler–Lagrange equation for ${equation.coordinate}`} onTypeset={typeset} />
+        <MathView latex={equation.latex} display breakable label={`Euler–Lagrange equation for ${equation.coordinate}`} onTypeset={typeset} />
       </div>
     ));
   } else if (form === "mass-matrix") {
     body = results.massMatrixLatex ? <MathView latex={results.massMatrixLatex} display label="Mass-matrix form" /> : <p className="text-sm text-muted">The mass-matrix form was not part of these results.</p>;
   } else {
     body = results.accelerations?.length ? (
-      results.accelerations.map((entry) => <MathView key={entry.coordinate} latex={entry.latex} display label={`Acceleration of ${entry.coordinate}`} />)
+      results.accelerations.map((entry) => <MathView key={entry.coordinate} latex={entry.latex} display breakable label={`Acceleration of ${entry.coordinate}`} />)
     ) : (
       <p className="text-sm text-muted">{results.accelerationsNote ?? "Accelerations are solved only where the system is small enough."}</p>
     );
@@ -189,30 +188,48 @@ export function ConservedCellView({ results, evaluating }: GeneratedCellProps<Co
   const conserved = results.conserved ?? [];
   const energyConserved = conserved.find((quantity) => quantity.name === "energy function");
   const others = results.energyLatex ? conserved.filter((quantity) => quantity !== energyConserved) : conserved;
+  const cyclic = results.cyclicMomenta ?? [];
+  const forcedCyclic = cyclic.filter((entry) => !entry.conserved);
   return (
     <div className="hn-result-body flex min-w-0 flex-col gap-2">
       {results.energyLatex && (
         <div>
           <div className="text-xs text-muted">
-            Energy function{energyConserved ? ` — conserved: ${energyConserved.reason}` : " — not conserved"}
+            Energy function{energyConserved ? ` — conserved: ${energyConserved.reason}` : ` — not conserved${results.energyNotConserved ? `: ${results.energyNotConserved}` : ""}`}
           </div>
-          <MathView latex={`h = ${results.energyLatex}`} display />
+          <MathView latex={`h = ${results.energyLatex}`} display breakable />
         </div>
       )}
       {conserved.length === 0 ? (
-        <p className="text-sm text-muted">No conserved quantity found: the Lagrangian depends on time, or dissipation or applied forces act, and no coordinate is cyclic.</p>
+        <p className="text-sm text-muted">
+          No conserved quantity found.{results.cyclicMomenta && cyclic.length === 0 ? " No coordinate is cyclic (the Lagrangian depends on every coordinate)." : ""}
+        </p>
       ) : (
         others.map((quantity) => (
           <div key={quantity.name} className="min-w-0">
             <div className="text-xs text-muted">
               {quantity.name} — {quantity.reason}
             </div>
-            <MathView latex={quantity.latex} display />
+            <MathView latex={quantity.latex} display breakable />
           </div>
         ))
       )}
+      {forcedCyclic.map((entry) => (
+        <div key={entry.coordinate} className="min-w-0 text-sm" data-testid="cyclic-not-conserved">
+          <p>
+            <span className="font-mono">{entry.coordinate}</span> is cyclic (the Lagrangian does not depend on it), but its momentum is not conserved: {actingText(entry.actedOnBy)} on it.
+          </p>
+          <MathView latex={entry.rateLatex} label={`Momentum balance of ${entry.coordinate}`} />
+        </div>
+      ))}
     </div>
   );
+}
+
+function actingText(actedOnBy: readonly string[]): string {
+  if (actedOnBy.length === 0) return "a generalized force acts";
+  const names = actedOnBy.map((cause) => (cause === "applied force" ? "the applied force" : "the dissipation"));
+  return `${names.join(" and ")} act${names.length === 1 ? "s" : ""}`;
 }
 
 // ---------------------------------------------------------------------------
@@ -230,6 +247,8 @@ function matrixLatex(rows: number[][]): string {
   if (rows.length === 0) return "\\varnothing";
   return `\\begin{bmatrix}${rows.map((row) => row.map(formatNumber).join(" & ")).join(" \\\\ ")}\\end{bmatrix}`;
 }
+
+type ModeStability = "stable" | "marginal" | "unstable";
 
 export interface LinearizationCellProps extends GeneratedCellProps<LinearizationCell> {
   inputNames: readonly string[];
@@ -269,9 +288,9 @@ export function LinearizationCellView(props: LinearizationCellProps) {
           <label key={name} className="flex flex-col gap-1 text-muted">
             Input {name}
             <input
-              className="w-24 rounded border border-line bg-paper px-1.5 py-0.5 font-mono text-ink"
+              className="w-24 rounded border border-line bg-paper px-1.5 py-0.5 font-mono text-ink placeholder:font-sans placeholder:text-xs placeholder:italic placeholder:text-muted/70"
               value={cell.settings.inputValues[name] ?? ""}
-              placeholder="0"
+              placeholder="blank = 0"
               readOnly={readOnly}
               inputMode="decimal"
               onChange={(event) =>
@@ -290,32 +309,94 @@ export function LinearizationCellView(props: LinearizationCellProps) {
           <MathView latex={`\\dot{\\mathbf{x}} = A\\,\\mathbf{x} + B\\,\\mathbf{u},\\quad \\mathbf{x} = \\begin{bmatrix}${selected.stateNames.map((n) => symbolLatex(n.replace(/'+$/, ""), (n.match(/'/g)?.length ?? 0) as 0 | 1 | 2)).join(" \\\\ ")}\\end{bmatrix}`} display />
           <MathView latex={`A = ${matrixLatex(selected.A)}`} display label="State matrix A" />
           {selected.inputNames.length > 0 && <MathView latex={`B = ${matrixLatex(selected.B)}`} display label="Input matrix B" />}
-          <p className={clsx("text-sm", selected.stable ? "text-ink" : "text-danger")}>{selected.stable ? "Stable equilibrium." : "Unstable equilibrium."}</p>
-          {selected.frequenciesHz.length > 0 && (
-            <div className="overflow-x-auto">
-              <table className="text-sm">
-                <caption className="text-left text-xs text-muted">Natural frequencies and mode shapes</caption>
-                <thead>
-                  <tr className="text-left text-xs text-muted">
-                    <th className="pr-4 font-medium">Mode</th>
-                    <th className="pr-4 font-medium">Frequency (Hz)</th>
-                    <th className="font-medium">Shape</th>
-                  </tr>
-                </thead>
-                <tbody className="font-mono">
-                  {selected.frequenciesHz.map((frequency, mode) => (
-                    <tr key={mode}>
-                      <td className="pr-4">{mode + 1}</td>
-                      <td className="pr-4">{Number(frequency.toPrecision(5))}</td>
-                      <td>{selected.modeShapes.map((row) => Number((row[mode] ?? 0).toPrecision(3))).join(", ")}</td>
-                    </tr>
-                  ))}
-                </tbody>
-              </table>
-            </div>
-          )}
+          <StabilityVerdictView stability={selected.stability} reason={selected.stabilityReason} eigenvalues={selected.eigenvalues} />
+          {selected.modes.length > 0 && <ModeTable modes={selected.modes} coordinates={coordinatesOf(selected.stateNames)} />}
         </div>
       )}
+    </div>
+  );
+}
+
+const STABILITY_HEADINGS: Record<ModeStability, string> = {
+  stable: "Stable equilibrium.",
+  marginal: "Marginal equilibrium.",
+  unstable: "Unstable equilibrium.",
+};
+
+/** The verdict of the one stability rule, the clause that decided it, the eigenvalues it read, and the rule itself. */
+function StabilityVerdictView({ stability, reason, eigenvalues }: { stability: ModeStability; reason: string; eigenvalues: { re: number; im: number }[] }) {
+  // One entry per real eigenvalue or conjugate pair; the pair's lower half is implied by "±".
+  const listed = eigenvalues.filter((l) => l.im >= 0).sort((a, b) => b.re - a.re || a.im - b.im);
+  return (
+    <div className="flex flex-col gap-1 text-sm" data-testid="stability-verdict">
+      <p>
+        <strong className={clsx("font-medium", stability === "unstable" ? "text-danger" : stability === "marginal" ? "text-review" : "text-ink")}>{STABILITY_HEADINGS[stability]}</strong> {reason}
+      </p>
+      <p className="text-muted">
+        Eigenvalues of A (1/s):{" "}
+        {listed.map((l, k) => (
+          <span key={k} className={clsx("font-mono", l.re > 0 && "text-danger")}>
+            {k > 0 && ", "}
+            {eigenvalueText(l)}
+            {l.re > 0 && " (grows)"}
+          </span>
+        ))}
+      </p>
+      <details className="text-xs text-muted">
+        <summary className="cursor-pointer">How the verdict is decided</summary>
+        <p className="mt-1">{STABILITY_RULE}</p>
+      </details>
+    </div>
+  );
+}
+
+function eigenvalueText({ re, im }: { re: number; im: number }): string {
+  const part = (value: number) => Number(value.toPrecision(4)).toString().replace("-", "−");
+  if (im === 0) return part(re);
+  return re === 0 ? `±${part(im)}i` : `${part(re)} ± ${part(im)}i`;
+}
+
+/** Coordinate names from the state names [q; q']. */
+function coordinatesOf(stateNames: readonly string[]): string[] {
+  return stateNames.filter((name) => !name.endsWith("'"));
+}
+
+/** Every mode of the linearization, the growing (divergent) ones marked, none left out. */
+function ModeTable({ modes, coordinates }: { modes: ModeView[]; coordinates: string[] }) {
+  const precision = (value: number, digits: number) => Number(value.toPrecision(digits)).toString().replace("-", "−");
+  return (
+    <div className="overflow-x-auto">
+      <table className="text-sm">
+        <caption className="text-left text-xs text-muted">Modes of K v = ω² M v (undamped), with the damped frequency and damping ratio of the matching eigenvalue of A</caption>
+        <thead>
+          <tr className="text-left text-xs text-muted">
+            <th className="pr-4 font-medium">Mode</th>
+            <th className="pr-4 font-medium">Frequency (Hz)</th>
+            <th className="pr-4 font-medium">Damped (Hz), ζ</th>
+            <th className="font-medium">Shape ({coordinates.join(", ")})</th>
+          </tr>
+        </thead>
+        <tbody className="font-mono">
+          {modes.map((mode, k) => (
+            <tr key={k} data-testid="mode-row" data-kind={mode.kind} className={clsx(mode.kind === "divergent" && "text-danger")}>
+              <td className="pr-4">{k + 1}</td>
+              <td className="pr-4">
+                {mode.kind === "oscillating" && precision(mode.hertz!, 5)}
+                {mode.kind === "rigid" && <span className="font-sans">0 (rigid: no restoring stiffness)</span>}
+                {mode.kind === "divergent" && <span className="font-sans">growing: exp({precision(mode.growthRate!, 4)}·t), no oscillation</span>}
+              </td>
+              <td className="pr-4">
+                {mode.eigenvalue ? (
+                  `${precision(mode.eigenvalue.im / (2 * Math.PI), 5)}, ζ = ${precision(-mode.eigenvalue.re / Math.hypot(mode.eigenvalue.re, mode.eigenvalue.im), 3)}`
+                ) : (
+                  <span className="font-sans text-muted">—</span>
+                )}
+              </td>
+              <td>{mode.shape.map((value) => precision(value, 3)).join(", ")}</td>
+            </tr>
+          ))}
+        </tbody>
+      </table>
     </div>
   );
 }
@@ -386,7 +467,7 @@ export function CodeExportCellView(props: GeneratedCellProps<CodeExportCell>) {
         <pre className="hn-result-body max-h-96 overflow-auto rounded bg-sunken p-2 font-mono text-xs text-ink">{code.source}</pre>
       )}
       <p className="border-l-2 border-seal pl-2 text-xs text-muted" role="note">
-        {SAFETY_NOTE}
+        {safetyNote}
       </p>
     </div>
   );

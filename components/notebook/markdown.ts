@@ -50,7 +50,20 @@ const mathInline: TokenizerAndRendererExtension = {
   },
 };
 
-const markdown = new Marked({ gfm: true, breaks: false, async: false, extensions: [mathBlock, mathInline] });
+const markdown = new Marked({
+  gfm: true,
+  breaks: false,
+  async: false,
+  extensions: [mathBlock, mathInline],
+  renderer: {
+    // A note sits under the page's h1 and its cell's h3: its "# Heading" is an h4 (down to h6),
+    // so the page keeps one h1 and an outline that follows the layout. The class keeps the look.
+    heading({ tokens, depth }) {
+      const level = Math.min(6, depth + 3);
+      return `<h${level} class="hn-note-h${depth}">${this.parser.parseInline(tokens)}</h${level}>\n`;
+    },
+  },
+});
 
 /**
  * Sanitized HTML for a note. Needs a DOM (the browser, or jsdom in tests);

@@ -28,15 +28,22 @@ export interface MathViewProps {
   label?: string;
   /** Called after the LaTeX has been typeset into the element (display math typesets lazily). */
   onTypeset?: () => void;
+  /**
+   * Display math that may break over lines between its top-level terms
+   * instead of scrolling: typeset as inline math in display style, which
+   * KaTeX lets break after a top-level + − or =. Continuation lines are indented.
+   */
+  breakable?: boolean;
   "data-testid"?: string;
 }
 
 /**
  * Renders LaTeX; display math scrolls horizontally inside its box instead of
- * widening the page. Display math is typeset once it comes near the viewport
- * (a notebook of a long chain holds megabytes of KaTeX markup otherwise).
+ * widening the page, or, when breakable, breaks between terms. Display math is
+ * typeset once it comes near the viewport (a notebook of a long chain holds
+ * megabytes of KaTeX markup otherwise).
  */
-export const MathView = memo(function MathView({ latex, display = false, className, label, onTypeset, ...rest }: MathViewProps) {
+export const MathView = memo(function MathView({ latex, display = false, breakable = false, className, label, onTypeset, ...rest }: MathViewProps) {
   const ref = useRef<HTMLElement>(null);
   const near = useNearViewport(ref);
   const ready = near || !display;
@@ -44,18 +51,20 @@ export const MathView = memo(function MathView({ latex, display = false, classNa
 
   useEffect(() => {
     if (!ready) return;
+    const wrapping = breakable && display;
+    const source = wrapping ? `\\displaystyle ${latex}` : latex;
     if (loaded) {
-      setHtml(loaded.renderLatex(latex, display));
+      setHtml(loaded.renderLatex(source, display && !wrapping));
       return;
     }
     let current = true;
     void loadKatexRender().then((render) => {
-      if (current) setHtml(render.renderLatex(latex, display));
+      if (current) setHtml(render.renderLatex(source, display && !wrapping));
     });
     return () => {
       current = false;
     };
-  }, [latex, display, ready]);
+  }, [latex, display, breakable, ready]);
 
   useEffect(() => {
     if (html !== "") onTypeset?.();
@@ -64,7 +73,7 @@ export const MathView = memo(function MathView({ latex, display = false, classNa
   return (
     <Tag
       ref={ref as never}
-      className={clsx(display ? "hn-math-display" : "hn-math-inline", html === "" && "hn-math-pending", className)}
+      className={clsx(display ? "hn-math-display" : "hn-math-inline", display && breakable && "hn-math-breakable", html === "" && "hn-math-pending", className)}
       aria-label={label}
       aria-busy={html === "" || undefined}
       data-testid={rest["data-testid"]}

@@ -13,18 +13,20 @@ import clsx from "clsx";
 import Link from "next/link";
 import { useCallback, useEffect, useMemo, useRef, useState, type ReactNode } from "react";
 import { ReviewSyncProvider } from "@/components/review/review-sync";
-import { useShortcut } from "@/components/shortcuts";
+import { useShortcut, useShortcutHelp } from "@/components/shortcuts";
 import { Button } from "@/components/ui/button";
 import { StatusBadge } from "@/components/ui/status-badge";
 import { apiFetch } from "@/lib/api/fetcher";
-import type { DerivationStatus } from "@/lib/domain";
+import { safetyNote, type DerivationStatus } from "@/lib/domain";
+import type { DerivationJson } from "@/lib/derivations/views";
 import { AppError, appErrorFromBody } from "@/lib/errors";
 import { applyOperation, documentToModel, parseStoredDocument, type DerivationDocument } from "@/lib/notebook/document";
+import { diagnosticLine } from "@/lib/notebook/results";
 import { EMPTY_VIEW_PREFERENCES, personalCell, type ViewPreferences } from "@/lib/notebook/view-preferences";
 import { CELL_SHORTCUTS } from "./cell-frame";
-import { SAFETY_NOTE } from "./generated-cells";
 import { Notebook, type NotebookView } from "./notebook";
 import { OwnSimulation } from "./own-simulation";
+import { UploadLimitsProvider, type UploadLimits } from "./upload-limits";
 import { readDraft, removeDraft, useAutosave, type SaveFunction, type SaveStatus } from "./use-autosave";
 import { useEvaluation } from "./use-evaluation";
 import { useViewPreferences } from "./use-view-preferences";
@@ -38,6 +40,11 @@ export interface NotebookPageProps {
   ownerName: string | null;
   roleLabel: string;
   canEdit: boolean;
+  /**
+   * Why a reader cannot edit: the derivation is approved and locked (their role could edit it
+   * otherwise), or their role never edits. Ignored when `canEdit`.
+   */
+  readOnlyReason?: "approved" | "role";
   canRename: boolean;
   /** May store simulation runs on the server (reviewers may, viewers may not). */
   canSimulate?: boolean;
@@ -45,13 +52,15 @@ export interface NotebookPageProps {
   /** This person's view of the derivation, as stored for them. */
   initialViewPreferences?: ViewPreferences;
   initialUpdatedAt: string;
+  /** The server's upload limits, stated and applied where files are chosen. */
+  uploadLimits?: UploadLimits;
   rowTitle: string;
   /** The review area (lock banner, review panel), shown under the header and kept in step with autosave. */
   review?: ReactNode;
 }
 
 interface DerivationRecord {
-  derivation: { title: string; content: unknown; updatedAt: string; updatedByName?: string | null };
+  derivation: DerivationJson;
 }
 
 const timeFormat = new Intl.DateTimeFormat("en-GB", { timeStyle: "short" });
@@ -91,12 +100,13 @@ async function download(url: string): Promise<void> {
 
 export function NotebookPage(props: NotebookPageProps) {
   const { derivationId, canEdit } = props;
+  const readOnlyReason = canEdit ? undefined : (props.readOnlyReason ?? "role");
   const [doc, setDoc] = useState(props.initialDocument);
   const [recovery, setRecovery] = useState<{ document: DerivationDocument; reason: string } | null>(null);
   const [notice, setNotice] = useState<string | null>(null);
   const [exportOpen, setExportOpen] = useState(false);
   const [exportError, setExportError] = useState<string | null>(null);
-  const [exporting, setExporting] = useState<"model" | "latex" | null>(null);
+  const [exporting, setExporting] = useState<"model" | "latex" | "notebook" | null>(null);
   const rowTitle = useRef(props.rowTitle);
   const docRef = useRef(doc);
   useEffect(() => {
@@ -118,7 +128,7 @@ export function NotebookPage(props: NotebookPageProps) {
       // The dashboard lists the row's title; keep it in step with the document's.
       const title = document.title.trim();
       if (props.canRename && title && title !== rowTitle.current) {
-        const renamed = await apiFetch<{ derivation: { updatedAt: string; title: string } }>(`/api/derivations/${derivationId}`, { method: "PATCH", body: { title } });
+        const renamed = await apiFetch<DerivationRecord>(`/api/derivations/${derivationId}`, { method: "PATCH", body: { title } });
         rowTitle.current = renamed.derivation.title;
         updatedAt = renamed.derivation.updatedAt;
       }
@@ -213,7 +223,7 @@ export function NotebookPage(props: NotebookPageProps) {
     await autosave.overwrite(data.derivation.updatedAt);
   }
 
-  async function exportFile(format: "model" | "latex") {
+  async function exportFile(format: "model" | "latex" | "notebook") {
     setExportError(null);
     setExporting(format);
     try {
@@ -221,7 +231,7 @@ export function NotebookPage(props: NotebookPageProps) {
       if (canEdit && autosave.status.state !== "saved" && !(await autosave.saveNow())) {
         throw new Error("The latest changes are not saved yet, so the export would miss them. Save, then export again.");
       }
-      await download(`/api/derivations/${derivationId}/export?format=${format}`);
+      await download(format === "notebook" ? `/api/derivations/${derivationId}/export/notebook` : `/api/derivations/${derivationId}/export?format=${format}`);
       setExportOpen(false);
     } catch (error) {
       setExportError(error instanceof Error ? error.message : "The export failed.");
@@ -234,8 +244,9 @@ export function NotebookPage(props: NotebookPageProps) {
   const { saveNow } = autosave;
   useShortcut("e", "Evaluate the derivation now", evaluateNow);
   useShortcut("s", "Save now", () => void saveNow(), canEdit);
-  useShortcut("x", "Export the model file (.model.json)", () => void exportFile("model"));
-  useShortcut("l", "Export the equations as a LaTeX document", () => void exportFile("latex"));
+  // Downloads leave the page: chords, so a stray key press cannot start one.
+  useShortcut("Alt+Shift+X", "Export the model file (.model.json)", () => void exportFile("model"));
+  useShortcut("Alt+Shift+L", "Export the equations as a LaTeX document", () => void exportFile("latex"));
 
   // The same two actions from inside an editor, where single keys type text.
   useEffect(() => {
@@ -263,14 +274,17 @@ export function NotebookPage(props: NotebookPageProps) {
         </Link>
         <div className="flex flex-wrap items-center gap-3">
           {canEdit && props.canRename ? (
-            <input
-              aria-label="Derivation title"
-              data-testid="derivation-title"
-              className="min-w-0 flex-1 rounded border border-transparent bg-transparent px-1 text-2xl font-semibold hover:border-line focus:border-action focus:outline-none"
-              value={doc.title}
-              maxLength={160}
-              onChange={(event) => setDoc((current) => applyOperation(current, { type: "setTitle", title: event.target.value }))}
-            />
+            // The page's one heading holds the editable title, so the notebook still has an h1.
+            <h1 className="min-w-0 flex-1">
+              <input
+                aria-label="Derivation title"
+                data-testid="derivation-title"
+                className="w-full rounded border border-transparent bg-transparent px-1 text-2xl font-semibold hover:border-line focus:border-action focus:outline-none"
+                value={doc.title}
+                maxLength={160}
+                onChange={(event) => setDoc((current) => applyOperation(current, { type: "setTitle", title: event.target.value }))}
+              />
+            </h1>
           ) : (
             <h1 className="min-w-0 flex-1 text-2xl font-semibold" data-testid="derivation-title">
               {doc.title}
@@ -285,8 +299,12 @@ export function NotebookPage(props: NotebookPageProps) {
           {canEdit ? (
             <SaveIndicator status={autosave.status} onRetry={() => void saveNow()} />
           ) : (
-            <span className="rounded border border-line bg-sunken px-2 py-0.5 text-xs text-muted" data-testid="read-only-badge">
-              Read-only
+            <span
+              className={clsx("rounded border px-2 py-0.5 text-xs", readOnlyReason === "approved" ? "border-seal/60 bg-seal-soft text-seal" : "border-line bg-sunken text-muted")}
+              data-testid="read-only-badge"
+              data-reason={readOnlyReason}
+            >
+              {readOnlyReason === "approved" ? "Read-only: approved and locked" : `Read-only for ${props.roleLabel.toLowerCase()}s`}
             </span>
           )}
           <div className="ml-auto flex flex-wrap items-center gap-2" role="toolbar" aria-label="Derivation actions">
@@ -322,11 +340,20 @@ export function NotebookPage(props: NotebookPageProps) {
                   aria-label="Export"
                   onKeyDown={(event) => event.key === "Escape" && setExportOpen(false)}
                 >
-                  <Button size="sm" className="w-full justify-start" onClick={() => void exportFile("model")} disabled={exporting !== null} title="x">
+                  <Button size="sm" className="w-full justify-start" onClick={() => void exportFile("model")} disabled={exporting !== null} title="Alt+Shift+X">
                     {exporting === "model" ? "Preparing…" : "Model file (.model.json)"}
                   </Button>
-                  <Button size="sm" className="w-full justify-start" onClick={() => void exportFile("latex")} disabled={exporting !== null} title="l">
+                  <Button size="sm" className="w-full justify-start" onClick={() => void exportFile("latex")} disabled={exporting !== null} title="Alt+Shift+L">
                     {exporting === "latex" ? "Preparing…" : "LaTeX document (.tex)"}
+                  </Button>
+                  <Button
+                    size="sm"
+                    className="w-full justify-start"
+                    onClick={() => void exportFile("notebook")}
+                    disabled={exporting !== null}
+                    title="The whole notebook with its stored runs and files; import it from a team dashboard"
+                  >
+                    {exporting === "notebook" ? "Preparing…" : "Notebook archive (.notebook.zip)"}
                   </Button>
                   {exportError ? (
                     <p className="text-danger" role="alert">
@@ -334,7 +361,7 @@ export function NotebookPage(props: NotebookPageProps) {
                     </p>
                   ) : null}
                   <p className="border-l-2 border-seal pl-2 text-xs text-muted" role="note" data-testid="export-safety-note">
-                    {SAFETY_NOTE}
+                    {safetyNote}
                   </p>
                 </div>
               ) : null}
@@ -350,11 +377,18 @@ export function NotebookPage(props: NotebookPageProps) {
       ) : null}
 
       {!canEdit ? (
-        <p className="rounded border border-line bg-surface px-3 py-2 text-sm text-muted" data-testid="read-only-note">
-          You can read and evaluate this derivation, choose how you view it and simulate it with your own settings
-          {props.canSimulate ? " (and store your runs for the team)" : ""}; editing it is for its team&apos;s analysts and leads
-          {props.status === "approved" ? " (and, once approved, its lead)" : ""}.
-        </p>
+        readOnlyReason === "approved" ? (
+          <p className="rounded border border-seal/60 bg-seal-soft px-3 py-2 text-sm text-ink" data-testid="read-only-note" data-reason="approved">
+            <strong className="font-semibold text-seal">Approved and locked.</strong> This derivation was approved, so it is frozen: a lead of the team can unlock
+            it, giving a reason. You can still read, evaluate and export it, choose how you view it and simulate it with your own settings.
+          </p>
+        ) : (
+          <p className="rounded border border-line bg-surface px-3 py-2 text-sm text-muted" data-testid="read-only-note" data-reason="role">
+            <strong className="font-semibold text-ink">Read-only for your role.</strong> As {props.roleLabel.toLowerCase()} you can read, evaluate and export this
+            derivation, choose how you view it and simulate it with your own settings{props.canSimulate ? " (and store your runs for the team)" : ""}; editing
+            it is for the team&apos;s analysts and leads.
+          </p>
+        )
       ) : null}
 
       {notice ? (
@@ -412,14 +446,15 @@ export function NotebookPage(props: NotebookPageProps) {
         </section>
       ) : null}
 
-      <EvaluationBar evaluation={evaluation} responseMs={response?.requestMs} cached={response?.cached} />
+      <EvaluationBar evaluation={evaluation} document={doc} responseMs={response?.requestMs} cached={response?.cached} />
       {viewPreferences.saveError || viewResults.error ? (
         <p className="text-sm text-danger" role="alert" data-testid="view-error">
           {viewResults.error ? `Your view choice could not be shown: ${viewResults.error}` : `Your view choices apply on this page but could not be stored: ${viewPreferences.saveError}`}
         </p>
       ) : null}
 
-      <Notebook
+      <UploadLimitsProvider limits={props.uploadLimits}>
+        <Notebook
         document={doc}
         onChange={(next) => setDoc(next)}
         results={evaluation.results}
@@ -429,21 +464,22 @@ export function NotebookPage(props: NotebookPageProps) {
         evaluatedModel={evaluation.evaluatedModel}
         readOnly={!canEdit}
         derivationId={derivationId}
-        view={view}
-        canStoreRuns={canStoreRuns}
-      />
-      {!hasSimulationCell && ownSimulationOpen ? (
-        <OwnSimulation
-          ref={ownSimulationRef}
-          document={doc}
-          results={evaluation.results}
-          derivationId={derivationId}
-          settings={preferences.ownSimulation}
+          view={view}
           canStoreRuns={canStoreRuns}
-          onSettingsChange={(patch) => changeSimulation(null, patch)}
-          onClose={() => setOwnSimulationOpen(false)}
         />
-      ) : null}
+        {!hasSimulationCell && ownSimulationOpen ? (
+          <OwnSimulation
+            ref={ownSimulationRef}
+            document={doc}
+            results={evaluation.results}
+            derivationId={derivationId}
+            settings={preferences.ownSimulation}
+            canStoreRuns={canStoreRuns}
+            onSettingsChange={(patch) => changeSimulation(null, patch)}
+            onClose={() => setOwnSimulationOpen(false)}
+          />
+        ) : null}
+      </UploadLimitsProvider>
       {CELL_SHORTCUTS.map((shortcut) => (
         <HelpEntry key={shortcut.keys} keys={shortcut.keys} description={`${shortcut.description} (focus in the cell)`} />
       ))}
@@ -453,11 +489,9 @@ export function NotebookPage(props: NotebookPageProps) {
   );
 }
 
-function noop() {}
-
 /** Lists a key handled elsewhere (by the cells or a key listener) in the help dialog. */
 function HelpEntry({ keys, description, enabled = true }: { keys: string; description: string; enabled?: boolean }) {
-  useShortcut(keys, description, noop, enabled);
+  useShortcutHelp(keys, description, enabled);
   return null;
 }
 
@@ -511,7 +545,17 @@ function SaveIndicator({ status, onRetry }: { status: SaveStatus; onRetry: () =>
   );
 }
 
-function EvaluationBar({ evaluation, responseMs, cached }: { evaluation: ReturnType<typeof useEvaluation>; responseMs?: number; cached?: boolean }) {
+function EvaluationBar({
+  evaluation,
+  document,
+  responseMs,
+  cached,
+}: {
+  evaluation: ReturnType<typeof useEvaluation>;
+  document: DerivationDocument;
+  responseMs?: number;
+  cached?: boolean;
+}) {
   const { error, evaluating, stale, results, diagnostics } = evaluation;
   return (
     <div className="space-y-1 text-sm" data-testid="evaluation-status" data-state={evaluating ? "evaluating" : error ? "failed" : stale ? "stale" : results ? "current" : "none"}>
@@ -526,14 +570,7 @@ function EvaluationBar({ evaluation, responseMs, cached }: { evaluation: ReturnT
             Evaluation failed{results ? "; the results below are from the last good evaluation and are marked stale" : ""}.
           </p>
           <ul className="list-disc pl-5">
-            {diagnostics.length > 0
-              ? diagnostics.map((d, i) => (
-                  <li key={i}>
-                    <span className="font-mono">{d.field || "model"}</span>
-                    {d.column !== null ? `, column ${d.column}` : ""}: {d.message}
-                  </li>
-                ))
-              : [<li key="message">{error.message}</li>]}
+            {diagnostics.length > 0 ? diagnostics.map((d, i) => <li key={i}>{diagnosticLine(document, d)}</li>) : [<li key="message">{error.message}</li>]}
           </ul>
         </div>
       ) : results && !evaluating ? (

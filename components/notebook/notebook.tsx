@@ -24,6 +24,7 @@ import {
   createId,
   documentSymbols,
   isGeneratedCell,
+  rowCount,
   type Cell,
   type CellKind,
   type DerivationDocument,
@@ -31,7 +32,7 @@ import {
   type DocumentSymbols,
 } from "@/lib/notebook/document";
 import { duplicateNames } from "@/lib/notebook/field-checks";
-import { locateDiagnostics, type LocatedDiagnostic, type ModelDiagnostic, type NotebookResults } from "@/lib/notebook/results";
+import { diagnosticLine, locateDiagnostics, type LocatedDiagnostic, type ModelDiagnostic, type NotebookResults } from "@/lib/notebook/results";
 import { personalCell, VIEW_CHOICE_KEYS, type ViewPreferences } from "@/lib/notebook/view-preferences";
 import { CellFrame } from "./cell-frame";
 import { EnergyCellEditor, ForcesCellEditor } from "./expression-cell";
@@ -102,6 +103,7 @@ export function Notebook(props: NotebookProps) {
   const [dragId, setDragId] = useState<string | null>(null);
   const [drop, setDrop] = useState<{ id: string; side: "before" | "after" } | null>(null);
   const refocus = useRef<HTMLElement | null>(null);
+  const focusCellId = useRef<string | null>(null);
 
   // Symbols change far less often than the document; keep one object per distinct set so
   // editors are not reconfigured on every keystroke.
@@ -129,6 +131,22 @@ export function Notebook(props: NotebookProps) {
     if (element && element.isConnected && globalThis.document.activeElement !== element) element.focus();
   });
 
+  // A new cell takes the focus: its first field, or else its first control, so typing never
+  // lands on the add button the cell was chosen from.
+  useEffect(() => {
+    const cellId = focusCellId.current;
+    if (!cellId) return;
+    const section = [...globalThis.document.querySelectorAll<HTMLElement>("[data-cell-id]")].find((element) => element.dataset.cellId === cellId);
+    if (!section) return;
+    focusCellId.current = null;
+    const body = section.querySelector<HTMLElement>(":scope > div");
+    const target =
+      body?.querySelector<HTMLElement>("input:not([readonly]):not([type=hidden]), textarea:not([readonly]), [role=textbox]:not([aria-readonly=true])") ??
+      body?.querySelector<HTMLElement>("button:not(:disabled), select, a[href]") ??
+      section.querySelector<HTMLElement>("button");
+    target?.focus();
+  });
+
   function move(cellId: string, toIndex: number) {
     refocus.current = globalThis.document.activeElement as HTMLElement | null;
     dispatch({ type: "moveCell", cellId, toIndex });
@@ -140,7 +158,9 @@ export function Notebook(props: NotebookProps) {
   }
 
   function add(kind: CellKind, index: number) {
-    dispatch({ type: "addCell", cell: createCell(kind, newId()), index });
+    const cell = createCell(kind, newId());
+    focusCellId.current = cell.id;
+    dispatch({ type: "addCell", cell, index });
   }
 
   function dropOn(event: DragEvent<HTMLElement>, target: Cell) {
@@ -163,9 +183,7 @@ export function Notebook(props: NotebookProps) {
           <p className="font-medium">The evaluator reported:</p>
           <ul className="list-disc pl-5">
             {located.general.map((d, i) => (
-              <li key={i}>
-                <span className="font-mono">{d.field || "model"}</span>: {d.message}
-              </li>
+              <li key={i}>{diagnosticLine(doc, d)}</li>
             ))}
           </ul>
         </div>
@@ -323,7 +341,17 @@ function CellBody({ cell, documentCell, view, canStoreRuns, symbols, duplicates,
     case "parameters":
     case "inputs":
     case "definitions":
-      return <TableCellEditor cell={cell} symbols={symbols} duplicateNames={duplicates} diagnostics={diagnostics} newId={newId} {...common} />;
+      return (
+        <TableCellEditor
+          cell={cell}
+          symbols={symbols}
+          duplicateNames={duplicates}
+          diagnostics={diagnostics}
+          newId={newId}
+          totalRows={rowCount(document, cell.kind)}
+          {...common}
+        />
+      );
     case "kinetic":
     case "potential":
     case "dissipation":

@@ -6,8 +6,9 @@
  * placed on the row and column they name.
  */
 import clsx from "clsx";
-import { useId } from "react";
-import { emptyRow, type AnyRow, type DocumentOperation, type DocumentSymbols, type TableCell } from "@/lib/notebook/document";
+import { useEffect, useId, useRef } from "react";
+import { ROW_LIMITS, emptyRow, rowLimitText, type AnyRow, type DocumentOperation, type DocumentSymbols, type TableCell } from "@/lib/notebook/document";
+import { spellGreekLetters } from "@/lib/mechanics/expr/greek";
 import { checkParameterValue, checkSymbolName, checkUnitSyntax, type FieldCheck } from "@/lib/notebook/field-checks";
 import { previewLatex, symbolLatex } from "@/lib/notebook/latex-preview";
 import { toEditorDiagnostic, type LocatedDiagnostic } from "@/lib/notebook/results";
@@ -23,15 +24,24 @@ const COLUMNS: Record<TableCell["kind"], Column[]> = {
   definitions: ["name", "expr", "description"],
 };
 
+// Below these widths the grid scrolls inside its cell (on a phone) instead of squeezing its fields.
+const MIN_WIDTHS: Record<TableCell["kind"], string> = {
+  coordinates: "min-w-[30rem]",
+  inputs: "min-w-[30rem]",
+  parameters: "min-w-[38rem]",
+  definitions: "min-w-[36rem]",
+};
+
 const HEADINGS: Record<Column, string> = { name: "Name", unit: "Unit", value: "Value", expr: "Expression", description: "Description" };
 
 const ROW_NOUN: Record<TableCell["kind"], string> = { coordinates: "coordinate", parameters: "parameter", inputs: "input", definitions: "definition" };
 
+// Hints, not content: worded as examples and drawn in italic sans, unlike the monospace values.
 const PLACEHOLDERS: Record<TableCell["kind"], Partial<Record<Column, string>>> = {
-  coordinates: { name: "theta", unit: "rad" },
-  inputs: { name: "F", unit: "N" },
-  parameters: { name: "m", unit: "kg", value: "blank = symbolic" },
-  definitions: { name: "x1", expr: "l1*sin(theta1)" },
+  coordinates: { name: "e.g. theta", unit: "e.g. rad" },
+  inputs: { name: "e.g. F", unit: "e.g. N" },
+  parameters: { name: "e.g. m", unit: "e.g. kg", value: "blank = symbolic" },
+  definitions: { name: "e.g. x1", expr: "e.g. l*sin(theta)" },
 };
 
 export interface TableCellProps {
@@ -43,6 +53,8 @@ export interface TableCellProps {
   readOnly?: boolean;
   onOperation: (op: DocumentOperation) => void;
   newId: () => string;
+  /** Rows of this kind in the whole derivation (several cells may hold them); defaults to this cell's. */
+  totalRows?: number;
 }
 
 function rowIsBlank(row: AnyRow): boolean {
@@ -60,18 +72,40 @@ function localCheck(column: Column, text: string, duplicate: boolean): FieldChec
   return { ok: true };
 }
 
-export function TableCellEditor({ cell, symbols, duplicateNames, diagnostics = [], readOnly = false, onOperation, newId }: TableCellProps) {
+export function TableCellEditor({ cell, symbols, duplicateNames, diagnostics = [], readOnly = false, onOperation, newId, totalRows }: TableCellProps) {
   const columns = COLUMNS[cell.kind];
   const noun = ROW_NOUN[cell.kind];
   const baseId = useId();
   const rows = cell.rows as AnyRow[];
+
+  // "+ Add …" moves the focus into the new row's first field, so typing goes there
+  // and not to the button (where single-key shortcuts used to catch it).
+  const focusRowId = useRef<string | null>(null);
+  const tableRef = useRef<HTMLTableElement>(null);
+  useEffect(() => {
+    const rowId = focusRowId.current;
+    if (!rowId) return;
+    const row = [...(tableRef.current?.querySelectorAll<HTMLElement>("tr[data-row-id]") ?? [])].find((tr) => tr.dataset.rowId === rowId);
+    const field = row?.querySelector<HTMLElement>("input, [role=textbox]");
+    if (!field) return;
+    focusRowId.current = null;
+    field.focus();
+  });
+
+  function addRow() {
+    const id = newId();
+    onOperation({ type: "addRow", cellId: cell.id, row: emptyRow(cell.kind, id) });
+    focusRowId.current = id;
+  }
+  const limit = ROW_LIMITS[cell.kind];
+  const full = (totalRows ?? rows.length) >= limit;
 
   const update = (rowId: string, column: Column, value: string) => onOperation({ type: "updateRow", cellId: cell.id, rowId, patch: { [column]: value } });
 
   return (
     <div className="min-w-0">
       <div className="overflow-x-auto">
-        <table className="w-full border-collapse text-sm">
+        <table ref={tableRef} className={clsx("w-full border-collapse text-sm", MIN_WIDTHS[cell.kind])}>
           <thead>
             <tr className="text-left text-xs uppercase tracking-wide text-muted">
               {columns.map((column) => (
@@ -118,7 +152,7 @@ export function TableCellEditor({ cell, symbols, duplicateNames, diagnostics = [
                         <input
                           id={fieldId}
                           className={clsx(
-                            "w-full rounded border bg-paper px-2 py-1 text-ink outline-none focus:border-action",
+                            "w-full rounded border bg-paper px-2 py-1 text-ink outline-none focus:border-action placeholder:font-sans placeholder:text-[13px] placeholder:italic placeholder:text-muted/70",
                             column !== "description" && "font-mono",
                             messages.length > 0 ? "border-danger" : "border-line",
                           )}
@@ -131,7 +165,7 @@ export function TableCellEditor({ cell, symbols, duplicateNames, diagnostics = [
                           spellCheck={column === "description"}
                           autoComplete="off"
                           inputMode={column === "value" ? "decimal" : undefined}
-                          onChange={(event) => update(row.id, column, event.target.value)}
+                          onChange={(event) => update(row.id, column, column === "name" ? spellGreekLetters(event.target.value) : event.target.value)}
                         />
                         {messages.length > 0 && (
                           <p id={`${fieldId}-error`} className="mt-0.5 text-xs text-danger" role="status">
@@ -161,13 +195,20 @@ export function TableCellEditor({ cell, symbols, duplicateNames, diagnostics = [
       </div>
       {rows.length === 0 && <p className="px-1 py-2 text-sm text-muted">No {noun}s yet.</p>}
       {!readOnly && (
-        <button
-          type="button"
-          className="mt-2 rounded border border-dashed border-line px-2.5 py-1 text-[13px] text-action hover:border-action"
-          onClick={() => onOperation({ type: "addRow", cellId: cell.id, row: emptyRow(cell.kind, newId()) })}
-        >
-          + Add {noun}
-        </button>
+        <div className="mt-2 flex flex-wrap items-center gap-x-3 gap-y-1">
+          <button
+            type="button"
+            className="rounded border border-dashed border-line px-2.5 py-1 text-[13px] text-action hover:border-action disabled:cursor-not-allowed disabled:text-muted disabled:hover:border-line"
+            onClick={addRow}
+            disabled={full}
+            aria-describedby={`${baseId}-limit`}
+          >
+            + Add {noun}
+          </button>
+          <span id={`${baseId}-limit`} className={clsx("text-xs", full ? "text-ink" : "text-muted")} data-testid="row-limit">
+            {full ? `${rowLimitText(cell.kind)} Remove one to add another.` : `${totalRows ?? rows.length} of at most ${limit}`}
+          </span>
+        </div>
       )}
     </div>
   );

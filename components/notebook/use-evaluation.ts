@@ -11,18 +11,12 @@ import { keepPreviousData, useQuery } from "@tanstack/react-query";
 import { useCallback, useEffect, useMemo, useState } from "react";
 import { apiFetch } from "@/lib/api/fetcher";
 import { AppError } from "@/lib/errors";
+import type { EvaluationResponse } from "@/lib/evaluation/views";
 import type { Model } from "@/lib/mechanics/model";
 import { coordinateNames, documentToModel, type DerivationDocument } from "@/lib/notebook/document";
 import type { ModelDiagnostic, NotebookResults } from "@/lib/notebook/results";
 
-export interface EvaluationResponse {
-  cached: boolean;
-  modelHash: string;
-  result: NotebookResults;
-  timings: Record<string, number>;
-  requestMs: number;
-  evaluatedAt: string;
-}
+export type { EvaluationResponse };
 
 export interface Evaluation {
   results: NotebookResults | null;
@@ -38,6 +32,12 @@ export interface Evaluation {
   evaluateNow: () => void;
 }
 
+/** A coordinate, a kinetic and a potential energy: the least the engine can derive from. */
+export function modelIsWritten(document: DerivationDocument): boolean {
+  const written = (kind: "kinetic" | "potential") => document.cells.some((cell) => cell.kind === kind && cell.expr.trim() !== "");
+  return coordinateNames(document).length > 0 && written("kinetic") && written("potential");
+}
+
 const NO_DIAGNOSTICS: readonly ModelDiagnostic[] = [];
 
 function diagnosticsOf(error: unknown): readonly ModelDiagnostic[] {
@@ -49,9 +49,10 @@ function diagnosticsOf(error: unknown): readonly ModelDiagnostic[] {
 export function useEvaluation({ derivationId, document, settleMs = 1_200 }: { derivationId: string; document: DerivationDocument; settleMs?: number }): Evaluation {
   const json = JSON.stringify(document);
   const [settled, setSettled] = useState(json);
-  // A notebook without coordinates has nothing to derive yet: wait for one, or for an explicit request.
+  // A notebook whose model is not written yet has nothing to derive: evaluating it would only list
+  // the cells still blank. Wait until it is, or for an explicit request.
   const [requested, setRequested] = useState(false);
-  const ready = requested || coordinateNames(document).length > 0;
+  const ready = requested || modelIsWritten(document);
   const [lastGood, setLastGood] = useState<{ json: string; response: EvaluationResponse } | null>(null);
 
   useEffect(() => {

@@ -177,6 +177,11 @@ function stateLatex(name: string): string {
   return symbolLatex(name.replace(/'+$/, ""), order);
 }
 
+/** Coordinate names from the state names [q; q']. */
+function coordinatesOf(stateNames: readonly string[]): string[] {
+  return stateNames.filter((name) => !name.endsWith("'"));
+}
+
 function runSettingsText(settings: Record<string, unknown>): string[] {
   const numbers = (value: unknown) =>
     value && typeof value === "object"
@@ -236,6 +241,7 @@ export function ReportView({ report, title, teamName, generatedAt }: { report: R
   const current = report.approvals.find((approval) => approval.unlockedAt === null);
   const selected = result?.linearization?.selected;
   const equilibrium = selected ? result?.linearization?.equilibria[selected.index] : undefined;
+  const oscillating = selected?.modes.filter((mode) => mode.kind === "oscillating") ?? [];
   const energyRuns = report.runs.filter((run) => run.energyCheck);
 
   return (
@@ -325,6 +331,18 @@ export function ReportView({ report, title, teamName, generatedAt }: { report: R
                 ))}
               </ul>
             )}
+            {result.energyNotConserved ? <p className="text-sm">The energy function is not conserved: {result.energyNotConserved}</p> : null}
+            {(result.cyclicMomenta ?? []).length > 0 ? (
+              <div className="space-y-1">
+                <p className="text-sm text-muted">Cyclic coordinates, their momenta and momentum balance:</p>
+                {(result.cyclicMomenta ?? []).map((entry) => (
+                  <div key={entry.coordinate}>
+                    <Tex latex={entry.rateLatex} display />
+                    <p className="text-xs text-muted">{entry.conserved ? "Conserved: nothing acts on it." : `Acted on by ${entry.actedOnBy.join(", ")}.`}</p>
+                  </div>
+                ))}
+              </div>
+            ) : null}
           </>
         )}
       </Section>
@@ -334,21 +352,22 @@ export function ReportView({ report, title, teamName, generatedAt }: { report: R
           <p className="text-sm">{result?.linearizationNote ?? "No linearization for this revision."}</p>
         ) : (
           <>
-            <p className="text-sm">
-              About {equilibrium?.label ?? `equilibrium ${selected.index + 1}`}: <strong>{selected.stable ? "stable" : "unstable"}</strong>.
+            <p className="text-sm" data-testid="report-stability">
+              About {equilibrium?.label ?? `equilibrium ${selected.index + 1}`}: <strong>{selected.stability}</strong>. {selected.stabilityReason}
             </p>
-            {selected.frequenciesHz.length > 0 ? (
+            {selected.modes.length > 0 ? (
               <Table
-                label="Natural frequencies"
-                head={["Mode", "Natural frequency [Hz]", `Mode shape (${selected.stateNames.slice(0, selected.modeShapes.length).join(", ")})`]}
-                rows={selected.frequenciesHz.map((frequency, mode) => [
-                  String(mode + 1),
-                  formatValue(frequency),
-                  selected.modeShapes.map((row) => formatValue(Number((row[mode] ?? 0).toPrecision(3)))).join(", "),
+                label="Modes"
+                head={["Mode", "Natural frequency [Hz]", "Damped [Hz], ζ", `Shape (${coordinatesOf(selected.stateNames).join(", ")})`]}
+                rows={selected.modes.map((mode, k) => [
+                  String(k + 1),
+                  mode.kind === "oscillating" ? formatValue(mode.hertz!) : mode.kind === "rigid" ? "0 (rigid)" : `growing, exp(${formatValue(mode.growthRate!)}·t)`,
+                  mode.eigenvalue ? `${formatValue(mode.eigenvalue.im / (2 * Math.PI))}, ζ = ${formatValue(Number((-mode.eigenvalue.re / Math.hypot(mode.eigenvalue.re, mode.eigenvalue.im)).toPrecision(3)))}` : "—",
+                  mode.shape.map((value) => formatValue(Number(value.toPrecision(3)))).join(", "),
                 ])}
               />
             ) : (
-              <p className="text-sm">No oscillating mode about this equilibrium.</p>
+              <p className="text-sm">No mode about this equilibrium.</p>
             )}
             <Tex
               display
@@ -379,7 +398,7 @@ export function ReportView({ report, title, teamName, generatedAt }: { report: R
           )}
           {selected ? (
             <li>
-              – Small oscillations: {selected.frequenciesHz.length > 0 ? `${selected.frequenciesHz.map((f) => `${formatValue(f)} Hz`).join(", ")} about the chosen equilibrium` : "no oscillating mode"} (section 4).
+              – Small oscillations: {oscillating.length > 0 ? `${oscillating.map((mode) => `${formatValue(mode.hertz!)} Hz`).join(", ")} about the chosen equilibrium` : "no oscillating mode"}, {selected.stability} (section 4).
             </li>
           ) : null}
           {report.runs.some((run) => run.status === "failed") ? <li>✕ Simulation: at least one stored run failed (section 6).</li> : null}

@@ -11,22 +11,11 @@ import { Notice } from "@/components/ui/notice";
 import { apiFetch } from "@/lib/api/fetcher";
 import { memberRoles, roleDescriptions, roleLabels, type MemberRole } from "@/lib/domain";
 import { AppError } from "@/lib/errors";
+import type { InviteJson, MemberJson } from "@/lib/teams/views";
 import { inviteMemberSchema, type InviteMemberInput } from "@/lib/validation/teams";
 
-interface MemberRow {
-  userId: string;
-  email: string;
-  name: string;
-  role: MemberRole;
-  joinedAt: string;
-}
-
-interface InviteRow {
-  id: string;
-  email: string;
-  role: MemberRole;
-  expiresAt: string;
-}
+type MemberRow = MemberJson;
+type InviteRow = InviteJson;
 
 const dateFormat = new Intl.DateTimeFormat("en-GB", { dateStyle: "medium" });
 
@@ -68,14 +57,15 @@ export function MembersPanel({ teamId, currentUserId, mayManage, mayInvite }: { 
   });
 
   return (
-    <div className="grid gap-8 lg:grid-cols-[1fr_20rem]">
-      <section aria-labelledby="members-heading" className="space-y-3">
+    <div className="grid min-w-0 gap-8 lg:grid-cols-[minmax(0,1fr)_20rem]">
+      <section aria-labelledby="members-heading" className="min-w-0 space-y-3">
         <h2 id="members-heading" className="text-lg font-semibold">
           Members
         </h2>
         {actionError ? <Notice tone="error">{actionError}</Notice> : null}
         {members.error ? <Notice tone="error">{members.error.message}</Notice> : null}
-        <div className="overflow-x-auto rounded border border-line bg-surface">
+        {/* relative: keeps the screen-reader-only header text inside this scroll box, so the page does not widen on a phone. */}
+        <div className="relative overflow-x-auto rounded border border-line bg-surface">
           <table className="w-full text-sm" data-testid="members-table">
             <thead className="border-b border-line bg-sunken/60 text-left">
               <tr>
@@ -146,35 +136,77 @@ export function MembersPanel({ teamId, currentUserId, mayManage, mayInvite }: { 
       </section>
 
       {mayInvite ? (
-        <aside className="space-y-4">
+        <aside className="min-w-0 space-y-4">
           <InviteForm teamId={teamId} onInvited={() => queryClient.invalidateQueries({ queryKey: invitesKey })} />
-          <section aria-labelledby="open-invites-heading">
-            <h2 id="open-invites-heading" className="mb-2 text-base font-semibold">
-              Open invitations
-            </h2>
-            {(invites.data?.invites ?? []).length === 0 ? (
-              <p className="text-sm text-muted">None.</p>
-            ) : (
-              <ul className="divide-y divide-line rounded border border-line bg-surface text-sm" data-testid="open-invites">
-                {invites.data?.invites.map((invite) => (
-                  <li key={invite.id} className="px-3 py-2">
-                    <div className="font-medium">{invite.email}</div>
-                    <div className="text-xs text-muted">
-                      {roleLabels[invite.role]} · expires {dateFormat.format(new Date(invite.expiresAt))}
-                    </div>
-                  </li>
-                ))}
-              </ul>
-            )}
-          </section>
+          <OpenInvites teamId={teamId} invites={invites.data?.invites ?? []} error={invites.error?.message ?? null} onChanged={() => queryClient.invalidateQueries({ queryKey: invitesKey })} />
         </aside>
       ) : null}
     </div>
   );
 }
 
+/** Open invitations, each with Resend (a new link, a fresh expiry) and Withdraw. */
+function OpenInvites({ teamId, invites, error, onChanged }: { teamId: string; invites: InviteRow[]; error: string | null; onChanged: () => void }) {
+  const [notice, setNotice] = useState<{ tone: "info" | "error"; text: string } | null>(null);
+  const resend = useMutation({
+    mutationFn: (invite: InviteRow) => apiFetch(`/api/teams/${teamId}/invites/${invite.id}/resend`, { method: "POST" }),
+    onMutate: () => setNotice(null),
+    onSuccess: (_data, invite) => setNotice({ tone: "info", text: `Sent again to ${invite.email} with a new link; the earlier link no longer works.` }),
+    onError: (failure) => setNotice({ tone: "error", text: failure.message }),
+    onSettled: onChanged,
+  });
+  const revoke = useMutation({
+    mutationFn: (invite: InviteRow) => apiFetch(`/api/teams/${teamId}/invites/${invite.id}`, { method: "DELETE" }),
+    onMutate: () => setNotice(null),
+    onSuccess: (_data, invite) => setNotice({ tone: "info", text: `Invitation to ${invite.email} withdrawn; its link no longer works.` }),
+    onError: (failure) => setNotice({ tone: "error", text: failure.message }),
+    onSettled: onChanged,
+  });
+  const busy = resend.isPending || revoke.isPending;
+  return (
+    <section aria-labelledby="open-invites-heading" className="space-y-2">
+      <h2 id="open-invites-heading" className="text-base font-semibold">
+        Open invitations
+      </h2>
+      {notice ? <Notice tone={notice.tone}>{notice.text}</Notice> : null}
+      {error ? <Notice tone="error">{error}</Notice> : null}
+      {invites.length === 0 ? (
+        <p className="text-sm text-muted">None. Accepted invitations move to the members list.</p>
+      ) : (
+        <ul className="divide-y divide-line rounded border border-line bg-surface text-sm" data-testid="open-invites">
+          {invites.map((invite) => (
+            <li key={invite.id} className="space-y-1.5 px-3 py-2" data-testid="open-invite">
+              <div className="break-all font-medium">{invite.email}</div>
+              <div className="text-xs text-muted">
+                {roleLabels[invite.role]} · sent {dateFormat.format(new Date(invite.sentAt))} · expires {dateFormat.format(new Date(invite.expiresAt))}
+              </div>
+              <div className="flex gap-2">
+                <Button size="sm" disabled={busy} aria-label={`Resend the invitation to ${invite.email}`} onClick={() => resend.mutate(invite)}>
+                  Resend
+                </Button>
+                <Button
+                  size="sm"
+                  variant="ghost"
+                  className="hover:text-danger"
+                  disabled={busy}
+                  aria-label={`Withdraw the invitation to ${invite.email}`}
+                  onClick={() => {
+                    if (window.confirm(`Withdraw the invitation to ${invite.email}? Its link stops working.`)) revoke.mutate(invite);
+                  }}
+                >
+                  Withdraw
+                </Button>
+              </div>
+            </li>
+          ))}
+        </ul>
+      )}
+    </section>
+  );
+}
+
 function InviteForm({ teamId, onInvited }: { teamId: string; onInvited: () => void }) {
-  const [sentTo, setSentTo] = useState<string | null>(null);
+  const [sentTo, setSentTo] = useState<{ email: string; replaced: boolean } | null>(null);
   const {
     register,
     handleSubmit,
@@ -183,9 +215,9 @@ function InviteForm({ teamId, onInvited }: { teamId: string; onInvited: () => vo
     formState: { errors },
   } = useForm<InviteMemberInput>({ resolver: zodResolver(inviteMemberSchema), defaultValues: { email: "", role: "analyst" } });
   const invite = useMutation({
-    mutationFn: (values: InviteMemberInput) => apiFetch(`/api/teams/${teamId}/invites`, { method: "POST", body: values }),
-    onSuccess: (_data, values) => {
-      setSentTo(values.email);
+    mutationFn: (values: InviteMemberInput) => apiFetch<{ replaced: number }>(`/api/teams/${teamId}/invites`, { method: "POST", body: values }),
+    onSuccess: (data, values) => {
+      setSentTo({ email: values.email, replaced: data.replaced > 0 });
       reset({ email: "", role: values.role });
       onInvited();
     },
@@ -205,7 +237,11 @@ function InviteForm({ teamId, onInvited }: { teamId: string; onInvited: () => vo
       aria-label="Invite by e-mail"
     >
       <h2 className="text-base font-semibold">Invite by e-mail</h2>
-      {sentTo ? <Notice tone="info">Invitation sent to {sentTo}.</Notice> : null}
+      {sentTo ? (
+        <Notice tone="info">
+          Invitation sent to {sentTo.email}.{sentTo.replaced ? " It replaces the earlier invitation, whose link no longer works." : ""}
+        </Notice>
+      ) : null}
       {invite.error && !(invite.error instanceof AppError && invite.error.fieldErrors?.email) ? <Notice tone="error">{invite.error.message}</Notice> : null}
       <Field label="E-mail" type="email" error={errors.email?.message} {...register("email")} />
       <SelectField label="Role" error={errors.role?.message} {...register("role")}>

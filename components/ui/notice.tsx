@@ -9,7 +9,7 @@ const tones = {
 
 export function Notice({ tone = "info", children, className }: { tone?: keyof typeof tones; children: ReactNode; className?: string }) {
   return (
-    <div role={tone === "error" ? "alert" : "status"} className={clsx("rounded border px-3 py-2 text-sm", tones[tone], className)}>
+    <div role={tone === "error" ? "alert" : "status"} className={clsx("rounded border px-3 py-2 text-sm [overflow-wrap:anywhere]", tones[tone], className)}>
       {children}
     </div>
   );

@@ -1,5 +1,19 @@
 import "server-only";
 import { returnedRow } from "./returned-row";
+import { and, asc, count, desc, eq, gt, ilike, inArray, isNotNull, isNull, lte, sql, type SQL } from "drizzle-orm";
+import { alias } from "drizzle-orm/pg-core";
+import type { DerivationDocument } from "@/lib/notebook/document";
+import { db, type Executor } from "../client";
+import {
+  derivations,
+  files,
+  simulationRuns,
+  users,
+  type Derivation,
+  type DerivationStatus,
+  type NewSimulationRun,
+  type NewStoredFile,
+} from "../schema";
 import { currentRevision, getLatestRevisionByDerivationId, lockDerivationRow } from "./revisions";
 
 /** A pause in editing this long ends a stretch of work: the state it left becomes an automatic revision. */
@@ -12,12 +26,8 @@ export type SaveContentResult =
   | { status: "missing" }
   | { status: "locked"; derivation: Derivation }
   | { status: "conflict"; derivation: Derivation };
-import { and, asc, count, desc, eq, ilike, sql, type SQL } from "drizzle-orm";
-import { alias } from "drizzle-orm/pg-core";
-import { db, type Executor } from "../client";
-import type { DerivationDocument } from "@/lib/notebook/document";
-import { derivations, users, type Derivation, type DerivationStatus } from "../schema";
 import { recordAuditEvent } from "./audit";
+import { claimIdempotencyKey, type IdempotencyClaim } from "./idempotency";
 
 export interface DerivationSummary {
   id: string;
@@ -34,6 +44,10 @@ export interface DerivationSummary {
 }
 
 const updater = alias(users, "updater");
+const deleter = alias(users, "deleter");
+
+// A derivation in the trash is gone for every reader but the trash list.
+const notTrashed = isNull(derivations.deletedAt);
 
 // Content is a notebook document (cells) or, for older rows, a model file
 // (coordinates array); count the named coordinates of either.
@@ -78,7 +92,7 @@ interface DerivationFilters {
 }
 
 function derivationFilters({ teamId, status, ownerId, search }: DerivationFilters): SQL | undefined {
-  const filters: SQL[] = [eq(derivations.teamId, teamId)];
+  const filters: SQL[] = [eq(derivations.teamId, teamId), notTrashed];
   if (status) filters.push(eq(derivations.status, status));
   if (ownerId) filters.push(eq(derivations.ownerId, ownerId));
   if (search) filters.push(ilike(derivations.title, `%${search.replace(/[\\%_]/g, (c) => `\\${c}`)}%`));
@@ -114,36 +128,60 @@ export async function countDerivationsByTeamId(filters: DerivationFilters): Prom
   return row?.total ?? 0;
 }
 
+/** A derivation that is not in the trash, with its owner's name; null when missing or trashed. */
 export async function getDerivationById({ id }: { id: string }, executor: Executor = db): Promise<(Derivation & { ownerName: string | null }) | null> {
   const [row] = await executor
     .select({ derivation: derivations, ownerName: users.name })
     .from(derivations)
     .leftJoin(users, eq(users.id, derivations.ownerId))
-    .where(eq(derivations.id, id))
+    .where(and(eq(derivations.id, id), notTrashed))
     .limit(1);
   return row ? { ...row.derivation, ownerName: row.ownerName } : null;
 }
 
+/**
+ * Creates a derivation and records it, in one transaction. With `files` and
+ * `runs` (a notebook import) their rows are written in the same transaction,
+ * their objects already stored by the caller. With `idempotency` the key is
+ * claimed in the same transaction too: a request that finds it taken rolls
+ * back and throws IdempotencyKeyTaken, so one key never makes two derivations.
+ */
 export async function createDerivation({
+  id,
   teamId,
   title,
   ownerId,
   content,
   status = "draft",
+  idempotency,
+  files: attachedFiles = [],
+  runs = [],
+  auditDetails,
 }: {
+  id?: string;
   teamId: string;
   title: string;
   ownerId: string;
   /** Validated on its way in (`validDocumentOrThrow`). */
   content: DerivationDocument;
   status?: DerivationStatus;
+  idempotency?: IdempotencyClaim;
+  files?: (Omit<NewStoredFile, "derivationId"> & { id: string })[];
+  runs?: (Omit<NewSimulationRun, "derivationId"> & { id: string })[];
+  auditDetails?: Record<string, unknown>;
 }): Promise<Derivation> {
   return db.transaction(async (tx) => {
     const derivation = returnedRow(
-      await tx.insert(derivations).values({ teamId, title: title.trim(), ownerId, updatedById: ownerId, content, status }).returning(),
+      await tx.insert(derivations).values({ ...(id ? { id } : {}), teamId, title: title.trim(), ownerId, updatedById: ownerId, content, status }).returning(),
       "derivation",
     );
-    await recordAuditEvent({ teamId, actorId: ownerId, action: "derivation.create", targetType: "derivation", targetId: derivation.id }, tx);
+    if (idempotency) await claimIdempotencyKey({ claim: idempotency, derivationId: derivation.id }, tx);
+    if (attachedFiles.length > 0) await tx.insert(files).values(attachedFiles.map((file) => ({ ...file, derivationId: derivation.id })));
+    if (runs.length > 0) await tx.insert(simulationRuns).values(runs.map((run) => ({ ...run, derivationId: derivation.id })));
+    await recordAuditEvent(
+      { teamId, actorId: ownerId, action: "derivation.create", targetType: "derivation", targetId: derivation.id, ...(auditDetails ? { details: auditDetails } : {}) },
+      tx,
+    );
     return derivation;
   });
 }
@@ -181,15 +219,125 @@ export async function updateDerivationById({
   });
 }
 
-export async function deleteDerivationById({ id, actorId }: { id: string; actorId: string }): Promise<void> {
-  await db.transaction(async (tx) => {
-    const [deleted] = await tx.delete(derivations).where(eq(derivations.id, id)).returning({ teamId: derivations.teamId, title: derivations.title });
-    if (deleted) {
-      await recordAuditEvent(
-        { teamId: deleted.teamId, actorId, action: "derivation.delete", targetType: "derivation", targetId: id, details: { title: deleted.title } },
-        tx,
-      );
+export interface TrashedDerivationSummary {
+  id: string;
+  teamId: string;
+  title: string;
+  status: DerivationStatus;
+  ownerId: string | null;
+  ownerName: string | null;
+  deletedAt: Date;
+  deletedById: string | null;
+  deletedByName: string | null;
+}
+
+/** A team's trash, most recently deleted first: derivations deleted after `deletedAfter`. */
+export async function getTrashedDerivationsByTeamId({ teamId, deletedAfter }: { teamId: string; deletedAfter: Date }): Promise<TrashedDerivationSummary[]> {
+  const rows = await db
+    .select({
+      id: derivations.id,
+      teamId: derivations.teamId,
+      title: derivations.title,
+      status: derivations.status,
+      ownerId: derivations.ownerId,
+      ownerName: users.name,
+      deletedAt: derivations.deletedAt,
+      deletedById: derivations.deletedById,
+      deletedByName: deleter.name,
+    })
+    .from(derivations)
+    .leftJoin(users, eq(users.id, derivations.ownerId))
+    .leftJoin(deleter, eq(deleter.id, derivations.deletedById))
+    .where(and(eq(derivations.teamId, teamId), isNotNull(derivations.deletedAt), gt(derivations.deletedAt, deletedAfter)))
+    .orderBy(desc(derivations.deletedAt), asc(derivations.id));
+  return rows.map((row) => ({ ...row, deletedAt: row.deletedAt! }));
+}
+
+/** A derivation in the trash (deleted after `deletedAfter`), with its owner's name; null otherwise. */
+export async function getTrashedDerivationById({ id, deletedAfter }: { id: string; deletedAfter: Date }): Promise<(Derivation & { ownerName: string | null }) | null> {
+  const [row] = await db
+    .select({ derivation: derivations, ownerName: users.name })
+    .from(derivations)
+    .leftJoin(users, eq(users.id, derivations.ownerId))
+    .where(and(eq(derivations.id, id), isNotNull(derivations.deletedAt), gt(derivations.deletedAt, deletedAfter)))
+    .limit(1);
+  return row ? { ...row.derivation, ownerName: row.ownerName } : null;
+}
+
+/** Moves a derivation to its team's trash; null when it is missing or already there. */
+export async function trashDerivationById({ id, actorId }: { id: string; actorId: string }): Promise<Derivation | null> {
+  return db.transaction(async (tx) => {
+    const now = new Date();
+    const [trashed] = await tx
+      .update(derivations)
+      .set({ deletedAt: now, deletedById: actorId, updatedAt: now })
+      .where(and(eq(derivations.id, id), notTrashed))
+      .returning();
+    if (!trashed) return null;
+    await recordAuditEvent(
+      { teamId: trashed.teamId, actorId, action: "derivation.delete", targetType: "derivation", targetId: id, details: { title: trashed.title, to: "trash" } },
+      tx,
+    );
+    return trashed;
+  });
+}
+
+/** Takes a derivation out of the trash (if it was deleted after `deletedAfter`); null otherwise. */
+export async function restoreDerivationById({ id, actorId, deletedAfter }: { id: string; actorId: string; deletedAfter: Date }): Promise<Derivation | null> {
+  return db.transaction(async (tx) => {
+    const [restored] = await tx
+      .update(derivations)
+      .set({ deletedAt: null, deletedById: null, updatedAt: new Date() })
+      .where(and(eq(derivations.id, id), isNotNull(derivations.deletedAt), gt(derivations.deletedAt, deletedAfter)))
+      .returning();
+    if (!restored) return null;
+    await recordAuditEvent(
+      { teamId: restored.teamId, actorId, action: "derivation.restore", targetType: "derivation", targetId: id, details: { title: restored.title } },
+      tx,
+    );
+    return restored;
+  });
+}
+
+/**
+ * Removes trashed derivations of a team for good: those in `ids`, or every one
+ * deleted at or before `deletedUpTo`, or both conditions together. Live derivations
+ * are never touched. Files and runs go with their derivation (cascade); the
+ * object keys they held are returned so the caller can delete the objects
+ * once the rows are gone.
+ */
+export async function purgeTrashedDerivations({
+  teamId,
+  ids,
+  deletedUpTo,
+  actorId,
+  reason,
+}: {
+  teamId: string;
+  ids?: string[];
+  deletedUpTo?: Date;
+  actorId: string | null;
+  reason: "expired" | "requested";
+}): Promise<{ purged: { id: string; title: string }[]; objectKeys: string[] }> {
+  if (ids?.length === 0) return { purged: [], objectKeys: [] };
+  return db.transaction(async (tx) => {
+    const conditions: SQL[] = [eq(derivations.teamId, teamId), isNotNull(derivations.deletedAt)];
+    if (ids) conditions.push(inArray(derivations.id, ids));
+    if (deletedUpTo) conditions.push(lte(derivations.deletedAt, deletedUpTo));
+    // Lock the rows first so a concurrent restore either wins before this or finds nothing.
+    const doomed = await tx.select({ id: derivations.id }).from(derivations).where(and(...conditions)).for("update");
+    if (doomed.length === 0) return { purged: [], objectKeys: [] };
+    const doomedIds = doomed.map((row) => row.id);
+    const fileKeys = await tx.select({ key: files.objectKey }).from(files).where(inArray(files.derivationId, doomedIds));
+    const runKeys = await tx
+      .select({ key: simulationRuns.trajectoryKey })
+      .from(simulationRuns)
+      .where(and(inArray(simulationRuns.derivationId, doomedIds), isNotNull(simulationRuns.trajectoryKey)));
+    const purged = await tx.delete(derivations).where(inArray(derivations.id, doomedIds)).returning({ id: derivations.id, title: derivations.title });
+    for (const row of purged) {
+      await recordAuditEvent({ teamId, actorId, action: "derivation.purge", targetType: "derivation", targetId: row.id, details: { title: row.title, reason } }, tx);
     }
+    return { purged, objectKeys: [...fileKeys.map((row) => row.key), ...runKeys.flatMap((row) => (row.key ? [row.key] : []))] };
   });
 }
 

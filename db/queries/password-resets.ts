@@ -1,7 +1,7 @@
 import "server-only";
 import { and, eq, gt, isNull } from "drizzle-orm";
-import { AppError } from "@/lib/errors";
 import { db } from "../client";
+import { ConflictError } from "../errors";
 import { passwordResetTokens, users } from "../schema";
 import { recordAuditEvent } from "./audit";
 
@@ -49,7 +49,7 @@ export async function resetPasswordByTokenHash({
       .for("update")
       .limit(1);
     if (!token || token.usedAt || token.expiresAt.getTime() <= Date.now()) {
-      throw new AppError("conflict:password_reset", "This reset link has expired or was already used. Ask for a new one.");
+      throw new ConflictError("password_reset", "This reset link has expired or was already used. Ask for a new one.");
     }
     const now = new Date();
     await tx.update(passwordResetTokens).set({ usedAt: now, updatedAt: now }).where(eq(passwordResetTokens.id, token.id));

@@ -115,6 +115,27 @@ export async function setRevisionResultsById({ id, results }: { id: string; resu
   await executor.update(revisions).set({ results, updatedAt: new Date() }).where(eq(revisions.id, id));
 }
 
+/**
+ * Adds to a revision's stored results without losing what other readers stored:
+ * top-level keys are merged, and objects under the same key are merged one level
+ * down, so two requests filling in different entries (code in C, code in Python)
+ * both keep theirs.
+ */
+export async function mergeRevisionResultsById({ id, results }: { id: string; results: Record<string, unknown> }, executor: Executor = db): Promise<void> {
+  await executor
+    .update(revisions)
+    .set({
+      results: sql`coalesce(${revisions.results}, '{}'::jsonb) || (
+        select coalesce(jsonb_object_agg(entry.key, case
+          when jsonb_typeof(${revisions.results} -> entry.key) = 'object' and jsonb_typeof(entry.value) = 'object'
+          then (${revisions.results} -> entry.key) || entry.value
+          else entry.value end), '{}'::jsonb)
+        from jsonb_each(${JSON.stringify(results)}::jsonb) as entry)`,
+      updatedAt: new Date(),
+    })
+    .where(eq(revisions.id, id));
+}
+
 export type HistoryRefusal = { ok: false; reason: "missing" } | { ok: false; reason: "locked" } | { ok: false; reason: "no_revision" };
 
 /** Names the current content as a checkpoint (a new revision, even when the content matches the latest). */

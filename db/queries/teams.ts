@@ -1,8 +1,8 @@
 import "server-only";
 import { returnedRow } from "./returned-row";
 import { and, asc, count, eq, sql } from "drizzle-orm";
-import { AppError } from "@/lib/errors";
 import { db, type Executor } from "../client";
+import { ConflictError, NotFoundError } from "../errors";
 import { memberships, teams, users, type MemberRole, type Membership, type Team } from "../schema";
 import { recordAuditEvent } from "./audit";
 
@@ -149,9 +149,9 @@ export async function updateMemberRoleByTeamIdAndUserId({
   return db.transaction(async (tx) => {
     const leads = await lockLeadCount(tx, teamId);
     const current = await getMembershipByTeamIdAndUserId({ teamId, userId }, tx);
-    if (!current) throw new AppError("not_found:member", "That person is not a member of this team.");
+    if (!current) throw new NotFoundError("member", "That person is not a member of this team.");
     if (current.role === "lead" && role !== "lead" && leads <= 1) {
-      throw new AppError("conflict:member", "A team needs at least one lead. Make someone else lead first.");
+      throw new ConflictError("member", "A team needs at least one lead. Make someone else lead first.");
     }
     const updated = returnedRow(
       await tx.update(memberships).set({ role, updatedAt: new Date() }).where(eq(memberships.id, current.id)).returning(),
@@ -178,9 +178,9 @@ export async function deleteMembershipByTeamIdAndUserId({
   await db.transaction(async (tx) => {
     const leads = await lockLeadCount(tx, teamId);
     const current = await getMembershipByTeamIdAndUserId({ teamId, userId }, tx);
-    if (!current) throw new AppError("not_found:member", "That person is not a member of this team.");
+    if (!current) throw new NotFoundError("member", "That person is not a member of this team.");
     if (current.role === "lead" && leads <= 1) {
-      throw new AppError("conflict:member", "A team needs at least one lead. Make someone else lead first.");
+      throw new ConflictError("member", "A team needs at least one lead. Make someone else lead first.");
     }
     await tx.delete(memberships).where(eq(memberships.id, current.id));
     await recordAuditEvent({ teamId, actorId, action: "member.remove", targetType: "user", targetId: userId, details: { role: current.role } }, tx);

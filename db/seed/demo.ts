@@ -8,6 +8,14 @@ import { createCell, modelToDocument, type Cell, type DerivationDocument, type S
 export const demoPassword = "kestrel-demo-2041";
 export const demoTeam = { name: "Kestrel Lift & Motion", slug: "kestrel-lift-motion" };
 
+/**
+ * The demo team's read-only API token, fixed so the README can show the curl line
+ * a firmware build uses. Only its hash is stored, as for any token. It is public:
+ * never seed the demo team on a server that holds real work.
+ */
+export const demoApiToken = "hol_KestrelDemoReadOnlyToken_not-for-production";
+export const demoApiTokenName = "Demo firmware build (read-only)";
+
 export const demoUsers: { email: string; name: string; role: MemberRole }[] = [
   { email: "lead@demo.holonomy.test", name: "Ines Marlow", role: "lead" },
   { email: "analyst@demo.holonomy.test", name: "Tomas Reyes", role: "analyst" },
@@ -101,7 +109,9 @@ const seatSuspension: Model = {
 /**
  * The demo derivations. Content is stored as any version of the document may
  * be, so the last one is a pre-notebook model file; scripts/seed.ts writes each
- * through the same validation (and migration) as the API.
+ * through the same validation (and migration) as the API. An "approved" one is
+ * approved through the real flow: the analyst's changes, a review request, the
+ * reviewer's sign-off and the lead's approval.
  */
 export const demoDerivations: { title: string; status: DerivationStatus; owner: string; content: StoredDocument }[] = [
   {

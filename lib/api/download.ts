@@ -1,7 +1,6 @@
-/** A file name from a derivation title: lower case, words joined by "-". */
-export function fileBaseName(title: string): string {
-  return title.toLowerCase().replace(/[^a-z0-9]+/g, "-").replace(/^-+|-+$/g, "").slice(0, 80) || "derivation";
-}
+import { contentDisposition } from "@/lib/files/names";
+
+export { fileBaseName } from "@/lib/files/names";
 
 /** A download response with the given type and file name. */
 export function downloadResponse(body: string, { filename, contentType }: { filename: string; contentType: string }): Response {
@@ -9,7 +8,8 @@ export function downloadResponse(body: string, { filename, contentType }: { file
     status: 200,
     headers: {
       "content-type": `${contentType}; charset=utf-8`,
-      "content-disposition": `attachment; filename="${filename.replace(/["\\\r\n]/g, "")}"`,
+      "content-disposition": contentDisposition("attachment", filename),
+      "x-content-type-options": "nosniff",
       "cache-control": "no-store",
     },
   });

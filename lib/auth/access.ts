@@ -1,8 +1,10 @@
 import "server-only";
-import { getDerivationById } from "@/db/queries/derivations";
+import { getDerivationById, getTrashedDerivationById } from "@/db/queries/derivations";
 import { getMembershipByTeamIdAndUserId, getTeamById } from "@/db/queries/teams";
+import { NotFoundError } from "@/db/errors";
 import type { Derivation, Membership, Team } from "@/db/schema";
 import { notFound } from "next/navigation";
+import { trashCutoff } from "@/lib/derivations/trash";
 import { AppError, type ErrorSurface } from "@/lib/errors";
 import { assertCan, type Action } from "./permissions";
 import type { SessionUser } from "./session";
@@ -48,7 +50,22 @@ export async function loadDerivationFor(user: SessionUser, derivationId: string,
     ? await getMembershipByTeamIdAndUserId({ teamId: derivation.teamId, userId: user.id })
     : null;
   if (!derivation || !membership) throw new AppError("not_found:derivation", "Derivation not found.");
-  assertCan(membership.role, action, { status: derivation.status, locked: derivation.lockedAt !== null });
+  assertCan(membership.role, action, { status: derivation.status, locked: derivation.lockedAt !== null, isOwner: derivation.ownerId === user.id });
+  return { derivation, membership };
+}
+
+/**
+ * Like loadDerivationFor, for a derivation in the trash of team `teamId` (the
+ * only place a trashed derivation can be named). Anything else, including a
+ * live derivation or one whose time in the trash has run out, is a 404.
+ */
+export async function loadTrashedDerivationFor(user: SessionUser, teamId: string, derivationId: string, action: Action): Promise<DerivationAccess> {
+  if (!uuidPattern.test(teamId) || !uuidPattern.test(derivationId)) throw new AppError("not_found:derivation", "Derivation not found in the trash.");
+  const derivation = await getTrashedDerivationById({ id: derivationId, deletedAfter: trashCutoff() });
+  const membership =
+    derivation && derivation.teamId === teamId ? await getMembershipByTeamIdAndUserId({ teamId: derivation.teamId, userId: user.id }) : null;
+  if (!derivation || !membership) throw new AppError("not_found:derivation", "Derivation not found in the trash.");
+  assertCan(membership.role, action, { status: derivation.status, isOwner: derivation.ownerId === user.id });
   return { derivation, membership };
 }
 
@@ -61,6 +78,7 @@ export async function orNotFound<T>(load: () => Promise<T>): Promise<T> {
     return await load();
   } catch (error) {
     if (error instanceof AppError && (error.kind === "not_found" || error.kind === "bad_request")) notFound();
+    if (error instanceof NotFoundError) notFound();
     throw error;
   }
 }

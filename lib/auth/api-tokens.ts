@@ -13,6 +13,11 @@ export const API_TOKEN_PREFIX = "hol_";
 /** Characters of the token kept in clear (with the prefix) to tell tokens apart in lists. */
 const SHOWN_CHARACTERS = 8;
 
+/** The characters of a token kept in clear, to tell tokens apart in lists and the audit log. */
+export function apiTokenPrefix(secret: string): string {
+  return secret.slice(0, API_TOKEN_PREFIX.length + SHOWN_CHARACTERS);
+}
+
 /** Creates a token for the team; the returned `secret` is shown once and never stored. */
 export async function issueApiToken({
   teamId,
@@ -32,7 +37,7 @@ export async function issueApiToken({
     teamId,
     name,
     tokenHash: hashToken(secret),
-    prefix: secret.slice(0, API_TOKEN_PREFIX.length + SHOWN_CHARACTERS),
+    prefix: apiTokenPrefix(secret),
     createdById,
     expiresAt,
   });

@@ -15,6 +15,9 @@ export const actions = [
   "derivation:edit",
   "derivation:rename",
   "derivation:delete",
+  "derivation:read-trash",
+  "derivation:restore",
+  "derivation:purge",
   "derivation:comment",
   "derivation:approve",
   "derivation:lock",
@@ -31,6 +34,8 @@ export interface ResourceContext {
   status?: DerivationStatus;
   /** Whether the derivation is approved and locked (then nothing may change it until a lead unlocks it). */
   locked?: boolean;
+  /** Whether the member asking owns the derivation (unknown counts as no). */
+  isOwner?: boolean;
 }
 
 /**
@@ -54,6 +59,10 @@ type Rule = boolean | ((resource: ResourceContext | undefined) => boolean);
 // An approved derivation is frozen for analysts; only a lead may change it
 // (for instance to reopen it). Rules as data: one row per action.
 const notApproved: Rule = (resource) => resource?.status !== "approved";
+// Deleting a colleague's work is a lead's decision; an analyst deletes (and
+// restores) only derivations they own.
+const ownNotApproved: Rule = (resource) => resource?.isOwner === true && resource.status !== "approved";
+const own: Rule = (resource) => resource?.isOwner === true;
 
 const rules: Record<Action, Record<MemberRole, Rule>> = {
   "team:read": { lead: true, analyst: true, reviewer: true, viewer: true },
@@ -67,7 +76,12 @@ const rules: Record<Action, Record<MemberRole, Rule>> = {
   "derivation:create": { lead: true, analyst: true, reviewer: false, viewer: false },
   "derivation:edit": { lead: true, analyst: notApproved, reviewer: false, viewer: false },
   "derivation:rename": { lead: true, analyst: notApproved, reviewer: false, viewer: false },
-  "derivation:delete": { lead: true, analyst: notApproved, reviewer: false, viewer: false },
+  // Deleting moves the derivation to the team's trash (restorable for TRASH_RETENTION_DAYS).
+  "derivation:delete": { lead: true, analyst: ownNotApproved, reviewer: false, viewer: false },
+  "derivation:read-trash": { lead: true, analyst: true, reviewer: false, viewer: false },
+  "derivation:restore": { lead: true, analyst: own, reviewer: false, viewer: false },
+  // Removing from the trash before the retention period ends cannot be undone.
+  "derivation:purge": { lead: true, analyst: false, reviewer: false, viewer: false },
   "derivation:comment": { lead: true, analyst: true, reviewer: true, viewer: false },
   "derivation:approve": { lead: true, analyst: false, reviewer: false, viewer: false },
   "derivation:lock": { lead: true, analyst: false, reviewer: false, viewer: false },
@@ -96,7 +110,7 @@ export function can(role: MemberRole | null | undefined, action: Action, resourc
 export function assertCan(role: MemberRole | null | undefined, action: Action, resource?: ResourceContext): void {
   if (!can(role, action, resource)) {
     // The lock is the reason when the role could make this change to an unlocked draft.
-    if (resource?.locked && writeActions.has(action) && can(role, action, { status: "draft", locked: false })) {
+    if (resource?.locked && writeActions.has(action) && can(role, action, { ...resource, status: "draft", locked: false })) {
       throw new AppError("locked:derivation", "This derivation is approved and locked. A lead can unlock it, giving a reason.");
     }
     const surface = action.split(":")[0] as ErrorSurface;

@@ -57,6 +57,24 @@ export function modelErrorToAppError(error: ModelError): AppError {
   });
 }
 
+/**
+ * Every problem of a refused model file in one 422: the message counts them,
+ * `fieldErrors` lists each under its field (with the column inside an
+ * expression), `details.diagnostics` carries them for editors.
+ */
+export function modelIssuesToAppError(issues: readonly ModelError[]): AppError {
+  if (issues.length === 1) return modelErrorToAppError(issues[0]!);
+  const fieldErrors: Record<string, string[]> = {};
+  for (const issue of issues) {
+    const reason = issue.column === null ? issue.message : `column ${issue.column}: ${issue.message}`;
+    (fieldErrors[issue.field] ??= []).push(reason);
+  }
+  return new AppError("unprocessable:model", `The file has ${issues.length} problems.`, {
+    fieldErrors,
+    details: { diagnostics: issues.map((issue) => issue.toJSON()) },
+  });
+}
+
 /** The model file of a document; a value that is not a number is a 422 naming its field. */
 export function modelFromDocument(doc: DerivationDocument): Model {
   try {

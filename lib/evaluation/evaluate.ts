@@ -6,14 +6,17 @@
  * route and the demo seed can cache them in PostgreSQL.
  */
 import { createHash } from "node:crypto";
+import { fileBaseName } from "@/lib/files/names";
 import type { CodeExportInput, CodeLanguage } from "@/lib/mechanics/codegen";
-import type { DerivationResult } from "@/lib/mechanics/derive";
+import type { MassMatrixSystem } from "@/lib/mechanics/compile";
 import type { Equilibrium } from "@/lib/mechanics/equilibria";
-import { symbolLatex, toLatex, type LatexTerm } from "@/lib/mechanics/latex";
-import type { Linearization, MechanicalSystem } from "@/lib/mechanics/linearize";
+import { symbolLatex, type LatexTerm } from "@/lib/mechanics/latex";
+import { matchEigenvalues, type Linearization } from "@/lib/mechanics/linearize";
+import { stabilityTolerance } from "@/lib/mechanics/stability";
 import type { Model } from "@/lib/mechanics/model";
+import type { PrintedDerivation } from "@/lib/mechanics/print";
 import type { CodeExportLanguage, DerivationDocument, LinearizationCell } from "@/lib/notebook/document";
-import type { NotebookResults } from "@/lib/notebook/results";
+import type { ModeView, NotebookResults } from "@/lib/notebook/results";
 
 /** Anything that runs the engine's named tasks: the server's EnginePool, or an in-process stand-in. */
 export interface EngineRunner {
@@ -48,15 +51,12 @@ export interface EvaluationResult extends NotebookResults {
   /** M and f in the input syntax (residual = M q'' − f), for code export and the API. */
   massMatrix: string[][];
   forcing: string[];
+  /** Coordinates neither M nor f contains (the engine's freeCoordinates): relinearizing a stored result keeps one equilibrium per continuum. */
+  freeCoordinates?: string[];
   /** Why there is no linearization (symbolic parameters, no equilibrium found…); absent when there is one. */
   linearizationNote?: string;
   equilibria?: (Equilibrium & { label: string })[];
 }
-
-/** The largest system whose accelerations are written out symbolically (Cramer's rule). */
-export const MAX_SOLVED_ACCELERATIONS = 2;
-/** Longest acceleration text shown; a longer one would not be readable. */
-const MAX_ACCELERATION_TEXT = 4000;
 
 const CODE_LANGUAGE_OF: Record<CodeExportLanguage, CodeLanguage> = {
   python: "python",
@@ -73,7 +73,7 @@ export function engineCodeLanguage(language: CodeExportLanguage | CodeLanguage):
 }
 
 export function codeFileName(title: string, language: CodeLanguage): string {
-  const base = title.toLowerCase().replace(/[^a-z0-9]+/g, "_").replace(/^_+|_+$/g, "").slice(0, 60) || "model";
+  const base = fileBaseName(title, { separator: "_", fallback: "model", maxLength: 60 });
   return `${base}.${CODE_EXTENSION[language]}`;
 }
 
@@ -138,40 +138,29 @@ function numberOrZero(value: string | number | undefined): number {
   return Number.isFinite(parsed) ? parsed : Number.NaN;
 }
 
-const wrap = (text: string) => `(${text})`;
-
-/**
- * q'' written out by Cramer's rule for one or two coordinates (M q'' = f), or
- * null when the system is larger or the result too long to read.
- */
-export function solvedAccelerations(result: DerivationResult): { coordinate: string; expr: string }[] | null {
-  const n = result.coordinates.length;
-  const M = result.massMatrix.map((row) => row.map(wrap));
-  const f = result.forcing.map(wrap);
-  let exprs: string[];
-  if (n === 1) exprs = [`${f[0]}/${M[0]![0]}`];
-  else if (n === 2) {
-    const det = `(${M[0]![0]}*${M[1]![1]} - ${M[0]![1]}*${M[1]![0]})`;
-    exprs = [`(${M[1]![1]}*${f[0]} - ${M[0]![1]}*${f[1]})/${det}`, `(${M[0]![0]}*${f[1]} - ${M[1]![0]}*${f[0]})/${det}`];
-  } else return null;
-  if (exprs.some((e) => e.length > MAX_ACCELERATION_TEXT)) return null;
-  return exprs.map((expr, i) => ({ coordinate: result.coordinates[i]!, expr }));
-}
-
 function bmatrix(rows: string[][]): string {
   return `\\begin{bmatrix}${rows.map((row) => row.join(" & ")).join(" \\\\ ")}\\end{bmatrix}`;
 }
 
 /** M(q) q'' = f as one LaTeX display. */
-export function massMatrixLatex(result: DerivationResult): string {
-  const mass = bmatrix(result.massMatrix.map((row) => row.map((entry) => toLatex(entry))));
+export function massMatrixLatex(result: Pick<PrintedDerivation, "coordinates" | "latex">): string {
+  const mass = bmatrix(result.latex.massMatrix);
   const accelerations = bmatrix(result.coordinates.map((name) => [symbolLatex(name, 2)]));
-  const forcing = bmatrix(result.forcing.map((entry) => [toLatex(entry)]));
+  const forcing = bmatrix(result.latex.forcing.map((entry) => [entry]));
   return `${mass}${accelerations} = ${forcing}`;
 }
 
+/** q'' written out where the engine solved M q'' = f in closed form, or its plain reason why not. */
+export function accelerationsView(result: Pick<PrintedDerivation, "accelerations">): Pick<NotebookResults, "accelerations" | "accelerationsNote"> {
+  const solved = result.accelerations;
+  if (!Array.isArray(solved)) {
+    return { accelerationsNote: `No closed form for the accelerations: ${solved.reason}. The mass-matrix form and the code export hold the full equations.` };
+  }
+  return { accelerations: solved.map(({ coordinate, latex }) => ({ coordinate, latex: `${symbolLatex(coordinate, 2)} = ${latex}` })) };
+}
+
 /** The system with numbers for the parameters, or the reason there is none. */
-export function mechanicalSystemOf(model: Model, result: Pick<DerivationResult, "coordinates" | "massMatrix" | "forcing">): MechanicalSystem | { reason: string } {
+export function mechanicalSystemOf(model: Model, result: Pick<PrintedDerivation, "coordinates" | "massMatrix" | "forcing">): MassMatrixSystem | { reason: string } {
   const symbolic = model.parameters.filter((p) => p.value === undefined).map((p) => p.name);
   if (symbolic.length > 0) return { reason: `Give ${symbolic.join(", ")} a value to find equilibria and linearize.` };
   return {
@@ -186,16 +175,13 @@ export function mechanicalSystemOf(model: Model, result: Pick<DerivationResult, 
 
 /**
  * A coordinate that appears in neither M nor f (a trolley position, a pan
- * angle) leaves every equilibrium one of a continuum; the search reports many
- * copies. Keep one per distinct value of the other coordinates, with the free
- * ones at 0, and round search noise (|q| < 1e-9) to 0.
+ * angle; the engine reports them as `freeCoordinates`) leaves every
+ * equilibrium one of a continuum; the search reports many copies. Keep one
+ * per distinct value of the other coordinates, with the free ones at 0, and
+ * round search noise (|q| < 1e-9) to 0.
  */
-export function distinctEquilibria(system: MechanicalSystem, found: readonly Equilibrium[]): Equilibrium[] {
-  const texts = [...system.massMatrix.flat(), ...system.forcing];
-  const free = system.coordinates.map((name) => {
-    const position = new RegExp(`(^|[^A-Za-z0-9_])${name}(?![A-Za-z0-9_'])`);
-    return !texts.some((text) => position.test(text));
-  });
+export function distinctEquilibria(coordinates: readonly string[], freeCoordinates: readonly string[], found: readonly Equilibrium[]): Equilibrium[] {
+  const free = coordinates.map((name) => freeCoordinates.includes(name));
   const seen = new Set<string>();
   const kept: Equilibrium[] = [];
   for (const equilibrium of found) {
@@ -216,20 +202,25 @@ function equilibriumLabel(names: readonly string[], q: readonly number[], stabil
 /** Equilibria, then the linearization about the chosen one, with frequencies and mode shapes. */
 export async function analyseSystem(
   runner: EngineRunner,
-  system: MechanicalSystem,
+  system: MassMatrixSystem,
   settings: LinearizationSettings,
+  freeCoordinates: readonly string[] = [],
 ): Promise<{ linearization?: NotebookResults["linearization"]; equilibria: (Equilibrium & { label: string })[]; note?: string }> {
   const inputValues = (system.inputs ?? []).map((name) => numberOrZero(settings.inputValues[name]));
   const badInput = (system.inputs ?? []).find((_, i) => Number.isNaN(inputValues[i]!));
   if (badInput) return { equilibria: [], note: `The value of input ${badInput} is not a number.` };
   const found = await runner.run<Equilibrium[]>("equilibria", { system, options: { inputs: inputValues } });
-  const equilibria = distinctEquilibria(system, found).map((e) => ({ ...e, label: equilibriumLabel(system.coordinates, e.q, e.stability) }));
+  const equilibria = distinctEquilibria(system.coordinates, freeCoordinates, found).map((e) => ({ ...e, label: equilibriumLabel(system.coordinates, e.q, e.stability) }));
   const listed = equilibria.map((e) => ({ label: e.label, values: Object.fromEntries(system.coordinates.map((name, i) => [name, e.q[i]!])) }));
   if (equilibria.length === 0) return { equilibria, linearization: { equilibria: listed }, note: "No equilibrium was found for these parameter and input values." };
   const index = Math.min(Math.max(0, settings.equilibriumIndex), equilibria.length - 1);
   const chosen = equilibria[index]!;
   const lin = await runner.run<Linearization>("linearize", { system, point: { q: chosen.q, inputs: inputValues } });
-  const oscillating = lin.modes.filter((mode) => mode.hertz !== null);
+  // The verdict is the equilibrium's own (classifyStability), so the list and the cell always agree.
+  // Eigenvalue parts within the rule's tolerance of 0 are shown as 0, as the rule reads them.
+  const tolerance = stabilityTolerance(lin.A);
+  const rounded = (l: { re: number; im: number }) => ({ re: Math.abs(l.re) <= tolerance ? 0 : l.re, im: Math.abs(l.im) <= tolerance ? 0 : l.im });
+  const damped = matchEigenvalues(lin.modes, lin.eigenvalues);
   return {
     equilibria,
     linearization: {
@@ -238,19 +229,59 @@ export async function analyseSystem(
         index,
         stateNames: lin.state,
         inputNames: lin.inputs,
-        A: lin.A,
-        B: lin.B,
-        frequenciesHz: oscillating.map((mode) => mode.hertz!),
-        // Columns are modes, rows are coordinates.
-        modeShapes: system.coordinates.map((_, i) => oscillating.map((mode) => mode.shape[i]!)),
-        stable: chosen.stability === "stable",
+        A: withoutRoundingNoise(lin.A, system.coordinates.length),
+        B: withoutRoundingNoise(lin.B, system.coordinates.length),
+        modes: lin.modes.map(
+          (mode, k): ModeView => ({ kind: mode.kind, hertz: mode.hertz, growthRate: mode.growthRate, shape: mode.shape, eigenvalue: damped[k] ? rounded(damped[k]) : null }),
+        ),
+        eigenvalues: lin.eigenvalues.map(rounded),
+        stability: chosen.stability,
+        stabilityReason: chosen.stabilityReason,
       },
     },
   };
 }
 
+/** Relative size below which a matrix entry is rounding noise (a few ulps of the block it sits in). */
+export const ROUNDING_NOISE = 1e-12;
+
+/**
+ * A state or input matrix with rounding noise written as 0: an entry whose
+ * size is at most ROUNDING_NOISE × the largest entry of its block. Blocks
+ * follow the units: the rows of q' (the first `n`) apart from the rows of q'',
+ * and within those the columns of q, of q' (A) or of each input (B), so a
+ * small damping entry is never judged against a large stiffness one.
+ *
+ * @example withoutRoundingNoise([[0, 1], [-4, 3.67e-15]], 1) // [[0, 1], [-4, 0]] only if 3.67e-15 is noise next to its block
+ */
+export function withoutRoundingNoise(matrix: readonly (readonly number[])[], n: number): number[][] {
+  const columns = matrix[0]?.length ?? 0;
+  // A has two column blocks (q, q'); B one block per input column.
+  const blockOf = (j: number) => (columns === 2 * n ? (j < n ? 0 : 1) : j);
+  const rowBlock = (i: number) => (i < n ? 0 : 1);
+  const largest = new Map<string, number>();
+  matrix.forEach((row, i) =>
+    row.forEach((value, j) => {
+      const key = `${rowBlock(i)},${blockOf(j)}`;
+      largest.set(key, Math.max(largest.get(key) ?? 0, Math.abs(value)));
+    }),
+  );
+  return matrix.map((row, i) => row.map((value, j) => (Math.abs(value) <= ROUNDING_NOISE * largest.get(`${rowBlock(i)},${blockOf(j)}`)! ? 0 : value)));
+}
+
+/** What keeps the energy function from being conserved, in words (deriveModel's condition, spelled out). */
+export function energyNotConservedReason(model: Model, derived: Pick<PrintedDerivation, "explicitTime">): string {
+  const forced = Object.entries(model.forces ?? {}).filter(([, text]) => text.trim() !== "" && text.trim() !== "0");
+  const reasons = [
+    ...(derived.explicitTime ? ["the Lagrangian depends on t explicitly"] : []),
+    ...(!["", "0"].includes((model.dissipation ?? "").trim()) ? ["the dissipation function removes energy"] : []),
+    ...(forced.length > 0 ? [`applied forces act (${forced.map(([coordinate, text]) => `${text.trim()} on ${coordinate}`).join(", ")})`] : []),
+  ];
+  return reasons.length > 0 ? reasons.join("; ") : "the derivation found a non-conservative term";
+}
+
 /** The code-export input for a derivation result. */
-export function codeExportInput(model: Model, result: Pick<DerivationResult, "coordinates" | "massMatrix" | "forcing">): CodeExportInput {
+export function codeExportInput(model: Model, result: Pick<PrintedDerivation, "coordinates" | "massMatrix" | "forcing">): CodeExportInput {
   return {
     title: model.title,
     coordinates: result.coordinates,
@@ -267,23 +298,32 @@ export function codeExportInput(model: Model, result: Pick<DerivationResult, "co
  */
 export async function evaluateModel(runner: EngineRunner, model: Model, settings: EvaluationSettings): Promise<{ result: EvaluationResult; timings: EvaluationTimings }> {
   const started = performance.now();
-  const derived = await runner.run<DerivationResult>("derive", { model });
+  // The worker prints the derivation as it leaves the engine: text for M and f, LaTeX of the display forms.
+  const derived = await runner.run<PrintedDerivation>("derive", { model });
   const afterDerive = performance.now();
 
-  const rendered = await runner.run<{ latex: string; terms: LatexTerm[] }[]>("latex", { expressions: derived.equations.map((e) => e.residual) });
-  const equations = derived.equations.map((equation, i) => ({
+  const equations = derived.equations.map((equation) => ({
     coordinate: equation.coordinate,
     residual: equation.residual,
-    latex: `${rendered[i]!.latex} = 0`,
-    terms: rendered[i]!.terms,
+    latex: `${equation.termLatex} = 0`,
+    terms: equation.terms,
   }));
-  const solved = solvedAccelerations(derived);
-  const accelerations = solved?.map(({ coordinate, expr }) => ({ coordinate, latex: `${symbolLatex(coordinate, 2)} = ${toLatex(expr)}` }));
-  const conserved = derived.conserved.map((quantity) => ({ name: quantity.name, latex: toLatex(quantity.expr), reason: quantity.reason }));
+  const conserved = derived.conserved.map((quantity) => ({ name: quantity.name, latex: quantity.latex, reason: quantity.reason }));
+  const cyclicMomenta = derived.cyclicMomenta.map((entry) => {
+    const p = `p_{${symbolLatex(entry.coordinate, 0)}}`;
+    return {
+      coordinate: entry.coordinate,
+      conserved: entry.conserved,
+      rateLatex: `${p} = ${entry.latex.momentum},\\qquad \\dot{${p}} = ${entry.latex.rate}`,
+      actedOnBy: entry.actedOnBy,
+    };
+  });
+  const energyNotConserved = derived.conserved.some((quantity) => quantity.name === "energy function") ? undefined : energyNotConservedReason(model, derived);
   const afterLatex = performance.now();
 
   const system = mechanicalSystemOf(model, derived);
-  const analysis = "reason" in system ? { equilibria: [], note: system.reason } : await analyseSystem(runner, system, settings.linearization);
+  const analysis: Awaited<ReturnType<typeof analyseSystem>> =
+    "reason" in system ? { equilibria: [], note: system.reason } : await analyseSystem(runner, system, settings.linearization, derived.freeCoordinates);
   const afterAnalysis = performance.now();
 
   const input = codeExportInput(model, derived);
@@ -306,13 +346,14 @@ export async function evaluateModel(runner: EngineRunner, model: Model, settings
     coordinates: derived.coordinates,
     massMatrix: derived.massMatrix,
     forcing: derived.forcing,
+    freeCoordinates: derived.freeCoordinates,
     equations,
     massMatrixLatex: massMatrixLatex(derived),
-    ...(accelerations
-      ? { accelerations }
-      : { accelerationsNote: `Accelerations are written out for up to ${MAX_SOLVED_ACCELERATIONS} coordinates; use the mass-matrix form or the code export for this system.` }),
-    energyLatex: toLatex(derived.energy),
+    ...accelerationsView(derived),
+    energyLatex: derived.latex.energy,
     conserved,
+    cyclicMomenta,
+    ...(energyNotConserved ? { energyNotConserved } : {}),
     ...(analysis.linearization ? { linearization: analysis.linearization } : {}),
     ...(analysis.note ? { linearizationNote: analysis.note } : {}),
     equilibria: analysis.equilibria,
@@ -339,7 +380,7 @@ export async function relinearize(
 ): Promise<{ result: EvaluationResult; timings: Pick<EvaluationTimings, "analysisMs" | "totalMs"> }> {
   const started = performance.now();
   const system = mechanicalSystemOf(model, base);
-  const analysis = "reason" in system ? { equilibria: [], note: system.reason } : await analyseSystem(runner, system, settings);
+  const analysis = "reason" in system ? { equilibria: [], note: system.reason } : await analyseSystem(runner, system, settings, base.freeCoordinates ?? []);
   const { linearization: _linearization, linearizationNote: _note, ...rest } = base;
   const result: EvaluationResult = {
     ...rest,

@@ -3,7 +3,7 @@
  * class, amsmath), for reports. Term ids are a notebook feature, so the
  * document uses the engine's plain LaTeX.
  */
-import { symbolLatex, toLatex } from "@/lib/mechanics/latex";
+import { joinLatexTerms, symbolLatex, toLatex } from "@/lib/mechanics/latex";
 import type { Model } from "@/lib/mechanics/model";
 import { safetyNote } from "@/lib/domain";
 import type { EvaluationResult } from "./evaluate";
@@ -77,8 +77,9 @@ export function latexDocument(model: Model, result: EvaluationResult): string {
     "\\section*{Equations of motion}",
     "Residual form, $\\frac{d}{dt}\\frac{\\partial L}{\\partial \\dot q} - \\frac{\\partial L}{\\partial q} + \\frac{\\partial D}{\\partial \\dot q} - Q_q = 0$ with $L = T - V$, one equation per coordinate:",
   );
+  // The engine's LaTeX of the display form, term by term (the results hold no tree to render again).
   for (const equation of result.equations) {
-    lines.push("\\begin{equation}", `  ${toLatex(equation.residual)} = 0`, "\\end{equation}");
+    lines.push("\\begin{equation}", `  ${joinLatexTerms(equation.terms)} = 0`, "\\end{equation}");
   }
   lines.push("Mass-matrix form $M(q)\\,\\ddot q = f(q, \\dot q, t, u)$:", "\\begin{equation*}", `  ${result.massMatrixLatex ?? ""}`, "\\end{equation*}");
   if (result.accelerations && result.accelerations.length > 0) {

@@ -20,19 +20,10 @@ import {
   type LinearizationSettings,
 } from "./evaluate";
 import { getEnginePool } from "@/lib/workers/engine-pool";
+import type { EvaluationResponse } from "./views";
 import { engineVersion } from "@/lib/workers/worker-file";
 
-export interface EvaluationResponse {
-  cached: boolean;
-  modelHash: string;
-  engineVersion: string;
-  result: EvaluationResult;
-  /** Engine stages of the run that produced the result (ms). */
-  timings: Record<string, number>;
-  /** Time this request spent, cache look-up included (ms). */
-  requestMs: number;
-  evaluatedAt: string;
-}
+export type { EvaluationResponse } from "./views";
 
 /** Turns the engine's typed errors into the API's: a model problem is a 422 the editors can underline. */
 export function engineErrorToAppError(error: unknown): unknown {

@@ -1,11 +1,11 @@
 import {
-  DERIVED_EXPRESSION_LIMITS,
-  parseExpression,
+  expressionTree,
   symbolLatex,
   toLatex,
   toLatexTerms,
   topLevelTerms,
   type Expr,
+  type ExpressionSource,
   type LatexTerm,
 } from "@/lib/mechanics";
 
@@ -47,8 +47,8 @@ export interface EquationChange {
 
 export interface ResidualEquation {
   coordinate: string;
-  /** Residual in the input syntax, as the engine wrote it. */
-  residual: string;
+  /** The engine's canonical residual: its tree, or its text as stored with an evaluation. */
+  residual: ExpressionSource;
 }
 
 interface TermInfo {
@@ -125,8 +125,8 @@ function signedLatex(term: LatexTerm): string {
 }
 
 /** The residual's terms with the motion each multiplies. */
-export function termsOfResidual(residual: string, isMotion: (name: string) => boolean): TermInfo[] {
-  const tree = parseExpression(residual, DERIVED_EXPRESSION_LIMITS);
+export function termsOfResidual(residual: ExpressionSource, isMotion: (name: string) => boolean): TermInfo[] {
+  const tree = expressionTree(residual);
   const { terms } = toLatexTerms(tree);
   const signed = topLevelTerms(tree);
   return terms.map((term, i) => {

@@ -1,6 +1,5 @@
 import { ExpressionError } from "./errors";
-import type { Expr } from "./expr/ast";
-import { DEFAULT_PARSE_LIMITS, parseExpression, type ParseLimits } from "./expr/parse";
+import { expressionTree, type ExpressionSource } from "./expr/parse";
 import { ExpressionGraph, type GraphOp, type SymbolBinding } from "./graph";
 import { SingularMatrixError } from "../numeric/errors";
 import { createLuWorkspace, solveInPlace } from "../numeric/linear-solve";
@@ -37,12 +36,7 @@ const OPCODES = {
   atan: 20,
 } as const satisfies Record<Exclude<GraphOp, "const" | "var">, number>;
 
-/**
- * Parse limits for expressions the engine produced (mass matrices and forcing
- * of long chains run to many thousand characters). User text keeps the
- * parser's defaults; the worker pool bounds the size of everything it accepts.
- */
-export const DERIVED_EXPRESSION_LIMITS: ParseLimits = { ...DEFAULT_PARSE_LIMITS, maxLength: 2_000_000, maxDepth: 200 };
+export { DERIVED_EXPRESSION_LIMITS } from "./expr/parse";
 
 export interface CompiledExpressions {
   /** The variable names, in the order `values` holds them. */
@@ -92,10 +86,10 @@ export function symbolBinder(variables: readonly string[], constants: Readonly<R
  * const c = compileExpressions(["m*l^2", "-m*g*l*sin(theta)"], ["theta", "theta'"], { constants: { m: 1, l: 2, g: 9.81 } });
  * const out = new Float64Array(2); c.evaluate([0.3, 0], out);
  */
-export function compileExpressions(expressions: readonly (string | Expr)[], variables: readonly string[], options: CompileOptions = {}): CompiledExpressions {
+export function compileExpressions(expressions: readonly ExpressionSource[], variables: readonly string[], options: CompileOptions = {}): CompiledExpressions {
   const graph = new ExpressionGraph();
   const bind = symbolBinder(variables, options.constants);
-  const roots = expressions.map((e) => graph.fromExpr(typeof e === "string" ? parseExpression(e, DERIVED_EXPRESSION_LIMITS) : e, bind));
+  const roots = expressions.map((e) => graph.fromExpr(expressionTree(e), bind));
   return compileGraph(graph, roots, variables);
 }
 
@@ -207,16 +201,22 @@ export function compileGraph(graph: ExpressionGraph, roots: readonly number[], v
   return { variables: [...variables], outputCount: roots.length, instructionCount: length / 4, evaluate };
 }
 
-/** The equations of motion in mass-matrix form, M(q, q', t, u) q'' = f(q, q', t, u). */
+/**
+ * The equations of motion in mass-matrix form, M(q, q', t, u) q'' = f(q, q', t, u),
+ * with numbers for the parameters: what compilation, linearization and the
+ * equilibrium search take.
+ */
 export interface MassMatrixSystem {
   /** Coordinate names, in order. */
   coordinates: readonly string[];
   /** Input names, in order. */
   inputs?: readonly string[];
-  /** n×n expressions. */
-  massMatrix: readonly (readonly string[])[];
+  /** Units of the coordinates, in order; "rad" marks an angle (wrapped modulo 2π by findEquilibria). */
+  coordinateUnits?: readonly string[];
+  /** n×n expressions (trees, or text parsed once here). */
+  massMatrix: readonly (readonly ExpressionSource[])[];
   /** n expressions. */
-  forcing: readonly string[];
+  forcing: readonly ExpressionSource[];
   /** Parameter values, fixed at compile time. */
   parameters: Readonly<Record<string, number>>;
 }
@@ -255,8 +255,7 @@ export function compileMassMatrixSystem(system: MassMatrixSystem): CompiledMassM
     throw new RangeError(`mass matrix must be ${n}×${n} and forcing of length ${n}`);
   }
   const variables = [...system.coordinates, ...system.coordinates.map((q) => `${q}'`), "t", ...inputs];
-  const texts = [...system.massMatrix.flat(), ...system.forcing];
-  const compiled = compileExpressions(texts, variables, { constants: system.parameters });
+  const compiled = compileExpressions([...system.massMatrix.flat(), ...system.forcing], variables, { constants: system.parameters });
   const values = new Float64Array(variables.length);
   const out = new Float64Array(n * n + n);
   // One LU implementation serves the engine and the integrators (lib/simulate/linear-solve.ts).

@@ -7,7 +7,9 @@ import { solveAccelerations, type AccelerationsResult } from "./accelerations";
 import { Algebra, DEFAULT_ALGEBRA_LIMITS } from "./canonical/algebra";
 import { partialDerivative, RateUnavailableError, timeDerivative, type Derivation } from "./canonical/calculus";
 import * as C from "./canonical/coefficient";
-import { formatPoly, formatTerms } from "./canonical/format";
+import { displayExpr } from "./canonical/display";
+import { orderedTerms, polyToExpr, termMagnitude } from "./canonical/to-expr";
+import { bin, sum } from "./expr/build";
 import { toCanonical } from "./canonical/from-expr";
 import { SymbolSpace } from "./canonical/space";
 import type { Poly } from "./canonical/term";
@@ -19,27 +21,55 @@ export interface DeriveOptions {
   hamiltonianMaxSize?: number;
 }
 
+/*
+ * Results are expression trees (plain JSON objects). Each expression comes in
+ * the canonical form, the engine's form for computing and comparing, and the
+ * expressions a reader looks at also in display form (canonical/display.ts):
+ * collected by accelerations and rates, coefficients factored, sin² where the
+ * model had it. Both are the same value. Print them where they leave: text
+ * with formatExpression, LaTeX with toLatex.
+ */
+
 export interface EquationResult {
   coordinate: string;
-  /** d/dt(∂L/∂q') − ∂L/∂q + ∂D/∂q' − Q_q in the input syntax. */
-  residual: string;
-  /** The residual's top-level terms, signed, in the same order as in `residual`. */
-  terms: string[];
+  /** d/dt(∂L/∂q') − ∂L/∂q + ∂D/∂q' − Q_q, canonical. */
+  residual: Expr;
+  /** The residual in display form. */
+  display: Expr;
 }
 
 export interface MomentumResult {
   coordinate: string;
-  expr: string;
+  expr: Expr;
 }
 
 export interface ConservedQuantity {
   name: string;
-  expr: string;
+  expr: Expr;
+  /** `expr` in display form. */
+  display: Expr;
   reason: string;
 }
 
+/**
+ * A cyclic coordinate (L does not depend on it) and the balance of its
+ * momentum p = ∂L/∂q': dp/dt = Q − ∂D/∂q', the applied generalized force on
+ * it minus the dissipation acting on it. Conserved when both are absent.
+ */
+export interface CyclicMomentum {
+  coordinate: string;
+  momentum: Expr;
+  conserved: boolean;
+  /** dp/dt; the number 0 when conserved. */
+  rate: Expr;
+  /** `momentum` and `rate` in display form. */
+  display: { momentum: Expr; rate: Expr };
+  /** What acts on the coordinate: an applied force (the model's forces entry), the dissipation function, both, or neither. */
+  actedOnBy: ("applied force" | "dissipation")[];
+}
+
 export type HamiltonianResult =
-  | { available: true; expr: string; momenta: { coordinate: string; symbol: string }[] }
+  | { available: true; expr: Expr; momenta: { coordinate: string; symbol: string }[] }
   | { available: false; reason: string };
 
 export interface DerivationTiming {
@@ -53,19 +83,29 @@ export interface DerivationResult {
   coordinates: string[];
   equations: EquationResult[];
   /** M[i][j] = ∂residual_i/∂q_j''; symmetric. */
-  massMatrix: string[][];
+  massMatrix: Expr[][];
   /** f with residual = M q'' − f. */
-  forcing: string[];
+  forcing: Expr[];
   /** The energy function h = Σ q'·∂L/∂q' − L. */
-  energy: string;
+  energy: Expr;
+  /** M, f and h in display form. */
+  display: { massMatrix: Expr[][]; forcing: Expr[]; energy: Expr };
   momenta: MomentumResult[];
   /** Coordinates L does not depend on. */
   cyclic: string[];
+  /** The momentum balance of each cyclic coordinate, in the order of `cyclic`. */
+  cyclicMomenta: CyclicMomentum[];
+  /**
+   * Coordinates that neither M nor f contains (only their rates and
+   * accelerations appear): the equations do not fix their value, so every
+   * equilibrium is one of a continuum along them.
+   */
+  freeCoordinates: string[];
   conserved: ConservedQuantity[];
   /** L depends on t explicitly. */
   explicitTime: boolean;
   hamiltonian: HamiltonianResult;
-  /** q'' solved from M q'' = f for one or two coordinates (see accelerations.ts). */
+  /** q'' solved from M q'' = f where the engine gives a closed form, or why not (see accelerations.ts). */
   accelerations: AccelerationsResult;
   timing: DerivationTiming;
 }
@@ -99,7 +139,7 @@ const now = () => performance.now();
  *
  * @example
  * const result = deriveModel(model);
- * result.equations[0].residual // "m*l^2*theta'' + m*g*l*sin(theta)"
+ * formatExpression(result.equations[0].residual) // "m*l^2*theta'' + m*g*l*sin(theta)"
  */
 export function deriveModel(model: Model, options: DeriveOptions = {}): DerivationResult {
   const start = now();
@@ -107,7 +147,8 @@ export function deriveModel(model: Model, options: DeriveOptions = {}): Derivati
   const afterEquations = now();
   const { space, algebra: alg } = canonical;
   const names = model.coordinates.map((c) => c.name);
-  const text = (p: Poly) => formatPoly(space, p);
+  const tree = (p: Poly) => polyToExpr(space, p);
+  const display = (p: Poly) => displayExpr(alg, p);
 
   const conserved: ConservedQuantity[] = [];
   const noForces = canonical.forces.every((q) => q.size === 0);
@@ -115,29 +156,50 @@ export function deriveModel(model: Model, options: DeriveOptions = {}): Derivati
   if (!canonical.explicitTime && noForces && noDissipation) {
     conserved.push({
       name: "energy function",
-      expr: text(canonical.energy),
+      expr: tree(canonical.energy),
+      display: display(canonical.energy),
       reason: "L has no explicit t and there is no dissipation or applied force",
     });
   }
+  const cyclicMomenta: CyclicMomentum[] = [];
   names.forEach((name, i) => {
     if (!canonical.cyclic[i]) return;
-    const dissipates = alg.dependsOn(canonical.dissipation, space.rates[i]!);
-    if (canonical.forces[i]!.size === 0 && !dissipates) {
-      conserved.push({ name: `momentum of ${name}`, expr: text(canonical.momenta[i]!), reason: `${name} is cyclic and no force or dissipation acts on it` });
+    // With ∂L/∂q = 0 Lagrange's equation leaves dp/dt = Q − ∂D/∂q'.
+    const dissipative = partialDerivative(alg, space.rates[i]!).apply(canonical.dissipation);
+    const rate = alg.sub(canonical.forces[i]!, dissipative);
+    const actedOnBy: CyclicMomentum["actedOnBy"] = [];
+    if (canonical.forces[i]!.size > 0) actedOnBy.push("applied force");
+    if (dissipative.size > 0) actedOnBy.push("dissipation");
+    const momentum = canonical.momenta[i]!;
+    const isConserved = rate.size === 0;
+    cyclicMomenta.push({
+      coordinate: name,
+      momentum: tree(momentum),
+      conserved: isConserved,
+      rate: tree(rate),
+      display: { momentum: display(momentum), rate: display(rate) },
+      actedOnBy,
+    });
+    if (isConserved) {
+      conserved.push({ name: `momentum of ${name}`, expr: tree(momentum), display: display(momentum), reason: `${name} is cyclic and no force or dissipation acts on it` });
     }
   });
 
   const hamiltonian = legendreTransform(canonical, names, options.hamiltonianMaxSize ?? 3, model);
   const accelerations = solveAccelerations(alg, names, canonical.massMatrix, canonical.forcing);
-  const end = now();
-  return {
+  const mentions = [...canonical.massMatrix.flat(), ...canonical.forcing];
+  const freeCoordinates = names.filter((_, i) => !mentions.some((p) => alg.dependsOn(p, space.coordinates[i]!)));
+  const result: DerivationResult = {
     coordinates: names,
-    equations: canonical.residuals.map((r, i) => ({ coordinate: names[i]!, residual: text(r), terms: formatTerms(space, r) })),
-    massMatrix: canonical.massMatrix.map((row) => row.map(text)),
-    forcing: canonical.forcing.map(text),
-    energy: text(canonical.energy),
-    momenta: canonical.momenta.map((p, i) => ({ coordinate: names[i]!, expr: text(p) })),
+    equations: canonical.residuals.map((r, i) => ({ coordinate: names[i]!, residual: tree(r), display: display(r) })),
+    massMatrix: canonical.massMatrix.map((row) => row.map(tree)),
+    forcing: canonical.forcing.map(tree),
+    energy: tree(canonical.energy),
+    display: { massMatrix: canonical.massMatrix.map((row) => row.map(display)), forcing: canonical.forcing.map(display), energy: display(canonical.energy) },
+    momenta: canonical.momenta.map((p, i) => ({ coordinate: names[i]!, expr: tree(p) })),
     cyclic: names.filter((_, i) => canonical.cyclic[i]),
+    cyclicMomenta,
+    freeCoordinates,
     conserved,
     explicitTime: canonical.explicitTime,
     hamiltonian,
@@ -145,10 +207,14 @@ export function deriveModel(model: Model, options: DeriveOptions = {}): Derivati
     timing: {
       canonicalMs: canonical.canonicalMs,
       equationsMs: afterEquations - start - canonical.canonicalMs,
-      analysisMs: end - afterEquations,
-      totalMs: end - start,
+      analysisMs: 0,
+      totalMs: 0,
     },
   };
+  const end = now();
+  result.timing.analysisMs = end - afterEquations;
+  result.timing.totalMs = end - start;
+  return result;
 }
 
 /** The Euler–Lagrange equations as canonical sums. See deriveModel. */
@@ -232,12 +298,7 @@ export function deriveCanonical(model: Model, options: DeriveOptions = {}): Cano
 }
 
 function convert(alg: Algebra, tree: Expr, field: string, resolve: (node: SymbolNode) => Poly): Poly {
-  try {
-    return toCanonical(alg, tree, resolve);
-  } catch (error) {
-    if (error instanceof ExpressionError) throw ModelError.fromExpression(field, error);
-    throw error;
-  }
+  return ModelError.inField(field, () => toCanonical(alg, tree, resolve));
 }
 
 /** Each definition's value, rate and acceleration, computed on demand in dependency order. */
@@ -348,12 +409,11 @@ function legendreTransform(c: CanonicalDerivation, names: string[], maxSize: num
   if (single && single.g === null) {
     const h = alg.mul(quadratic, alg.fromTerm(alg.termPower(single, -1)));
     const total = alg.add(alg.scale(h, C.HALF), rest);
-    return { available: true, expr: formatPoly(space, total), momenta };
+    return { available: true, expr: polyToExpr(space, total), momenta };
   }
-  let text = `(${formatPoly(space, quadratic)})/(${formatPoly(space, alg.scale(det, C.rational(2)))})`;
-  const restText = formatPoly(space, rest);
-  if (rest.size > 0) text += restText.startsWith("-") ? ` - ${restText.slice(1)}` : ` + ${restText}`;
-  return { available: true, expr: text, momenta };
+  const fraction = bin("/", polyToExpr(space, quadratic), polyToExpr(space, alg.scale(det, C.rational(2))));
+  const restTerms = orderedTerms(space, rest).map((t) => ({ negative: C.toNumber(t.c) < 0, term: termMagnitude(space, t) }));
+  return { available: true, expr: sum([{ negative: false, term: fraction }, ...restTerms]), momenta };
 }
 
 function minor(m: Poly[][], row: number, col: number): Poly[][] {

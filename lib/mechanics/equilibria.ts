@@ -1,24 +1,25 @@
 import { Matrix, SingularValueDecomposition } from "ml-matrix";
-import { compileAnalysis, linearizeAbout, type CompiledAnalysis, type Complex, type Linearization, type MechanicalSystem } from "./linearize";
+import type { MassMatrixSystem } from "./compile";
+import { compileAnalysis, linearizeAbout, type CompiledAnalysis, type Complex, type Linearization } from "./linearize";
+import { classifyStability, type Stability } from "./stability";
 import { isAngleUnit } from "./units";
 import { seededRandom } from "./canonical/evaluate";
 
-export type Stability = "stable" | "unstable" | "marginal";
+export type { Stability };
+
+/** Order of the list: stable equilibria first, so the first one is the one to linearize about. */
+const STABILITY_ORDER: Record<Stability, number> = { stable: 0, marginal: 1, unstable: 2 };
 
 export interface Equilibrium {
   /** Coordinates; angles wrapped into (−π, π]. */
   q: number[];
   /** Largest |f| left at the point. */
   residual: number;
-  /**
-   * "unstable": an eigenvalue of A has a positive real part.
-   * "stable": none does, and either all have negative real parts (asymptotically
-   * stable) or the stiffness is positive definite (Lagrange–Dirichlet).
-   * "marginal": linear analysis cannot decide (zero or purely imaginary
-   * eigenvalues without a positive definite stiffness).
-   */
+  /** From the eigenvalues of A by `classifyStability` (stability.ts), the one rule every verdict uses. */
   stability: Stability;
   asymptotic: boolean;
+  /** The clause of the rule that decided, in words. */
+  stabilityReason: string;
   /** False when ∂f/∂q is singular there (a family of equilibria, e.g. along a cyclic coordinate). */
   isolated: boolean;
   eigenvalues: Complex[];
@@ -47,13 +48,15 @@ export interface EquilibriumOptions {
  * Finds equilibria of M q'' = f with rates zero and inputs held: Newton's
  * method with exact Jacobians (minimum-norm steps from the SVD, so singular
  * directions are left alone) from a grid of starts plus seeded random ones;
- * results deduplicated (angles modulo 2π) and classified from the linearization.
+ * results deduplicated (angles modulo 2π) and classified from the linearization
+ * by `classifyStability`. Listed stable first, then marginal, then unstable,
+ * each group by coordinates.
  *
  * @example
  * findEquilibria({ coordinates: ["theta"], coordinateUnits: ["rad"], massMatrix: [["m*l^2"]], forcing: ["-m*g*l*sin(theta)"], parameters: { m: 1, l: 1, g: 9.81 } })
  * // θ = 0 stable, θ = π unstable
  */
-export function findEquilibria(system: MechanicalSystem, options: EquilibriumOptions = {}): Equilibrium[] {
+export function findEquilibria(system: MassMatrixSystem, options: EquilibriumOptions = {}): Equilibrium[] {
   const compiled = compileAnalysis(system);
   const { n, m } = compiled;
   const angular = options.angular ?? system.coordinates.map((_, i) => isAngleUnit(system.coordinateUnits?.[i] ?? ""));
@@ -121,24 +124,12 @@ export function findEquilibria(system: MechanicalSystem, options: EquilibriumOpt
   }
 
   return found
-    .sort((a, b) => compareVectors(a.q, b.q))
-    .map((f) => {
+    .map((f): Equilibrium => {
       const linearization = linearizeAbout(compiled as CompiledAnalysis, { q: f.q, inputs: u, t });
-      const { stability, asymptotic } = classify(linearization);
-      return { ...f, stability, asymptotic, eigenvalues: linearization.eigenvalues, linearization };
-    });
-}
-
-function classify(linearization: Linearization): { stability: Stability; asymptotic: boolean } {
-  const magnitude = Math.max(1, ...linearization.eigenvalues.map((l) => Math.hypot(l.re, l.im)));
-  const tol = 1e-8 * magnitude;
-  const maxRe = Math.max(...linearization.eigenvalues.map((l) => l.re));
-  if (maxRe > tol) return { stability: "unstable", asymptotic: false };
-  if (maxRe < -tol) return { stability: "stable", asymptotic: true };
-  // On the imaginary axis: with non-negative damping, a positive definite
-  // stiffness gives a strict minimum of the potential (Lagrange–Dirichlet).
-  const positiveStiffness = linearization.modes.length > 0 && linearization.modes.every((mode) => mode.omegaSquared > tol * tol);
-  return { stability: positiveStiffness ? "stable" : "marginal", asymptotic: false };
+      const { stability, asymptotic, reason } = classifyStability(linearization);
+      return { ...f, stability, asymptotic, stabilityReason: reason, eigenvalues: linearization.eigenvalues, linearization };
+    })
+    .sort((a, b) => STABILITY_ORDER[a.stability] - STABILITY_ORDER[b.stability] || compareVectors(a.q, b.q));
 }
 
 /** Wraps an angle into (−π, π]. */

@@ -31,7 +31,7 @@ export class ExpressionError extends Error {
   }
 }
 
-export type ModelErrorCode = ExpressionErrorCode | "schema" | "duplicate_name" | "reserved_name" | "unit" | "unit_mismatch" | "too_large" | "singular";
+export type ModelErrorCode = ExpressionErrorCode | "syntax" | "schema" | "duplicate_name" | "reserved_name" | "unit" | "unit_mismatch" | "too_large" | "singular";
 
 /**
  * A problem in a model, located by field path (`kinetic`, `definitions[1].expr`,
@@ -54,6 +54,21 @@ export class ModelError extends Error {
 
   static fromExpression(field: string, error: ExpressionError): ModelError {
     return new ModelError(error.code, field, error.message, error.column, error.length);
+  }
+
+  /**
+   * Runs `work` on one field's text; an ExpressionError it throws becomes a
+   * ModelError naming the field (same code, column and length).
+   *
+   * @example const tree = ModelError.inField("kinetic", () => parseExpression(model.kinetic));
+   */
+  static inField<T>(field: string, work: () => T): T {
+    try {
+      return work();
+    } catch (error) {
+      if (error instanceof ExpressionError) throw ModelError.fromExpression(field, error);
+      throw error;
+    }
   }
 
   /** One line for a terminal: `kinetic, column 12: unknown symbol "l3"`. */

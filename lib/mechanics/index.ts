@@ -2,9 +2,11 @@
 export type { Model, Coordinate, Parameter, Input, Definition, NamedUnit } from "./model";
 export { ModelError, ExpressionError, EngineLimitError } from "./errors";
 export type { ModelErrorCode, ExpressionErrorCode } from "./errors";
-export { parseExpression, formatExpression } from "./expr/parse";
+export { parseExpression, formatExpression, expressionTree } from "./expr/parse";
+export type { ExpressionSource } from "./expr/parse";
 export type { Expr } from "./expr/ast";
-export { validateModel, analyzeModel, DEFAULT_MODEL_LIMITS } from "./validate-model";
+export { validateModel, analyzeModel, collectModelIssues, DEFAULT_MODEL_LIMITS } from "./validate-model";
+export { readModelFile, jsonSyntaxIssues } from "./model-file";
 export type { ModelLimits, ModelAnalysis } from "./validate-model";
 export { deriveModel, deriveCanonical } from "./derive";
 export type {
@@ -14,6 +16,7 @@ export type {
   EquationResult,
   MomentumResult,
   ConservedQuantity,
+  CyclicMomentum,
   HamiltonianResult,
   DerivationTiming,
 } from "./derive";
@@ -28,13 +31,15 @@ export type { CompiledExpressions, CompileOptions, MassMatrixSystem, CompiledMas
 export { ExpressionGraph } from "./graph";
 export { residualJacobians } from "./jacobians";
 export type { ResidualJacobians } from "./jacobians";
-export { linearizeAbout, compileAnalysis, normalModes } from "./linearize";
-export type { MechanicalSystem, OperatingPoint, Linearization, Mode, Complex, CompiledAnalysis } from "./linearize";
+export { linearizeAbout, compileAnalysis, normalModes, matchEigenvalues } from "./linearize";
+export type { OperatingPoint, Linearization, Mode, ModeKind, Complex, CompiledAnalysis } from "./linearize";
 export { findEquilibria, wrapAngle } from "./equilibria";
 export type { Equilibrium, EquilibriumOptions, Stability } from "./equilibria";
+export { classifyStability, frequencyScale, stabilityTolerance, formatEigenvalue, STABILITY_RULE, STABILITY_TOLERANCE } from "./stability";
+export type { StabilityVerdict } from "./stability";
 export { checkModelUnits, unitOfExpression, parseUnit, formatDimension, isAngleUnit } from "./units";
 export type { Dimension } from "./units";
-export { toLatex, toLatexTerms, symbolLatex, termId } from "./latex";
+export { toLatex, toLatexTerms, joinLatexTerms, symbolLatex, termId } from "./latex";
 export type { LatexTerm } from "./latex";
 export { topLevelTerms } from "./terms";
 export type { SignedTerm } from "./terms";
@@ -42,3 +47,8 @@ export { exportCode, CODE_LANGUAGES } from "./codegen";
 export type { CodeExportInput, CodeLanguage } from "./codegen";
 export { solveAccelerations, ACCELERATIONS_MAX_SIZE } from "./accelerations";
 export type { AccelerationsResult, SolvedAcceleration } from "./accelerations";
+export { derivationReport } from "./report";
+export type { DerivationReport } from "./report";
+// Printing where results leave the engine (worker boundary, CLI).
+export { printDerivation } from "./print";
+export type { PrintedDerivation, PrintedEquation } from "./print";

@@ -1,7 +1,6 @@
 import type { Expr } from "./expr/ast";
-import { parseExpression } from "./expr/parse";
+import { expressionTree, type ExpressionSource } from "./expr/parse";
 import { differentiate } from "./differentiate";
-import { DERIVED_EXPRESSION_LIMITS } from "./compile";
 
 /**
  * The residual r(q, q', q'', t, u) = M(q, q', t, u) q'' − f(q, q', t, u) of the
@@ -22,11 +21,11 @@ export interface ResidualJacobians {
   byInput: Expr[][];
 }
 
-export interface MassFormText {
+export interface MassForm {
   coordinates: readonly string[];
   inputs?: readonly string[];
-  massMatrix: readonly (readonly string[])[];
-  forcing: readonly string[];
+  massMatrix: readonly (readonly ExpressionSource[])[];
+  forcing: readonly ExpressionSource[];
 }
 
 const at = { start: 0, end: 0 };
@@ -36,11 +35,11 @@ const at = { start: 0, end: 0 };
  *
  * @example residualJacobians({ coordinates: ["x"], massMatrix: [["m"]], forcing: ["-k*x"] }).byCoordinate // [[k]]
  */
-export function residualJacobians(system: MassFormText): ResidualJacobians {
+export function residualJacobians(system: MassForm): ResidualJacobians {
   const n = system.coordinates.length;
   const inputs = system.inputs ?? [];
-  const mass = system.massMatrix.map((row) => row.map((text) => parseExpression(text, DERIVED_EXPRESSION_LIMITS)));
-  const forcing = system.forcing.map((text) => parseExpression(text, DERIVED_EXPRESSION_LIMITS));
+  const mass = system.massMatrix.map((row) => row.map((entry) => expressionTree(entry)));
+  const forcing = system.forcing.map((entry) => expressionTree(entry));
   const residual: Expr[] = [];
   for (let i = 0; i < n; i++) {
     let sum: Expr | null = null;

@@ -229,6 +229,16 @@ export function toLatexTerms(text: string | Expr): { latex: string; terms: Latex
   return { latex, terms: rendered.map(({ id, text: termText, latex: termLatex }) => ({ id, text: termText, latex: termLatex })) };
 }
 
+/**
+ * The LaTeX of a sum from its terms as toLatexTerms gives them, without the
+ * term marks: for documents outside the notebook, from stored results.
+ *
+ * @example joinLatexTerms(toLatexTerms("m*x'' - F").terms) // "m\\,\\ddot{x} - F"
+ */
+export function joinLatexTerms(terms: readonly Pick<LatexTerm, "text" | "latex">[]): string {
+  return joinTerms(terms.map((t) => ({ negative: t.text.startsWith("-"), latex: t.latex })));
+}
+
 /** Removes the negations of a product's factors (their parity is the term's sign). */
 function stripSigns(e: Expr): Expr {
   if (e.kind === "neg") return stripSigns(e.arg);

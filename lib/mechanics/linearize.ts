@@ -1,18 +1,7 @@
 import { CholeskyDecomposition, EigenvalueDecomposition, LuDecomposition, Matrix, solve } from "ml-matrix";
-import { compileExpressions, type CompiledExpressions } from "./compile";
+import { compileExpressions, type CompiledExpressions, type MassMatrixSystem } from "./compile";
 import { ModelError } from "./errors";
 import { residualJacobians } from "./jacobians";
-
-/** The mass-matrix form with numbers for the parameters, as the analysis functions take it. */
-export interface MechanicalSystem {
-  coordinates: readonly string[];
-  /** Units of the coordinates, in order; "rad" marks an angle (wrapped modulo 2π by findEquilibria). */
-  coordinateUnits?: readonly string[];
-  inputs?: readonly string[];
-  massMatrix: readonly (readonly string[])[];
-  forcing: readonly string[];
-  parameters: Readonly<Record<string, number>>;
-}
 
 export interface OperatingPoint {
   q: readonly number[];
@@ -28,12 +17,22 @@ export interface Complex {
   im: number;
 }
 
+/**
+ * "oscillating": ω² > 0. "rigid": ω² is zero to rounding (|ω²| ≤ 10⁻¹⁰ × the
+ * largest |ω²|), a direction with no restoring stiffness. "divergent": ω² < 0,
+ * a direction in which the undamped motion grows like exp(√(−ω²)·t).
+ */
+export type ModeKind = "oscillating" | "rigid" | "divergent";
+
 export interface Mode {
   /** ω² from K v = ω² M v; negative for a direction in which the point is unstable. */
   omegaSquared: number;
-  /** Natural frequency in rad/s; null where ω² < 0. */
+  kind: ModeKind;
+  /** Natural frequency in rad/s; 0 for a rigid mode, null for a divergent one. */
   radPerSecond: number | null;
   hertz: number | null;
+  /** √(−ω²) in 1/s for a divergent mode, else null. */
+  growthRate: number | null;
   /** Mode shape over the coordinates, scaled so its largest component is +1. */
   shape: number[];
 }
@@ -74,7 +73,7 @@ export interface CompiledAnalysis {
   };
 }
 
-export function compileAnalysis(system: MechanicalSystem): CompiledAnalysis {
+export function compileAnalysis(system: MassMatrixSystem): CompiledAnalysis {
   const n = system.coordinates.length;
   const inputs = system.inputs ?? [];
   const m = inputs.length;
@@ -123,7 +122,7 @@ export function compileAnalysis(system: MechanicalSystem): CompiledAnalysis {
  * @example
  * linearizeAbout({ coordinates: ["x"], massMatrix: [["m"]], forcing: ["-k*x"], parameters: { m: 1, k: 4 } }, { q: [0] }).modes[0].radPerSecond // 2
  */
-export function linearizeAbout(system: MechanicalSystem | CompiledAnalysis, point: OperatingPoint): Linearization {
+export function linearizeAbout(system: MassMatrixSystem | CompiledAnalysis, point: OperatingPoint): Linearization {
   const compiled = "evaluator" in system ? system : compileAnalysis(system);
   const { n, m } = compiled;
   const zeros = new Array<number>(n).fill(0);
@@ -169,6 +168,9 @@ export function linearizeAbout(system: MechanicalSystem | CompiledAnalysis, poin
   };
 }
 
+/** |ω²| at or below this fraction of the largest |ω²| is a rigid mode (rounding of K's zero eigenvalue). */
+const RIGID_MODE_TOLERANCE = 1e-10;
+
 /**
  * Solves K v = ω² M v. With M symmetric positive definite and K symmetric it
  * uses the Cholesky reduction L⁻¹ K L⁻ᵀ (real ω², orthogonal modes); otherwise
@@ -198,12 +200,40 @@ export function normalModes(mass: Matrix, stiffness: Matrix): Mode[] {
     values = decomposition.realEigenvalues;
     vectors = decomposition.eigenvectorMatrix;
   }
-  const modes = values.map((omegaSquared, k) => {
+  const largest = Math.max(0, ...values.map(Math.abs));
+  const modes = values.map((omegaSquared, k): Mode => {
     const shape = normaliseShape(vectors.getColumn(k));
-    const radPerSecond = omegaSquared >= 0 ? Math.sqrt(omegaSquared) : null;
-    return { omegaSquared, radPerSecond, hertz: radPerSecond === null ? null : radPerSecond / (2 * Math.PI), shape };
+    const kind: ModeKind = Math.abs(omegaSquared) <= RIGID_MODE_TOLERANCE * largest ? "rigid" : omegaSquared > 0 ? "oscillating" : "divergent";
+    const radPerSecond = kind === "rigid" ? 0 : kind === "oscillating" ? Math.sqrt(omegaSquared) : null;
+    const growthRate = kind === "divergent" ? Math.sqrt(-omegaSquared) : null;
+    return { omegaSquared, kind, radPerSecond, hertz: radPerSecond === null ? null : radPerSecond / (2 * Math.PI), growthRate, shape };
   });
   return modes.sort((a, b) => a.omegaSquared - b.omegaSquared);
+}
+
+/**
+ * Pairs each oscillating mode with the eigenvalue of A that belongs to it once
+ * damping is included: the unused eigenvalue with Im λ > 0 whose |λ| is
+ * nearest to ω (equal for a single damped degree of freedom, close for light
+ * or proportional damping), or null when none lies within half of ω (an
+ * overdamped mode has no oscillating eigenvalue). Rigid and divergent modes
+ * get null.
+ *
+ * @example matchEigenvalues(lin.modes, lin.eigenvalues)[0] // { re: -0.05, im: 2.248 }: ζ = −re/|λ|, ω_d = im
+ */
+export function matchEigenvalues(modes: readonly Mode[], eigenvalues: readonly Complex[]): (Complex | null)[] {
+  const scale = Math.max(0, ...eigenvalues.map((l) => Math.hypot(l.re, l.im)));
+  const free = eigenvalues.filter((l) => l.im > 1e-9 * scale);
+  return modes.map((mode) => {
+    if (mode.kind !== "oscillating" || mode.radPerSecond === null) return null;
+    const omega = mode.radPerSecond;
+    let best = -1;
+    for (let k = 0; k < free.length; k++) {
+      const distance = Math.abs(Math.hypot(free[k]!.re, free[k]!.im) - omega);
+      if (distance <= 0.5 * omega && (best < 0 || distance < Math.abs(Math.hypot(free[best]!.re, free[best]!.im) - omega))) best = k;
+    }
+    return best < 0 ? null : free.splice(best, 1)[0]!;
+  });
 }
 
 /** Scales a vector so that its largest component (the first, on a tie) is +1. */

@@ -1,16 +1,16 @@
-import { unit as parseMathUnit } from "mathjs";
+import { isAngleUnitText, MODEL_UNIT_SYMBOLS, parseUnitText, UnitError } from "../units";
 import { constantValue } from "./differentiate";
-import { ExpressionError, ModelError } from "./errors";
+import { ModelError } from "./errors";
 import type { Expr } from "./expr/ast";
-import { formatExpression, parseExpression } from "./expr/parse";
+import { DEFAULT_PARSE_LIMITS, DERIVED_EXPRESSION_LIMITS, expressionTree, formatExpression, parseExpression, type ExpressionSource } from "./expr/parse";
 import type { Model } from "./model";
 import { topLevelTerms } from "./terms";
-import { DERIVED_EXPRESSION_LIMITS } from "./compile";
 
 /**
  * Units of coordinates, parameters and inputs, and a dimensional check of a
- * model. Unit text is parsed by mathjs; we keep only the exponents of the
- * base dimensions and drop the angle, so a radian is dimensionless throughout
+ * model. Unit text is read by lib/units (the same reader as the notebook's
+ * field checks); we keep only the exponents of the base dimensions and drop
+ * the angle, so a radian is dimensionless throughout
  * (a torque N*m is then the generalized force of an angle, as energy/rad).
  */
 
@@ -18,24 +18,6 @@ import { DERIVED_EXPRESSION_LIMITS } from "./compile";
 export type Dimension = readonly number[];
 
 const BASE_SYMBOLS = ["kg", "m", "s", "A", "K", "cd", "mol"] as const;
-/** mathjs dimension order: mass, length, time, current, temperature, luminous intensity, amount, angle, bit. */
-const MATHJS_INDICES = [0, 1, 2, 3, 4, 5, 6];
-const ANGLE_INDEX = 7;
-
-/** Unit symbols a model may use, as mathjs spells them (prefix + name). */
-const ALLOWED: ReadonlyMap<string, string> = new Map([
-  ["kg", "k|g"],
-  ["m", "|m"],
-  ["s", "|s"],
-  ["rad", "|rad"],
-  ["N", "|N"],
-  ["J", "|J"],
-  ["W", "|W"],
-  ["Pa", "|Pa"],
-  ["Hz", "|Hz"],
-]);
-const ALLOWED_KEYS = new Set(ALLOWED.values());
-const MAX_UNIT_LENGTH = 100;
 
 export const DIMENSIONLESS: Dimension = [0, 0, 0, 0, 0, 0, 0];
 export const ENERGY: Dimension = [1, 2, -2, 0, 0, 0, 0];
@@ -51,49 +33,24 @@ const NAMED: [Dimension, string][] = [
 
 /**
  * Parses unit text such as `N*m/rad`, `kg*m^2`, `m/s^2`, `1/s` or `1`.
- * Throws ModelError("unit", field, …) for text mathjs cannot read or a
- * symbol outside kg, m, s, rad, N, J, W, Pa, Hz.
+ * Throws ModelError("unit", field, …) for text that does not read or a
+ * symbol outside kg, m, s, rad, N, J, W, Pa, Hz, with its column.
  *
  * @example parseUnit("N*m") // [1, 2, -2, 0, 0, 0, 0]
  */
 export function parseUnit(text: string, field = "unit"): Dimension {
-  const trimmed = text.trim();
-  if (trimmed === "" || trimmed === "1") return DIMENSIONLESS;
-  if (trimmed.length > MAX_UNIT_LENGTH) throw new ModelError("unit", field, `unit is longer than ${MAX_UNIT_LENGTH} characters`, 1);
-  if (!/^[A-Za-z0-9_.\s*/^()+-]+$/.test(trimmed)) {
-    const bad = /[^A-Za-z0-9_.\s*/^()+-]/.exec(text)!;
-    throw new ModelError("unit", field, `unexpected character "${bad[0]}" in unit (write units with * / ^ over kg, m, s, rad, N, J, W, Pa, Hz)`, bad.index + 1);
-  }
-  let parsed;
+  if (text.trim() === "") return DIMENSIONLESS;
   try {
-    parsed = parseMathUnit(trimmed);
+    return parseUnitText(text, { symbols: MODEL_UNIT_SYMBOLS }).dimension.slice(0, BASE_SYMBOLS.length);
   } catch (error) {
-    const symbol = /"([^"]+)"/.exec((error as Error).message)?.[1];
-    const at = symbol ? text.indexOf(symbol) : -1;
-    throw new ModelError("unit", field, symbol ? `unknown unit "${symbol}" (use kg, m, s, rad, N, J, W, Pa, Hz)` : `cannot read unit "${trimmed}"`, at >= 0 ? at + 1 : null);
+    if (error instanceof UnitError) throw new ModelError("unit", field, error.message, error.position + 1, error.length);
+    throw error;
   }
-  for (const part of parsed.units as unknown as { prefix: { name: string }; unit: { name: string } }[]) {
-    const key = `${part.prefix.name}|${part.unit.name}`;
-    if (!ALLOWED_KEYS.has(key)) {
-      const written = part.prefix.name + part.unit.name;
-      const at = text.indexOf(written);
-      throw new ModelError("unit", field, `unit "${written}" is not allowed (use kg, m, s, rad, N, J, W, Pa, Hz)`, at >= 0 ? at + 1 : null, written.length);
-    }
-  }
-  if (parsed.value !== null && !(Number.isFinite(parsed.value) && parsed.value > 0)) {
-    throw new ModelError("unit", field, `a unit's number must be positive`, 1);
-  }
-  return MATHJS_INDICES.map((i) => parsed.dimensions[i]!);
 }
 
 /** Whether unit text is an angle (rad, possibly with a number), i.e. a coordinate to wrap modulo 2π. */
 export function isAngleUnit(text: string): boolean {
-  try {
-    const parsed = parseMathUnit(text.trim());
-    return parsed.dimensions.every((d, i) => (i === ANGLE_INDEX ? d === 1 : d === 0));
-  } catch {
-    return false;
-  }
+  return isAngleUnitText(text);
 }
 
 export function sameDimension(a: Dimension, b: Dimension): boolean {
@@ -129,13 +86,7 @@ export function formatDimension(d: Dimension): string {
  */
 export function unitOfExpression(expr: string | Expr, symbolUnits: Readonly<Record<string, string | Dimension>>, field = "expression"): Dimension | null {
   const text = typeof expr === "string" ? expr : null;
-  let tree: Expr;
-  try {
-    tree = typeof expr === "string" ? parseExpression(expr) : expr;
-  } catch (error) {
-    if (error instanceof ExpressionError) throw ModelError.fromExpression(field, error);
-    throw error;
-  }
+  const tree = typeof expr === "string" ? ModelError.inField(field, () => parseExpression(expr)) : expr;
   const lookup = (name: string): Dimension | undefined => {
     const u = symbolUnits[name];
     return u === undefined ? undefined : typeof u === "string" ? parseUnit(u, field) : u;
@@ -218,17 +169,29 @@ class UnitInference {
     return DIMENSIONLESS;
   }
 
+  /**
+   * The unit of a sum whose terms must agree. When they do not, the term
+   * blamed (underlined) is one that disagrees with the unit most terms share;
+   * on a tie the earlier terms set the unit, so the later one is blamed.
+   * checkModelUnits checks a cell's top-level terms against the cell's
+   * expected unit instead, which decides even a two-term tie.
+   */
   private sum(e: Expr): Dimension | null {
-    let first: { term: Expr; unit: Dimension } | null = null;
+    const terms: { term: Expr; unit: Dimension }[] = [];
     for (const { term } of topLevelTerms(e)) {
       const unit = this.of(term);
-      if (unit === null) continue;
-      if (first === null) first = { term, unit };
-      else if (!sameDimension(first.unit, unit)) {
-        this.fail(term, `the term ${this.quote(term)} has unit ${formatDimension(unit)} but ${this.quote(first.term)} has unit ${formatDimension(first.unit)}`);
-      }
+      if (unit !== null) terms.push({ term, unit });
     }
-    return first === null ? null : first.unit;
+    if (terms.length === 0) return null;
+    const majority = terms.reduce((best, candidate) => {
+      const count = (unit: Dimension) => terms.filter((t) => sameDimension(t.unit, unit)).length;
+      return count(candidate.unit) > count(best.unit) ? candidate : best;
+    });
+    const odd = terms.find((t) => !sameDimension(t.unit, majority.unit));
+    if (odd) {
+      this.fail(odd.term, `the term ${this.quote(odd.term)} has unit ${formatDimension(odd.unit)} but ${this.quote(majority.term)} has unit ${formatDimension(majority.unit)}`);
+    }
+    return majority.unit;
   }
 }
 
@@ -236,13 +199,13 @@ class UnitInference {
  * Checks a model's units: T and V are energies, D a power, each generalized
  * force has unit J / unit(q), every definition has a consistent unit, the
  * arguments of sin, cos, exp… are dimensionless and the terms of every sum
- * agree. With `equations` (from the derivation), every top-level term of each
- * residual must have the unit of its coordinate's generalized force.
+ * agree. With `equations` (from the derivation, as trees), every top-level
+ * term of each residual must have the unit of its coordinate's generalized force.
  * Throws ModelError("unit" | "unit_mismatch" | "unknown_symbol", field, …).
  *
  * @example checkModelUnits(model, derived.equations)
  */
-export function checkModelUnits(model: Model, equations?: readonly { coordinate: string; residual: string }[]): void {
+export function checkModelUnits(model: Model, equations?: readonly { coordinate: string; residual: ExpressionSource }[]): void {
   const units = new Map<string, Dimension>();
   const declare = (list: readonly { name: string; unit: string }[] | undefined, key: string) =>
     (list ?? []).forEach((item, i) => units.set(item.name, parseUnit(item.unit ?? "", `${key}[${i}].unit`)));
@@ -267,21 +230,16 @@ export function checkModelUnits(model: Model, equations?: readonly { coordinate:
     return unit;
   };
   function infer(text: string, field: string): Dimension | null {
-    let tree: Expr;
-    try {
-      tree = parseExpression(text);
-    } catch (error) {
-      if (error instanceof ExpressionError) throw ModelError.fromExpression(field, error);
-      throw error;
-    }
-    return new UnitInference(lookup, field, text).of(tree);
+    return new UnitInference(lookup, field, text).of(ModelError.inField(field, () => parseExpression(text)));
   }
   for (const name of definitions.keys()) lookup(name);
 
-  const expectEachTerm = (text: string, field: string, expected: Dimension, what: string, textIsUser = true) => {
-    const tree = parseExpression(text, textIsUser ? undefined : DERIVED_EXPRESSION_LIMITS);
-    const inference = new UnitInference(lookup, field, textIsUser ? text : null);
-    inference.of(tree); // the terms of every inner sum must agree first
+  const expectEachTerm = (source: ExpressionSource, field: string, expected: Dimension, what: string, derived = false) => {
+    // The model's text is pointed at by column; a derived equation is quoted by its printed term.
+    const tree = expressionTree(source, derived ? DERIVED_EXPRESSION_LIMITS : DEFAULT_PARSE_LIMITS);
+    const inference = new UnitInference(lookup, field, typeof source === "string" && !derived ? source : null);
+    // Each top-level term against the cell's unit (inner sums by majority inside
+    // inference.of), so the term underlined is the one that is not, say, an energy.
     for (const { term } of topLevelTerms(tree)) {
       const unit = inference.of(term);
       if (unit !== null && !sameDimension(unit, expected)) {
@@ -299,6 +257,6 @@ export function checkModelUnits(model: Model, equations?: readonly { coordinate:
     expectEachTerm(text, `forces.${coordinate}`, generalizedForceUnit(coordinate), `the generalized force on ${coordinate}`);
   }
   (equations ?? []).forEach((equation, i) => {
-    expectEachTerm(equation.residual, `equations[${i}].residual`, generalizedForceUnit(equation.coordinate), `the equation of ${equation.coordinate}`, false);
+    expectEachTerm(equation.residual, `equations[${i}].residual`, generalizedForceUnit(equation.coordinate), `the equation of ${equation.coordinate}`, true);
   });
 }

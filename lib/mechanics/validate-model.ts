@@ -1,31 +1,24 @@
 import { z } from "zod";
 import { ExpressionError, ModelError } from "./errors";
 import { RESERVED_NAMES, TIME, walk, type Expr } from "./expr/ast";
+import { greekAdvice, hasGreekLetter } from "./expr/greek";
 import { parseExpression } from "./expr/parse";
 import type { Model } from "./model";
 
-/** Size limits checked before any symbolic work. */
-export interface ModelLimits {
-  maxCoordinates: number;
-  maxParameters: number;
-  maxInputs: number;
-  maxDefinitions: number;
-  /** Sum of the lengths of all expression texts. */
-  maxTotalTextLength: number;
-}
+import { DEFAULT_MODEL_LIMITS, type ModelLimits } from "./limits";
 
-export const DEFAULT_MODEL_LIMITS: ModelLimits = {
-  maxCoordinates: 12,
-  maxParameters: 200,
-  maxInputs: 50,
-  maxDefinitions: 200,
-  maxTotalTextLength: 100_000,
-};
+export { DEFAULT_MODEL_LIMITS, type ModelLimits };
 
+const IDENTIFIER = /^[A-Za-z_][A-Za-z0-9_]*$/;
 const identifier = z
   .string()
   .max(64, "names are at most 64 characters")
-  .regex(/^[A-Za-z_][A-Za-z0-9_]*$/, "a name is a letter or _ followed by letters, digits or _");
+  .refine((name) => IDENTIFIER.test(name), {
+    error: (issue) => {
+      const name = String(issue.input);
+      return hasGreekLetter(name) ? `"${name}": ${greekAdvice(name)}` : "a name is a letter or _ followed by letters, digits or _";
+    },
+  });
 const unit = z.string().max(200);
 const description = z.string().max(4000).optional();
 const namedUnit = z.object({ name: identifier, unit, description });
@@ -58,6 +51,9 @@ export interface ModelAnalysis {
 
 type SymbolRole = "coordinate" | "parameter" | "input" | "definition";
 
+/** Collects problems (`collectModelIssues`) or stops at the first (`validateModel`, `analyzeModel`). */
+type Report = (issue: ModelError) => void;
+
 /**
  * Checks a parsed JSON value against the model file format and returns it as a
  * `Model`. Throws `ModelError` naming the field (`definitions[1].expr`) and,
@@ -66,15 +62,32 @@ type SymbolRole = "coordinate" | "parameter" | "input" | "definition";
  * @example validateModel(JSON.parse(text)) // throws ModelError("unknown_symbol", "kinetic", …, 12)
  */
 export function validateModel(input: unknown, limits: ModelLimits = DEFAULT_MODEL_LIMITS): Model {
-  checkSizes(input, limits);
+  const result = collectModelIssues(input, limits);
+  if (result.issues.length > 0) throw result.issues[0]!;
+  return result.model!;
+}
+
+/**
+ * Every problem of a model file at once, in the order `validateModel` meets
+ * them: sizes, then the file format (every field at fault), then names and
+ * expressions (one parse error per expression, every unknown name). Stops
+ * after a stage with problems, since later stages read what earlier ones check.
+ *
+ * @example collectModelIssues(JSON.parse(text)).issues.map((issue) => issue.toLine())
+ */
+export function collectModelIssues(input: unknown, limits: ModelLimits = DEFAULT_MODEL_LIMITS): { model: Model | null; issues: ModelError[] } {
+  const issues: ModelError[] = [];
+  const report: Report = (issue) => issues.push(issue);
+  checkSizes(input, limits, report);
+  if (issues.length > 0) return { model: null, issues };
   const parsed = modelSchema.safeParse(input);
   if (!parsed.success) {
-    const issue = parsed.error.issues[0]!;
-    throw new ModelError("schema", formatPath(issue.path) || "model", issue.message);
+    for (const issue of parsed.error.issues) issues.push(new ModelError("schema", formatPath(issue.path) || "model", issue.message));
+    return { model: null, issues };
   }
   const model: Model = stripUndefined(parsed.data);
-  analyzeModel(model, limits);
-  return model;
+  analyze(model, report);
+  return issues.length > 0 ? { model: null, issues } : { model, issues };
 }
 
 function stripUndefined(data: z.infer<typeof modelSchema>): Model {
@@ -107,8 +120,8 @@ function formatPath(path: readonly PropertyKey[]): string {
 }
 
 /** Refuses oversized models before looking at their content. */
-function checkSizes(input: unknown, limits: ModelLimits): void {
-  if (typeof input !== "object" || input === null || Array.isArray(input)) throw new ModelError("schema", "model", "a model is a JSON object");
+function checkSizes(input: unknown, limits: ModelLimits, report: Report): void {
+  if (typeof input !== "object" || input === null || Array.isArray(input)) return report(new ModelError("schema", "model", "a model is a JSON object"));
   const record = input as Record<string, unknown>;
   const counts: [string, number][] = [
     ["coordinates", limits.maxCoordinates],
@@ -118,7 +131,7 @@ function checkSizes(input: unknown, limits: ModelLimits): void {
   ];
   for (const [field, max] of counts) {
     const value = record[field];
-    if (Array.isArray(value) && value.length > max) throw new ModelError("too_large", field, `at most ${max} ${field} are allowed (found ${value.length})`);
+    if (Array.isArray(value) && value.length > max) report(new ModelError("too_large", field, `at most ${max} ${field} are allowed (found ${value.length})`));
   }
   let total = 0;
   const add = (value: unknown) => {
@@ -130,11 +143,11 @@ function checkSizes(input: unknown, limits: ModelLimits): void {
   if (Array.isArray(record.definitions)) for (const d of record.definitions) if (d && typeof d === "object") add((d as Record<string, unknown>).expr);
   if (record.forces && typeof record.forces === "object") {
     const forces = Object.values(record.forces as Record<string, unknown>);
-    if (forces.length > limits.maxCoordinates) throw new ModelError("too_large", "forces", `at most ${limits.maxCoordinates} forces are allowed`);
+    if (forces.length > limits.maxCoordinates) report(new ModelError("too_large", "forces", `at most ${limits.maxCoordinates} forces are allowed`));
     for (const f of forces) add(f);
   }
   if (total > limits.maxTotalTextLength) {
-    throw new ModelError("too_large", "model", `the expressions total ${total} characters; at most ${limits.maxTotalTextLength} are allowed`);
+    report(new ModelError("too_large", "model", `the expressions total ${total} characters; at most ${limits.maxTotalTextLength} are allowed`));
   }
 }
 
@@ -143,12 +156,25 @@ function checkSizes(input: unknown, limits: ModelLimits): void {
  * Used by validateModel and by deriveModel (which also accepts models built in code).
  */
 export function analyzeModel(model: Model, limits: ModelLimits = DEFAULT_MODEL_LIMITS): ModelAnalysis {
-  checkSizes(model, limits);
+  const fail: Report = (issue) => {
+    throw issue;
+  };
+  checkSizes(model, limits, fail);
+  return analyze(model, fail)!;
+}
+
+/** The analysis, or null when `report` was given a problem (and returned, when collecting). */
+function analyze(model: Model, report: Report): ModelAnalysis | null {
+  let problems = 0;
+  const problem: Report = (issue) => {
+    problems++;
+    report(issue);
+  };
   const roles = new Map<string, SymbolRole>();
   const definitionIndex = new Map<string, number>();
   const declare = (name: string, role: SymbolRole, field: string) => {
-    if (RESERVED_NAMES.has(name)) throw new ModelError("reserved_name", field, `"${name}" is reserved and cannot be used as a name`);
-    if (roles.has(name)) throw new ModelError("duplicate_name", field, `"${name}" is already declared as a ${roles.get(name)}`);
+    if (RESERVED_NAMES.has(name)) return problem(new ModelError("reserved_name", field, `"${name}" is reserved and cannot be used as a name`));
+    if (roles.has(name)) return problem(new ModelError("duplicate_name", field, `"${name}" is already declared as a ${roles.get(name)}`));
     roles.set(name, role);
   };
   model.coordinates.forEach((c, i) => declare(c.name, "coordinate", `coordinates[${i}].name`));
@@ -160,30 +186,43 @@ export function analyzeModel(model: Model, limits: ModelLimits = DEFAULT_MODEL_L
     definitionIndex.set(d.name, i);
   });
 
-  const parse = (text: string, field: string): Expr => {
+  const parse = (text: string, field: string): Expr | null => {
     let tree: Expr;
     try {
       tree = parseExpression(text);
     } catch (error) {
-      if (error instanceof ExpressionError) throw ModelError.fromExpression(field, error);
+      if (error instanceof ExpressionError) {
+        problem(ModelError.fromExpression(field, error));
+        return null;
+      }
       throw error;
     }
-    checkSymbols(tree, field, roles);
+    checkSymbols(tree, field, roles, problem);
     return tree;
   };
 
   const definitionTrees = definitions.map((d, i) => parse(d.expr, `definitions[${i}].expr`));
-  const definitionOrder = orderDefinitions(definitions.map((d) => d.name), definitionTrees, definitionIndex);
+  let definitionOrder: number[] = [];
+  try {
+    definitionOrder = orderDefinitions(definitions.map((d) => d.name), definitionTrees, definitionIndex);
+  } catch (error) {
+    if (!(error instanceof ModelError)) throw error;
+    problem(error);
+  }
 
   // Highest time-derivative order of coordinates inside each definition.
   const definitionOrderOf = new Array<number>(definitions.length).fill(0);
-  for (const i of definitionOrder) definitionOrderOf[i] = derivativeOrder(definitionTrees[i]!, definitionIndex, definitionOrderOf).order;
+  for (const i of definitionOrder) {
+    const tree = definitionTrees[i];
+    if (tree) definitionOrderOf[i] = derivativeOrder(tree, definitionIndex, definitionOrderOf).order;
+  }
 
-  const energy = (text: string, field: string, what: string): Expr => {
+  const energy = (text: string, field: string, what: string): Expr | null => {
     const tree = parse(text, field);
+    if (!tree) return null;
     const found = derivativeOrder(tree, definitionIndex, definitionOrderOf);
     if (found.order > 1) {
-      throw new ModelError("unsupported", field, `the ${what} may depend on rates but not on accelerations`, found.node!.start + 1, found.node!.end - found.node!.start);
+      problem(new ModelError("unsupported", field, `the ${what} may depend on rates but not on accelerations`, found.node!.start + 1, found.node!.end - found.node!.start));
     }
     return tree;
   };
@@ -195,26 +234,29 @@ export function analyzeModel(model: Model, limits: ModelLimits = DEFAULT_MODEL_L
   for (const [coordinate, text] of Object.entries(model.forces ?? {})) {
     const field = `forces.${coordinate}`;
     if (roles.get(coordinate) !== "coordinate") {
-      throw new ModelError("unknown_symbol", field, `generalized force for "${coordinate}", which is not a coordinate`);
+      problem(new ModelError("unknown_symbol", field, `generalized force for "${coordinate}", which is not a coordinate`));
+      continue;
     }
-    forces.set(coordinate, parse(text, field));
+    const tree = parse(text, field);
+    if (tree) forces.set(coordinate, tree);
   }
-  return { model, definitions: definitionTrees, definitionOrder, kinetic, potential, dissipation, forces };
+  if (problems > 0 || !kinetic || !potential) return null;
+  return { model, definitions: definitionTrees as Expr[], definitionOrder, kinetic, potential, dissipation, forces };
 }
 
-function checkSymbols(tree: Expr, field: string, roles: Map<string, SymbolRole>): void {
+function checkSymbols(tree: Expr, field: string, roles: Map<string, SymbolRole>, report: Report): void {
   walk(tree, (node) => {
     if (node.kind !== "sym") return;
     const column = node.start + 1;
     const length = node.end - node.start;
     if (node.name === TIME) {
-      if (node.order > 0) throw new ModelError("rate_of_parameter", field, `t is the time; its rate is 1`, column, length);
+      if (node.order > 0) report(new ModelError("rate_of_parameter", field, `t is the time; its rate is 1`, column, length));
       return;
     }
     const role = roles.get(node.name);
-    if (role === undefined) throw new ModelError("unknown_symbol", field, `unknown symbol "${node.name}"`, column, length);
+    if (role === undefined) return report(new ModelError("unknown_symbol", field, `unknown symbol "${node.name}"`, column, length));
     if (node.order > 0 && (role === "parameter" || role === "input")) {
-      throw new ModelError("rate_of_parameter", field, `"${node.name}" is ${role === "parameter" ? "a parameter" : "an input"} and has no rate`, column, length);
+      report(new ModelError("rate_of_parameter", field, `"${node.name}" is ${role === "parameter" ? "a parameter" : "an input"} and has no rate`, column, length));
     }
   });
 }
@@ -236,10 +278,10 @@ function derivativeOrder(tree: Expr, definitionIndex: Map<string, number>, defin
 }
 
 /** Topological order of definitions; a cycle is reported at the reference that closes it. */
-function orderDefinitions(names: string[], trees: Expr[], index: Map<string, number>): number[] {
+function orderDefinitions(names: string[], trees: (Expr | null)[], index: Map<string, number>): number[] {
   const refs = trees.map((tree) => {
     const out: { target: number; node: Expr }[] = [];
-    walk(tree, (node) => {
+    if (tree) walk(tree, (node) => {
       if (node.kind === "sym" && index.has(node.name)) out.push({ target: index.get(node.name)!, node });
     });
     return out;

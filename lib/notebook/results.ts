@@ -5,7 +5,7 @@
  * `\htmlData{term=ID}{…}`); the notebook only renders it.
  */
 import type { Model } from "../mechanics/model";
-import { locateModelField, type DerivationDocument, type FieldLocation } from "./document";
+import { CELL_LABELS, locateModelField, type DerivationDocument, type FieldLocation } from "./document";
 
 export interface EquationView {
   coordinate: string;
@@ -25,6 +25,14 @@ export interface NotebookResults {
   accelerationsNote?: string;
   energyLatex?: string;
   conserved?: { name: string; latex: string; reason: string }[];
+  /** Why the energy function is not conserved (explicit time, dissipation, applied forces); absent when it is. */
+  energyNotConserved?: string;
+  /**
+   * Each cyclic coordinate (L does not depend on it) with its momentum and the
+   * momentum balance dp/dt = Q − ∂D/∂q' as one LaTeX line, and what acts on it;
+   * `conserved` when nothing does.
+   */
+  cyclicMomenta?: { coordinate: string; conserved: boolean; rateLatex: string; actedOnBy: string[] }[];
   linearization?: {
     equilibria: { label: string; values: Record<string, number> }[];
     /** For the equilibrium the linearization cell chose. */
@@ -34,14 +42,34 @@ export interface NotebookResults {
       inputNames: string[];
       A: number[][];
       B: number[][];
-      /** Natural frequencies in Hz, with mode shapes as columns over the coordinates. */
-      frequenciesHz: number[];
-      modeShapes: number[][];
-      stable: boolean;
+      /** Every mode of K v = ω² M v, by ω²: oscillating, rigid (ω = 0) and divergent (ω² < 0) ones. */
+      modes: ModeView[];
+      /** Eigenvalues of A, rounding noise below the stability tolerance written as 0. */
+      eigenvalues: { re: number; im: number }[];
+      /** The verdict of the one stability rule (lib/mechanics/stability.ts), as the equilibrium list shows it. */
+      stability: "stable" | "marginal" | "unstable";
+      /** The clause of the rule that decided, in words. */
+      stabilityReason: string;
     };
   };
   code?: { language: string; filename: string; source: string }[];
   timingMs?: number;
+}
+
+/** One mode of the linearization, as the notebook shows it. */
+export interface ModeView {
+  kind: "oscillating" | "rigid" | "divergent";
+  /** Undamped natural frequency; 0 for a rigid mode, null for a divergent one. */
+  hertz: number | null;
+  /** √(−ω²) in 1/s for a divergent mode (the undamped motion grows like exp(rate·t)), else null. */
+  growthRate: number | null;
+  /** Over the coordinates, largest entry +1. */
+  shape: number[];
+  /**
+   * The mode's eigenvalue of A (Im λ > 0) once damping is included, when it has
+   * an oscillating one: damped frequency Im λ/2π, damping ratio ζ = −Re λ/|λ|.
+   */
+  eigenvalue: { re: number; im: number } | null;
 }
 
 /** A problem the evaluator found, as `ModelError.toJSON()` gives it. */
@@ -104,4 +132,37 @@ export function toEditorDiagnostic(located: LocatedDiagnostic, currentText: stri
   const text = located.text ?? currentText;
   if (column === null) return { from: 0, to: text.length, message, source: code };
   return { from: column - 1, to: column - 1 + Math.max(1, length), message, source: code };
+}
+
+const COLUMN_HEADINGS: Record<string, string> = { name: "Name", unit: "Unit", value: "Value", expr: "Expression", description: "Description" };
+const ROW_NOUNS: Record<string, string> = { coordinates: "coordinate", parameters: "parameter", inputs: "input", definitions: "definition" };
+
+/**
+ * The label the analyst sees for a model field: `kinetic` → "Kinetic energy",
+ * `parameters[1].unit` → "Unit, parameter 2 (g)", `definitions[0].expr` →
+ * "Expression of x1", `forces.theta` → "Generalized force on theta". Row
+ * numbers count the rows as the grid shows them, blank ones included.
+ */
+export function fieldLabel(doc: DerivationDocument, field: string): string {
+  if (field === "" || field === "model") return "The model";
+  if (field === "title") return "Title";
+  const location = locateModelField(doc, field);
+  const cell = location ? doc.cells.find((c) => c.id === location.cellId) : undefined;
+  if (!location || !cell) return field;
+  if (location.coordinate) return `Generalized force on ${location.coordinate}`;
+  if (!location.rowId || !("rows" in cell)) return cell.title ?? CELL_LABELS[cell.kind];
+  const rows = cell.rows as { id: string; name: string }[];
+  const index = rows.findIndex((row) => row.id === location.rowId);
+  const row = rows[index];
+  const name = row?.name.trim() ?? "";
+  if (location.column === "expr" && name !== "") return `Expression of ${name}`;
+  const where = `${ROW_NOUNS[cell.kind] ?? "row"} ${index + 1}${name !== "" && location.column !== "name" ? ` (${name})` : ""}`;
+  const heading = location.column ? COLUMN_HEADINGS[location.column] : undefined;
+  return heading ? `${heading}, ${where}` : where.charAt(0).toUpperCase() + where.slice(1);
+}
+
+/** One line for a diagnostic, in the analyst's labels: `Kinetic energy, column 12: unknown symbol "l3"`. */
+export function diagnosticLine(doc: DerivationDocument, diagnostic: Pick<ModelDiagnostic, "field" | "column" | "message">): string {
+  const label = fieldLabel(doc, diagnostic.field);
+  return `${label}${diagnostic.column !== null ? `, column ${diagnostic.column}` : ""}: ${diagnostic.message}`;
 }

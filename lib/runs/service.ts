@@ -10,10 +10,12 @@ import { AppError } from "@/lib/errors";
 import { EngineLimitError } from "@/lib/mechanics/errors";
 import type { Model } from "@/lib/mechanics/model";
 import { updateRow, type DerivationDocument, type ParametersCell } from "@/lib/notebook/document";
+import { explainFit } from "@/lib/simulate/fit-report";
 import type { WorkerErrorPayload } from "@/lib/simulate/worker-protocol";
 import { deleteObject, getObjectBytes, putObject } from "@/lib/storage";
 import { getSimulationPool } from "@/lib/workers/simulation-pool";
 import type { FitTaskInput, FitTaskOutput, SimulateTaskInput, SimulateTaskOutput } from "./tasks";
+import type { FitJson } from "./views";
 import { INLINE_TRAJECTORY_VALUES, decimate, decimationStride, storedTrajectoryOf, valueCount } from "./trajectory";
 
 /** Time a worker may spend deriving and compiling before the integration's own clock starts. */
@@ -77,7 +79,8 @@ function poolError(surface: "simulation" | "fit", error: unknown, limitMs: numbe
   return engineErrorToAppError(error);
 }
 
-function trajectoryKey(derivationId: string, runId: string): string {
+/** Where a large run's trajectory is stored. */
+export function trajectoryKey(derivationId: string, runId: string): string {
   return `derivations/${derivationId}/runs/${runId}/trajectory.json`;
 }
 
@@ -183,7 +186,7 @@ export interface FitRequest {
 }
 
 /** Fits parameters of the derivation's current model to a stored measured file, in the simulation pool. */
-export async function fitToMeasuredFile({ derivation, request }: { derivation: Derivation; request: FitRequest }) {
+export async function fitToMeasuredFile({ derivation, request }: { derivation: Derivation; request: FitRequest }): Promise<Omit<FitJson, "applied">> {
   if (request.file.kind !== "measured_csv") {
     throw new AppError("unprocessable:fit", "Choose a measured-data CSV to fit to.", { fieldErrors: { fileId: ["Not a measured-data file."] } });
   }
@@ -222,7 +225,15 @@ export async function fitToMeasuredFile({ derivation, request }: { derivation: D
       iterations: result.iterations,
       simulations: result.simulations,
       covariance: result.covariance,
+      notIdentifiable: result.notIdentifiable,
+      recordMoves: result.recordMoves,
       wallTimeMs: result.wallTimeMs,
+      // The same sentences for every client: how it ended, residuals with units, what the data cannot determine.
+      report: explainFit(result, {
+        coordinateUnits: Object.fromEntries(measured.series.map((series) => [series.coordinate, series.targetUnit])),
+        inputs: (model.inputs ?? []).map((input) => input.name),
+        appliedInputs: Object.entries(request.settings?.inputs ?? {}).filter(([, expr]) => String(expr).trim() !== "").map(([name]) => name),
+      }),
     },
     overlay: {
       fileId: request.file.id,

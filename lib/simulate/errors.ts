@@ -37,6 +37,7 @@ export type MeasuredDataErrorCode =
   | "too_many_rows"
   | "too_few_rows"
   | "empty"
+  | "syntax"
   | "header"
   | "missing_column"
   | "duplicate_column"

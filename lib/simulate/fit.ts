@@ -1,5 +1,5 @@
 import { levenbergMarquardt } from "ml-levenberg-marquardt";
-import { Matrix, inverse, pseudoInverse } from "ml-matrix";
+import { EigenvalueDecomposition, Matrix, inverse } from "ml-matrix";
 import { FitError } from "./errors";
 import { integrate, type CancelSignal, type SimulationSettings } from "./integrate";
 import type { MeasuredData } from "./measured";
@@ -58,14 +58,34 @@ export interface FittedParameter {
   value: number;
   /**
    * Standard error from the Jacobian at the optimum, √diag(σ² (JᵀJ)⁻¹) with
-   * σ² = SSE / (N − p). Assumes independent, equal-variance measurement noise
-   * and a model that can describe the data; null when JᵀJ is singular (the
-   * parameter is not identifiable from these data).
+   * σ² = SSE / (N − p), over the identifiable parameters (the others held at
+   * their values). Assumes independent, equal-variance measurement noise and
+   * a model that can describe the data; null when the parameter is not
+   * identifiable from these data (see `FitResult.notIdentifiable`) or the fit
+   * stopped before the Jacobian could be taken.
    */
   standardError: number | null;
 }
 
-export type FitStatus = "converged" | "max_iterations" | "time_limit" | "cancelled";
+/**
+ * How the fit ended. `unchanged`: no step from the starting values lowered
+ * the misfit, so the values reported are the starting values — never called
+ * converged, because nothing was found.
+ */
+export type FitStatus = "converged" | "unchanged" | "max_iterations" | "time_limit" | "cancelled";
+
+/**
+ * Parameters the data cannot determine, and why.
+ * - `no_effect`: changing the parameter leaves the measured record unchanged.
+ *   `affectsUnmeasured` lists the model's coordinates that do respond (measure
+ *   one of them); empty when nothing in this record responds.
+ * - `only_together`: a joint change of these parameters leaves the record
+ *   unchanged, so only a combination of them is fixed by the data. `direction`
+ *   gives that change as relative steps (largest magnitude 1).
+ */
+export type NotIdentifiable =
+  | { kind: "no_effect"; parameters: string[]; affectsUnmeasured: string[] }
+  | { kind: "only_together"; parameters: string[]; direction: Record<string, number> };
 
 export interface FitResult {
   status: FitStatus;
@@ -78,8 +98,16 @@ export interface FitResult {
   observations: number;
   iterations: number;
   simulations: number;
-  /** Parameter covariance σ² (JᵀJ)⁻¹ in the order of `parameters`; null when singular. */
-  covariance: number[][] | null;
+  /**
+   * Parameter covariance σ² (JᵀJ)⁻¹ in the order of `parameters`; rows and
+   * columns of parameters that are not identifiable are null. Null as a whole
+   * when the fit stopped at a time limit or was cancelled.
+   */
+  covariance: (number | null)[][] | null;
+  /** Parameters the data cannot determine, grouped with the reason; empty when all are determined (or not checked after a time limit). */
+  notIdentifiable: NotIdentifiable[];
+  /** False when every measured coordinate is constant over the record. */
+  recordMoves: boolean;
   /** The fitted model at the measured times, per measured coordinate, for overlay. */
   fitted: { coordinate: string; values: Float64Array }[];
   wallTimeMs: number;
@@ -314,23 +342,78 @@ function* fitSteps(options: FitOptions): Generator<void, FitResult> {
     return Object.fromEntries(names.map((name, j) => [name, xs[j]! * scales[j]!]));
   }
 
-  // Uncertainty from central differences at the optimum (skipped when out of time).
+  // Nothing moved: no accepted step took the values off their starting point.
+  const movedFromStart = x.some((v) => Math.abs(v - 1) > 1e-9);
+  if ((status === "converged" || status === "max_iterations") && !movedFromStart) status = "unchanged";
+
+  // Uncertainty and identifiability from central differences at the optimum (skipped when out of time).
   const finalModel = model(x, true);
   let finalSse = 0;
   for (let i = 0; i < observations; i++) finalSse += (finalModel[i]! - target[i]!) ** 2;
-  let covariance: number[][] | null = null;
-  if (status === "converged" || status === "max_iterations") {
+  const recordMoves = spread.some((v) => v > 1e-12);
+  let covariance: (number | null)[][] | null = null;
+  let notIdentifiable: NotIdentifiable[] = [];
+  if (status !== "time_limit" && status !== "cancelled") {
     try {
-      const { jtj } = jacobianAt(x, model, target, stepOf(x), true);
+      // Step near the cube root of the integration tolerance: the balance of truncation and integrator noise.
+      const step = Math.min(1e-2, Math.max(1e-6, Math.cbrt(baseSettings.relativeTolerance ?? 1e-10)));
+      const { jtj, columns } = jacobianAt(x, model, target, x.map((v) => step * Math.max(Math.abs(v), 1e-3)), true);
+      const diagnosis = diagnoseIdentifiability(columns, spread, rows);
+      notIdentifiable = diagnosis.groups.map((group) => {
+        const parameters = group.indices.map((j) => names[j]!);
+        if (group.kind === "only_together") {
+          // From steps in scaled parameters to relative changes of the fitted values, largest 1.
+          const relative = group.indices.map((j, k) => group.direction[k]! / (x[j]! !== 0 ? x[j]! : 1));
+          const largest = Math.max(...relative.map(Math.abs));
+          return { kind: "only_together", parameters, direction: Object.fromEntries(group.indices.map((j, k) => [names[j]!, relative[k]! / largest])) };
+        }
+        return { kind: "no_effect", parameters, affectsUnmeasured: unmeasuredResponse(group.indices) };
+      });
+      const determined = names.map((_, j) => j).filter((j) => !diagnosis.undetermined.has(j));
       const sigma2 = finalSse / (observations - names.length);
-      const inverted = invertSymmetric(jtj);
+      const inverted = determined.length > 0 ? invertSymmetric(subMatrix(jtj, determined)) : null;
+      covariance = names.map(() => names.map(() => null as number | null));
       if (inverted) {
         // Back from scaled parameters: cov(p) = S cov(x) S.
-        covariance = inverted.to2DArray().map((row, i) => row.map((v, j) => sigma2 * v * scales[i]! * scales[j]!));
+        determined.forEach((i, a) => determined.forEach((j, b) => (covariance![i]![j] = sigma2 * inverted.get(a, b) * scales[i]! * scales[j]!)));
       }
     } catch (stop) {
       if (!(stop instanceof StopFit)) throw stop;
+      covariance = null;
+      notIdentifiable = [];
     }
+  }
+
+  /**
+   * Coordinates outside the measured record that respond when the given
+   * parameters change by 10 %: measuring one of them would determine them.
+   */
+  function unmeasuredResponse(indices: readonly number[]): string[] {
+    const unmeasured = system.coordinateNames.filter((name) => !series.some((s) => s.coordinate === name));
+    if (unmeasured.length === 0) return [];
+    const responding = new Set<string>();
+    const run = (factor: number) => {
+      const values: Record<string, number> = { ...baseSettings.parameters, ...valuesOf(x) };
+      for (const j of indices) values[names[j]!] = x[j]! * scales[j]! * factor;
+      const remaining = Math.max(deadline - now(), 2000);
+      return integrate(system, { ...baseSettings, parameters: values, timeLimitMs: Math.min(remaining, baseSettings.timeLimitMs ?? Infinity) }).trajectory;
+    };
+    const base = run(1);
+    const changed = run(1.1);
+    for (const name of unmeasured) {
+      const i = system.coordinateNames.indexOf(name);
+      const a = base.coordinates[i]!;
+      const b = changed.coordinates[i]!;
+      const count = Math.min(a.length, b.length);
+      let largest = 0;
+      let difference = 0;
+      for (let k = 0; k < count; k++) {
+        largest = Math.max(largest, Math.abs(a[k]!), Math.abs(b[k]!));
+        difference = Math.max(difference, Math.abs(a[k]! - b[k]!));
+      }
+      if (difference > 1e-6 * Math.max(largest, 1e-9)) responding.add(name);
+    }
+    return [...responding];
   }
 
   const residualRmsByCoordinate: Record<string, number> = {};
@@ -353,7 +436,7 @@ function* fitSteps(options: FitOptions): Generator<void, FitResult> {
         name,
         initial: initial[j]!,
         value: x[j]! * scales[j]!,
-        standardError: variance !== undefined && variance >= 0 ? Math.sqrt(variance) : null,
+        standardError: variance !== undefined && variance !== null && variance >= 0 ? Math.sqrt(variance) : null,
       };
     }),
     residualRms: Math.sqrt(finalSse / observations),
@@ -362,13 +445,21 @@ function* fitSteps(options: FitOptions): Generator<void, FitResult> {
     iterations,
     simulations,
     covariance,
+    notIdentifiable,
+    recordMoves,
     fitted,
     wallTimeMs: now() - began,
   };
 }
 
 /** JᵀJ of the residuals by forward (or central) differences. */
-function jacobianAt(x: readonly number[], model: (x: ArrayLike<number>) => Float64Array, target: Float64Array, steps: readonly number[], central = false): { jtj: Matrix } {
+function jacobianAt(
+  x: readonly number[],
+  model: (x: ArrayLike<number>) => Float64Array,
+  target: Float64Array,
+  steps: readonly number[],
+  central = false,
+): { jtj: Matrix; columns: Float64Array[] } {
   const p = x.length;
   const n = target.length;
   const base = model(x);
@@ -399,21 +490,94 @@ function jacobianAt(x: readonly number[], model: (x: ArrayLike<number>) => Float
       jtj.set(b, a, sum);
     }
   }
-  return { jtj };
+  return { jtj, columns };
 }
 
-/** (JᵀJ)⁻¹, or null when JᵀJ is numerically singular (a parameter the data cannot determine). */
+/** Largest ratio of an eigenvalue to the largest one below which a direction counts as not determined. */
+const UNDETERMINED_EIGENVALUE_RATIO = 1e-8;
+/** A parameter whose doubling moves the record by less than this fraction of its range has no effect on it. */
+const NO_EFFECT_SENSITIVITY = 1e-5;
+
+interface IdentifiabilityDiagnosis {
+  undetermined: Set<number>;
+  groups: ({ kind: "no_effect"; indices: number[] } | { kind: "only_together"; indices: number[]; direction: number[] })[];
+}
+
+/**
+ * Which scaled parameters the residual Jacobian leaves undetermined: those
+ * whose column is negligible next to the data's range (no effect), and the
+ * combinations along near-null eigenvectors of the columns' correlation
+ * matrix (only together). Columns are series-major, `rows` values per series.
+ */
+function diagnoseIdentifiability(columns: readonly Float64Array[], spread: readonly number[], rows: number): IdentifiabilityDiagnosis {
+  const p = columns.length;
+  const undetermined = new Set<number>();
+  const groups: IdentifiabilityDiagnosis["groups"] = [];
+  // Sensitivity of each series per unit relative change, against that series' range.
+  const noEffect: number[] = [];
+  for (let j = 0; j < p; j++) {
+    const column = columns[j]!;
+    let relevant = false;
+    spread.forEach((range, c) => {
+      let sum = 0;
+      for (let k = 0; k < rows; k++) sum += column[c * rows + k]! ** 2;
+      if (Math.sqrt(sum / rows) > NO_EFFECT_SENSITIVITY * Math.max(range, 1e-12)) relevant = true;
+    });
+    if (!relevant) noEffect.push(j);
+  }
+  if (noEffect.length > 0) {
+    groups.push({ kind: "no_effect", indices: noEffect });
+    noEffect.forEach((j) => undetermined.add(j));
+  }
+  const rest = Array.from({ length: p }, (_, j) => j).filter((j) => !undetermined.has(j));
+  if (rest.length < 2) return { undetermined, groups };
+  const norms = rest.map((j) => Math.hypot(...columns[j]!));
+  const correlation = new Matrix(rest.length, rest.length);
+  rest.forEach((i, a) =>
+    rest.forEach((j, b) => {
+      let sum = 0;
+      const ci = columns[i]!;
+      const cj = columns[j]!;
+      for (let k = 0; k < ci.length; k++) sum += ci[k]! * cj[k]!;
+      correlation.set(a, b, sum / (norms[a]! * norms[b]!));
+    }),
+  );
+  const decomposition = new EigenvalueDecomposition(correlation, { assumeSymmetric: true });
+  const eigenvalues = decomposition.realEigenvalues;
+  const largest = Math.max(...eigenvalues);
+  const vectors = decomposition.eigenvectorMatrix;
+  eigenvalues.forEach((value, e) => {
+    if (value > UNDETERMINED_EIGENVALUE_RATIO * largest) return;
+    // In correlation form the eigenvector's entries are relative steps divided by each column's norm.
+    const raw = rest.map((_, a) => vectors.get(a, e) / norms[a]!);
+    const scale = Math.max(...raw.map(Math.abs));
+    const members = rest.map((j, a) => ({ j, step: raw[a]! / scale })).filter((m) => Math.abs(m.step) >= 0.05);
+    if (members.length === 0) return;
+    members.forEach((m) => undetermined.add(m.j));
+    groups.push({ kind: "only_together", indices: members.map((m) => m.j), direction: members.map((m) => m.step) });
+  });
+  return { undetermined, groups };
+}
+
+function subMatrix(matrix: Matrix, indices: readonly number[]): Matrix {
+  const result = new Matrix(indices.length, indices.length);
+  indices.forEach((i, a) => indices.forEach((j, b) => result.set(a, b, matrix.get(i, j))));
+  return result;
+}
+
+/** (JᵀJ)⁻¹ through its scale-free correlation form, or null when that is singular. */
 function invertSymmetric(matrix: Matrix): Matrix | null {
   const diagonal = matrix.diag();
   if (diagonal.some((d) => !(d > 0))) return null;
-  // Condition test on the correlation form, which is scale-free.
   const d = diagonal.map((v) => 1 / Math.sqrt(v));
   const correlation = new Matrix(matrix.rows, matrix.columns);
   for (let i = 0; i < matrix.rows; i++) for (let j = 0; j < matrix.columns; j++) correlation.set(i, j, matrix.get(i, j) * d[i]! * d[j]!);
-  const pinv = pseudoInverse(correlation, 1e-12);
-  const check = correlation.mmul(pinv);
-  for (let i = 0; i < check.rows; i++) if (Math.abs(check.get(i, i) - 1) > 1e-6) return null;
-  const inv = inverse(correlation);
+  let inv: Matrix;
+  try {
+    inv = inverse(correlation);
+  } catch {
+    return null;
+  }
   for (let i = 0; i < inv.rows; i++) for (let j = 0; j < inv.columns; j++) inv.set(i, j, inv.get(i, j) * d[i]! * d[j]!);
   return inv;
 }

@@ -1,5 +1,6 @@
 // Public API of the simulation library (framework-free; runs in a Web Worker and in Node worker threads).
-// Worker entries are separate modules: browser-worker.ts and node-worker.ts.
+// The worker handler (worker-protocol.ts) serves the notebook's Web Worker (components/notebook/simulation);
+// the server runs simulations through lib/runs (tasks.ts in the simulation worker pool).
 export { SingularMatrixError, SimulationSetupError, MeasuredDataError, FitError } from "./errors";
 export type { SimulationSetupErrorCode, MeasuredDataErrorCode, FitErrorCode } from "./errors";
 export { createLuWorkspace, factorInPlace, substituteInPlace, solveInPlace, DEFAULT_SINGULAR_TOLERANCE } from "../numeric/linear-solve";
@@ -13,7 +14,7 @@ export type {
   SpecializedEvaluators,
   MassMatrixForm,
   ExpressionCompiler,
-  CompiledExpressions,
+  ExpressionEvaluator,
   VariableLayout,
 } from "./system";
 export { integrate, integrateInSlices, STEP_TOLERANCE_FACTOR } from "./integrate";
@@ -29,7 +30,7 @@ export type {
   InputSignal,
   CancelSignal,
 } from "./integrate";
-export { energyDrift, estimatePeriod, upwardCrossings, checkSmallOscillation, DEFAULT_ENERGY_DRIFT_THRESHOLD } from "./checks";
+export { energyDrift, estimatePeriod, upwardCrossings, checkSmallOscillation, explainSmallOscillation, INTEGRATION_ERROR_FACTOR, DEFAULT_ENERGY_DRIFT_THRESHOLD } from "./checks";
 export type { EnergyDriftReport, PeriodEstimate, SmallOscillationOptions, SmallOscillationReport } from "./checks";
 export { parseMeasuredCsv, resample, DEFAULT_MEASURED_LIMITS } from "./measured";
 export type { MeasuredData, MeasuredSeries, MeasuredDataOptions } from "./measured";

@@ -1,4 +1,5 @@
-import { unit as mathUnit } from "mathjs";
+import Papa from "papaparse";
+import { parseUnitText, sameUnitDimension, siUnitText, type ParsedUnit, type UnitDimension } from "../units";
 import { MeasuredDataError } from "./errors";
 
 /**
@@ -24,11 +25,15 @@ import { MeasuredDataError } from "./errors";
  *   coordinate is written `[1]`.
  * - Cells are separated by commas; a header without commas may use
  *   semicolons or tabs instead, and the data rows then use the same. Cells may
- *   be wrapped in double quotes. Numbers use a decimal point (`1.5`, `-2e-3`).
+ *   be wrapped in double quotes (then, quoted from the cell's first character,
+ *   they may hold the delimiter); whitespace around a delimiter is ignored. Numbers use a decimal point (`1.5`, `-2e-3`).
  * - Every data row has one number per column: no empty cells, no `NaN`, no
  *   infinities. Time increases strictly from row to row.
  * - A time column and at least one coordinate column are required, and at
  *   least two data rows.
+ * - A trajectory exported by Holonomy reads as it is: its rate columns
+ *   (`theta1' [rad/s]`) and energy column (`energy [J]`) are checked for
+ *   their units and otherwise not read.
  *
  * Values are converted to SI (or to the coordinate's unit in the model, when
  * given): deg → rad, mm → m, ms → s.
@@ -70,8 +75,83 @@ export interface MeasuredDataOptions {
 
 export const DEFAULT_MEASURED_LIMITS = { maxBytes: 10 * 1024 * 1024, maxRows: 200_000 };
 
-const HEADER_CELL = /^([A-Za-z_][A-Za-z0-9_]*)\s*(?:\[([^\]]*)\])?$/;
+const HEADER_CELL = /^([A-Za-z_][A-Za-z0-9_]*)(')?\s*(?:\[([^\]]*)\])?$/;
 const NUMBER = /^[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?$/;
+/** kg·m²/s², the energy function's unit (angle 0). */
+const ENERGY_DIMENSION: UnitDimension = [1, 2, -2, 0, 0, 0, 0, 0];
+
+interface CsvRecord {
+  cells: string[];
+  /** 1-based physical line where the record ends. */
+  line: number;
+}
+
+/**
+ * The file's records through papaparse: quoted cells may hold the delimiter
+ * or a line break, `#` lines and blank lines are skipped, and each record
+ * keeps the physical line where it ends. papaparse opens a quote only at a
+ * cell's first character (RFC 4180), so a cell written `, "2"` is trimmed and
+ * unquoted here, as such files were read before.
+ */
+function csvRecords(text: string, delimiter: string): CsvRecord[] {
+  const records: CsvRecord[] = [];
+  let counted = 0;
+  let line = 1;
+  /** The 1-based line of a text index (indexes only grow, so the count runs once over the text). */
+  const lineAt = (index: number): number => {
+    for (; counted < index; counted++) if (text.charCodeAt(counted) === 10) line++;
+    return line;
+  };
+  let problem: MeasuredDataError | null = null;
+  Papa.parse<string[]>(text, {
+    delimiter,
+    newline: "\n",
+    comments: "#",
+    skipEmptyLines: "greedy",
+    step: (results, parser) => {
+      const error = results.errors[0];
+      if (error) {
+        problem = new MeasuredDataError("syntax", csvProblem(error), lineAt(error.index ?? results.meta.cursor));
+        parser.abort();
+        return;
+      }
+      const end = results.meta.cursor;
+      const rowEnd = end > 0 && text.charCodeAt(end - 1) === 10 ? end - 1 : end;
+      const cells = results.data.map(unquote);
+      // A comment indented by spaces is not papaparse's comment; skip it here.
+      if (cells[0]?.startsWith("#")) {
+        lineAt(end);
+        return;
+      }
+      records.push({ cells, line: lineAt(rowEnd) });
+    },
+  });
+  if (problem) throw problem;
+  return records;
+}
+
+function unquote(cell: string): string {
+  let value = cell.trim();
+  if (value.length >= 2 && value.startsWith('"') && value.endsWith('"')) value = value.slice(1, -1).trim();
+  return value;
+}
+
+function csvProblem(error: Papa.ParseError): string {
+  switch (error.code) {
+    case "MissingQuotes":
+      return "a quoted cell is not closed";
+    case "InvalidQuotes":
+      return "a quote is misplaced inside a quoted cell (write a quote in a quoted cell as two quotes)";
+    default:
+      return `the line does not read as CSV (${error.message})`;
+  }
+}
+
+type Column =
+  | { kind: "time"; index: number }
+  | { kind: "coordinate"; index: number; coordinate: string; unit: string; targetUnit: string; scale: number }
+  /** A rate or the energy function (as a trajectory export writes them): checked, then not read. */
+  | { kind: "other"; index: number };
 
 /**
  * Parses and checks a CSV of measured data; throws `MeasuredDataError` with the
@@ -89,89 +169,87 @@ export function parseMeasuredCsv(text: string, options: MeasuredDataOptions): Me
     throw new MeasuredDataError("too_large", `the file is larger than the limit of ${formatBytes(maxBytes)}`);
   }
 
-  const lines = text.split(/\r\n|\n|\r/);
-  let headerIndex = -1;
-  for (let i = 0; i < lines.length; i++) {
-    const trimmed = lines[i]!.trim();
-    if (trimmed === "" || trimmed.startsWith("#")) continue;
-    headerIndex = i;
-    break;
-  }
-  if (headerIndex < 0) throw new MeasuredDataError("empty", "the file has no header row and no data");
-
-  const headerLine = headerIndex + 1;
-  const headerText = lines[headerIndex]!;
+  // One line break throughout, so every record's line number counts physical lines.
+  const normalized = text.replace(/\r\n?/g, "\n");
+  const headerText = firstContentLine(normalized);
+  if (headerText === undefined) throw new MeasuredDataError("empty", "the file has no header row and no data");
   const delimiter = headerText.includes(",") ? "," : headerText.includes(";") ? ";" : headerText.includes("\t") ? "\t" : ",";
-  const headerCells = splitCells(headerText, delimiter);
+  const records = csvRecords(normalized, delimiter);
+  const header = records[0];
+  if (!header) throw new MeasuredDataError("empty", "the file has no header row and no data");
+  const headerLine = header.line;
 
   const known = new Map(options.coordinates.map((c) => [c.name, c.unit]));
-  let timeColumn = -1;
+  const columns: Column[] = [];
   let timeUnit = "";
   let timeScale = 1;
-  const columns: { index: number; coordinate: string; unit: string; targetUnit: string; scale: number }[] = [];
   const seen = new Set<string>();
 
-  headerCells.forEach((cell, index) => {
+  header.cells.forEach((cell, index) => {
     const match = HEADER_CELL.exec(cell);
     if (!match) {
       throw new MeasuredDataError("header", `header cell ${index + 1} ("${cell}") is not of the form name [unit], e.g. theta1 [deg]`, headerLine, cell);
     }
     const name = match[1]!;
-    const unitText = match[2]?.trim();
-    const isTime = name === "t" || name === "time";
-    const key = isTime ? "t" : name;
-    if (seen.has(key)) throw new MeasuredDataError("duplicate_column", `the column "${name}" appears twice`, headerLine, name);
+    const rate = match[2] === "'";
+    const unitText = match[3]?.trim();
+    const isTime = !rate && (name === "t" || name === "time");
+    const isEnergy = !rate && name === "energy" && !known.has(name);
+    const key = isTime ? "t" : rate ? `${name}'` : name;
+    const label = rate ? `${name}'` : name;
+    if (seen.has(key)) throw new MeasuredDataError("duplicate_column", `the column "${label}" appears twice`, headerLine, label);
     seen.add(key);
-    if (!isTime && !known.has(name)) {
+    if (!isTime && !isEnergy && !known.has(name)) {
       const names = [...known.keys()].join(", ");
-      throw new MeasuredDataError("unknown_column", `"${name}" is not a coordinate of the model (coordinates: ${names}; time: t)`, headerLine, name);
+      throw new MeasuredDataError("unknown_column", `"${name}" is not a coordinate of the model (coordinates: ${names}; time: t)`, headerLine, label);
     }
     if (unitText === undefined || unitText === "") {
-      throw new MeasuredDataError("missing_unit", `the column "${name}" has no unit; write it in brackets, e.g. ${name} [${isTime ? "s" : "rad"}]`, headerLine, name);
+      throw new MeasuredDataError("missing_unit", `the column "${label}" has no unit; write it in brackets, e.g. ${label} [${isTime ? "s" : "rad"}]`, headerLine, label);
     }
     if (isTime) {
-      timeColumn = index;
       timeUnit = unitText;
       timeScale = conversionFactor(unitText, "s", headerLine, name);
+      columns.push({ kind: "time", index });
+    } else if (isEnergy) {
+      expectDimension(unitText, ENERGY_DIMENSION, "J", headerLine, label);
+      columns.push({ kind: "other", index });
+    } else if (rate) {
+      const target = known.get(name)?.trim();
+      if (target) {
+        const { dimension } = readUnit(target, headerLine, label, "model");
+        expectDimension(unitText, dimension.map((d, i) => (i === 2 ? d - 1 : d)), `${target}/s`, headerLine, label);
+      } else readUnit(unitText, headerLine, label, "column");
+      columns.push({ kind: "other", index });
     } else {
       const target = known.get(name);
       if (target === undefined || target.trim() === "") {
         const scale = conversionFactor(unitText, null, headerLine, name);
-        columns.push({ index, coordinate: name, unit: unitText, targetUnit: siName(unitText), scale });
+        columns.push({ kind: "coordinate", index, coordinate: name, unit: unitText, targetUnit: siUnitText(readUnit(unitText, headerLine, name, "column").dimension), scale });
       } else {
-        columns.push({ index, coordinate: name, unit: unitText, targetUnit: target, scale: conversionFactor(unitText, target, headerLine, name) });
+        columns.push({ kind: "coordinate", index, coordinate: name, unit: unitText, targetUnit: target, scale: conversionFactor(unitText, target, headerLine, name) });
       }
     }
   });
 
+  const timeColumn = columns.find((c) => c.kind === "time")?.index ?? -1;
+  const coordinateColumns = columns.filter((c): c is Extract<Column, { kind: "coordinate" }> => c.kind === "coordinate");
   if (timeColumn < 0) throw new MeasuredDataError("missing_column", "the header has no time column (t [s])", headerLine, "t");
-  if (columns.length === 0) throw new MeasuredDataError("missing_column", "the header has no coordinate column", headerLine);
+  if (coordinateColumns.length === 0) throw new MeasuredDataError("missing_column", "the header has no coordinate column", headerLine);
   for (const required of options.requiredCoordinates ?? []) {
-    if (!columns.some((c) => c.coordinate === required)) {
+    if (!coordinateColumns.some((c) => c.coordinate === required)) {
       throw new MeasuredDataError("missing_column", `the column "${required}" is missing`, headerLine, required);
     }
   }
 
-  // Count data rows first so the arrays are allocated once.
-  let rowCount = 0;
-  for (let i = headerIndex + 1; i < lines.length; i++) {
-    const trimmed = lines[i]!.trim();
-    if (trimmed === "" || trimmed.startsWith("#")) continue;
-    rowCount++;
-    if (rowCount > maxRows) throw new MeasuredDataError("too_many_rows", `more than ${maxRows} data rows`, i + 1);
-  }
+  const rowCount = records.length - 1;
+  if (rowCount > maxRows) throw new MeasuredDataError("too_many_rows", `more than ${maxRows} data rows`, records[maxRows + 1]!.line);
   if (rowCount < 2) throw new MeasuredDataError("too_few_rows", "at least two data rows are needed", rowCount === 0 ? headerLine : null);
 
   const times = new Float64Array(rowCount);
-  const values = columns.map(() => new Float64Array(rowCount));
-  const width = headerCells.length;
-  let row = 0;
-  for (let i = headerIndex + 1; i < lines.length; i++) {
-    const raw = lines[i]!;
-    const trimmed = raw.trim();
-    if (trimmed === "" || trimmed.startsWith("#")) continue;
-    const line = i + 1;
-    const cells = splitCells(raw, delimiter);
+  const values = coordinateColumns.map(() => new Float64Array(rowCount));
+  const width = header.cells.length;
+  for (let row = 0; row < rowCount; row++) {
+    const { cells, line } = records[row + 1]!;
     if (cells.length !== width) {
       throw new MeasuredDataError("column_count", `expected ${width} cells as in the header, found ${cells.length}`, line);
     }
@@ -188,63 +266,67 @@ export function parseMeasuredCsv(text: string, options: MeasuredDataOptions): Me
       throw new MeasuredDataError("non_monotone_time", `time ${cells[timeColumn]} ${timeUnit} is not after the previous row's`, line, "t");
     }
     times[row] = t;
-    columns.forEach((column, c) => {
+    coordinateColumns.forEach((column, c) => {
       values[c]![row] = read(column.index, column.coordinate) * column.scale;
     });
-    row++;
   }
 
   return {
     times,
     timeUnit,
-    series: columns.map((column, c) => ({ coordinate: column.coordinate, unit: column.unit, targetUnit: column.targetUnit, scale: column.scale, values: values[c]! })),
+    series: coordinateColumns.map((column, c) => ({ coordinate: column.coordinate, unit: column.unit, targetUnit: column.targetUnit, scale: column.scale, values: values[c]! })),
   };
+}
+
+/** The first line that is neither blank nor a comment (the header), without splitting the whole file. */
+function firstContentLine(text: string): string | undefined {
+  for (let start = 0; start < text.length; ) {
+    const end = text.indexOf("\n", start);
+    const line = text.slice(start, end < 0 ? text.length : end);
+    const trimmed = line.trim();
+    if (trimmed !== "" && !trimmed.startsWith("#")) return line;
+    if (end < 0) break;
+    start = end + 1;
+  }
+  return undefined;
+}
+
+/** Reads a unit of a column (or the model's unit for it); refuses unknown units and units with an offset (°C). */
+function readUnit(text: string, line: number, column: string, whose: "column" | "model"): ParsedUnit {
+  let unit: ParsedUnit;
+  try {
+    unit = parseUnitText(text);
+  } catch {
+    throw new MeasuredDataError(
+      "unknown_unit",
+      whose === "model" ? `the model's unit "${text}" for "${column}" is not known` : `unknown unit "${text}" in the column "${column}"`,
+      line,
+      column,
+    );
+  }
+  if (unit.hasOffset) throw new MeasuredDataError("unknown_unit", `the unit "${text}" has an offset; use an absolute unit`, line, column);
+  return unit;
+}
+
+function expectDimension(text: string, dimension: UnitDimension, expected: string, line: number, column: string): void {
+  if (!sameUnitDimension(readUnit(text, line, column, "column").dimension, dimension)) {
+    throw new MeasuredDataError("unit_mismatch", `the column "${column}" is in ${text}, which cannot be converted to ${expected}`, line, column);
+  }
 }
 
 /**
  * Factor turning a reading in `from` into `to` (or SI when `to` is null).
- * Refuses units mathjs does not know, units of another kind, and units with
- * an offset (°C), for which no factor exists.
+ * Refuses unknown units, units of another kind, and units with an offset
+ * (°C), for which no factor exists.
  */
 function conversionFactor(from: string, to: string | null, line: number, column: string): number {
-  if (from === "1") {
-    if (to === null || to === "1") return 1;
-    throw new MeasuredDataError("unit_mismatch", `the column "${column}" is dimensionless but the model gives it in ${to}`, line, column);
-  }
-  let source;
-  try {
-    source = mathUnit(1, from);
-  } catch {
-    throw new MeasuredDataError("unknown_unit", `unknown unit "${from}" in the column "${column}"`, line, column);
-  }
-  if (mathUnit(0, from).toSI().toNumber() !== 0) {
-    throw new MeasuredDataError("unknown_unit", `the unit "${from}" has an offset; use an absolute unit`, line, column);
-  }
-  if (to === null) return source.toSI().toNumber();
-  let target;
-  try {
-    target = mathUnit(1, to);
-  } catch {
-    throw new MeasuredDataError("unknown_unit", `the model's unit "${to}" for "${column}" is not known`, line, column);
-  }
-  if (!source.equalBase(target)) {
+  const source = readUnit(from, line, column, "column");
+  if (to === null) return source.factor;
+  const target = readUnit(to, line, column, "model");
+  if (!sameUnitDimension(source.dimension, target.dimension)) {
     throw new MeasuredDataError("unit_mismatch", `the column "${column}" is in ${from}, which cannot be converted to ${to}`, line, column);
   }
-  return source.toNumber(to);
-}
-
-function siName(unitText: string): string {
-  if (unitText === "1") return "1";
-  const si = mathUnit(1, unitText).toSI();
-  return si.formatUnits();
-}
-
-function splitCells(line: string, delimiter: string): string[] {
-  return line.split(delimiter).map((cell) => {
-    let value = cell.trim();
-    if (value.length >= 2 && value.startsWith('"') && value.endsWith('"')) value = value.slice(1, -1).trim();
-    return value;
-  });
+  return source.factor / target.factor;
 }
 
 function utf8Length(text: string): number {

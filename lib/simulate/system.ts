@@ -1,6 +1,7 @@
-import { compileExpressions } from "../mechanics/compile";
+import { compileExpressions, type CompiledExpressions } from "../mechanics/compile";
 import type { DerivationResult } from "../mechanics/derive";
 import { ExpressionError } from "../mechanics/errors";
+import type { ExpressionSource } from "../mechanics/expr/parse";
 import type { Model } from "../mechanics/model";
 import { SimulationSetupError } from "./errors";
 
@@ -90,39 +91,37 @@ export function layoutOf(system: Pick<MechanicalSystem, "coordinateNames" | "inp
 }
 
 /**
- * A numeric evaluator compiled from expression strings: writes the value of
+ * What the integrator needs of compiled expressions: writes the value of
  * expression i into `out[i]`, reading the variables from `values` in the order
- * they were given at compile time.
+ * they were given at compile time (the engine's CompiledExpressions has it).
  */
-export interface CompiledExpressions {
-  evaluate(values: Float64Array, out: Float64Array): void;
-}
+export type ExpressionEvaluator = Pick<CompiledExpressions, "evaluate">;
 
 /**
- * Compiles expression texts over named variables, with optional named
- * constants folded in; the default is lib/mechanics/compile.ts.
+ * Compiles expressions (trees, or text parsed once) over named variables,
+ * with optional named constants folded in; the default is lib/mechanics/compile.ts.
  */
-export type ExpressionCompiler = (texts: string[], variables: string[], constants?: Readonly<Record<string, number>>) => CompiledExpressions;
+export type ExpressionCompiler = (expressions: ExpressionSource[], variables: string[], constants?: Readonly<Record<string, number>>) => ExpressionEvaluator;
 
-const defaultCompiler: ExpressionCompiler = (texts, variables, constants) => compileExpressions(texts, variables, { constants });
+const defaultCompiler: ExpressionCompiler = (expressions, variables, constants) => compileExpressions(expressions, variables, { constants });
 
-/** The mass-matrix form of a derivation as expression strings (the derive output). */
+/** The mass-matrix form of a derivation: trees from deriveModel, or expression text (a worker message, a stored result). */
 export interface MassMatrixForm {
   coordinates: readonly string[];
   inputs?: readonly string[];
   parameters: readonly SystemParameter[];
   /** n rows of n expressions. */
-  massMatrix: readonly (readonly string[])[];
+  massMatrix: readonly (readonly ExpressionSource[])[];
   /** n expressions. */
-  forcing: readonly string[];
+  forcing: readonly ExpressionSource[];
   /** The energy function h = Σ q'·∂L/∂q' − L, when known. */
-  energy?: string | null;
+  energy?: ExpressionSource | null;
   energyConserved?: boolean;
 }
 
 /**
- * Builds a `MechanicalSystem` from the derivation's expression strings. The
- * strings are parsed and compiled once (never evaluated as program text); the
+ * Builds a `MechanicalSystem` from the derivation's expressions. They are
+ * compiled once (text parsed first, never evaluated as program text); the
  * result is cheap to call at every step.
  *
  * @example
@@ -150,11 +149,11 @@ export function systemFromMassMatrixForm(form: MassMatrixForm, compile: Expressi
     ...form.massMatrix.flatMap((row, i) => row.map((_, j) => `massMatrix[${i}][${j}]`)),
     ...form.forcing.map((_, i) => `forcing[${i}]`),
   ];
-  const texts = [...form.massMatrix.flat(), ...form.forcing];
-  const massForcingCompiled = compileLocated(texts, fields, variables, compile);
+  const expressions = [...form.massMatrix.flat(), ...form.forcing];
+  const massForcingCompiled = compileLocated(expressions, fields, variables, compile);
   const massForcing: MassForcingEvaluator = (values, out) => massForcingCompiled.evaluate(values, out);
-  const energyText = form.energy || null;
-  const energy = energyText === null ? undefined : energyEvaluator(compileLocated([energyText], ["energy"], variables, compile));
+  const energyExpression = form.energy || null;
+  const energy = energyExpression === null ? undefined : energyEvaluator(compileLocated([energyExpression], ["energy"], variables, compile));
 
   // Specialized evaluators read the prefix [q, q', t, u] of the packed vector.
   const prefix = variables.slice(0, 2 * n + 1 + shape.inputNames.length);
@@ -170,10 +169,10 @@ export function systemFromMassMatrixForm(form: MassMatrixForm, compile: Expressi
     // One-entry cache: repeated runs with the same values (a worker, a benchmark) compile once.
     const key = JSON.stringify(constants);
     if (cached !== null && key === cachedKey) return cached;
-    const compiled = compileLocated(texts, fields, prefix, compile, constants);
+    const compiled = compileLocated(expressions, fields, prefix, compile, constants);
     const specialized: SpecializedEvaluators = {
       massForcing: (values, out) => compiled.evaluate(values, out),
-      energy: energyText === null ? undefined : energyEvaluator(compileLocated([energyText], ["energy"], prefix, compile, constants)),
+      energy: energyExpression === null ? undefined : energyEvaluator(compileLocated([energyExpression], ["energy"], prefix, compile, constants)),
     };
     cachedKey = key;
     cached = specialized;
@@ -214,20 +213,20 @@ export function systemFromDerivation(
  * the field it came from (`massMatrix[0][1], column 7: unknown symbol "l3"`).
  */
 export function compileLocated(
-  texts: string[],
+  expressions: ExpressionSource[],
   fields: string[],
   variables: string[],
   compile: ExpressionCompiler = defaultCompiler,
   constants?: Readonly<Record<string, number>>,
-): CompiledExpressions {
+): ExpressionEvaluator {
   try {
-    return compile(texts, variables, constants);
+    return compile(expressions, variables, constants);
   } catch (error) {
     if (!(error instanceof ExpressionError)) throw error;
-    // Find which text is at fault: compile them one by one.
-    for (let i = 0; i < texts.length; i++) {
+    // Find which expression is at fault: compile them one by one.
+    for (let i = 0; i < expressions.length; i++) {
       try {
-        compile([texts[i]!], variables, constants);
+        compile([expressions[i]!], variables, constants);
       } catch (single) {
         if (single instanceof ExpressionError) {
           throw new SimulationSetupError("expression", fields[i]!, `column ${single.column}: ${single.message}`);
@@ -240,7 +239,7 @@ export function compileLocated(
 }
 
 
-function energyEvaluator(compiled: CompiledExpressions): EnergyEvaluator {
+function energyEvaluator(compiled: ExpressionEvaluator): EnergyEvaluator {
   const out = new Float64Array(1);
   return (values) => {
     compiled.evaluate(values, out);

@@ -6,10 +6,12 @@ import type { MeasuredData } from "./measured";
 import { systemFromMassMatrixForm, type MassMatrixForm } from "./system";
 
 /**
- * Messages between a page (or the server's worker pool) and a simulation
- * worker. Everything in them survives structured cloning; the system travels
- * as expression strings and is compiled inside the worker from the parsed
- * tree, so no code crosses the boundary.
+ * Messages between the notebook page and its simulation Web Worker
+ * (components/notebook/simulation/simulation.worker.ts). The server does not
+ * use them: its pool runs lib/runs/tasks.ts through the engine pool's protocol.
+ * Everything in them survives structured cloning; the system travels as
+ * expression strings and is compiled inside the worker from the parsed tree,
+ * so no code crosses the boundary.
  *
  * page → worker: `start` (one job, with an id of the caller's choosing), `cancel`.
  * worker → page: `progress` (throttled), then exactly one of `result` or `error`.
@@ -73,13 +75,12 @@ export type WorkerResponse =
 export type PostMessage = (message: WorkerResponse, transfer?: ArrayBuffer[]) => void;
 
 /**
- * The message handler shared by the browser Web Worker and the Node worker
- * thread: feed it every incoming message. Jobs run in slices so that a
+ * The Web Worker's message handler: feed it every incoming message. Jobs run in slices so that a
  * `cancel` is received while a simulation is under way.
  *
  * @example
- * const handle = createWorkerHandler((message, transfer) => port.postMessage(message, transfer));
- * port.on("message", handle);
+ * const handle = createWorkerHandler((message, transfer) => scope.postMessage(message, transfer ?? []));
+ * scope.onmessage = (event) => void handle(event.data);
  */
 export function createWorkerHandler(post: PostMessage): (request: WorkerRequest) => Promise<void> {
   const running = new Map<string, { aborted: boolean }>();

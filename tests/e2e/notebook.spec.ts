@@ -82,12 +82,12 @@ test("an analyst enters a double pendulum, evaluates it, exports the model file 
 
   // Dark mode at the same laptop size: equations stay inside their cell.
   await page.locator("body").click({ position: { x: 5, y: 5 } });
-  await page.keyboard.press("t");
+  await page.keyboard.press("Alt+Shift+T");
   await expect(page.locator("html")).toHaveAttribute("data-theme", "dark");
   const overflow = await page.evaluate(() => document.documentElement.scrollWidth - document.documentElement.clientWidth);
   expect(overflow).toBeLessThanOrEqual(0);
   await keepScreenshot(page, "notebook-dark");
-  await page.keyboard.press("t");
+  await page.keyboard.press("Alt+Shift+T");
 
   // A bad file is refused with its field and reason, and nothing is created.
   await dashboard.openTeam(demoTeam.name);

@@ -9,6 +9,8 @@ import * as v1DerivationsRoute from "@/app/api/v1/derivations/route";
 import { closeDatabase, db } from "@/db/client";
 import { getAuditRowsByTeamId } from "@/db/queries/audit";
 import { createDerivation } from "@/db/queries/derivations";
+import { approveRevision, decideReview, requestReview } from "@/db/queries/reviews";
+import type { Derivation } from "@/db/schema";
 import { blankDocument } from "@/lib/notebook/document";
 import { jsonRequest, makeTeam, params, resetDatabase, type TeamFixture } from "./support/fixtures";
 import { signInAs, signOut } from "./support/session";
@@ -29,13 +31,23 @@ function v1Request(token?: string, address = "192.0.2.10"): Request {
   return new Request("http://localhost/api/v1/derivations", { headers });
 }
 
+/** Review and approval as the routes run them: the list shows derivations with an approval. */
+async function approve(fixture: TeamFixture, derivation: Derivation) {
+  const { analyst, reviewer, lead } = fixture.members;
+  const request = await requestReview({ derivationId: derivation.id, requesterId: analyst.id, reviewerIds: [reviewer.id], message: "" });
+  if (!request.ok) throw new Error(request.reason);
+  await decideReview({ derivationId: derivation.id, reviewerId: reviewer.id, decision: "signed_off", comment: "" });
+  const approval = await approveRevision({ derivationId: derivation.id, revisionId: request.revision.id, approverId: lead.id });
+  if (!approval.ok) throw new Error(approval.reason);
+}
+
 beforeAll(async () => {
   await resetDatabase();
   kestrel = await makeTeam("Kestrel token bay");
   otherTeam = await makeTeam("Another firm");
-  await createDerivation({ teamId: kestrel.team.id, title: "Approved gimbal pitch axis", content: blankDocument("Approved gimbal pitch axis"), ownerId: kestrel.members.analyst.id, status: "approved" });
+  await approve(kestrel, await createDerivation({ teamId: kestrel.team.id, title: "Approved gimbal pitch axis", content: blankDocument("Approved gimbal pitch axis"), ownerId: kestrel.members.analyst.id }));
   await createDerivation({ teamId: kestrel.team.id, title: "Draft trolley", content: blankDocument("Draft trolley"), ownerId: kestrel.members.analyst.id });
-  await createDerivation({ teamId: otherTeam.team.id, title: "Other firm's approved rig", content: blankDocument("Other firm's approved rig"), ownerId: otherTeam.members.analyst.id, status: "approved" });
+  await approve(otherTeam, await createDerivation({ teamId: otherTeam.team.id, title: "Other firm's approved rig", content: blankDocument("Other firm's approved rig"), ownerId: otherTeam.members.analyst.id }));
 });
 
 beforeEach(() => signOut());

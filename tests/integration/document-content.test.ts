@@ -235,8 +235,10 @@ describe("reading content this version cannot open", () => {
   it("opens content stored by an older version as the migrated notebook", async () => {
     const id = await unreadable(fixture("version-1-notebook.json"));
     signInAs(kestrel.members.analyst);
-    const element = (await DerivationPage({ params: Promise.resolve({ id }) })) as ReactElement<{ initialDocument: DerivationDocument }>;
-    expect(element.props.initialDocument.schemaVersion).toBe(DOCUMENT_SCHEMA_VERSION);
-    expect(element.props.initialDocument.cells.find((cell) => cell.id === "s1")).toMatchObject({ settings: { endTime: "4", outputStep: "0.01" } });
+    // The page is a fragment: the header's team marker, then the notebook.
+    const page = (await DerivationPage({ params: Promise.resolve({ id }) })) as ReactElement<{ children: ReactElement[] }>;
+    const notebook = page.props.children.find((child) => (child.props as { initialDocument?: unknown }).initialDocument !== undefined) as ReactElement<{ initialDocument: DerivationDocument }>;
+    expect(notebook.props.initialDocument.schemaVersion).toBe(DOCUMENT_SCHEMA_VERSION);
+    expect(notebook.props.initialDocument.cells.find((cell) => cell.id === "s1")).toMatchObject({ settings: { endTime: "4", outputStep: "0.01" } });
   });
 });

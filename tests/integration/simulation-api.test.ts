@@ -1,4 +1,3 @@
-import { execFileSync } from "node:child_process";
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 
 vi.mock("@/lib/auth/session", async () => (await import("./support/session")).sessionModule);
@@ -124,7 +123,6 @@ const png = Uint8Array.from(Buffer.from("iVBORw0KGgoAAAANSUhEUgAAAAEAAAABCAYAAAA
 
 beforeAll(async () => {
   // The pool runs the bundled worker; build it from the current sources.
-  execFileSync("npm", ["run", "--silent", "build:workers"], { stdio: "inherit" });
   await resetDatabase();
   kestrel = await makeTeam("Kestrel rig bay");
   otherTeam = await makeTeam("Another firm");
@@ -365,6 +363,14 @@ describe("server simulation runs", () => {
     const last = lines.at(-1)!.split(",").map(Number);
     expect(last[0]).toBe(10);
     expect(last[1]).toBe(run.trajectory.coordinates[0].at(-1));
+    expect(csv.headers.get("content-disposition")).toMatch(/^attachment; filename="[a-z0-9-]+-run-\d{4}-\d{2}-\d{2}T\d{2}-\d{2}-\d{2}\.csv"$/);
+
+    // The download is measured data as it stands: an analyst can attach it to the derivation again.
+    signInAs(kestrel.members.analyst);
+    const again = await upload(id, "run-export.csv", lines.join("\n"));
+    expect(again.status).toBe(201);
+    const { file } = await again.json();
+    expect(file.summary).toMatchObject({ timeUnit: "s", rowCount: 10001, columns: [{ coordinate: "theta", unit: "rad", targetUnit: "rad" }], timeSpan: { start: 0, end: 10 } });
   });
 
   it("keeps a large trajectory in object storage and serves it the same way", async () => {
@@ -509,6 +515,11 @@ describe("fitting to uploaded rig data", () => {
     const { fit, overlay, applied } = await response.json();
     expect(applied).toBeNull();
     expect(fit.status).toBe("converged");
+    // The result explains itself: how it ended, and the residual in the coordinate's unit.
+    expect(fit.report.outcome).toMatch(/^Converged after \d+ iterations/);
+    expect(fit.report.residuals).toEqual([expect.objectContaining({ coordinate: "z", unit: "m" })]);
+    expect(fit.report.residuals[0].text).toMatch(/^z: .* m RMS$/);
+    expect(fit.notIdentifiable).toEqual([]);
     const k = fit.parameters.find((p: { name: string }) => p.name === "k");
     const c = fit.parameters.find((p: { name: string }) => p.name === "c");
     // Stated tolerance: within 1 % of the true stiffness and 5 % of the true damping, and within

@@ -1,4 +1,5 @@
 import { describe, expect, it } from "vitest";
+import { ConflictError, NotFoundError, NotPermittedError } from "@/db/errors";
 import { AppError, appErrorFromBody, isDatabaseUnavailable, statusByKind, toAppError } from "@/lib/errors";
 
 describe("AppError", () => {
@@ -58,5 +59,14 @@ describe("toAppError", () => {
   it("passes AppErrors through unchanged", () => {
     const error = new AppError("not_found:team");
     expect(toAppError(error)).toBe(error);
+  });
+
+  it("answers data errors from db/ with the status of their kind and their own message", () => {
+    const missing = toAppError(new NotFoundError("member", "That person is not a member of this team."));
+    expect([missing.code, missing.status, missing.message]).toEqual(["not_found:member", 404, "That person is not a member of this team."]);
+    const used = toAppError(new ConflictError("password_reset", "This reset link has expired or was already used. Ask for a new one."));
+    expect([used.code, used.status]).toEqual(["conflict:password_reset", 409]);
+    const elsewhere = toAppError(new NotPermittedError("invite", "This invite was sent to a@example.com."));
+    expect([elsewhere.code, elsewhere.status, elsewhere.message]).toEqual(["forbidden:invite", 403, "This invite was sent to a@example.com."]);
   });
 });

@@ -50,7 +50,7 @@ export default async function MailboxPage({ searchParams }: { searchParams: Prom
           </Link>
         </div>
       </header>
-      <main className="mx-auto w-full max-w-6xl flex-1 px-6 py-8">
+      <main id="main" tabIndex={-1} className="mx-auto w-full max-w-6xl flex-1 px-6 py-8">
         <h1 className="mb-1 text-2xl font-semibold">Mailbox</h1>
         <p className="mb-6 text-sm text-muted">Every e-mail the app sends here is caught by a local fake mail server. Nothing leaves this machine.</p>
         {problem ? <Notice tone="error">{problem}</Notice> : null}

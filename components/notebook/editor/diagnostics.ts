@@ -8,7 +8,7 @@
  */
 import { linter, lintKeymap, type Diagnostic } from "@codemirror/lint";
 import { keymap, type EditorView } from "@codemirror/view";
-import type { Extension } from "@codemirror/state";
+import { StateField, type Extension } from "@codemirror/state";
 import { parseExpression } from "@/lib/mechanics/expr/parse";
 import { ExpressionError } from "@/lib/mechanics/errors";
 import { TIME, walk } from "@/lib/mechanics/expr/ast";
@@ -18,6 +18,11 @@ import { serverDiagnosticsField, setServerDiagnosticsEffect, symbolsField } from
 export interface LocalCheckOptions {
   /** Blank text is fine (optional fields such as a force); otherwise "expression is empty". */
   allowEmpty?: boolean;
+  /**
+   * The field has held text at some point (default true). A required field that
+   * was never written stays quiet: a new notebook opens without a warning per cell.
+   */
+  written?: boolean;
   /** Warn about names the derivation does not define. Off when the symbols are not known. */
   checkSymbols?: boolean;
 }
@@ -25,7 +30,7 @@ export interface LocalCheckOptions {
 /** Diagnostics the browser can find alone: parse errors and names the derivation lacks. */
 export function localDiagnostics(text: string, symbols: DocumentSymbols, options: LocalCheckOptions = {}): Diagnostic[] {
   if (text.trim() === "") {
-    return options.allowEmpty ? [] : [{ from: 0, to: text.length, severity: "warning", message: "expression is empty", source: "parser" }];
+    return options.allowEmpty || options.written === false ? [] : [{ from: 0, to: text.length, severity: "warning", message: "expression is empty", source: "parser" }];
   }
   try {
     const tree = parseExpression(text);
@@ -59,12 +64,18 @@ function serverDiagnostics(view: EditorView, local: readonly Diagnostic[]): Diag
     .filter((item) => !local.some((seen) => seen.from === item.from && seen.to === item.to));
 }
 
+/** Whether the editor's text has ever been non-empty (typed, pasted or loaded). */
+export const everWrittenField = StateField.define<boolean>({
+  create: (state) => state.doc.length > 0,
+  update: (written, tr) => written || tr.newDoc.length > 0,
+});
+
 /** Lint for an expression editor; `delay` is how long typing must pause (ms). */
 export function expressionDiagnostics(options: LocalCheckOptions & { delay?: number } = {}): Extension[] {
   return [
     linter(
       (view) => {
-        const local = localDiagnostics(view.state.doc.toString(), view.state.field(symbolsField), options);
+        const local = localDiagnostics(view.state.doc.toString(), view.state.field(symbolsField), { ...options, written: view.state.field(everWrittenField) });
         return [...local, ...serverDiagnostics(view, local)];
       },
       {
@@ -72,6 +83,7 @@ export function expressionDiagnostics(options: LocalCheckOptions & { delay?: num
         needsRefresh: (update) => update.transactions.some((tr) => tr.effects.some((effect) => effect.is(setServerDiagnosticsEffect))) || update.startState.field(symbolsField) !== update.state.field(symbolsField),
       },
     ),
+    everWrittenField,
     keymap.of(lintKeymap),
   ];
 }

@@ -133,7 +133,7 @@ export function ExpressionEditor(props: ExpressionEditorProps) {
           tabIndex={0}
           onFocus={() => setFocusRequested(true)}
         >
-          {value === "" ? <span className="text-muted">{props.placeholder ?? "\u00a0"}</span> : value}
+          {value === "" ? <span className="font-sans text-[0.85rem] italic text-muted opacity-75">{props.placeholder ?? "\u00a0"}</span> : value}
         </div>
       )}
       <div ref={hostRef} className="hn-expression-editor" aria-invalid={shown.some((d) => d.severity === "error") || undefined} />

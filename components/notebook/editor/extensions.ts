@@ -11,6 +11,7 @@ import { editorContext, type ServerDiagnostics } from "./context";
 import { expressionDiagnostics, type LocalCheckOptions } from "./diagnostics";
 import { expressionLanguage } from "./language";
 import type { DocumentSymbols } from "@/lib/notebook/document";
+import { spellGreekLetters } from "@/lib/mechanics/expr/greek";
 
 /**
  * Keeps the text on one line: typed or pasted line breaks become spaces, and
@@ -39,6 +40,29 @@ export function singleLine(onEnter?: (view: EditorView) => void): Extension[] {
   ];
 }
 
+/**
+ * Reads a typed or pasted Greek letter as the name it renders (θ becomes
+ * `theta`), so the expression says what the analyst meant.
+ */
+export function greekLettersAsNames(): Extension {
+  return EditorState.transactionFilter.of((tr) => {
+    if (!tr.docChanged) return tr;
+    let spelled = false;
+    const changes: { from: number; to: number; insert: string }[] = [];
+    tr.changes.iterChanges((from, to, _fromB, _toB, inserted) => {
+      const text = inserted.toString();
+      const insert = spellGreekLetters(text);
+      if (insert !== text) spelled = true;
+      changes.push({ from, to, insert });
+    });
+    if (!spelled) return tr;
+    const spec = tr.startState.changes(changes);
+    // The selection the edit asked for, carried over to the spelled text: a caret after the letter ends after its name.
+    const selection = tr.newSelection.map(tr.changes.invertedDesc, 1).map(spec, 1);
+    return { changes: spec, selection, effects: tr.effects, scrollIntoView: tr.scrollIntoView, userEvent: "input" };
+  });
+}
+
 export const expressionTheme = EditorView.theme({
   "&": {
     fontFamily: "var(--font-plex-mono), ui-monospace, monospace",
@@ -54,7 +78,8 @@ export const expressionTheme = EditorView.theme({
   ".cm-scroller": { fontFamily: "inherit", overflowX: "auto" },
   ".cm-matchingBracket": { backgroundColor: "var(--action-soft, #d9e9e6)", outline: "none" },
   ".cm-nonmatchingBracket": { color: "var(--danger, #b3261e)" },
-  ".cm-placeholder": { color: "var(--muted, #5c6169)" },
+  // A hint, not content: italic sans in a lighter tone, unlike the monospace expression text.
+  ".cm-placeholder": { color: "var(--muted, #5c6169)", opacity: "0.75", fontStyle: "italic", fontFamily: "var(--font-plex-sans), system-ui, sans-serif", fontSize: "0.85rem" },
   ".cm-tooltip": {
     fontFamily: "var(--font-plex-sans), system-ui, sans-serif",
     backgroundColor: "var(--surface, #fbf8f2)",
@@ -83,6 +108,7 @@ export function expressionExtensions(options: ExpressionExtensionsOptions): Exte
     expressionLanguage(),
     history(),
     closeBrackets(),
+    greekLettersAsNames(),
     symbolCompletion(),
     expressionDiagnostics({ allowEmpty: options.allowEmpty, checkSymbols: options.checkSymbols, delay: options.lintDelay }),
     options.multiline ? EditorView.lineWrapping : singleLine(options.onEnter),

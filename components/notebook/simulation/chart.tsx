@@ -1,8 +1,12 @@
 "use client";
 
 /**
- * A uPlot chart that fills its container's width (never wider), takes its
- * colours from the page's theme and redraws when the theme changes.
+ * A uPlot chart in the house look: our heading above it (not uPlot's title),
+ * IBM Plex for labels and numbers, graphite ink, hairline grid, and the
+ * series palette from the page's theme (--series-1 … --series-6 in
+ * globals.css, chosen to stay apart under colour-vision deficiencies). It
+ * fills its container's width (never wider) and redraws when the theme
+ * changes.
  */
 import "uplot/dist/uPlot.min.css";
 import { useEffect, useRef, useState } from "react";
@@ -14,6 +18,8 @@ export interface ChartSeries {
   /** Draw points only (measured data). */
   points?: boolean;
   dash?: boolean;
+  /** Palette slot; default the series' position. Series about one quantity (simulated, measured, fitted) share it. */
+  colorIndex?: number;
 }
 
 export interface ChartProps {
@@ -28,7 +34,9 @@ export interface ChartProps {
   testId?: string;
 }
 
-const PALETTE_VARS = ["--action", "--seal", "--review", "--danger", "--muted"];
+/** Number of colours in the series palette; further series repeat them with a dash pattern. */
+export const SERIES_COLOURS = 6;
+const DASHES: (number[] | undefined)[] = [undefined, [7, 4], [2, 3]];
 
 function cssVar(name: string, fallback: string): string {
   if (typeof window === "undefined") return fallback;
@@ -57,6 +65,43 @@ function toArray(values: ArrayLike<number | null>): (number | null)[] {
   return Array.from(values, (v) => (v === null || Number.isFinite(v) ? v : null));
 }
 
+/**
+ * Tick labels that stay readable at any scale: plain decimals with as many
+ * places as the tick spacing needs, exponent form for very small or large
+ * values (an energy drift of 1e-10 would otherwise print as rows of "0").
+ */
+export function formatTicks(splits: readonly number[]): string[] {
+  const finite = splits.filter((v) => Number.isFinite(v));
+  if (finite.length === 0) return splits.map(String);
+  const step = finite.length > 1 ? Math.abs(finite[1]! - finite[0]!) : Math.abs(finite[0]!) || 1;
+  const largest = Math.max(...finite.map(Math.abs));
+  const exact = (format: (v: number) => string) => finite.every((v) => Math.abs(Number(format(v)) - v) <= 1e-6 * (step || largest || 1));
+  const exponent = largest >= 1e5 || (step > 0 && step < 1e-3);
+  let digits = 0;
+  const format = (v: number) => (exponent ? v.toExponential(digits) : v.toFixed(digits));
+  while (digits < 8 && !exact(format)) digits++;
+  return splits.map((v) => (v === 0 || Math.abs(v) < 1e-9 * step ? "0" : format(v).replace("e+", "e")));
+}
+
+/** Colour and dash of palette slot i: six colours, then the same six dashed, then dotted. */
+export function seriesStyle(palette: readonly string[], index: number): { stroke: string; dash: number[] | undefined } {
+  return { stroke: palette[index % palette.length]!, dash: DASHES[Math.floor(index / palette.length) % DASHES.length] };
+}
+
+function themeOf() {
+  const ink = cssVar("--ink", "#24272c");
+  const sans = cssVar("--font-plex-sans", "system-ui") + ", system-ui, sans-serif";
+  const mono = cssVar("--font-plex-mono", "ui-monospace") + ", ui-monospace, monospace";
+  return {
+    ink,
+    muted: cssVar("--muted", "#5c6169"),
+    grid: cssVar("--line", "#d8cfbd"),
+    palette: Array.from({ length: SERIES_COLOURS }, (_, i) => cssVar(`--series-${i + 1}`, ink)),
+    labelFont: `500 12px ${sans}`,
+    tickFont: `11px ${mono}`,
+  };
+}
+
 export function Chart({ title, xLabel, yLabel, x, series, xy, height = 220, testId }: ChartProps) {
   const holder = useRef<HTMLDivElement>(null);
   const theme = useThemeVersion();
@@ -64,42 +109,61 @@ export function Chart({ title, xLabel, yLabel, x, series, xy, height = 220, test
   useEffect(() => {
     const element = holder.current;
     if (!element) return;
-    const ink = cssVar("--ink", "#24272c");
-    const grid = cssVar("--line", "#d8cfbd");
-    const palette = PALETTE_VARS.map((name, i) => cssVar(name, ["#0f5f63", "#8c6a17", "#4d5a7a", "#b3261e", "#5c6169"][i]!));
-    const axis = { stroke: ink, grid: { stroke: grid, width: 1 }, ticks: { stroke: grid, width: 1 } };
+    const look = themeOf();
+    const axis: uPlot.Axis = {
+      stroke: look.muted,
+      font: look.tickFont,
+      labelFont: look.labelFont,
+      labelSize: 22,
+      grid: { stroke: look.grid, width: 1 },
+      ticks: { stroke: look.grid, width: 1, size: 4 },
+      values: (_plot, splits) => formatTicks(splits),
+    };
+    const axes: uPlot.Axis[] = [
+      { ...axis, label: xLabel, size: 28, labelSize: 16, labelGap: 2 },
+      { ...axis, label: yLabel, size: 56 },
+    ];
     const width = Math.max(200, Math.floor(element.clientWidth || 600));
     let plot: uPlot;
     if (xy) {
       const opts: uPlot.Options = {
-        title,
         width,
         height,
         mode: 2,
         scales: { x: { time: false }, y: {} },
-        axes: [{ ...axis, label: xLabel }, { ...axis, label: yLabel }],
-        legend: { show: true },
-        series: [{}, ...xy.map((s, i) => ({ label: s.label, stroke: palette[i % palette.length], paths: uPlot.paths.linear?.(), points: { show: false } }))],
+        axes,
+        legend: { show: true, live: false },
+        series: [
+          {},
+          ...xy.map((s, i) => {
+            const style = seriesStyle(look.palette, i);
+            return { label: s.label, stroke: style.stroke, dash: style.dash, width: 1.75, paths: uPlot.paths.linear?.(), points: { show: false } };
+          }),
+        ],
       };
       const data = [null, ...xy.map((s) => [Array.from(s.x), Array.from(s.y)])] as unknown as uPlot.AlignedData;
       plot = new uPlot(opts, data, element);
     } else {
       const opts: uPlot.Options = {
-        title,
         width,
         height,
         scales: { x: { time: false } },
-        axes: [{ ...axis, label: xLabel }, { ...axis, label: yLabel }],
+        axes,
+        // A quiet legend: names only, no "--" placeholders for values until the cursor moves.
+        legend: { show: true, live: false },
         series: [
           { label: xLabel },
-          ...series.map((s, i) => ({
-            label: s.label,
-            stroke: palette[i % palette.length],
-            width: s.points ? 0 : 1.5,
-            dash: s.dash ? [6, 4] : undefined,
-            spanGaps: !s.points,
-            points: s.points ? { show: true, size: 4, fill: palette[i % palette.length] } : { show: false },
-          })),
+          ...series.map((s, i) => {
+            const style = seriesStyle(look.palette, s.colorIndex ?? i);
+            return {
+              label: s.label,
+              stroke: style.stroke,
+              width: s.points ? 0 : 1.75,
+              dash: s.dash ? [6, 4] : style.dash,
+              spanGaps: !s.points,
+              points: s.points ? { show: true, size: 5, stroke: style.stroke, fill: style.stroke } : { show: false },
+            };
+          }),
         ],
       };
       plot = new uPlot(opts, [Array.from(x), ...series.map((s) => toArray(s.values))] as uPlot.AlignedData, element);
@@ -116,5 +180,10 @@ export function Chart({ title, xLabel, yLabel, x, series, xy, height = 220, test
     };
   }, [title, xLabel, yLabel, x, series, xy, height, theme]);
 
-  return <div ref={holder} className="hn-chart min-w-0 max-w-full overflow-hidden" data-testid={testId} role="img" aria-label={title} />;
+  return (
+    <figure className="m-0 flex min-w-0 flex-col gap-1" data-testid={testId ? `${testId}-figure` : undefined}>
+      <figcaption className="text-[13px] font-medium text-ink">{title}</figcaption>
+      <div ref={holder} className="hn-chart min-w-0 max-w-full overflow-hidden" data-testid={testId} role="img" aria-label={`${title}: ${yLabel} against ${xLabel}`} />
+    </figure>
+  );
 }

@@ -10,29 +10,12 @@ import { useCallback, useEffect, useMemo, useState } from "react";
 import { apiFetch } from "@/lib/api/fetcher";
 import { AppError, appErrorFromBody } from "@/lib/errors";
 import { documentSymbols, parseParameterValue, type DerivationDocument, type DocumentOperation } from "@/lib/notebook/document";
+import { FileInput } from "@/components/ui/file-input";
+import type { FileJson } from "@/lib/files/views";
+import type { FitJson } from "@/lib/runs/views";
+import { useUploadLimits } from "../upload-limits";
 import type { MeasuredOverlay } from "./results-view";
 import type { RunRequest } from "./settings";
-
-interface FileJson {
-  id: string;
-  kind: "measured_csv" | "image";
-  originalName: string;
-  sizeBytes: number;
-  summary: { timeUnit: string; columns: { coordinate: string; unit: string }[]; rowCount: number; timeSpan: { start: number; end: number } } | null;
-  url: string;
-  createdAt: string;
-}
-
-interface FitResponse {
-  fit: {
-    status: string;
-    parameters: { name: string; initial: number; value: number; standardError: number | null; unit: string | null }[];
-    residualRms: number;
-    observations: number;
-    iterations: number;
-  };
-  overlay: MeasuredOverlay & { fileId: string };
-}
 
 interface FitRow {
   chosen: boolean;
@@ -67,6 +50,11 @@ async function uploadFile(derivationId: string, file: File, kind: "measured_csv"
   return (body as { file: FileJson }).file;
 }
 
+/** The most recently uploaded measured-data file. */
+function newestMeasured(list: readonly FileJson[]): FileJson | undefined {
+  return list.filter((f) => f.kind === "measured_csv").reduce<FileJson | undefined>((best, f) => (!best || f.createdAt > best.createdAt ? f : best), undefined);
+}
+
 function messageOf(error: unknown): string {
   if (error instanceof AppError) {
     const fieldMessages = Object.values(error.fieldErrors ?? {}).flat();
@@ -81,7 +69,7 @@ export function MeasuredPanel({ derivationId, document: doc, readOnly, settings,
   const [busy, setBusy] = useState<string | null>(null);
   const [selected, setSelected] = useState<string>("");
   const [rows, setRows] = useState<Record<string, FitRow>>({});
-  const [fit, setFit] = useState<FitResponse | null>(null);
+  const [fit, setFit] = useState<FitJson | null>(null);
   const [fitError, setFitError] = useState<string | null>(null);
   const [applied, setApplied] = useState(false);
   const parameters = useMemo(() => {
@@ -90,11 +78,14 @@ export function MeasuredPanel({ derivationId, document: doc, readOnly, settings,
     return list;
   }, [doc]);
   const symbols = useMemo(() => documentSymbols(doc), [doc]);
+  const uploadLimits = useUploadLimits();
 
   const load = useCallback(async () => {
     try {
       const { files: list } = await apiFetch<{ files: FileJson[] }>(`/api/derivations/${derivationId}/files`);
       setFiles(list);
+      // Keep the choice while its file exists; otherwise preselect the newest measured file.
+      setSelected((current) => (list.some((f) => f.id === current && f.kind === "measured_csv") ? current : (newestMeasured(list)?.id ?? "")));
     } catch {
       setFiles([]);
     }
@@ -162,7 +153,7 @@ export function MeasuredPanel({ derivationId, document: doc, readOnly, settings,
           ? { settings: { relativeTolerance: settings.relativeTolerance, absoluteTolerance: settings.absoluteTolerance, inputs: settings.inputs, parameters: settings.parameters } }
           : {}),
       };
-      const response = await apiFetch<FitResponse>(`/api/derivations/${derivationId}/fit`, { method: "POST", body });
+      const response = await apiFetch<FitJson>(`/api/derivations/${derivationId}/fit`, { method: "POST", body });
       setFit(response);
       onOverlay(response.overlay);
     } catch (error) {
@@ -187,14 +178,24 @@ export function MeasuredPanel({ derivationId, document: doc, readOnly, settings,
       <div className="mt-2 flex min-w-0 flex-col gap-3 text-sm">
         {!readOnly && (
           <div className="flex flex-wrap gap-3">
-            <label className="flex items-center gap-2">
-              <span>Upload measured CSV</span>
-              <input type="file" accept=".csv,text/csv" className="max-w-56 text-xs" onChange={(event) => void upload(event.target.files?.[0], "measured_csv")} />
-            </label>
-            <label className="flex items-center gap-2">
-              <span>Attach sketch image</span>
-              <input type="file" accept="image/png,image/jpeg,image/webp" className="max-w-56 text-xs" onChange={(event) => void upload(event.target.files?.[0], "image")} />
-            </label>
+            <FileInput
+              inline
+              label="Upload measured CSV"
+              accept=".csv,text/csv"
+              maxBytes={uploadLimits.csvBytes}
+              hint="CSV"
+              onFile={(file) => void upload(file ?? undefined, "measured_csv")}
+              onRefused={setUploadError}
+            />
+            <FileInput
+              inline
+              label="Attach sketch image"
+              accept="image/png,image/jpeg,image/webp"
+              maxBytes={uploadLimits.imageBytes}
+              hint="PNG, JPEG or WebP"
+              onFile={(file) => void upload(file ?? undefined, "image")}
+              onRefused={setUploadError}
+            />
           </div>
         )}
         <p className="text-xs text-muted">
@@ -223,7 +224,13 @@ export function MeasuredPanel({ derivationId, document: doc, readOnly, settings,
           <div className="flex flex-col gap-2">
             <label className="flex flex-wrap items-center gap-2">
               <span>Measured file</span>
-              <select className="max-w-full rounded border border-line bg-paper px-1 py-0.5" value={selected} onChange={(event) => setSelected(event.target.value)}>
+              <select
+                className="max-w-full rounded border border-line bg-paper px-1 py-0.5"
+                value={selected}
+                aria-label="Measured file"
+                data-testid="measured-file"
+                onChange={(event) => setSelected(event.target.value)}
+              >
                 <option value="">—</option>
                 {measuredFiles.map((f) => (
                   <option key={f.id} value={f.id}>
@@ -291,6 +298,9 @@ export function MeasuredPanel({ derivationId, document: doc, readOnly, settings,
         )}
         {fit && (
           <div className="flex min-w-0 flex-col gap-2" data-testid="fit-result">
+            <p className={fit.fit.report.trustworthy ? "" : "rounded border border-seal/60 bg-seal-soft px-3 py-1.5"} data-testid="fit-outcome">
+              {fit.fit.report.outcome}
+            </p>
             <div className="overflow-x-auto">
               <table className="text-[13px]">
                 <thead>
@@ -302,22 +312,43 @@ export function MeasuredPanel({ derivationId, document: doc, readOnly, settings,
                   </tr>
                 </thead>
                 <tbody>
-                  {fit.fit.parameters.map((p) => (
-                    <tr key={p.name}>
-                      <td className="pr-3 font-mono">{p.name}</td>
-                      <td className="pr-3 font-mono">{Number(p.value.toPrecision(6))}</td>
-                      <td className="pr-3 font-mono">{p.standardError === null ? "not identifiable" : `± ${Number(p.standardError.toPrecision(2))}`}</td>
-                      <td className="pr-3">{p.unit ?? ""}</td>
-                    </tr>
-                  ))}
+                  {fit.fit.parameters.map((p) => {
+                    const undetermined = fit.fit.report.notIdentifiable.some((group) => group.parameters.includes(p.name));
+                    return (
+                      <tr key={p.name}>
+                        <td className="pr-3 font-mono">{p.name}</td>
+                        <td className="pr-3 font-mono">{Number(p.value.toPrecision(6))}</td>
+                        <td className={undetermined ? "pr-3 text-danger" : "pr-3 font-mono"}>
+                          {undetermined ? "not identifiable" : p.standardError === null ? "—" : `± ${Number(p.standardError.toPrecision(2))}`}
+                        </td>
+                        <td className="pr-3">{p.unit ?? ""}</td>
+                      </tr>
+                    );
+                  })}
                 </tbody>
               </table>
             </div>
-            <p>
-              Residual RMS {fit.fit.residualRms.toExponential(3)} over {fit.fit.observations} readings, {fit.fit.iterations} iterations ({fit.fit.status}). Standard errors assume
-              independent, equal-variance measurement noise.
+            {fit.fit.report.notIdentifiable.length > 0 && (
+              <ul className="flex flex-col gap-1.5" data-testid="fit-not-identifiable">
+                {fit.fit.report.notIdentifiable.map((group) => (
+                  <li key={group.parameters.join(",")} className="rounded border border-danger/40 px-3 py-1.5">
+                    <p>
+                      <span className="font-medium">Not identifiable: </span>
+                      <span className="font-mono">{group.parameters.join(", ")}</span>. {group.why}
+                    </p>
+                    <p className="text-muted">
+                      <span className="font-medium text-ink">Data that would identify {group.parameters.length > 1 ? "them" : "it"}: </span>
+                      {group.remedy}
+                    </p>
+                  </li>
+                ))}
+              </ul>
+            )}
+            <p data-testid="fit-residual">
+              Residual RMS (fitted − measured) over {fit.fit.observations.toLocaleString("en-GB")} readings: {fit.fit.report.residuals.map((r) => r.text).join("; ")}.{" "}
+              <span className="text-muted">{fit.fit.report.standardErrorNote}</span>
             </p>
-            {!readOnly && (
+            {!readOnly && fit.fit.status !== "unchanged" && (
               <button type="button" className="self-start rounded bg-action px-3 py-1 text-action-ink hover:bg-action-strong" onClick={applyFit} disabled={applied}>
                 {applied ? "Written to the Parameters cell" : "Write fitted values to the Parameters cell"}
               </button>

@@ -7,10 +7,11 @@
  * animation, and the trajectory as CSV. Loaded on first use, with uPlot.
  */
 import { useMemo } from "react";
-import { energyDrift } from "@/lib/simulate/checks";
+import { energyDrift, explainSmallOscillation } from "@/lib/simulate/checks";
 import { Chart, type ChartSeries } from "./chart";
 import { MechanismAnimation } from "./mechanism-animation";
-import { FAILURE_LABELS, trajectoryCsv, type RunDisplay } from "./run-view";
+import { trajectoryCsv } from "@/lib/simulate/trajectory-csv";
+import { FAILURE_LABELS, type RunDisplay } from "./run-view";
 
 export interface MeasuredOverlay {
   times: ArrayLike<number>;
@@ -20,6 +21,8 @@ export interface MeasuredOverlay {
 export interface ResultsViewProps {
   run: RunDisplay;
   measured?: MeasuredOverlay | null;
+  /** Unit of each coordinate as written in the Coordinates cell; quantities of different units get their own charts. */
+  units?: Readonly<Record<string, string>>;
 }
 
 function formatNumber(value: number, digits = 3): string {
@@ -48,22 +51,74 @@ function mergeOnTime(times: ArrayLike<number>, simulated: ArrayLike<number>[], o
   return { x, sim, meas };
 }
 
-export default function ResultsView({ run, measured }: ResultsViewProps) {
-  const names = run.coordinateNames;
+/** The unit of a rate: the coordinate's unit per second. */
+export function rateUnit(unit: string): string {
+  if (unit === "") return "";
+  return /^[A-Za-z]+$/.test(unit) || /^[A-Za-z]+\^\d+$/.test(unit) ? `${unit}/s` : `(${unit})/s`;
+}
 
-  const coordinateChart = useMemo(() => {
-    const overlay = measured?.series.filter((s) => names.includes(s.coordinate)) ?? [];
-    if (!measured || overlay.length === 0) {
-      return { x: run.times, series: names.map((q, i) => ({ label: q, values: run.coordinates[i]! })) as ChartSeries[] };
-    }
-    const merged = mergeOnTime(run.times, run.coordinates, measured.times, overlay.map((s) => s.measured));
-    return {
-      x: merged.x,
-      series: [...names.map((q, i) => ({ label: q, values: merged.sim[i]! })), ...overlay.map((s, k) => ({ label: `${s.coordinate} measured`, values: merged.meas[k]!, points: true }))],
-    };
-  }, [run, measured, names]);
-  const rateSeries = useMemo<ChartSeries[]>(() => names.map((q, i) => ({ label: `${q}'`, values: run.rates[i]! })), [run, names]);
-  const phase = useMemo(() => names.map((q, i) => ({ label: `${q}' against ${q}`, x: run.coordinates[i]!, y: run.rates[i]! })), [run, names]);
+export interface UnitGroup {
+  /** The unit as written ("" when the coordinate has none). */
+  unit: string;
+  /** Coordinate indices in the run, in order. */
+  indices: number[];
+}
+
+/**
+ * Coordinates grouped by unit, in order of first appearance: one chart per
+ * group, so metres and radians never share an axis.
+ */
+export function groupByUnit(names: readonly string[], units: Readonly<Record<string, string>> = {}): UnitGroup[] {
+  const groups: UnitGroup[] = [];
+  names.forEach((name, index) => {
+    const unit = (units[name] ?? "").trim();
+    const group = groups.find((g) => g.unit === unit);
+    if (group) group.indices.push(index);
+    else groups.push({ unit, indices: [index] });
+  });
+  return groups;
+}
+
+function inUnit(label: string, unit: string): string {
+  return unit ? `${label} (${unit})` : `${label} (no unit given)`;
+}
+
+export default function ResultsView({ run, measured, units }: ResultsViewProps) {
+  const names = run.coordinateNames;
+  const groups = useMemo(() => groupByUnit(names, units), [names, units]);
+
+  /** Per unit: coordinates with measured and fitted overlays, rates, and the phase portrait. */
+  const panels = useMemo(
+    () =>
+      groups.map(({ unit, indices }) => {
+        const overlay = measured?.series.filter((s) => indices.some((i) => names[i] === s.coordinate)) ?? [];
+        let coordinates: { x: ArrayLike<number>; series: ChartSeries[] };
+        if (!measured || overlay.length === 0) {
+          coordinates = { x: run.times, series: indices.map((i, k) => ({ label: names[i]!, values: run.coordinates[i]!, colorIndex: k })) };
+        } else {
+          const fitted = overlay.filter((s) => s.fitted && s.fitted.length === measured.times.length);
+          const merged = mergeOnTime(
+            run.times,
+            indices.map((i) => run.coordinates[i]!),
+            measured.times,
+            [...overlay.map((s) => s.measured), ...fitted.map((s) => s.fitted!)],
+          );
+          const colourOf = (coordinate: string) => indices.findIndex((i) => names[i] === coordinate);
+          coordinates = {
+            x: merged.x,
+            series: [
+              ...indices.map((i, k) => ({ label: names[i]!, values: merged.sim[k]!, colorIndex: k })),
+              ...overlay.map((s, k) => ({ label: `${s.coordinate} measured`, values: merged.meas[k]!, points: true, colorIndex: colourOf(s.coordinate) })),
+              ...fitted.map((s, k) => ({ label: `${s.coordinate} fitted`, values: merged.meas[overlay.length + k]!, dash: true, colorIndex: colourOf(s.coordinate) })),
+            ],
+          };
+        }
+        const rates: ChartSeries[] = indices.map((i, k) => ({ label: `${names[i]}'`, values: run.rates[i]!, colorIndex: k }));
+        const phase = indices.map((i) => ({ label: `${names[i]}' against ${names[i]}`, x: run.coordinates[i]!, y: run.rates[i]! }));
+        return { unit, key: unit ? unit.replace(/[^A-Za-z0-9]+/g, "_") : "none", coordinates, rates, phase };
+      }),
+    [groups, run, measured, names],
+  );
   const energySeries = useMemo<ChartSeries[] | null>(() => {
     if (!run.energy || run.energy.length === 0) return null;
     return [{ label: "(h − h₀)/|h₀|", values: energyDrift(run.energy).series }];
@@ -75,7 +130,7 @@ export default function ResultsView({ run, measured }: ResultsViewProps) {
   const uncheckedDrift = useMemo(() => (!drift && run.energy && run.energy.length > 0 ? energyDrift(run.energy).relativeDrift : null), [drift, run]);
 
   function downloadCsv() {
-    const blob = new Blob([trajectoryCsv(run)], { type: "text/csv" });
+    const blob = new Blob([trajectoryCsv(run, run.coordinateUnits)], { type: "text/csv" });
     const url = URL.createObjectURL(blob);
     const link = document.createElement("a");
     link.href = url;
@@ -135,18 +190,54 @@ export default function ResultsView({ run, measured }: ResultsViewProps) {
       )}
 
       {oscillation && (
-        <p className={oscillation.passed ? "text-sm" : "text-sm text-danger"} data-testid="small-oscillation">
-          Small-amplitude check ({oscillation.coordinate}, amplitude {formatNumber(oscillation.amplitude)}): linearization {formatNumber(oscillation.expectedFrequency, 5)} rad/s
-          {oscillation.measuredFrequency !== null ? `, simulation ${formatNumber(oscillation.measuredFrequency, 5)} rad/s` : ""}
-          {oscillation.relativeError !== null ? ` (relative difference ${oscillation.relativeError.toExponential(1)})` : ""} — {oscillation.passed ? "agree." : (oscillation.problem ?? "they disagree.")}
-        </p>
+        <div className={oscillation.passed ? "text-sm" : "text-sm text-danger"} data-testid="small-oscillation">
+          <p>
+            Small-amplitude check ({oscillation.coordinate}, amplitude {formatNumber(oscillation.amplitude)}): linearization {formatNumber(oscillation.comparedFrequency, 5)} rad/s
+            {oscillation.measuredFrequency !== null ? `, simulation ${formatNumber(oscillation.measuredFrequency, 5)} rad/s` : ""}
+            {oscillation.relativeError !== null ? ` (relative difference ${oscillation.relativeError.toExponential(1)}` : ""}
+            {oscillation.relativeError !== null && oscillation.threshold !== null ? `, accepted up to ${oscillation.threshold.toExponential(1)})` : oscillation.relativeError !== null ? ")" : ""}.
+          </p>
+          <p className={oscillation.passed ? "text-muted" : undefined}>{explainSmallOscillation(oscillation)}</p>
+        </div>
       )}
 
-      <div className="grid min-w-0 gap-3 lg:grid-cols-2">
-        <Chart title="Coordinates" xLabel="t (s)" yLabel="q" x={coordinateChart.x} series={coordinateChart.series} testId="chart-coordinates" />
-        <Chart title="Rates" xLabel="t (s)" yLabel="q'" x={run.times} series={rateSeries} testId="chart-rates" />
-        <Chart title="Phase portrait" xLabel="q" yLabel="q'" x={run.times} series={[]} xy={phase} testId="chart-phase" />
-        {energySeries && <Chart title="Energy function, relative change" xLabel="t (s)" yLabel="relative change" x={run.times} series={energySeries} testId="chart-energy" />}
+      <div className="grid min-w-0 gap-x-4 gap-y-5 lg:grid-cols-2">
+        {panels.map((panel) => {
+          const suffix = panels.length > 1 ? `-${panel.key}` : "";
+          return (
+            <div key={panel.key} className="contents">
+              <Chart
+                title={inUnit("Coordinates", panel.unit)}
+                xLabel="t (s)"
+                yLabel={panel.unit || "no unit"}
+                x={panel.coordinates.x}
+                series={panel.coordinates.series}
+                testId={`chart-coordinates${suffix}`}
+              />
+              <Chart
+                title={inUnit("Rates", rateUnit(panel.unit))}
+                xLabel="t (s)"
+                yLabel={rateUnit(panel.unit) || "no unit"}
+                x={run.times}
+                series={panel.rates}
+                testId={`chart-rates${suffix}`}
+              />
+            </div>
+          );
+        })}
+        {panels.map((panel) => (
+          <Chart
+            key={panel.key}
+            title={panels.length > 1 ? `Phase portrait, ${panel.unit || "no unit given"}` : "Phase portrait"}
+            xLabel={panel.unit ? `coordinate (${panel.unit})` : "coordinate"}
+            yLabel={rateUnit(panel.unit) ? `rate (${rateUnit(panel.unit)})` : "rate"}
+            x={run.times}
+            series={[]}
+            xy={panel.phase}
+            testId={`chart-phase${panels.length > 1 ? `-${panel.key}` : ""}`}
+          />
+        ))}
+        {energySeries && <Chart title="Energy function, relative change" xLabel="t (s)" yLabel="(h − h₀)/|h₀|" x={run.times} series={energySeries} testId="chart-energy" />}
       </div>
 
       {run.pointsError && <p className="text-sm text-danger">The mechanism could not be drawn: {run.pointsError}</p>}

@@ -1,8 +1,9 @@
 /**
  * One simulation as the results view shows it, whether it ran in this
- * browser's worker or was stored by the server; and its CSV.
+ * browser's worker or was stored by the server.
  */
 import type { SmallOscillationReport } from "@/lib/simulate/checks";
+import type { RunJson } from "@/lib/runs/views";
 import type { SimulationFailure } from "@/lib/simulate/integrate";
 
 export interface RunDisplay {
@@ -16,6 +17,8 @@ export interface RunDisplay {
   coordinates: ArrayLike<number>[];
   rates: ArrayLike<number>[];
   energy: ArrayLike<number> | null;
+  /** Each coordinate's unit, for the CSV header (a coordinate without one is dimensionless). */
+  coordinateUnits: Readonly<Record<string, string>>;
   /** Present when the energy function is conserved: only then is its drift a check. */
   energyCheck: { relativeDrift: number; threshold: number; warning: boolean } | null;
   smallOscillation?: SmallOscillationReport | null;
@@ -36,33 +39,7 @@ export const FAILURE_LABELS: Record<string, string> = {
   max_steps: "Too many integrator steps",
 };
 
-/** The trajectory as CSV: t, each coordinate, each rate, and the energy function when known. */
-export function trajectoryCsv(run: RunDisplay): string {
-  const header = ["t", ...run.coordinateNames, ...run.coordinateNames.map((q) => `${q}'`), ...(run.energy ? ["energy"] : [])];
-  const lines = [header.join(",")];
-  for (let k = 0; k < run.times.length; k++) {
-    const row = [run.times[k]!, ...run.coordinates.map((c) => c[k]!), ...run.rates.map((r) => r[k]!), ...(run.energy ? [run.energy[k]!] : [])];
-    lines.push(row.map((v) => String(v)).join(","));
-  }
-  return `${lines.join("\n")}\n`;
-}
-
-/** A stored run as the runs API returns it (see lib/runs/views.ts). */
-export interface StoredRunJson {
-  id: string;
-  status: "completed" | "failed";
-  failure: { reason: string; message: string; timeReached: number } | null;
-  timeReached: number;
-  pointCount: number;
-  energyDrift: number | null;
-  settings: Record<string, unknown> & { label?: string };
-  summary: { parameterValues?: Record<string, number>; energyCheck?: { relativeDrift: number; threshold: number; warning: boolean } | null; stats?: { rhsEvaluations: number; wallTimeMs: number } } | null;
-  createdBy: { id: string; name: string | null } | null;
-  createdAt: string;
-  trajectory?: { coordinateNames: string[]; times: number[]; coordinates: number[][]; rates: number[][]; energy: number[] | null } | null;
-}
-
-export function displayOfStoredRun(run: StoredRunJson): RunDisplay | null {
+export function displayOfStoredRun(run: RunJson): RunDisplay | null {
   if (!run.trajectory) return null;
   const t = run.trajectory;
   const when = new Date(run.createdAt).toLocaleString("en-GB", { dateStyle: "medium", timeStyle: "short" });
@@ -77,6 +54,7 @@ export function displayOfStoredRun(run: StoredRunJson): RunDisplay | null {
     coordinates: t.coordinates,
     rates: t.rates,
     energy: t.energy,
+    coordinateUnits: run.summary?.coordinateUnits ?? {},
     energyCheck: run.summary?.energyCheck ?? null,
     parameterValues: run.summary?.parameterValues,
     rhsEvaluations: run.summary?.stats?.rhsEvaluations,

@@ -76,7 +76,9 @@ export function validateSettings(settings: SimulationSettings, symbols: Document
   points.forEach((p, i) => {
     for (const axis of ["x", "y"] as const) {
       const name = p[axis].trim();
-      if (!symbols.definitions.includes(name)) errors[`points.${i}.${axis}`] = name === "" ? "Choose a definition." : `"${name}" is not a definition.`;
+      if (name !== "0" && !symbols.definitions.includes(name) && !symbols.coordinates.includes(name)) {
+        errors[`points.${i}.${axis}`] = name === "" ? "Choose a definition or coordinate." : `"${name}" is not a definition or coordinate.`;
+      }
     }
   });
 

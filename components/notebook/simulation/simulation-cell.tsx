@@ -14,8 +14,11 @@ import { DocumentError, documentSymbols, documentToModel, type DerivationDocumen
 import type { NotebookResults } from "@/lib/notebook/results";
 import { ExpressionEditor } from "../editor/expression-editor";
 import { MeasuredPanel } from "./measured-panel";
-import { displayOfStoredRun, type RunDisplay, type StoredRunJson } from "./run-view";
+import type { RunJson } from "@/lib/runs/views";
+import { FIXED_ZERO, isLengthUnit, nextPoint, pointSourcesOf } from "./mechanism-points";
+import { displayOfStoredRun, type RunDisplay } from "./run-view";
 import { validateSettings } from "./settings";
+import { smallOscillationOf } from "./small-oscillation";
 import type { MeasuredOverlay } from "./results-view";
 import { useSimulationWorker } from "./use-simulation-worker";
 
@@ -111,6 +114,7 @@ export function SimulationSettingsForm({
 }) {
   const settings = cell.settings;
   const symbols = useMemo(() => documentSymbols(doc), [doc]);
+  const pointSources = useMemo(() => pointSourcesOf(doc), [doc]);
   const parameterValues = useMemo(() => {
     const values = new Map<string, string>();
     for (const c of doc.cells) if (c.kind === "parameters") for (const row of c.rows) values.set(row.name.trim(), row.value);
@@ -202,9 +206,9 @@ export function SimulationSettingsForm({
         </fieldset>
       )}
       <fieldset className="min-w-0">
-        <legend className="mb-1 text-xs uppercase tracking-wide text-muted">Mechanism points (definitions drawn as x, y)</legend>
-        {symbols.definitions.length === 0 ? (
-          <p className="text-sm text-muted">Add definitions of positions to draw the mechanism.</p>
+        <legend className="mb-1 text-xs uppercase tracking-wide text-muted">Mechanism points (positions drawn as x, y)</legend>
+        {symbols.definitions.length === 0 && !pointSources.coordinates.some((c) => isLengthUnit(c.unit)) ? (
+          <p className="text-sm text-muted">Add definitions of positions (or a coordinate in metres) to draw the mechanism.</p>
         ) : (
           <div className="flex flex-col gap-1.5">
             {settings.points.map((point, i) => (
@@ -222,11 +226,23 @@ export function SimulationSettingsForm({
                       onChange={(event) => update({ points: settings.points.map((p, j) => (j === i ? { ...p, [axis]: event.target.value } : p)) })}
                     >
                       <option value="">—</option>
-                      {symbols.definitions.map((d) => (
-                        <option key={d} value={d}>
-                          {d}
-                        </option>
-                      ))}
+                      {symbols.definitions.length > 0 && (
+                        <optgroup label="Definitions">
+                          {symbols.definitions.map((d) => (
+                            <option key={d} value={d}>
+                              {d}
+                            </option>
+                          ))}
+                        </optgroup>
+                      )}
+                      <optgroup label="Coordinates">
+                        {symbols.coordinates.map((q) => (
+                          <option key={q} value={q}>
+                            {q}
+                          </option>
+                        ))}
+                      </optgroup>
+                      <option value={FIXED_ZERO}>0 (fixed)</option>
                     </select>
                   </label>
                 ))}
@@ -239,7 +255,7 @@ export function SimulationSettingsForm({
               </div>
             ))}
             {!readOnly && (
-              <button type="button" className="self-start text-sm text-action hover:underline" onClick={() => update({ points: [...settings.points, guessPoint(symbols.definitions, settings.points.length)] })}>
+              <button type="button" className="self-start text-sm text-action hover:underline" onClick={() => update({ points: [...settings.points, nextPoint(pointSources, settings.points)] })}>
                 + Add point
               </button>
             )}
@@ -250,24 +266,11 @@ export function SimulationSettingsForm({
   );
 }
 
-/** Pairs definitions named x1/y1, x2/y2 … in order, as a starting suggestion. */
-function guessPoint(definitions: string[], index: number): { x: string; y: string } {
-  const xs = definitions.filter((d) => /^x/i.test(d));
-  const x = xs[index] ?? "";
-  const y = x ? (definitions.find((d) => d.toLowerCase() === `y${x.slice(1).toLowerCase()}`) ?? "") : "";
-  return { x, y };
-}
-
-/** The first mode of the linearization, when there is one and the Parameters cell's values are used. */
-function smallOscillationOf(results: NotebookResults | null, coordinates: string[]) {
-  const linearization = results?.linearization;
-  const selected = linearization?.selected;
-  const frequency = selected?.frequenciesHz[0];
-  if (!selected || frequency === undefined || !(frequency > 0) || !selected.stable) return null;
-  const equilibrium = linearization.equilibria[selected.index]?.values ?? {};
-  const modeShape = coordinates.map((_, i) => selected.modeShapes[i]?.[0] ?? 0);
-  if (modeShape.every((v) => v === 0)) return null;
-  return { expectedFrequency: 2 * Math.PI * frequency, equilibrium, modeShape };
+/** Each coordinate's unit as written in the Coordinates cell. */
+function coordinateUnitsOf(doc: DerivationDocument): Record<string, string> {
+  const units: Record<string, string> = {};
+  for (const c of doc.cells) if (c.kind === "coordinates") for (const row of c.rows) if (row.name.trim()) units[row.name.trim()] = row.unit.trim();
+  return units;
 }
 
 export function SimulationCellView({ cell, results, readOnly, onOperation, document: doc, derivationId, onSettingsChange, onResetSettings, canStoreRuns = !readOnly }: SimulationCellProps) {
@@ -275,11 +278,12 @@ export function SimulationCellView({ cell, results, readOnly, onOperation, docum
   const [attempted, setAttempted] = useState(false);
   const [problem, setProblem] = useState<string | null>(null);
   const [serverBusy, setServerBusy] = useState(false);
-  const [storedRuns, setStoredRuns] = useState<StoredRunJson[] | null>(null);
+  const [storedRuns, setStoredRuns] = useState<RunJson[] | null>(null);
   const [overlay, setOverlay] = useState<MeasuredOverlay | null>(null);
   const { state, start, cancel } = useSimulationWorker(setRun);
 
   const symbols = useMemo(() => (doc ? documentSymbols(doc) : null), [doc]);
+  const coordinateUnits = useMemo(() => (doc ? coordinateUnitsOf(doc) : {}), [doc]);
   const settings = cell.settings;
   const validation = symbols ? validateSettings(settings, symbols) : null;
   const errors = attempted && validation && !validation.ok ? validation.errors : {};
@@ -287,7 +291,7 @@ export function SimulationCellView({ cell, results, readOnly, onOperation, docum
   const loadRuns = useCallback(async () => {
     if (!derivationId) return;
     try {
-      const { runs } = await apiFetch<{ runs: StoredRunJson[] }>(`/api/derivations/${derivationId}/runs`);
+      const { runs } = await apiFetch<{ runs: RunJson[] }>(`/api/derivations/${derivationId}/runs`);
       setStoredRuns(runs);
     } catch {
       setStoredRuns([]);
@@ -331,7 +335,7 @@ export function SimulationCellView({ cell, results, readOnly, onOperation, docum
     if (!prepared || !derivationId) return;
     setServerBusy(true);
     try {
-      const { run: stored } = await apiFetch<{ run: StoredRunJson }>(`/api/derivations/${derivationId}/runs`, { method: "POST", body: prepared.request });
+      const { run: stored } = await apiFetch<{ run: RunJson }>(`/api/derivations/${derivationId}/runs`, { method: "POST", body: prepared.request });
       const display = displayOfStoredRun(stored);
       if (display) setRun(display);
       await loadRuns();
@@ -345,7 +349,7 @@ export function SimulationCellView({ cell, results, readOnly, onOperation, docum
   async function openRun(runId: string) {
     setProblem(null);
     try {
-      const { run: stored } = await apiFetch<{ run: StoredRunJson }>(`/api/derivations/${derivationId}/runs/${runId}`);
+      const { run: stored } = await apiFetch<{ run: RunJson }>(`/api/derivations/${derivationId}/runs/${runId}`);
       const display = displayOfStoredRun(stored);
       if (display) setRun(display);
       else setProblem("That run has no trajectory stored.");
@@ -432,7 +436,7 @@ export function SimulationCellView({ cell, results, readOnly, onOperation, docum
       )}
       {run && (
         <Suspense fallback={<p className="text-sm text-muted">Loading charts…</p>}>
-          <ResultsView run={run} measured={overlay} />
+          <ResultsView run={run} measured={overlay} units={coordinateUnits} />
         </Suspense>
       )}
       {derivationId && (

@@ -111,11 +111,18 @@ function pointTracks(
 
   const { times, coordinates, rates } = result.trajectory;
   const count = times.length;
-  const tracks = pairs.map((pair) => ({ ...pair, x: new Float64Array(count), y: new Float64Array(count), xSlot: definitionOffset + definitionNames.indexOf(pair.x), ySlot: definitionOffset + definitionNames.indexOf(pair.y) }));
-  for (const track of tracks) {
-    if (track.xSlot < definitionOffset || track.ySlot < definitionOffset) throw new Error(`"${track.xSlot < definitionOffset ? track.x.toString() : track.y.toString()}" is not a definition`);
-  }
-  const values = new Float64Array(variables.length);
+  // A point's x or y is a definition, a coordinate (a support moving along a track) or "0"; the last slot holds the zero.
+  const zeroSlot = variables.length;
+  const slotOf = (name: string): number => {
+    if (name === "0") return zeroSlot;
+    const definition = definitionNames.indexOf(name);
+    if (definition >= 0) return definitionOffset + definition;
+    const coordinate = coordinateNames.indexOf(name);
+    if (coordinate >= 0) return coordinate;
+    throw new Error(`"${name}" is not a definition or coordinate`);
+  };
+  const tracks = pairs.map((pair) => ({ x: new Float64Array(count), y: new Float64Array(count), xSlot: slotOf(pair.x), ySlot: slotOf(pair.y) }));
+  const values = new Float64Array(variables.length + 1);
   const out = new Float64Array(1);
   const timeOnly = new Float64Array(1);
   for (let k = 0; k < count; k++) {
@@ -152,11 +159,18 @@ function smallOscillationOf(form: MassMatrixForm, job: ModelSimulationJob): Smal
   } catch (error) {
     return {
       expectedFrequency: check.expectedFrequency,
+      comparedFrequency: check.eigenvalue ? Math.abs(check.eigenvalue.im) : check.expectedFrequency,
       measuredFrequency: null,
       relativeError: null,
+      amplitudeShift: null,
+      integrationAllowance: 0,
+      timingAllowance: 0,
+      allowance: null,
+      threshold: null,
       passed: false,
-      coordinate: form.coordinates[0] ?? "",
+      coordinate: check.coordinate ?? form.coordinates[0] ?? "",
       amplitude: 0,
+      periods: 0,
       problem: error instanceof Error ? error.message : String(error),
     };
   }

@@ -22,6 +22,8 @@ export function useSimulationWorker(onResult: (run: RunDisplay) => void) {
   const worker = useRef<Worker | null>(null);
   const [state, setState] = useState<WorkerRunState>({ phase: "idle" });
   const current = useRef<string | null>(null);
+  /** Units of the running job's coordinates (from its model), for the CSV header. */
+  const units = useRef<Record<string, string>>({});
   const resultHandler = useRef(onResult);
   resultHandler.current = onResult;
 
@@ -62,6 +64,7 @@ export function useSimulationWorker(onResult: (run: RunDisplay) => void) {
           coordinates: result.trajectory.coordinates,
           rates: result.trajectory.rates,
           energy: result.energy,
+          coordinateUnits: units.current,
           energyCheck: energyCheck ? { relativeDrift: energyCheck.relativeDrift, threshold: energyCheck.threshold, warning: energyCheck.warning } : null,
           smallOscillation: "smallOscillation" in message ? message.smallOscillation : null,
           points: "points" in message ? message.points : [],
@@ -82,6 +85,7 @@ export function useSimulationWorker(onResult: (run: RunDisplay) => void) {
     sequence += 1;
     const id = `run-${sequence}`;
     current.current = id;
+    units.current = coordinateUnitsOf(job.model);
     setState({ phase: "running", id, progress: null });
     const request: ModelSimulationRequest = { type: "start", id, job };
     worker.current.postMessage(request);
@@ -93,4 +97,13 @@ export function useSimulationWorker(onResult: (run: RunDisplay) => void) {
   }, []);
 
   return { state, start, cancel };
+}
+
+/** Each coordinate's unit in a model file (the job's model is not validated yet; anything odd gives no unit). */
+function coordinateUnitsOf(model: unknown): Record<string, string> {
+  const coordinates = (model as { coordinates?: unknown } | null)?.coordinates;
+  if (!Array.isArray(coordinates)) return {};
+  return Object.fromEntries(
+    coordinates.flatMap((c: { name?: unknown; unit?: unknown }) => (typeof c?.name === "string" && typeof c.unit === "string" ? [[c.name, c.unit]] : [])),
+  );
 }

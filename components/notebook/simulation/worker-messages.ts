@@ -9,8 +9,14 @@ export interface ModelSimulationJob {
   /** Definition pairs drawn as the mechanism's points. */
   points: { x: string; y: string }[];
   energyDriftThreshold?: number;
-  /** The linearization's first mode, to compare a small swing against (rad/s). */
-  smallOscillation?: { expectedFrequency: number; equilibrium: Record<string, number>; modeShape: number[] } | null;
+  /** A mode of the linearization to compare a small swing against: frequency in rad/s, its damped eigenvalue, the coordinate to time. */
+  smallOscillation?: {
+    expectedFrequency: number;
+    equilibrium: Record<string, number>;
+    modeShape: number[];
+    coordinate?: string;
+    eigenvalue?: { re: number; im: number };
+  } | null;
 }
 
 export type ModelSimulationRequest = { type: "start"; id: string; job: ModelSimulationJob } | { type: "cancel"; id: string };

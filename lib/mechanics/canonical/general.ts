@@ -15,7 +15,7 @@ import { parseExpression } from "../expr/parse";
 import * as C from "./coefficient";
 import type { Algebra } from "./algebra";
 import { agreeNumerically } from "./evaluate";
-import { toFraction } from "./format";
+import { toFraction } from "./to-expr";
 import { toCanonical } from "./from-expr";
 import type { SymbolSpace } from "./space";
 import type { Poly, Term, Trig } from "./term";

@@ -1,6 +1,6 @@
 import { ExpressionError } from "../errors";
 import { symbolsOf, TIME, type Expr } from "../expr/ast";
-import { parseExpression } from "../expr/parse";
+import { DEFAULT_PARSE_LIMITS, expressionTree, type ExpressionSource } from "../expr/parse";
 import { Algebra } from "./algebra";
 import { formatPoly, formatTerms } from "./format";
 import { toCanonical } from "./from-expr";
@@ -26,12 +26,12 @@ export interface CanonicalExpressions {
 }
 
 /**
- * Canonical forms of several standalone expressions over one shared symbol table.
+ * Canonical forms of several standalone expressions (text, or trees) over one shared symbol table.
  *
  * @example canonicalize(["sin(a)^2 + cos(a)^2"]).polys[0] // the constant 1
  */
-export function canonicalize(texts: readonly string[], options: CanonicalOptions = {}): CanonicalExpressions {
-  const trees: Expr[] = texts.map((t) => parseExpression(t));
+export function canonicalize(sources: readonly ExpressionSource[], options: CanonicalOptions = {}): CanonicalExpressions {
+  const trees: Expr[] = sources.map((source) => expressionTree(source, DEFAULT_PARSE_LIMITS));
   const coordinates = new Set(options.coordinates ?? []);
   const constants = new Set<string>();
   for (const tree of trees) {
@@ -68,13 +68,13 @@ export function canonicalize(texts: readonly string[], options: CanonicalOptions
 }
 
 /** The canonical text of one expression. @example canonicalText("cos(b - a)") // "cos(a - b)" */
-export function canonicalText(text: string, options: CanonicalOptions = {}): string {
-  const c = canonicalize([text], options);
+export function canonicalText(source: ExpressionSource, options: CanonicalOptions = {}): string {
+  const c = canonicalize([source], options);
   return c.format(c.polys[0]!);
 }
 
 /** True when two expressions have the same canonical form (their difference is zero). */
-export function sameExpression(a: string, b: string, options: CanonicalOptions = {}): boolean {
+export function sameExpression(a: ExpressionSource, b: ExpressionSource, options: CanonicalOptions = {}): boolean {
   const c = canonicalize([a, b], options);
   return c.algebra.sub(c.polys[0]!, c.polys[1]!).size === 0;
 }

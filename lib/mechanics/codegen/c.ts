@@ -1,4 +1,5 @@
 import type { FunctionName } from "../expr/ast";
+import { argumentOf } from "./names";
 import { describeInterface, doubleLiteral, type PreparedModel } from "./prepare";
 
 const C_FUNCTIONS: Record<FunctionName, string> = {
@@ -18,30 +19,32 @@ export function emitC(model: PreparedModel): string {
       power: (base, exponent) => `pow(${base}, ${exponent})`,
       temporary: (i) => `t${i}_`,
     },
-    (slot) => (slot.array === "t" ? "t" : `${slot.array}[${slot.index}]`),
+    (slot) => (slot.array === "t" ? "t" : `${argumentOf(slot)}[${slot.index}]`),
   );
-  const signature = (extra: string) => `const double *q, const double *qd, double t, const double *p, const double *u${extra}`;
+  const signature = (extra: string) => `const double *coordinates, const double *rates, double t, const double *parameters, const double *inputs${extra}`;
+  const call = "coordinates, rates, t, parameters, inputs";
   const body = (fn: { temporaries: { name: string; code: string }[]; outputs: string[] }, target: (i: number) => string) =>
     [...fn.temporaries.map((tmp) => `    const double ${tmp.name} = ${tmp.code};`), ...fn.outputs.map((code, i) => `    ${target(i)} = ${code};`)].join("\n");
-  const unused = "    (void)q; (void)qd; (void)t; (void)p; (void)u;";
-  const jacobianTarget = (i: number) => (i < n * n ? `dr_dq[${i}]` : i < 2 * n * n ? `dr_dqd[${i - n * n}]` : `dr_du[${i - 2 * n * n}]`);
+  const unused = "    (void)coordinates; (void)rates; (void)t; (void)parameters; (void)inputs;";
+  const jacobianTarget = (i: number) =>
+    i < n * n ? `residual_by_coordinates[${i}]` : i < 2 * n * n ? `residual_by_rates[${i - n * n}]` : `residual_by_inputs[${i - 2 * n * n}]`;
   const defaults = np === 0 ? "0.0" : model.parameters.map((p) => (p.value === undefined ? "NAN" : doubleLiteral(p.value))).join(", ");
 
   return `/*
 ${describeInterface(model, 0).map((line) => ` * ${line}`).join("\n")}
  *
- * Matrices are row-major: M[i*${upper}_NQ + j]. Compile with: cc -std=c99 -c file.c -lm
+ * Matrices are row-major: M[i*${upper}_COORDINATE_COUNT + j]. Compile with: cc -std=c99 -c file.c -lm
  */
 #include <math.h>
 
-#define ${upper}_NQ ${n}
-#define ${upper}_NU ${m}
-#define ${upper}_NP ${np}
+#define ${upper}_COORDINATE_COUNT ${n}
+#define ${upper}_INPUT_COUNT ${m}
+#define ${upper}_PARAMETER_COUNT ${np}
 
-/* Parameter defaults in the order of p (NAN where the model gives no value). */
-static const double ${name}_default_params[${Math.max(np, 1)}] = { ${defaults} };
+/* Parameter defaults in the order of the parameters argument (NAN where the model gives no value). */
+static const double ${name}_default_parameters[${Math.max(np, 1)}] = { ${defaults} };
 
-const double *${name}_defaults(void) { return ${name}_default_params; }
+const double *${name}_defaults(void) { return ${name}_default_parameters; }
 
 /* Mass matrix M (${n}x${n}). */
 void ${name}_mass_matrix(${signature(", double *M")}) {
@@ -55,9 +58,10 @@ ${unused}
 ${body(printed.forcing, (i) => `f[${i}]`)}
 }
 
-/* Jacobians of the residual r = M(q, qd, t, u) qdd - f(q, qd, t, u) at the given qdd. */
-void ${name}_residual_jacobians(const double *q, const double *qd, const double *qdd, double t, const double *p, const double *u, double *dr_dq, double *dr_dqd, double *dr_du) {
-    (void)q; (void)qd; (void)qdd; (void)t; (void)p; (void)u; (void)dr_du;
+/* Jacobians of the residual r = M accelerations - f with respect to the coordinates, the rates and the inputs. */
+void ${name}_residual_jacobians(const double *coordinates, const double *rates, const double *accelerations, double t, const double *parameters, const double *inputs,
+                                double *residual_by_coordinates, double *residual_by_rates, double *residual_by_inputs) {
+    (void)coordinates; (void)rates; (void)accelerations; (void)t; (void)parameters; (void)inputs; (void)residual_by_inputs;
 ${body(printed.jacobians, jacobianTarget)}
 }
 
@@ -88,34 +92,32 @@ static int ${name}_solve(int n, double *a, double *b, int k) {
     return 0;
 }
 
-/* Accelerations qdd = M^-1 f. Returns 0, or -1 when M is singular. */
-int ${name}_accelerations(${signature(", double *qdd")}) {
-    double M[${n * n}], lu[${n * n}];
-    ${name}_mass_matrix(q, qd, t, p, u, M);
-    for (int i = 0; i < ${n * n}; i++) lu[i] = M[i];
-    ${name}_forcing(q, qd, t, p, u, qdd);
-    return ${name}_solve(${n}, lu, qdd, 1);
+/* Accelerations M^-1 f. Returns 0, or -1 when M is singular. */
+int ${name}_accelerations(${signature(", double *accelerations")}) {
+    double M[${n * n}];
+    ${name}_mass_matrix(${call}, M);
+    ${name}_forcing(${call}, accelerations);
+    return ${name}_solve(${n}, M, accelerations, 1);
 }
 
-/* State-space A (${2 * n}x${2 * n}) and B (${2 * n}x${m}) of dx/dt = [qd; M^-1 f] at (q, qd, t, u), x = [q; qd].
+/* State-space A (${2 * n}x${2 * n}) and B (${2 * n}x${m}) of dx/dt = [rates; M^-1 f] at the given state, x = [coordinates; rates].
    Returns 0, or -1 when M is singular. */
 int ${name}_state_matrices(${signature(", double *A, double *B")}) {
-    double M[${n * n}], lu[${n * n}], qdd[${n}];
-    double dr_dq[${n * n}], dr_dqd[${n * n}], dr_du[${Math.max(n * m, 1)}];
+    double M[${n * n}], accelerations[${n}];
+    double residual_by_coordinates[${n * n}], residual_by_rates[${n * n}], residual_by_inputs[${Math.max(n * m, 1)}];
     double rhs[${n * (2 * n + m)}];
-    if (${name}_accelerations(q, qd, t, p, u, qdd) != 0) return -1;
-    ${name}_mass_matrix(q, qd, t, p, u, M);
-    ${name}_residual_jacobians(q, qd, qdd, t, p, u, dr_dq, dr_dqd, dr_du);
-    /* Solve M [X_q X_qd X_u] = -[dr_dq dr_dqd dr_du] in one pass. */
+    if (${name}_accelerations(${call}, accelerations) != 0) return -1;
+    ${name}_mass_matrix(${call}, M);
+    ${name}_residual_jacobians(coordinates, rates, accelerations, t, parameters, inputs, residual_by_coordinates, residual_by_rates, residual_by_inputs);
+    /* Solve M [X_coordinates X_rates X_inputs] = -[residual_by_coordinates residual_by_rates residual_by_inputs] in one pass. */
     for (int i = 0; i < ${n}; i++) {
         for (int j = 0; j < ${n}; j++) {
-            rhs[i * ${2 * n + m} + j] = -dr_dq[i * ${n} + j];
-            rhs[i * ${2 * n + m} + ${n} + j] = -dr_dqd[i * ${n} + j];
+            rhs[i * ${2 * n + m} + j] = -residual_by_coordinates[i * ${n} + j];
+            rhs[i * ${2 * n + m} + ${n} + j] = -residual_by_rates[i * ${n} + j];
         }
-        for (int k = 0; k < ${m}; k++) rhs[i * ${2 * n + m} + ${2 * n} + k] = -dr_du[i * ${Math.max(m, 1)} + k];
+        for (int k = 0; k < ${m}; k++) rhs[i * ${2 * n + m} + ${2 * n} + k] = -residual_by_inputs[i * ${Math.max(m, 1)} + k];
     }
-    for (int i = 0; i < ${n * n}; i++) lu[i] = M[i];
-    if (${name}_solve(${n}, lu, rhs, ${2 * n + m}) != 0) return -1;
+    if (${name}_solve(${n}, M, rhs, ${2 * n + m}) != 0) return -1;
     for (int i = 0; i < ${4 * n * n}; i++) A[i] = 0.0;
     for (int i = 0; i < ${n}; i++) {
         A[i * ${2 * n} + ${n} + i] = 1.0;

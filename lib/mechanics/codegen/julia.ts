@@ -1,4 +1,5 @@
 import type { FunctionName } from "../expr/ast";
+import { argumentOf } from "./names";
 import { describeInterface, doubleLiteral, type PreparedModel } from "./prepare";
 
 /** Julia: functions over vectors (1-based), A and B by the backslash solve. */
@@ -11,14 +12,15 @@ export function emitJulia(model: PreparedModel): string {
       power: (base, exponent) => `${base}^${exponent}`,
       temporary: (i) => `t${i}_`,
     },
-    (slot) => (slot.array === "t" ? "t" : `${slot.array}[${slot.index + 1}]`),
+    (slot) => (slot.array === "t" ? "t" : `${argumentOf(slot)}[${slot.index + 1}]`),
   );
   const temporaries = (fn: { temporaries: { name: string; code: string }[] }) => fn.temporaries.map((tmp) => `    ${tmp.name} = ${tmp.code}`).join("\n");
   const matrix = (outputs: string[], rows: number, cols: number) =>
     cols === 0 ? `zeros(${rows}, 0)` : `[\n${Array.from({ length: rows }, (_, i) => `        ${outputs.slice(i * cols, (i + 1) * cols).join(" ")}`).join(";\n")}\n    ]`;
   const { jacobians } = printed;
   const defaults = model.parameters.map((p) => (p.value === undefined ? "NaN" : doubleLiteral(p.value))).join(", ");
-  const args = "q, qd, t, p=DEFAULT_PARAMS, u=Float64[]";
+  const args = "coordinates, rates, t, parameters=DEFAULT_PARAMETERS, inputs=Float64[]";
+  const call = "coordinates, rates, t, parameters, inputs";
   // Matrix literals separate entries by spaces, so every entry is parenthesized: [a -b] would be two entries.
   const entries = (outputs: string[]) => outputs.map((o) => `(${o})`);
 
@@ -28,7 +30,7 @@ const COORDINATES = [${model.coordinates.map((c) => JSON.stringify(c)).join(", "
 const INPUTS = String[${model.inputs.map((c) => JSON.stringify(c)).join(", ")}]
 const PARAMETERS = String[${model.parameters.map((c) => JSON.stringify(c.name)).join(", ")}]
 # Parameter defaults in the order of PARAMETERS (NaN where the model gives no value).
-const DEFAULT_PARAMS = Float64[${defaults}]
+const DEFAULT_PARAMETERS = Float64[${defaults}]
 
 "Mass matrix M (${n}×${n})."
 function mass_matrix(${args})
@@ -42,32 +44,31 @@ ${temporaries(printed.forcing)}
     return [${entries(printed.forcing.outputs).join(", ")}]
 end
 
-"Jacobians of r = M qdd - f with respect to q, qd and u, at the given qdd."
-function residual_jacobians(q, qd, qdd, t, p=DEFAULT_PARAMS, u=Float64[])
+"Jacobians of the residual r = M accelerations - f with respect to the coordinates, the rates and the inputs."
+function residual_jacobians(coordinates, rates, accelerations, t, parameters=DEFAULT_PARAMETERS, inputs=Float64[])
 ${temporaries(jacobians)}
-    dr_dq = ${matrix(entries(jacobians.outputs.slice(0, n * n)), n, n)}
-    dr_dqd = ${matrix(entries(jacobians.outputs.slice(n * n, 2 * n * n)), n, n)}
-    dr_du = ${matrix(entries(jacobians.outputs.slice(2 * n * n)), n, m)}
-    return dr_dq, dr_dqd, dr_du
+    residual_by_coordinates = ${matrix(entries(jacobians.outputs.slice(0, n * n)), n, n)}
+    residual_by_rates = ${matrix(entries(jacobians.outputs.slice(n * n, 2 * n * n)), n, n)}
+    residual_by_inputs = ${matrix(entries(jacobians.outputs.slice(2 * n * n)), n, m)}
+    return residual_by_coordinates, residual_by_rates, residual_by_inputs
 end
 
-"Accelerations qdd = M⁻¹ f."
-accelerations(${args}) = mass_matrix(q, qd, t, p, u) \\ forcing(q, qd, t, p, u)
+"Accelerations M⁻¹ f."
+accelerations(${args}) = mass_matrix(${call}) \\ forcing(${call})
 
-"State-space A (${2 * n}×${2 * n}) and B (${2 * n}×${m}) of dx/dt = [qd; M⁻¹ f] at (q, qd, t, u), x = [q; qd]."
+"State-space A (${2 * n}×${2 * n}) and B (${2 * n}×${m}) of dx/dt = [rates; M⁻¹ f] at the given state, x = [coordinates; rates]."
 function state_matrices(${args})
-    M = mass_matrix(q, qd, t, p, u)
-    qdd = M \\ forcing(q, qd, t, p, u)
-    dr_dq, dr_dqd, dr_du = residual_jacobians(q, qd, qdd, t, p, u)
+    M = mass_matrix(${call})
+    by_coordinates, by_rates, by_inputs = residual_jacobians(coordinates, rates, M \\ forcing(${call}), t, parameters, inputs)
     A = zeros(${2 * n}, ${2 * n})
     for i in 1:${n}
         A[i, ${n} + i] = 1.0
     end
-    A[${n + 1}:${2 * n}, 1:${n}] = -(M \\ dr_dq)
-    A[${n + 1}:${2 * n}, ${n + 1}:${2 * n}] = -(M \\ dr_dqd)
+    A[${n + 1}:${2 * n}, 1:${n}] = -(M \\ by_coordinates)
+    A[${n + 1}:${2 * n}, ${n + 1}:${2 * n}] = -(M \\ by_rates)
     B = zeros(${2 * n}, ${m})
     if ${m} > 0
-        B[${n + 1}:${2 * n}, :] = -(M \\ dr_du)
+        B[${n + 1}:${2 * n}, :] = -(M \\ by_inputs)
     end
     return A, B
 end

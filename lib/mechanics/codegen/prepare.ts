@@ -1,8 +1,8 @@
-import { DERIVED_EXPRESSION_LIMITS } from "../compile";
 import { ModelError } from "../errors";
-import { parseExpression } from "../expr/parse";
+import { expressionTree, type ExpressionSource } from "../expr/parse";
 import { residualJacobians } from "../jacobians";
 import { hoistCommonSubexpressions, printHoisted, type PrintedFunction, type Syntax } from "./cse";
+import { safetyNote } from "../../domain";
 
 export type CodeLanguage = "c" | "python" | "julia" | "matlab" | "typescript";
 export const CODE_LANGUAGES: readonly CodeLanguage[] = ["c", "python", "julia", "matlab", "typescript"];
@@ -15,8 +15,9 @@ export interface CodeExportInput {
   /** In the order of the generated `p` vector; `value` becomes the default. */
   parameters: readonly { name: string; value?: number; unit?: string }[];
   inputs?: readonly string[];
-  massMatrix: readonly (readonly string[])[];
-  forcing: readonly string[];
+  /** Trees, or text (parsed once here). */
+  massMatrix: readonly (readonly ExpressionSource[])[];
+  forcing: readonly ExpressionSource[];
 }
 
 /** Which array a variable slot lives in, and its 0-based index there. */
@@ -35,8 +36,6 @@ export interface PreparedModel {
   print(syntax: Omit<Syntax, "variable">, reference: (slot: SlotReference) => string): { mass: PrintedFunction; forcing: PrintedFunction; jacobians: PrintedFunction };
 }
 
-export const SAFETY_NOTE =
-  "Derived equations are a model. Before they drive real hardware or a safety-relevant decision, validate them against tests and the applicable codes and standards, under a qualified engineer's responsibility.";
 
 export function prepareModel(input: CodeExportInput): PreparedModel {
   const coordinates = [...input.coordinates];
@@ -56,10 +55,11 @@ export function prepareModel(input: CodeExportInput): PreparedModel {
     if (index < 3 * n + 1 + m) return { array: "u", index: index - 3 * n - 1 };
     return { array: "p", index: index - 3 * n - 1 - m };
   };
-  const jac = residualJacobians({ coordinates, inputs, massMatrix: input.massMatrix, forcing: input.forcing });
-  const parse = (text: string) => parseExpression(text, DERIVED_EXPRESSION_LIMITS);
-  const mass = hoistCommonSubexpressions(input.massMatrix.flat().map(parse), variables);
-  const forcing = hoistCommonSubexpressions(input.forcing.map(parse), variables);
+  const massTrees = input.massMatrix.map((row) => row.map((entry) => expressionTree(entry)));
+  const forcingTrees = input.forcing.map((entry) => expressionTree(entry));
+  const jac = residualJacobians({ coordinates, inputs, massMatrix: massTrees, forcing: forcingTrees });
+  const mass = hoistCommonSubexpressions(massTrees.flat(), variables);
+  const forcing = hoistCommonSubexpressions(forcingTrees, variables);
   const jacobians = hoistCommonSubexpressions([...jac.byCoordinate.flat(), ...jac.byRate.flat(), ...jac.byInput.flat()], variables);
   const name = (input.name ?? "model").replace(/[^A-Za-z0-9_]/g, "_").replace(/^([^A-Za-z])/, "m_$1") || "model";
   return {
@@ -90,10 +90,12 @@ export function describeInterface(model: PreparedModel, base: 0 | 1): string[] {
   const list = (names: string[]) => names.map((name, i) => `${i + base}: ${name}`).join(", ") || "(none)";
   return [
     `${model.title} — equations of motion M(q, q', t, u) q'' = f(q, q', t, u), exported by Holonomy.`,
-    `Coordinates q (rates qd): ${list(model.coordinates)}`,
-    `Inputs u: ${list(model.inputs)}`,
-    `Parameters p: ${model.parameters.map((p, i) => `${i + base}: ${p.name}${p.unit ? ` [${p.unit}]` : ""}${p.value === undefined ? " (no default)" : ` = ${p.value}`}`).join(", ") || "(none)"}`,
-    `State-space matrices linearize q'' = M^-1 f at any state with x = [q; qd]: dx/dt ≈ A x + B u.`,
-    SAFETY_NOTE,
+    `Arguments: coordinates (q), rates (q'), accelerations (q''), parameters and inputs (u) are arrays in the order listed here; t is the time.`,
+    `Coordinates (rates in the same order): ${list(model.coordinates)}`,
+    `Inputs: ${list(model.inputs)}`,
+    `Parameters: ${model.parameters.map((p, i) => `${i + base}: ${p.name}${p.unit ? ` [${p.unit}]` : ""}${p.value === undefined ? " (no default)" : ` = ${p.value}`}`).join(", ") || "(none)"}`,
+    `State-space matrices linearize q'' = M^-1 f at any state with x = [coordinates; rates]: dx/dt ≈ A x + B u.`,
+    // The product's one safety note (lib/domain.ts, plain data), as on the pages and in the LaTeX export.
+    safetyNote,
   ];
 }

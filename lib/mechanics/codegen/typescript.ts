@@ -1,4 +1,5 @@
 import type { FunctionName } from "../expr/ast";
+import { argumentOf } from "./names";
 import { describeInterface, doubleLiteral, type PreparedModel } from "./prepare";
 
 /** TypeScript: dependency-free functions over number arrays; A and B by Gaussian elimination. */
@@ -11,15 +12,16 @@ export function emitTypeScript(model: PreparedModel): string {
       power: (base, exponent) => `Math.pow(${base}, ${exponent})`,
       temporary: (i) => `t${i}_`,
     },
-    (slot) => (slot.array === "t" ? "t" : `${slot.array}[${slot.index}]!`),
+    (slot) => (slot.array === "t" ? "t" : `${argumentOf(slot)}[${slot.index}]!`),
   );
   const temporaries = (fn: { temporaries: { name: string; code: string }[] }) => fn.temporaries.map((tmp) => `  const ${tmp.name} = ${tmp.code};`).join("\n");
   const matrix = (outputs: string[], rows: number, cols: number) =>
     `[\n${Array.from({ length: rows }, (_, i) => `    [${outputs.slice(i * cols, (i + 1) * cols).join(", ")}],`).join("\n")}\n  ]`;
   const { jacobians } = printed;
   const defaults = model.parameters.map((p) => (p.value === undefined ? "NaN" : doubleLiteral(p.value))).join(", ");
-  const args = "q: ArrayLike<number>, qd: ArrayLike<number>, t: number, p: ArrayLike<number> = DEFAULT_PARAMS, u: ArrayLike<number> = []";
-  const used = "  void q; void qd; void t; void p; void u;";
+  const args = "coordinates: ArrayLike<number>, rates: ArrayLike<number>, t: number, parameters: ArrayLike<number> = DEFAULT_PARAMETERS, inputs: ArrayLike<number> = []";
+  const call = "coordinates, rates, t, parameters, inputs";
+  const used = "  void coordinates; void rates; void t; void parameters; void inputs;";
 
   return `${describeInterface(model, 0).map((line) => `// ${line}`).join("\n")}
 
@@ -27,7 +29,7 @@ export const COORDINATES = ${JSON.stringify(model.coordinates)} as const;
 export const INPUTS = ${JSON.stringify(model.inputs)} as const;
 export const PARAMETERS = ${JSON.stringify(model.parameters.map((p) => p.name))} as const;
 /** Parameter defaults in the order of PARAMETERS (NaN where the model gives no value). */
-export const DEFAULT_PARAMS: readonly number[] = [${defaults}];
+export const DEFAULT_PARAMETERS: readonly number[] = [${defaults}];
 
 /** Mass matrix M (${n}×${n}). */
 export function massMatrix(${args}): number[][] {
@@ -43,14 +45,21 @@ ${temporaries(printed.forcing)}
   return [${printed.forcing.outputs.join(", ")}];
 }
 
-/** Jacobians of r = M qdd − f with respect to q, qd and u, at the given qdd. */
-export function residualJacobians(q: ArrayLike<number>, qd: ArrayLike<number>, qdd: ArrayLike<number>, t: number, p: ArrayLike<number> = DEFAULT_PARAMS, u: ArrayLike<number> = []): { drdq: number[][]; drdqd: number[][]; drdu: number[][] } {
-${used} void qdd;
+/** Jacobians of the residual r = M accelerations − f with respect to the coordinates, the rates and the inputs. */
+export function residualJacobians(
+  coordinates: ArrayLike<number>,
+  rates: ArrayLike<number>,
+  accelerations: ArrayLike<number>,
+  t: number,
+  parameters: ArrayLike<number> = DEFAULT_PARAMETERS,
+  inputs: ArrayLike<number> = [],
+): { byCoordinates: number[][]; byRates: number[][]; byInputs: number[][] } {
+${used} void accelerations;
 ${temporaries(jacobians)}
   return {
-    drdq: ${matrix(jacobians.outputs.slice(0, n * n), n, n)},
-    drdqd: ${matrix(jacobians.outputs.slice(n * n, 2 * n * n), n, n)},
-    drdu: ${matrix(jacobians.outputs.slice(2 * n * n), n, m)},
+    byCoordinates: ${matrix(jacobians.outputs.slice(0, n * n), n, n)},
+    byRates: ${matrix(jacobians.outputs.slice(n * n, 2 * n * n), n, n)},
+    byInputs: ${matrix(jacobians.outputs.slice(2 * n * n), n, m)},
   };
 }
 
@@ -81,19 +90,18 @@ function solve(a: number[][], b: number[][]): number[][] {
   return x;
 }
 
-/** Accelerations qdd = M⁻¹ f. */
+/** Accelerations M⁻¹ f. */
 export function accelerations(${args}): number[] {
-  return solve(massMatrix(q, qd, t, p, u), forcing(q, qd, t, p, u).map((v) => [v])).map((row) => row[0]!);
+  return solve(massMatrix(${call}), forcing(${call}).map((v) => [v])).map((row) => row[0]!);
 }
 
-/** State-space A (${2 * n}×${2 * n}) and B (${2 * n}×${m}) of dx/dt = [qd; M⁻¹ f] at (q, qd, t, u), x = [q; qd]. */
+/** State-space A (${2 * n}×${2 * n}) and B (${2 * n}×${m}) of dx/dt = [rates; M⁻¹ f] at the given state, x = [coordinates; rates]. */
 export function stateMatrices(${args}): { A: number[][]; B: number[][] } {
   const n = ${n};
   const m = ${m};
-  const M = massMatrix(q, qd, t, p, u);
-  const qdd = accelerations(q, qd, t, p, u);
-  const { drdq, drdqd, drdu } = residualJacobians(q, qd, qdd, t, p, u);
-  const x = solve(M, drdq.map((row, i) => [...row, ...drdqd[i]!, ...drdu[i]!].map((v) => -v)));
+  const M = massMatrix(${call});
+  const { byCoordinates, byRates, byInputs } = residualJacobians(coordinates, rates, accelerations(${call}), t, parameters, inputs);
+  const x = solve(M, byCoordinates.map((row, i) => [...row, ...byRates[i]!, ...byInputs[i]!].map((v) => -v)));
   const A = Array.from({ length: 2 * n }, (_, i) => Array.from({ length: 2 * n }, (_, j) => (i < n ? (j === n + i ? 1 : 0) : x[i - n]![j]!)));
   const B = Array.from({ length: 2 * n }, (_, i) => Array.from({ length: m }, (_, k) => (i < n ? 0 : x[i - n]![2 * n + k]!)));
   return { A, B };

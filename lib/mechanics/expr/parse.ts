@@ -1,5 +1,6 @@
 import { ExpressionError } from "../errors";
 import { FUNCTION_NAMES, type BinaryOperator, type Expr, type FunctionName } from "./ast";
+import { GREEK_LETTER_NAMES, greekAdvice } from "./greek";
 
 /**
  * Limits applied before any symbolic work, so that untrusted text cannot make
@@ -15,6 +16,24 @@ export interface ParseLimits {
 }
 
 export const DEFAULT_PARSE_LIMITS: ParseLimits = { maxLength: 8000, maxDepth: 60, maxExponent: 32 };
+
+/**
+ * Parse limits for expression text the engine produced and got back (mass
+ * matrices and forcing of long chains run to many thousand characters). User
+ * text keeps the defaults; the worker pool bounds the size of everything it accepts.
+ */
+export const DERIVED_EXPRESSION_LIMITS: ParseLimits = { ...DEFAULT_PARSE_LIMITS, maxLength: 2_000_000, maxDepth: 200 };
+
+/** An expression as text in the input syntax or as its tree. */
+export type ExpressionSource = string | Expr;
+
+/**
+ * The tree of an expression: a tree as it is, text parsed (once, where it
+ * enters) with the limits for derived expressions.
+ */
+export function expressionTree(source: ExpressionSource, limits: ParseLimits = DERIVED_EXPRESSION_LIMITS): Expr {
+  return typeof source === "string" ? parseExpression(source, limits) : source;
+}
 
 const FUNCTIONS: ReadonlySet<string> = new Set(FUNCTION_NAMES);
 
@@ -86,6 +105,7 @@ function tokenize(text: string): Token[] {
       continue;
     }
     if (ch === "'") throw new ExpressionError("parse", `a prime must follow a name (write q', not (q)')`, start);
+    if (GREEK_LETTER_NAMES[ch]) throw new ExpressionError("parse", `unexpected character "${ch}": ${greekAdvice(ch)}`, start);
     throw new ExpressionError("parse", `unexpected character "${ch}"`, start);
   }
   tokens.push({ type: "end", start: text.length, end: text.length });
@@ -258,9 +278,11 @@ function format(expr: Expr, parent: number): string {
       const p = PRECEDENCE[expr.op];
       // Left-associative operators need parentheses on a right operand of equal precedence;
       // ^ is right-associative, so it needs them on the left.
-      const left = format(expr.left, expr.op === "^" ? p + 1 : p);
+      // The parser reads `-a*b` as (−a)·b: a negated left factor needs no parentheses.
+      const leadingMinus = expr.left.kind === "neg" && (expr.op === "*" || expr.op === "/");
+      const left = leadingMinus ? format(expr.left, 0) : format(expr.left, expr.op === "^" ? p + 1 : p);
       const right = format(expr.right, expr.op === "^" ? 3 : p + 1);
-      const text = `${left}${expr.op === "^" ? "^" : ` ${expr.op} `}${right}`.replace(/ ([*/]) /g, "$1");
+      const text = `${left}${p === 1 ? ` ${expr.op} ` : expr.op}${right}`;
       return p < parent ? `(${text})` : text;
     }
   }

@@ -1,9 +1,10 @@
 import { exportCode, type CodeExportInput, type CodeLanguage } from "../codegen";
-import { compileMassMatrixSystem } from "../compile";
+import type { MassMatrixSystem } from "../compile";
 import { deriveModel, type DeriveOptions } from "../derive";
 import { findEquilibria, type EquilibriumOptions } from "../equilibria";
-import { toLatexTerms } from "../latex";
-import { linearizeAbout, type MechanicalSystem, type OperatingPoint } from "../linearize";
+import { linearizeAbout, type OperatingPoint } from "../linearize";
+import { printDerivation } from "../print";
+import { derivationReport } from "../report";
 import { checkModelUnits } from "../units";
 import { validateModel } from "../validate-model";
 
@@ -12,11 +13,15 @@ import { validateModel } from "../validate-model";
  * pool sent and returns a structured-cloneable result; errors are thrown as
  * the engine's typed errors. To add a task, add an entry here (or register
  * one at run time with `registerEngineTask` in a worker entry of your own).
+ *
+ * The thread boundary is where results leave the engine: the derivation
+ * crosses it printed (text and LaTeX, printDerivation), and M and f come back
+ * as text, parsed once on arrival.
  */
 export type EngineTask = (payload: unknown) => unknown;
 
 export const ENGINE_TASKS: Record<string, EngineTask> = {
-  /** { model, options? } → DerivationResult; validates the model and checks its units first and after. */
+  /** { model, options? } → PrintedDerivation; validates the model and checks its units first and after. */
   derive(payload) {
     const { model: raw, options } = payload as { model: unknown; options?: DeriveOptions & { units?: boolean } };
     const model = validateModel(raw);
@@ -24,7 +29,12 @@ export const ENGINE_TASKS: Record<string, EngineTask> = {
     if (units) checkModelUnits(model);
     const result = deriveModel(model, options);
     if (units) checkModelUnits(model, result.equations);
-    return result;
+    return printDerivation(result);
+  },
+  /** { model } → DerivationReport: the derivation CLI's output (the public API serves it). */
+  report(payload) {
+    const { model } = payload as { model: unknown };
+    return derivationReport(model);
   },
   /** { model } → { ok: true }; throws ModelError on a unit problem. */
   checkUnits(payload) {
@@ -34,28 +44,17 @@ export const ENGINE_TASKS: Record<string, EngineTask> = {
   },
   /** { system, point } → Linearization */
   linearize(payload) {
-    const { system, point } = payload as { system: MechanicalSystem; point: OperatingPoint };
+    const { system, point } = payload as { system: MassMatrixSystem; point: OperatingPoint };
     return linearizeAbout(system, point);
   },
   /** { system, options? } → Equilibrium[] */
   equilibria(payload) {
-    const { system, options } = payload as { system: MechanicalSystem; options?: EquilibriumOptions };
+    const { system, options } = payload as { system: MassMatrixSystem; options?: EquilibriumOptions };
     return findEquilibria(system, options);
   },
   /** { input, language } → { code } */
   exportCode(payload) {
     const { input, language } = payload as { input: CodeExportInput; language: CodeLanguage };
     return { code: exportCode(input, language) };
-  },
-  /** { expressions } → per expression { latex, terms } */
-  latex(payload) {
-    const { expressions } = payload as { expressions: string[] };
-    return expressions.map((text) => toLatexTerms(text));
-  },
-  /** { system, t, x, u } → { dxdt } or null when M is singular: one right-hand side, for checks from the server. */
-  stateDerivative(payload) {
-    const { system, t, x, u } = payload as { system: MechanicalSystem; t: number; x: number[]; u?: number[] };
-    const dxdt = new Float64Array(x.length);
-    return compileMassMatrixSystem(system).stateDerivative(t, x, u ?? [], dxdt) ? { dxdt: Array.from(dxdt) } : null;
   },
 };

@@ -89,6 +89,10 @@ export {
   updateSettings,
   type DocumentOperation,
   type RowPatch,
+  ROW_LIMITS,
+  rowCount,
+  canAddRow,
+  rowLimitText,
 } from "./operations";
 export { coordinateNames, documentSymbols, isBlankRow, locateModelField, type DocumentSymbols, type FieldLocation } from "./symbols";
 export { documentToModel, modelToDocument, parseParameterValue } from "./model-file";

@@ -6,6 +6,7 @@
  * document and leaves its argument alone, and carries every id it creates, so
  * replaying one gives the same document everywhere.
  */
+import { DEFAULT_MODEL_LIMITS } from "../../mechanics/limits";
 import { createId, emptyRow } from "./create";
 import { DocumentError } from "./errors";
 import {
@@ -22,6 +23,7 @@ import {
   type DerivationDocument,
   type ParameterRow,
   type TableCell,
+  type TableKind,
 } from "./schema";
 import { coordinateNames } from "./symbols";
 
@@ -126,7 +128,35 @@ function tableCell(cell: Cell): TableCell {
   return cell;
 }
 
+/** How many rows of each kind a derivation may hold: the engine's model limits. */
+export const ROW_LIMITS: Record<TableKind, number> = {
+  coordinates: DEFAULT_MODEL_LIMITS.maxCoordinates,
+  parameters: DEFAULT_MODEL_LIMITS.maxParameters,
+  inputs: DEFAULT_MODEL_LIMITS.maxInputs,
+  definitions: DEFAULT_MODEL_LIMITS.maxDefinitions,
+};
+
+const ROW_NOUNS: Record<TableKind, string> = { coordinates: "coordinates", parameters: "parameters", inputs: "inputs", definitions: "definitions" };
+
+/** Rows of a kind across the document, blank ones included (each may still be filled in). */
+export function rowCount(doc: DerivationDocument, kind: TableKind): number {
+  return doc.cells.reduce((sum, cell) => sum + (cell.kind === kind ? (cell as TableCell).rows.length : 0), 0);
+}
+
+/** Whether one more row of this kind fits the model limits. */
+export function canAddRow(doc: DerivationDocument, kind: TableKind): boolean {
+  return rowCount(doc, kind) < ROW_LIMITS[kind];
+}
+
+/** The sentence that states a kind's limit, shown beside the add button and in the refusal. */
+export function rowLimitText(kind: TableKind): string {
+  return `A derivation holds at most ${ROW_LIMITS[kind]} ${ROW_NOUNS[kind]}.`;
+}
+
+/** Adds a row; refuses one past the model's limit for its kind, so it fails here and not at evaluation. */
 export function addRow(doc: DerivationDocument, cellId: string, row: AnyRow, index?: number): DerivationDocument {
+  const target = findCell(doc, cellId);
+  if (target && isTableCell(target) && !canAddRow(doc, target.kind)) throw new DocumentError(target.kind, rowLimitText(target.kind));
   return replaceCell(doc, cellId, (cell) => {
     const table = tableCell(cell);
     if (table.rows.some((existing) => existing.id === row.id)) throw new DocumentError("rows", `a row with id "${row.id}" already exists`);

@@ -14,6 +14,12 @@ export class DashboardPage {
     return this.page.getByTestId("derivations-table");
   }
 
+  /** Narrows the table to titles containing `text` and waits for the answer. */
+  async search(text: string): Promise<void> {
+    await this.page.getByLabel("Search derivations").fill(text);
+    await expect(this.page.getByTestId("derivations-total")).not.toContainText("updating");
+  }
+
   /** Creates a derivation through the dialog and waits for its notebook. */
   async createDerivation(title: string, template = "Blank"): Promise<void> {
     await this.page.getByRole("button", { name: "New derivation" }).click();
@@ -24,7 +30,7 @@ export class DashboardPage {
     await expect(this.page).toHaveURL(/\/derivations\/[0-9a-f-]{36}$/);
   }
 
-  /** Imports a model file; resolves once the new derivation's notebook is open. */
+  /** Imports a model file or a notebook archive; resolves once the new derivation's notebook is open. */
   async importModelFile(path: string): Promise<void> {
     await this.page.getByRole("button", { name: "Import" }).click();
     const dialog = this.page.getByRole("dialog", { name: "Import a model file" });

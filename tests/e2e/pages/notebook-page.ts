@@ -21,6 +21,12 @@ export class NotebookPage {
     return this.page.getByTestId("equations");
   }
 
+  /** The ids of the notebook's cells, in order (`cell-<id>` test ids). */
+  async cellIds(): Promise<string[]> {
+    await this.expectOpen();
+    return this.page.locator('[data-testid^="cell-"]').evaluateAll((cells) => cells.map((cell) => cell.getAttribute("data-testid") ?? ""));
+  }
+
   async expectOpen(): Promise<void> {
     await expect(this.page.getByTestId("notebook")).toBeVisible();
   }
@@ -72,7 +78,7 @@ export class NotebookPage {
     return (await this.equations.locator(".katex-html").allTextContents()).map(plainMath);
   }
 
-  async export(format: "Model file (.model.json)" | "LaTeX document (.tex)"): Promise<Download> {
+  async export(format: "Model file (.model.json)" | "LaTeX document (.tex)" | "Notebook archive (.notebook.zip)"): Promise<Download> {
     await this.page.getByRole("button", { name: "Export ▾" }).click();
     await expect(this.page.getByTestId("export-safety-note")).toContainText("Derived equations are a model");
     const downloading = this.page.waitForEvent("download");

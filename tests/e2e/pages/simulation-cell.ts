@@ -23,8 +23,9 @@ export class SimulationCell {
     await expect(this.page.getByTestId("simulation-results").last()).toBeVisible({ timeout: 45_000 });
   }
 
-  chart(name: "coordinates" | "rates" | "phase" | "energy"): Locator {
-    return this.page.getByTestId(`chart-${name}`).last();
+  /** A chart; with coordinates of several units, name the unit group too (`"m"`, `"rad"`). */
+  chart(name: "coordinates" | "rates" | "phase" | "energy", unit?: string): Locator {
+    return this.page.getByTestId(`chart-${name}${unit ? `-${unit}` : ""}`).last();
   }
 
   energyDrift(): Locator {

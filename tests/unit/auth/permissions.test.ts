@@ -6,25 +6,45 @@ import { AppError } from "@/lib/errors";
 // The product's role model (issue 2 / DESIGN.md): lead manages members and roles,
 // approves and locks; analyst creates and edits derivations and comments;
 // reviewer reads and comments; viewer reads. An approved derivation is frozen
-// for analysts (our own rule, stated in lib/auth/permissions.ts).
-const expected: Record<Action, { draft: MemberRole[]; approved: MemberRole[] }> = {
-  "team:read": { draft: ["lead", "analyst", "reviewer", "viewer"], approved: ["lead", "analyst", "reviewer", "viewer"] },
-  "team:manage-members": { draft: ["lead"], approved: ["lead"] },
-  "team:invite": { draft: ["lead"], approved: ["lead"] },
-  "team:audit": { draft: ["lead"], approved: ["lead"] },
-  "team:manage-tokens": { draft: ["lead"], approved: ["lead"] },
-  "derivation:read": { draft: ["lead", "analyst", "reviewer", "viewer"], approved: ["lead", "analyst", "reviewer", "viewer"] },
-  "derivation:create": { draft: ["lead", "analyst"], approved: ["lead", "analyst"] },
-  "derivation:edit": { draft: ["lead", "analyst"], approved: ["lead"] },
-  "derivation:rename": { draft: ["lead", "analyst"], approved: ["lead"] },
-  "derivation:delete": { draft: ["lead", "analyst"], approved: ["lead"] },
-  "derivation:comment": { draft: ["lead", "analyst", "reviewer"], approved: ["lead", "analyst", "reviewer"] },
-  "derivation:approve": { draft: ["lead"], approved: ["lead"] },
-  "derivation:lock": { draft: ["lead"], approved: ["lead"] },
-  "derivation:attach": { draft: ["lead", "analyst"], approved: ["lead"] },
-  "derivation:simulate": { draft: ["lead", "analyst", "reviewer"], approved: ["lead", "analyst", "reviewer"] },
-  "derivation:request-review": { draft: ["lead", "analyst"], approved: ["lead", "analyst"] },
-  "derivation:review": { draft: ["lead", "reviewer"], approved: ["lead", "reviewer"] },
+// for analysts (our own rule, stated in lib/auth/permissions.ts). Deleting moves
+// a derivation to the team's trash: only its owner (an analyst, while it is not
+// approved) or a lead may do it; the owner or a lead may restore it; only a lead
+// may remove it from the trash for good.
+type Context = "draft" | "approved" | "ownDraft" | "ownApproved";
+const contexts: Record<Context, { status: "draft" | "approved"; isOwner: boolean }> = {
+  draft: { status: "draft", isOwner: false },
+  approved: { status: "approved", isOwner: false },
+  ownDraft: { status: "draft", isOwner: true },
+  ownApproved: { status: "approved", isOwner: true },
+};
+
+/** Ownership does not matter: the same roles whoever owns the derivation. */
+function anyOwner(draft: MemberRole[], approved: MemberRole[] = draft): Record<Context, MemberRole[]> {
+  return { draft, approved, ownDraft: draft, ownApproved: approved };
+}
+
+const everyone: MemberRole[] = ["lead", "analyst", "reviewer", "viewer"];
+const expected: Record<Action, Record<Context, MemberRole[]>> = {
+  "team:read": anyOwner(everyone),
+  "team:manage-members": anyOwner(["lead"]),
+  "team:invite": anyOwner(["lead"]),
+  "team:audit": anyOwner(["lead"]),
+  "team:manage-tokens": anyOwner(["lead"]),
+  "derivation:read": anyOwner(everyone),
+  "derivation:create": anyOwner(["lead", "analyst"]),
+  "derivation:edit": anyOwner(["lead", "analyst"], ["lead"]),
+  "derivation:rename": anyOwner(["lead", "analyst"], ["lead"]),
+  "derivation:delete": { draft: ["lead"], approved: ["lead"], ownDraft: ["lead", "analyst"], ownApproved: ["lead"] },
+  "derivation:read-trash": anyOwner(["lead", "analyst"]),
+  "derivation:restore": { draft: ["lead"], approved: ["lead"], ownDraft: ["lead", "analyst"], ownApproved: ["lead", "analyst"] },
+  "derivation:purge": anyOwner(["lead"]),
+  "derivation:comment": anyOwner(["lead", "analyst", "reviewer"]),
+  "derivation:approve": anyOwner(["lead"]),
+  "derivation:lock": anyOwner(["lead"]),
+  "derivation:attach": anyOwner(["lead", "analyst"], ["lead"]),
+  "derivation:simulate": anyOwner(["lead", "analyst", "reviewer"]),
+  "derivation:request-review": anyOwner(["lead", "analyst"]),
+  "derivation:review": anyOwner(["lead", "reviewer"]),
 };
 
 describe("permission table", () => {
@@ -34,14 +54,21 @@ describe("permission table", () => {
 
   const cases = actions.flatMap((action) =>
     memberRoles.flatMap((role) =>
-      (["draft", "approved"] as const).map((status) => ({ action, role, status, allowed: expected[action][status].includes(role) })),
+      (Object.keys(contexts) as Context[]).map((context) => ({ action, role, context, allowed: expected[action][context].includes(role) })),
     ),
   );
 
-  it.each(cases)("$role on a $status derivation: $action → $allowed", ({ action, role, status, allowed }) => {
-    expect(can(role, action, { status })).toBe(allowed);
-    if (allowed) expect(() => assertCan(role, action, { status })).not.toThrow();
-    else expect(() => assertCan(role, action, { status })).toThrowError(AppError);
+  it.each(cases)("$role on a $context derivation: $action → $allowed", ({ action, role, context, allowed }) => {
+    const resource = contexts[context];
+    expect(can(role, action, resource)).toBe(allowed);
+    if (allowed) expect(() => assertCan(role, action, resource)).not.toThrow();
+    else expect(() => assertCan(role, action, resource)).toThrowError(AppError);
+  });
+
+  it("treats unknown ownership as not the owner", () => {
+    expect(can("analyst", "derivation:delete", { status: "draft" })).toBe(false);
+    expect(can("analyst", "derivation:restore")).toBe(false);
+    expect(can("lead", "derivation:delete")).toBe(true);
   });
 
   it("refuses everything without a role (not a member)", () => {

@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
 import { findEquilibria, wrapAngle } from "@/lib/mechanics/equilibria";
-import type { MechanicalSystem } from "@/lib/mechanics/linearize";
+import type { MassMatrixSystem } from "@/lib/mechanics/compile";
 
 /**
  * Bead of mass m on a hoop of radius R spinning at a constant rate ω about its
@@ -8,7 +8,7 @@ import type { MechanicalSystem } from "@/lib/mechanics/linearize";
  *   m R² θ'' = m R² ω² sin θ cos θ − m g R sin θ.
  * J. R. Taylor, Classical Mechanics (2005), the bead-on-a-spinning-hoop example of ch. 7 (from memory).
  */
-const beadOnHoop = (omega: number): MechanicalSystem => ({
+const beadOnHoop = (omega: number): MassMatrixSystem => ({
   coordinates: ["theta"],
   coordinateUnits: ["rad"],
   massMatrix: [["m*R^2"]],
@@ -22,7 +22,8 @@ describe("findEquilibria", () => {
     const equilibria = findEquilibria(beadOnHoop(omega));
     const theta0 = Math.acos(9.81 / (omega * omega * 0.3));
     // Taylor, Classical Mechanics, ch. 7 (from memory): equilibria θ = 0, π and cos θ = g/(ω²R) when ω² > g/R.
-    expect(equilibria.map((e) => e.q[0])).toEqual([-theta0, 0, theta0, Math.PI].map((v) => expect.closeTo(v, 10)));
+    // Listed stable first (the linearization cell's default), then by angle.
+    expect(equilibria.map((e) => e.q[0])).toEqual([-theta0, theta0, 0, Math.PI].map((v) => expect.closeTo(v, 10)));
     const byAngle = (angle: number) => equilibria.find((e) => Math.abs(wrapAngle(e.q[0]! - angle)) < 1e-8)!;
     expect(byAngle(theta0).stability).toBe("stable");
     expect(byAngle(-theta0).stability).toBe("stable");
@@ -80,13 +81,33 @@ describe("findEquilibria", () => {
     expect(equilibria.length).toBeGreaterThan(0);
     expect(equilibria.every((e) => !e.isolated)).toBe(true);
     expect(new Set(equilibria.map((e) => Math.round(Math.abs(e.q[1]!) * 1e6)))).toEqual(new Set([0, Math.round(Math.PI * 1e6)]));
-    // Upright (θ = 0) is unstable; hanging (θ = π) has ±iω and a zero pair from x: marginal.
+    // Upright (θ = 0) is unstable. Hanging (θ = π) has ±iω and, from the cart with neither
+    // stiffness nor damping, λ = 0 twice with one eigenvector: a Jordan block, the cart drifts
+    // at constant speed after a push, which the rule counts as unstable (fact of the trade:
+    // a defective eigenvalue on the imaginary axis gives a solution growing like t).
     const upright = equilibria.filter((e) => Math.abs(e.q[1]!) < 1e-9);
     const hanging = equilibria.filter((e) => Math.abs(e.q[1]!) > 3);
     expect(upright.length).toBeGreaterThan(0);
     expect(hanging.length).toBeGreaterThan(0);
     expect(upright.map((e) => e.stability)).toEqual(upright.map(() => "unstable"));
+    expect(hanging.map((e) => e.stability)).toEqual(hanging.map(() => "unstable"));
+    expect(hanging[0]!.stabilityReason).toMatch(/Jordan block/);
+  });
+
+  it("a cart–pole whose cart is damped hangs in marginal equilibrium: λ = 0 once, with its own eigenvector", () => {
+    const equilibria = findEquilibria({
+      coordinates: ["x", "theta"],
+      coordinateUnits: ["m", "rad"],
+      massMatrix: [["M + m", "m*l*cos(theta)"], ["m*l*cos(theta)", "m*l^2"]],
+      forcing: ["m*l*theta'^2*sin(theta) - b*x'", "m*g*l*sin(theta)"],
+      parameters: { M: 1, m: 0.2, l: 0.5, g: 9.81, b: 0.3 },
+    });
+    // Same model as above with wheel damping b: the cart's rest position is free (λ = 0) but a push dies out (λ = −b/M…).
+    const hanging = equilibria.filter((e) => Math.abs(e.q[1]!) > 3);
     expect(hanging.map((e) => e.stability)).toEqual(hanging.map(() => "marginal"));
+    expect(hanging[0]!.stabilityReason).toMatch(/λ = 0 is an eigenvalue/);
+    // Marginal before unstable in the list.
+    expect(equilibria[0]!.stability).toBe("marginal");
   });
 
   it("wraps angles into (−π, π]", () => {

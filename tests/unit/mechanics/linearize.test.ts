@@ -1,12 +1,12 @@
 import { EigenvalueDecomposition, Matrix } from "ml-matrix";
 import { describe, expect, it } from "vitest";
-import { compileMassMatrixSystem } from "@/lib/mechanics/compile";
+import { compileMassMatrixSystem, type MassMatrixSystem } from "@/lib/mechanics/compile";
 import { ModelError } from "@/lib/mechanics/errors";
-import { linearizeAbout, type MechanicalSystem } from "@/lib/mechanics/linearize";
+import { linearizeAbout } from "@/lib/mechanics/linearize";
 import { seededRandom } from "./helpers/random-expr";
 
 // Double pendulum, point masses on massless rods: J. R. Taylor, Classical Mechanics (2005), ch. 11 (from memory; REFERENCES.md).
-const doublePendulum = (parameters: Record<string, number>): MechanicalSystem => ({
+const doublePendulum = (parameters: Record<string, number>): MassMatrixSystem => ({
   coordinates: ["theta1", "theta2"],
   coordinateUnits: ["rad", "rad"],
   massMatrix: [
@@ -44,7 +44,7 @@ describe("linearizeAbout", () => {
   it("two equal masses, three equal springs: ω = √(k/m), √(3k/m), modes (1,1) and (1,−1), and ml-matrix agrees", () => {
     const k = 120;
     const m = 3;
-    const system: MechanicalSystem = {
+    const system: MassMatrixSystem = {
       coordinates: ["x1", "x2"],
       massMatrix: [["m", "0"], ["0", "m"]],
       forcing: ["-k*x1 - k*(x1 - x2)", "-k*x2 - k*(x2 - x1)"],

@@ -2,6 +2,8 @@ import { describe, expect, it } from "vitest";
 import { ModelError } from "@/lib/mechanics/errors";
 import type { Model } from "@/lib/mechanics/model";
 import { checkModelUnits, DIMENSIONLESS, ENERGY, formatDimension, isAngleUnit, parseUnit, unitOfExpression } from "@/lib/mechanics/units";
+import { modelToDocument } from "@/lib/notebook/document";
+import { locateDiagnostics, toEditorDiagnostic } from "@/lib/notebook/results";
 
 function modelError(run: () => void): ModelError {
   try {
@@ -91,6 +93,19 @@ describe("unitOfExpression", () => {
     expect(error.message).toContain("kg*m/s^2 (N)");
   });
 
+  it("blames the term that disagrees with most of the others, wherever it stands", () => {
+    const units = { a: "m", b: "kg", c: "m" };
+    const last = modelError(() => unitOfExpression("a + c + b", units));
+    expect([last.column, last.length]).toEqual([9, 1]);
+    // The odd term first: the two that agree set the unit, so "b" is underlined, not "c".
+    const first = modelError(() => unitOfExpression("b + a + c", units));
+    expect([first.column, first.length]).toEqual([1, 1]);
+    expect(first.message).toBe('the term "b" has unit kg but "a" has unit m');
+    // Inside a product too: (x − l) with a mass l.
+    const inner = modelError(() => unitOfExpression("k*(l + x + y)^2", { k: "N/m", x: "m", y: "m", l: "kg" }));
+    expect(inner.column).toBe(4);
+  });
+
   it("requires dimensionless arguments of functions and exponents", () => {
     const error = modelError(() => unitOfExpression("A*sin(l)", { A: "m", l: "m" }, "kinetic"));
     expect(error.message).toMatch(/argument "l" of sin has unit m/);
@@ -113,6 +128,32 @@ describe("checkModelUnits", () => {
     expect(error.code).toBe("unit_mismatch");
     expect(error.column).toBe(14);
     expect(error.message).toContain('"1/2*m*xl\'"');
+  });
+
+  it("underlines the term that is not an energy, even when it comes first", () => {
+    // ½·kc·x is a force (N) where the potential needs J; ½·k·(r − r0)² is an energy and stays unmarked.
+    const model: Model = {
+      title: "Sprung carriage with a preloaded buffer",
+      coordinates: [{ name: "x", unit: "m" }, { name: "r", unit: "m" }],
+      parameters: [
+        { name: "m", unit: "kg", value: 40 },
+        { name: "kc", unit: "N/m", value: 900 },
+        { name: "k", unit: "N/m", value: 2500 },
+        { name: "r0", unit: "m", value: 0.2 },
+      ],
+      kinetic: "1/2*m*x'^2 + 1/2*m*r'^2",
+      potential: "1/2*kc*x + 1/2*k*(r-r0)^2",
+    };
+    const error = modelError(() => checkModelUnits(model));
+    expect(error.field).toBe("potential");
+    expect([error.column, error.length]).toEqual([1, 8]);
+    expect(error.message).toBe('the term "1/2*kc*x" of the potential energy has unit kg*m/s^2 (N) but must have kg*m^2/s^2 (J)');
+    // What the potential cell's editor underlines.
+    const doc = modelToDocument(model, (() => { let n = 0; return () => `c${++n}`; })());
+    const { byCell } = locateDiagnostics(doc, [error.toJSON()], model);
+    const [located] = [...byCell.values()][0]!;
+    const range = toEditorDiagnostic(located!, model.potential);
+    expect(model.potential.slice(range.from, range.to)).toBe("1/2*kc*x");
   });
 
   it("reports a dissipation function that is not a power", () => {

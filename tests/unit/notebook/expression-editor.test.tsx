@@ -3,7 +3,7 @@ import { afterEach, describe, expect, it, vi } from "vitest";
 import { configure, act, cleanup, render, screen, waitFor } from "@testing-library/react";
 import { useState } from "react";
 import { EditorView } from "@codemirror/view";
-import { CompletionContext } from "@codemirror/autocomplete";
+import { CompletionContext, insertBracket } from "@codemirror/autocomplete";
 import { ExpressionEditor, type ExpressionEditorProps } from "@/components/notebook/editor/expression-editor";
 import { symbolCompletionSource } from "@/components/notebook/editor/completion";
 import { localDiagnostics } from "@/components/notebook/editor/diagnostics";
@@ -124,6 +124,48 @@ describe("ExpressionEditor", () => {
     render(<ExpressionEditor label="V" value="m*g*y" onChange={() => {}} readOnly />);
     expect((await viewOf("V")).state.readOnly).toBe(true);
     expect(screen.getByRole("textbox", { name: "V" }).getAttribute("contenteditable")).toBe("false");
+  });
+});
+
+describe("quiet blanks, Greek letters and brackets", () => {
+  it("says nothing about a required expression never written, and flags it once written and cleared", async () => {
+    render(<Controlled initial="" placeholder="e.g. 1/2*m*x'^2" />);
+    const view = await viewOf("Kinetic energy T");
+    // Let a lint pass run on the blank text: it must stay quiet.
+    typeAtEnd(view, "");
+    await new Promise((resolve) => setTimeout(resolve, 50));
+    expect(screen.queryByText("expression is empty")).toBeNull();
+    typeAtEnd(view, "m");
+    act(() => view.dispatch({ changes: { from: 0, to: view.state.doc.length, insert: "" }, userEvent: "delete" }));
+    expect(await screen.findByText("expression is empty")).toBeTruthy();
+  });
+
+  it("reads a typed Greek letter as its name and keeps the caret after it", async () => {
+    const onValue = vi.fn();
+    render(<Controlled initial="1/2*m*l^2*" onValue={onValue} />);
+    const view = await viewOf("Kinetic energy T");
+    typeAtEnd(view, "θ'");
+    expect(onValue).toHaveBeenLastCalledWith("1/2*m*l^2*theta'");
+    expect(view.state.selection.main.head).toBe(view.state.doc.length);
+    typeAtEnd(view, "^2");
+    expect(view.state.doc.toString()).toBe("1/2*m*l^2*theta'^2");
+  });
+
+  it("reports unbalanced parentheses when the editor closed one itself", async () => {
+    render(<Controlled initial="m*g*l*cos" />);
+    const view = await viewOf("Kinetic energy T");
+    act(() => view.dispatch({ selection: { anchor: view.state.doc.length } }));
+    // Typing "(" goes through the bracket closer, which inserts "()" with the caret between.
+    const opened = insertBracket(view.state, "(");
+    expect(opened).not.toBeNull();
+    // (Applied without scrolling the caret into view, which jsdom cannot measure.)
+    act(() => view.dispatch({ changes: opened!.changes, selection: opened!.selection, userEvent: "input.type" }));
+    expect(view.state.doc.toString()).toBe("m*g*l*cos()");
+    act(() => view.dispatch({ changes: { from: 10, insert: "theta" }, selection: { anchor: 15 }, userEvent: "input.type" }));
+    // The analyst types their own ")" at the end, after the one the editor added.
+    typeAtEnd(view, ")");
+    expect(view.state.doc.toString()).toBe("m*g*l*cos(theta))");
+    expect(await screen.findByText(/unmatched "\)"/)).toBeTruthy();
   });
 });
 

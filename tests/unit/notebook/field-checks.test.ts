@@ -49,3 +49,9 @@ describe("parameter values and names", () => {
     expect([...duplicateNames(doc)]).toEqual([["x", [{ cellId: "c1", rowId: "a", kind: "coordinates" }, { cellId: "c2", rowId: "b", kind: "parameters" }]]]);
   });
 });
+
+describe("Greek names", () => {
+  it("refuses a Greek letter with the name to write instead", () => {
+    expect(checkSymbolName("θ1")).toEqual({ ok: false, message: 'write Greek letters by name (θ as "theta"); they are shown as the letter', position: 0 });
+  });
+});

@@ -1,14 +1,17 @@
 // @vitest-environment jsdom
 import { afterEach, describe, expect, it, vi } from "vitest";
 import { configure, cleanup, fireEvent, render, screen, waitFor } from "@testing-library/react";
-import { EquationsCellView } from "@/components/notebook/generated-cells";
+import { ConservedCellView, EquationsCellView, LinearizationCellView } from "@/components/notebook/generated-cells";
 import { Notebook } from "@/components/notebook/notebook";
 import { renderLatex, trustTermData } from "@/components/notebook/katex-render";
-import { createCell, modelToDocument, type EquationsCell } from "@/lib/notebook/document";
+import { createCell, modelToDocument, type ConservedCell, type EquationsCell, type LinearizationCell } from "@/lib/notebook/document";
+import { STABILITY_RULE } from "@/lib/mechanics/stability-rule";
+import { evaluateDemo } from "../evaluation/in-process";
 import type { NotebookResults } from "@/lib/notebook/results";
 import { templateModel } from "@/lib/notebook/templates";
 import { toLatexTerms } from "@/lib/mechanics/latex";
 import { deriveModel } from "@/lib/mechanics/derive";
+import { printDerivation } from "@/lib/mechanics/print";
 
 afterEach(cleanup);
 // Editors lint after a pause and KaTeX loads on first use; allow for a busy machine.
@@ -46,13 +49,25 @@ describe("equations cell", () => {
   });
 
   it("renders the long equations of a 5-link chain without a KaTeX error", async () => {
-    const derived = deriveModel(templateModel("n-link-chain", { links: 5 }));
-    const chain: NotebookResults = { equations: derived.equations.map((e) => ({ coordinate: e.coordinate, residual: e.residual, latex: `${toLatexTerms(e.residual).latex} = 0` })) };
+    const derived = printDerivation(deriveModel(templateModel("n-link-chain", { links: 5 })));
+    const chain: NotebookResults = { equations: derived.equations.map((e) => ({ coordinate: e.coordinate, residual: e.residual, latex: `${e.termLatex} = 0` })) };
     const { container } = render(<EquationsCellView cell={cell} results={chain} onOperation={() => {}} />);
     await typeset(container);
     expect(container.querySelectorAll(".katex-error")).toHaveLength(0);
-    const perEquation = derived.equations.map((e) => toLatexTerms(e.residual).terms.length);
+    const perEquation = derived.equations.map((e) => e.terms.length);
     expect(container.querySelectorAll("[data-term]")).toHaveLength(perEquation.reduce((a, b) => a + b, 0));
+    // Long equations break between terms rather than scroll: each is typeset as breakable inline math in
+    // display style, where KaTeX puts every top-level term in its own box with a break allowed after it.
+    const views = [...container.querySelectorAll<HTMLElement>(".hn-math-display")];
+    expect(views).toHaveLength(5);
+    for (const view of views) {
+      expect(view.classList.contains("hn-math-breakable")).toBe(true);
+      expect(view.querySelector(".katex-display")).toBeNull();
+      const terms = [...view.querySelectorAll<HTMLElement>("[data-term]")];
+      const boxes = new Set(terms.map((term) => term.closest(".katex-base")));
+      expect(boxes.has(null)).toBe(false);
+      expect(boxes.size).toBe(terms.length);
+    }
     // jsdom parses KaTeX's large HTML slowly; the browser renders this in well under a second.
   }, 30_000);
 
@@ -127,6 +142,80 @@ describe("stale results in the notebook", () => {
     );
     expect(screen.getByRole("alert").textContent).toContain("more than 12 coordinates");
     expect(await screen.findByText('unknown symbol "h"')).toBeTruthy();
+  });
+});
+
+describe("linearization cell", () => {
+  const linearizationCell = (equilibriumIndex: number): LinearizationCell => {
+    const base = createCell("linearization", "lin");
+    return { ...base, settings: { ...base.settings, equilibriumIndex } };
+  };
+
+  it("crane trolley: the cell says marginal where the list says marginal, with the rule beside it", async () => {
+    const results = await evaluateDemo("Gantry crane: trolley");
+    render(<LinearizationCellView cell={linearizationCell(0)} results={results} onOperation={() => {}} inputNames={["F"]} />);
+    const options = screen.getAllByRole("option").map((option) => option.textContent);
+    expect(options).toEqual(["1. x = 0, theta = 0 (marginal)", "2. x = 0, theta = 3.14159 (unstable)"]);
+    const verdict = screen.getByTestId("stability-verdict");
+    expect(verdict.textContent).toContain("Marginal equilibrium.");
+    expect(verdict.textContent).not.toContain("Unstable");
+    expect(verdict.querySelector("strong")!.classList.contains("text-danger")).toBe(false);
+    expect(verdict.textContent).toContain("λ = 0 is an eigenvalue");
+    // The rule the verdict follows is stated next to it.
+    expect(verdict.textContent).toContain(STABILITY_RULE);
+    // Eigenvalues as read by the rule: 0, the damped swing pair, the trolley's decay; none growing.
+    expect(verdict.textContent).toMatch(/Eigenvalues of A \(1\/s\): 0, −0\.04214, −0\.04952 ± 2\.248i/);
+    expect(verdict.textContent).not.toContain("(grows)");
+    const rows = screen.getAllByTestId("mode-row");
+    expect(rows.map((row) => row.dataset.kind)).toEqual(["rigid", "oscillating"]);
+    expect(rows[1]!.textContent).toContain("0.35802");
+  });
+
+  it("crane trolley upright: every mode is listed and the growing one is marked", async () => {
+    const results = await evaluateDemo("Gantry crane: trolley", 1);
+    render(<LinearizationCellView cell={linearizationCell(1)} results={results} onOperation={() => {}} inputNames={["F"]} />);
+    const verdict = screen.getByTestId("stability-verdict");
+    expect(verdict.textContent).toContain("Unstable equilibrium.");
+    expect(verdict.querySelector("strong")!.classList.contains("text-danger")).toBe(true);
+    expect(verdict.textContent).toContain("2.201 (grows)");
+    const rows = screen.getAllByTestId("mode-row");
+    // Two coordinates, two modes: the divergent one grows like exp(√((g/l)(1 + m/M))·t) = exp(2.25·t) (fact of the trade).
+    expect(rows).toHaveLength(2);
+    const divergent = rows.find((row) => row.dataset.kind === "divergent")!;
+    expect(divergent.textContent).toContain("growing: exp(2.25·t)");
+    expect(divergent.classList.contains("text-danger")).toBe(true);
+  });
+
+  it("seat rig: stable, with the damped frequency and damping ratio beside the natural frequency", async () => {
+    const results = await evaluateDemo("Seat-suspension");
+    render(<LinearizationCellView cell={linearizationCell(0)} results={results} onOperation={() => {}} inputNames={["F_b"]} />);
+    expect(screen.getByTestId("stability-verdict").textContent).toContain("Stable equilibrium.");
+    // ω = √(k/m) = 21.03 rad/s → 3.3464 Hz; ζ = c/(2√(k m)) = 0.325; ω_d = ω√(1 − ζ²) → 3.1643 Hz
+    // (Thomson & Dahleh, Theory of Vibration with Applications, 5th ed., §2.6 — from memory).
+    const [row] = screen.getAllByTestId("mode-row");
+    expect(row!.textContent).toContain("3.3464");
+    expect(row!.textContent).toContain("3.1643, ζ = 0.325");
+  });
+});
+
+describe("conserved-quantities cell", () => {
+  const conservedCell = createCell("conserved", "cons") as ConservedCell;
+
+  it("crane trolley: says x is cyclic and which force and dissipation change its momentum", async () => {
+    const results = await evaluateDemo("Gantry crane: trolley");
+    render(<ConservedCellView cell={conservedCell} results={results} onOperation={() => {}} />);
+    const body = document.body.textContent ?? "";
+    expect(body).not.toContain("no coordinate is cyclic");
+    expect(body).not.toContain("No coordinate is cyclic");
+    expect(screen.getByTestId("cyclic-not-conserved").textContent).toContain(
+      "x is cyclic (the Lagrangian does not depend on it), but its momentum is not conserved: the applied force and the dissipation act on it.",
+    );
+    expect(body).toContain("Energy function — not conserved: the dissipation function removes energy; applied forces act (F on x)");
+  });
+
+  it("says no coordinate is cyclic only when none is", () => {
+    render(<ConservedCellView cell={conservedCell} results={{ equations: [], conserved: [], cyclicMomenta: [] }} onOperation={() => {}} />);
+    expect(document.body.textContent).toContain("No conserved quantity found. No coordinate is cyclic");
   });
 });
 

@@ -4,7 +4,7 @@ import { cleanup, configure, fireEvent, render, screen, waitFor, within } from "
 import { afterEach, beforeEach, describe, expect, it, vi } from "vitest";
 import { NotebookPage, type NotebookPageProps } from "@/components/notebook/notebook-page";
 import { ShortcutsProvider } from "@/components/shortcuts";
-import { modelToDocument } from "@/lib/notebook/document";
+import { blankDocument, modelToDocument } from "@/lib/notebook/document";
 import { templateModel } from "@/lib/notebook/templates";
 
 vi.mock("next/navigation", () => ({ useRouter: () => ({ push: vi.fn() }) }));
@@ -82,7 +82,7 @@ describe("NotebookPage", () => {
     );
     renderPage(props());
     const errors = await screen.findByTestId("evaluation-errors");
-    expect(errors.textContent).toContain("potential, column 5: unknown symbol \"q\"");
+    expect(errors.textContent).toContain("Potential energy, column 5: unknown symbol \"q\"");
     expect(screen.getByTestId("evaluation-status").dataset.state).toBe("failed");
     // The evaluated document is the page's own (unsaved edits included).
     const evaluate = requests.find((r) => r.url.endsWith("/evaluate"));
@@ -110,4 +110,41 @@ describe("NotebookPage", () => {
     expect(within(group).getByTestId("export-safety-note").textContent).toMatch(/Derived equations are a model/);
     expect(within(group).getByRole("button", { name: "Model file (.model.json)" })).toBeTruthy();
   });
+
+  it("opens a blank notebook quietly: no evaluation, no warnings for cells not yet written", async () => {
+    stubFetch(() => ({ status: 200, body: { updatedAt: UPDATED } }));
+    const document = blankDocument("New hoist study", counter());
+    renderPage(props({ initialDocument: document, rowTitle: document.title }));
+    // Long enough for the editors to lint and for an automatic evaluation to have been asked for.
+    await screen.findAllByRole("textbox", { name: /energy/ });
+    await new Promise((resolve) => setTimeout(resolve, 1_500));
+    expect(requests.filter((r) => r.url.endsWith("/evaluate"))).toEqual([]);
+    expect(screen.queryByText("expression is empty")).toBeNull();
+    expect(screen.queryByRole("alert")).toBeNull();
+    expect(screen.getByTestId("evaluation-status").dataset.state).toBe("none");
+  });
+
+  it("says why a reader cannot edit: approved and locked, or the role", () => {
+    stubFetch(() => ({ status: 200, body: { cached: true, modelHash: "h", result: { equations: [] }, timings: {}, requestMs: 3, evaluatedAt: UPDATED } }));
+    const { unmount } = renderPage(props({ canEdit: false, canRename: false, status: "approved", readOnlyReason: "approved" }));
+    expect(screen.getByTestId("read-only-note").textContent).toMatch(/^Approved and locked\. .*only a lead of the team can change it or reopen it/);
+    expect(screen.getByTestId("read-only-badge").textContent).toBe("Read-only: approved and locked");
+    unmount();
+    renderPage(props({ canEdit: false, canRename: false, roleLabel: "Reviewer", readOnlyReason: "role" }));
+    expect(screen.getByTestId("read-only-note").textContent).toMatch(/^Read-only for your role\. As reviewer you can read, evaluate and export/);
+    expect(screen.getByTestId("read-only-badge").textContent).toBe("Read-only for reviewers");
+  });
+
+  it("keeps one h1, holding the editable title", () => {
+    stubFetch(() => ({ status: 200, body: { updatedAt: UPDATED } }));
+    renderPage(props());
+    const headings = screen.getAllByRole("heading", { level: 1 });
+    expect(headings).toHaveLength(1);
+    expect(within(headings[0]!).getByRole("textbox", { name: "Derivation title" })).toBeTruthy();
+  });
 });
+
+function counter() {
+  let n = 0;
+  return () => `b${++n}`;
+}

@@ -81,7 +81,29 @@ describe("Notebook", () => {
     expect((within(kinds).getByRole("button", { name: "Kinetic energy" }) as HTMLButtonElement).disabled).toBe(true);
     fireEvent.click(within(kinds).getByRole("button", { name: "Dissipation function" }));
     expect(order()).toEqual(["c1", "c2", "c3", "c4", "c5", "c6", "new1"]);
-    expect(screen.getByRole("textbox", { name: "Dissipation function D" })).toBeTruthy();
+    // The new cell takes the focus, so typing goes into it and not to the picker's button.
+    expect(document.activeElement).toBe(screen.getByRole("textbox", { name: "Dissipation function D" }));
+  });
+
+  it("moves the focus to a new table cell's add button, the first control it has", () => {
+    render(<Harness initial={pendulum()} />);
+    fireEvent.click(screen.getByRole("button", { name: "Add cell" }));
+    fireEvent.click(within(screen.getByRole("group", { name: "Cell kinds" })).getByRole("button", { name: "Inputs" }));
+    expect(document.activeElement).toBe(screen.getByRole("button", { name: "+ Add input" }));
+    fireEvent.click(screen.getByRole("button", { name: "+ Add input" }));
+    expect(document.activeElement).toBe(screen.getByRole("textbox", { name: "Name, input 1" }));
+  });
+
+  it("lists the evaluator's general problems in the labels the analyst sees", () => {
+    const doc = pendulum();
+    render(
+      <Notebook
+        document={doc}
+        onChange={() => {}}
+        diagnostics={[{ code: "too_large", field: "model", column: null, length: 1, message: "the expressions are too long" }]}
+      />,
+    );
+    expect(screen.getByRole("alert").textContent).toContain("The model: the expressions are too long");
   });
 
   it("duplicates from the menu and deletes with Alt+Shift+Backspace, with an undo", () => {
@@ -139,6 +161,14 @@ describe("note cell", () => {
     // The handler is stripped, and an image from outside the file store is dropped altogether.
     expect(rendered.querySelector("img[onerror]")).toBeNull();
     expect(rendered.querySelector("a")?.getAttribute("href") ?? "").not.toMatch(/javascript/i);
+  });
+
+  it("renders a note's headings below the page's h1 and the cell's h3", async () => {
+    render(<NoteCellEditor cell={{ ...createCell("note", "n"), markdown: "# Assumptions\n\n## Loads\n\ntext" }} onOperation={() => {}} />);
+    const rendered = await screen.findByTestId("note-rendered");
+    expect(rendered.querySelector("h1")).toBeNull();
+    expect(rendered.querySelector("h4.hn-note-h1")?.textContent).toBe("Assumptions");
+    expect(rendered.querySelector("h5.hn-note-h2")?.textContent).toBe("Loads");
   });
 
   it("leaves prices alone and edits through setNote", () => {

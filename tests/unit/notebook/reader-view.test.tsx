@@ -36,7 +36,22 @@ const linearizationAbout = (index: number, stable: boolean) => ({
     { label: "theta = 0 (stable)", values: { theta: 0 } },
     { label: "theta = 3.14159 (unstable)", values: { theta: Math.PI } },
   ],
-  selected: { index, stateNames: ["theta", "theta'"], inputNames: [], A: [[0, 1], [stable ? -2.8 : 2.8, 0]], B: [[], []], frequenciesHz: stable ? [0.266] : [], modeShapes: [stable ? [1] : []], stable },
+  // A = [[0, 1], [∓2.8, 0]]: eigenvalues ±i√2.8 about the stable point, ±√2.8 about the unstable one.
+  selected: {
+    index,
+    stateNames: ["theta", "theta'"],
+    inputNames: [],
+    A: [[0, 1], [stable ? -2.8 : 2.8, 0]],
+    B: [[], []],
+    modes: [
+      stable
+        ? { kind: "oscillating" as const, hertz: Math.sqrt(2.8) / (2 * Math.PI), growthRate: null, shape: [1], eigenvalue: { re: 0, im: Math.sqrt(2.8) } }
+        : { kind: "divergent" as const, hertz: null, growthRate: Math.sqrt(2.8), shape: [1], eigenvalue: null },
+    ],
+    eigenvalues: stable ? [{ re: 0, im: Math.sqrt(2.8) }, { re: 0, im: -Math.sqrt(2.8) }] : [{ re: Math.sqrt(2.8), im: 0 }, { re: -Math.sqrt(2.8), im: 0 }],
+    stability: stable ? ("stable" as const) : ("unstable" as const),
+    stabilityReason: stable ? "every eigenvalue is simple and on the imaginary axis, with positive definite stiffness" : "an eigenvalue has a positive real part",
+  },
 });
 const results: NotebookResults = {
   equations: [{ coordinate: "theta", residual: "m*l^2*theta'' + m*g*l*sin(theta)", latex: "m l^{2} \\ddot{\\theta} + m g l \\sin\\theta = 0" }],

@@ -117,3 +117,56 @@ describe("parameter grid", () => {
     expect(annotation?.textContent).toBe("x_{1} = l_{1}\\,\\sin\\left(\\theta_{1}\\right)");
   });
 });
+
+describe("adding rows", () => {
+  it("moves the focus into the new row's first field, so typing goes there and not to the button", () => {
+    render(<Harness initial={[parameters]} />);
+    const add = screen.getByRole("button", { name: "+ Add parameter" });
+    add.focus();
+    fireEvent.click(add);
+    expect(document.activeElement).toBe(screen.getByRole("textbox", { name: "Name, parameter 3" }));
+  });
+
+  it("moves the focus into a new definition's name, before its expression editor", () => {
+    const definitions: TableCell = { id: "d", kind: "definitions", collapsed: false, rows: [] };
+    render(<Harness initial={[definitions]} />);
+    fireEvent.click(screen.getByRole("button", { name: "+ Add definition" }));
+    expect(document.activeElement).toBe(screen.getByRole("textbox", { name: "Name, definition 1" }));
+  });
+
+  it("states the coordinate limit and refuses a 13th coordinate when it is added", () => {
+    const rows = Array.from({ length: 11 }, (_, i) => ({ id: `q${i + 1}`, name: `q${i + 1}`, unit: "m", description: "" }));
+    const coordinates: TableCell = { id: "c", kind: "coordinates", collapsed: false, rows };
+    render(<Harness initial={[coordinates]} />);
+    expect(screen.getByTestId("row-limit").textContent).toBe("11 of at most 12");
+    const add = screen.getByRole("button", { name: "+ Add coordinate" });
+    fireEvent.click(add);
+    expect(screen.getByRole("textbox", { name: "Name, coordinate 12" })).toBeTruthy();
+    expect((add as HTMLButtonElement).disabled).toBe(true);
+    expect(screen.getByTestId("row-limit").textContent).toBe("A derivation holds at most 12 coordinates. Remove one to add another.");
+    fireEvent.click(add);
+    expect(screen.queryByRole("textbox", { name: "Name, coordinate 13" })).toBeNull();
+  });
+});
+
+describe("names", () => {
+  it("reads a Greek letter typed as a name as the name it renders", () => {
+    const coordinates: TableCell = { id: "c", kind: "coordinates", collapsed: false, rows: [{ id: "q", name: "", unit: "rad", description: "" }] };
+    const onOp = vi.fn();
+    render(<Harness initial={[coordinates]} onOp={onOp} />);
+    const name = screen.getByRole("textbox", { name: "Name, coordinate 1" }) as HTMLInputElement;
+    fireEvent.change(name, { target: { value: "θ1" } });
+    expect(onOp).toHaveBeenLastCalledWith({ type: "updateRow", cellId: "c", rowId: "q", patch: { name: "theta1" } });
+    expect(name.value).toBe("theta1");
+    expect(name.getAttribute("aria-invalid")).toBeNull();
+  });
+
+  it("shows placeholders as worded examples, not as values", () => {
+    const coordinates: TableCell = { id: "c", kind: "coordinates", collapsed: false, rows: [{ id: "q", name: "", unit: "", description: "" }] };
+    render(<Harness initial={[coordinates]} />);
+    const name = screen.getByRole("textbox", { name: "Name, coordinate 1" }) as HTMLInputElement;
+    expect(name.value).toBe("");
+    expect(name.placeholder).toBe("e.g. theta");
+    expect(name.className).toContain("placeholder:italic");
+  });
+});

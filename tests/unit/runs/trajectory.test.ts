@@ -1,6 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { decimate, decimationStride, trajectoryCsv, valueCount } from "@/lib/runs/trajectory";
-import { parseMeasuredCsv } from "@/lib/simulate/measured";
+import { decimate, decimationStride, valueCount } from "@/lib/runs/trajectory";
 
 const trajectory = {
   coordinateNames: ["x", "phi"],
@@ -16,23 +15,7 @@ const trajectory = {
   energy: [1, 1, 1],
 };
 
-describe("trajectory CSV", () => {
-  it("writes units in the header and every number in full", () => {
-    const lines = trajectoryCsv(trajectory, { x: "m", phi: "rad" }).trimEnd().split("\n");
-    expect(lines[0]).toBe("t [s],x [m],phi [rad],x' [m/s],phi' [rad/s],energy [J]");
-    expect(lines).toHaveLength(4);
-    expect(lines[2]!.split(",").map(Number)).toEqual([0.1, 0.0995004165278026, 1 / 3, -0.00998334166468282, 3.3333333333333335, 1]);
-  });
-
-  it("reads back through the measured-data parser once the rate and energy columns are left out", () => {
-    const csv = trajectoryCsv({ ...trajectory, rates: [], coordinateNames: ["x", "phi"], energy: null }, { x: "m", phi: "rad" })
-      .split("\n")
-      .map((line) => line.split(",").slice(0, 3).join(","))
-      .join("\n");
-    const data = parseMeasuredCsv(csv, { coordinates: [{ name: "x", unit: "m" }, { name: "phi", unit: "rad" }] });
-    expect(Array.from(data.series[1]!.values)).toEqual(trajectory.coordinates[1]);
-  });
-
+describe("stored trajectories", () => {
   it("counts stored values and thins long series keeping the last point", () => {
     expect(valueCount(trajectory)).toBe(3 * 6);
     expect(decimationStride(10_001, 5_000)).toBe(3);

@@ -1,5 +1,6 @@
 import { describe, expect, it } from "vitest";
-import { checkSmallOscillation, energyDrift, estimatePeriod, upwardCrossings } from "@/lib/simulate/checks";
+import { checkSmallOscillation, energyDrift, estimatePeriod, explainSmallOscillation, INTEGRATION_ERROR_FACTOR, upwardCrossings } from "@/lib/simulate/checks";
+import { systemFromMassMatrixForm } from "@/lib/simulate/system";
 import { doublePendulum, pendulum } from "./systems";
 
 const g = 9.81;
@@ -67,6 +68,57 @@ describe("small-oscillation check", () => {
     expect(slow.passed && fast.passed).toBe(true);
     expect(slow.coordinate).toBe("theta2");
     expect(Math.max(slow.relativeError!, fast.relativeError!)).toBeLessThan(1e-6);
+  });
+
+  it("puts a large swing's lower frequency down to its amplitude: ω(A)/ω₀ ≈ 1 − A²/16", () => {
+    const omega = Math.sqrt(g / 0.8);
+    const amplitude = 0.05;
+    const report = checkSmallOscillation(pendulum({ l: 0.8 }), { expectedFrequency: omega, amplitude });
+    // Landau & Lifshitz, Mechanics, 3rd ed., §28 (anharmonic oscillations; from memory): the simple
+    // pendulum's frequency falls by A²/16 at amplitude A, here 1.6e-4 — above the old fixed 1e-4.
+    expect(report.relativeError!).toBeCloseTo(amplitude ** 2 / 16, 6);
+    expect(report.amplitudeShift!).toBeCloseTo(-(amplitude ** 2) / 16, 6);
+    expect(report.passed).toBe(true);
+    expect(report.threshold!).toBeGreaterThan(report.relativeError!);
+    expect(explainSmallOscillation(report)).toMatch(/^They agree: the relative difference 1\.6e-4 is accounted for — the swing of amplitude 0\.05 shifts the frequency by -1\.6e-4/);
+  });
+
+  it("flags a linearization off by 2.5e-4 at a small amplitude, and says what the difference means", () => {
+    const omega = Math.sqrt(g / 0.8);
+    const report = checkSmallOscillation(pendulum({ l: 0.8 }), { expectedFrequency: omega * (1 - 2.5e-4) });
+    expect(report.passed).toBe(false);
+    // At 1e-4 rad the amplitude accounts for 1e-8/16 (Landau & Lifshitz §28, as above): next to nothing.
+    expect(Math.abs(report.amplitudeShift!)).toBeLessThan(1e-9);
+    expect(report.threshold!).toBeLessThan(1e-8);
+    const text = explainSmallOscillation(report);
+    expect(text).toMatch(/^They disagree: of the relative difference 2\.5e-4, /);
+    expect(text).toContain("the 2.5e-4 left is more than the");
+    expect(text).toContain("does not describe small motions of these equations about this point");
+  });
+
+  it("compares a damped swing with the damped frequency and derives the allowance from the integration tolerance", () => {
+    // Seat rig of the demo: m = 95 kg, k = 42 kN/m, c = 1300 N·s/m, ζ = 0.33. Its free swing oscillates at
+    // ω_d = ω√(1 − ζ²), with λ = −ζω ± iω_d (Thomson & Dahleh, Theory of Vibration with Applications, 5th ed., §2.6 — from memory).
+    const [m, k, c] = [95, 42000, 1300];
+    const seat = systemFromMassMatrixForm({ coordinates: ["z"], parameters: [{ name: "m", value: m }, { name: "k", value: k }, { name: "c", value: c }], massMatrix: [["m"]], forcing: ["-k*z - c*z'"] });
+    const omega = Math.sqrt(k / m);
+    const decay = c / (2 * m);
+    const damped = Math.sqrt(omega * omega - decay * decay);
+    const report = checkSmallOscillation(seat, { expectedFrequency: omega, eigenvalue: { re: -decay, im: damped } });
+    expect(report.comparedFrequency).toBe(damped);
+    expect(report.passed).toBe(true);
+    expect(report.relativeError!).toBeLessThan(1e-8);
+    // The swing decays by e^(−2.16) a period, so it is timed for ln(10³)/2.16 → 3 periods, not 10.
+    expect(report.periods).toBe(3);
+    expect(explainSmallOscillation(report)).toContain("compared with the damped frequency 19.8819 rad/s");
+    // Compared with the undamped ω instead, the 5 % difference (1 − √(1 − ζ²)) is a disagreement.
+    const undamped = checkSmallOscillation(seat, { expectedFrequency: omega });
+    expect(undamped.passed).toBe(false);
+    expect(undamped.relativeError!).toBeCloseTo(1 - damped / omega, 6);
+
+    const loose = checkSmallOscillation(seat, { expectedFrequency: omega, eigenvalue: { re: -decay, im: damped }, settings: { relativeTolerance: 1e-6, absoluteTolerance: 1e-15 } });
+    expect(loose.integrationAllowance).toBeCloseTo(INTEGRATION_ERROR_FACTOR * 1e-6, 12);
+    expect(loose.passed).toBe(true);
   });
 
   it("reports a check that cannot be made", () => {

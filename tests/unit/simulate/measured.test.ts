@@ -40,6 +40,20 @@ describe("measured data CSV", () => {
     expect(tabs.series[0]!.values[1]).toBeCloseTo(0.02, 15);
   });
 
+  it("keeps a delimiter inside a quoted cell, so the problem is the cell, not the row", () => {
+    // A decimal comma in a quoted cell: one cell that is not a number (the format asks for a decimal point).
+    expect(failure('t [s],x [mm]\n0,"1,5"\n0.1,2\n')).toMatchObject({ code: "bad_cell", line: 2, column: "x", message: 'the x cell "1,5" is not a number' });
+    // Quoted headers and cells, also after the usual space behind a comma.
+    const quoted = parseMeasuredCsv('"t [s]", "x [mm]"\n"0", " 1.5 "\n0.1,"2"\n', { coordinates });
+    expect(Array.from(quoted.series[0]!.values)).toEqual([0.0015, 0.002]);
+  });
+
+  it("names the line of a quote that is never closed, counting a quoted line break", () => {
+    expect(failure('# rig, "log\nt [s],x [mm]\n0,1\n0.1,"2\n')).toMatchObject({ code: "syntax", line: 4, message: "a quoted cell is not closed" });
+    // The energy column is checked for its unit and not read, so its quoted line break passes.
+    expect(failure('t [s],x [mm],energy [J]\n0,1,"9\n8"\n0.1,2"5,7\n')).toMatchObject({ code: "bad_cell", line: 4, message: 'the x cell "2"5" is not a number' });
+  });
+
   it("converts to SI when the model gives no unit for a coordinate", () => {
     const data = parseMeasuredCsv("t [min], q [mm]\n0, 1\n1, 2\n", { coordinates: [{ name: "q" }] });
     expect(Array.from(data.times)).toEqual([0, 60]);

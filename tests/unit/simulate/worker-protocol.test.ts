@@ -1,7 +1,4 @@
 import { describe, expect, it } from "vitest";
-import path from "node:path";
-import { pathToFileURL } from "node:url";
-import { Worker } from "node:worker_threads";
 import type { MassMatrixForm } from "@/lib/simulate/system";
 import { createWorkerHandler, type SimulationOutcome, type WorkerRequest, type WorkerResponse } from "@/lib/simulate/worker-protocol";
 
@@ -103,30 +100,4 @@ describe("worker protocol", () => {
     expect(result.outcome.result.parameters[0]!.value).toBeCloseTo(0.65, 6);
     expect(messages.some((m) => m.type === "progress")).toBe(true);
   });
-
-  it("runs in a Node worker thread through node-worker.ts", async () => {
-    // The server runs the compiled entry; here tsx loads the TypeScript source inside the thread.
-    const entry = path.resolve(import.meta.dirname, "../../../lib/simulate/node-worker.ts");
-    const bootstrap = `import("tsx/esm/api").then(({ tsImport }) => tsImport(${JSON.stringify(entry)}, ${JSON.stringify(pathToFileURL(entry).href)}))`;
-    const worker = new Worker(bootstrap, { eval: true });
-    try {
-      const response = await new Promise<WorkerResponse>((resolve, reject) => {
-        worker.on("message", (message: WorkerResponse) => {
-          if (message.type !== "progress") resolve(message);
-        });
-        worker.on("error", reject);
-        worker.postMessage({
-          type: "start",
-          id: "thread",
-          job: { kind: "simulate", system: pendulumForm, settings: { initialCoordinates: [0.2], endTime: 2, outputStep: 0.5, inputs: { u: "0*t" } } },
-        } satisfies WorkerRequest);
-      });
-      expect(response.type).toBe("result");
-      const outcome = (response as Extract<WorkerResponse, { type: "result" }>).outcome as SimulationOutcome;
-      expect(Array.from(outcome.result.trajectory.times)).toEqual([0, 0.5, 1, 1.5, 2]);
-      expect(outcome.result.trajectory.coordinates[0]![0]).toBe(0.2);
-    } finally {
-      await worker.terminate();
-    }
-  }, 20_000);
 });

@@ -1,4 +1,5 @@
 import type { Metadata } from "next";
+import { CurrentTeam } from "@/components/current-team";
 import { NotebookPage } from "@/components/notebook/notebook-page";
 import { DerivationReview } from "@/components/review/derivation-review";
 import { UnreadableContent } from "@/components/notebook/unreadable-content";
@@ -8,6 +9,7 @@ import { loadDerivationFor, orNotFound } from "@/lib/auth/access";
 import { can } from "@/lib/auth/permissions";
 import { requirePageUser } from "@/lib/auth/session";
 import { roleLabels } from "@/lib/domain";
+import { env } from "@/lib/env";
 import { parseStoredDocument, recoverModel } from "@/lib/notebook/document";
 import { readViewPreferences } from "@/lib/notebook/view-preferences";
 import { reviewPanelData } from "@/lib/review/panel-data";
@@ -41,8 +43,12 @@ export default async function DerivationPage({ params }: { params: Promise<{ id:
   }
   const locked = derivation.lockedAt !== null;
   const canEdit = can(membership.role, "derivation:edit", { status: derivation.status, locked });
+  // A role that could edit a draft but not this derivation is held back by its approval and lock.
+  const readOnlyReason = canEdit ? undefined : can(membership.role, "derivation:edit", { status: "draft" }) ? "approved" : "role";
   return (
-    <NotebookPage
+    <>
+      <CurrentTeam teamId={derivation.teamId} />
+      <NotebookPage
       key={derivation.id}
       derivationId={derivation.id}
       teamId={derivation.teamId}
@@ -51,13 +57,16 @@ export default async function DerivationPage({ params }: { params: Promise<{ id:
       ownerName={derivation.ownerName}
       roleLabel={roleLabels[membership.role]}
       canEdit={canEdit}
+      readOnlyReason={readOnlyReason}
       canRename={canEdit && can(membership.role, "derivation:rename", { status: derivation.status, locked })}
       canSimulate={can(membership.role, "derivation:simulate", { status: derivation.status, locked })}
       initialDocument={stored.document}
       initialViewPreferences={readViewPreferences(view?.preferences)}
       initialUpdatedAt={derivation.updatedAt.toISOString()}
       rowTitle={derivation.title}
-      review={<DerivationReview data={review} />}
-    />
+        uploadLimits={{ csvBytes: env.UPLOAD_MAX_CSV_BYTES, imageBytes: env.UPLOAD_MAX_IMAGE_BYTES }}
+        review={<DerivationReview data={review} />}
+      />
+    </>
   );
 }

@@ -1,6 +1,7 @@
 import type { Metadata } from "next";
 import Link from "next/link";
 import { DerivationsBoard } from "@/components/derivations/derivations-board";
+import { TrashPanel } from "@/components/derivations/trash-panel";
 import { getMembersByTeamId } from "@/db/queries/teams";
 import { loadTeamFor, orNotFound } from "@/lib/auth/access";
 import { can } from "@/lib/auth/permissions";
@@ -44,6 +45,7 @@ export default async function TeamDashboardPage({ params }: { params: Promise<{ 
         currentUserId={user.id}
         owners={members.map((member) => ({ id: member.userId, name: member.name }))}
       />
+      {can(membership.role, "derivation:read-trash") ? <TrashPanel teamId={team.id} role={membership.role} currentUserId={user.id} /> : null}
     </div>
   );
 }

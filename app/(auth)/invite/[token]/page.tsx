@@ -18,7 +18,7 @@ export default async function InvitePage({ params }: { params: Promise<{ token: 
   if (!invite || invite.state !== "open") {
     const heading = !invite ? "This invitation link is not valid" : invite.state === "used" ? "This invitation has already been used" : "This invitation has expired";
     const detail = !invite
-      ? "Check that you opened the whole link from the e-mail."
+      ? "Check that you opened the whole link from the latest e-mail. A lead may have withdrawn the invitation, or sent a newer one that replaces this link."
       : invite.state === "used"
         ? "Each invitation works once. If you accepted it, sign in to reach the team."
         : "Invitations are valid for a limited time. Ask a lead of the team to send a new one.";

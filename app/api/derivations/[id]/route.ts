@@ -1,33 +1,20 @@
-import { deleteDerivationById, updateDerivationById } from "@/db/queries/derivations";
-import { apiRoute, readJson } from "@/lib/api/route";
-import { loadDerivationFor } from "@/lib/auth/access";
+import { trashDerivationById, updateDerivationById } from "@/db/queries/derivations";
+import { derivationRoute } from "@/lib/api/resource-route";
+import { readJson } from "@/lib/api/route";
+import { purgeExpiredTrash } from "@/lib/derivations/trash";
 import { assertCan, type Action } from "@/lib/auth/permissions";
-import { requireUser } from "@/lib/auth/session";
 import { AppError } from "@/lib/errors";
 import { validDocumentOrThrow } from "@/lib/evaluation/document-content";
 import { updateDerivationSchema } from "@/lib/validation/derivations";
-import { uuidField } from "@/lib/validation/fields";
 import { parseOrThrow } from "@/lib/validation/parse";
 
 type Params = { id: string };
 
-// An id that is not a uuid cannot exist; answer as for any missing derivation.
-async function derivationId(params: Promise<Params>): Promise<string> {
-  const parsed = uuidField.safeParse((await params).id);
-  if (!parsed.success) throw new AppError("not_found:derivation", "Derivation not found.");
-  return parsed.data;
-}
-
-export const GET = apiRoute<Params>(async (_request, { params }) => {
-  const user = await requireUser();
-  const { derivation } = await loadDerivationFor(user, await derivationId(params), "derivation:read");
+export const GET = derivationRoute<Params>("derivation:read", async ({ derivation }) => {
   return Response.json({ derivation });
 });
 
-export const PATCH = apiRoute<Params>(async (request, { params }) => {
-  const user = await requireUser();
-  const id = await derivationId(params);
-  const { derivation, membership } = await loadDerivationFor(user, id, "derivation:read");
+export const PATCH = derivationRoute<Params>("derivation:read", async ({ request, user, derivation, membership }) => {
   const changes = parseOrThrow(updateDerivationSchema, await readJson(request));
   // Each kind of change needs its own permission; all must hold.
   const needed = new Set<Action>();
@@ -35,15 +22,14 @@ export const PATCH = apiRoute<Params>(async (request, { params }) => {
   if (changes.content !== undefined) needed.add("derivation:edit");
   for (const action of needed) assertCan(membership.role, action, { status: derivation.status, locked: derivation.lockedAt !== null });
   const document = changes.content === undefined ? undefined : validDocumentOrThrow(changes.content, { field: "content", title: derivation.title });
-  const updated = await updateDerivationById({ id, actorId: user.id, changes: { title: changes.title, content: document } });
+  const updated = await updateDerivationById({ id: derivation.id, actorId: user.id, changes: { title: changes.title, content: document } });
   if (!updated) throw new AppError("locked:derivation", "This derivation was approved and locked meanwhile; nothing was changed.");
   return Response.json({ derivation: updated });
 });
 
-export const DELETE = apiRoute<Params>(async (_request, { params }) => {
-  const user = await requireUser();
-  const id = await derivationId(params);
-  await loadDerivationFor(user, id, "derivation:delete");
-  await deleteDerivationById({ id, actorId: user.id });
+/** Moves the derivation to its team's trash (owner or lead; restorable for TRASH_RETENTION_DAYS). */
+export const DELETE = derivationRoute<Params>("derivation:delete", async ({ user, derivation }) => {
+  if (!(await trashDerivationById({ id: derivation.id, actorId: user.id }))) throw new AppError("not_found:derivation", "Derivation not found.");
+  await purgeExpiredTrash({ teamId: derivation.teamId });
   return new Response(null, { status: 204 });
 });

@@ -1,36 +1,22 @@
-import { deleteFileById, getFileById } from "@/db/queries/files";
-import { apiRoute } from "@/lib/api/route";
-import { loadDerivationFor } from "@/lib/auth/access";
-import { requireUser } from "@/lib/auth/session";
+import { deleteFileById } from "@/db/queries/files";
+import { fileRoute } from "@/lib/api/resource-route";
 import { AppError } from "@/lib/errors";
+import { contentDisposition } from "@/lib/files/names";
 import { deleteObject, getObjectStream } from "@/lib/storage";
-import { uuidField } from "@/lib/validation/fields";
 
 type Params = { fileId: string };
-
-async function fileFor(params: Promise<Params>) {
-  const parsed = uuidField.safeParse((await params).fileId);
-  const file = parsed.success ? await getFileById({ id: parsed.data }) : null;
-  if (!file) throw new AppError("not_found:file", "File not found.");
-  return file;
-}
 
 /**
  * Streams an attached file. Images are shown inline with the type read from
  * their bytes at upload; CSVs download. `nosniff` and a sandboxing CSP keep a
  * browser from treating either as a page.
  */
-export const GET = apiRoute<Params>(async (_request, { params }) => {
-  const user = await requireUser();
-  const file = await fileFor(params);
-  // Another team's file looks exactly like a missing one.
-  await loadDerivationFor(user, file.derivationId, "derivation:read");
+export const GET = fileRoute<Params>("derivation:read", async ({ file }) => {
   const object = await getObjectStream({ key: file.objectKey });
   if (!object) throw new AppError("not_found:file", "The file's data is missing from storage.");
-  const disposition = file.kind === "image" ? "inline" : "attachment";
   const headers = new Headers({
     "content-type": file.contentType,
-    "content-disposition": `${disposition}; filename="${file.originalName}"`,
+    "content-disposition": contentDisposition(file.kind === "image" ? "inline" : "attachment", file.originalName),
     "x-content-type-options": "nosniff",
     "content-security-policy": "default-src 'none'; sandbox",
     "cache-control": "private, max-age=0, must-revalidate",
@@ -40,10 +26,7 @@ export const GET = apiRoute<Params>(async (_request, { params }) => {
 });
 
 /** Removes the file's row (with an audit event), then its object. */
-export const DELETE = apiRoute<Params>(async (_request, { params }) => {
-  const user = await requireUser();
-  const file = await fileFor(params);
-  const { derivation } = await loadDerivationFor(user, file.derivationId, "derivation:attach");
+export const DELETE = fileRoute<Params>("derivation:attach", async ({ user, derivation, file }) => {
   const deleted = await deleteFileById({ id: file.id, actorId: user.id, teamId: derivation.teamId });
   if (!deleted) throw new AppError("not_found:file", "File not found.");
   // The row is gone, so the object is unreachable either way; a failed delete only leaves an orphan to log.

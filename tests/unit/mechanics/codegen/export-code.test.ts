@@ -171,16 +171,16 @@ sys.path.insert(0, ${JSON.stringify(dir)})
 import ${key}_model as model
 out = []
 for c in json.loads(sys.argv[1]):
-    A, B = model.state_matrices(c["q"], c["qd"], c["t"], model.DEFAULT_PARAMS, c["u"])
-    out.append({"M": model.mass_matrix(c["q"], c["qd"], c["t"], model.DEFAULT_PARAMS, c["u"]).tolist(),
-                "f": model.forcing(c["q"], c["qd"], c["t"], model.DEFAULT_PARAMS, c["u"]).tolist(),
+    A, B = model.state_matrices(c["q"], c["qd"], c["t"], model.DEFAULT_PARAMETERS, c["u"])
+    out.append({"M": model.mass_matrix(c["q"], c["qd"], c["t"], model.DEFAULT_PARAMETERS, c["u"]).tolist(),
+                "f": model.forcing(c["q"], c["qd"], c["t"], model.DEFAULT_PARAMETERS, c["u"]).tolist(),
                 "A": A.tolist(), "B": B.tolist()})
 print(json.dumps(out))
 `,
     );
     const results = JSON.parse(execFileSync(python, [path.join(dir, `${key}_driver.py`), JSON.stringify(states)], { encoding: "utf8" })) as Result[];
     states.forEach((c, k) => expectClose(results[k]!, engine(model, c), `Python case ${k}`));
-  });
+  }, 30_000);
 
   it("TypeScript runs under tsx and matches the engine to 1e-12", () => {
     writeFileSync(path.join(dir, `${key}-model.ts`), exportCode(model, "typescript"));
@@ -188,11 +188,38 @@ print(json.dumps(out))
       path.join(dir, `${key}-driver.ts`),
       `import * as model from "./${key}-model";
 const cases = JSON.parse(process.argv[2]!) as { q: number[]; qd: number[]; t: number; u: number[] }[];
-console.log(JSON.stringify(cases.map((c) => ({ M: model.massMatrix(c.q, c.qd, c.t, model.DEFAULT_PARAMS, c.u), f: model.forcing(c.q, c.qd, c.t, model.DEFAULT_PARAMS, c.u), ...model.stateMatrices(c.q, c.qd, c.t, model.DEFAULT_PARAMS, c.u) }))));
+console.log(JSON.stringify(cases.map((c) => ({ M: model.massMatrix(c.q, c.qd, c.t, model.DEFAULT_PARAMETERS, c.u), f: model.forcing(c.q, c.qd, c.t, model.DEFAULT_PARAMETERS, c.u), ...model.stateMatrices(c.q, c.qd, c.t, model.DEFAULT_PARAMETERS, c.u) }))));
 `,
     );
     const tsx = path.resolve("node_modules/.bin/tsx");
     const results = JSON.parse(execFileSync(tsx, [path.join(dir, `${key}-driver.ts`), JSON.stringify(states)], { encoding: "utf8" })) as Result[];
     states.forEach((c, k) => expectClose(results[k]!, engine(model, c), `TypeScript case ${k}`));
+    // Starting tsx takes seconds on a busy two-core machine.
+  }, 30_000);
+});
+
+describe("exported code speaks the product's words", () => {
+  const model = MODELS.pendulum!;
+  const signatures: Record<string, RegExp> = {
+    c: /void double_pendulum_forcing\(const double \*coordinates, const double \*rates, double t, const double \*parameters, const double \*inputs, double \*f\)/,
+    python: /def forcing\(coordinates, rates, t, parameters=DEFAULT_PARAMETERS, inputs=\(\)\):/,
+    julia: /function forcing\(coordinates, rates, t, parameters=DEFAULT_PARAMETERS, inputs=Float64\[\]\)/,
+    matlab: /function f = forcing\(coordinates, rates, t, parameters, inputs\)/,
+    typescript: /export function forcing\(coordinates: ArrayLike<number>, rates: ArrayLike<number>, t: number, parameters: ArrayLike<number> = DEFAULT_PARAMETERS, inputs: ArrayLike<number> = \[\]\)/,
+  };
+
+  it.each(Object.entries(signatures))("%s names its arguments coordinates, rates, accelerations, parameters and inputs", (language, signature) => {
+    const code = exportCode(model, language as Parameters<typeof exportCode>[1]);
+    expect(code).toMatch(signature);
+    expect(code).toMatch(/residual_jacobians\(|residualJacobians\(/);
+    expect(code).toMatch(/\baccelerations\b/);
+    // Comments aside, none of the two-letter array names is left: no q, qd, qdd, p or u indexed or passed.
+    const uncommented = code
+      .split("\n")
+      .filter((line) => !/^\s*(#|%|\/\/|\/?\*)/.test(line) && !/^"/.test(line))
+      .join("\n");
+    expect(uncommented).not.toMatch(/\b(q|qd|qdd|p|u)\s*[[(]\s*\d/);
+    expect(uncommented).not.toMatch(/\b(qd|qdd|dr_dq|dr_dqd|dr_du|DEFAULT_PARAMS)\b/);
+    expect(uncommented).not.toMatch(/[(,]\s*(q|p|u)\s*[,)=:]/);
   });
 });

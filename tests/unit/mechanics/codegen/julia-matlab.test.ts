@@ -30,13 +30,13 @@ const MODEL: CodeExportInput = {
   forcing: ["F - c*x' + m*l*theta'^2*sin(theta)", "-m*g*l*sin(theta) - 0.5*c*theta'*abs(theta')^1.5 + exp(-t)*atan(x)"],
 };
 
-const SIZES: Record<string, number> = { q: 2, qd: 2, qdd: 2, p: 5, u: 1 };
+const SIZES: Record<string, number> = { coordinates: 2, rates: 2, accelerations: 2, parameters: 5, inputs: 1 };
 const NAMES: Record<string, (i: number) => string> = {
-  q: (i) => MODEL.coordinates[i]!,
-  qd: (i) => `${MODEL.coordinates[i]}'`,
-  qdd: (i) => `${MODEL.coordinates[i]}''`,
-  p: (i) => MODEL.parameters[i]!.name,
-  u: (i) => MODEL.inputs![i]!,
+  coordinates: (i) => MODEL.coordinates[i]!,
+  rates: (i) => `${MODEL.coordinates[i]}'`,
+  accelerations: (i) => `${MODEL.coordinates[i]}''`,
+  parameters: (i) => MODEL.parameters[i]!.name,
+  inputs: (i) => MODEL.inputs![i]!,
 };
 
 function expectBalanced(code: string) {
@@ -52,7 +52,7 @@ function expectBalanced(code: string) {
 
 /** Renames 1-based array references (q[1] or q(1)) to model symbols, checking each index is in range. */
 function rename(expression: string, open: "[" | "("): string {
-  const pattern = open === "[" ? /\b(qdd|qd|q|p|u)\[(\d+)\]/g : /\b(qdd|qd|q|p|u)\((\d+)\)/g;
+  const pattern = open === "[" ? /\b(coordinates|rates|accelerations|parameters|inputs)\[(\d+)\]/g : /\b(coordinates|rates|accelerations|parameters|inputs)\((\d+)\)/g;
   return expression.replace(pattern, (_, array: string, index: string) => {
     const i = Number(index);
     expect(i, `${array} index ${i} is 1-based and in range`).toBeGreaterThanOrEqual(1);
@@ -105,9 +105,9 @@ const expected = compileAnalysis({ ...MODEL, inputs: MODEL.inputs!, parameters: 
 const EXPECTED: Record<string, number[]> = {
   M: expected.mass.flat(),
   f: expected.forcing,
-  dr_dq: expected.byCoordinate.flat(),
-  dr_dqd: expected.byRate.flat(),
-  dr_du: expected.byInput.flat(),
+  residual_by_coordinates: expected.byCoordinate.flat(),
+  residual_by_rates: expected.byRate.flat(),
+  residual_by_inputs: expected.byInput.flat(),
 };
 
 function expectValues(name: string, actual: number[]) {
@@ -124,7 +124,7 @@ describe("Julia export (structural; Julia is not installed)", () => {
     const opened = code.match(/^\s*(function|for|if)\b/gm)!.length;
     const closed = code.match(/^\s*end\s*$/gm)!.length;
     expect(closed).toBe(opened);
-    expect(code).not.toMatch(/\b(q|qd|qdd|p|u)\[0\]/);
+    expect(code).not.toMatch(/\b(coordinates|rates|accelerations|parameters|inputs)\[0\]/);
   });
 
   it("assigns temporaries before use and its M, f and Jacobians evaluate to the engine's numbers", () => {
@@ -144,7 +144,7 @@ describe("Julia export (structural; Julia is not installed)", () => {
       };
       if (name === "mass_matrix") expectValues("M", literal("return"));
       if (name === "forcing") expectValues("f", literal("return"));
-      if (name === "residual_jacobians") for (const target of ["dr_dq", "dr_dqd", "dr_du"]) expectValues(target, literal(target));
+      if (name === "residual_jacobians") for (const target of ["residual_by_coordinates", "residual_by_rates", "residual_by_inputs"]) expectValues(target, literal(target));
       seen.add(name);
     }
     expect([...seen]).toEqual(expect.arrayContaining(["mass_matrix", "forcing", "residual_jacobians", "state_matrices"]));
@@ -155,12 +155,12 @@ describe("MATLAB/Octave export (structural; neither is installed)", () => {
   const code = exportCode(MODEL, "matlab");
 
   it("is one function file with local functions, balanced brackets and one end per block", () => {
-    expect(code.startsWith("function [M, f, A, B] = trolley_equations(q, qd, t, p, u)")).toBe(true);
+    expect(code.startsWith("function [M, f, A, B] = trolley_equations(coordinates, rates, t, parameters, inputs)")).toBe(true);
     expectBalanced(code);
     const opened = code.match(/^\s*(function|for|if)\b/gm)!.length;
     const closed = code.match(/^\s*end\s*$/gm)!.length;
     expect(closed).toBe(opened);
-    expect(code).not.toMatch(/\b(q|qd|qdd|p|u)\(0\)/);
+    expect(code).not.toMatch(/\b(coordinates|rates|accelerations|parameters|inputs)\(0\)/);
   });
 
   it("assigns temporaries before use and its M, f and Jacobians evaluate to the engine's numbers", () => {
@@ -172,7 +172,7 @@ describe("MATLAB/Octave export (structural; neither is installed)", () => {
       for (const line of fn.split("\n")) {
         const tmp = /^\s+(t\d+_) = (.*);$/.exec(line);
         if (tmp) scope.values.set(tmp[1]!, scope.evaluate(rename(tmp[2]!, "(")));
-        const entry = /^\s+(M|f|dr_dq|dr_dqd|dr_du)\((\d+), (\d+)\) = (.*);$/.exec(line);
+        const entry = /^\s+(M|f|residual_by_coordinates|residual_by_rates|residual_by_inputs)\((\d+), (\d+)\) = (.*);$/.exec(line);
         if (entry) {
           const list = entries.get(entry[1]!) ?? [];
           list.push(scope.evaluate(rename(entry[4]!, "(")));
@@ -184,6 +184,6 @@ describe("MATLAB/Octave export (structural; neither is installed)", () => {
         found.add(target);
       }
     }
-    expect([...found].sort()).toEqual(["M", "dr_dq", "dr_dqd", "dr_du", "f"]);
+    expect([...found].sort()).toEqual(["M", "f", "residual_by_coordinates", "residual_by_inputs", "residual_by_rates"]);
   });
 });

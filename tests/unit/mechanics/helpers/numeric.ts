@@ -64,8 +64,9 @@ export function evaluateTree(expr: Expr, env: Env): number {
   }
 }
 
-export function evaluate(text: string, env: Env): number {
-  return evaluateTree(parseExpression(text), env);
+/** The value of an expression given as text or as a tree (the engine's results are trees). */
+export function evaluate(source: string | Expr, env: Env): number {
+  return evaluateTree(typeof source === "string" ? parseExpression(source) : source, env);
 }
 
 /** |a − b| ≤ tol·(1 + max(|a|, |b|)). */

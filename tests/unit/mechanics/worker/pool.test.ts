@@ -1,4 +1,3 @@
-import { execFileSync } from "node:child_process";
 import { mkdtempSync, rmSync } from "node:fs";
 import { tmpdir } from "node:os";
 import path from "node:path";
@@ -107,7 +106,6 @@ describe("EnginePool", () => {
 describe("production worker bundle (npm run build:workers)", () => {
   let pool: EnginePool;
   beforeAll(() => {
-    execFileSync("npm", ["run", "--silent", "build:workers"], { stdio: "inherit" });
     pool = new EnginePool({ workerFile: path.resolve("dist/workers/engine-worker.mjs"), size: 1 });
   }, 60_000);
   afterAll(() => pool.close());

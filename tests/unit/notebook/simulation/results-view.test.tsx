@@ -2,16 +2,41 @@
 import { afterEach, beforeAll, describe, expect, it, vi } from "vitest";
 import { cleanup, render, screen, within } from "@testing-library/react";
 import type { RunDisplay } from "@/components/notebook/simulation/run-view";
-import { trajectoryCsv } from "@/components/notebook/simulation/run-view";
+import { checkSmallOscillation } from "@/lib/simulate/checks";
+import { pendulum } from "../../simulate/systems";
 
 // jsdom has no canvas: a stand-in records what each chart was given.
-const charts: { title: string; seriesLabels: string[]; mode?: number; width: number }[] = [];
+interface RecordedChart {
+  yLabel: string;
+  xLabel: string;
+  seriesLabels: string[];
+  strokes: string[];
+  dashes: (number[] | undefined)[];
+  mode?: number;
+  width: number;
+  testId: string | null;
+}
+const charts: RecordedChart[] = [];
 vi.mock("uplot", () => {
   class FakePlot {
     width: number;
     static paths = { linear: () => undefined };
-    constructor(opts: { title: string; series: { label?: string }[]; mode?: number; width: number }, _data: unknown, target: HTMLElement) {
-      charts.push({ title: opts.title, seriesLabels: opts.series.slice(1).map((s) => s.label ?? ""), mode: opts.mode, width: opts.width });
+    constructor(
+      opts: { series: { label?: string; stroke?: string; dash?: number[] }[]; axes: { label?: string }[]; mode?: number; width: number },
+      _data: unknown,
+      target: HTMLElement,
+    ) {
+      const shown = opts.series.slice(1);
+      charts.push({
+        xLabel: opts.axes[0]?.label ?? "",
+        yLabel: opts.axes[1]?.label ?? "",
+        seriesLabels: shown.map((s) => s.label ?? ""),
+        strokes: shown.map((s) => s.stroke ?? ""),
+        dashes: shown.map((s) => s.dash),
+        mode: opts.mode,
+        width: opts.width,
+        testId: target.getAttribute("data-testid"),
+      });
       this.width = opts.width;
       target.appendChild(document.createElement("canvas"));
     }
@@ -28,6 +53,8 @@ beforeAll(() => {
     disconnect() {}
     unobserve() {}
   } as unknown as typeof ResizeObserver;
+  // The page's theme supplies the series palette (app/globals.css); a stand-in palette here.
+  ["#101010", "#202020", "#303030", "#404040", "#505050", "#606060"].forEach((colour, i) => document.documentElement.style.setProperty(`--series-${i + 1}`, colour));
   window.matchMedia ??= (() => ({ matches: false, addEventListener() {}, removeEventListener() {} })) as unknown as typeof window.matchMedia;
 });
 afterEach(() => {
@@ -53,16 +80,22 @@ function syntheticRun(drift: number, failed = false): RunDisplay {
     rates: [times.map((t) => -Math.sin(t))],
     energy: times.map((_, k) => 0.5 * (1 + (drift * k) / (count - 1))),
     energyCheck: { relativeDrift: drift, threshold: 1e-5, warning: drift > 1e-5 },
+    coordinateUnits: { x: "m" },
   };
 }
 
 describe("simulation results view", () => {
   it("renders the coordinate, rate, phase and energy charts", () => {
-    render(<ResultsView run={syntheticRun(1e-10)} />);
+    render(<ResultsView run={syntheticRun(1e-10)} units={{ x: "m" }} />);
     for (const id of ["chart-coordinates", "chart-rates", "chart-phase", "chart-energy"]) expect(screen.getByTestId(id).querySelector("canvas")).not.toBeNull();
-    expect(charts.map((c) => c.title)).toEqual(["Coordinates", "Rates", "Phase portrait", "Energy function, relative change"]);
-    expect(charts.find((c) => c.title === "Phase portrait")).toMatchObject({ mode: 2, seriesLabels: ["x' against x"] });
-    expect(charts.find((c) => c.title === "Rates")?.seriesLabels).toEqual(["x'"]);
+    expect(screen.getAllByRole("figure").map((f) => f.querySelector("figcaption")?.textContent)).toEqual([
+      "Coordinates (m)",
+      "Rates (m/s)",
+      "Phase portrait",
+      "Energy function, relative change",
+    ]);
+    expect(charts.find((c) => c.mode === 2)).toMatchObject({ seriesLabels: ["x' against x"], xLabel: "coordinate (m)", yLabel: "rate (m/s)" });
+    expect(charts.find((c) => c.testId === "chart-rates")).toMatchObject({ seriesLabels: ["x'"], yLabel: "m/s" });
   });
 
   it("states a drift within the threshold without a warning", () => {
@@ -97,17 +130,64 @@ describe("simulation results view", () => {
     expect(screen.getByTestId("chart-coordinates").querySelector("canvas")).not.toBeNull();
   });
 
-  it("overlays measured readings on the coordinate chart", () => {
-    render(<ResultsView run={syntheticRun(1e-10)} measured={{ times: [0.05, 0.15], series: [{ coordinate: "x", measured: [0.99, 0.98] }] }} />);
-    expect(charts.find((c) => c.title === "Coordinates")?.seriesLabels).toEqual(["x", "x measured"]);
+  it("overlays measured readings, and the fitted model, in the colour of their coordinate", () => {
+    render(<ResultsView run={syntheticRun(1e-10)} measured={{ times: [0.05, 0.15], series: [{ coordinate: "x", measured: [0.99, 0.98], fitted: [0.991, 0.981] }] }} />);
+    const chart = charts.find((c) => c.testId === "chart-coordinates")!;
+    expect(chart.seriesLabels).toEqual(["x", "x measured", "x fitted"]);
+    expect(new Set(chart.strokes).size).toBe(1);
+  });
+
+  it("puts coordinates of different units on separate charts, each axis naming its unit", () => {
+    // A trolley (metres) carrying a swinging load (radians): two quantities, two sets of axes.
+    const base = syntheticRun(1e-10);
+    const run: RunDisplay = {
+      ...base,
+      coordinateNames: ["x", "theta", "s"],
+      coordinates: [base.coordinates[0]!, base.rates[0]!, base.coordinates[0]!],
+      rates: [base.rates[0]!, base.coordinates[0]!, base.rates[0]!],
+    };
+    render(
+      <ResultsView
+        run={run}
+        units={{ x: "m", theta: "rad", s: " m " }}
+        measured={{ times: [0.05, 0.15], series: [{ coordinate: "theta", unit: "rad", measured: [0.1, 0.2] }] }}
+      />,
+    );
+    const byId = (id: string) => charts.find((c) => c.testId === id)!;
+    expect(byId("chart-coordinates-m")).toMatchObject({ yLabel: "m", seriesLabels: ["x", "s"] });
+    expect(byId("chart-coordinates-rad")).toMatchObject({ yLabel: "rad", seriesLabels: ["theta", "theta measured"] });
+    expect(byId("chart-rates-m")).toMatchObject({ yLabel: "m/s", seriesLabels: ["x'", "s'"] });
+    expect(byId("chart-rates-rad")).toMatchObject({ yLabel: "rad/s", seriesLabels: ["theta'"] });
+    expect(byId("chart-phase-m")).toMatchObject({ xLabel: "coordinate (m)", yLabel: "rate (m/s)", seriesLabels: ["x' against x", "s' against s"] });
+    expect(byId("chart-phase-rad")).toMatchObject({ xLabel: "coordinate (rad)", yLabel: "rate (rad/s)" });
+    // No chart mixes units: every series label belongs to its chart's group.
+    expect(charts.filter((c) => c.yLabel === "m").flatMap((c) => c.seriesLabels)).not.toContain("theta");
+    // Series sharing a chart are drawn in different colours.
+    expect(new Set(byId("chart-coordinates-m").strokes).size).toBe(2);
+    expect(screen.getByText("Coordinates (rad)")).toBeTruthy();
+  });
+
+  it("says so when a coordinate has no unit", () => {
+    render(<ResultsView run={syntheticRun(1e-10)} units={{}} />);
+    expect(screen.getByText("Coordinates (no unit given)")).toBeTruthy();
   });
 });
 
-describe("trajectory CSV", () => {
-  it("has one column per coordinate, rate and the energy", () => {
-    const csv = trajectoryCsv(syntheticRun(0)).split("\n");
-    expect(csv[0]).toBe("t,x,x',energy");
-    expect(csv[1]).toBe("0,1,0,0.5");
-    expect(csv).toHaveLength(101 + 2);
+describe("small-amplitude check in the results", () => {
+  it("says what a small-amplitude difference means, and marks a disagreement", () => {
+    const omega = Math.sqrt(9.81 / 0.8);
+    // Landau & Lifshitz, Mechanics, §28 (from memory): at 0.05 rad the pendulum runs slow by A²/16 = 1.6e-4.
+    const agree = checkSmallOscillation(pendulum({ l: 0.8 }), { expectedFrequency: omega, amplitude: 0.05 });
+    const { rerender } = render(<ResultsView run={{ ...syntheticRun(0), smallOscillation: agree }} />);
+    const paragraph = screen.getByTestId("small-oscillation");
+    expect(paragraph.textContent).toContain("relative difference 1.6e-4, accepted up to");
+    expect(paragraph.textContent).toContain("They agree");
+    expect(paragraph.textContent).toContain("the shift grows with amplitude squared");
+    expect(paragraph.classList.contains("text-danger")).toBe(false);
+
+    const disagree = checkSmallOscillation(pendulum({ l: 0.8 }), { expectedFrequency: omega * (1 - 2.5e-4) });
+    rerender(<ResultsView run={{ ...syntheticRun(0), smallOscillation: disagree }} />);
+    expect(screen.getByTestId("small-oscillation").textContent).toContain("They disagree: of the relative difference 2.5e-4");
+    expect(screen.getByTestId("small-oscillation").classList.contains("text-danger")).toBe(true);
   });
 });

@@ -35,7 +35,7 @@ describe("simulation settings validation", () => {
       outputStep: "-0.1",
       tolerance: "1",
       parameterOverrides: { m: "heavy" },
-      points: [{ x: "xL", y: "theta" }],
+      points: [{ x: "xL", y: "hook" }],
     };
     const result = validateSettings(settings, symbols);
     expect(result.ok).toBe(false);
@@ -46,7 +46,7 @@ describe("simulation settings validation", () => {
       outputStep: "Must be positive.",
       tolerance: "Between 1e-14 and 1e-2.",
       "parameterOverrides.m": '"heavy" is not a number.',
-      "points.0.y": '"theta" is not a definition.',
+      "points.0.y": '"hook" is not a definition or coordinate.',
     });
   });
 
@@ -83,6 +83,32 @@ describe("simulation settings form", () => {
     // One field per coordinate and rate, one override per parameter of the template.
     expect(screen.getByLabelText("theta'(t₀)")).toBeTruthy();
     for (const name of documentSymbols(doc).parameters) expect(screen.getByLabelText(name)).toBeTruthy();
+  });
+
+  it("suggests the model's positions with + Add point: the trolley on its girder first, then the load", () => {
+    const crane = applyOperation(modelToDocument(templateModel("cart-with-pendulum"), (() => {
+      let i = 0;
+      return () => `c${++i}`;
+    })()), { type: "addCell", cell: createCell("simulation", "sim") });
+    render(<Harness initial={crane} cellId="sim" />);
+    const add = screen.getByRole("button", { name: "+ Add point" });
+    fireEvent.click(add);
+    fireEvent.click(add);
+    expect(JSON.parse(screen.getByTestId("stored").textContent!).points).toEqual([
+      { x: "x", y: "0" },
+      { x: "xL", y: "yL" },
+    ]);
+    expect((screen.getByLabelText("Point 1 x") as HTMLSelectElement).value).toBe("x");
+    expect((screen.getByLabelText("Point 1 y") as HTMLSelectElement).value).toBe("0");
+    // Nothing left to suggest: a third point starts empty.
+    fireEvent.click(add);
+    expect(JSON.parse(screen.getByTestId("stored").textContent!).points[2]).toEqual({ x: "", y: "" });
+    // A coordinate and the fixed zero are valid point names; the empty point is left out of the run.
+    const valid = validateSettings(JSON.parse(screen.getByTestId("stored").textContent!), documentSymbols(crane));
+    expect(valid.ok && valid.points).toEqual([
+      { x: "x", y: "0" },
+      { x: "xL", y: "yL" },
+    ]);
   });
 
   it("shows a field's error beside it and marks it invalid", () => {

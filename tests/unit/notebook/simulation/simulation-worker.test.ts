@@ -47,7 +47,7 @@ describe("simulation cell worker", () => {
         job: {
           model: pendulum,
           settings: { initialCoordinates: { theta: 0.4 }, endTime: 5, outputStep: 0.05, relativeTolerance: 1e-10, absoluteTolerance: 1e-12 },
-          points: [{ x: "xb", y: "yb2" }],
+          points: [{ x: "xb", y: "yb2" }, { x: "theta", y: "0" }],
           smallOscillation: { expectedFrequency: Math.sqrt(9.81 / 3.5), equilibrium: { theta: 0 }, modeShape: [1] },
         },
       },
@@ -67,6 +67,11 @@ describe("simulation cell worker", () => {
       expect(track!.x[k]).toBeCloseTo(3.5 * Math.sin(theta), 12);
       expect(track!.y[k]).toBeCloseTo(-7 * Math.cos(theta), 12);
     });
+    // A coordinate and the fixed zero are drawn as they are (a support moving along a track).
+    const support = message.points![1]!;
+    expect(support.xName).toBe("theta");
+    expect(Array.from(support.x)).toEqual(Array.from(result.trajectory.coordinates[0]!));
+    expect(support.y.every((v) => v === 0)).toBe(true);
     // Small swing against ω = √(g/l), the linearized pendulum (a fact of the trade).
     expect(message.smallOscillation?.passed).toBe(true);
   });

@@ -1,14 +1,12 @@
-import { apiRoute } from "@/lib/api/route";
+import { auditExport } from "@/lib/api/audit-export";
 import { readOptionalJson } from "@/lib/api/optional-json";
-import { loadDerivationFor } from "@/lib/auth/access";
-import { requireUser } from "@/lib/auth/session";
+import { derivationRoute } from "@/lib/api/resource-route";
 import { documentFromContent } from "@/lib/evaluation/document-content";
 import { downloadResponse } from "@/lib/api/download";
 import { engineCodeLanguage } from "@/lib/evaluation/evaluate";
 import { codeOfDocument } from "@/lib/evaluation/service";
 import { parseOrThrow } from "@/lib/validation/parse";
 import { documentForRequest } from "../content/schema";
-import { derivationIdOf } from "../derivation-id";
 import { codeQuerySchema, codeRequestSchema } from "./schema";
 
 type Params = { id: string };
@@ -17,13 +15,11 @@ type Params = { id: string };
  * Downloads M, f, the accelerations and A, B as code. The engine writes the
  * safety note into the file's comment header.
  */
-export const GET = apiRoute<Params>(async (request, { params }) => {
-  const user = await requireUser();
-  const id = await derivationIdOf(params);
-  const { derivation } = await loadDerivationFor(user, id, "derivation:read");
+export const GET = derivationRoute<Params>("derivation:read", async ({ request, user, derivation }) => {
   const query = parseOrThrow(codeQuerySchema, Object.fromEntries(new URL(request.url).searchParams));
   const document = documentFromContent(derivation.content, derivation.title);
   const code = await codeOfDocument({ document, language: engineCodeLanguage(query.language), fallbackTitle: derivation.title });
+  await auditExport({ actorId: user.id, derivation, format: "code", details: { language: code.language } });
   return downloadResponse(code.source, { filename: code.filename, contentType: "text/plain" });
 });
 
@@ -32,10 +28,7 @@ export const GET = apiRoute<Params>(async (request, { params }) => {
  * language the document's evaluation does not hold. The document is the stored
  * one unless one is posted (unsaved edits); nothing is stored or derived again.
  */
-export const POST = apiRoute<Params>(async (request, { params }) => {
-  const user = await requireUser();
-  const id = await derivationIdOf(params);
-  const { derivation } = await loadDerivationFor(user, id, "derivation:read");
+export const POST = derivationRoute<Params>("derivation:read", async ({ request, derivation }) => {
   const input = parseOrThrow(codeRequestSchema, await readOptionalJson(request));
   const document = documentForRequest(input.document, derivation);
   const code = await codeOfDocument({ document, language: engineCodeLanguage(input.language), fallbackTitle: derivation.title });

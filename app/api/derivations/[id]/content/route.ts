@@ -1,20 +1,15 @@
 import { updateDerivationContentById } from "@/db/queries/derivations";
-import { apiRoute, readJson } from "@/lib/api/route";
-import { loadDerivationFor } from "@/lib/auth/access";
-import { requireUser } from "@/lib/auth/session";
+import { derivationRoute } from "@/lib/api/resource-route";
+import { readJson } from "@/lib/api/route";
 import { AppError } from "@/lib/errors";
 import { validDocumentOrThrow } from "@/lib/evaluation/document-content";
 import { parseOrThrow } from "@/lib/validation/parse";
-import { derivationIdOf } from "../derivation-id";
 import { saveContentSchema } from "./schema";
 
 type Params = { id: string };
 
 /** Autosave target: stores the notebook document; 409 when the row changed since the client's copy. */
-export const PUT = apiRoute<Params>(async (request, { params }) => {
-  const user = await requireUser();
-  const id = await derivationIdOf(params);
-  await loadDerivationFor(user, id, "derivation:edit");
+export const PUT = derivationRoute<Params>("derivation:edit", async ({ request, user, derivation: { id } }) => {
   const input = parseOrThrow(saveContentSchema, await readJson(request));
   const document = validDocumentOrThrow(input.document);
   const saved = await updateDerivationContentById({

@@ -1,30 +1,27 @@
-import { apiRoute } from "@/lib/api/route";
-import { loadDerivationFor } from "@/lib/auth/access";
-import { requireUser } from "@/lib/auth/session";
+import { auditExport } from "@/lib/api/audit-export";
+import { derivationRoute } from "@/lib/api/resource-route";
 import { documentFromContent, modelFromDocument } from "@/lib/evaluation/document-content";
 import { downloadResponse, fileBaseName } from "@/lib/api/download";
 import { evaluateDocumentCached } from "@/lib/evaluation/service";
 import { latexDocument } from "@/lib/evaluation/latex-document";
 import { parseOrThrow } from "@/lib/validation/parse";
-import { derivationIdOf } from "../derivation-id";
 import { exportQuerySchema } from "./schema";
 
 type Params = { id: string };
 
 /** Downloads the derivation as a model file, or its equations as a LaTeX document. */
-export const GET = apiRoute<Params>(async (request, { params }) => {
-  const user = await requireUser();
-  const id = await derivationIdOf(params);
-  const { derivation } = await loadDerivationFor(user, id, "derivation:read");
+export const GET = derivationRoute<Params>("derivation:read", async ({ request, user, derivation }) => {
   const { format } = parseOrThrow(exportQuerySchema, Object.fromEntries(new URL(request.url).searchParams));
   const document = documentFromContent(derivation.content, derivation.title);
   const model = modelFromDocument(document);
   if (!model.title.trim()) model.title = derivation.title;
   const base = fileBaseName(model.title || derivation.title);
   if (format === "model") {
+    await auditExport({ actorId: user.id, derivation, format });
     return downloadResponse(`${JSON.stringify(model, null, 2)}\n`, { filename: `${base}.model.json`, contentType: "application/json" });
   }
   // The equations come from the (cached) evaluation; a model that does not derive is a 422.
   const { result } = await evaluateDocumentCached({ document });
+  await auditExport({ actorId: user.id, derivation, format });
   return downloadResponse(latexDocument(model, result), { filename: `${base}.tex`, contentType: "application/x-tex" });
 });

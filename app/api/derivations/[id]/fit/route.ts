@@ -1,13 +1,11 @@
 import { getFileByIdAndDerivationId } from "@/db/queries/files";
-import { apiRoute, readJson } from "@/lib/api/route";
-import { loadDerivationFor } from "@/lib/auth/access";
+import { derivationRoute } from "@/lib/api/resource-route";
+import { readJson } from "@/lib/api/route";
 import { assertCan } from "@/lib/auth/permissions";
-import { requireUser } from "@/lib/auth/session";
 import { AppError } from "@/lib/errors";
 import { applyFittedValues } from "@/lib/runs/apply-fit";
 import { fitToMeasuredFile } from "@/lib/runs/service";
 import { parseOrThrow } from "@/lib/validation/parse";
-import { derivationIdOf } from "../derivation-id";
 import { fitSchema } from "./schema";
 
 type Params = { id: string };
@@ -18,14 +16,11 @@ type Params = { id: string };
  * measured-against-fitted overlay. With `apply: true` the values are also
  * written to the Parameters cell (lead, or analyst on an unapproved derivation).
  */
-export const POST = apiRoute<Params>(async (request, { params }) => {
-  const user = await requireUser();
-  const id = await derivationIdOf(params);
-  const { derivation, membership } = await loadDerivationFor(user, id, "derivation:simulate");
+export const POST = derivationRoute<Params>("derivation:simulate", async ({ request, user, derivation, membership }) => {
   const input = parseOrThrow(fitSchema, await readJson(request));
   // Refuse before the (long) fit rather than after it.
   if (input.apply) assertCan(membership.role, "derivation:edit", { status: derivation.status });
-  const file = await getFileByIdAndDerivationId({ id: input.fileId, derivationId: id });
+  const file = await getFileByIdAndDerivationId({ id: input.fileId, derivationId: derivation.id });
   if (!file) throw new AppError("not_found:file", "File not found.", { fieldErrors: { fileId: ["No such file on this derivation."] } });
 
   const result = await fitToMeasuredFile({ derivation, request: { ...input, file } });

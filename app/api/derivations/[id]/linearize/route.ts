@@ -1,11 +1,9 @@
-import { apiRoute } from "@/lib/api/route";
-import { loadDerivationFor } from "@/lib/auth/access";
-import { requireUser } from "@/lib/auth/session";
+import { derivationRoute } from "@/lib/api/resource-route";
 import { evaluateDocumentCached } from "@/lib/evaluation/service";
+import type { LinearizationResponse } from "@/lib/evaluation/views";
 import { readOptionalJson } from "@/lib/api/optional-json";
 import { parseOrThrow } from "@/lib/validation/parse";
 import { documentForRequest } from "../content/schema";
-import { derivationIdOf } from "../derivation-id";
 import { linearizeSchema } from "./schema";
 
 type Params = { id: string };
@@ -15,15 +13,12 @@ type Params = { id: string };
  * the same cached evaluation as /evaluate with these settings, answered with
  * its linearization part.
  */
-export const POST = apiRoute<Params>(async (request, { params }) => {
-  const user = await requireUser();
-  const id = await derivationIdOf(params);
-  const { derivation } = await loadDerivationFor(user, id, "derivation:read");
+export const POST = derivationRoute<Params>("derivation:read", async ({ request, derivation }) => {
   const input = parseOrThrow(linearizeSchema, await readOptionalJson(request));
   const document = documentForRequest(input.document, derivation);
   const evaluation = await evaluateDocumentCached({ document, linearization: { equilibriumIndex: input.equilibriumIndex, inputValues: input.inputValues } });
   const { result } = evaluation;
-  return Response.json({
+  const answer: LinearizationResponse = {
     cached: evaluation.cached,
     modelHash: evaluation.modelHash,
     timings: evaluation.timings,
@@ -31,5 +26,6 @@ export const POST = apiRoute<Params>(async (request, { params }) => {
     linearization: result.linearization ?? null,
     equilibria: result.equilibria ?? [],
     ...(result.linearizationNote ? { note: result.linearizationNote } : {}),
-  });
+  };
+  return Response.json(answer);
 });

@@ -1,9 +1,7 @@
 import { downloadResponse, fileBaseName } from "@/lib/api/download";
-import { apiRoute } from "@/lib/api/route";
-import { loadDerivationFor } from "@/lib/auth/access";
-import { requireUser } from "@/lib/auth/session";
+import { auditExport } from "@/lib/api/audit-export";
+import { derivationRoute } from "@/lib/api/resource-route";
 import { recoverModel } from "@/lib/notebook/document";
-import { derivationIdOf } from "../derivation-id";
 
 type Params = { id: string };
 
@@ -13,10 +11,8 @@ type Params = { id: string };
  * values that are not numbers left symbolic. For readable content it is the
  * exported model file.
  */
-export const GET = apiRoute<Params>(async (_request, { params }) => {
-  const user = await requireUser();
-  const id = await derivationIdOf(params);
-  const { derivation } = await loadDerivationFor(user, id, "derivation:read");
+export const GET = derivationRoute<Params>("derivation:read", async ({ user, derivation }) => {
   const { model } = recoverModel(derivation.content, derivation.title);
+  await auditExport({ actorId: user.id, derivation, format: "recovered-model" });
   return downloadResponse(`${JSON.stringify(model, null, 2)}\n`, { filename: `${fileBaseName(model.title)}.recovered.model.json`, contentType: "application/json" });
 });

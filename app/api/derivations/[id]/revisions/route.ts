@@ -1,19 +1,15 @@
 import { createCheckpoint, getLatestRevisionByDerivationId, getRevisionsByDerivationId } from "@/db/queries/revisions";
-import { apiRoute, readJson } from "@/lib/api/route";
-import { loadDerivationFor } from "@/lib/auth/access";
-import { requireUser } from "@/lib/auth/session";
+import { derivationRoute } from "@/lib/api/resource-route";
+import { readJson } from "@/lib/api/route";
 import { AppError } from "@/lib/errors";
 import { contentHash } from "@/lib/history/content-hash";
 import { parseOrThrow } from "@/lib/validation/parse";
 import { checkpointSchema } from "@/lib/validation/review";
-import { derivationIdOf } from "../derivation-id";
 
 type Params = { id: string };
 
 /** The derivation's revisions, newest first, and whether the current content differs from the latest. */
-export const GET = apiRoute<Params>(async (_request, { params }) => {
-  const user = await requireUser();
-  const { derivation } = await loadDerivationFor(user, await derivationIdOf(params), "derivation:read");
+export const GET = derivationRoute<Params>("derivation:read", async ({ derivation }) => {
   const [revisions, latest] = await Promise.all([getRevisionsByDerivationId({ derivationId: derivation.id }), getLatestRevisionByDerivationId({ derivationId: derivation.id })]);
   const currentHash = contentHash(derivation.content);
   return Response.json({
@@ -23,9 +19,7 @@ export const GET = apiRoute<Params>(async (_request, { params }) => {
 });
 
 /** Names the current content as a checkpoint. */
-export const POST = apiRoute<Params>(async (request, { params }) => {
-  const user = await requireUser();
-  const { derivation } = await loadDerivationFor(user, await derivationIdOf(params), "derivation:edit");
+export const POST = derivationRoute<Params>("derivation:edit", async ({ request, user, derivation }) => {
   const { name } = parseOrThrow(checkpointSchema, await readJson(request));
   const result = await createCheckpoint({ derivationId: derivation.id, name, actorId: user.id });
   if (!result.ok) throw new AppError(result.reason === "locked" ? "locked:derivation" : "not_found:derivation");

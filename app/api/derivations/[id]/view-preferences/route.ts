@@ -1,10 +1,8 @@
 import { getViewPreferencesByUserIdAndDerivationId, upsertViewPreferencesByUserIdAndDerivationId } from "@/db/queries/view-preferences";
-import { apiRoute, readJson } from "@/lib/api/route";
-import { loadDerivationFor } from "@/lib/auth/access";
-import { requireUser } from "@/lib/auth/session";
+import { derivationRoute } from "@/lib/api/resource-route";
+import { readJson } from "@/lib/api/route";
 import { readViewPreferences } from "@/lib/notebook/view-preferences";
 import { parseOrThrow } from "@/lib/validation/parse";
-import { derivationIdOf } from "../derivation-id";
 import { saveViewPreferencesSchema, validViewPreferencesOrThrow } from "./schema";
 
 type Params = { id: string };
@@ -13,18 +11,12 @@ type Params = { id: string };
 // simulation settings tried) is theirs, not the document's: whoever may read the
 // derivation may keep one, and keeping it changes nothing others see.
 
-export const GET = apiRoute<Params>(async (_request, { params }) => {
-  const user = await requireUser();
-  const id = await derivationIdOf(params);
-  await loadDerivationFor(user, id, "derivation:read");
+export const GET = derivationRoute<Params>("derivation:read", async ({ user, derivation: { id } }) => {
   const row = await getViewPreferencesByUserIdAndDerivationId({ userId: user.id, derivationId: id });
   return Response.json({ preferences: readViewPreferences(row?.preferences), updatedAt: row?.updatedAt.toISOString() ?? null });
 });
 
-export const PUT = apiRoute<Params>(async (request, { params }) => {
-  const user = await requireUser();
-  const id = await derivationIdOf(params);
-  await loadDerivationFor(user, id, "derivation:read");
+export const PUT = derivationRoute<Params>("derivation:read", async ({ request, user, derivation: { id } }) => {
   const input = parseOrThrow(saveViewPreferencesSchema, await readJson(request));
   const preferences = validViewPreferencesOrThrow(input.preferences);
   const row = await upsertViewPreferencesByUserIdAndDerivationId({ userId: user.id, derivationId: id, preferences: preferences as unknown as Record<string, unknown> });

@@ -1,11 +1,8 @@
 import { acceptInviteByTokenHash } from "@/db/queries/invites";
-import { apiRoute } from "@/lib/api/route";
-import { requireUser } from "@/lib/auth/session";
+import { userRoute } from "@/lib/api/resource-route";
 import { hashToken } from "@/lib/auth/tokens";
 
-export const POST = apiRoute<{ token: string }>(async (_request, { params }) => {
-  const user = await requireUser();
-  const { token } = await params;
+export const POST = userRoute<{ token: string }>(async ({ user, params: { token } }) => {
   const { membership } = await acceptInviteByTokenHash({ tokenHash: hashToken(token), userId: user.id, userEmail: user.email });
   return Response.json({ teamId: membership.teamId, role: membership.role });
 });

@@ -1,34 +1,26 @@
 import { createInvite, getOpenInvitesByTeamId } from "@/db/queries/invites";
 import { getMembersByTeamId } from "@/db/queries/teams";
-import { apiRoute, readJson } from "@/lib/api/route";
-import { loadTeamFor } from "@/lib/auth/access";
-import { requireUser } from "@/lib/auth/session";
+import { teamRoute } from "@/lib/api/resource-route";
+import { readJson } from "@/lib/api/route";
 import { createToken } from "@/lib/auth/tokens";
-import { roleLabels } from "@/lib/domain";
-import { env } from "@/lib/env";
 import { AppError } from "@/lib/errors";
-import { absoluteUrl } from "@/lib/links";
-import { composeLinkMail, sendMail } from "@/lib/mailer";
 import { parseOrThrow } from "@/lib/validation/parse";
+import { inviteView } from "@/lib/teams/views";
 import { inviteMemberSchema } from "@/lib/validation/teams";
+import { deliverInvite, inviteExpiry } from "./invite-mail";
 
 type Params = { teamId: string };
 
-export const GET = apiRoute<Params>(async (_request, { params }) => {
-  const user = await requireUser();
-  const teamId = (await params).teamId;
-  await loadTeamFor(user, teamId, "team:invite");
+export const GET = teamRoute<Params>("team:invite", async ({ params: { teamId } }) => {
   const invites = await getOpenInvitesByTeamId({ teamId });
-  return Response.json({
-    invites: invites.map(({ id, email, role, expiresAt, createdAt }) => ({ id, email, role, expiresAt, createdAt })),
-  });
+  return Response.json({ invites: invites.map(inviteView) });
 });
 
-/** Invites someone by e-mail; the link in the message lets them join with the chosen role. */
-export const POST = apiRoute<Params>(async (request, { params }) => {
-  const user = await requireUser();
-  const teamId = (await params).teamId;
-  const { team } = await loadTeamFor(user, teamId, "team:invite");
+/**
+ * Invites someone by e-mail; the link in the message lets them join with the
+ * chosen role. Inviting an address again replaces its open invitation.
+ */
+export const POST = teamRoute<Params>("team:invite", async ({ request, params: { teamId }, user, team }) => {
   const input = parseOrThrow(inviteMemberSchema, await readJson(request));
   const members = await getMembersByTeamId({ teamId });
   if (members.some((member) => member.email === input.email.toLowerCase())) {
@@ -43,21 +35,8 @@ export const POST = apiRoute<Params>(async (request, { params }) => {
     role: input.role,
     tokenHash,
     invitedById: user.id,
-    expiresAt: new Date(Date.now() + env.INVITE_TTL_HOURS * 3_600_000),
-    deliver: (stored) =>
-      sendMail(
-        composeLinkMail({
-          to: stored.email,
-          subject: `${user.name} invited you to ${team.name} on Holonomy`,
-          intro: `${user.name} invited you to join ${team.name} on Holonomy as ${roleLabels[stored.role].toLowerCase()}.`,
-          linkLabel: "Accept the invitation",
-          link: absoluteUrl(`/invite/${token}`),
-          footnote: `The link works once and expires in ${env.INVITE_TTL_HOURS} hours.`,
-        }),
-      ),
+    expiresAt: inviteExpiry(),
+    deliver: deliverInvite({ inviter: user, team, token }),
   });
-  return Response.json(
-    { invite: { id: invite.id, email: invite.email, role: invite.role, expiresAt: invite.expiresAt } },
-    { status: 201 },
-  );
+  return Response.json({ invite: inviteView(invite), replaced: invite.replaced }, { status: 201 });
 });

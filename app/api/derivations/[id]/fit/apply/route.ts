@@ -1,18 +1,13 @@
-import { apiRoute, readJson } from "@/lib/api/route";
-import { loadDerivationFor } from "@/lib/auth/access";
-import { requireUser } from "@/lib/auth/session";
+import { derivationRoute } from "@/lib/api/resource-route";
+import { readJson } from "@/lib/api/route";
 import { applyFittedValues } from "@/lib/runs/apply-fit";
 import { parseOrThrow } from "@/lib/validation/parse";
-import { derivationIdOf } from "../../derivation-id";
 import { applyFitSchema } from "./schema";
 
 type Params = { id: string };
 
 /** Writes fitted values into the Parameters cell of the stored document (recorded in the audit log). */
-export const POST = apiRoute<Params>(async (request, { params }) => {
-  const user = await requireUser();
-  const id = await derivationIdOf(params);
-  const { derivation } = await loadDerivationFor(user, id, "derivation:edit");
+export const POST = derivationRoute<Params>("derivation:edit", async ({ request, user, derivation }) => {
   const input = parseOrThrow(applyFitSchema, await readJson(request));
   const applied = await applyFittedValues({
     derivation,

@@ -1,13 +1,11 @@
 import { createDerivation } from "@/db/queries/derivations";
 import { formDataOf, readBodyWithin } from "@/lib/api/body";
-import { apiRoute } from "@/lib/api/route";
-import { loadTeamFor } from "@/lib/auth/access";
-import { requireUser } from "@/lib/auth/session";
-import { modelErrorToAppError, validDocumentOrThrow } from "@/lib/evaluation/document-content";
+import { beginCreateOnce, createdResponse, requestFingerprint } from "@/lib/api/idempotency";
+import { teamRoute } from "@/lib/api/resource-route";
+import { modelIssuesToAppError, validDocumentOrThrow } from "@/lib/evaluation/document-content";
 import { engineErrorToAppError } from "@/lib/evaluation/service";
 import { getEnginePool } from "@/lib/workers/engine-pool";
-import { ModelError } from "@/lib/mechanics/errors";
-import { validateModel } from "@/lib/mechanics/validate-model";
+import { collectModelIssues, readModelFile } from "@/lib/mechanics";
 import { AppError } from "@/lib/errors";
 import { parseOrThrow } from "@/lib/validation/parse";
 import { importOptionsSchema, MAX_MODEL_FILE_LENGTH } from "./schema";
@@ -61,28 +59,15 @@ async function readUpload(request: Request): Promise<{ text: string; title?: str
  * (schema with field and reason, then units) before anything is written, and
  * the derivation is created in one transaction.
  */
-export const POST = apiRoute<Params>(async (request, { params }) => {
-  const user = await requireUser();
-  const teamId = (await params).teamId;
-  await loadTeamFor(user, teamId, "derivation:create");
+export const POST = teamRoute<Params>("derivation:create", async ({ request, params: { teamId }, user }) => {
   const upload = await readUpload(request);
-  let raw: unknown;
-  if ("text" in upload) {
-    try {
-      raw = JSON.parse(upload.text);
-    } catch (error) {
-      throw fileProblem(`not JSON (${error instanceof Error ? error.message : "parse error"})`);
-    }
-  } else raw = upload.model;
+  // A repeated request with the same Idempotency-Key answers with the first import, before any checking.
+  const fingerprint = requestFingerprint(teamId, "text" in upload ? upload.text : JSON.stringify(upload.model ?? null), upload.title ?? "");
+  const once = await beginCreateOnce({ request, userId: user.id, operation: "derivation.import", fingerprint });
+  if (once.earlier) return createdResponse({ derivation: once.earlier, replayed: true });
   const options = parseOrThrow(importOptionsSchema, { title: upload.title });
-
-  let model;
-  try {
-    model = validateModel(raw);
-  } catch (error) {
-    if (error instanceof ModelError) throw modelErrorToAppError(error);
-    throw error;
-  }
+  const { model, issues } = "text" in upload ? readModelFile(upload.text) : collectModelIssues(upload.model);
+  if (!model) throw modelIssuesToAppError(issues);
   try {
     await getEnginePool().run("checkUnits", { model });
   } catch (error) {
@@ -91,6 +76,5 @@ export const POST = apiRoute<Params>(async (request, { params }) => {
   const title = (options.title ?? model.title).trim().slice(0, 160) || "Imported derivation";
   // The model file is the oldest stored version: the migrations turn it into a notebook document.
   const document = validDocumentOrThrow({ ...model, title }, { field: "file" });
-  const derivation = await createDerivation({ teamId, title, ownerId: user.id, content: document });
-  return Response.json({ derivation }, { status: 201 });
+  return createdResponse(await once.create((idempotency) => createDerivation({ teamId, title, ownerId: user.id, content: document, idempotency })));
 });

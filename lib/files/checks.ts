@@ -3,7 +3,7 @@
  * (from its first bytes, never from the name or the browser's claim), and
  * whether a measured-data CSV reads against the derivation's coordinates.
  */
-import { parseMeasuredCsv } from "../simulate/measured";
+import { parseMeasuredCsv } from "@/lib/simulate/measured";
 import type { MeasuredFileSummary } from "@/db/schema";
 
 export type ImageType = "image/png" | "image/jpeg" | "image/webp";
@@ -62,11 +62,4 @@ export function summariseMeasuredCsv(text: string, coordinates: readonly { name:
     rowCount: data.times.length,
     timeSpan: { start: data.times[0]!, end: data.times[data.times.length - 1]! },
   };
-}
-
-/** A file name safe to echo in a Content-Disposition header (no path, no quotes or control characters). */
-export function safeFileName(name: string, fallback: string): string {
-  const base = name.split(/[\\/]/).pop() ?? "";
-  const cleaned = base.replace(/[^\w.\- ()]+/g, "_").replace(/^\.+/, "").slice(0, 120).trim();
-  return cleaned === "" ? fallback : cleaned;
 }

@@ -1,6 +1,7 @@
 import { describe, expect, it } from "vitest";
 import { MeasuredDataError } from "@/lib/simulate/errors";
-import { decodeCsv, imageTypeOf, looksLikeMarkup, safeFileName, summariseMeasuredCsv, UploadError } from "@/lib/runs/uploads";
+import { decodeCsv, imageTypeOf, looksLikeMarkup, summariseMeasuredCsv, UploadError } from "@/lib/files/checks";
+import { safeFileName } from "@/lib/files/names";
 
 const bytes = (...values: number[]) => Uint8Array.from(values);
 const text = (value: string) => new TextEncoder().encode(value);

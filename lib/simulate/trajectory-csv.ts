@@ -1,0 +1,45 @@
+/**
+ * A trajectory as CSV in the measured-data format (measured.ts): the header
+ * cells are `name [unit]`, time first, then each coordinate, each rate and
+ * the energy function when there is one. So an exported run can be uploaded
+ * again as measured data. Dependency-free, for the server's run download and
+ * the notebook's browser runs alike.
+ */
+
+/** The columns of a trajectory, from a stored run or a run in the browser. */
+export interface TrajectoryColumns {
+  coordinateNames: readonly string[];
+  times: ArrayLike<number>;
+  coordinates: readonly ArrayLike<number>[];
+  rates: readonly ArrayLike<number>[];
+  energy: ArrayLike<number> | null;
+}
+
+/**
+ * One row per output time. Numbers are written in full (shortest round-trip
+ * form), so re-reading gives the same values; a coordinate without a unit is
+ * written `[1]`, as the measured-data format asks of a dimensionless one.
+ *
+ * @example trajectoryCsv(run, { theta: "rad" }) // "t [s],theta [rad],theta' [rad/s]\n0,0.2,0\n…"
+ */
+export function trajectoryCsv(trajectory: TrajectoryColumns, coordinateUnits: Readonly<Record<string, string>> = {}): string {
+  const unitOf = (name: string) => coordinateUnits[name]?.trim() || "1";
+  // `*` and `/` associate to the left, so appending "/s" divides the whole unit.
+  const rateUnit = (name: string) => (unitOf(name) === "1" ? "1/s" : `${unitOf(name)}/s`);
+  const header = [
+    "t [s]",
+    ...trajectory.coordinateNames.map((name) => `${name} [${unitOf(name)}]`),
+    ...trajectory.coordinateNames.map((name) => `${name}' [${rateUnit(name)}]`),
+    ...(trajectory.energy ? ["energy [J]"] : []),
+  ];
+  const lines = [header.join(",")];
+  const cell = (value: number | null | undefined) => (value === null || value === undefined || !Number.isFinite(value) ? "" : String(value));
+  for (let k = 0; k < trajectory.times.length; k++) {
+    const row = [cell(trajectory.times[k])];
+    for (const column of trajectory.coordinates) row.push(cell(column[k]));
+    for (const column of trajectory.rates) row.push(cell(column[k]));
+    if (trajectory.energy) row.push(cell(trajectory.energy[k]));
+    lines.push(row.join(","));
+  }
+  return `${lines.join("\n")}\n`;
+}
