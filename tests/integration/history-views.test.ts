@@ -1,4 +1,3 @@
-import { execFileSync } from "node:child_process";
 import { afterAll, beforeAll, beforeEach, describe, expect, it, vi } from "vitest";
 
 vi.mock("@/lib/auth/session", async () => (await import("./support/session")).sessionModule);
@@ -65,10 +64,9 @@ async function reload(id: string): Promise<Derivation> {
 }
 
 beforeAll(async () => {
-  execFileSync("npm", ["run", "--silent", "build:workers"], { stdio: "inherit" });
   await resetDatabase();
   kestrel = await makeTeam("Kestrel history bay");
-}, 120_000);
+});
 beforeEach(() => signOut());
 afterAll(async () => {
   await closeEnginePool();
