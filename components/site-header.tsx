@@ -1,13 +1,14 @@
 import Link from "next/link";
 import { Brand } from "./brand";
 import { HelpButton } from "./help-button";
+import { NotificationsMenu } from "./notifications/notifications-menu";
 import { SignOutButton } from "./sign-out-button";
 import { TeamSwitcher, type TeamOption } from "./team-switcher";
 import { ThemeToggle } from "./theme-toggle";
 
 export function SiteHeader({ user, teams, showMailbox }: { user: { name: string; email: string }; teams: TeamOption[]; showMailbox: boolean }) {
   return (
-    <header className="border-b border-line bg-surface/90 backdrop-blur">
+    <header className="border-b border-line bg-surface/90 backdrop-blur print:hidden">
       <div className="mx-auto flex max-w-6xl flex-wrap items-center gap-x-4 gap-y-2 px-6 py-2.5">
         <Brand href="/teams" />
         <TeamSwitcher teams={teams} />
@@ -17,6 +18,7 @@ export function SiteHeader({ user, teams, showMailbox }: { user: { name: string;
               Mailbox
             </Link>
           ) : null}
+          <NotificationsMenu />
           <ThemeToggle />
           <HelpButton />
           <span className="hidden px-2 text-sm text-muted sm:inline" data-testid="signed-in-user" title={user.email}>

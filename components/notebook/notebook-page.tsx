@@ -11,7 +11,8 @@
 import { useQuery } from "@tanstack/react-query";
 import clsx from "clsx";
 import Link from "next/link";
-import { useCallback, useEffect, useMemo, useRef, useState } from "react";
+import { useCallback, useEffect, useMemo, useRef, useState, type ReactNode } from "react";
+import { ReviewSyncProvider } from "@/components/review/review-sync";
 import { useShortcut, useShortcutHelp } from "@/components/shortcuts";
 import { Button } from "@/components/ui/button";
 import { StatusBadge } from "@/components/ui/status-badge";
@@ -54,6 +55,8 @@ export interface NotebookPageProps {
   /** The server's upload limits, stated and applied where files are chosen. */
   uploadLimits?: UploadLimits;
   rowTitle: string;
+  /** The review area (lock banner, review panel), shown under the header and kept in step with autosave. */
+  review?: ReactNode;
 }
 
 interface DerivationRecord {
@@ -376,6 +379,12 @@ export function NotebookPage(props: NotebookPageProps) {
           </div>
         </div>
       </header>
+
+      {props.review ? (
+        <ReviewSyncProvider derivationId={derivationId} canEdit={canEdit} autosave={autosave} document={doc}>
+          {props.review}
+        </ReviewSyncProvider>
+      ) : null}
 
       {!canEdit ? (
         readOnlyReason === "approved" ? (

@@ -1,6 +1,7 @@
 import type { Metadata } from "next";
 import { CurrentTeam } from "@/components/current-team";
 import { NotebookPage } from "@/components/notebook/notebook-page";
+import { DerivationReview } from "@/components/review/derivation-review";
 import { UnreadableContent } from "@/components/notebook/unreadable-content";
 import { getTeamById } from "@/db/queries/teams";
 import { getViewPreferencesByUserIdAndDerivationId } from "@/db/queries/view-preferences";
@@ -11,6 +12,7 @@ import { roleLabels } from "@/lib/domain";
 import { env } from "@/lib/env";
 import { parseStoredDocument, recoverModel } from "@/lib/notebook/document";
 import { readViewPreferences } from "@/lib/notebook/view-preferences";
+import { reviewPanelData } from "@/lib/review/panel-data";
 
 export const metadata: Metadata = { title: "Derivation" };
 
@@ -19,7 +21,11 @@ export default async function DerivationPage({ params }: { params: Promise<{ id:
   const { id } = await params;
   const user = await requirePageUser(`/derivations/${id}`);
   const { derivation, membership } = await orNotFound(() => loadDerivationFor(user, id, "derivation:read"));
-  const [team, view] = await Promise.all([getTeamById({ id: derivation.teamId }), getViewPreferencesByUserIdAndDerivationId({ userId: user.id, derivationId: derivation.id })]);
+  const [team, view, review] = await Promise.all([
+    getTeamById({ id: derivation.teamId }),
+    getViewPreferencesByUserIdAndDerivationId({ userId: user.id, derivationId: derivation.id }),
+    reviewPanelData({ derivation, membership, userId: user.id }),
+  ]);
   const stored = parseStoredDocument(derivation.content, { title: derivation.title });
   if (!stored.ok) {
     // Content this version cannot read: say what is wrong and offer what can be saved, never a 500.
@@ -59,6 +65,7 @@ export default async function DerivationPage({ params }: { params: Promise<{ id:
       initialUpdatedAt={derivation.updatedAt.toISOString()}
       rowTitle={derivation.title}
         uploadLimits={{ csvBytes: env.UPLOAD_MAX_CSV_BYTES, imageBytes: env.UPLOAD_MAX_IMAGE_BYTES }}
+        review={<DerivationReview data={review} />}
       />
     </>
   );

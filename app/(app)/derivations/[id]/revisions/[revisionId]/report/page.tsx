@@ -1,0 +1,47 @@
+import "katex/dist/katex.min.css";
+import "@/components/notebook/notebook.css";
+import "./report.css";
+import type { Metadata } from "next";
+import Link from "next/link";
+import { PrintButton } from "@/components/report/report-client";
+import { ReportView } from "@/components/report/report-view";
+import { getTeamById } from "@/db/queries/teams";
+import { loadDerivationFor, orNotFound, uuidPattern } from "@/lib/auth/access";
+import { requirePageUser } from "@/lib/auth/session";
+import { AppError } from "@/lib/errors";
+import { revisionReport } from "@/lib/history/views";
+
+export const metadata: Metadata = { title: "Derivation report" };
+
+/** The printable report of one revision: the browser prints it or saves it as PDF. */
+export default async function RevisionReportPage({ params }: { params: Promise<{ id: string; revisionId: string }> }) {
+  const { id, revisionId } = await params;
+  const user = await requirePageUser(`/derivations/${id}/revisions/${revisionId}/report`);
+  const { derivation } = await orNotFound(() => loadDerivationFor(user, id, "derivation:read"));
+  const [team, report] = await Promise.all([
+    getTeamById({ id: derivation.teamId }),
+    orNotFound(() => {
+      if (!uuidPattern.test(revisionId)) throw new AppError("not_found:revision", "No such revision of this derivation.");
+      return revisionReport(derivation, revisionId);
+    }),
+  ]);
+
+  return (
+    <div className="mx-auto max-w-4xl space-y-4">
+      <nav className="flex flex-wrap items-center gap-3 text-sm print:hidden" aria-label="Report">
+        <Link href={`/derivations/${derivation.id}`} className="text-action hover:underline">
+          ← Notebook
+        </Link>
+        <Link href={`/derivations/${derivation.id}/history`} className="text-action hover:underline">
+          History
+        </Link>
+        <span className="ml-auto">
+          <PrintButton />
+        </span>
+      </nav>
+      <div className="rounded border border-line bg-surface p-5 sm:p-8 print:border-0 print:p-0">
+        <ReportView report={report} title={derivation.title} teamName={team?.name ?? ""} generatedAt={new Date().toISOString()} />
+      </div>
+    </div>
+  );
+}

@@ -1,0 +1,478 @@
+/**
+ * The printable derivation report of one revision (server-rendered). Sections
+ * follow the analyst's work: the model, the equations, what is conserved, the
+ * linearization, the checks and stored runs, review and approval, and the
+ * safety note. Comment threads get a section once the product has them.
+ */
+import type { ReactNode } from "react";
+import { renderLatex } from "@/components/notebook/katex-render";
+import { safetyNote } from "@/lib/domain";
+import { formatRecordTime } from "@/lib/history/format";
+import { revisionKindLabels, type ReportRun, type RevisionReport } from "@/lib/history/views";
+import { symbolLatex, toLatex } from "@/lib/mechanics";
+import type { DerivationDocument, RowOf, TableCell, TableKind } from "@/lib/notebook/document";
+import { ReportNote } from "./report-client";
+import { SeriesChart } from "./run-plot";
+
+function Tex({ latex, display = false }: { latex: string; display?: boolean }) {
+  const html = renderLatex(latex, display);
+  return display ? <div className="hn-math-display" dangerouslySetInnerHTML={{ __html: html }} /> : <span dangerouslySetInnerHTML={{ __html: html }} />;
+}
+
+/** An expression the analyst typed, typeset; as text when it does not parse. */
+function Expression({ text, display = false }: { text: string; display?: boolean }) {
+  let latex: string | null;
+  try {
+    latex = toLatex(text);
+  } catch {
+    latex = null;
+  }
+  return latex === null ? <code className="font-mono text-sm">{text}</code> : <Tex latex={latex} display={display} />;
+}
+
+export function formatValue(value: number): string {
+  if (!Number.isFinite(value)) return String(value);
+  if (value === 0) return "0";
+  const size = Math.abs(value);
+  if (size >= 1e6 || size < 1e-3) return value.toExponential(3);
+  return String(Number(value.toPrecision(6)));
+}
+
+function Section({ number, title, children, id }: { number: number; title: string; children: ReactNode; id: string }) {
+  return (
+    <section className="hn-report-section space-y-3" aria-labelledby={id} data-testid={id}>
+      <h2 id={id} className="border-b border-line pb-1 text-lg font-semibold">
+        <span className="mr-2 font-mono text-muted">{number}</span> {title}
+      </h2>
+      {children}
+    </section>
+  );
+}
+
+function Table({ head, rows, label }: { head: string[]; rows: ReactNode[][]; label: string }) {
+  return (
+    <div className="hn-report-table overflow-x-auto">
+      <table className="w-full border-collapse text-sm" aria-label={label}>
+        <thead>
+          <tr className="border-b border-line text-left text-xs text-muted">
+            {head.map((cell) => (
+              <th key={cell} scope="col" className="py-1 pr-3 font-medium">
+                {cell}
+              </th>
+            ))}
+          </tr>
+        </thead>
+        <tbody>
+          {rows.map((row, index) => (
+            <tr key={index} className="border-b border-line/60 align-top">
+              {row.map((cell, k) => (
+                <td key={k} className="py-1 pr-3">
+                  {cell}
+                </td>
+              ))}
+            </tr>
+          ))}
+        </tbody>
+      </table>
+    </div>
+  );
+}
+
+function rowsOf<K extends TableKind>(document: DerivationDocument, kind: K): RowOf<K>[] {
+  return document.cells.flatMap((cell) => (cell.kind === kind ? ((cell as TableCell).rows as RowOf<K>[]) : [])).filter((row) => row.name.trim() !== "");
+}
+
+function expressionOf(document: DerivationDocument, kind: "kinetic" | "potential" | "dissipation"): string {
+  for (const cell of document.cells) if (cell.kind === kind) return cell.expr.trim();
+  return "";
+}
+
+function ModelSection({ document }: { document: DerivationDocument }) {
+  const coordinates = rowsOf(document, "coordinates");
+  const parameters = rowsOf(document, "parameters");
+  const inputs = rowsOf(document, "inputs");
+  const definitions = rowsOf(document, "definitions");
+  const forces = document.cells.flatMap((cell) => (cell.kind === "forces" ? cell.entries.filter((entry) => entry.expr.trim() !== "") : []));
+  const notes = document.cells.flatMap((cell) => (cell.kind === "note" && cell.markdown.trim() ? [cell] : []));
+  const energies = [
+    { label: "Kinetic energy", symbol: "T", text: expressionOf(document, "kinetic") },
+    { label: "Potential energy", symbol: "V", text: expressionOf(document, "potential") },
+    { label: "Dissipation function", symbol: "D", text: expressionOf(document, "dissipation") },
+  ].filter((entry) => entry.text !== "");
+  return (
+    <Section number={1} title="Model" id="report-model">
+      {notes.length > 0 ? (
+        <div className="space-y-2 text-sm">
+          {notes.map((note) => (
+            <ReportNote key={note.id} markdown={note.markdown} />
+          ))}
+        </div>
+      ) : null}
+      <h3 className="font-semibold">Generalized coordinates</h3>
+      <Table
+        label="Generalized coordinates"
+        head={["Coordinate", "Unit", "Description"]}
+        rows={coordinates.map((row) => [<Tex key="s" latex={symbolLatex(row.name)} />, row.unit, row.description])}
+      />
+      <h3 className="font-semibold">Parameters</h3>
+      {parameters.length === 0 ? (
+        <p className="text-sm text-muted">None.</p>
+      ) : (
+        <Table
+          label="Parameters"
+          head={["Parameter", "Value", "Unit", "Description"]}
+          rows={parameters.map((row) => [<Tex key="s" latex={symbolLatex(row.name)} />, row.value.trim() || <span className="text-muted">symbolic</span>, row.unit, row.description])}
+        />
+      )}
+      {inputs.length > 0 ? (
+        <>
+          <h3 className="font-semibold">Inputs</h3>
+          <Table label="Inputs" head={["Input", "Unit", "Description"]} rows={inputs.map((row) => [<Tex key="s" latex={symbolLatex(row.name)} />, row.unit, row.description])} />
+        </>
+      ) : null}
+      {definitions.length > 0 ? (
+        <>
+          <h3 className="font-semibold">Definitions</h3>
+          <ul className="space-y-1">
+            {definitions.map((row) => (
+              <li key={row.id} className="flex flex-wrap items-baseline gap-x-2">
+                <Tex latex={`${symbolLatex(row.name)} =`} /> <Expression text={row.expr} />
+                {row.description ? <span className="text-xs text-muted">{row.description}</span> : null}
+              </li>
+            ))}
+          </ul>
+        </>
+      ) : null}
+      <h3 className="font-semibold">Energies and dissipation</h3>
+      <ul className="space-y-1">
+        {energies.map((entry) => (
+          <li key={entry.symbol} className="flex flex-wrap items-baseline gap-x-2">
+            <span className="w-44 shrink-0 text-sm text-muted">{entry.label}</span>
+            <Tex latex={`${entry.symbol} =`} /> <Expression text={entry.text} />
+          </li>
+        ))}
+      </ul>
+      <h3 className="font-semibold">Generalized forces</h3>
+      {forces.length === 0 ? (
+        <p className="text-sm text-muted">None beyond the potential and the dissipation function.</p>
+      ) : (
+        <ul className="space-y-1">
+          {forces.map((entry) => (
+            <li key={entry.coordinate} className="flex flex-wrap items-baseline gap-x-2">
+              <Tex latex={`Q_{${symbolLatex(entry.coordinate)}} =`} /> <Expression text={entry.expr} />
+            </li>
+          ))}
+        </ul>
+      )}
+    </Section>
+  );
+}
+
+function matrixLatex(rows: number[][]): string {
+  return `\\begin{bmatrix}${rows.map((row) => row.map(formatValue).join(" & ")).join(" \\\\ ")}\\end{bmatrix}`;
+}
+
+function stateLatex(name: string): string {
+  const order = (name.match(/'/g)?.length ?? 0) as 0 | 1 | 2;
+  return symbolLatex(name.replace(/'+$/, ""), order);
+}
+
+/** Coordinate names from the state names [q; q']. */
+function coordinatesOf(stateNames: readonly string[]): string[] {
+  return stateNames.filter((name) => !name.endsWith("'"));
+}
+
+function runSettingsText(settings: Record<string, unknown>): string[] {
+  const numbers = (value: unknown) =>
+    value && typeof value === "object"
+      ? Object.entries(value as Record<string, unknown>)
+          .map(([name, v]) => `${name} = ${typeof v === "number" ? formatValue(v) : String(v)}`)
+          .join(", ")
+      : "";
+  const lines = [`t from ${formatValue(Number(settings.startTime ?? 0))} s to ${formatValue(Number(settings.endTime))} s, output every ${formatValue(Number(settings.outputStep))} s`];
+  const initial = numbers(settings.initialCoordinates);
+  if (initial) lines.push(`initial coordinates: ${initial}`);
+  const rates = numbers(settings.initialRates);
+  if (rates) lines.push(`initial rates: ${rates}`);
+  const parameters = numbers(settings.parameters);
+  if (parameters) lines.push(`parameters set for this run: ${parameters}`);
+  const inputs = settings.inputs && typeof settings.inputs === "object" ? Object.entries(settings.inputs as Record<string, string>).map(([name, expr]) => `${name}(t) = ${expr}`) : [];
+  if (inputs.length > 0) lines.push(`inputs: ${inputs.join(", ")}`);
+  return lines;
+}
+
+function RunBlock({ run, index }: { run: ReportRun; index: number }) {
+  return (
+    <article className="hn-report-run space-y-2 rounded border border-line p-3" data-testid="report-run">
+      <h3 className="font-semibold">
+        Run {index + 1}
+        {run.label ? `: ${run.label}` : ""}
+        <span className="ml-2 text-sm font-normal text-muted">
+          {run.createdByName ?? "a former member"}, {formatRecordTime(run.createdAt)}
+        </span>
+      </h3>
+      <ul className="text-sm">
+        {runSettingsText(run.settings).map((line) => (
+          <li key={line}>{line}</li>
+        ))}
+        <li>
+          {run.status === "completed" ? `Completed: ${run.pointCount} output points.` : `Failed at t = ${formatValue(run.timeReached)} s: ${run.failureMessage ?? "no reason recorded"}.`}
+          {run.energyCheck
+            ? ` Energy function drift ${run.energyCheck.relativeDrift.toExponential(2)} (limit ${run.energyCheck.threshold.toExponential(0)})${run.energyCheck.warning ? ": above the limit." : "."}`
+            : ""}
+        </li>
+      </ul>
+      {run.trajectory ? (
+        <div className="grid gap-2 md:grid-cols-2 print:grid-cols-2">
+          {run.trajectory.coordinateNames.map((name, i) => (
+            <SeriesChart key={name} times={run.trajectory!.times} values={run.trajectory!.coordinates[i] ?? []} label={name} unit={run.coordinateUnits[name] ?? ""} />
+          ))}
+        </div>
+      ) : (
+        <p className="text-sm text-muted">The trajectory of this run is not available.</p>
+      )}
+    </article>
+  );
+}
+
+export function ReportView({ report, title, teamName, generatedAt }: { report: RevisionReport; title: string; teamName: string; generatedAt: string }) {
+  const { revision, evaluation, document } = report;
+  const result = evaluation.ok ? evaluation.result : null;
+  const current = report.approvals.find((approval) => approval.unlockedAt === null);
+  const selected = result?.linearization?.selected;
+  const equilibrium = selected ? result?.linearization?.equilibria[selected.index] : undefined;
+  const oscillating = selected?.modes.filter((mode) => mode.kind === "oscillating") ?? [];
+  const energyRuns = report.runs.filter((run) => run.energyCheck);
+
+  return (
+    <article className="hn-report space-y-8" data-testid="report">
+      <header className="space-y-3 border-b-2 border-ink pb-4">
+        <p className="text-xs tracking-wide text-muted uppercase">Derivation report · {teamName}</p>
+        <h1 className="text-3xl font-semibold" data-testid="report-title">
+          {revision.title || title}
+        </h1>
+        <dl className="grid gap-x-6 gap-y-1 text-sm sm:grid-cols-[auto_1fr]">
+          <dt className="text-muted">Revision</dt>
+          <dd data-testid="report-revision">
+            {revision.number} — {revision.name ?? revisionKindLabels[revision.kind]}, {formatRecordTime(revision.createdAt)}
+            {revision.authorNames.length > 0 ? `; changes by ${revision.authorNames.join(", ")}` : ""}
+          </dd>
+          <dt className="text-muted">Content hash</dt>
+          <dd className="font-mono text-xs break-all" data-testid="report-hash">
+            SHA-256 {revision.contentHash}
+          </dd>
+          <dt className="text-muted">Status</dt>
+          <dd>
+            {current ? (
+              <span className="font-semibold text-seal">
+                Approved by {current.approvedByName ?? "a former member"}, {formatRecordTime(current.approvedAt)}
+              </span>
+            ) : report.approvals.length > 0 ? (
+              "Approved earlier, since unlocked (see section 7)"
+            ) : (
+              "Not approved"
+            )}
+          </dd>
+          <dt className="text-muted">Printed from</dt>
+          <dd>
+            Holonomy, {formatRecordTime(generatedAt)}
+            {evaluation.ok ? `; engine ${evaluation.engineVersion}` : ""}
+          </dd>
+        </dl>
+        {report.changedSince ? (
+          <p className="rounded border border-line bg-sunken px-3 py-1.5 text-sm" data-testid="report-changed-since">
+            The derivation has changed since this revision. This report shows revision {revision.number} as it was saved.
+          </p>
+        ) : null}
+      </header>
+
+      <ModelSection document={document} />
+
+      <Section number={2} title="Equations of motion" id="report-equations">
+        {!result ? (
+          <p className="text-sm text-danger" role="alert">
+            The engine could not derive this revision: {evaluation.ok ? "" : evaluation.message}
+          </p>
+        ) : (
+          <>
+            <p className="text-sm text-muted">Euler–Lagrange equations, one per coordinate (residual form):</p>
+            {result.equations.map((equation) => (
+              <Tex key={equation.coordinate} latex={equation.latex} display />
+            ))}
+            <p className="text-sm text-muted">
+              In mass-matrix form <Tex latex="M(q)\,\ddot q = f(q, \dot q, t, u)" />:
+            </p>
+            {result.massMatrixLatex ? <Tex latex={result.massMatrixLatex} display /> : null}
+          </>
+        )}
+      </Section>
+
+      <Section number={3} title="Conserved quantities" id="report-conserved">
+        {!result ? (
+          <p className="text-sm text-muted">Not available without the equations.</p>
+        ) : (
+          <>
+            {result.energyLatex ? (
+              <div>
+                <p className="text-sm text-muted">Energy function:</p>
+                <Tex latex={`h = ${result.energyLatex}`} display />
+              </div>
+            ) : null}
+            {(result.conserved ?? []).length === 0 ? (
+              <p className="text-sm">No quantity is conserved for this model as it stands.</p>
+            ) : (
+              <ul className="space-y-2">
+                {(result.conserved ?? []).map((quantity) => (
+                  <li key={quantity.name}>
+                    <p className="text-sm font-medium">{quantity.name}</p>
+                    <Tex latex={quantity.latex} display />
+                    <p className="text-xs text-muted">{quantity.reason}</p>
+                  </li>
+                ))}
+              </ul>
+            )}
+            {result.energyNotConserved ? <p className="text-sm">The energy function is not conserved: {result.energyNotConserved}</p> : null}
+            {(result.cyclicMomenta ?? []).length > 0 ? (
+              <div className="space-y-1">
+                <p className="text-sm text-muted">Cyclic coordinates, their momenta and momentum balance:</p>
+                {(result.cyclicMomenta ?? []).map((entry) => (
+                  <div key={entry.coordinate}>
+                    <Tex latex={entry.rateLatex} display />
+                    <p className="text-xs text-muted">{entry.conserved ? "Conserved: nothing acts on it." : `Acted on by ${entry.actedOnBy.join(", ")}.`}</p>
+                  </div>
+                ))}
+              </div>
+            ) : null}
+          </>
+        )}
+      </Section>
+
+      <Section number={4} title="Linearization and natural frequencies" id="report-linearization">
+        {!selected ? (
+          <p className="text-sm">{result?.linearizationNote ?? "No linearization for this revision."}</p>
+        ) : (
+          <>
+            <p className="text-sm" data-testid="report-stability">
+              About {equilibrium?.label ?? `equilibrium ${selected.index + 1}`}: <strong>{selected.stability}</strong>. {selected.stabilityReason}
+            </p>
+            {selected.modes.length > 0 ? (
+              <Table
+                label="Modes"
+                head={["Mode", "Natural frequency [Hz]", "Damped [Hz], ζ", `Shape (${coordinatesOf(selected.stateNames).join(", ")})`]}
+                rows={selected.modes.map((mode, k) => [
+                  String(k + 1),
+                  mode.kind === "oscillating" ? formatValue(mode.hertz!) : mode.kind === "rigid" ? "0 (rigid)" : `growing, exp(${formatValue(mode.growthRate!)}·t)`,
+                  mode.eigenvalue ? `${formatValue(mode.eigenvalue.im / (2 * Math.PI))}, ζ = ${formatValue(Number((-mode.eigenvalue.re / Math.hypot(mode.eigenvalue.re, mode.eigenvalue.im)).toPrecision(3)))}` : "—",
+                  mode.shape.map((value) => formatValue(Number(value.toPrecision(3)))).join(", "),
+                ])}
+              />
+            ) : (
+              <p className="text-sm">No mode about this equilibrium.</p>
+            )}
+            <Tex
+              display
+              latex={`\\dot{\\mathbf{x}} = A\\,\\mathbf{x} + B\\,\\mathbf{u},\\quad \\mathbf{x} = \\begin{bmatrix}${selected.stateNames.map(stateLatex).join(" \\\\ ")}\\end{bmatrix}`}
+            />
+            <Tex display latex={`A = ${matrixLatex(selected.A)}`} />
+            {selected.inputNames.length > 0 ? <Tex display latex={`B = ${matrixLatex(selected.B)}`} /> : null}
+          </>
+        )}
+      </Section>
+
+      <Section number={5} title="Checks" id="report-checks">
+        <ul className="space-y-1 text-sm" data-testid="report-checks">
+          <li>
+            {evaluation.ok ? "✓ " : "✕ "}
+            Units: {evaluation.ok ? "every term of every equation has consistent units (checked by the engine while deriving)." : `not checked, the model does not derive (${evaluation.message}).`}
+          </li>
+          {energyRuns.length > 0 ? (
+            energyRuns.map((run) => (
+              <li key={run.id}>
+                {run.energyCheck!.warning ? "✕ " : "✓ "}
+                Energy function along run {report.runs.indexOf(run) + 1}: relative drift {run.energyCheck!.relativeDrift.toExponential(2)} against the limit{" "}
+                {run.energyCheck!.threshold.toExponential(0)}.
+              </li>
+            ))
+          ) : (
+            <li>– Energy conservation: no stored run of this revision checks it (it applies to conservative models only).</li>
+          )}
+          {selected ? (
+            <li>
+              – Small oscillations: {oscillating.length > 0 ? `${oscillating.map((mode) => `${formatValue(mode.hertz!)} Hz`).join(", ")} about the chosen equilibrium` : "no oscillating mode"}, {selected.stability} (section 4).
+            </li>
+          ) : null}
+          {report.runs.some((run) => run.status === "failed") ? <li>✕ Simulation: at least one stored run failed (section 6).</li> : null}
+        </ul>
+      </Section>
+
+      <Section number={6} title="Stored simulation runs" id="report-runs">
+        {report.runs.length === 0 ? (
+          <p className="text-sm text-muted">No stored run used this revision&apos;s model.</p>
+        ) : (
+          report.runs.map((run, index) => <RunBlock key={run.id} run={run} index={index} />)
+        )}
+        {report.otherRuns > 0 ? (
+          <p className="text-xs text-muted">
+            {report.otherRuns} other stored run{report.otherRuns === 1 ? "" : "s"} of this derivation used another version of the model and {report.otherRuns === 1 ? "is" : "are"} not
+            shown.
+          </p>
+        ) : null}
+      </Section>
+
+      <Section number={7} title="Review and approval" id="report-approval">
+        {report.review ? (
+          <div className="space-y-1 text-sm" data-testid="report-review">
+            <p>
+              Review requested by {report.review.requestedByName ?? "a former member"}, {formatRecordTime(report.review.requestedAt)}.
+            </p>
+            <ul className="space-y-1">
+              {report.review.reviewers.map((reviewer, index) => (
+                <li key={index}>
+                  {reviewer.reviewerName ?? "A former member"}:{" "}
+                  {reviewer.decision === "signed_off" ? "signed off" : reviewer.decision === "changes_requested" ? "requested changes" : "no decision"}
+                  {reviewer.decidedAt ? `, ${formatRecordTime(reviewer.decidedAt)}` : ""}
+                  {reviewer.comment ? ` — “${reviewer.comment}”` : ""}
+                </li>
+              ))}
+            </ul>
+          </div>
+        ) : null}
+        {report.approvals.length === 0 ? (
+          <div className="hn-report-approval rounded border border-line p-3 text-sm" data-testid="report-approval">
+            <p className="font-semibold">Not approved.</p>
+            <p className="text-muted">This revision has not been approved by a lead. Its equations are not released for use.</p>
+          </div>
+        ) : (
+          report.approvals.map((approval) => (
+            <div key={approval.id} className="hn-report-approval space-y-1 rounded border-2 border-seal p-3 text-sm" data-testid="report-approval">
+              <p className="font-semibold text-seal">Approved</p>
+              <dl className="grid gap-x-4 gap-y-0.5 sm:grid-cols-[auto_1fr]">
+                <dt className="text-muted">Approved by</dt>
+                <dd data-testid="report-approver">{approval.approvedByName ?? "a former member"}</dd>
+                <dt className="text-muted">When</dt>
+                <dd>{formatRecordTime(approval.approvedAt)}</dd>
+                <dt className="text-muted">Revision</dt>
+                <dd>
+                  {revision.number}, content hash <span className="font-mono text-xs break-all">{approval.contentHash}</span>
+                </dd>
+                {approval.unlockedAt ? (
+                  <>
+                    <dt className="text-muted">Unlocked</dt>
+                    <dd>
+                      by {approval.unlockedByName ?? "a former member"}, {formatRecordTime(approval.unlockedAt)}: “{approval.unlockReason}”
+                    </dd>
+                  </>
+                ) : null}
+              </dl>
+            </div>
+          ))
+        )}
+      </Section>
+
+      <aside className="hn-report-safety rounded border border-l-4 border-seal/60 border-l-seal bg-seal-soft p-3 text-sm" data-testid="report-safety-note" role="note">
+        <p className="font-semibold">Safety note</p>
+        <p>{safetyNote}</p>
+      </aside>
+    </article>
+  );
+}
