@@ -89,7 +89,11 @@ function pressedKey(event: KeyboardEvent): string {
 
 function matchesChord(chord: Chord, event: KeyboardEvent): boolean {
   return (
-    chord.alt === event.altKey && chord.ctrl === event.ctrlKey && chord.meta === event.metaKey && chord.shift === event.shiftKey && chord.key === pressedKey(event)
+    chord.alt === event.altKey &&
+    chord.ctrl === event.ctrlKey &&
+    chord.meta === event.metaKey &&
+    chord.shift === event.shiftKey &&
+    chord.key === pressedKey(event)
   );
 }
 

@@ -7,8 +7,8 @@ export function DatabaseUnavailable({ onRetry }: { onRetry?: () => void }) {
       <p className="font-mono text-sm text-danger">503 · Service unavailable</p>
       <h1 className="mt-1 mb-2 text-xl font-semibold">The database is not reachable</h1>
       <p className="mb-4 text-sm text-muted">
-        Holonomy cannot reach its database right now, so nothing can be shown or saved. Your work already saved is safe. Try again in a
-        moment; if this persists, the person running this installation should check that PostgreSQL is started (npm run db:start).
+        Holonomy cannot reach its database right now, so nothing can be shown or saved. Your work already saved is safe. Try again in a moment; if this
+        persists, the person running this installation should check that PostgreSQL is started (npm run db:start).
       </p>
       <div className="flex gap-3">
         {onRetry ? (

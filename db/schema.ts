@@ -1,17 +1,5 @@
 import { relations } from "drizzle-orm";
-import {
-  boolean,
-  doublePrecision,
-  index,
-  integer,
-  jsonb,
-  pgEnum,
-  pgTable,
-  text,
-  timestamp,
-  uniqueIndex,
-  uuid,
-} from "drizzle-orm/pg-core";
+import { boolean, doublePrecision, index, integer, jsonb, pgEnum, pgTable, text, timestamp, uniqueIndex, uuid } from "drizzle-orm/pg-core";
 import type { StoredDocument } from "@/lib/notebook/document";
 import { derivationStatuses, memberRoles, type DerivationStatus, type MemberRole } from "@/lib/domain";
 
@@ -51,15 +39,16 @@ export const memberships = pgTable(
   "memberships",
   {
     id: uuid("id").primaryKey().defaultRandom(),
-    teamId: uuid("team_id").notNull().references(() => teams.id, { onDelete: "cascade" }),
-    userId: uuid("user_id").notNull().references(() => users.id, { onDelete: "cascade" }),
+    teamId: uuid("team_id")
+      .notNull()
+      .references(() => teams.id, { onDelete: "cascade" }),
+    userId: uuid("user_id")
+      .notNull()
+      .references(() => users.id, { onDelete: "cascade" }),
     role: memberRole("role").notNull(),
     ...timestamps,
   },
-  (table) => [
-    uniqueIndex("memberships_team_user_idx").on(table.teamId, table.userId),
-    index("memberships_user_idx").on(table.userId),
-  ],
+  (table) => [uniqueIndex("memberships_team_user_idx").on(table.teamId, table.userId), index("memberships_user_idx").on(table.userId)],
 );
 export type Membership = typeof memberships.$inferSelect;
 export type NewMembership = typeof memberships.$inferInsert;
@@ -68,7 +57,9 @@ export const invites = pgTable(
   "invites",
   {
     id: uuid("id").primaryKey().defaultRandom(),
-    teamId: uuid("team_id").notNull().references(() => teams.id, { onDelete: "cascade" }),
+    teamId: uuid("team_id")
+      .notNull()
+      .references(() => teams.id, { onDelete: "cascade" }),
     email: text("email").notNull(),
     role: memberRole("role").notNull(),
     // Only the SHA-256 of the token is stored; the token itself travels in the e-mail.
@@ -88,7 +79,9 @@ export const passwordResetTokens = pgTable(
   "password_reset_tokens",
   {
     id: uuid("id").primaryKey().defaultRandom(),
-    userId: uuid("user_id").notNull().references(() => users.id, { onDelete: "cascade" }),
+    userId: uuid("user_id")
+      .notNull()
+      .references(() => users.id, { onDelete: "cascade" }),
     tokenHash: text("token_hash").notNull().unique(),
     expiresAt: timestamp("expires_at", { withTimezone: true }).notNull(),
     usedAt: timestamp("used_at", { withTimezone: true }),
@@ -102,7 +95,9 @@ export const derivations = pgTable(
   "derivations",
   {
     id: uuid("id").primaryKey().defaultRandom(),
-    teamId: uuid("team_id").notNull().references(() => teams.id, { onDelete: "cascade" }),
+    teamId: uuid("team_id")
+      .notNull()
+      .references(() => teams.id, { onDelete: "cascade" }),
     title: text("title").notNull(),
     status: derivationStatus("status").notNull().default("draft"),
     ownerId: uuid("owner_id").references(() => users.id, { onDelete: "set null" }),
@@ -157,7 +152,9 @@ export const revisions = pgTable(
   "revisions",
   {
     id: uuid("id").primaryKey().defaultRandom(),
-    derivationId: uuid("derivation_id").notNull().references(() => derivations.id, { onDelete: "cascade" }),
+    derivationId: uuid("derivation_id")
+      .notNull()
+      .references(() => derivations.id, { onDelete: "cascade" }),
     number: integer("number").notNull(),
     kind: revisionKind("kind").notNull(),
     /** A checkpoint's name, or what a restore restored. */
@@ -184,8 +181,12 @@ export const reviewRequests = pgTable(
   "review_requests",
   {
     id: uuid("id").primaryKey().defaultRandom(),
-    derivationId: uuid("derivation_id").notNull().references(() => derivations.id, { onDelete: "cascade" }),
-    revisionId: uuid("revision_id").notNull().references(() => revisions.id, { onDelete: "cascade" }),
+    derivationId: uuid("derivation_id")
+      .notNull()
+      .references(() => derivations.id, { onDelete: "cascade" }),
+    revisionId: uuid("revision_id")
+      .notNull()
+      .references(() => revisions.id, { onDelete: "cascade" }),
     requestedById: uuid("requested_by_id").references(() => users.id, { onDelete: "set null" }),
     message: text("message").notNull().default(""),
     closedAt: timestamp("closed_at", { withTimezone: true }),
@@ -200,8 +201,12 @@ export const reviewAssignments = pgTable(
   "review_assignments",
   {
     id: uuid("id").primaryKey().defaultRandom(),
-    requestId: uuid("request_id").notNull().references(() => reviewRequests.id, { onDelete: "cascade" }),
-    reviewerId: uuid("reviewer_id").notNull().references(() => users.id, { onDelete: "cascade" }),
+    requestId: uuid("request_id")
+      .notNull()
+      .references(() => reviewRequests.id, { onDelete: "cascade" }),
+    reviewerId: uuid("reviewer_id")
+      .notNull()
+      .references(() => users.id, { onDelete: "cascade" }),
     decision: reviewDecision("decision").notNull().default("pending"),
     comment: text("comment").notNull().default(""),
     decidedAt: timestamp("decided_at", { withTimezone: true }),
@@ -216,8 +221,12 @@ export const approvals = pgTable(
   "approvals",
   {
     id: uuid("id").primaryKey().defaultRandom(),
-    derivationId: uuid("derivation_id").notNull().references(() => derivations.id, { onDelete: "cascade" }),
-    revisionId: uuid("revision_id").notNull().references(() => revisions.id, { onDelete: "cascade" }),
+    derivationId: uuid("derivation_id")
+      .notNull()
+      .references(() => derivations.id, { onDelete: "cascade" }),
+    revisionId: uuid("revision_id")
+      .notNull()
+      .references(() => revisions.id, { onDelete: "cascade" }),
     contentHash: text("content_hash").notNull(),
     approvedById: uuid("approved_by_id").references(() => users.id, { onDelete: "set null" }),
     approvedAt: timestamp("approved_at", { withTimezone: true }).notNull().defaultNow(),
@@ -235,7 +244,9 @@ export const notifications = pgTable(
   "notifications",
   {
     id: uuid("id").primaryKey().defaultRandom(),
-    userId: uuid("user_id").notNull().references(() => users.id, { onDelete: "cascade" }),
+    userId: uuid("user_id")
+      .notNull()
+      .references(() => users.id, { onDelete: "cascade" }),
     teamId: uuid("team_id").references(() => teams.id, { onDelete: "cascade" }),
     derivationId: uuid("derivation_id").references(() => derivations.id, { onDelete: "cascade" }),
     actorId: uuid("actor_id").references(() => users.id, { onDelete: "set null" }),
@@ -256,7 +267,9 @@ export const apiTokens = pgTable(
   "api_tokens",
   {
     id: uuid("id").primaryKey().defaultRandom(),
-    teamId: uuid("team_id").notNull().references(() => teams.id, { onDelete: "cascade" }),
+    teamId: uuid("team_id")
+      .notNull()
+      .references(() => teams.id, { onDelete: "cascade" }),
     name: text("name").notNull(),
     tokenHash: text("token_hash").notNull().unique(),
     prefix: text("prefix").notNull(),
@@ -359,7 +372,9 @@ export const files = pgTable(
   "files",
   {
     id: uuid("id").primaryKey().defaultRandom(),
-    derivationId: uuid("derivation_id").notNull().references(() => derivations.id, { onDelete: "cascade" }),
+    derivationId: uuid("derivation_id")
+      .notNull()
+      .references(() => derivations.id, { onDelete: "cascade" }),
     kind: fileKind("kind").notNull(),
     objectKey: text("object_key").notNull().unique(),
     originalName: text("original_name").notNull(),
@@ -407,7 +422,9 @@ export const simulationRuns = pgTable(
   "simulation_runs",
   {
     id: uuid("id").primaryKey().defaultRandom(),
-    derivationId: uuid("derivation_id").notNull().references(() => derivations.id, { onDelete: "cascade" }),
+    derivationId: uuid("derivation_id")
+      .notNull()
+      .references(() => derivations.id, { onDelete: "cascade" }),
     settings: jsonb("settings").$type<Record<string, unknown>>().notNull(),
     status: simulationRunStatus("status").notNull(),
     // failure.reason / failure.message, null when completed.
@@ -437,8 +454,12 @@ export const viewPreferences = pgTable(
   "view_preferences",
   {
     id: uuid("id").primaryKey().defaultRandom(),
-    userId: uuid("user_id").notNull().references(() => users.id, { onDelete: "cascade" }),
-    derivationId: uuid("derivation_id").notNull().references(() => derivations.id, { onDelete: "cascade" }),
+    userId: uuid("user_id")
+      .notNull()
+      .references(() => users.id, { onDelete: "cascade" }),
+    derivationId: uuid("derivation_id")
+      .notNull()
+      .references(() => derivations.id, { onDelete: "cascade" }),
     preferences: jsonb("preferences").$type<Record<string, unknown>>().notNull(),
     ...timestamps,
   },
@@ -455,12 +476,16 @@ export const idempotencyKeys = pgTable(
   "idempotency_keys",
   {
     id: uuid("id").primaryKey().defaultRandom(),
-    userId: uuid("user_id").notNull().references(() => users.id, { onDelete: "cascade" }),
+    userId: uuid("user_id")
+      .notNull()
+      .references(() => users.id, { onDelete: "cascade" }),
     key: text("key").notNull(),
     // e.g. "derivation.create", "derivation.import", "derivation.import_notebook"
     operation: text("operation").notNull(),
     fingerprint: text("fingerprint").notNull(),
-    derivationId: uuid("derivation_id").notNull().references(() => derivations.id, { onDelete: "cascade" }),
+    derivationId: uuid("derivation_id")
+      .notNull()
+      .references(() => derivations.id, { onDelete: "cascade" }),
     ...timestamps,
   },
   (table) => [uniqueIndex("idempotency_keys_user_key_idx").on(table.userId, table.key)],

@@ -35,11 +35,27 @@ const envSchema = z.object({
   S3_ACCESS_KEY_ID: z.string().min(1).default("S3RVER"),
   S3_SECRET_ACCESS_KEY: z.string().min(1).default("S3RVER"),
   // Largest accepted uploads, in bytes.
-  UPLOAD_MAX_CSV_BYTES: z.coerce.number().int().positive().default(10 * 1024 * 1024),
-  UPLOAD_MAX_IMAGE_BYTES: z.coerce.number().int().positive().default(5 * 1024 * 1024),
+  UPLOAD_MAX_CSV_BYTES: z.coerce
+    .number()
+    .int()
+    .positive()
+    .default(10 * 1024 * 1024),
+  UPLOAD_MAX_IMAGE_BYTES: z.coerce
+    .number()
+    .int()
+    .positive()
+    .default(5 * 1024 * 1024),
   // Notebook archives (.notebook.zip): largest upload, and largest total of its files once unpacked.
-  NOTEBOOK_ARCHIVE_MAX_BYTES: z.coerce.number().int().positive().default(50 * 1024 * 1024),
-  NOTEBOOK_ARCHIVE_MAX_UNPACKED_BYTES: z.coerce.number().int().positive().default(200 * 1024 * 1024),
+  NOTEBOOK_ARCHIVE_MAX_BYTES: z.coerce
+    .number()
+    .int()
+    .positive()
+    .default(50 * 1024 * 1024),
+  NOTEBOOK_ARCHIVE_MAX_UNPACKED_BYTES: z.coerce
+    .number()
+    .int()
+    .positive()
+    .default(200 * 1024 * 1024),
   // Wall-clock ceilings for server-side simulations and fits (a request may ask for less).
   SIMULATION_TIME_LIMIT_MS: z.coerce.number().int().positive().default(20_000),
   FIT_TIME_LIMIT_MS: z.coerce.number().int().positive().default(60_000),

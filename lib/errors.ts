@@ -144,8 +144,7 @@ export function appErrorFromBody(body: unknown, fallbackStatus: number): AppErro
   if (error && typeof error.code === "string" && errorKinds.has(error.code.split(":")[0] ?? "")) {
     return new AppError(error.code, error.message, { fieldErrors: error.fieldErrors, details: error.details });
   }
-  const kind = (Object.entries(statusByKind).find(([, status]) => status === fallbackStatus)?.[0] ??
-    "internal") as ErrorKind;
+  const kind = (Object.entries(statusByKind).find(([, status]) => status === fallbackStatus)?.[0] ?? "internal") as ErrorKind;
   return new AppError(`${kind}:api`);
 }
 
@@ -167,7 +166,8 @@ export function isDatabaseUnavailable(error: unknown): boolean {
   for (let depth = 0; current && depth < 5; depth += 1) {
     const candidate = current as { code?: unknown; message?: unknown; cause?: unknown; errors?: unknown[] };
     if (typeof candidate.code === "string" && connectionErrorCodes.has(candidate.code)) return true;
-    if (typeof candidate.message === "string" && /Connection terminated|connect ECONNREFUSED|timeout exceeded when trying to connect/i.test(candidate.message)) return true;
+    if (typeof candidate.message === "string" && /Connection terminated|connect ECONNREFUSED|timeout exceeded when trying to connect/i.test(candidate.message))
+      return true;
     if (Array.isArray(candidate.errors) && candidate.errors.some((inner) => isDatabaseUnavailable(inner))) return true;
     current = candidate.cause;
   }

@@ -38,7 +38,14 @@ function escapeHtml(value: string): string {
 }
 
 /** A plain, readable e-mail with one call-to-action link. */
-export function composeLinkMail({ to, subject, intro, linkLabel, link, footnote }: {
+export function composeLinkMail({
+  to,
+  subject,
+  intro,
+  linkLabel,
+  link,
+  footnote,
+}: {
   to: string;
   subject: string;
   intro: string;

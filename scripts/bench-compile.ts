@@ -15,7 +15,10 @@ import { deriveModel } from "../lib/mechanics/derive";
 const parameters = { m1: 1, m2: 1, l1: 1, l2: 1, g: 9.81 };
 const derived = deriveModel({
   title: "Double pendulum",
-  coordinates: [{ name: "theta1", unit: "rad" }, { name: "theta2", unit: "rad" }],
+  coordinates: [
+    { name: "theta1", unit: "rad" },
+    { name: "theta2", unit: "rad" },
+  ],
   parameters: Object.entries(parameters).map(([name, value]) => ({ name, value, unit: name === "g" ? "m/s^2" : name.startsWith("m") ? "kg" : "m" })),
   definitions: [
     { name: "x1", expr: "l1*sin(theta1)" },

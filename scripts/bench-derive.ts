@@ -21,5 +21,9 @@ for (let links = 2; links <= 8; links++) {
     times.push(performance.now() - start);
     terms = result.equations.map((e) => topLevelTerms(e.residual).length);
   }
-  console.log(`${String(links).padStart(5)}  ${times[0]!.toFixed(1).padStart(8)}  ${Math.min(...times).toFixed(1).padStart(7)}  ${terms.join(", ")}`);
+  console.log(
+    `${String(links).padStart(5)}  ${times[0]!.toFixed(1).padStart(8)}  ${Math.min(...times)
+      .toFixed(1)
+      .padStart(7)}  ${terms.join(", ")}`,
+  );
 }

@@ -156,7 +156,9 @@ async function main(): Promise<void> {
       totals.push(t2 - t0);
     }
 
-    const scripts = [...new Set([...html.matchAll(/<script[^>]+src="([^"]+)"/g)].map((m) => m[1]!.replace(/&amp;/g, "&")))].filter((src) => src.startsWith("/_next/static/"));
+    const scripts = [...new Set([...html.matchAll(/<script[^>]+src="([^"]+)"/g)].map((m) => m[1]!.replace(/&amp;/g, "&")))].filter((src) =>
+      src.startsWith("/_next/static/"),
+    );
     let raw = 0;
     let gzip = 0;
     for (const src of scripts) {

@@ -50,7 +50,13 @@ async function main(): Promise<void> {
       }
     } else {
       // An approved one starts as a draft and is approved through the review flow below.
-      const created = await createDerivation({ teamId: team.id, title: item.title, ownerId: userIds.get(item.owner)!, content, status: item.status === "approved" ? "draft" : item.status });
+      const created = await createDerivation({
+        teamId: team.id,
+        title: item.title,
+        ownerId: userIds.get(item.owner)!,
+        content,
+        status: item.status === "approved" ? "draft" : item.status,
+      });
       id = created.id;
       added += 1;
     }

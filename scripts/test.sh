@@ -23,6 +23,8 @@ log "typecheck"
 npm run --silent typecheck || static_failures+=("typecheck")
 log "lint"
 npm run --silent lint || static_failures+=("lint")
+log "format (Prettier)"
+npm run --silent format:check || static_failures+=("format")
 
 ensure_chromium
 

@@ -15,7 +15,9 @@ export default async function AppLayout({ children }: { children: ReactNode }) {
   return (
     <div className="flex min-h-screen flex-col">
       <SiteHeader user={user} teams={teams.map(({ id, name, role }) => ({ id, name, role }))} showMailbox={await devMailboxAvailable()} />
-      <main id="main" tabIndex={-1} className="mx-auto w-full min-w-0 max-w-6xl flex-1 px-4 py-6 sm:px-6 sm:py-8">{children}</main>
+      <main id="main" tabIndex={-1} className="mx-auto w-full min-w-0 max-w-6xl flex-1 px-4 py-6 sm:px-6 sm:py-8">
+        {children}
+      </main>
       <SiteFooter />
     </div>
   );

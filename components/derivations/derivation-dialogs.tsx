@@ -85,8 +85,8 @@ export function DeleteDerivationDialog({
       <div className="space-y-4">
         {error ? <Notice tone="error">{error.message}</Notice> : null}
         <p className="text-sm">
-          Delete <strong>{derivation?.title}</strong>? It moves to the team&apos;s trash with its runs and files; its owner or a lead can restore it
-          there for {TRASH_RETENTION_DAYS} days, after which it is removed for good.
+          Delete <strong>{derivation?.title}</strong>? It moves to the team&apos;s trash with its runs and files; its owner or a lead can restore it there for{" "}
+          {TRASH_RETENTION_DAYS} days, after which it is removed for good.
         </p>
         <div className="flex justify-end gap-2">
           <Button onClick={onClose}>Keep it</Button>

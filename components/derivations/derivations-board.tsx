@@ -153,7 +153,12 @@ export function DerivationsBoard({
         </label>
         <label className="text-sm">
           <span className="mb-1 block text-xs text-muted">Status</span>
-          <select value={statusFilter} onChange={(event) => setStatusFilter(event.target.value as DerivationStatus | "")} className={inputClass} aria-label="Filter by status">
+          <select
+            value={statusFilter}
+            onChange={(event) => setStatusFilter(event.target.value as DerivationStatus | "")}
+            className={inputClass}
+            aria-label="Filter by status"
+          >
             <option value="">Any status</option>
             {derivationStatuses.map((status) => (
               <option key={status} value={status}>

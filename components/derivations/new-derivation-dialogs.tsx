@@ -33,7 +33,10 @@ type Created = { derivation: { id: string } };
  * retry or a double submit that still reaches the server gets the first
  * derivation back instead of a second one.
  */
-function useCreateOnce<Input>(send: (input: Input, key: string) => Promise<Created>, { identity, onCreated }: { identity: (input: Input) => string; onCreated: (id: string) => void }) {
+function useCreateOnce<Input>(
+  send: (input: Input, key: string) => Promise<Created>,
+  { identity, onCreated }: { identity: (input: Input) => string; onCreated: (id: string) => void },
+) {
   const { keyFor, reset } = useIdempotencyKey();
   const inFlight = useRef(false);
   const [submitting, setSubmitting] = useState(false);
@@ -63,7 +66,17 @@ function useCreateOnce<Input>(send: (input: Input, key: string) => Promise<Creat
 }
 
 /** New derivation: a title and a starting point (blank or one of the templates; the chain asks for N). */
-export function NewDerivationDialog({ open, teamId, onCreated, onClose }: { open: boolean; teamId: string; onCreated: (id: string) => void; onClose: () => void }) {
+export function NewDerivationDialog({
+  open,
+  teamId,
+  onCreated,
+  onClose,
+}: {
+  open: boolean;
+  teamId: string;
+  onCreated: (id: string) => void;
+  onClose: () => void;
+}) {
   const { pending, error, submit, clear } = useCreateOnce(
     (input: NewDerivationInput, key: string) =>
       apiFetch<Created>(`/api/teams/${teamId}/derivations`, { method: "POST", body: input, headers: { "Idempotency-Key": key } }),
@@ -138,7 +151,10 @@ export function NewDerivationDialog({ open, teamId, onCreated, onClose }: { open
         <fieldset className="space-y-1.5">
           <legend className="mb-1 text-sm font-medium">Start from</legend>
           {[BLANK, ...TEMPLATES].map((option) => (
-            <label key={option.id} className="flex cursor-pointer items-start gap-2 rounded border border-line px-2.5 py-1.5 text-sm has-[:checked]:border-action has-[:checked]:bg-action-soft">
+            <label
+              key={option.id}
+              className="flex cursor-pointer items-start gap-2 rounded border border-line px-2.5 py-1.5 text-sm has-[:checked]:border-action has-[:checked]:bg-action-soft"
+            >
               <input type="radio" name="template" className="mt-1" value={option.id} checked={template === option.id} onChange={() => choose(option.id)} />
               <span>
                 <span className="font-medium">{option.title}</span>
@@ -193,10 +209,25 @@ async function isNotebookArchive(file: File): Promise<boolean> {
  * it creates anything, so a refused file leaves no half-made derivation; every
  * problem is listed here with its field or archive entry.
  */
-export function ImportDerivationDialog({ open, teamId, onImported, onClose }: { open: boolean; teamId: string; onImported: (id: string) => void; onClose: () => void }) {
+export function ImportDerivationDialog({
+  open,
+  teamId,
+  onImported,
+  onClose,
+}: {
+  open: boolean;
+  teamId: string;
+  onImported: (id: string) => void;
+  onClose: () => void;
+}) {
   const fileRef = useRef<HTMLInputElement>(null);
   const [missing, setMissing] = useState<AppError | null>(null);
-  const { pending, error: failure, submit, clear } = useCreateOnce(
+  const {
+    pending,
+    error: failure,
+    submit,
+    clear,
+  } = useCreateOnce(
     async (file: File, key: string) => {
       const body = new FormData();
       body.set("file", file);
@@ -215,12 +246,19 @@ export function ImportDerivationDialog({ open, teamId, onImported, onClose }: { 
 
   function start() {
     const file = fileRef.current?.files?.[0];
-    if (!file) return setMissing(new AppError("bad_request:validation", "Choose a .model.json or .notebook.zip file.", { fieldErrors: { file: ["Choose a .model.json or .notebook.zip file."] } }));
+    if (!file)
+      return setMissing(
+        new AppError("bad_request:validation", "Choose a .model.json or .notebook.zip file.", {
+          fieldErrors: { file: ["Choose a .model.json or .notebook.zip file."] },
+        }),
+      );
     setMissing(null);
     submit(file);
   }
 
-  const fieldLines = error?.fieldErrors ? Object.entries(error.fieldErrors).flatMap(([field, reasons]) => (reasons ?? []).map((reason) => `${field}: ${reason}`)) : [];
+  const fieldLines = error?.fieldErrors
+    ? Object.entries(error.fieldErrors).flatMap(([field, reasons]) => (reasons ?? []).map((reason) => `${field}: ${reason}`))
+    : [];
 
   return (
     <Dialog open={open} onClose={onClose} title="Import a model file or notebook archive">
@@ -232,8 +270,9 @@ export function ImportDerivationDialog({ open, teamId, onImported, onClose }: { 
         }}
       >
         <p className="text-sm text-muted">
-          A <span className="font-mono">.model.json</span> file (the model) or a <span className="font-mono">.notebook.zip</span> archive (the whole notebook with its
-          stored runs and files) becomes a new derivation in this team. A file with a problem is refused as a whole, with every field or entry and the reason.
+          A <span className="font-mono">.model.json</span> file (the model) or a <span className="font-mono">.notebook.zip</span> archive (the whole notebook
+          with its stored runs and files) becomes a new derivation in this team. A file with a problem is refused as a whole, with every field or entry and the
+          reason.
         </p>
         <FileInput
           ref={fileRef}

@@ -67,7 +67,13 @@ export function TrashPanel({ teamId, role, currentUserId }: { teamId: string; ro
   return (
     <section aria-labelledby="trash-heading" className="space-y-3" data-testid="trash-panel">
       <h2 id="trash-heading" className="text-lg font-semibold">
-        <button type="button" aria-expanded={open} aria-controls="trash-list" onClick={() => setOpen((value) => !value)} className="inline-flex items-center gap-2 hover:text-action">
+        <button
+          type="button"
+          aria-expanded={open}
+          aria-controls="trash-list"
+          onClick={() => setOpen((value) => !value)}
+          className="inline-flex items-center gap-2 hover:text-action"
+        >
           <span aria-hidden className="text-xs text-muted">
             {open ? "▼" : "▶"}
           </span>
@@ -80,8 +86,8 @@ export function TrashPanel({ teamId, role, currentUserId }: { teamId: string; ro
       {open ? (
         <div id="trash-list" className="space-y-3">
           <p className="text-sm text-muted">
-            Deleted derivations stay here with their runs and files for {data?.retentionDays ?? 30} days; their owner or a lead can restore them. After that they are removed
-            for good.
+            Deleted derivations stay here with their runs and files for {data?.retentionDays ?? 30} days; their owner or a lead can restore them. After that
+            they are removed for good.
           </p>
           {error ? <Notice tone="error">{error.message}</Notice> : null}
           {restore.error ? <Notice tone="error">Could not restore: {restore.error.message}</Notice> : null}
@@ -129,12 +135,24 @@ export function TrashPanel({ teamId, role, currentUserId }: { teamId: string; ro
                       </td>
                       <td className="px-3 py-2 text-right whitespace-nowrap">
                         {can(role, "derivation:restore", context) ? (
-                          <Button size="sm" variant="ghost" onClick={() => restore.mutate(row)} disabled={restore.isPending} aria-label={`Restore ${row.title}`}>
+                          <Button
+                            size="sm"
+                            variant="ghost"
+                            onClick={() => restore.mutate(row)}
+                            disabled={restore.isPending}
+                            aria-label={`Restore ${row.title}`}
+                          >
                             Restore
                           </Button>
                         ) : null}
                         {can(role, "derivation:purge", context) ? (
-                          <Button size="sm" variant="ghost" onClick={() => setPurging(row)} aria-label={`Delete ${row.title} for good`} className="hover:text-danger">
+                          <Button
+                            size="sm"
+                            variant="ghost"
+                            onClick={() => setPurging(row)}
+                            aria-label={`Delete ${row.title} for good`}
+                            className="hover:text-danger"
+                          >
                             Delete for good
                           </Button>
                         ) : null}

@@ -26,7 +26,10 @@ export function CheckpointForm({ derivationId }: { derivationId: string }) {
     setPending(true);
     setError(null);
     try {
-      const { revision } = await apiFetch<{ revision: { number: number } }>(`/api/derivations/${derivationId}/revisions`, { method: "POST", body: parsed.data });
+      const { revision } = await apiFetch<{ revision: { number: number } }>(`/api/derivations/${derivationId}/revisions`, {
+        method: "POST",
+        body: parsed.data,
+      });
       setDone(`Checkpoint "${parsed.data.name}" is revision ${revision.number}.`);
       setName("");
       router.refresh();

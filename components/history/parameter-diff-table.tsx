@@ -63,7 +63,12 @@ export function ParameterDiffTable({ changes }: { changes: readonly ParameterCha
               <Cell change={change} field="value" />
               <Cell change={change} field="unit" />
               <Cell change={change} field="description" />
-              <td className={clsx("px-2 py-1.5 align-top text-xs font-medium", change.status === "added" ? "text-action" : change.status === "removed" ? "text-danger" : "text-ink")}>
+              <td
+                className={clsx(
+                  "px-2 py-1.5 align-top text-xs font-medium",
+                  change.status === "added" ? "text-action" : change.status === "removed" ? "text-danger" : "text-ink",
+                )}
+              >
                 {statusText[change.status]}
               </td>
             </tr>

@@ -25,7 +25,12 @@ function TermRow({ change }: { change: TermChange }) {
           : "border-transparent text-muted";
   return (
     <li className={clsx("flex flex-wrap items-center gap-x-3 gap-y-1 rounded border px-2 py-1", tone)} data-testid="term-change" data-status={change.status}>
-      <span className={clsx("w-20 shrink-0 text-xs font-medium", change.status === "added" ? "text-action" : change.status === "removed" ? "text-danger" : change.status === "changed" ? "text-seal" : "text-muted")}>
+      <span
+        className={clsx(
+          "w-20 shrink-0 text-xs font-medium",
+          change.status === "added" ? "text-action" : change.status === "removed" ? "text-danger" : change.status === "changed" ? "text-seal" : "text-muted",
+        )}
+      >
         {statusLabel[change.status]}
       </span>
       {change.status === "changed" ? (
@@ -74,7 +79,13 @@ export function TermDiffView({ equations }: { equations: readonly EquationChange
     <div className="space-y-4" data-testid="term-diff">
       {changed.length === 0 ? <p className="text-sm text-muted">The equations of motion are the same term for term.</p> : null}
       {changed.map((equation) => (
-        <section key={equation.coordinate} className="space-y-2 rounded border border-line bg-surface p-3" aria-label={`Equation of ${equation.coordinate}`} data-testid="equation-change" data-coordinate={equation.coordinate}>
+        <section
+          key={equation.coordinate}
+          className="space-y-2 rounded border border-line bg-surface p-3"
+          aria-label={`Equation of ${equation.coordinate}`}
+          data-testid="equation-change"
+          data-coordinate={equation.coordinate}
+        >
           <h3 className="flex flex-wrap items-baseline gap-x-2 text-sm font-semibold">
             <span>
               Equation of <Tex latex={equation.coordinateLatex} />

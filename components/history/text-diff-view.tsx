@@ -21,7 +21,13 @@ export function TextDiffView({ lines, label }: { lines: readonly DiffLine[]; lab
     <div className="overflow-hidden font-mono text-[13px] leading-relaxed" role="group" aria-label={label} data-testid="text-diff">
       {lines.map((line, index) => (
         <div key={index} className={clsx("flex gap-2 px-2", lineStyle[line.kind])} data-change={line.kind}>
-          <span aria-hidden className={clsx("w-3 shrink-0 select-none text-center", line.kind === "added" ? "text-action" : line.kind === "removed" ? "text-danger" : "text-muted")}>
+          <span
+            aria-hidden
+            className={clsx(
+              "w-3 shrink-0 select-none text-center",
+              line.kind === "added" ? "text-action" : line.kind === "removed" ? "text-danger" : "text-muted",
+            )}
+          >
             {gutter[line.kind]}
           </span>
           <span className="min-w-0 flex-1 break-words whitespace-pre-wrap">

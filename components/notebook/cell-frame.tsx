@@ -144,7 +144,15 @@ export function CellFrame(props: CellFrameProps) {
         )}
         {props.actions}
         {!readOnly && (
-          <CellMenu title={title} index={index} count={count} canDuplicate={props.canDuplicate} onMove={props.onMove} onDuplicate={props.onDuplicate} onDelete={props.onDelete} />
+          <CellMenu
+            title={title}
+            index={index}
+            count={count}
+            canDuplicate={props.canDuplicate}
+            onMove={props.onMove}
+            onDuplicate={props.onDuplicate}
+            onDelete={props.onDelete}
+          />
         )}
       </header>
       <div id={bodyId} hidden={cell.collapsed} className="min-w-0 p-3">

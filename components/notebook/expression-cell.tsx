@@ -104,10 +104,15 @@ export function ForcesCellEditor({ cell, symbols, diagnostics = [], readOnly = f
       {orphans.map((entry) => (
         <div key={entry.coordinate} className="flex items-center gap-2 rounded border border-seal/60 bg-seal-soft px-2 py-1 text-sm text-ink" role="status">
           <span className="min-w-0 flex-1">
-            Force on <code className="font-mono">{entry.coordinate}</code> (<code className="font-mono">{entry.expr || "blank"}</code>) has no coordinate of that name.
+            Force on <code className="font-mono">{entry.coordinate}</code> (<code className="font-mono">{entry.expr || "blank"}</code>) has no coordinate of
+            that name.
           </span>
           {!readOnly && (
-            <button type="button" className="text-danger underline" onClick={() => onOperation({ type: "removeForce", cellId: cell.id, coordinate: entry.coordinate })}>
+            <button
+              type="button"
+              className="text-danger underline"
+              onClick={() => onOperation({ type: "removeForce", cellId: cell.id, coordinate: entry.coordinate })}
+            >
               Remove
             </button>
           )}

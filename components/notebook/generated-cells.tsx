@@ -120,10 +120,16 @@ export function EquationsCellView(props: EquationsCellProps) {
       </div>
     ));
   } else if (form === "mass-matrix") {
-    body = results.massMatrixLatex ? <MathView latex={results.massMatrixLatex} display label="Mass-matrix form" /> : <p className="text-sm text-muted">The mass-matrix form was not part of these results.</p>;
+    body = results.massMatrixLatex ? (
+      <MathView latex={results.massMatrixLatex} display label="Mass-matrix form" />
+    ) : (
+      <p className="text-sm text-muted">The mass-matrix form was not part of these results.</p>
+    );
   } else {
     body = results.accelerations?.length ? (
-      results.accelerations.map((entry) => <MathView key={entry.coordinate} latex={entry.latex} display breakable label={`Acceleration of ${entry.coordinate}`} />)
+      results.accelerations.map((entry) => (
+        <MathView key={entry.coordinate} latex={entry.latex} display breakable label={`Acceleration of ${entry.coordinate}`} />
+      ))
     ) : (
       <p className="text-sm text-muted">{results.accelerationsNote ?? "Accelerations are solved only where the system is small enough."}</p>
     );
@@ -148,7 +154,11 @@ export function EquationsCellView(props: EquationsCellProps) {
           </select>
         </label>
         {documentSettings && documentSettings.form !== form ? (
-          <ViewChoiceNote documentLabel={FORM_LABELS[documentSettings.form].toLowerCase()} onReset={onViewChange && (() => onViewChange({ form: undefined }))} onMakeDefault={onMakeDefault} />
+          <ViewChoiceNote
+            documentLabel={FORM_LABELS[documentSettings.form].toLowerCase()}
+            onReset={onViewChange && (() => onViewChange({ form: undefined }))}
+            onMakeDefault={onMakeDefault}
+          />
         ) : null}
         {results?.timingMs !== undefined && <span className="text-xs text-muted">derived in {results.timingMs.toFixed(0)} ms</span>}
       </div>
@@ -195,14 +205,18 @@ export function ConservedCellView({ results, evaluating }: GeneratedCellProps<Co
       {results.energyLatex && (
         <div>
           <div className="text-xs text-muted">
-            Energy function{energyConserved ? ` — conserved: ${energyConserved.reason}` : ` — not conserved${results.energyNotConserved ? `: ${results.energyNotConserved}` : ""}`}
+            Energy function
+            {energyConserved
+              ? ` — conserved: ${energyConserved.reason}`
+              : ` — not conserved${results.energyNotConserved ? `: ${results.energyNotConserved}` : ""}`}
           </div>
           <MathView latex={`h = ${results.energyLatex}`} display breakable />
         </div>
       )}
       {conserved.length === 0 ? (
         <p className="text-sm text-muted">
-          No conserved quantity found.{results.cyclicMomenta && cyclic.length === 0 ? " No coordinate is cyclic (the Lagrangian depends on every coordinate)." : ""}
+          No conserved quantity found.
+          {results.cyclicMomenta && cyclic.length === 0 ? " No coordinate is cyclic (the Lagrangian depends on every coordinate)." : ""}
         </p>
       ) : (
         others.map((quantity) => (
@@ -217,7 +231,8 @@ export function ConservedCellView({ results, evaluating }: GeneratedCellProps<Co
       {forcedCyclic.map((entry) => (
         <div key={entry.coordinate} className="min-w-0 text-sm" data-testid="cyclic-not-conserved">
           <p>
-            <span className="font-mono">{entry.coordinate}</span> is cyclic (the Lagrangian does not depend on it), but its momentum is not conserved: {actingText(entry.actedOnBy)} on it.
+            <span className="font-mono">{entry.coordinate}</span> is cyclic (the Lagrangian does not depend on it), but its momentum is not conserved:{" "}
+            {actingText(entry.actedOnBy)} on it.
           </p>
           <MathView latex={entry.rateLatex} label={`Momentum balance of ${entry.coordinate}`} />
         </div>
@@ -306,7 +321,10 @@ export function LinearizationCellView(props: LinearizationCellProps) {
         <p className="text-sm text-muted">No equilibrium was found for the current parameter values.</p>
       ) : (
         <div className="hn-result-body flex min-w-0 flex-col gap-2">
-          <MathView latex={`\\dot{\\mathbf{x}} = A\\,\\mathbf{x} + B\\,\\mathbf{u},\\quad \\mathbf{x} = \\begin{bmatrix}${selected.stateNames.map((n) => symbolLatex(n.replace(/'+$/, ""), (n.match(/'/g)?.length ?? 0) as 0 | 1 | 2)).join(" \\\\ ")}\\end{bmatrix}`} display />
+          <MathView
+            latex={`\\dot{\\mathbf{x}} = A\\,\\mathbf{x} + B\\,\\mathbf{u},\\quad \\mathbf{x} = \\begin{bmatrix}${selected.stateNames.map((n) => symbolLatex(n.replace(/'+$/, ""), (n.match(/'/g)?.length ?? 0) as 0 | 1 | 2)).join(" \\\\ ")}\\end{bmatrix}`}
+            display
+          />
           <MathView latex={`A = ${matrixLatex(selected.A)}`} display label="State matrix A" />
           {selected.inputNames.length > 0 && <MathView latex={`B = ${matrixLatex(selected.B)}`} display label="Input matrix B" />}
           <StabilityVerdictView stability={selected.stability} reason={selected.stabilityReason} eigenvalues={selected.eigenvalues} />
@@ -330,7 +348,10 @@ function StabilityVerdictView({ stability, reason, eigenvalues }: { stability: M
   return (
     <div className="flex flex-col gap-1 text-sm" data-testid="stability-verdict">
       <p>
-        <strong className={clsx("font-medium", stability === "unstable" ? "text-danger" : stability === "marginal" ? "text-review" : "text-ink")}>{STABILITY_HEADINGS[stability]}</strong> {reason}
+        <strong className={clsx("font-medium", stability === "unstable" ? "text-danger" : stability === "marginal" ? "text-review" : "text-ink")}>
+          {STABILITY_HEADINGS[stability]}
+        </strong>{" "}
+        {reason}
       </p>
       <p className="text-muted">
         Eigenvalues of A (1/s):{" "}
@@ -367,7 +388,9 @@ function ModeTable({ modes, coordinates }: { modes: ModeView[]; coordinates: str
   return (
     <div className="overflow-x-auto">
       <table className="text-sm">
-        <caption className="text-left text-xs text-muted">Modes of K v = ω² M v (undamped), with the damped frequency and damping ratio of the matching eigenvalue of A</caption>
+        <caption className="text-left text-xs text-muted">
+          Modes of K v = ω² M v (undamped), with the damped frequency and damping ratio of the matching eigenvalue of A
+        </caption>
         <thead>
           <tr className="text-left text-xs text-muted">
             <th className="pr-4 font-medium">Mode</th>
@@ -404,7 +427,13 @@ function ModeTable({ modes, coordinates }: { modes: ModeView[]; coordinates: str
 // ---------------------------------------------------------------------------
 // Code export
 
-const LANGUAGE_LABELS: Record<CodeExportLanguage, string> = { python: "Python (NumPy)", typescript: "TypeScript", c: "C", julia: "Julia", octave: "MATLAB/Octave" };
+const LANGUAGE_LABELS: Record<CodeExportLanguage, string> = {
+  python: "Python (NumPy)",
+  typescript: "TypeScript",
+  c: "C",
+  julia: "Julia",
+  octave: "MATLAB/Octave",
+};
 
 export function CodeExportCellView(props: GeneratedCellProps<CodeExportCell>) {
   const { cell, results, evaluating, documentSettings, onViewChange, onMakeDefault } = props;
@@ -447,14 +476,28 @@ export function CodeExportCellView(props: GeneratedCellProps<CodeExportCell>) {
             ))}
           </select>
         </label>
-        <button type="button" className="rounded border border-line px-2 py-0.5 text-ink hover:border-action hover:text-action disabled:opacity-40" disabled={!code} onClick={copy}>
+        <button
+          type="button"
+          className="rounded border border-line px-2 py-0.5 text-ink hover:border-action hover:text-action disabled:opacity-40"
+          disabled={!code}
+          onClick={copy}
+        >
           {copied ? "Copied" : "Copy"}
         </button>
-        <button type="button" className="rounded border border-line px-2 py-0.5 text-ink hover:border-action hover:text-action disabled:opacity-40" disabled={!code} onClick={download}>
+        <button
+          type="button"
+          className="rounded border border-line px-2 py-0.5 text-ink hover:border-action hover:text-action disabled:opacity-40"
+          disabled={!code}
+          onClick={download}
+        >
           Download
         </button>
         {documentSettings && documentSettings.language !== cell.settings.language ? (
-          <ViewChoiceNote documentLabel={LANGUAGE_LABELS[documentSettings.language]} onReset={onViewChange && (() => onViewChange({ language: undefined }))} onMakeDefault={onMakeDefault} />
+          <ViewChoiceNote
+            documentLabel={LANGUAGE_LABELS[documentSettings.language]}
+            onReset={onViewChange && (() => onViewChange({ language: undefined }))}
+            onMakeDefault={onMakeDefault}
+          />
         ) : null}
       </div>
       {!results ? (

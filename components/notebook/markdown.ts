@@ -72,7 +72,11 @@ const markdown = new Marked({
 export function renderNoteHtml(source: string): string | null {
   if (typeof window === "undefined" || !DOMPurify.isSupported) return null;
   const html = markdown.parse(source, { async: false });
-  const fragment = DOMPurify.sanitize(html, { FORBID_TAGS: ["style", "form", "input", "button", "textarea", "select"], FORBID_ATTR: ["srcset"], RETURN_DOM_FRAGMENT: true });
+  const fragment = DOMPurify.sanitize(html, {
+    FORBID_TAGS: ["style", "form", "input", "button", "textarea", "select"],
+    FORBID_ATTR: ["srcset"],
+    RETURN_DOM_FRAGMENT: true,
+  });
   // Images only from this site's file store (sketches attached to the derivation): an
   // outside address would tell a third party who opened the note, and when.
   for (const image of Array.from(fragment.querySelectorAll("img"))) {

@@ -137,7 +137,14 @@ export function NotebookPage(props: NotebookPageProps) {
     [derivationId, props.canRename],
   );
 
-  const autosave = useAutosave({ derivationId, document: doc, initialUpdatedAt: props.initialUpdatedAt, initialServerDocument: props.initialDocument, enabled: canEdit, save });
+  const autosave = useAutosave({
+    derivationId,
+    document: doc,
+    initialUpdatedAt: props.initialUpdatedAt,
+    initialServerDocument: props.initialDocument,
+    enabled: canEdit,
+    save,
+  });
   const evaluation = useEvaluation({ derivationId, document: doc });
 
   // This person's view: choices over the document's settings, and what they need from the server.
@@ -310,7 +317,10 @@ export function NotebookPage(props: NotebookPageProps) {
             <SaveIndicator status={autosave.status} onRetry={() => void saveNow()} />
           ) : (
             <span
-              className={clsx("rounded border px-2 py-0.5 text-xs", readOnlyReason === "approved" ? "border-seal/60 bg-seal-soft text-seal" : "border-line bg-sunken text-muted")}
+              className={clsx(
+                "rounded border px-2 py-0.5 text-xs",
+                readOnlyReason === "approved" ? "border-seal/60 bg-seal-soft text-seal" : "border-line bg-sunken text-muted",
+              )}
               data-testid="read-only-badge"
               data-reason={readOnlyReason}
             >
@@ -335,7 +345,12 @@ export function NotebookPage(props: NotebookPageProps) {
               </Button>
             ) : null}
             {canEdit ? (
-              <Button size="sm" onClick={() => void saveNow()} title="Save now (s, or Ctrl+S)" disabled={autosave.status.state === "saved" || autosave.status.state === "conflict"}>
+              <Button
+                size="sm"
+                onClick={() => void saveNow()}
+                title="Save now (s, or Ctrl+S)"
+                disabled={autosave.status.state === "saved" || autosave.status.state === "conflict"}
+              >
                 Save now
               </Button>
             ) : null}
@@ -389,14 +404,14 @@ export function NotebookPage(props: NotebookPageProps) {
       {!canEdit ? (
         readOnlyReason === "approved" ? (
           <p className="rounded border border-seal/60 bg-seal-soft px-3 py-2 text-sm text-ink" data-testid="read-only-note" data-reason="approved">
-            <strong className="font-semibold text-seal">Approved and locked.</strong> This derivation was approved, so it is frozen: a lead of the team can unlock
-            it, giving a reason. You can still read, evaluate and export it, choose how you view it and simulate it with your own settings.
+            <strong className="font-semibold text-seal">Approved and locked.</strong> This derivation was approved, so it is frozen: a lead of the team can
+            unlock it, giving a reason. You can still read, evaluate and export it, choose how you view it and simulate it with your own settings.
           </p>
         ) : (
           <p className="rounded border border-line bg-surface px-3 py-2 text-sm text-muted" data-testid="read-only-note" data-reason="role">
-            <strong className="font-semibold text-ink">Read-only for your role.</strong> As {props.roleLabel.toLowerCase()} you can read, evaluate and export this
-            derivation, choose how you view it and simulate it with your own settings{props.canSimulate ? " (and store your runs for the team)" : ""}; editing
-            it is for the team&apos;s analysts and leads.
+            <strong className="font-semibold text-ink">Read-only for your role.</strong> As {props.roleLabel.toLowerCase()} you can read, evaluate and export
+            this derivation, choose how you view it and simulate it with your own settings{props.canSimulate ? " (and store your runs for the team)" : ""};
+            editing it is for the team&apos;s analysts and leads.
           </p>
         )
       ) : null}
@@ -413,8 +428,8 @@ export function NotebookPage(props: NotebookPageProps) {
       {autosave.status.state === "conflict" ? (
         <div className="space-y-2 rounded border border-danger/60 bg-danger-soft px-3 py-2 text-sm" role="alert" data-testid="save-conflict">
           <p>
-            <strong className="text-danger">Not saved: someone else saved this derivation since you loaded it.</strong> Your copy stays here and in this browser until
-            you choose.
+            <strong className="text-danger">Not saved: someone else saved this derivation since you loaded it.</strong> Your copy stays here and in this browser
+            until you choose.
           </p>
           <div className="flex flex-wrap gap-2">
             <Button size="sm" onClick={() => void loadServerVersion()}>
@@ -459,21 +474,23 @@ export function NotebookPage(props: NotebookPageProps) {
       <EvaluationBar evaluation={evaluation} document={doc} responseMs={response?.requestMs} cached={response?.cached} />
       {viewPreferences.saveError || viewResults.error ? (
         <p className="text-sm text-danger" role="alert" data-testid="view-error">
-          {viewResults.error ? `Your view choice could not be shown: ${viewResults.error}` : `Your view choices apply on this page but could not be stored: ${viewPreferences.saveError}`}
+          {viewResults.error
+            ? `Your view choice could not be shown: ${viewResults.error}`
+            : `Your view choices apply on this page but could not be stored: ${viewPreferences.saveError}`}
         </p>
       ) : null}
 
       <UploadLimitsProvider limits={props.uploadLimits}>
         <Notebook
-        document={doc}
-        onChange={(next) => setDoc(next)}
-        results={evaluation.results}
-        stale={evaluation.stale}
-        evaluating={evaluation.evaluating}
-        diagnostics={evaluation.diagnostics}
-        evaluatedModel={evaluation.evaluatedModel}
-        readOnly={!canEdit}
-        derivationId={derivationId}
+          document={doc}
+          onChange={(next) => setDoc(next)}
+          results={evaluation.results}
+          stale={evaluation.stale}
+          evaluating={evaluation.evaluating}
+          diagnostics={evaluation.diagnostics}
+          evaluatedModel={evaluation.evaluatedModel}
+          readOnly={!canEdit}
+          derivationId={derivationId}
           view={view}
           canStoreRuns={canStoreRuns}
         />
@@ -544,7 +561,14 @@ function SaveIndicator({ status, onRetry }: { status: SaveStatus; onRetry: () =>
   }
   return (
     <span className={clsx("flex items-center gap-2", tone)} role="status" aria-live="polite" data-testid="save-status" data-state={status.state}>
-      {status.state === "saving" ? <Spinner /> : <span aria-hidden className={clsx("inline-block h-2 w-2 rounded-full", status.state === "saved" ? "bg-action" : status.state === "unsaved" ? "bg-seal" : "bg-danger")} />}
+      {status.state === "saving" ? (
+        <Spinner />
+      ) : (
+        <span
+          aria-hidden
+          className={clsx("inline-block h-2 w-2 rounded-full", status.state === "saved" ? "bg-action" : status.state === "unsaved" ? "bg-seal" : "bg-danger")}
+        />
+      )}
       {text}
       {status.state === "retrying" || status.state === "refused" ? (
         <button type="button" className="text-action underline" onClick={onRetry}>
@@ -568,7 +592,11 @@ function EvaluationBar({
 }) {
   const { error, evaluating, stale, results, diagnostics } = evaluation;
   return (
-    <div className="space-y-1 text-sm" data-testid="evaluation-status" data-state={evaluating ? "evaluating" : error ? "failed" : stale ? "stale" : results ? "current" : "none"}>
+    <div
+      className="space-y-1 text-sm"
+      data-testid="evaluation-status"
+      data-state={evaluating ? "evaluating" : error ? "failed" : stale ? "stale" : results ? "current" : "none"}
+    >
       {evaluating ? (
         <div className="h-0.5 overflow-hidden rounded bg-sunken" role="progressbar" aria-label="Evaluating">
           <div className="h-full w-full animate-pulse bg-action" />
@@ -585,7 +613,9 @@ function EvaluationBar({
         </div>
       ) : results && !evaluating ? (
         <p className="text-xs text-muted">
-          {stale ? "Results are from an earlier version; they update when your edits settle." : `Evaluated${cached ? " (from cache)" : ""}${responseMs !== undefined ? ` in ${Math.round(responseMs)} ms` : ""}.`}
+          {stale
+            ? "Results are from an earlier version; they update when your edits settle."
+            : `Evaluated${cached ? " (from cache)" : ""}${responseMs !== undefined ? ` in ${Math.round(responseMs)} ms` : ""}.`}
         </p>
       ) : null}
     </div>

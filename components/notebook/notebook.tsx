@@ -333,7 +333,23 @@ function viewChoiceProps(shown: Cell, documentCell: Cell, view: NotebookView | u
   };
 }
 
-function CellBody({ cell, documentCell, view, canStoreRuns, symbols, duplicates, diagnostics, results, evaluating, readOnly, dispatch, newId, document, derivationId, ...terms }: CellBodyProps): ReactNode {
+function CellBody({
+  cell,
+  documentCell,
+  view,
+  canStoreRuns,
+  symbols,
+  duplicates,
+  diagnostics,
+  results,
+  evaluating,
+  readOnly,
+  dispatch,
+  newId,
+  document,
+  derivationId,
+  ...terms
+}: CellBodyProps): ReactNode {
   const common = { readOnly, onOperation: dispatch };
   const choice = viewChoiceProps(cell, documentCell, view, readOnly, dispatch);
   switch (cell.kind) {
@@ -388,7 +404,17 @@ function CellBody({ cell, documentCell, view, canStoreRuns, symbols, duplicates,
   }
 }
 
-function AddCellControl({ doc, index, onAdd, compact = false }: { doc: DerivationDocument; index: number; onAdd: (kind: CellKind, index: number) => void; compact?: boolean }) {
+function AddCellControl({
+  doc,
+  index,
+  onAdd,
+  compact = false,
+}: {
+  doc: DerivationDocument;
+  index: number;
+  onAdd: (kind: CellKind, index: number) => void;
+  compact?: boolean;
+}) {
   const [open, setOpen] = useState(false);
   const listRef = useRef<HTMLDivElement>(null);
   useEffect(() => {

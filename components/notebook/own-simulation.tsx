@@ -30,9 +30,17 @@ function ignoreDocumentOperation() {
 export function OwnSimulation({ ref, ...props }: OwnSimulationProps) {
   const cell: SimulationCell = { id: "own-simulation", kind: "simulation", collapsed: false, settings: { ...DEFAULT_SIMULATION_SETTINGS, ...props.settings } };
   return (
-    <section ref={ref} className="hn-cell min-w-0 scroll-mt-4 rounded border border-line border-l-4 border-l-action/50 bg-surface" aria-label="Your simulation" data-testid="own-simulation">
+    <section
+      ref={ref}
+      className="hn-cell min-w-0 scroll-mt-4 rounded border border-line border-l-4 border-l-action/50 bg-surface"
+      aria-label="Your simulation"
+      data-testid="own-simulation"
+    >
       <header className="flex flex-wrap items-center gap-2 border-b border-line/70 px-2 py-1.5">
-        <span className="inline-flex min-w-7 justify-center rounded bg-action-soft px-1.5 py-0.5 font-mono text-[11px] leading-none text-action" aria-hidden="true">
+        <span
+          className="inline-flex min-w-7 justify-center rounded bg-action-soft px-1.5 py-0.5 font-mono text-[11px] leading-none text-action"
+          aria-hidden="true"
+        >
           t→
         </span>
         <h3 className="text-sm font-medium text-ink">Your simulation</h3>

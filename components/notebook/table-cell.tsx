@@ -126,7 +126,9 @@ export function TableCellEditor({ cell, symbols, duplicateNames, diagnostics = [
                     const value = String((row as unknown as Record<string, string>)[column] ?? "");
                     const label = `${HEADINGS[column]}, ${noun} ${rowIndex + 1}`;
                     const fieldId = `${baseId}-${row.id}-${column}`;
-                    const local = blank ? ({ ok: true } as const) : localCheck(column, value, column === "name" && (duplicateNames?.has(value.trim()) ?? false));
+                    const local = blank
+                      ? ({ ok: true } as const)
+                      : localCheck(column, value, column === "name" && (duplicateNames?.has(value.trim()) ?? false));
                     const server = rowDiagnostics.filter((d) => d.location.column === column || (column === "name" && d.location.column === undefined));
                     const messages = [...(local.ok ? [] : [local.message]), ...server.map((d) => d.diagnostic.message)];
                     if (column === "expr") {

@@ -50,8 +50,8 @@ export function UnreadableContent({ derivationId, teamId, teamName, title, issue
       <section className="space-y-2">
         <h2 className="text-lg font-semibold">Recover the model</h2>
         <p className="text-sm">
-          The model file holds the coordinates, parameters, inputs, definitions, energies and forces that could be read. Import it as a new derivation to
-          carry on working.
+          The model file holds the coordinates, parameters, inputs, definitions, energies and forces that could be read. Import it as a new derivation to carry
+          on working.
         </p>
         <a
           href={`/api/derivations/${derivationId}/recovered-model`}

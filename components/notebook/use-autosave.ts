@@ -154,7 +154,10 @@ export function useAutosave(options: AutosaveOptions): Autosave {
   const run = useCallback((): Promise<boolean> => {
     clearTimer();
     // After a failed request the retry schedule (or the user) decides; after a success, newer text goes next.
-    if (inFlight.current) return inFlight.current.then((ok) => (!ok && statusRef.current.state !== "unsaved" ? false : latest.current.json === confirmedJson.current ? true : run()));
+    if (inFlight.current)
+      return inFlight.current.then((ok) =>
+        !ok && statusRef.current.state !== "unsaved" ? false : latest.current.json === confirmedJson.current ? true : run(),
+      );
     if (statusRef.current.state === "conflict") return Promise.resolve(false);
     const sent = latest.current;
     if (sent.json === confirmedJson.current) {

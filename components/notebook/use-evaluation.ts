@@ -46,7 +46,15 @@ function diagnosticsOf(error: unknown): readonly ModelDiagnostic[] {
   return Array.isArray(list) ? (list as ModelDiagnostic[]) : NO_DIAGNOSTICS;
 }
 
-export function useEvaluation({ derivationId, document, settleMs = 1_200 }: { derivationId: string; document: DerivationDocument; settleMs?: number }): Evaluation {
+export function useEvaluation({
+  derivationId,
+  document,
+  settleMs = 1_200,
+}: {
+  derivationId: string;
+  document: DerivationDocument;
+  settleMs?: number;
+}): Evaluation {
   const json = JSON.stringify(document);
   const [settled, setSettled] = useState(json);
   // A notebook whose model is not written yet has nothing to derive: evaluating it would only list

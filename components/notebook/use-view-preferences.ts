@@ -28,7 +28,15 @@ export interface ViewPreferencesState {
   saveError: string | null;
 }
 
-export function useViewPreferences({ derivationId, initial, settleMs = 500 }: { derivationId: string; initial: ViewPreferences; settleMs?: number }): ViewPreferencesState {
+export function useViewPreferences({
+  derivationId,
+  initial,
+  settleMs = 500,
+}: {
+  derivationId: string;
+  initial: ViewPreferences;
+  settleMs?: number;
+}): ViewPreferencesState {
   const [preferences, setPreferences] = useState(initial);
   const [saveError, setSaveError] = useState<string | null>(null);
   const stored = useRef(JSON.stringify(initial));

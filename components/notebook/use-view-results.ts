@@ -90,7 +90,11 @@ export function useViewResults({
       ...common,
       queryKey: ["derivations", derivationId, "code", resultsDocumentJson, language],
       queryFn: ({ signal }: { signal: AbortSignal }) =>
-        apiFetch<CodeEntry>(`/api/derivations/${derivationId}/code`, { method: "POST", body: { document: JSON.parse(resultsDocumentJson!) as unknown, language }, signal }),
+        apiFetch<CodeEntry>(`/api/derivations/${derivationId}/code`, {
+          method: "POST",
+          body: { document: JSON.parse(resultsDocumentJson!) as unknown, language },
+          signal,
+        }),
     })),
   });
 
@@ -123,7 +127,11 @@ export function useViewResults({
  * choice is still being computed (the cell is marked busy meanwhile and keeps
  * the evaluated results on screen).
  */
-export function resultsForCell(cell: Cell, results: NotebookResults | null, view: ViewResults): { results: NotebookResults | null; computing: boolean; stale: boolean } {
+export function resultsForCell(
+  cell: Cell,
+  results: NotebookResults | null,
+  view: ViewResults,
+): { results: NotebookResults | null; computing: boolean; stale: boolean } {
   if (!results) return { results, computing: false, stale: false };
   if (cell.kind === "linearization") {
     const selected = results.linearization?.selected;

@@ -67,9 +67,10 @@ export function NotificationsMenu() {
   useShortcut("g n", "Open your notifications", () => setOpen(true));
 
   // Focus moves into the list when it opens; Escape or a click elsewhere closes it.
+  const { refetch } = query;
   useEffect(() => {
     if (!open) return;
-    void query.refetch();
+    void refetch();
     panelRef.current?.querySelector<HTMLElement>("a, button")?.focus();
     function onPointerDown(event: PointerEvent) {
       const target = event.target as Node;
@@ -77,8 +78,8 @@ export function NotificationsMenu() {
     }
     document.addEventListener("pointerdown", onPointerDown);
     return () => document.removeEventListener("pointerdown", onPointerDown);
-    // refetch is stable per query; only opening should run this.
-  }, [open]);
+    // refetch is stable per query, so in effect only opening runs this.
+  }, [open, refetch]);
 
   function close() {
     setOpen(false);
@@ -150,11 +151,20 @@ export function NotificationsMenu() {
                   <button
                     type="button"
                     onClick={() => openItem(item)}
-                    className={clsx("flex w-full gap-2 px-3 py-2 text-left hover:bg-sunken focus:bg-sunken focus:outline-none", item.readAt ? "text-muted" : "text-ink")}
+                    className={clsx(
+                      "flex w-full gap-2 px-3 py-2 text-left hover:bg-sunken focus:bg-sunken focus:outline-none",
+                      item.readAt ? "text-muted" : "text-ink",
+                    )}
                     data-testid="notification"
                     data-unread={item.readAt ? undefined : "true"}
                   >
-                    <span aria-hidden className={clsx("mt-0.5 w-4 shrink-0 text-center", item.kind === "approved" ? "text-seal" : item.kind === "changes_requested" ? "text-danger" : "text-action")}>
+                    <span
+                      aria-hidden
+                      className={clsx(
+                        "mt-0.5 w-4 shrink-0 text-center",
+                        item.kind === "approved" ? "text-seal" : item.kind === "changes_requested" ? "text-danger" : "text-action",
+                      )}
+                    >
                       {kindMarks[item.kind] ?? "•"}
                     </span>
                     <span className="min-w-0 flex-1">

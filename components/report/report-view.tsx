@@ -121,13 +121,22 @@ function ModelSection({ document }: { document: DerivationDocument }) {
         <Table
           label="Parameters"
           head={["Parameter", "Value", "Unit", "Description"]}
-          rows={parameters.map((row) => [<Tex key="s" latex={symbolLatex(row.name)} />, row.value.trim() || <span className="text-muted">symbolic</span>, row.unit, row.description])}
+          rows={parameters.map((row) => [
+            <Tex key="s" latex={symbolLatex(row.name)} />,
+            row.value.trim() || <span className="text-muted">symbolic</span>,
+            row.unit,
+            row.description,
+          ])}
         />
       )}
       {inputs.length > 0 ? (
         <>
           <h3 className="font-semibold">Inputs</h3>
-          <Table label="Inputs" head={["Input", "Unit", "Description"]} rows={inputs.map((row) => [<Tex key="s" latex={symbolLatex(row.name)} />, row.unit, row.description])} />
+          <Table
+            label="Inputs"
+            head={["Input", "Unit", "Description"]}
+            rows={inputs.map((row) => [<Tex key="s" latex={symbolLatex(row.name)} />, row.unit, row.description])}
+          />
         </>
       ) : null}
       {definitions.length > 0 ? (
@@ -189,14 +198,19 @@ function runSettingsText(settings: Record<string, unknown>): string[] {
           .map(([name, v]) => `${name} = ${typeof v === "number" ? formatValue(v) : String(v)}`)
           .join(", ")
       : "";
-  const lines = [`t from ${formatValue(Number(settings.startTime ?? 0))} s to ${formatValue(Number(settings.endTime))} s, output every ${formatValue(Number(settings.outputStep))} s`];
+  const lines = [
+    `t from ${formatValue(Number(settings.startTime ?? 0))} s to ${formatValue(Number(settings.endTime))} s, output every ${formatValue(Number(settings.outputStep))} s`,
+  ];
   const initial = numbers(settings.initialCoordinates);
   if (initial) lines.push(`initial coordinates: ${initial}`);
   const rates = numbers(settings.initialRates);
   if (rates) lines.push(`initial rates: ${rates}`);
   const parameters = numbers(settings.parameters);
   if (parameters) lines.push(`parameters set for this run: ${parameters}`);
-  const inputs = settings.inputs && typeof settings.inputs === "object" ? Object.entries(settings.inputs as Record<string, string>).map(([name, expr]) => `${name}(t) = ${expr}`) : [];
+  const inputs =
+    settings.inputs && typeof settings.inputs === "object"
+      ? Object.entries(settings.inputs as Record<string, string>).map(([name, expr]) => `${name}(t) = ${expr}`)
+      : [];
   if (inputs.length > 0) lines.push(`inputs: ${inputs.join(", ")}`);
   return lines;
 }
@@ -216,7 +230,9 @@ function RunBlock({ run, index }: { run: ReportRun; index: number }) {
           <li key={line}>{line}</li>
         ))}
         <li>
-          {run.status === "completed" ? `Completed: ${run.pointCount} output points.` : `Failed at t = ${formatValue(run.timeReached)} s: ${run.failureMessage ?? "no reason recorded"}.`}
+          {run.status === "completed"
+            ? `Completed: ${run.pointCount} output points.`
+            : `Failed at t = ${formatValue(run.timeReached)} s: ${run.failureMessage ?? "no reason recorded"}.`}
           {run.energyCheck
             ? ` Energy function drift ${run.energyCheck.relativeDrift.toExponential(2)} (limit ${run.energyCheck.threshold.toExponential(0)})${run.energyCheck.warning ? ": above the limit." : "."}`
             : ""}
@@ -225,7 +241,13 @@ function RunBlock({ run, index }: { run: ReportRun; index: number }) {
       {run.trajectory ? (
         <div className="grid gap-2 md:grid-cols-2 print:grid-cols-2">
           {run.trajectory.coordinateNames.map((name, i) => (
-            <SeriesChart key={name} times={run.trajectory!.times} values={run.trajectory!.coordinates[i] ?? []} label={name} unit={run.coordinateUnits[name] ?? ""} />
+            <SeriesChart
+              key={name}
+              times={run.trajectory!.times}
+              values={run.trajectory!.coordinates[i] ?? []}
+              label={name}
+              unit={run.coordinateUnits[name] ?? ""}
+            />
           ))}
         </div>
       ) : (
@@ -361,8 +383,14 @@ export function ReportView({ report, title, teamName, generatedAt }: { report: R
                 head={["Mode", "Natural frequency [Hz]", "Damped [Hz], ζ", `Shape (${coordinatesOf(selected.stateNames).join(", ")})`]}
                 rows={selected.modes.map((mode, k) => [
                   String(k + 1),
-                  mode.kind === "oscillating" ? formatValue(mode.hertz!) : mode.kind === "rigid" ? "0 (rigid)" : `growing, exp(${formatValue(mode.growthRate!)}·t)`,
-                  mode.eigenvalue ? `${formatValue(mode.eigenvalue.im / (2 * Math.PI))}, ζ = ${formatValue(Number((-mode.eigenvalue.re / Math.hypot(mode.eigenvalue.re, mode.eigenvalue.im)).toPrecision(3)))}` : "—",
+                  mode.kind === "oscillating"
+                    ? formatValue(mode.hertz!)
+                    : mode.kind === "rigid"
+                      ? "0 (rigid)"
+                      : `growing, exp(${formatValue(mode.growthRate!)}·t)`,
+                  mode.eigenvalue
+                    ? `${formatValue(mode.eigenvalue.im / (2 * Math.PI))}, ζ = ${formatValue(Number((-mode.eigenvalue.re / Math.hypot(mode.eigenvalue.re, mode.eigenvalue.im)).toPrecision(3)))}`
+                    : "—",
                   mode.shape.map((value) => formatValue(Number(value.toPrecision(3)))).join(", "),
                 ])}
               />
@@ -383,7 +411,10 @@ export function ReportView({ report, title, teamName, generatedAt }: { report: R
         <ul className="space-y-1 text-sm" data-testid="report-checks">
           <li>
             {evaluation.ok ? "✓ " : "✕ "}
-            Units: {evaluation.ok ? "every term of every equation has consistent units (checked by the engine while deriving)." : `not checked, the model does not derive (${evaluation.message}).`}
+            Units:{" "}
+            {evaluation.ok
+              ? "every term of every equation has consistent units (checked by the engine while deriving)."
+              : `not checked, the model does not derive (${evaluation.message}).`}
           </li>
           {energyRuns.length > 0 ? (
             energyRuns.map((run) => (
@@ -398,7 +429,11 @@ export function ReportView({ report, title, teamName, generatedAt }: { report: R
           )}
           {selected ? (
             <li>
-              – Small oscillations: {oscillating.length > 0 ? `${oscillating.map((mode) => `${formatValue(mode.hertz!)} Hz`).join(", ")} about the chosen equilibrium` : "no oscillating mode"}, {selected.stability} (section 4).
+              – Small oscillations:{" "}
+              {oscillating.length > 0
+                ? `${oscillating.map((mode) => `${formatValue(mode.hertz!)} Hz`).join(", ")} about the chosen equilibrium`
+                : "no oscillating mode"}
+              , {selected.stability} (section 4).
             </li>
           ) : null}
           {report.runs.some((run) => run.status === "failed") ? <li>✕ Simulation: at least one stored run failed (section 6).</li> : null}
@@ -413,8 +448,8 @@ export function ReportView({ report, title, teamName, generatedAt }: { report: R
         )}
         {report.otherRuns > 0 ? (
           <p className="text-xs text-muted">
-            {report.otherRuns} other stored run{report.otherRuns === 1 ? "" : "s"} of this derivation used another version of the model and {report.otherRuns === 1 ? "is" : "are"} not
-            shown.
+            {report.otherRuns} other stored run{report.otherRuns === 1 ? "" : "s"} of this derivation used another version of the model and{" "}
+            {report.otherRuns === 1 ? "is" : "are"} not shown.
           </p>
         ) : null}
       </Section>
@@ -469,7 +504,11 @@ export function ReportView({ report, title, teamName, generatedAt }: { report: R
         )}
       </Section>
 
-      <aside className="hn-report-safety rounded border border-l-4 border-seal/60 border-l-seal bg-seal-soft p-3 text-sm" data-testid="report-safety-note" role="note">
+      <aside
+        className="hn-report-safety rounded border border-l-4 border-seal/60 border-l-seal bg-seal-soft p-3 text-sm"
+        data-testid="report-safety-note"
+        role="note"
+      >
         <p className="font-semibold">Safety note</p>
         <p>{safetyNote}</p>
       </aside>

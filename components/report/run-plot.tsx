@@ -14,7 +14,7 @@ export function niceTicks(min: number, max: number, count = 4): number[] {
   if (min === max) return [min];
   const raw = (max - min) / count;
   const power = 10 ** Math.floor(Math.log10(raw));
-  const step = ([1, 2, 5, 10].map((m) => m * power).find((candidate) => candidate >= raw) ?? 10 * power);
+  const step = [1, 2, 5, 10].map((m) => m * power).find((candidate) => candidate >= raw) ?? 10 * power;
   const first = Math.ceil(min / step - 1e-9) * step;
   const ticks: number[] = [];
   for (let value = first; value <= max + step * 1e-9; value += step) ticks.push(Math.abs(value) < step * 1e-9 ? 0 : value);
@@ -67,7 +67,13 @@ export function SeriesChart({ times, values, label, unit }: { times: readonly nu
   const yTicks = niceTicks(yRange[0], yRange[1], 3);
   return (
     <figure className="hn-report-chart">
-      <svg viewBox={`0 0 ${WIDTH} ${HEIGHT}`} role="img" aria-label={`${label} in ${unit || "1"} against time in s`} className="h-auto w-full" data-testid="run-plot">
+      <svg
+        viewBox={`0 0 ${WIDTH} ${HEIGHT}`}
+        role="img"
+        aria-label={`${label} in ${unit || "1"} against time in s`}
+        className="h-auto w-full"
+        data-testid="run-plot"
+      >
         <g className="text-line" stroke="currentColor" strokeWidth="0.6">
           {yTicks.map((tick) => (
             <line key={`y${tick}`} x1={MARGIN.left} x2={WIDTH - MARGIN.right} y1={y(tick)} y2={y(tick)} />

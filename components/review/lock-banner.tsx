@@ -43,7 +43,8 @@ export function LockBanner({ derivationId, lock, canUnlock }: { derivationId: st
       <div className="min-w-0 flex-1 space-y-0.5">
         <p>
           <strong className="font-semibold text-seal">Approved and locked</strong> at <span data-testid="lock-revision">{revision}</span> by{" "}
-          <span data-testid="lock-approver">{lock.approvedByName ?? "a former member"}</span> on <time dateTime={lock.approvedAt}>{formatRecordTime(lock.approvedAt)}</time>.
+          <span data-testid="lock-approver">{lock.approvedByName ?? "a former member"}</span> on{" "}
+          <time dateTime={lock.approvedAt}>{formatRecordTime(lock.approvedAt)}</time>.
         </p>
         <p className="text-muted">
           Read-only for everyone, leads included, until a lead unlocks it with a reason. Content hash{" "}

@@ -139,7 +139,9 @@ export function RequestReviewDialog({
                       type="checkbox"
                       className="h-4 w-4 accent-[var(--action)]"
                       checked={chosen.includes(candidate.id)}
-                      onChange={(event) => setChosen((current) => (event.target.checked ? [...current, candidate.id] : current.filter((id) => id !== candidate.id)))}
+                      onChange={(event) =>
+                        setChosen((current) => (event.target.checked ? [...current, candidate.id] : current.filter((id) => id !== candidate.id)))
+                      }
                     />
                     {candidate.name}
                     <span className="text-xs text-muted">{roleLabels[candidate.role].toLowerCase()}</span>
@@ -307,10 +309,17 @@ export function UnlockDialog({
       <form onSubmit={submit} noValidate className="space-y-4" data-testid="unlock-form">
         {generalError(error, fields) ? <Notice tone="error">{generalError(error, fields)}</Notice> : null}
         <p className="text-sm text-muted">
-          Unlocking returns the derivation to draft so it can be changed. The approval of {revisionNumber !== null ? `revision ${revisionNumber}` : "the locked revision"} stays in
-          the history, with your name, the time and your reason.
+          Unlocking returns the derivation to draft so it can be changed. The approval of{" "}
+          {revisionNumber !== null ? `revision ${revisionNumber}` : "the locked revision"} stays in the history, with your name, the time and your reason.
         </p>
-        <TextArea label="Reason for unlocking" value={reason} onChange={setReason} error={fields.reason} autoFocus hint="At least a sentence; it is kept on record." />
+        <TextArea
+          label="Reason for unlocking"
+          value={reason}
+          onChange={setReason}
+          error={fields.reason}
+          autoFocus
+          hint="At least a sentence; it is kept on record."
+        />
         <div className="flex justify-end gap-2">
           <Button onClick={onClose}>Cancel</Button>
           <Button type="submit" variant="danger" disabled={pending}>

@@ -62,8 +62,8 @@ function Summary({ data }: { data: ReviewPanelData }) {
     const decided = request.reviewers.filter((reviewer) => reviewer.decision === "signed_off").length;
     return (
       <p>
-        <strong className="font-semibold text-review">In review</strong> — {revision(request.revisionNumber)}, asked by {request.requestedByName ?? "a former member"} on{" "}
-        {formatRecordTime(request.createdAt)}; {decided} of {request.reviewers.length} signed off.
+        <strong className="font-semibold text-review">In review</strong> — {revision(request.revisionNumber)}, asked by{" "}
+        {request.requestedByName ?? "a former member"} on {formatRecordTime(request.createdAt)}; {decided} of {request.reviewers.length} signed off.
       </p>
     );
   }
@@ -77,7 +77,8 @@ function Summary({ data }: { data: ReviewPanelData }) {
   }
   return (
     <p>
-      <strong className="font-semibold">Draft</strong> — {data.latest ? `latest revision ${data.latest.number}` : "no revision yet"}. Request review when it is ready.
+      <strong className="font-semibold">Draft</strong> — {data.latest ? `latest revision ${data.latest.number}` : "no revision yet"}. Request review when it is
+      ready.
     </p>
   );
 }
@@ -124,7 +125,12 @@ export function ReviewPanel({ data }: { data: ReviewPanelData }) {
   const reviewedIsNotLatest = request?.open && data.latest && data.latest.id !== request.revisionId;
 
   useShortcut("g h", "Open the history of this derivation", () => router.push(historyHref(data.derivationId)));
-  useShortcut("g p", "Open the printable report", () => data.reportRevisionId && router.push(reportHref(data.derivationId, data.reportRevisionId)), data.reportRevisionId !== null);
+  useShortcut(
+    "g p",
+    "Open the printable report",
+    () => data.reportRevisionId && router.push(reportHref(data.derivationId, data.reportRevisionId)),
+    data.reportRevisionId !== null,
+  );
   useShortcut("r", "Request review of this derivation", () => setRequesting(true), showRequest);
 
   async function requestReview(input: { reviewerIds: string[]; message: string }) {
@@ -175,7 +181,13 @@ export function ReviewPanel({ data }: { data: ReviewPanelData }) {
             </Button>
           ) : null}
           {showApprove ? (
-            <Button size="sm" variant="primary" disabled={blocker !== null} aria-describedby={blocker ? "approve-blocker" : undefined} onClick={() => setApproving(true)}>
+            <Button
+              size="sm"
+              variant="primary"
+              disabled={blocker !== null}
+              aria-describedby={blocker ? "approve-blocker" : undefined}
+              onClick={() => setApproving(true)}
+            >
               Approve revision {data.latest?.number ?? ""}
             </Button>
           ) : null}

@@ -55,7 +55,10 @@ export function ReviewSyncProvider({
       async prepare() {
         if (!latest.current.canEdit) return { ok: true };
         if (await latest.current.autosave.saveNow()) return { ok: true };
-        return { ok: false, message: "Your latest changes are not saved yet, so this step would miss them. Save them (see the save status above), then try again." };
+        return {
+          ok: false,
+          message: "Your latest changes are not saved yet, so this step would miss them. Save them (see the save status above), then try again.",
+        };
       },
       async settle() {
         const { derivation } = await apiFetch<{ derivation: { title: string; content: unknown; updatedAt: string } }>(`/api/derivations/${derivationId}`);

@@ -79,7 +79,14 @@ export function ApiTokensPanel({ teamId }: { teamId: string }) {
           create.mutate();
         }}
       >
-        <Field label="Name" className="min-w-48 flex-1" value={name} onChange={(event) => setName(event.target.value)} error={nameError} placeholder="e.g. gimbal firmware CI" />
+        <Field
+          label="Name"
+          className="min-w-48 flex-1"
+          value={name}
+          onChange={(event) => setName(event.target.value)}
+          error={nameError}
+          placeholder="e.g. gimbal firmware CI"
+        />
         <SelectField label="Expires after" value={lifetime} onChange={(event) => setLifetime(event.target.value)}>
           {LIFETIMES.map((option) => (
             <option key={option.label} value={option.days === null ? "none" : String(option.days)}>
@@ -100,7 +107,10 @@ export function ApiTokensPanel({ teamId }: { teamId: string }) {
               Token <strong>{created.name}</strong> created. Copy it now: it will not be shown again.
             </p>
             <div className="flex flex-wrap items-center gap-2">
-              <code className="min-w-0 flex-1 overflow-x-auto whitespace-nowrap rounded border border-line bg-paper px-2 py-1 font-mono text-xs" data-testid="new-token-value">
+              <code
+                className="min-w-0 flex-1 overflow-x-auto whitespace-nowrap rounded border border-line bg-paper px-2 py-1 font-mono text-xs"
+                data-testid="new-token-value"
+              >
                 {created.secret}
               </code>
               <Button
@@ -120,11 +130,21 @@ export function ApiTokensPanel({ teamId }: { teamId: string }) {
         <table className="w-full text-sm" data-testid="api-tokens-table">
           <thead className="border-b border-line bg-sunken/60 text-left">
             <tr>
-              <th scope="col" className="px-3 py-2 font-medium">Name</th>
-              <th scope="col" className="px-3 py-2 font-medium">Token</th>
-              <th scope="col" className="px-3 py-2 font-medium">State</th>
-              <th scope="col" className="px-3 py-2 font-medium">Expires</th>
-              <th scope="col" className="px-3 py-2 font-medium">Last used</th>
+              <th scope="col" className="px-3 py-2 font-medium">
+                Name
+              </th>
+              <th scope="col" className="px-3 py-2 font-medium">
+                Token
+              </th>
+              <th scope="col" className="px-3 py-2 font-medium">
+                State
+              </th>
+              <th scope="col" className="px-3 py-2 font-medium">
+                Expires
+              </th>
+              <th scope="col" className="px-3 py-2 font-medium">
+                Last used
+              </th>
               <th scope="col" className="px-3 py-2">
                 <span className="sr-only">Actions</span>
               </th>
@@ -145,7 +165,9 @@ export function ApiTokensPanel({ teamId }: { teamId: string }) {
                   <td className={token.state === "active" ? "px-3 py-2" : "px-3 py-2 text-muted"}>{stateLabels[token.state]}</td>
                   <td className="whitespace-nowrap px-3 py-2 text-muted">{token.expiresAt ? dateFormat.format(new Date(token.expiresAt)) : "Never"}</td>
                   <td className="whitespace-nowrap px-3 py-2 text-muted">
-                    {token.lastUsedAt ? `${dateTimeFormat.format(new Date(token.lastUsedAt))}${token.lastUsedAddress ? ` from ${token.lastUsedAddress}` : ""}` : "Never"}
+                    {token.lastUsedAt
+                      ? `${dateTimeFormat.format(new Date(token.lastUsedAt))}${token.lastUsedAddress ? ` from ${token.lastUsedAddress}` : ""}`
+                      : "Never"}
                   </td>
                   <td className="px-3 py-2 text-right">
                     {token.state === "active" ? (

@@ -19,7 +19,17 @@ type InviteRow = InviteJson;
 
 const dateFormat = new Intl.DateTimeFormat("en-GB", { dateStyle: "medium" });
 
-export function MembersPanel({ teamId, currentUserId, mayManage, mayInvite }: { teamId: string; currentUserId: string; mayManage: boolean; mayInvite: boolean }) {
+export function MembersPanel({
+  teamId,
+  currentUserId,
+  mayManage,
+  mayInvite,
+}: {
+  teamId: string;
+  currentUserId: string;
+  mayManage: boolean;
+  mayInvite: boolean;
+}) {
   const queryClient = useQueryClient();
   const router = useRouter();
   const membersKey = ["teams", teamId, "members"];
@@ -69,11 +79,23 @@ export function MembersPanel({ teamId, currentUserId, mayManage, mayInvite }: { 
           <table className="w-full text-sm" data-testid="members-table">
             <thead className="border-b border-line bg-sunken/60 text-left">
               <tr>
-                <th scope="col" className="px-3 py-2 font-medium">Name</th>
-                <th scope="col" className="px-3 py-2 font-medium">E-mail</th>
-                <th scope="col" className="px-3 py-2 font-medium">Role</th>
-                <th scope="col" className="px-3 py-2 font-medium">Joined</th>
-                {mayManage ? <th scope="col" className="px-3 py-2"><span className="sr-only">Actions</span></th> : null}
+                <th scope="col" className="px-3 py-2 font-medium">
+                  Name
+                </th>
+                <th scope="col" className="px-3 py-2 font-medium">
+                  E-mail
+                </th>
+                <th scope="col" className="px-3 py-2 font-medium">
+                  Role
+                </th>
+                <th scope="col" className="px-3 py-2 font-medium">
+                  Joined
+                </th>
+                {mayManage ? (
+                  <th scope="col" className="px-3 py-2">
+                    <span className="sr-only">Actions</span>
+                  </th>
+                ) : null}
               </tr>
             </thead>
             <tbody>
@@ -138,7 +160,12 @@ export function MembersPanel({ teamId, currentUserId, mayManage, mayInvite }: { 
       {mayInvite ? (
         <aside className="min-w-0 space-y-4">
           <InviteForm teamId={teamId} onInvited={() => queryClient.invalidateQueries({ queryKey: invitesKey })} />
-          <OpenInvites teamId={teamId} invites={invites.data?.invites ?? []} error={invites.error?.message ?? null} onChanged={() => queryClient.invalidateQueries({ queryKey: invitesKey })} />
+          <OpenInvites
+            teamId={teamId}
+            invites={invites.data?.invites ?? []}
+            error={invites.error?.message ?? null}
+            onChanged={() => queryClient.invalidateQueries({ queryKey: invitesKey })}
+          />
         </aside>
       ) : null}
     </div>

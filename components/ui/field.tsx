@@ -42,10 +42,7 @@ interface SelectFieldProps extends SelectHTMLAttributes<HTMLSelectElement> {
   error?: string;
 }
 
-export const SelectField = forwardRef<HTMLSelectElement, SelectFieldProps>(function SelectField(
-  { label, error, className, id, children, ...props },
-  ref,
-) {
+export const SelectField = forwardRef<HTMLSelectElement, SelectFieldProps>(function SelectField({ label, error, className, id, children, ...props }, ref) {
   const generatedId = useId();
   const selectId = id ?? generatedId;
   return (

@@ -22,9 +22,19 @@ export async function createApiToken({
   expiresAt: Date | null;
 }): Promise<ApiToken> {
   return db.transaction(async (tx) => {
-    const token = returnedRow(await tx.insert(apiTokens).values({ teamId, name: name.trim(), tokenHash, prefix, createdById, expiresAt }).returning(), "API token");
+    const token = returnedRow(
+      await tx.insert(apiTokens).values({ teamId, name: name.trim(), tokenHash, prefix, createdById, expiresAt }).returning(),
+      "API token",
+    );
     await recordAuditEvent(
-      { teamId, actorId: createdById, action: "token.create", targetType: "api_token", targetId: token.id, details: { name: token.name, prefix, expiresAt: expiresAt?.toISOString() ?? null } },
+      {
+        teamId,
+        actorId: createdById,
+        action: "token.create",
+        targetType: "api_token",
+        targetId: token.id,
+        details: { name: token.name, prefix, expiresAt: expiresAt?.toISOString() ?? null },
+      },
       tx,
     );
     return token;
@@ -43,14 +53,22 @@ export async function getApiTokenByHash({ tokenHash }: { tokenHash: string }, ex
 /** Revokes a token of the team; null when the team has no such token. Revoking twice keeps the first time. */
 export async function revokeApiTokenByTeamIdAndId({ teamId, id, actorId }: { teamId: string; id: string; actorId: string }): Promise<ApiToken | null> {
   return db.transaction(async (tx) => {
-    const [token] = await tx.select().from(apiTokens).where(and(eq(apiTokens.teamId, teamId), eq(apiTokens.id, id))).for("update").limit(1);
+    const [token] = await tx
+      .select()
+      .from(apiTokens)
+      .where(and(eq(apiTokens.teamId, teamId), eq(apiTokens.id, id)))
+      .for("update")
+      .limit(1);
     if (!token) return null;
     if (token.revokedAt) return token;
     const revoked = returnedRow(
       await tx.update(apiTokens).set({ revokedAt: new Date(), revokedById: actorId, updatedAt: new Date() }).where(eq(apiTokens.id, id)).returning(),
       "API token",
     );
-    await recordAuditEvent({ teamId, actorId, action: "token.revoke", targetType: "api_token", targetId: id, details: { name: token.name, prefix: token.prefix } }, tx);
+    await recordAuditEvent(
+      { teamId, actorId, action: "token.revoke", targetType: "api_token", targetId: id, details: { name: token.name, prefix: token.prefix } },
+      tx,
+    );
     return revoked;
   });
 }

@@ -31,10 +31,7 @@ export async function recordAuditEvent(
   });
 }
 
-export async function getAuditEventsByTeamId(
-  { teamId, limit = 50 }: { teamId: string; limit?: number },
-  executor: Executor = db,
-): Promise<AuditLogEntry[]> {
+export async function getAuditEventsByTeamId({ teamId, limit = 50 }: { teamId: string; limit?: number }, executor: Executor = db): Promise<AuditLogEntry[]> {
   return executor.select().from(auditLog).where(eq(auditLog.teamId, teamId)).orderBy(desc(auditLog.createdAt)).limit(limit);
 }
 
@@ -83,7 +80,9 @@ export async function getAuditActionsByTeamId({ teamId }: { teamId: string }, ex
   const rows = await executor
     .selectDistinct({ action: auditLog.action })
     .from(auditLog)
-    .where(or(eq(auditLog.teamId, teamId), and(isNull(auditLog.teamId), sql`${auditLog.actorId} in (select user_id from memberships where team_id = ${teamId})`)))
+    .where(
+      or(eq(auditLog.teamId, teamId), and(isNull(auditLog.teamId), sql`${auditLog.actorId} in (select user_id from memberships where team_id = ${teamId})`)),
+    )
     .orderBy(auditLog.action);
   return rows.map((row) => row.action);
 }

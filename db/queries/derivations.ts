@@ -4,16 +4,7 @@ import { and, asc, count, desc, eq, gt, ilike, inArray, isNotNull, isNull, lte, 
 import { alias } from "drizzle-orm/pg-core";
 import type { DerivationDocument } from "@/lib/notebook/document";
 import { db, type Executor } from "../client";
-import {
-  derivations,
-  files,
-  simulationRuns,
-  users,
-  type Derivation,
-  type DerivationStatus,
-  type NewSimulationRun,
-  type NewStoredFile,
-} from "../schema";
+import { derivations, files, simulationRuns, users, type Derivation, type DerivationStatus, type NewSimulationRun, type NewStoredFile } from "../schema";
 import { currentRevision, getLatestRevisionByDerivationId, lockDerivationRow } from "./revisions";
 
 /** A pause in editing this long ends a stretch of work: the state it left becomes an automatic revision. */
@@ -172,14 +163,24 @@ export async function createDerivation({
 }): Promise<Derivation> {
   return db.transaction(async (tx) => {
     const derivation = returnedRow(
-      await tx.insert(derivations).values({ ...(id ? { id } : {}), teamId, title: title.trim(), ownerId, updatedById: ownerId, content, status }).returning(),
+      await tx
+        .insert(derivations)
+        .values({ ...(id ? { id } : {}), teamId, title: title.trim(), ownerId, updatedById: ownerId, content, status })
+        .returning(),
       "derivation",
     );
     if (idempotency) await claimIdempotencyKey({ claim: idempotency, derivationId: derivation.id }, tx);
     if (attachedFiles.length > 0) await tx.insert(files).values(attachedFiles.map((file) => ({ ...file, derivationId: derivation.id })));
     if (runs.length > 0) await tx.insert(simulationRuns).values(runs.map((run) => ({ ...run, derivationId: derivation.id })));
     await recordAuditEvent(
-      { teamId, actorId: ownerId, action: "derivation.create", targetType: "derivation", targetId: derivation.id, ...(auditDetails ? { details: auditDetails } : {}) },
+      {
+        teamId,
+        actorId: ownerId,
+        action: "derivation.create",
+        targetType: "derivation",
+        targetId: derivation.id,
+        ...(auditDetails ? { details: auditDetails } : {}),
+      },
       tx,
     );
     return derivation;
@@ -214,7 +215,10 @@ export async function updateDerivationById({
       "derivation",
     );
     const fields = Object.keys(changes).filter((key) => changes[key as keyof typeof changes] !== undefined);
-    await recordAuditEvent({ teamId: derivation.teamId, actorId, action: "derivation.update", targetType: "derivation", targetId: id, details: { fields } }, tx);
+    await recordAuditEvent(
+      { teamId: derivation.teamId, actorId, action: "derivation.update", targetType: "derivation", targetId: id, details: { fields } },
+      tx,
+    );
     return derivation;
   });
 }
@@ -254,7 +258,13 @@ export async function getTrashedDerivationsByTeamId({ teamId, deletedAfter }: { 
 }
 
 /** A derivation in the trash (deleted after `deletedAfter`), with its owner's name; null otherwise. */
-export async function getTrashedDerivationById({ id, deletedAfter }: { id: string; deletedAfter: Date }): Promise<(Derivation & { ownerName: string | null }) | null> {
+export async function getTrashedDerivationById({
+  id,
+  deletedAfter,
+}: {
+  id: string;
+  deletedAfter: Date;
+}): Promise<(Derivation & { ownerName: string | null }) | null> {
   const [row] = await db
     .select({ derivation: derivations, ownerName: users.name })
     .from(derivations)
@@ -325,7 +335,11 @@ export async function purgeTrashedDerivations({
     if (ids) conditions.push(inArray(derivations.id, ids));
     if (deletedUpTo) conditions.push(lte(derivations.deletedAt, deletedUpTo));
     // Lock the rows first so a concurrent restore either wins before this or finds nothing.
-    const doomed = await tx.select({ id: derivations.id }).from(derivations).where(and(...conditions)).for("update");
+    const doomed = await tx
+      .select({ id: derivations.id })
+      .from(derivations)
+      .where(and(...conditions))
+      .for("update");
     if (doomed.length === 0) return { purged: [], objectKeys: [] };
     const doomedIds = doomed.map((row) => row.id);
     const fileKeys = await tx.select({ key: files.objectKey }).from(files).where(inArray(files.derivationId, doomedIds));
@@ -335,7 +349,10 @@ export async function purgeTrashedDerivations({
       .where(and(inArray(simulationRuns.derivationId, doomedIds), isNotNull(simulationRuns.trajectoryKey)));
     const purged = await tx.delete(derivations).where(inArray(derivations.id, doomedIds)).returning({ id: derivations.id, title: derivations.title });
     for (const row of purged) {
-      await recordAuditEvent({ teamId, actorId, action: "derivation.purge", targetType: "derivation", targetId: row.id, details: { title: row.title, reason } }, tx);
+      await recordAuditEvent(
+        { teamId, actorId, action: "derivation.purge", targetType: "derivation", targetId: row.id, details: { title: row.title, reason } },
+        tx,
+      );
     }
     return { purged, objectKeys: [...fileKeys.map((row) => row.key), ...runKeys.flatMap((row) => (row.key ? [row.key] : []))] };
   });

@@ -18,12 +18,7 @@ export async function getEvaluationByModelHash({ modelHash }: { modelHash: strin
  * same content at once both succeed; the later result replaces the earlier one.
  */
 export async function upsertEvaluationByModelHash(
-  {
-    modelHash,
-    engineVersion,
-    result,
-    timings,
-  }: { modelHash: string; engineVersion: string; result: Record<string, unknown>; timings: Record<string, number> },
+  { modelHash, engineVersion, result, timings }: { modelHash: string; engineVersion: string; result: Record<string, unknown>; timings: Record<string, number> },
   executor: Executor = db,
 ): Promise<Evaluation> {
   const [row] = await executor

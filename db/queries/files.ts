@@ -48,7 +48,11 @@ export async function getFileByIdAndDerivationId(
   { id, derivationId }: { id: string; derivationId: string },
   executor: Executor = db,
 ): Promise<StoredFile | null> {
-  const [row] = await executor.select().from(files).where(and(eq(files.id, id), eq(files.derivationId, derivationId))).limit(1);
+  const [row] = await executor
+    .select()
+    .from(files)
+    .where(and(eq(files.id, id), eq(files.derivationId, derivationId)))
+    .limit(1);
   return row ?? null;
 }
 

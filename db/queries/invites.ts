@@ -132,10 +132,20 @@ export async function resendInviteById({
 
 async function insertInvite(
   executor: Executor,
-  { teamId, email, role, tokenHash, invitedById, expiresAt }: { teamId: string; email: string; role: MemberRole; tokenHash: string; invitedById: string; expiresAt: Date },
+  {
+    teamId,
+    email,
+    role,
+    tokenHash,
+    invitedById,
+    expiresAt,
+  }: { teamId: string; email: string; role: MemberRole; tokenHash: string; invitedById: string; expiresAt: Date },
 ): Promise<Invite> {
   const invite = returnedRow(
-    await executor.insert(invites).values({ teamId, email: normaliseEmail(email), role, tokenHash, invitedById, expiresAt }).returning(),
+    await executor
+      .insert(invites)
+      .values({ teamId, email: normaliseEmail(email), role, tokenHash, invitedById, expiresAt })
+      .returning(),
     "invite",
   );
   await recordAuditEvent(
@@ -189,9 +199,7 @@ export async function acceptInviteByTokenHash({
     }
     await tx.update(invites).set({ usedAt: new Date(), usedById: userId, updatedAt: new Date() }).where(eq(invites.id, invite.id));
     // Other open invites to the same address for this team are settled by this one.
-    await tx
-      .delete(invites)
-      .where(and(eq(invites.teamId, invite.teamId), eq(invites.email, invite.email), isNull(invites.usedAt), ne(invites.id, invite.id)));
+    await tx.delete(invites).where(and(eq(invites.teamId, invite.teamId), eq(invites.email, invite.email), isNull(invites.usedAt), ne(invites.id, invite.id)));
     const existing = await tx.query.memberships.findFirst({
       where: (m, { and: both, eq: equals }) => both(equals(m.teamId, invite.teamId), equals(m.userId, userId)),
     });

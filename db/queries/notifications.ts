@@ -18,7 +18,10 @@ export async function createNotifications(rows: NewNotification[], executor: Exe
 
 export type NotificationRow = Notification & { actorName: string | null; derivationTitle: string | null };
 
-export async function getNotificationsByUserId({ userId, limit = 50 }: { userId: string; limit?: number }, executor: Executor = db): Promise<NotificationRow[]> {
+export async function getNotificationsByUserId(
+  { userId, limit = 50 }: { userId: string; limit?: number },
+  executor: Executor = db,
+): Promise<NotificationRow[]> {
   const rows = await executor
     .select({ notification: notifications, actorName: users.name, derivationTitle: derivations.title })
     .from(notifications)
@@ -31,7 +34,10 @@ export async function getNotificationsByUserId({ userId, limit = 50 }: { userId:
 }
 
 export async function countUnreadNotificationsByUserId({ userId }: { userId: string }, executor: Executor = db): Promise<number> {
-  const [row] = await executor.select({ unread: count() }).from(notifications).where(and(eq(notifications.userId, userId), isNull(notifications.readAt)));
+  const [row] = await executor
+    .select({ unread: count() })
+    .from(notifications)
+    .where(and(eq(notifications.userId, userId), isNull(notifications.readAt)));
   return row?.unread ?? 0;
 }
 

@@ -53,12 +53,25 @@ export async function requestReview({
     if (derivation.lockedAt) return { ok: false, reason: "locked", derivation } as const;
     const revision = await currentRevision(tx, { derivation, kind: "review", createdById: requesterId });
     const now = new Date();
-    await tx.update(reviewRequests).set({ closedAt: now, updatedAt: now }).where(and(eq(reviewRequests.derivationId, derivationId), isNull(reviewRequests.closedAt)));
-    const request = returnedRow(await tx.insert(reviewRequests).values({ derivationId, revisionId: revision.id, requestedById: requesterId, message }).returning(), "review request");
+    await tx
+      .update(reviewRequests)
+      .set({ closedAt: now, updatedAt: now })
+      .where(and(eq(reviewRequests.derivationId, derivationId), isNull(reviewRequests.closedAt)));
+    const request = returnedRow(
+      await tx.insert(reviewRequests).values({ derivationId, revisionId: revision.id, requestedById: requesterId, message }).returning(),
+      "review request",
+    );
     await tx.insert(reviewAssignments).values(reviewerIds.map((reviewerId) => ({ requestId: request.id, reviewerId })));
     await tx.update(derivations).set({ status: "in_review", updatedAt: now }).where(eq(derivations.id, derivationId));
     await recordAuditEvent(
-      { teamId: derivation.teamId, actorId: requesterId, action: "derivation.review_request", targetType: "derivation", targetId: derivationId, details: { revision: revision.number, reviewerIds } },
+      {
+        teamId: derivation.teamId,
+        actorId: requesterId,
+        action: "derivation.review_request",
+        targetType: "derivation",
+        targetId: derivationId,
+        details: { revision: revision.number, reviewerIds },
+      },
       tx,
     );
     await createNotifications(
@@ -160,7 +173,8 @@ export async function approveRevision({
     const latest = await getLatestRevisionByDerivationId({ derivationId }, tx);
     if (!latest) return { ok: false, reason: "no_revision" } as const;
     if (latest.id !== revisionId) return { ok: false, reason: "not_latest", latest } as const;
-    if (latest.contentHash !== contentHash(derivation.content) || derivation.pendingAuthorIds.length > 0) return { ok: false, reason: "changed_since", latest } as const;
+    if (latest.contentHash !== contentHash(derivation.content) || derivation.pendingAuthorIds.length > 0)
+      return { ok: false, reason: "changed_since", latest } as const;
     if (latest.authorIds.includes(approverId)) return { ok: false, reason: "own_changes", latest } as const;
     const [open] = await tx
       .select({ id: reviewRequests.id })
@@ -182,7 +196,10 @@ export async function approveRevision({
         .returning(),
       "derivation",
     );
-    await tx.update(reviewRequests).set({ closedAt: now, updatedAt: now }).where(and(eq(reviewRequests.derivationId, derivationId), isNull(reviewRequests.closedAt)));
+    await tx
+      .update(reviewRequests)
+      .set({ closedAt: now, updatedAt: now })
+      .where(and(eq(reviewRequests.derivationId, derivationId), isNull(reviewRequests.closedAt)));
     await recordAuditEvent(
       {
         teamId: derivation.teamId,
@@ -196,7 +213,14 @@ export async function approveRevision({
     );
     const notify = [...new Set([derivation.ownerId, ...latest.authorIds].filter((id): id is string => !!id && id !== approverId))];
     await createNotifications(
-      notify.map((userId) => ({ userId, teamId: derivation.teamId, derivationId, actorId: approverId, kind: "approved", text: `approved revision ${latest.number} of "${derivation.title}"` })),
+      notify.map((userId) => ({
+        userId,
+        teamId: derivation.teamId,
+        derivationId,
+        actorId: approverId,
+        kind: "approved",
+        text: `approved revision ${latest.number} of "${derivation.title}"`,
+      })),
       tx,
     );
     return { ok: true, approval, revision: latest, derivation: locked } as const;
@@ -232,7 +256,14 @@ export async function unlockDerivation({
       "derivation",
     );
     await recordAuditEvent(
-      { teamId: derivation.teamId, actorId, action: "derivation.unlock", targetType: "derivation", targetId: derivationId, details: { reason, revisionId: derivation.lockedRevisionId } },
+      {
+        teamId: derivation.teamId,
+        actorId,
+        action: "derivation.unlock",
+        targetType: "derivation",
+        targetId: derivationId,
+        details: { reason, revisionId: derivation.lockedRevisionId },
+      },
       tx,
     );
     return { ok: true, derivation: unlocked, approval: approval ?? null } as const;

@@ -105,8 +105,15 @@ export async function getRevisionsByDerivationId({ derivationId }: { derivationI
   return rows;
 }
 
-export async function getRevisionByDerivationIdAndId({ derivationId, id }: { derivationId: string; id: string }, executor: Executor = db): Promise<Revision | null> {
-  const [row] = await executor.select().from(revisions).where(and(eq(revisions.derivationId, derivationId), eq(revisions.id, id))).limit(1);
+export async function getRevisionByDerivationIdAndId(
+  { derivationId, id }: { derivationId: string; id: string },
+  executor: Executor = db,
+): Promise<Revision | null> {
+  const [row] = await executor
+    .select()
+    .from(revisions)
+    .where(and(eq(revisions.derivationId, derivationId), eq(revisions.id, id)))
+    .limit(1);
   return row ?? null;
 }
 
@@ -139,14 +146,29 @@ export async function mergeRevisionResultsById({ id, results }: { id: string; re
 export type HistoryRefusal = { ok: false; reason: "missing" } | { ok: false; reason: "locked" } | { ok: false; reason: "no_revision" };
 
 /** Names the current content as a checkpoint (a new revision, even when the content matches the latest). */
-export async function createCheckpoint({ derivationId, name, actorId }: { derivationId: string; name: string; actorId: string }): Promise<{ ok: true; revision: Revision } | HistoryRefusal> {
+export async function createCheckpoint({
+  derivationId,
+  name,
+  actorId,
+}: {
+  derivationId: string;
+  name: string;
+  actorId: string;
+}): Promise<{ ok: true; revision: Revision } | HistoryRefusal> {
   return db.transaction(async (tx) => {
     const derivation = await lockDerivationRow(tx, derivationId);
     if (!derivation) return { ok: false, reason: "missing" } as const;
     if (derivation.lockedAt) return { ok: false, reason: "locked" } as const;
     const revision = await insertRevision(tx, { derivation, kind: "checkpoint", name, createdById: actorId });
     await recordAuditEvent(
-      { teamId: derivation.teamId, actorId, action: "derivation.checkpoint", targetType: "derivation", targetId: derivationId, details: { revision: revision.number, name } },
+      {
+        teamId: derivation.teamId,
+        actorId,
+        action: "derivation.checkpoint",
+        targetType: "derivation",
+        targetId: derivationId,
+        details: { revision: revision.number, name },
+      },
       tx,
     );
     return { ok: true, revision } as const;
@@ -185,7 +207,14 @@ export async function restoreRevision({
     );
     const revision = await insertRevision(tx, { derivation: restored, kind: "restore", name: `Restored revision ${source.number}`, createdById: actorId });
     await recordAuditEvent(
-      { teamId: derivation.teamId, actorId, action: "derivation.restore", targetType: "derivation", targetId: derivationId, details: { from: source.number, revision: revision.number } },
+      {
+        teamId: derivation.teamId,
+        actorId,
+        action: "derivation.restore",
+        targetType: "derivation",
+        targetId: derivationId,
+        details: { from: source.number, revision: revision.number },
+      },
       tx,
     );
     const [current] = await tx.select().from(derivations).where(eq(derivations.id, derivationId)).limit(1);

@@ -126,11 +126,7 @@ export async function upsertMembership(
 // Locks the team's membership rows so two concurrent changes cannot both remove
 // "the other" lead. Returns the number of leads after the lock is taken.
 async function lockLeadCount(executor: Executor, teamId: string): Promise<number> {
-  const rows = await executor
-    .select({ role: memberships.role })
-    .from(memberships)
-    .where(eq(memberships.teamId, teamId))
-    .for("update");
+  const rows = await executor.select({ role: memberships.role }).from(memberships).where(eq(memberships.teamId, teamId)).for("update");
   return rows.filter((row) => row.role === "lead").length;
 }
 
@@ -166,15 +162,7 @@ export async function updateMemberRoleByTeamIdAndUserId({
 }
 
 /** Removes a member; refuses to remove the team's last lead. */
-export async function deleteMembershipByTeamIdAndUserId({
-  teamId,
-  userId,
-  actorId,
-}: {
-  teamId: string;
-  userId: string;
-  actorId: string;
-}): Promise<void> {
+export async function deleteMembershipByTeamIdAndUserId({ teamId, userId, actorId }: { teamId: string; userId: string; actorId: string }): Promise<void> {
   await db.transaction(async (tx) => {
     const leads = await lockLeadCount(tx, teamId);
     const current = await getMembershipByTeamIdAndUserId({ teamId, userId }, tx);

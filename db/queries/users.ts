@@ -8,7 +8,11 @@ export function normaliseEmail(email: string): string {
 }
 
 export async function getUserByEmail({ email }: { email: string }, executor: Executor = db): Promise<User | null> {
-  const [user] = await executor.select().from(users).where(eq(users.email, normaliseEmail(email))).limit(1);
+  const [user] = await executor
+    .select()
+    .from(users)
+    .where(eq(users.email, normaliseEmail(email)))
+    .limit(1);
   return user ?? null;
 }
 
@@ -30,9 +34,6 @@ export async function createUser(
   return user ?? null;
 }
 
-export async function updateUserPasswordById(
-  { id, passwordHash }: { id: string; passwordHash: string },
-  executor: Executor = db,
-): Promise<void> {
+export async function updateUserPasswordById({ id, passwordHash }: { id: string; passwordHash: string }, executor: Executor = db): Promise<void> {
   await executor.update(users).set({ passwordHash, updatedAt: new Date() }).where(eq(users.id, id));
 }

@@ -28,9 +28,16 @@ export const demoUsers: { email: string; name: string; role: MemberRole }[] = [
  * generated cells. Cell ids are derived from the title so re-seeding gives the
  * same document.
  */
-function demoNotebook(model: Model, note: string, extra: { linearization?: boolean; code?: "python" | "c" | "julia" | "octave" | "typescript" } = {}): DerivationDocument {
+function demoNotebook(
+  model: Model,
+  note: string,
+  extra: { linearization?: boolean; code?: "python" | "c" | "julia" | "octave" | "typescript" } = {},
+): DerivationDocument {
   let counter = 0;
-  const prefix = model.title.toLowerCase().replace(/[^a-z0-9]+/g, "").slice(0, 12);
+  const prefix = model.title
+    .toLowerCase()
+    .replace(/[^a-z0-9]+/g, "")
+    .slice(0, 12);
   const newId = () => `${prefix}${(counter += 1)}`;
   const doc = modelToDocument(model, newId);
   const cells: Cell[] = [{ ...createCell("note", newId()), markdown: note }, ...doc.cells];

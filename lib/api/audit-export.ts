@@ -19,5 +19,12 @@ export async function auditExport({
   format: ExportFormat;
   details?: Record<string, unknown>;
 }): Promise<void> {
-  await recordAuditEvent({ teamId: derivation.teamId, actorId, action: "derivation.export", targetType: "derivation", targetId: derivation.id, details: { format, ...details } });
+  await recordAuditEvent({
+    teamId: derivation.teamId,
+    actorId,
+    action: "derivation.export",
+    targetType: "derivation",
+    targetId: derivation.id,
+    details: { format, ...details },
+  });
 }

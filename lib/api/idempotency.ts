@@ -53,9 +53,13 @@ async function earlierAnswer(claim: IdempotencyClaim): Promise<Derivation | null
   }
   const found = await getDerivationById({ id: record.derivationId });
   if (!found) {
-    throw new AppError("conflict:derivation", "This request was already made with the same Idempotency-Key, and the derivation it created has since been deleted.", {
-      details: { code: "idempotent_result_deleted", derivationId: record.derivationId },
-    });
+    throw new AppError(
+      "conflict:derivation",
+      "This request was already made with the same Idempotency-Key, and the derivation it created has since been deleted.",
+      {
+        details: { code: "idempotent_result_deleted", derivationId: record.derivationId },
+      },
+    );
   }
   const { ownerName: _ownerName, ...derivation } = found;
   return derivation;

@@ -11,9 +11,7 @@ type RouteContext<Params> = { params: Promise<Params> };
  * errors are logged in full and answered with a generic 500. The handler runs
  * with the client's address in the request context, for the audit log.
  */
-export function apiRoute<Params = Record<string, never>>(
-  handler: (request: Request, context: RouteContext<Params>) => Promise<Response>,
-) {
+export function apiRoute<Params = Record<string, never>>(handler: (request: Request, context: RouteContext<Params>) => Promise<Response>) {
   return async (request: Request, context: RouteContext<Params>): Promise<Response> => {
     try {
       return await withRequestContext({ clientAddress: clientAddress(request.headers) }, () => handler(request, context));

@@ -46,9 +46,7 @@ export interface DerivationAccess {
 export async function loadDerivationFor(user: SessionUser, derivationId: string, action: Action): Promise<DerivationAccess> {
   if (!uuidPattern.test(derivationId)) throw new AppError("not_found:derivation", "Derivation not found.");
   const derivation = await getDerivationById({ id: derivationId });
-  const membership = derivation
-    ? await getMembershipByTeamIdAndUserId({ teamId: derivation.teamId, userId: user.id })
-    : null;
+  const membership = derivation ? await getMembershipByTeamIdAndUserId({ teamId: derivation.teamId, userId: user.id }) : null;
   if (!derivation || !membership) throw new AppError("not_found:derivation", "Derivation not found.");
   assertCan(membership.role, action, { status: derivation.status, locked: derivation.lockedAt !== null, isOwner: derivation.ownerId === user.id });
   return { derivation, membership };
@@ -62,8 +60,7 @@ export async function loadDerivationFor(user: SessionUser, derivationId: string,
 export async function loadTrashedDerivationFor(user: SessionUser, teamId: string, derivationId: string, action: Action): Promise<DerivationAccess> {
   if (!uuidPattern.test(teamId) || !uuidPattern.test(derivationId)) throw new AppError("not_found:derivation", "Derivation not found in the trash.");
   const derivation = await getTrashedDerivationById({ id: derivationId, deletedAfter: trashCutoff() });
-  const membership =
-    derivation && derivation.teamId === teamId ? await getMembershipByTeamIdAndUserId({ teamId: derivation.teamId, userId: user.id }) : null;
+  const membership = derivation && derivation.teamId === teamId ? await getMembershipByTeamIdAndUserId({ teamId: derivation.teamId, userId: user.id }) : null;
   if (!derivation || !membership) throw new AppError("not_found:derivation", "Derivation not found in the trash.");
   assertCan(membership.role, action, { status: derivation.status, isOwner: derivation.ownerId === user.id });
   return { derivation, membership };

@@ -8,11 +8,7 @@ import { isDatabaseUnavailable } from "@/lib/errors";
 import { verifyAgainstDummy, verifyPassword } from "./password";
 import { countAgainst, isRateLimited, rateLimits } from "./rate-limit";
 
-export type AuthenticationResult =
-  | { status: "ok"; user: User }
-  | { status: "invalid" }
-  | { status: "rate_limited" }
-  | { status: "unavailable" };
+export type AuthenticationResult = { status: "ok"; user: User } | { status: "invalid" } | { status: "rate_limited" } | { status: "unavailable" };
 
 /**
  * Checks an e-mail and password. Unknown e-mail and wrong password give the same

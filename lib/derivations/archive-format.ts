@@ -289,10 +289,18 @@ function readManifest(bytes: Uint8Array): Manifest {
   } catch {
     throw new NotebookArchiveError([{ path: MANIFEST, message: "not JSON" }]);
   }
-  if (typeof raw === "object" && raw !== null && typeof (raw as { version?: unknown }).version === "number" && (raw as { version: number }).version > NOTEBOOK_ARCHIVE_VERSION) {
+  if (
+    typeof raw === "object" &&
+    raw !== null &&
+    typeof (raw as { version?: unknown }).version === "number" &&
+    (raw as { version: number }).version > NOTEBOOK_ARCHIVE_VERSION
+  ) {
     const version = (raw as { version: number }).version;
     throw new NotebookArchiveError([
-      { path: `${MANIFEST}: version`, message: `written by a newer version of Holonomy (archive version ${version}; this one reads up to ${NOTEBOOK_ARCHIVE_VERSION})` },
+      {
+        path: `${MANIFEST}: version`,
+        message: `written by a newer version of Holonomy (archive version ${version}; this one reads up to ${NOTEBOOK_ARCHIVE_VERSION})`,
+      },
     ]);
   }
   const parsed = manifestSchema.safeParse(raw);
@@ -331,7 +339,11 @@ export function readNotebookArchive(bytes: Uint8Array, limits: ArchiveLimits): N
   }
   for (const file of manifest.files) {
     const limit = limits.maxFileBytes[file.kind];
-    if (file.sizeBytes > limit) problems.push({ path: file.path, message: `${file.sizeBytes} bytes; the limit for ${file.kind === "image" ? "an image" : "a measured-data file"} is ${limit}` });
+    if (file.sizeBytes > limit)
+      problems.push({
+        path: file.path,
+        message: `${file.sizeBytes} bytes; the limit for ${file.kind === "image" ? "an image" : "a measured-data file"} is ${limit}`,
+      });
   }
   const declaredTotal = [...wanted.values()].reduce((sum, entry) => sum + entry.sizeBytes, 0);
   if (declaredTotal > limits.maxUnpackedBytes) {
@@ -380,7 +392,9 @@ export function readNotebookArchive(bytes: Uint8Array, limits: ArchiveLimits): N
     if (raw !== undefined) {
       const parsed = parseStoredDocument(raw);
       if (parsed.ok) document = parsed.document;
-      else for (const issue of parsed.issues) problems.push({ path: issue.path ? `${manifest.document.path}: ${issue.path}` : manifest.document.path, message: issue.message });
+      else
+        for (const issue of parsed.issues)
+          problems.push({ path: issue.path ? `${manifest.document.path}: ${issue.path}` : manifest.document.path, message: issue.message });
     }
   }
 
@@ -411,7 +425,13 @@ export function readNotebookArchive(bytes: Uint8Array, limits: ArchiveLimits): N
   for (const entry of manifest.files) {
     const data = wanted.get(entry.path) === entry && entry.sizeBytes <= limits.maxFileBytes[entry.kind] ? entryBytes(entry.path) : null;
     if (!data) continue;
-    const base = { kind: entry.kind, originalName: safeFileName(entry.originalName, entry.kind === "image" ? "image" : "measured.csv"), createdAt: new Date(entry.createdAt), uploadedBy: entry.uploadedBy, bytes: data };
+    const base = {
+      kind: entry.kind,
+      originalName: safeFileName(entry.originalName, entry.kind === "image" ? "image" : "measured.csv"),
+      createdAt: new Date(entry.createdAt),
+      uploadedBy: entry.uploadedBy,
+      bytes: data,
+    };
     if (entry.kind === "image") {
       const type = imageTypeOf(data);
       if (!type) {
@@ -422,7 +442,10 @@ export function readNotebookArchive(bytes: Uint8Array, limits: ArchiveLimits): N
       continue;
     }
     if (!entry.summary) {
-      problems.push({ path: `${MANIFEST}: files[${manifest.files.indexOf(entry)}].summary`, message: "a measured-data file needs the summary it was uploaded with" });
+      problems.push({
+        path: `${MANIFEST}: files[${manifest.files.indexOf(entry)}].summary`,
+        message: "a measured-data file needs the summary it was uploaded with",
+      });
       continue;
     }
     try {

@@ -58,7 +58,10 @@ export async function exportNotebookArchive(derivation: Derivation): Promise<{ b
     const run = await getSimulationRunByIdAndDerivationId({ id: summary.id, derivationId: derivation.id });
     const trajectory = run ? await trajectoryOfRun(run) : null;
     if (!run || !trajectory) {
-      throw new AppError("unprocessable:archive", `The trajectory of the run made ${summary.createdAt.toISOString()} is missing from storage; the archive would be incomplete.`);
+      throw new AppError(
+        "unprocessable:archive",
+        `The trajectory of the run made ${summary.createdAt.toISOString()} is missing from storage; the archive would be incomplete.`,
+      );
     }
     runs.push({
       settings: run.settings,

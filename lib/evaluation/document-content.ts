@@ -1,10 +1,4 @@
-import {
-  DocumentError,
-  documentToModel,
-  parseStoredDocument,
-  type DerivationDocument,
-  type DocumentIssue,
-} from "@/lib/notebook/document";
+import { DocumentError, documentToModel, parseStoredDocument, type DerivationDocument, type DocumentIssue } from "@/lib/notebook/document";
 import type { Model } from "@/lib/mechanics/model";
 import { ModelError } from "@/lib/mechanics/errors";
 import { AppError, type FieldErrors } from "@/lib/errors";
@@ -30,7 +24,11 @@ export function validDocumentOrThrow(input: unknown, { field = "document", title
   if (parsed.ok) return parsed.document;
   const fieldErrors = fieldErrorsOf(parsed.issues, field);
   if (parsed.newerVersion !== undefined) {
-    throw new AppError("unprocessable:derivation", `This notebook document was written by a newer version of Holonomy (schema ${parsed.newerVersion}); update Holonomy to open it.`, { fieldErrors });
+    throw new AppError(
+      "unprocessable:derivation",
+      `This notebook document was written by a newer version of Holonomy (schema ${parsed.newerVersion}); update Holonomy to open it.`,
+      { fieldErrors },
+    );
   }
   throw new AppError("bad_request:validation", "The notebook document is not valid.", { fieldErrors });
 }

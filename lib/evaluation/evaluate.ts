@@ -104,7 +104,11 @@ export function normalizeModel(model: Model): unknown {
     kinetic: model.kinetic.trim(),
     potential: model.potential.trim(),
     dissipation: (model.dissipation ?? "").trim(),
-    forces: Object.fromEntries(Object.entries(model.forces ?? {}).map(([k, v]) => [k.trim(), v.trim()]).sort(([a], [b]) => ((a ?? "") < (b ?? "") ? -1 : 1))),
+    forces: Object.fromEntries(
+      Object.entries(model.forces ?? {})
+        .map(([k, v]) => [k.trim(), v.trim()])
+        .sort(([a], [b]) => ((a ?? "") < (b ?? "") ? -1 : 1)),
+    ),
   };
 }
 
@@ -160,7 +164,10 @@ export function accelerationsView(result: Pick<PrintedDerivation, "accelerations
 }
 
 /** The system with numbers for the parameters, or the reason there is none. */
-export function mechanicalSystemOf(model: Model, result: Pick<PrintedDerivation, "coordinates" | "massMatrix" | "forcing">): MassMatrixSystem | { reason: string } {
+export function mechanicalSystemOf(
+  model: Model,
+  result: Pick<PrintedDerivation, "coordinates" | "massMatrix" | "forcing">,
+): MassMatrixSystem | { reason: string } {
   const symbolic = model.parameters.filter((p) => p.value === undefined).map((p) => p.name);
   if (symbolic.length > 0) return { reason: `Give ${symbolic.join(", ")} a value to find equilibria and linearize.` };
   return {
@@ -210,9 +217,13 @@ export async function analyseSystem(
   const badInput = (system.inputs ?? []).find((_, i) => Number.isNaN(inputValues[i]!));
   if (badInput) return { equilibria: [], note: `The value of input ${badInput} is not a number.` };
   const found = await runner.run<Equilibrium[]>("equilibria", { system, options: { inputs: inputValues } });
-  const equilibria = distinctEquilibria(system.coordinates, freeCoordinates, found).map((e) => ({ ...e, label: equilibriumLabel(system.coordinates, e.q, e.stability) }));
+  const equilibria = distinctEquilibria(system.coordinates, freeCoordinates, found).map((e) => ({
+    ...e,
+    label: equilibriumLabel(system.coordinates, e.q, e.stability),
+  }));
   const listed = equilibria.map((e) => ({ label: e.label, values: Object.fromEntries(system.coordinates.map((name, i) => [name, e.q[i]!])) }));
-  if (equilibria.length === 0) return { equilibria, linearization: { equilibria: listed }, note: "No equilibrium was found for these parameter and input values." };
+  if (equilibria.length === 0)
+    return { equilibria, linearization: { equilibria: listed }, note: "No equilibrium was found for these parameter and input values." };
   const index = Math.min(Math.max(0, settings.equilibriumIndex), equilibria.length - 1);
   const chosen = equilibria[index]!;
   const lin = await runner.run<Linearization>("linearize", { system, point: { q: chosen.q, inputs: inputValues } });
@@ -231,9 +242,13 @@ export async function analyseSystem(
         inputNames: lin.inputs,
         A: withoutRoundingNoise(lin.A, system.coordinates.length),
         B: withoutRoundingNoise(lin.B, system.coordinates.length),
-        modes: lin.modes.map(
-          (mode, k): ModeView => ({ kind: mode.kind, hertz: mode.hertz, growthRate: mode.growthRate, shape: mode.shape, eigenvalue: damped[k] ? rounded(damped[k]) : null }),
-        ),
+        modes: lin.modes.map((mode, k): ModeView => ({
+          kind: mode.kind,
+          hertz: mode.hertz,
+          growthRate: mode.growthRate,
+          shape: mode.shape,
+          eigenvalue: damped[k] ? rounded(damped[k]) : null,
+        })),
         eigenvalues: lin.eigenvalues.map(rounded),
         stability: chosen.stability,
         stabilityReason: chosen.stabilityReason,
@@ -296,7 +311,11 @@ export function codeExportInput(model: Model, result: Pick<PrintedDerivation, "c
  * Runs the whole evaluation of a model. ModelError (invalid model, unit
  * mismatch) propagates from the worker for the caller to turn into a 422.
  */
-export async function evaluateModel(runner: EngineRunner, model: Model, settings: EvaluationSettings): Promise<{ result: EvaluationResult; timings: EvaluationTimings }> {
+export async function evaluateModel(
+  runner: EngineRunner,
+  model: Model,
+  settings: EvaluationSettings,
+): Promise<{ result: EvaluationResult; timings: EvaluationTimings }> {
   const started = performance.now();
   // The worker prints the derivation as it leaves the engine: text for M and f, LaTeX of the display forms.
   const derived = await runner.run<PrintedDerivation>("derive", { model });

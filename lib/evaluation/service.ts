@@ -120,7 +120,12 @@ async function relinearizedModelCached({
     throw engineErrorToAppError(error);
   }
   const timings = { ...relinearized.timings };
-  const row = await upsertEvaluationByModelHash({ modelHash, engineVersion: version, result: relinearized.result as unknown as Record<string, unknown>, timings });
+  const row = await upsertEvaluationByModelHash({
+    modelHash,
+    engineVersion: version,
+    result: relinearized.result as unknown as Record<string, unknown>,
+    timings,
+  });
   return {
     cached: false,
     modelHash,

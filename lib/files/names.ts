@@ -10,15 +10,28 @@
  *
  * @example fileBaseName("Trolley, for the report") // "trolley-for-the-report"
  */
-export function fileBaseName(title: string, { separator = "-", fallback = "derivation", maxLength = 80 }: { separator?: "-" | "_"; fallback?: string; maxLength?: number } = {}): string {
+export function fileBaseName(
+  title: string,
+  { separator = "-", fallback = "derivation", maxLength = 80 }: { separator?: "-" | "_"; fallback?: string; maxLength?: number } = {},
+): string {
   const edges = separator === "-" ? /^-+|-+$/g : /^_+|_+$/g;
-  return title.toLowerCase().replace(/[^a-z0-9]+/g, separator).replace(edges, "").slice(0, maxLength) || fallback;
+  return (
+    title
+      .toLowerCase()
+      .replace(/[^a-z0-9]+/g, separator)
+      .replace(edges, "")
+      .slice(0, maxLength) || fallback
+  );
 }
 
 /** An uploaded file's name, safe to store and echo in a header (no path, no quotes or control characters). */
 export function safeFileName(name: string, fallback: string): string {
   const base = name.split(/[\\/]/).pop() ?? "";
-  const cleaned = base.replace(/[^\w.\- ()]+/g, "_").replace(/^\.+/, "").slice(0, 120).trim();
+  const cleaned = base
+    .replace(/[^\w.\- ()]+/g, "_")
+    .replace(/^\.+/, "")
+    .slice(0, 120)
+    .trim();
   return cleaned === "" ? fallback : cleaned;
 }
 

@@ -90,7 +90,17 @@ export async function storeUpload({
   try {
     stored = await createFile({
       teamId: derivation.teamId,
-      file: { id: fileId, derivationId: derivation.id, kind, objectKey, originalName, contentType: checked.contentType, sizeBytes: bytes.byteLength, uploadedById: user.id, summary: checked.summary },
+      file: {
+        id: fileId,
+        derivationId: derivation.id,
+        kind,
+        objectKey,
+        originalName,
+        contentType: checked.contentType,
+        sizeBytes: bytes.byteLength,
+        uploadedById: user.id,
+        summary: checked.summary,
+      },
     });
   } catch (error) {
     await deleteObject({ key: objectKey }).catch((cleanup) => console.error("[holonomy] could not remove an orphaned upload:", cleanup));

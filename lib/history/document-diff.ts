@@ -1,11 +1,4 @@
-import {
-  CELL_LABELS,
-  isBlankRow,
-  type Cell,
-  type CellKind,
-  type DerivationDocument,
-  type ParameterRow,
-} from "@/lib/notebook/document";
+import { CELL_LABELS, isBlankRow, type Cell, type CellKind, type DerivationDocument, type ParameterRow } from "@/lib/notebook/document";
 import { diffCounts, textDiff, type DiffLine } from "./text-diff";
 
 /**
@@ -96,7 +89,8 @@ export function cellText(cell: Cell): string {
       for (const row of cell.rows) if (!isBlankRow(row)) lines.push(described(`${row.name} [${row.unit}]`, row.description));
       break;
     case "parameters":
-      for (const row of cell.rows) if (!isBlankRow(row)) lines.push(described(`${row.name} = ${row.value.trim() || "(symbolic)"} [${row.unit}]`, row.description));
+      for (const row of cell.rows)
+        if (!isBlankRow(row)) lines.push(described(`${row.name} = ${row.value.trim() || "(symbolic)"} [${row.unit}]`, row.description));
       break;
     case "definitions":
       for (const row of cell.rows) if (!isBlankRow(row)) lines.push(described(`${row.name} = ${row.expr}`, row.description));
@@ -152,7 +146,10 @@ export function compareParameters(before: DerivationDocument, after: DerivationD
     return match ?? null;
   };
   const byName = newRows.map((row) => take(oldRows.find((old) => unmatched.has(old) && old.name.trim() === row.name.trim())));
-  const pairs: [ParameterRow | null, ParameterRow][] = newRows.map((row, i) => [byName[i] ?? take(oldRows.find((old) => unmatched.has(old) && old.id === row.id)), row]);
+  const pairs: [ParameterRow | null, ParameterRow][] = newRows.map((row, i) => [
+    byName[i] ?? take(oldRows.find((old) => unmatched.has(old) && old.id === row.id)),
+    row,
+  ]);
   const changes: ParameterChange[] = pairs.map(([old, row]) => {
     if (!old) return { status: "added", before: null, after: row, fields: [] };
     const fields = PARAMETER_FIELDS.filter((field) => old[field].trim() !== row[field].trim());
@@ -192,7 +189,10 @@ function pairCells(before: DerivationDocument, after: DerivationDocument): Map<C
 export function compareDocuments(before: DerivationDocument, after: DerivationDocument): DocumentComparison {
   const pairs = pairCells(before, after);
   const paired = new Set(pairs.values());
-  const cells = [...after.cells.map((cell) => cellChange(pairs.get(cell), cell)), ...before.cells.filter((cell) => !paired.has(cell)).map((cell) => cellChange(cell, undefined))];
+  const cells = [
+    ...after.cells.map((cell) => cellChange(pairs.get(cell), cell)),
+    ...before.cells.filter((cell) => !paired.has(cell)).map((cell) => cellChange(cell, undefined)),
+  ];
   const commonOld = before.cells.filter((cell) => paired.has(cell));
   const commonNew = after.cells.filter((cell) => pairs.has(cell)).map((cell) => pairs.get(cell)!);
   const moved = commonOld.some((cell, i) => commonNew[i] !== cell);

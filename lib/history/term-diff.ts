@@ -1,13 +1,4 @@
-import {
-  expressionTree,
-  symbolLatex,
-  toLatex,
-  toLatexTerms,
-  topLevelTerms,
-  type Expr,
-  type ExpressionSource,
-  type LatexTerm,
-} from "@/lib/mechanics";
+import { expressionTree, symbolLatex, toLatex, toLatexTerms, topLevelTerms, type Expr, type ExpressionSource, type LatexTerm } from "@/lib/mechanics";
 
 /**
  * Equations of two revisions compared term by term, by the engine's canonical
@@ -131,7 +122,10 @@ export function termsOfResidual(residual: ExpressionSource, isMotion: (name: str
   const signed = topLevelTerms(tree);
   return terms.map((term, i) => {
     const motionFactors = factorsOf(signed[i]!.term, false, []).filter((factor) => mentions(factor.expr, isMotion));
-    const key = motionFactors.map((factor) => `${factor.inverse ? "/" : "*"}${canonicalKey(factor.expr)}`).sort().join(" ");
+    const key = motionFactors
+      .map((factor) => `${factor.inverse ? "/" : "*"}${canonicalKey(factor.expr)}`)
+      .sort()
+      .join(" ");
     return { view: { id: term.id, text: term.text, latex: signedLatex(term) }, motion: key, motionExpr: product(motionFactors) };
   });
 }
@@ -187,7 +181,11 @@ export function compareTerms(before: TermInfo[], after: TermInfo[]): TermChange[
  * newer order, removed coordinates last. `isMotion` says which names vary with
  * the motion (coordinates, inputs, the time, multipliers).
  */
-export function compareEquations(before: readonly ResidualEquation[], after: readonly ResidualEquation[], isMotion: (name: string) => boolean): EquationChange[] {
+export function compareEquations(
+  before: readonly ResidualEquation[],
+  after: readonly ResidualEquation[],
+  isMotion: (name: string) => boolean,
+): EquationChange[] {
   const oldByCoordinate = new Map(before.map((equation) => [equation.coordinate, equation]));
   const newCoordinates = new Set(after.map((equation) => equation.coordinate));
   const changes: EquationChange[] = after.map((equation) => {

@@ -74,7 +74,10 @@ function revisionView(revision: RevisionSummary | Revision, nameOf: NameOf, crea
 }
 
 /** Whether the derivation's current content and title are exactly its latest revision's, with no edits pending. */
-export function currentIsLatest(derivation: Pick<Derivation, "content" | "title" | "pendingAuthorIds">, latest: Pick<Revision, "contentHash" | "title"> | undefined): boolean {
+export function currentIsLatest(
+  derivation: Pick<Derivation, "content" | "title" | "pendingAuthorIds">,
+  latest: Pick<Revision, "contentHash" | "title"> | undefined,
+): boolean {
   return !!latest && latest.contentHash === contentHash(derivation.content) && latest.title === derivation.title && derivation.pendingAuthorIds.length === 0;
 }
 
@@ -103,7 +106,16 @@ export async function derivationHistory(derivation: Derivation): Promise<Derivat
 }
 
 function approvalView(
-  approval: { id: string; revisionId: string; contentHash: string; approvedById: string | null; approvedAt: Date; unlockedAt: Date | null; unlockedById: string | null; unlockReason: string | null },
+  approval: {
+    id: string;
+    revisionId: string;
+    contentHash: string;
+    approvedById: string | null;
+    approvedAt: Date;
+    unlockedAt: Date | null;
+    unlockedById: string | null;
+    unlockReason: string | null;
+  },
   nameOf: NameOf,
 ): ApprovalView {
   return {
@@ -119,8 +131,7 @@ function approvalView(
 }
 
 export type RevisionEvaluation =
-  | { ok: true; result: EvaluationResult; engineVersion: string; modelHash: string; evaluatedAt: string }
-  | { ok: false; message: string };
+  { ok: true; result: EvaluationResult; engineVersion: string; modelHash: string; evaluatedAt: string } | { ok: false; message: string };
 
 /** The revision's document, or why it cannot be read. */
 export function documentOfRevision(revision: Pick<Revision, "content" | "title">): { ok: true; document: DerivationDocument } | { ok: false; message: string } {
@@ -173,10 +184,17 @@ export async function revisionPair(derivation: Derivation, numbers: { from?: num
     getRevisionByDerivationIdAndId({ derivationId: derivation.id, id: toSummary.id }),
   ]);
   if (!from || !to) return null;
-  return { from, to, fromView: revisionView(fromSummary, nameOf), toView: revisionView(toSummary, nameOf), revisions: summaries.map((revision) => revisionView(revision, nameOf)) };
+  return {
+    from,
+    to,
+    fromView: revisionView(fromSummary, nameOf),
+    toView: revisionView(toSummary, nameOf),
+    revisions: summaries.map((revision) => revisionView(revision, nameOf)),
+  };
 }
 
-export type DocumentsComparison = { ok: true; comparison: DocumentComparison; before: DerivationDocument; after: DerivationDocument } | { ok: false; message: string };
+export type DocumentsComparison =
+  { ok: true; comparison: DocumentComparison; before: DerivationDocument; after: DerivationDocument } | { ok: false; message: string };
 
 /** The two revisions' documents compared cell by cell, and their parameters as a table. */
 export function compareRevisionDocuments(from: Revision, to: Revision): DocumentsComparison {
@@ -194,7 +212,11 @@ function inputNames(document: DerivationDocument): string[] {
 }
 
 /** Both revisions evaluated, their equations compared term by term. */
-export async function compareRevisionEquations(before: DerivationDocument, after: DerivationDocument, numbers: { from: number; to: number }): Promise<EquationsComparison> {
+export async function compareRevisionEquations(
+  before: DerivationDocument,
+  after: DerivationDocument,
+  numbers: { from: number; to: number },
+): Promise<EquationsComparison> {
   const [old, current] = await Promise.all([evaluateRevision(before), evaluateRevision(after)]);
   if (!old.ok) return { ok: false, message: `Revision ${numbers.from} does not derive: ${old.message}` };
   if (!current.ok) return { ok: false, message: `Revision ${numbers.to} does not derive: ${current.message}` };

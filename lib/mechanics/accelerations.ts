@@ -58,10 +58,7 @@ export function solveAccelerations(alg: Algebra, coordinates: readonly string[],
       numerators = [f[0]!];
     } else {
       det = alg.sub(alg.mul(M[0]![0]!, M[1]![1]!), alg.mul(M[0]![1]!, M[1]![0]!));
-      numerators = [
-        alg.sub(alg.mul(M[1]![1]!, f[0]!), alg.mul(M[0]![1]!, f[1]!)),
-        alg.sub(alg.mul(M[0]![0]!, f[1]!), alg.mul(M[1]![0]!, f[0]!)),
-      ];
+      numerators = [alg.sub(alg.mul(M[1]![1]!, f[0]!), alg.mul(M[0]![1]!, f[1]!)), alg.sub(alg.mul(M[0]![0]!, f[1]!), alg.mul(M[1]![0]!, f[0]!))];
     }
     if (det.size === 0) return { available: false, reason: "the mass matrix is singular" };
     block.forEach((i, k) => (solved[i] = { coordinate: coordinates[i]!, ...quotient(alg, numerators[k]!, det) }));

@@ -63,7 +63,10 @@ export function parseVariableName(variable: string): { name: string; order: 0 | 
 }
 
 /** A binder for ExpressionGraph.fromExpr over named variables and constants. */
-export function symbolBinder(variables: readonly string[], constants: Readonly<Record<string, number>> = {}): (name: string, order: 0 | 1 | 2) => SymbolBinding | undefined {
+export function symbolBinder(
+  variables: readonly string[],
+  constants: Readonly<Record<string, number>> = {},
+): (name: string, order: 0 | 1 | 2) => SymbolBinding | undefined {
   const slots = new Map<string, number>();
   variables.forEach((v, i) => {
     const { name, order } = parseVariableName(v);

@@ -68,9 +68,7 @@ export interface CyclicMomentum {
   actedOnBy: ("applied force" | "dissipation")[];
 }
 
-export type HamiltonianResult =
-  | { available: true; expr: Expr; momenta: { coordinate: string; symbol: string }[] }
-  | { available: false; reason: string };
+export type HamiltonianResult = { available: true; expr: Expr; momenta: { coordinate: string; symbol: string }[] } | { available: false; reason: string };
 
 export interface DerivationTiming {
   canonicalMs: number;
@@ -181,7 +179,12 @@ export function deriveModel(model: Model, options: DeriveOptions = {}): Derivati
       actedOnBy,
     });
     if (isConserved) {
-      conserved.push({ name: `momentum of ${name}`, expr: tree(momentum), display: display(momentum), reason: `${name} is cyclic and no force or dissipation acts on it` });
+      conserved.push({
+        name: `momentum of ${name}`,
+        expr: tree(momentum),
+        display: display(momentum),
+        reason: `${name} is cyclic and no force or dissipation acts on it`,
+      });
     }
   });
 
@@ -294,7 +297,23 @@ export function deriveCanonical(model: Model, options: DeriveOptions = {}): Cano
   for (let i = 0; i < n; i++) alg.mulInto(energy, alg.symbol(space.rates[i]!), momenta[i]!);
   const cyclic = space.coordinates.map((q) => !alg.dependsOn(lagrangian, q));
   const explicitTime = alg.dependsOn(lagrangian, space.time);
-  return { space, algebra: alg, kinetic, potential, dissipation, forces, lagrangian, momenta, residuals, massMatrix, forcing, energy, cyclic, explicitTime, canonicalMs };
+  return {
+    space,
+    algebra: alg,
+    kinetic,
+    potential,
+    dissipation,
+    forces,
+    lagrangian,
+    momenta,
+    residuals,
+    massMatrix,
+    forcing,
+    energy,
+    cyclic,
+    explicitTime,
+    canonicalMs,
+  };
 }
 
 function convert(alg: Algebra, tree: Expr, field: string, resolve: (node: SymbolNode) => Poly): Poly {
@@ -346,7 +365,12 @@ function makeResolver(
         definition.values[k] = dt.apply(definition.values[k - 1]!);
       } catch (error) {
         if (error instanceof RateUnavailableError) {
-          throw new ExpressionError("unsupported", `${node.name}${"'".repeat(node.order)} needs the rate of ${error.what}, which the model does not define`, node.start, node.end - node.start);
+          throw new ExpressionError(
+            "unsupported",
+            `${node.name}${"'".repeat(node.order)} needs the rate of ${error.what}, which the model does not define`,
+            node.start,
+            node.end - node.start,
+          );
         }
         throw error;
       }
@@ -435,8 +459,10 @@ export function determinant(alg: Algebra, m: Poly[][]): Poly {
 export function adjugate(alg: Algebra, m: Poly[][]): Poly[][] {
   const n = m.length;
   if (n === 1) return [[alg.constant(C.ONE)]];
-  return m.map((_, i) => m.map((__, j) => {
-    const d = determinant(alg, minor(m, j, i));
-    return (i + j) % 2 === 0 ? d : alg.negate(d);
-  }));
+  return m.map((_, i) =>
+    m.map((__, j) => {
+      const d = determinant(alg, minor(m, j, i));
+      return (i + j) % 2 === 0 ? d : alg.negate(d);
+    }),
+  );
 }

@@ -148,7 +148,8 @@ export function constantValue(expr: Expr): number | null {
 // Tree builders that drop the zeros and ones differentiation produces.
 // Nodes they create carry an empty span: they come from no user text.
 
-const num = (value: number): Expr => (value < 0 ? { kind: "neg", arg: { kind: "num", value: -value, start: 0, end: 0 }, start: 0, end: 0 } : { kind: "num", value, start: 0, end: 0 });
+const num = (value: number): Expr =>
+  value < 0 ? { kind: "neg", arg: { kind: "num", value: -value, start: 0, end: 0 }, start: 0, end: 0 } : { kind: "num", value, start: 0, end: 0 };
 const ZERO: Expr = num(0);
 const ONE: Expr = num(1);
 const isNum = (e: Expr, value: number) => e.kind === "num" && e.value === value;

@@ -4,13 +4,7 @@
  * notebook) need the field and column to point at the offending text.
  */
 
-export type ExpressionErrorCode =
-  | "parse"
-  | "limit"
-  | "unknown_symbol"
-  | "rate_of_parameter"
-  | "circular_definition"
-  | "unsupported";
+export type ExpressionErrorCode = "parse" | "limit" | "unknown_symbol" | "rate_of_parameter" | "circular_definition" | "unsupported";
 
 /** A problem located inside one expression. `position` is 0-based; `column` is 1-based. */
 export class ExpressionError extends Error {
@@ -31,7 +25,8 @@ export class ExpressionError extends Error {
   }
 }
 
-export type ModelErrorCode = ExpressionErrorCode | "syntax" | "schema" | "duplicate_name" | "reserved_name" | "unit" | "unit_mismatch" | "too_large" | "singular";
+export type ModelErrorCode =
+  ExpressionErrorCode | "syntax" | "schema" | "duplicate_name" | "reserved_name" | "unit" | "unit_mismatch" | "too_large" | "singular";
 
 /**
  * A problem in a model, located by field path (`kinetic`, `definitions[1].expr`,

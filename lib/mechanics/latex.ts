@@ -11,18 +11,61 @@ import { DERIVED_EXPRESSION_LIMITS } from "./compile";
  */
 
 const GREEK = new Set([
-  "alpha", "beta", "gamma", "delta", "epsilon", "zeta", "eta", "theta", "iota", "kappa", "lambda", "mu",
-  "nu", "xi", "omicron", "pi", "rho", "sigma", "tau", "upsilon", "phi", "chi", "psi", "omega",
+  "alpha",
+  "beta",
+  "gamma",
+  "delta",
+  "epsilon",
+  "zeta",
+  "eta",
+  "theta",
+  "iota",
+  "kappa",
+  "lambda",
+  "mu",
+  "nu",
+  "xi",
+  "omicron",
+  "pi",
+  "rho",
+  "sigma",
+  "tau",
+  "upsilon",
+  "phi",
+  "chi",
+  "psi",
+  "omega",
 ]);
 /** Capital greek letters LaTeX has commands for; the others look like latin capitals. */
 const GREEK_CAPITAL = new Set(["Gamma", "Delta", "Theta", "Lambda", "Xi", "Pi", "Sigma", "Upsilon", "Phi", "Psi", "Omega"]);
 const GREEK_LATIN_CAPITAL: Record<string, string> = {
-  Alpha: "A", Beta: "B", Epsilon: "E", Zeta: "Z", Eta: "H", Iota: "I", Kappa: "K", Mu: "M", Nu: "N", Omicron: "O", Rho: "P", Tau: "T", Chi: "X",
+  Alpha: "A",
+  Beta: "B",
+  Epsilon: "E",
+  Zeta: "Z",
+  Eta: "H",
+  Iota: "I",
+  Kappa: "K",
+  Mu: "M",
+  Nu: "N",
+  Omicron: "O",
+  Rho: "P",
+  Tau: "T",
+  Chi: "X",
 };
 
 const FUNCTION_LATEX: Record<string, string> = {
-  sin: "\\sin", cos: "\\cos", tan: "\\tan", exp: "\\exp", log: "\\ln", sinh: "\\sinh", cosh: "\\cosh", tanh: "\\tanh",
-  asin: "\\arcsin", acos: "\\arccos", atan: "\\arctan",
+  sin: "\\sin",
+  cos: "\\cos",
+  tan: "\\tan",
+  exp: "\\exp",
+  log: "\\ln",
+  sinh: "\\sinh",
+  cosh: "\\cosh",
+  tanh: "\\tanh",
+  asin: "\\arcsin",
+  acos: "\\arccos",
+  atan: "\\arctan",
 };
 
 /** A name part (no digits, no underscore) as a letter or an upright word. */
@@ -184,7 +227,9 @@ function renderPower(base: Expr, exponent: Expr): string {
   const power = renderSum(exponent);
   if (base.kind === "call" && base.fn !== "exp") return renderCall(base.fn, base.arg, power);
   const atomic = base.kind === "sym" || base.kind === "pi" || (base.kind === "num" && /^\d+$/.test(formatNumber(base.value)));
-  const b = atomic ? renderFactor(base) : paren(base.kind === "bin" && (base.op === "+" || base.op === "-") ? renderSum(base) : renderFactor(base).replace(/^\\left\((.*)\\right\)$/, "$1"));
+  const b = atomic
+    ? renderFactor(base)
+    : paren(base.kind === "bin" && (base.op === "+" || base.op === "-") ? renderSum(base) : renderFactor(base).replace(/^\\left\((.*)\\right\)$/, "$1"));
   return `${b}^{${power}}`;
 }
 

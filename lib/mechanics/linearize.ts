@@ -64,7 +64,13 @@ export interface CompiledAnalysis {
   variables: string[];
   evaluator: CompiledExpressions;
   /** Evaluates everything at (q, q', q'', t, u) into plain matrices. */
-  at(q: readonly number[], rates: readonly number[], accelerations: readonly number[], t: number, u: readonly number[]): {
+  at(
+    q: readonly number[],
+    rates: readonly number[],
+    accelerations: readonly number[],
+    t: number,
+    u: readonly number[],
+  ): {
     mass: number[][];
     forcing: number[];
     byCoordinate: number[][];
@@ -155,7 +161,7 @@ export function linearizeAbout(system: MassMatrixSystem | CompiledAnalysis, poin
   const decomposition = new EigenvalueDecomposition(A);
   const eigenvalues = decomposition.realEigenvalues.map((re, i) => ({ re, im: decomposition.imaginaryEigenvalues[i]! }));
   return {
-    state: [...(compiled.variables.slice(0, 2 * n))],
+    state: [...compiled.variables.slice(0, 2 * n)],
     inputs: compiled.variables.slice(3 * n + 1),
     A: A.to2DArray(),
     B: B.to2DArray(),

@@ -63,7 +63,13 @@ export function printDerivation(result: DerivationResult): PrintedDerivation {
     coordinates: result.coordinates,
     equations: result.equations.map((equation) => {
       const marked = toLatexTerms(equation.display);
-      return { coordinate: equation.coordinate, residual: text(equation.residual), latex: toLatex(equation.display), termLatex: marked.latex, terms: marked.terms };
+      return {
+        coordinate: equation.coordinate,
+        residual: text(equation.residual),
+        latex: toLatex(equation.display),
+        termLatex: marked.latex,
+        terms: marked.terms,
+      };
     }),
     massMatrix: result.massMatrix.map((row) => row.map(text)),
     forcing: result.forcing.map(text),

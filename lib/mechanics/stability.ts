@@ -83,7 +83,10 @@ export function classifyStability(linearization: Pick<Linearization, "A" | "eige
   if (eigenvalues.length === 0) return verdict("stable", "the system has no state to disturb.", true);
   const fastest = eigenvalues.reduce((a, b) => (b.re > a.re ? b : a));
   if (fastest.re > tolerance) {
-    return verdict("unstable", `an eigenvalue has a positive real part (λ = ${formatEigenvalue(fastest, tolerance)}): a disturbance grows like exp(${formatNumber(fastest.re)}·t).`);
+    return verdict(
+      "unstable",
+      `an eigenvalue has a positive real part (λ = ${formatEigenvalue(fastest, tolerance)}): a disturbance grows like exp(${formatNumber(fastest.re)}·t).`,
+    );
   }
   const onAxis = eigenvalues.filter((l) => Math.abs(l.re) <= tolerance);
   if (onAxis.length === 0) {
@@ -109,7 +112,10 @@ export function classifyStability(linearization: Pick<Linearization, "A" | "eige
   }
   const repeated = clusters.find((c) => c.size > 1);
   if (repeated) {
-    return verdict("marginal", `λ = ${formatEigenvalue({ re: 0, im: repeated.im }, tolerance)} is repeated ${repeated.size} times on the imaginary axis (no Jordan block): linear analysis cannot decide.`);
+    return verdict(
+      "marginal",
+      `λ = ${formatEigenvalue({ re: 0, im: repeated.im }, tolerance)} is repeated ${repeated.size} times on the imaginary axis (no Jordan block): linear analysis cannot decide.`,
+    );
   }
   const axisText = clusters.map((c) => formatEigenvalue({ re: 0, im: c.im }, tolerance)).join(", ");
   if (isPositiveDefinite(linearization.stiffness) && isPositiveSemiDefinite(linearization.damping)) {

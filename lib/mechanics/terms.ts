@@ -18,9 +18,9 @@ export function topLevelTerms(expr: Expr): SignedTerm[] {
   const visit = (e: Expr, sign: 1 | -1) => {
     if (e.kind === "bin" && (e.op === "+" || e.op === "-")) {
       visit(e.left, sign);
-      visit(e.right, e.op === "+" ? sign : ((-sign) as 1 | -1));
+      visit(e.right, e.op === "+" ? sign : (-sign as 1 | -1));
     } else if (e.kind === "neg") {
-      visit(e.arg, (-sign) as 1 | -1);
+      visit(e.arg, -sign as 1 | -1);
     } else {
       terms.push({ sign, term: e });
     }

@@ -151,7 +151,8 @@ class UnitInference {
             if (base === null) return null;
             if (sameDimension(base, DIMENSIONLESS)) return DIMENSIONLESS;
             const k = constantValue(e.right);
-            if (k === null) this.fail(e.right, `${this.quote(e.left)} has unit ${formatDimension(base)}, so its exponent ${this.quote(e.right)} must be a number`);
+            if (k === null)
+              this.fail(e.right, `${this.quote(e.left)} has unit ${formatDimension(base)}, so its exponent ${this.quote(e.right)} must be a number`);
             return powerOfDimension(base, k);
           }
         }
@@ -189,7 +190,10 @@ class UnitInference {
     });
     const odd = terms.find((t) => !sameDimension(t.unit, majority.unit));
     if (odd) {
-      this.fail(odd.term, `the term ${this.quote(odd.term)} has unit ${formatDimension(odd.unit)} but ${this.quote(majority.term)} has unit ${formatDimension(majority.unit)}`);
+      this.fail(
+        odd.term,
+        `the term ${this.quote(odd.term)} has unit ${formatDimension(odd.unit)} but ${this.quote(majority.term)} has unit ${formatDimension(majority.unit)}`,
+      );
     }
     return majority.unit;
   }

@@ -104,7 +104,8 @@ function stripUndefined(data: z.infer<typeof modelSchema>): Model {
     potential: data.potential,
   };
   if (data.inputs) model.inputs = data.inputs.map(({ name, unit, description }) => (description === undefined ? { name, unit } : { name, unit, description }));
-  if (data.definitions) model.definitions = data.definitions.map(({ name, expr, description }) => (description === undefined ? { name, expr } : { name, expr, description }));
+  if (data.definitions)
+    model.definitions = data.definitions.map(({ name, expr, description }) => (description === undefined ? { name, expr } : { name, expr, description }));
   if (data.dissipation !== undefined) model.dissipation = data.dissipation;
   if (data.forces) model.forces = data.forces;
   return model;
@@ -204,7 +205,11 @@ function analyze(model: Model, report: Report): ModelAnalysis | null {
   const definitionTrees = definitions.map((d, i) => parse(d.expr, `definitions[${i}].expr`));
   let definitionOrder: number[] = [];
   try {
-    definitionOrder = orderDefinitions(definitions.map((d) => d.name), definitionTrees, definitionIndex);
+    definitionOrder = orderDefinitions(
+      definitions.map((d) => d.name),
+      definitionTrees,
+      definitionIndex,
+    );
   } catch (error) {
     if (!(error instanceof ModelError)) throw error;
     problem(error);
@@ -222,13 +227,22 @@ function analyze(model: Model, report: Report): ModelAnalysis | null {
     if (!tree) return null;
     const found = derivativeOrder(tree, definitionIndex, definitionOrderOf);
     if (found.order > 1) {
-      problem(new ModelError("unsupported", field, `the ${what} may depend on rates but not on accelerations`, found.node!.start + 1, found.node!.end - found.node!.start));
+      problem(
+        new ModelError(
+          "unsupported",
+          field,
+          `the ${what} may depend on rates but not on accelerations`,
+          found.node!.start + 1,
+          found.node!.end - found.node!.start,
+        ),
+      );
     }
     return tree;
   };
   const kinetic = energy(model.kinetic, "kinetic", "kinetic energy");
   const potential = energy(model.potential, "potential", "potential energy");
-  const dissipation = model.dissipation === undefined || model.dissipation.trim() === "" ? null : energy(model.dissipation, "dissipation", "dissipation function");
+  const dissipation =
+    model.dissipation === undefined || model.dissipation.trim() === "" ? null : energy(model.dissipation, "dissipation", "dissipation function");
 
   const forces = new Map<string, Expr>();
   for (const [coordinate, text] of Object.entries(model.forces ?? {})) {
@@ -256,7 +270,9 @@ function checkSymbols(tree: Expr, field: string, roles: Map<string, SymbolRole>,
     const role = roles.get(node.name);
     if (role === undefined) return report(new ModelError("unknown_symbol", field, `unknown symbol "${node.name}"`, column, length));
     if (node.order > 0 && (role === "parameter" || role === "input")) {
-      report(new ModelError("rate_of_parameter", field, `"${node.name}" is ${role === "parameter" ? "a parameter" : "an input"} and has no rate`, column, length));
+      report(
+        new ModelError("rate_of_parameter", field, `"${node.name}" is ${role === "parameter" ? "a parameter" : "an input"} and has no rate`, column, length),
+      );
     }
   });
 }
@@ -281,9 +297,10 @@ function derivativeOrder(tree: Expr, definitionIndex: Map<string, number>, defin
 function orderDefinitions(names: string[], trees: (Expr | null)[], index: Map<string, number>): number[] {
   const refs = trees.map((tree) => {
     const out: { target: number; node: Expr }[] = [];
-    if (tree) walk(tree, (node) => {
-      if (node.kind === "sym" && index.has(node.name)) out.push({ target: index.get(node.name)!, node });
-    });
+    if (tree)
+      walk(tree, (node) => {
+        if (node.kind === "sym" && index.has(node.name)) out.push({ target: index.get(node.name)!, node });
+      });
     return out;
   });
   const state = new Array<0 | 1 | 2>(names.length).fill(0);
@@ -296,7 +313,13 @@ function orderDefinitions(names: string[], trees: (Expr | null)[], index: Map<st
       if (state[target] === 1) {
         const cycle = stack.slice(stack.indexOf(target)).map((k) => names[k]!);
         cycle.push(names[target]!);
-        throw new ModelError("circular_definition", `definitions[${i}].expr`, `circular definition: ${cycle.join(" → ")}`, node.start + 1, node.end - node.start);
+        throw new ModelError(
+          "circular_definition",
+          `definitions[${i}].expr`,
+          `circular definition: ${cycle.join(" → ")}`,
+          node.start + 1,
+          node.end - node.start,
+        );
       }
       if (state[target] === 0) visit(target);
     }

@@ -50,7 +50,11 @@ export function readViewPreferences(stored: unknown): ViewPreferences {
 }
 
 /** Lays `patch` over the choice for `cellId`; `undefined` values drop a choice (back to the author's default). */
-export function setViewChoice(preferences: ViewPreferences, cellId: string, patch: Partial<Record<keyof ViewChoice, ViewChoice[keyof ViewChoice] | undefined>>): ViewPreferences {
+export function setViewChoice(
+  preferences: ViewPreferences,
+  cellId: string,
+  patch: Partial<Record<keyof ViewChoice, ViewChoice[keyof ViewChoice] | undefined>>,
+): ViewPreferences {
   const merged: Record<string, unknown> = { ...preferences.cells[cellId] };
   for (const [key, value] of Object.entries(patch)) {
     if (value === undefined) delete merged[key];
@@ -63,7 +67,9 @@ export function setViewChoice(preferences: ViewPreferences, cellId: string, patc
 }
 
 /** The setting of each generated cell kind that is a view choice. */
-export const VIEW_CHOICE_KEYS = { equations: "form", linearization: "equilibriumIndex", "code-export": "language" } as const satisfies Partial<Record<Cell["kind"], keyof ViewChoice>>;
+export const VIEW_CHOICE_KEYS = { equations: "form", linearization: "equilibriumIndex", "code-export": "language" } as const satisfies Partial<
+  Record<Cell["kind"], keyof ViewChoice>
+>;
 
 /** The choice laid over a cell's settings; simulation settings only when they are the person's own. */
 function choiceFor(cell: Cell, choice: ViewChoice | undefined, ownSimulation: boolean): Record<string, unknown> | null {

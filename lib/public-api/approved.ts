@@ -39,7 +39,10 @@ export async function approvedDerivationsOfTeam({ teamId }: { teamId: string }) 
   }));
 }
 
-function approvalView(approval: { approvedById: string | null; approvedAt: Date; unlockedAt: Date | null; contentHash: string }, approvedByName: string | null) {
+function approvalView(
+  approval: { approvedById: string | null; approvedAt: Date; unlockedAt: Date | null; contentHash: string },
+  approvedByName: string | null,
+) {
   return {
     contentHash: approval.contentHash,
     approvedBy: approval.approvedById ? { id: approval.approvedById, name: approvedByName } : null,

@@ -29,9 +29,13 @@ function refusal(result: ReviewRefusal): AppError {
         details: { latestRevisionId: result.latest.id, latestNumber: result.latest.number },
       });
     case "changed_since":
-      return new AppError("conflict:revision", `The derivation changed after revision ${result.latest.number}. Review the current content before approving it.`, {
-        details: { latestRevisionId: result.latest.id, latestNumber: result.latest.number },
-      });
+      return new AppError(
+        "conflict:revision",
+        `The derivation changed after revision ${result.latest.number}. Review the current content before approving it.`,
+        {
+          details: { latestRevisionId: result.latest.id, latestNumber: result.latest.number },
+        },
+      );
     case "own_changes":
       return new AppError("forbidden:review", `You made changes in revision ${result.latest.number}; a second person must approve them.`);
     case "changes_requested":
@@ -40,7 +44,17 @@ function refusal(result: ReviewRefusal): AppError {
 }
 
 /** Asks `reviewerIds` (reviewers or leads of the team, not the requester) to review the current content. */
-export async function askForReview({ derivation, requesterId, reviewerIds, message }: { derivation: Derivation; requesterId: string; reviewerIds: string[]; message: string }) {
+export async function askForReview({
+  derivation,
+  requesterId,
+  reviewerIds,
+  message,
+}: {
+  derivation: Derivation;
+  requesterId: string;
+  reviewerIds: string[];
+  message: string;
+}) {
   const members = await getMembersByTeamId({ teamId: derivation.teamId });
   const byId = new Map(members.map((member) => [member.userId, member]));
   const unique = [...new Set(reviewerIds)];
@@ -48,7 +62,8 @@ export async function askForReview({ derivation, requesterId, reviewerIds, messa
     const member = byId.get(id);
     if (!member) return ["Everyone asked must be a member of this team."];
     if (id === requesterId) return ["You cannot review your own request; choose someone else."];
-    if (member.role !== "reviewer" && member.role !== "lead") return [`${member.name} is ${member.role === "analyst" ? "an analyst" : "a viewer"}; ask reviewers or leads.`];
+    if (member.role !== "reviewer" && member.role !== "lead")
+      return [`${member.name} is ${member.role === "analyst" ? "an analyst" : "a viewer"}; ask reviewers or leads.`];
     return [];
   });
   if (problems.length > 0) throw new AppError("bad_request:validation", undefined, { fieldErrors: { reviewerIds: [...new Set(problems)] } });

@@ -8,7 +8,15 @@ import { currentIsLatest } from "@/lib/history/views";
 import type { ReviewPanelData } from "./view";
 
 /** The review panel's data for `userId` looking at `derivation` with `membership`. */
-export async function reviewPanelData({ derivation, membership, userId }: { derivation: Derivation; membership: Pick<Membership, "role">; userId: string }): Promise<ReviewPanelData> {
+export async function reviewPanelData({
+  derivation,
+  membership,
+  userId,
+}: {
+  derivation: Derivation;
+  membership: Pick<Membership, "role">;
+  userId: string;
+}): Promise<ReviewPanelData> {
   const [revisions, state, members] = await Promise.all([
     getRevisionsByDerivationId({ derivationId: derivation.id }),
     getReviewStateByDerivationId({ derivationId: derivation.id }),
@@ -64,7 +72,9 @@ export async function reviewPanelData({ derivation, membership, userId }: { deri
           }
         : null,
     candidates: members
-      .filter((member): member is typeof member & { role: "reviewer" | "lead" } => (member.role === "reviewer" || member.role === "lead") && member.userId !== userId)
+      .filter(
+        (member): member is typeof member & { role: "reviewer" | "lead" } => (member.role === "reviewer" || member.role === "lead") && member.userId !== userId,
+      )
       .map((member) => ({ id: member.userId, name: member.name, role: member.role })),
     can: {
       requestReview: can(membership.role, "derivation:request-review", resource),

@@ -60,7 +60,8 @@ export function approvalBlocker(data: ReviewPanelData): string | null {
   if (!latest) return "There is no revision to approve yet. Request a review first.";
   if (!data.currentIsLatest) return `The derivation changed after revision ${latest.number}. Ask for review of the current content first.`;
   if (latest.authorIds.includes(data.myId)) return `You made changes in revision ${latest.number}; a second person must approve them.`;
-  if (data.request?.open && data.request.reviewers.some((reviewer) => reviewer.decision === "changes_requested")) return "A reviewer has requested changes to this revision.";
+  if (data.request?.open && data.request.reviewers.some((reviewer) => reviewer.decision === "changes_requested"))
+    return "A reviewer has requested changes to this revision.";
   return null;
 }
 

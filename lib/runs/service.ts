@@ -53,7 +53,9 @@ export function coordinatesOfDocument(document: DerivationDocument): { name: str
 
 /** SHA-256 of the normalised model: which model a run used, whatever the document has become since. */
 export function modelHashOf(model: Model): string {
-  return createHash("sha256").update(JSON.stringify(normalizeModel(model))).digest("hex");
+  return createHash("sha256")
+    .update(JSON.stringify(normalizeModel(model)))
+    .digest("hex");
 }
 
 /** A setup problem reported by the worker, as a 422 naming the setting. */
@@ -67,9 +69,13 @@ function setupError(surface: "simulation" | "fit", error: WorkerErrorPayload): A
 
 function poolError(surface: "simulation" | "fit", error: unknown, limitMs: number): unknown {
   if (error instanceof EngineLimitError && error.limit === "time") {
-    return new AppError(`unprocessable:${surface}`, `The ${surface === "fit" ? "fit" : "simulation"} was stopped after ${Math.round(limitMs / 1000)} s while deriving or compiling the model.`, {
-      details: { code: "time_limit" },
-    });
+    return new AppError(
+      `unprocessable:${surface}`,
+      `The ${surface === "fit" ? "fit" : "simulation"} was stopped after ${Math.round(limitMs / 1000)} s while deriving or compiling the model.`,
+      {
+        details: { code: "time_limit" },
+      },
+    );
   }
   if (error instanceof EngineLimitError && error.limit === "memory") {
     return new AppError(`unprocessable:${surface}`, "The job ran out of memory and was stopped; use a coarser output step or a shorter time span.", {
@@ -232,7 +238,9 @@ export async function fitToMeasuredFile({ derivation, request }: { derivation: D
       report: explainFit(result, {
         coordinateUnits: Object.fromEntries(measured.series.map((series) => [series.coordinate, series.targetUnit])),
         inputs: (model.inputs ?? []).map((input) => input.name),
-        appliedInputs: Object.entries(request.settings?.inputs ?? {}).filter(([, expr]) => String(expr).trim() !== "").map(([name]) => name),
+        appliedInputs: Object.entries(request.settings?.inputs ?? {})
+          .filter(([, expr]) => String(expr).trim() !== "")
+          .map(([name]) => name),
       }),
     },
     overlay: {

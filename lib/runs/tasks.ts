@@ -28,9 +28,7 @@ export interface SimulateTaskInput {
   energyDriftThreshold?: number;
 }
 
-export type SimulateTaskOutput =
-  | { ok: true; result: SimulationResult; energyCheck: Omit<EnergyDriftReport, "series"> | null }
-  | TaskFailure;
+export type SimulateTaskOutput = { ok: true; result: SimulationResult; energyCheck: Omit<EnergyDriftReport, "series"> | null } | TaskFailure;
 
 export interface FitTaskInput {
   model: unknown;

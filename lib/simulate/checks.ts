@@ -209,7 +209,12 @@ const AMPLITUDE_SHIFT_SLACK = 0.05;
  * to the swing) moves the two kinds of crossing in opposite directions, so it
  * cancels to first order; for a clean swing both spacings are the period.
  */
-function swingPeriod(times: ArrayLike<number>, values: ArrayLike<number>, rates: ArrayLike<number>, level: number): { period: number; separation: number } | null {
+function swingPeriod(
+  times: ArrayLike<number>,
+  values: ArrayLike<number>,
+  rates: ArrayLike<number>,
+  level: number,
+): { period: number; separation: number } | null {
   const up = estimatePeriod(times, values, rates, level);
   const negated = Float64Array.from(values as ArrayLike<number>, (v) => -v);
   const negatedRates = Float64Array.from(rates as ArrayLike<number>, (v) => -v);
@@ -260,7 +265,7 @@ export function checkSmallOscillation(system: MechanicalSystem, options: SmallOs
   const relativeTolerance = options.settings?.relativeTolerance ?? 1e-11;
   const absoluteTolerance = options.settings?.absoluteTolerance ?? amplitude * 1e-10;
   // The timed coordinate's swing at the end of the run, against which the absolute tolerance counts.
-  const smallestSwing = (amplitude * Math.abs(shape[index]!)) / largest * Math.exp(-decayRate * periods * period);
+  const smallestSwing = ((amplitude * Math.abs(shape[index]!)) / largest) * Math.exp(-decayRate * periods * period);
   const integrationAllowance = Math.max(INTEGRATION_ERROR_FACTOR * Math.max(relativeTolerance, absoluteTolerance / smallestSwing), 1e-12);
 
   const swing = (size: number): { frequency: number; separation: number } | { problem: string } => {
@@ -274,13 +279,25 @@ export function checkSmallOscillation(system: MechanicalSystem, options: SmallOs
     });
     if (result.status === "failed") return { problem: `simulation failed: ${result.failure!.message}` };
     const measured = swingPeriod(result.trajectory.times, result.trajectory.coordinates[index]!, result.trajectory.rates[index]!, equilibrium[index]!);
-    return measured === null ? { problem: "no oscillation about the equilibrium was seen" } : { frequency: (2 * Math.PI) / measured.period, separation: measured.separation };
+    return measured === null
+      ? { problem: "no oscillation about the equilibrium was seen" }
+      : { frequency: (2 * Math.PI) / measured.period, separation: measured.separation };
   };
 
   const base = { expectedFrequency: omega, comparedFrequency: compared, coordinate, amplitude, periods, integrationAllowance };
   const first = swing(amplitude);
   if ("problem" in first) {
-    return { ...base, measuredFrequency: null, relativeError: null, amplitudeShift: null, timingAllowance: 0, allowance: null, threshold: null, passed: false, problem: first.problem };
+    return {
+      ...base,
+      measuredFrequency: null,
+      relativeError: null,
+      amplitudeShift: null,
+      timingAllowance: 0,
+      allowance: null,
+      threshold: null,
+      passed: false,
+      problem: first.problem,
+    };
   }
   const measuredFrequency = first.frequency;
   const difference = (measuredFrequency - compared) / compared;

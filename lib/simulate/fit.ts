@@ -84,8 +84,7 @@ export type FitStatus = "converged" | "unchanged" | "max_iterations" | "time_lim
  *   gives that change as relative steps (largest magnitude 1).
  */
 export type NotIdentifiable =
-  | { kind: "no_effect"; parameters: string[]; affectsUnmeasured: string[] }
-  | { kind: "only_together"; parameters: string[]; direction: Record<string, number> };
+  { kind: "no_effect"; parameters: string[]; affectsUnmeasured: string[] } | { kind: "only_together"; parameters: string[]; direction: Record<string, number> };
 
 export interface FitResult {
   status: FitStatus;
@@ -177,7 +176,8 @@ function* fitSteps(options: FitOptions): Generator<void, FitResult> {
   const lower = options.parameters.map((p, j) => (p.min ?? -Infinity) / scales[j]!);
   const upper = options.parameters.map((p, j) => (p.max ?? Infinity) / scales[j]!);
   initial.forEach((v, j) => {
-    if (!(v >= lower[j]! * scales[j]! && v <= upper[j]! * scales[j]!)) throw new FitError("settings", `the starting value of "${names[j]}" lies outside its bounds`);
+    if (!(v >= lower[j]! * scales[j]! && v <= upper[j]! * scales[j]!))
+      throw new FitError("settings", `the starting value of "${names[j]}" lies outside its bounds`);
   });
 
   const series = measured.series.filter((s) => system.coordinateNames.includes(s.coordinate));
@@ -334,7 +334,10 @@ function* fitSteps(options: FitOptions): Generator<void, FitResult> {
       }
     }
     if (best === Infinity) {
-      throw new FitError("simulation_failed", status === "cancelled" ? "the fit was cancelled before its first simulation" : "the time limit was reached before the first simulation finished");
+      throw new FitError(
+        "simulation_failed",
+        status === "cancelled" ? "the fit was cancelled before its first simulation" : "the time limit was reached before the first simulation finished",
+      );
     }
   }
 
@@ -357,7 +360,13 @@ function* fitSteps(options: FitOptions): Generator<void, FitResult> {
     try {
       // Step near the cube root of the integration tolerance: the balance of truncation and integrator noise.
       const step = Math.min(1e-2, Math.max(1e-6, Math.cbrt(baseSettings.relativeTolerance ?? 1e-10)));
-      const { jtj, columns } = jacobianAt(x, model, target, x.map((v) => step * Math.max(Math.abs(v), 1e-3)), true);
+      const { jtj, columns } = jacobianAt(
+        x,
+        model,
+        target,
+        x.map((v) => step * Math.max(Math.abs(v), 1e-3)),
+        true,
+      );
       const diagnosis = diagnoseIdentifiability(columns, spread, rows);
       notIdentifiable = diagnosis.groups.map((group) => {
         const parameters = group.indices.map((j) => names[j]!);

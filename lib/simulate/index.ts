@@ -30,7 +30,15 @@ export type {
   InputSignal,
   CancelSignal,
 } from "./integrate";
-export { energyDrift, estimatePeriod, upwardCrossings, checkSmallOscillation, explainSmallOscillation, INTEGRATION_ERROR_FACTOR, DEFAULT_ENERGY_DRIFT_THRESHOLD } from "./checks";
+export {
+  energyDrift,
+  estimatePeriod,
+  upwardCrossings,
+  checkSmallOscillation,
+  explainSmallOscillation,
+  INTEGRATION_ERROR_FACTOR,
+  DEFAULT_ENERGY_DRIFT_THRESHOLD,
+} from "./checks";
 export type { EnergyDriftReport, PeriodEstimate, SmallOscillationOptions, SmallOscillationReport } from "./checks";
 export { parseMeasuredCsv, resample, DEFAULT_MEASURED_LIMITS } from "./measured";
 export type { MeasuredData, MeasuredSeries, MeasuredDataOptions } from "./measured";

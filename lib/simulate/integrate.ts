@@ -61,13 +61,7 @@ export interface SimulationSettings {
   maxOutputPoints?: number;
 }
 
-export type SimulationFailureReason =
-  | "step_size_underflow"
-  | "singular_mass_matrix"
-  | "time_limit"
-  | "cancelled"
-  | "non_finite_state"
-  | "max_steps";
+export type SimulationFailureReason = "step_size_underflow" | "singular_mass_matrix" | "time_limit" | "cancelled" | "non_finite_state" | "max_steps";
 
 export interface SimulationFailure {
   reason: SimulationFailureReason;
@@ -309,7 +303,8 @@ class IntegrationRun {
       for (let i = 0; i < n; i++) {
         const a = acc[i]!;
         // NaN or ±Infinity: a - a is not 0.
-        if (a - a !== 0) throw new StopIntegration("non_finite_state", `the acceleration of ${system.coordinateNames[i]} is not finite at t = ${formatTime(t)}`);
+        if (a - a !== 0)
+          throw new StopIntegration("non_finite_state", `the acceleration of ${system.coordinateNames[i]} is not finite at t = ${formatTime(t)}`);
         derivative[i] = y[n + i]!;
         derivative[n + i] = a;
       }
@@ -494,7 +489,8 @@ function resolveParameters(system: MechanicalSystem, overrides: Readonly<Record<
   const values: Record<string, number> = {};
   for (const p of system.parameters) {
     const value = Object.prototype.hasOwnProperty.call(overrides, p.name) ? overrides[p.name] : p.value;
-    if (value === undefined) throw new SimulationSetupError("missing_parameter", `parameters.${p.name}`, `the parameter "${p.name}" has no value; give one to simulate`);
+    if (value === undefined)
+      throw new SimulationSetupError("missing_parameter", `parameters.${p.name}`, `the parameter "${p.name}" has no value; give one to simulate`);
     if (!Number.isFinite(value)) throw new SimulationSetupError("settings", `parameters.${p.name}`, `the value of "${p.name}" must be a finite number`);
     values[p.name] = value;
   }

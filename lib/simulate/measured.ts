@@ -204,7 +204,12 @@ export function parseMeasuredCsv(text: string, options: MeasuredDataOptions): Me
       throw new MeasuredDataError("unknown_column", `"${name}" is not a coordinate of the model (coordinates: ${names}; time: t)`, headerLine, label);
     }
     if (unitText === undefined || unitText === "") {
-      throw new MeasuredDataError("missing_unit", `the column "${label}" has no unit; write it in brackets, e.g. ${label} [${isTime ? "s" : "rad"}]`, headerLine, label);
+      throw new MeasuredDataError(
+        "missing_unit",
+        `the column "${label}" has no unit; write it in brackets, e.g. ${label} [${isTime ? "s" : "rad"}]`,
+        headerLine,
+        label,
+      );
     }
     if (isTime) {
       timeUnit = unitText;
@@ -217,16 +222,36 @@ export function parseMeasuredCsv(text: string, options: MeasuredDataOptions): Me
       const target = known.get(name)?.trim();
       if (target) {
         const { dimension } = readUnit(target, headerLine, label, "model");
-        expectDimension(unitText, dimension.map((d, i) => (i === 2 ? d - 1 : d)), `${target}/s`, headerLine, label);
+        expectDimension(
+          unitText,
+          dimension.map((d, i) => (i === 2 ? d - 1 : d)),
+          `${target}/s`,
+          headerLine,
+          label,
+        );
       } else readUnit(unitText, headerLine, label, "column");
       columns.push({ kind: "other", index });
     } else {
       const target = known.get(name);
       if (target === undefined || target.trim() === "") {
         const scale = conversionFactor(unitText, null, headerLine, name);
-        columns.push({ kind: "coordinate", index, coordinate: name, unit: unitText, targetUnit: siUnitText(readUnit(unitText, headerLine, name, "column").dimension), scale });
+        columns.push({
+          kind: "coordinate",
+          index,
+          coordinate: name,
+          unit: unitText,
+          targetUnit: siUnitText(readUnit(unitText, headerLine, name, "column").dimension),
+          scale,
+        });
       } else {
-        columns.push({ kind: "coordinate", index, coordinate: name, unit: unitText, targetUnit: target, scale: conversionFactor(unitText, target, headerLine, name) });
+        columns.push({
+          kind: "coordinate",
+          index,
+          coordinate: name,
+          unit: unitText,
+          targetUnit: target,
+          scale: conversionFactor(unitText, target, headerLine, name),
+        });
       }
     }
   });
@@ -274,13 +299,19 @@ export function parseMeasuredCsv(text: string, options: MeasuredDataOptions): Me
   return {
     times,
     timeUnit,
-    series: coordinateColumns.map((column, c) => ({ coordinate: column.coordinate, unit: column.unit, targetUnit: column.targetUnit, scale: column.scale, values: values[c]! })),
+    series: coordinateColumns.map((column, c) => ({
+      coordinate: column.coordinate,
+      unit: column.unit,
+      targetUnit: column.targetUnit,
+      scale: column.scale,
+      values: values[c]!,
+    })),
   };
 }
 
 /** The first line that is neither blank nor a comment (the header), without splitting the whole file. */
 function firstContentLine(text: string): string | undefined {
-  for (let start = 0; start < text.length; ) {
+  for (let start = 0; start < text.length;) {
     const end = text.indexOf("\n", start);
     const line = text.slice(start, end < 0 ? text.length : end);
     const trimmed = line.trim();

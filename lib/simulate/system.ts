@@ -59,13 +59,7 @@ export type EnergyEvaluator = (values: Float64Array) => number;
 
 /** The variable names of the packed layout, in order: `q…`, `q'…`, `t`, inputs, parameters. */
 export function variableNames(system: Pick<MechanicalSystem, "coordinateNames" | "inputNames" | "parameters">): string[] {
-  return [
-    ...system.coordinateNames,
-    ...system.coordinateNames.map((name) => `${name}'`),
-    "t",
-    ...system.inputNames,
-    ...system.parameters.map((p) => p.name),
-  ];
+  return [...system.coordinateNames, ...system.coordinateNames.map((name) => `${name}'`), "t", ...system.inputNames, ...system.parameters.map((p) => p.name)];
 }
 
 /** Offsets into the packed variable vector. */
@@ -145,10 +139,7 @@ export function systemFromMassMatrixForm(form: MassMatrixForm, compile: Expressi
   if (duplicate !== undefined) {
     throw new SimulationSetupError("dimension", "variables", `the name "${duplicate}" is used twice`);
   }
-  const fields = [
-    ...form.massMatrix.flatMap((row, i) => row.map((_, j) => `massMatrix[${i}][${j}]`)),
-    ...form.forcing.map((_, i) => `forcing[${i}]`),
-  ];
+  const fields = [...form.massMatrix.flatMap((row, i) => row.map((_, j) => `massMatrix[${i}][${j}]`)), ...form.forcing.map((_, i) => `forcing[${i}]`)];
   const expressions = [...form.massMatrix.flat(), ...form.forcing];
   const massForcingCompiled = compileLocated(expressions, fields, variables, compile);
   const massForcing: MassForcingEvaluator = (values, out) => massForcingCompiled.evaluate(values, out);
@@ -237,7 +228,6 @@ export function compileLocated(
     throw new SimulationSetupError("expression", fields.join(", "), error.message);
   }
 }
-
 
 function energyEvaluator(compiled: ExpressionEvaluator): EnergyEvaluator {
   const out = new Float64Array(1);

@@ -103,8 +103,7 @@ export function createWorkerHandler(post: PostMessage): (request: WorkerRequest)
           signal,
           onProgress: (progress) => post({ type: "progress", id, progress }),
         });
-        const energyCheck =
-          result.energy && system.energyConserved ? { ...energyDrift(result.energy, { threshold: job.energyDriftThreshold }) } : null;
+        const energyCheck = result.energy && system.energyConserved ? { ...energyDrift(result.energy, { threshold: job.energyDriftThreshold }) } : null;
         const compact = compactResult(result);
         if (energyCheck) energyCheck.series = energyCheck.series.slice();
         post({ type: "result", id, outcome: { kind: "simulate", result: compact, energyCheck } }, buffersOf(compact, energyCheck));
@@ -156,7 +155,8 @@ function buffersOf(result: SimulationResult, energyCheck: EnergyDriftReport | nu
 export function errorPayload(error: unknown): WorkerErrorPayload {
   if (error instanceof SimulationSetupError) return { name: error.name, code: error.code, field: error.field, message: error.message };
   if (error instanceof FitError) return { name: error.name, code: error.code, field: null, message: error.message };
-  if (error instanceof MeasuredDataError) return { name: error.name, code: error.code, field: error.line === null ? null : `line ${error.line}`, message: error.message };
+  if (error instanceof MeasuredDataError)
+    return { name: error.name, code: error.code, field: error.line === null ? null : `line ${error.line}`, message: error.message };
   const message = error instanceof Error ? error.message : String(error);
   return { name: "Error", code: "internal", field: null, message };
 }

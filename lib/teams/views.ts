@@ -23,6 +23,13 @@ export interface InviteJson {
   sentAt: string;
 }
 
-export function inviteView({ id, email, role, expiresAt, createdAt, updatedAt }: Pick<Invite, "id" | "email" | "role" | "expiresAt" | "createdAt" | "updatedAt">): InviteJson {
+export function inviteView({
+  id,
+  email,
+  role,
+  expiresAt,
+  createdAt,
+  updatedAt,
+}: Pick<Invite, "id" | "email" | "role" | "expiresAt" | "createdAt" | "updatedAt">): InviteJson {
   return { id, email, role, expiresAt: expiresAt.toISOString(), createdAt: createdAt.toISOString(), sentAt: updatedAt.toISOString() };
 }

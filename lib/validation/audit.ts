@@ -14,7 +14,10 @@ export const auditQuerySchema = z.object({
     .regex(/^[a-z_.]*$/, "An action is lower-case words joined by dots, e.g. derivation.create or derivation.")
     .optional()
     .transform((value) => value || undefined),
-  actor: z.uuid("Not a member id.").optional().or(z.literal("").transform(() => undefined)),
+  actor: z
+    .uuid("Not a member id.")
+    .optional()
+    .or(z.literal("").transform(() => undefined)),
   from: dateOnly.optional().or(z.literal("").transform(() => undefined)),
   to: dateOnly.optional().or(z.literal("").transform(() => undefined)),
   format: z.enum(["json", "csv"]).default("json"),

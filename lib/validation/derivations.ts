@@ -15,14 +15,22 @@ const templateField = z
   .enum([...derivationTemplates, ...(Object.keys(derivationTemplateAliases) as (keyof typeof derivationTemplateAliases)[])], {
     error: "Choose blank, single-pendulum, cart-with-pendulum, two-mass-spring-chain or n-link-chain.",
   })
-  .transform((id) => (id in derivationTemplateAliases ? derivationTemplateAliases[id as keyof typeof derivationTemplateAliases] : id) as (typeof derivationTemplates)[number]);
+  .transform(
+    (id) =>
+      (id in derivationTemplateAliases ? derivationTemplateAliases[id as keyof typeof derivationTemplateAliases] : id) as (typeof derivationTemplates)[number],
+  );
 
 export const createDerivationSchema = z
   .object({
     title: derivationTitleField,
     content: contentField.optional(),
     template: templateField.optional(),
-    links: z.number({ error: "Give the number of links as a whole number." }).int("Give the number of links as a whole number.").min(1, "A chain has at least 1 link.").max(8, "A chain has at most 8 links.").optional(),
+    links: z
+      .number({ error: "Give the number of links as a whole number." })
+      .int("Give the number of links as a whole number.")
+      .min(1, "A chain has at least 1 link.")
+      .max(8, "A chain has at most 8 links.")
+      .optional(),
   })
   .refine((value) => !(value.content && value.template), { message: "Send either content or a template, not both.", path: ["template"] });
 export type CreateDerivationInput = z.infer<typeof createDerivationSchema>;
@@ -43,7 +51,11 @@ export const listDerivationsQuerySchema = z.object({
   status: statusField.optional(),
   ownerId: uuidField.optional(),
   search: z.string().trim().max(160).optional(),
-  sort: z.enum(["title", "status", "owner", "updatedAt", "createdAt", "coordinates"], { error: "Sort by title, status, owner, updatedAt, createdAt or coordinates." }).optional(),
+  sort: z
+    .enum(["title", "status", "owner", "updatedAt", "createdAt", "coordinates"], {
+      error: "Sort by title, status, owner, updatedAt, createdAt or coordinates.",
+    })
+    .optional(),
   direction: z.enum(["asc", "desc"], { error: "Choose asc or desc." }).optional(),
   page: z.coerce.number().int().min(1, "Pages start at 1.").default(1),
   pageSize: z.coerce.number().int().min(1).max(200, "At most 200 per page.").default(50),

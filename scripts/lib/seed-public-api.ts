@@ -43,7 +43,12 @@ export async function approveDemoDerivation({
     message: "Trolley and load swing for the anti-sway controller; the C export feeds the drive firmware.",
   });
   if (!request.ok) refused("the review request", request);
-  const decision = await decideReview({ derivationId, reviewerId, decision: "signed_off", comment: "Checked the pendulum term and the small-swing frequency against the note." });
+  const decision = await decideReview({
+    derivationId,
+    reviewerId,
+    decision: "signed_off",
+    comment: "Checked the pendulum term and the small-swing frequency against the note.",
+  });
   if (!decision.ok) refused("the sign-off", decision);
   const approval = await approveRevision({ derivationId, revisionId: request.revision.id, approverId: leadId });
   if (!approval.ok) refused("the approval", approval);

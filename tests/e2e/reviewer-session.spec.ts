@@ -66,7 +66,11 @@ test("a reviewer checks a derivation without changing it: form, equilibrium, own
   const response = await stored;
   expect(response.status()).toBe(201);
   const { run } = await response.json();
-  expect(run).toMatchObject({ status: "completed", createdBy: { name: reviewer.name }, settings: { initialCoordinates: { theta: 0.35 }, parameters: { m: 2.1 }, endTime: 4 } });
+  expect(run).toMatchObject({
+    status: "completed",
+    createdBy: { name: reviewer.name },
+    settings: { initialCoordinates: { theta: 0.35 }, parameters: { m: 2.1 }, endTime: 4 },
+  });
   await own.getByText(/Stored runs \(\d+\)/).click();
   await expect(own.getByText(reviewer.name).first()).toBeVisible();
 

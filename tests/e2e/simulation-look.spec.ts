@@ -113,6 +113,9 @@ test("a three-link chain draws each link angle in its own colour, light and dark
   for (const scheme of ["light", "dark"] as const) {
     await page.emulateMedia({ colorScheme: scheme });
     await page.waitForTimeout(400);
-    await page.getByTestId("simulation-results").last().screenshot({ path: `${artifactsDir}/simulation-chain-${scheme}.png` });
+    await page
+      .getByTestId("simulation-results")
+      .last()
+      .screenshot({ path: `${artifactsDir}/simulation-chain-${scheme}.png` });
   }
 });

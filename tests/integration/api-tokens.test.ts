@@ -45,9 +45,25 @@ beforeAll(async () => {
   await resetDatabase();
   kestrel = await makeTeam("Kestrel token bay");
   otherTeam = await makeTeam("Another firm");
-  await approve(kestrel, await createDerivation({ teamId: kestrel.team.id, title: "Approved gimbal pitch axis", content: blankDocument("Approved gimbal pitch axis"), ownerId: kestrel.members.analyst.id }));
+  await approve(
+    kestrel,
+    await createDerivation({
+      teamId: kestrel.team.id,
+      title: "Approved gimbal pitch axis",
+      content: blankDocument("Approved gimbal pitch axis"),
+      ownerId: kestrel.members.analyst.id,
+    }),
+  );
   await createDerivation({ teamId: kestrel.team.id, title: "Draft trolley", content: blankDocument("Draft trolley"), ownerId: kestrel.members.analyst.id });
-  await approve(otherTeam, await createDerivation({ teamId: otherTeam.team.id, title: "Other firm's approved rig", content: blankDocument("Other firm's approved rig"), ownerId: otherTeam.members.analyst.id }));
+  await approve(
+    otherTeam,
+    await createDerivation({
+      teamId: otherTeam.team.id,
+      title: "Other firm's approved rig",
+      content: blankDocument("Other firm's approved rig"),
+      ownerId: otherTeam.members.analyst.id,
+    }),
+  );
 });
 
 beforeEach(() => signOut());
@@ -75,7 +91,10 @@ describe("team API tokens", () => {
 
     for (const role of ["analyst", "reviewer", "viewer"] as const) {
       signInAs(kestrel.members[role]);
-      const refused = await tokensRoute.POST(jsonRequest(`/api/teams/${kestrel.team.id}/tokens`, "POST", { name: "x", expiresInDays: null }), params({ teamId: kestrel.team.id }));
+      const refused = await tokensRoute.POST(
+        jsonRequest(`/api/teams/${kestrel.team.id}/tokens`, "POST", { name: "x", expiresInDays: null }),
+        params({ teamId: kestrel.team.id }),
+      );
       expect(refused.status).toBe(403);
     }
     const [created] = await getAuditRowsByTeamId({ teamId: kestrel.team.id, filters: { action: "token.create" } });
@@ -112,7 +131,10 @@ describe("team API tokens", () => {
     expect((await refused.json()).error).toMatchObject({ code: "unauthorized:token", message: "This API token is not valid." });
 
     signInAs(kestrel.members.lead);
-    const revoked = await tokenRoute.DELETE(jsonRequest(`/api/teams/${kestrel.team.id}/tokens/${token.id}`, "DELETE"), params({ teamId: kestrel.team.id, tokenId: token.id }));
+    const revoked = await tokenRoute.DELETE(
+      jsonRequest(`/api/teams/${kestrel.team.id}/tokens/${token.id}`, "DELETE"),
+      params({ teamId: kestrel.team.id, tokenId: token.id }),
+    );
     expect((await revoked.json()).token.state).toBe("revoked");
     const afterRevoke = await v1DerivationsRoute.GET(v1Request(secret, "192.0.2.20"), params({}));
     expect(afterRevoke.status).toBe(401);
@@ -131,9 +153,19 @@ describe("team API tokens", () => {
     expect(body.derivations.map((d: { title: string }) => d.title)).toEqual(["Other firm's approved rig"]);
     // A lead of another team can neither list nor revoke it.
     signInAs(kestrel.members.lead);
-    const response = await tokenRoute.DELETE(jsonRequest(`/api/teams/${kestrel.team.id}/tokens/${token.id}`, "DELETE"), params({ teamId: kestrel.team.id, tokenId: token.id }));
+    const response = await tokenRoute.DELETE(
+      jsonRequest(`/api/teams/${kestrel.team.id}/tokens/${token.id}`, "DELETE"),
+      params({ teamId: kestrel.team.id, tokenId: token.id }),
+    );
     expect(response.status).toBe(404);
-    expect((await tokenRoute.DELETE(jsonRequest(`/api/teams/${otherTeam.team.id}/tokens/${token.id}`, "DELETE"), params({ teamId: otherTeam.team.id, tokenId: token.id }))).status).toBe(404);
+    expect(
+      (
+        await tokenRoute.DELETE(
+          jsonRequest(`/api/teams/${otherTeam.team.id}/tokens/${token.id}`, "DELETE"),
+          params({ teamId: otherTeam.team.id, tokenId: token.id }),
+        )
+      ).status,
+    ).toBe(404);
   });
 
   it("cuts off an address that keeps guessing tokens", async () => {

@@ -80,7 +80,10 @@ describe("sign-up", () => {
     const email = uniqueEmail("signup");
     const first = await signUpRoute.POST(jsonRequest("/", "POST", { name: "Rhea Okafor", email, password: "long-enough-pass" }), params({}));
     expect(first.status).toBe(201);
-    const second = await signUpRoute.POST(jsonRequest("/", "POST", { name: "Rhea Okafor", email: email.toUpperCase(), password: "long-enough-pass" }), params({}));
+    const second = await signUpRoute.POST(
+      jsonRequest("/", "POST", { name: "Rhea Okafor", email: email.toUpperCase(), password: "long-enough-pass" }),
+      params({}),
+    );
     expect(second.status).toBe(409);
     expect((await second.json()).error.fieldErrors.email[0]).toMatch(/already exists/);
   });
@@ -96,7 +99,10 @@ describe("sign-up", () => {
     const email = uniqueEmail("invited");
     const { token, tokenHash } = createToken();
     await createInvite({ teamId: team.id, email, role: "analyst", tokenHash, invitedById: members.lead.id, expiresAt: new Date(Date.now() + 60_000) });
-    const response = await signUpRoute.POST(jsonRequest("/", "POST", { name: "New Analyst", email, password: "long-enough-pass", inviteToken: token }), params({}));
+    const response = await signUpRoute.POST(
+      jsonRequest("/", "POST", { name: "New Analyst", email, password: "long-enough-pass", inviteToken: token }),
+      params({}),
+    );
     expect(response.status).toBe(201);
     const body = await response.json();
     expect(body.teamId).toBe(team.id);

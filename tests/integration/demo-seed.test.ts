@@ -15,7 +15,12 @@ const approvedTitle = demoDerivations.find((d) => d.status === "approved")!.titl
 
 /** The seed exactly as `npm run db:seed` runs it, against this suite's database. */
 function runSeed(): string {
-  return execFileSync(process.execPath, ["--conditions=react-server", "--import", "tsx", "scripts/seed.ts"], { cwd: root, encoding: "utf8", env: process.env, timeout: 200_000 });
+  return execFileSync(process.execPath, ["--conditions=react-server", "--import", "tsx", "scripts/seed.ts"], {
+    cwd: root,
+    encoding: "utf8",
+    env: process.env,
+    timeout: 200_000,
+  });
 }
 
 async function rows<T>(query: ReturnType<typeof sql>): Promise<T[]> {
@@ -61,12 +66,16 @@ describe("the demo seed", () => {
       where rr.derivation_id = ${derivation!.id}`);
     expect(reviews).toEqual([{ requester: email("analyst"), reviewer: email("reviewer"), decision: "signed_off" }]);
     // The other demo derivations keep their statuses.
-    const statuses = await rows<{ title: string; status: string }>(sql`select d.title, d.status from derivations d join teams t on t.id = d.team_id where t.slug = ${demoTeam.slug}`);
+    const statuses = await rows<{ title: string; status: string }>(
+      sql`select d.title, d.status from derivations d join teams t on t.id = d.team_id where t.slug = ${demoTeam.slug}`,
+    );
     expect(Object.fromEntries(statuses.map((s) => [s.title, s.status]))).toEqual(Object.fromEntries(demoDerivations.map((d) => [d.title, d.status])));
   });
 
   it("creates one read-only demo token, stored as its hash, that pulls the approved equations as C", async () => {
-    const tokens = await rows<{ name: string; token_hash: string; scope: string; revoked_at: Date | null }>(sql`select name, token_hash, scope, revoked_at from api_tokens`);
+    const tokens = await rows<{ name: string; token_hash: string; scope: string; revoked_at: Date | null }>(
+      sql`select name, token_hash, scope, revoked_at from api_tokens`,
+    );
     expect(tokens).toEqual([{ name: demoApiTokenName, token_hash: hashToken(demoApiToken), scope: "read", revoked_at: null }]);
 
     const list = await (await listRoute.GET(bearer("/api/v1/derivations"), params({}))).json();

@@ -85,7 +85,10 @@ async function attachCsv(derivationId: string): Promise<{ id: string; objectKey:
 
 /** Moves a trashed derivation's deletion back in time, as if that many days had passed. */
 async function ageInTrash(id: string, days: number): Promise<void> {
-  await db.update(derivations).set({ deletedAt: new Date(Date.now() - days * DAY_MS) }).where(eq(derivations.id, id));
+  await db
+    .update(derivations)
+    .set({ deletedAt: new Date(Date.now() - days * DAY_MS) })
+    .where(eq(derivations.id, id));
 }
 
 beforeAll(async () => {
@@ -195,7 +198,9 @@ describe("restoring from the trash", () => {
     // Restoring twice: it is no longer in the trash.
     expect((await restore(own.id)).status).toBe(404);
     const audit = await getAuditEventsByTeamId({ teamId: kestrel.team.id });
-    expect(audit.some((event) => event.action === "derivation.restore" && event.targetId === own.id && event.actorId === kestrel.members.analyst.id)).toBe(true);
+    expect(audit.some((event) => event.action === "derivation.restore" && event.targetId === own.id && event.actorId === kestrel.members.analyst.id)).toBe(
+      true,
+    );
   });
 
   it("lets a lead restore anyone's derivation", async () => {
@@ -257,7 +262,10 @@ describe("removing from the trash for good", () => {
     expect(await db.select({ id: derivations.id }).from(derivations).where(eq(derivations.id, old.id))).toEqual([]);
     expect(await objectExists({ key: file.objectKey })).toBe(false);
     const audit = await getAuditEventsByTeamId({ teamId: kestrel.team.id });
-    expect(audit.find((entry) => entry.action === "derivation.purge" && entry.targetId === old.id)).toMatchObject({ actorId: null, details: { reason: "expired" } });
+    expect(audit.find((entry) => entry.action === "derivation.purge" && entry.targetId === old.id)).toMatchObject({
+      actorId: null,
+      details: { reason: "expired" },
+    });
 
     // The recent one is still restorable.
     expect((await restore(recent.id)).status).toBe(200);

@@ -64,7 +64,9 @@ describe("derivations API", () => {
   it("lists, filters and searches a team's derivations", async () => {
     await createAs(kestrel, "lead", "Seat rig damper sweep");
     signInAs(kestrel.members.viewer);
-    const all = await (await teamDerivationsRoute.GET(jsonRequest(`/api/teams/${kestrel.team.id}/derivations`, "GET"), params({ teamId: kestrel.team.id }))).json();
+    const all = await (
+      await teamDerivationsRoute.GET(jsonRequest(`/api/teams/${kestrel.team.id}/derivations`, "GET"), params({ teamId: kestrel.team.id }))
+    ).json();
     expect(all.derivations.map((d: { title: string }) => d.title).sort()).toEqual(["Seat rig damper sweep", "Trolley with swinging load"]);
     const mine = await (
       await teamDerivationsRoute.GET(
@@ -119,7 +121,10 @@ describe("derivations API", () => {
 
   it("answers malformed JSON and malformed ids without crashing", async () => {
     signInAs(kestrel.members.analyst);
-    const badJson = await teamDerivationsRoute.POST(jsonRequest(`/api/teams/${kestrel.team.id}/derivations`, "POST", "{title:"), params({ teamId: kestrel.team.id }));
+    const badJson = await teamDerivationsRoute.POST(
+      jsonRequest(`/api/teams/${kestrel.team.id}/derivations`, "POST", "{title:"),
+      params({ teamId: kestrel.team.id }),
+    );
     expect(badJson.status).toBe(400);
     expect((await badJson.json()).error.code).toBe("bad_request:validation");
     const badId = await derivationRoute.GET(jsonRequest("/api/derivations/../../etc", "GET"), params({ id: "../../etc" }));

@@ -101,10 +101,16 @@ describe("writing content", () => {
     expect(unversioned.code).toBe("bad_request:validation");
     expect(Object.keys(unversioned.fieldErrors)).toEqual(expect.arrayContaining(["content.schemaVersion", "content.cells"]));
 
-    const badCell = await errorOf(await post({ title: "Broken", content: { schemaVersion: DOCUMENT_SCHEMA_VERSION, title: "Broken", cells: [{ id: "a", kind: "teapot" }] } }), 400);
+    const badCell = await errorOf(
+      await post({ title: "Broken", content: { schemaVersion: DOCUMENT_SCHEMA_VERSION, title: "Broken", cells: [{ id: "a", kind: "teapot" }] } }),
+      400,
+    );
     expect(Object.keys(badCell.fieldErrors).some((key) => key.startsWith("content.cells[0]"))).toBe(true);
 
-    const newer = await errorOf(await post({ title: "From the future", content: { ...modelToDocument(bogie), schemaVersion: DOCUMENT_SCHEMA_VERSION + 1 } }), 422);
+    const newer = await errorOf(
+      await post({ title: "From the future", content: { ...modelToDocument(bogie), schemaVersion: DOCUMENT_SCHEMA_VERSION + 1 } }),
+      422,
+    );
     expect(newer.message).toMatch(/newer version of Holonomy/);
     expect(await total()).toBe(before);
   });
@@ -137,7 +143,12 @@ describe("writing content", () => {
 
   it("autosave refuses bad content (400) and a newer document (422), and stores an older one migrated", async () => {
     const derivation = await created({ title: "Bogie", content: modelToDocument(bogie) });
-    const bad = await errorOf(await save(derivation.id, { document: { schemaVersion: DOCUMENT_SCHEMA_VERSION, title: "x", cells: [{ id: "s", collapsed: false, kind: "simulation", settings: { endTime: 4 } }] } }), 400);
+    const bad = await errorOf(
+      await save(derivation.id, {
+        document: { schemaVersion: DOCUMENT_SCHEMA_VERSION, title: "x", cells: [{ id: "s", collapsed: false, kind: "simulation", settings: { endTime: 4 } }] },
+      }),
+      400,
+    );
     expect(Object.keys(bad.fieldErrors).every((key) => key.startsWith("document.cells[0].settings"))).toBe(true);
     const newer = await errorOf(await save(derivation.id, { document: { ...modelToDocument(bogie), schemaVersion: DOCUMENT_SCHEMA_VERSION + 1 } }), 422);
     expect(newer.fieldErrors["document.schemaVersion"]).toHaveLength(1);
@@ -153,7 +164,10 @@ describe("writing content", () => {
     const description = "Bogie frame, wheelsets and ballast. ".repeat(111);
     expect(description.length).toBe(3996);
     const longest = { ...bogie, parameters: [{ ...bogie.parameters[0]!, description }, bogie.parameters[1]!] };
-    const response = await importRoute.POST(jsonRequest(`/api/teams/${kestrel.team.id}/derivations/import`, "POST", longest), params({ teamId: kestrel.team.id }));
+    const response = await importRoute.POST(
+      jsonRequest(`/api/teams/${kestrel.team.id}/derivations/import`, "POST", longest),
+      params({ teamId: kestrel.team.id }),
+    );
     expect(response.status).toBe(201);
     const { derivation } = await response.json();
     const exported = await exportRoute.GET(jsonRequest(`/api/derivations/${derivation.id}/export?format=model`, "GET"), params({ id: derivation.id }));
@@ -164,7 +178,10 @@ describe("writing content", () => {
     signInAs(kestrel.members.analyst);
     const before = await total();
     const notebook = fixture("version-1-notebook.json");
-    const response = await importRoute.POST(jsonRequest(`/api/teams/${kestrel.team.id}/derivations/import`, "POST", notebook), params({ teamId: kestrel.team.id }));
+    const response = await importRoute.POST(
+      jsonRequest(`/api/teams/${kestrel.team.id}/derivations/import`, "POST", notebook),
+      params({ teamId: kestrel.team.id }),
+    );
     expect((await errorOf(response, 422)).code).toBe("unprocessable:model");
     expect(await total()).toBe(before);
   });
@@ -182,7 +199,15 @@ describe("reading content this version cannot open", () => {
     title: "Hoist brake test",
     cells: [
       { id: "c", collapsed: false, kind: "coordinates", rows: [{ id: "r1", name: "z", unit: "m", description: "" }] },
-      { id: "p", collapsed: false, kind: "parameters", rows: [{ id: "r1", name: "m", unit: "kg", value: "1800", description: "" }, { id: "r2", name: 7 }] },
+      {
+        id: "p",
+        collapsed: false,
+        kind: "parameters",
+        rows: [
+          { id: "r1", name: "m", unit: "kg", value: "1800", description: "" },
+          { id: "r2", name: 7 },
+        ],
+      },
       { id: "k", collapsed: false, kind: "kinetic", expr: "1/2*m*z'^2" },
       { id: "v", collapsed: false, kind: "potential", expr: ["not text"] },
     ],
@@ -237,7 +262,9 @@ describe("reading content this version cannot open", () => {
     signInAs(kestrel.members.analyst);
     // The page is a fragment: the header's team marker, then the notebook.
     const page = (await DerivationPage({ params: Promise.resolve({ id }) })) as ReactElement<{ children: ReactElement[] }>;
-    const notebook = page.props.children.find((child) => (child.props as { initialDocument?: unknown }).initialDocument !== undefined) as ReactElement<{ initialDocument: DerivationDocument }>;
+    const notebook = page.props.children.find((child) => (child.props as { initialDocument?: unknown }).initialDocument !== undefined) as ReactElement<{
+      initialDocument: DerivationDocument;
+    }>;
     expect(notebook.props.initialDocument.schemaVersion).toBe(DOCUMENT_SCHEMA_VERSION);
     expect(notebook.props.initialDocument.cells.find((cell) => cell.id === "s1")).toMatchObject({ settings: { endTime: "4", outputStep: "0.01" } });
   });

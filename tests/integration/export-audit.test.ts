@@ -44,7 +44,12 @@ beforeAll(async () => {
   // The pools run the bundled workers; build them from the current sources.
   await resetDatabase();
   kestrel = await makeTeam("Kestrel export bay");
-  const derivation = await createDerivation({ teamId: kestrel.team.id, title: hoistModel.title, ownerId: kestrel.members.analyst.id, content: modelToDocument(hoistModel) });
+  const derivation = await createDerivation({
+    teamId: kestrel.team.id,
+    title: hoistModel.title,
+    ownerId: kestrel.members.analyst.id,
+    content: modelToDocument(hoistModel),
+  });
   derivationId = derivation.id;
 }, 120_000);
 
@@ -59,10 +64,26 @@ afterAll(async () => {
 
 describe("derivation.export in the audit log", () => {
   it.each([
-    { format: "model", call: () => exportRoute.GET(download(`/api/derivations/${derivationId}/export?format=model`), params({ id: derivationId })), details: {} },
-    { format: "latex", call: () => exportRoute.GET(download(`/api/derivations/${derivationId}/export?format=latex`), params({ id: derivationId })), details: {} },
-    { format: "code", call: () => codeRoute.GET(download(`/api/derivations/${derivationId}/code?language=julia`), params({ id: derivationId })), details: { language: "julia" } },
-    { format: "recovered-model", call: () => recoveredModelRoute.GET(download(`/api/derivations/${derivationId}/recovered-model`), params({ id: derivationId })), details: {} },
+    {
+      format: "model",
+      call: () => exportRoute.GET(download(`/api/derivations/${derivationId}/export?format=model`), params({ id: derivationId })),
+      details: {},
+    },
+    {
+      format: "latex",
+      call: () => exportRoute.GET(download(`/api/derivations/${derivationId}/export?format=latex`), params({ id: derivationId })),
+      details: {},
+    },
+    {
+      format: "code",
+      call: () => codeRoute.GET(download(`/api/derivations/${derivationId}/code?language=julia`), params({ id: derivationId })),
+      details: { language: "julia" },
+    },
+    {
+      format: "recovered-model",
+      call: () => recoveredModelRoute.GET(download(`/api/derivations/${derivationId}/recovered-model`), params({ id: derivationId })),
+      details: {},
+    },
   ])("records a $format download with who took it and from where", async ({ format, call, details }) => {
     signInAs(kestrel.members.viewer);
     const before = (await exportEvents()).length;
@@ -70,19 +91,33 @@ describe("derivation.export in the audit log", () => {
     expect(response.status).toBe(200);
     const events = await exportEvents();
     expect(events).toHaveLength(before + 1);
-    expect(events[0]).toMatchObject({ actorId: kestrel.members.viewer.id, address: "203.0.113.9", targetType: "derivation", targetId: derivationId, details: { format, ...details } });
+    expect(events[0]).toMatchObject({
+      actorId: kestrel.members.viewer.id,
+      address: "203.0.113.9",
+      targetType: "derivation",
+      targetId: derivationId,
+      details: { format, ...details },
+    });
   });
 
   it("records a trajectory CSV download with the run", async () => {
     signInAs(kestrel.members.analyst);
-    const created = await runsRoute.POST(jsonRequest(`/api/derivations/${derivationId}/runs`, "POST", { initialCoordinates: { alpha: 0.1 }, endTime: 1, outputStep: 0.01 }), params({ id: derivationId }));
+    const created = await runsRoute.POST(
+      jsonRequest(`/api/derivations/${derivationId}/runs`, "POST", { initialCoordinates: { alpha: 0.1 }, endTime: 1, outputStep: 0.01 }),
+      params({ id: derivationId }),
+    );
     expect(created.status).toBe(201);
     const { run } = await created.json();
     signInAs(kestrel.members.reviewer);
     const csv = await runCsvRoute.GET(download(`/api/derivations/${derivationId}/runs/${run.id}/csv`), params({ id: derivationId, runId: run.id }));
     expect(csv.status).toBe(200);
     const [event] = await exportEvents();
-    expect(event).toMatchObject({ actorId: kestrel.members.reviewer.id, targetId: derivationId, address: "203.0.113.9", details: { format: "trajectory-csv", runId: run.id } });
+    expect(event).toMatchObject({
+      actorId: kestrel.members.reviewer.id,
+      targetId: derivationId,
+      address: "203.0.113.9",
+      details: { format: "trajectory-csv", runId: run.id },
+    });
   });
 
   it("records nothing when the export is refused", async () => {

@@ -49,7 +49,13 @@ async function as<T>(user: SessionUser, call: () => Promise<T>): Promise<T> {
   return call();
 }
 
-async function post(route: { POST: (request: Request, context: { params: Promise<{ id: string }> }) => Promise<Response> }, user: SessionUser, path: string, id: string, body: unknown) {
+async function post(
+  route: { POST: (request: Request, context: { params: Promise<{ id: string }> }) => Promise<Response> },
+  user: SessionUser,
+  path: string,
+  id: string,
+  body: unknown,
+) {
   const response = await as(user, () => route.POST(jsonRequest(`/api/derivations/${id}/${path}`, "POST", body), params({ id })));
   return { status: response.status, body: await response.json() };
 }
@@ -85,13 +91,20 @@ describe("history, comparison, review panel and report", () => {
     const first = await post(reviewRoute, analyst, "review", id, { reviewerIds: [reviewer.id] });
     expect(first.status).toBe(201);
     let panel = await reviewPanelData({ derivation: await reload(id), membership: { role: "reviewer" }, userId: reviewer.id });
-    expect(panel).toMatchObject({ status: "in_review", latest: { number: 1 }, currentIsLatest: true, request: { open: true, revisionNumber: 1, reviewers: [{ id: reviewer.id, decision: "pending" }] } });
+    expect(panel).toMatchObject({
+      status: "in_review",
+      latest: { number: 1 },
+      currentIsLatest: true,
+      request: { open: true, revisionNumber: 1, reviewers: [{ id: reviewer.id, decision: "pending" }] },
+    });
     expect(panel.can).toEqual({ requestReview: false, review: true, approve: false, unlock: false });
     // Nobody may be asked to review their own request; the reviewer sees the analyst's choice of people.
     expect(panel.candidates.map((candidate) => candidate.id).sort()).toEqual([lead.id].sort());
 
     // Changes requested, the analyst adds the sheave friction and asks again: revision 2.
-    expect((await post(reviewDecisionRoute, reviewer, "review/decision", id, { decision: "changes_requested", comment: "Add the sheave friction." })).status).toBe(200);
+    expect(
+      (await post(reviewDecisionRoute, reviewer, "review/decision", id, { decision: "changes_requested", comment: "Add the sheave friction." })).status,
+    ).toBe(200);
     await save(analyst, id, hookBlock(true));
     panel = await reviewPanelData({ derivation: await reload(id), membership: { role: "lead" }, userId: lead.id });
     expect(panel.status).toBe("draft");
@@ -159,7 +172,9 @@ describe("history, comparison, review panel and report", () => {
     expect(report.runs[0]!.trajectory?.coordinateNames).toEqual(["theta"]);
     expect(report.runs[0]!.trajectory!.times.length).toBeLessThanOrEqual(601);
     expect(report.otherRuns).toBe(0);
-    expect(report.review?.reviewers.map((entry) => `${entry.reviewerName}:${entry.decision}`).sort()).toEqual([`${lead.name}:pending`, `${reviewer.name}:signed_off`].sort());
+    expect(report.review?.reviewers.map((entry) => `${entry.reviewerName}:${entry.decision}`).sort()).toEqual(
+      [`${lead.name}:pending`, `${reviewer.name}:signed_off`].sort(),
+    );
     expect(report.approvals).toEqual([expect.objectContaining({ approvedByName: lead.name, contentHash: pair.to.contentHash, unlockedAt: null })]);
 
     // Revision 1 used another model: the run is counted, not shown, and it was never approved.
@@ -190,7 +205,10 @@ describe("history, comparison, review panel and report", () => {
   it("reports a revision the engine cannot derive instead of failing", async () => {
     const { analyst } = kestrel.members;
     const broken = hookBlock(false);
-    const document: DerivationDocument = { ...broken, cells: broken.cells.map((cell) => (cell.kind === "kinetic" ? { ...cell, expr: "1/2*m*l^2*theta'^2 + q" } : cell)) };
+    const document: DerivationDocument = {
+      ...broken,
+      cells: broken.cells.map((cell) => (cell.kind === "kinetic" ? { ...cell, expr: "1/2*m*l^2*theta'^2 + q" } : cell)),
+    };
     const created = await createDerivation({ teamId: kestrel.team.id, title: "Half-typed model", ownerId: analyst.id, content: hookBlock(false) });
     await save(analyst, created.id, hookBlock(false));
     await post(reviewRoute, analyst, "review", created.id, { reviewerIds: [kestrel.members.reviewer.id] });

@@ -37,7 +37,7 @@ async function derivationCount(): Promise<number> {
 describe("model file import errors", () => {
   it("reports every malformed line of a file at once, each with line and column, and creates nothing", async () => {
     const before = await derivationCount();
-    const text = ['{', '  "title": "Gantry"', '  "coordinates": [{ "name": "x", "unit": "m" }],', '  "kinetic": 1/2,', '}'].join("\n");
+    const text = ["{", '  "title": "Gantry"', '  "coordinates": [{ "name": "x", "unit": "m" }],', '  "kinetic": 1/2,', "}"].join("\n");
     const response = await importText(text);
     expect(response.status).toBe(422);
     const { error } = await response.json();
@@ -53,7 +53,10 @@ describe("model file import errors", () => {
   it("reports every model problem of a well-formed file at once", async () => {
     const model = {
       title: "Gantry",
-      coordinates: [{ name: "x", unit: "m" }, { name: "θ", unit: "rad" }],
+      coordinates: [
+        { name: "x", unit: "m" },
+        { name: "θ", unit: "rad" },
+      ],
       parameters: [{ name: "m", unit: "kg" }],
       kinetic: "1/2*m*x'^2",
       potential: "k*x",

@@ -93,7 +93,13 @@ describe("POST /api/derivations/[id]/evaluate", () => {
   });
 
   it("runs the engine on a miss, answers from the cache on the second call, and lets a viewer read", async () => {
-    const derivation = await createWithDocument(kestrel, { ...modelToDocument(seatModel()), cells: [...modelToDocument(seatModel()).cells, { id: "lin", kind: "linearization", collapsed: false, settings: { equilibriumIndex: 0, inputValues: {} } }] });
+    const derivation = await createWithDocument(kestrel, {
+      ...modelToDocument(seatModel()),
+      cells: [
+        ...modelToDocument(seatModel()).cells,
+        { id: "lin", kind: "linearization", collapsed: false, settings: { equilibriumIndex: 0, inputValues: {} } },
+      ],
+    });
     const first = await evaluate(derivation.id);
     expect(first.status).toBe(200);
     const miss = await first.json();
@@ -162,12 +168,18 @@ describe("POST /api/derivations/[id]/linearize", () => {
   it("linearizes the crane trolley about the hanging load and gives the pendulum frequency", async () => {
     const derivation = await create(kestrel, { title: "Trolley from template", template: "cart-with-pendulum" });
     signInAs(kestrel.members.reviewer);
-    const response = await linearizeRoute.POST(jsonRequest(`/api/derivations/${derivation.id}/linearize`, "POST", { equilibriumIndex: 0, inputValues: { F: 0 } }), params({ id: derivation.id }));
+    const response = await linearizeRoute.POST(
+      jsonRequest(`/api/derivations/${derivation.id}/linearize`, "POST", { equilibriumIndex: 0, inputValues: { F: 0 } }),
+      params({ id: derivation.id }),
+    );
     expect(response.status).toBe(200);
     const body = await response.json();
     const hanging = body.equilibria.findIndex((e: { q: number[] }) => e.q[1] === 0);
     expect(hanging).toBeGreaterThanOrEqual(0);
-    const chosen = await linearizeRoute.POST(jsonRequest(`/api/derivations/${derivation.id}/linearize`, "POST", { equilibriumIndex: hanging }), params({ id: derivation.id }));
+    const chosen = await linearizeRoute.POST(
+      jsonRequest(`/api/derivations/${derivation.id}/linearize`, "POST", { equilibriumIndex: hanging }),
+      params({ id: derivation.id }),
+    );
     const { linearization } = await chosen.json();
     // Template values: M = 250 kg, m = 800 kg, l = 6 m. The linearized load swing on a
     // free cart has ω² = (g/l)(1 + m/M) (a fact of the trade for the hanging cart pendulum; from memory).
@@ -252,7 +264,9 @@ describe("import and export", () => {
 
     const original = await (await evaluate(derivation.id)).json();
     const roundTrip = await (await evaluate(copy.id)).json();
-    expect(roundTrip.result.equations.map((e: { residual: string }) => e.residual)).toEqual(original.result.equations.map((e: { residual: string }) => e.residual));
+    expect(roundTrip.result.equations.map((e: { residual: string }) => e.residual)).toEqual(
+      original.result.equations.map((e: { residual: string }) => e.residual),
+    );
   });
 
   it("rejects a bad file with the field and the reason and creates nothing", async () => {
@@ -285,7 +299,10 @@ describe("import and export", () => {
   it("refuses an import without a Content-Length (411) or declaring more than the limit (413) before reading it", async () => {
     signInAs(kestrel.members.analyst);
     const url = `http://localhost/api/teams/${kestrel.team.id}/derivations/import`;
-    const unsized = await importRoute.POST(new Request(url, { method: "POST", headers: { "content-type": "application/json" }, body: JSON.stringify(seatModel()) }), params({ teamId: kestrel.team.id }));
+    const unsized = await importRoute.POST(
+      new Request(url, { method: "POST", headers: { "content-type": "application/json" }, body: JSON.stringify(seatModel()) }),
+      params({ teamId: kestrel.team.id }),
+    );
     expect(unsized.status).toBe(411);
     const huge = await importRoute.POST(
       new Request(url, { method: "POST", headers: { "content-type": "application/json", "content-length": String(50 * 1024 * 1024) }, body: "{}" }),
@@ -339,7 +356,13 @@ describe("GET /api/derivations/[id]/code", () => {
   it("downloads code with the safety note in its header, in every language", async () => {
     const derivation = await create(kestrel, { title: "Two sleds", template: "two-mass-spring-chain" });
     signInAs(kestrel.members.viewer);
-    const expectations = { python: [".py", "def accelerations"], c: [".c", "_accelerations("], julia: [".jl", "accelerations("], matlab: [".m", "function"], typescript: [".ts", "export function accelerations"] } as const;
+    const expectations = {
+      python: [".py", "def accelerations"],
+      c: [".c", "_accelerations("],
+      julia: [".jl", "accelerations("],
+      matlab: [".m", "function"],
+      typescript: [".ts", "export function accelerations"],
+    } as const;
     for (const [language, [extension, marker]] of Object.entries(expectations)) {
       const response = await codeRoute.GET(jsonRequest(`/api/derivations/${derivation.id}/code?language=${language}`, "GET"), params({ id: derivation.id }));
       expect(response.status).toBe(200);
@@ -365,7 +388,10 @@ describe("creation from templates and the dashboard list", () => {
     await create(team, { title: "Hook block", template: "single-pendulum" });
 
     signInAs(team.members.analyst);
-    const tooLong = await teamDerivationsRoute.POST(jsonRequest(`/api/teams/${team.team.id}/derivations`, "POST", { title: "Too long", template: "n-link-chain", links: 9 }), params({ teamId: team.team.id }));
+    const tooLong = await teamDerivationsRoute.POST(
+      jsonRequest(`/api/teams/${team.team.id}/derivations`, "POST", { title: "Too long", template: "n-link-chain", links: 9 }),
+      params({ teamId: team.team.id }),
+    );
     expect(tooLong.status).toBe(400);
     expect((await tooLong.json()).error.fieldErrors.links).toBeDefined();
 

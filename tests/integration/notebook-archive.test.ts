@@ -131,7 +131,10 @@ async function filesOf(id: string) {
     createdAt: string;
   }[];
   return Promise.all(
-    listed.map(async (file) => ({ ...file, bytes: new Uint8Array(await (await fileRoute.GET(jsonRequest(`/api/files/${file.id}`, "GET"), params({ fileId: file.id }))).arrayBuffer()) })),
+    listed.map(async (file) => ({
+      ...file,
+      bytes: new Uint8Array(await (await fileRoute.GET(jsonRequest(`/api/files/${file.id}`, "GET"), params({ fileId: file.id }))).arrayBuffer()),
+    })),
   );
 }
 
@@ -179,7 +182,12 @@ beforeAll(async () => {
   expect(large.status).toBe(201);
   expect((await listObjectKeys({ prefix: `derivations/${sourceId}/runs/` })).length).toBe(1);
   // Approved by the lead: the copy must start over as a draft.
-  const asked = await requestReview({ derivationId: sourceId, requesterId: kestrel.members.analyst.id, reviewerIds: [kestrel.members.reviewer.id], message: "" });
+  const asked = await requestReview({
+    derivationId: sourceId,
+    requesterId: kestrel.members.analyst.id,
+    reviewerIds: [kestrel.members.reviewer.id],
+    message: "",
+  });
   if (!asked.ok) throw new Error(`review request refused: ${asked.reason}`);
   const approved = await approveRevision({ derivationId: sourceId, revisionId: asked.revision.id, approverId: kestrel.members.lead.id });
   if (!approved.ok) throw new Error(`approval refused: ${approved.reason}`);
@@ -204,9 +212,20 @@ describe("notebook archive export", () => {
     expect(Number(response.headers.get("content-length"))).toBe(archive.byteLength);
 
     const entries = unzipSync(archive);
-    expect(Object.keys(entries).sort()).toEqual(["document.json", "files/001-g2-run14.csv", "files/002-stand-photo.png", "manifest.json", "runs/001.json", "runs/002.json"]);
+    expect(Object.keys(entries).sort()).toEqual([
+      "document.json",
+      "files/001-g2-run14.csv",
+      "files/002-stand-photo.png",
+      "manifest.json",
+      "runs/001.json",
+      "runs/002.json",
+    ]);
     const manifest = JSON.parse(strFromU8(entries["manifest.json"]!));
-    expect(manifest).toMatchObject({ format: "holonomy.notebook-archive", version: 1, derivation: { title: "Gimbal pitch arm, archived", status: "approved" } });
+    expect(manifest).toMatchObject({
+      format: "holonomy.notebook-archive",
+      version: 1,
+      derivation: { title: "Gimbal pitch arm, archived", status: "approved" },
+    });
     for (const entry of [manifest.document, ...manifest.runs, ...manifest.files]) {
       expect(createHash("sha256").update(entries[entry.path]!).digest("hex")).toBe(entry.sha256);
     }
@@ -217,7 +236,12 @@ describe("notebook archive export", () => {
   it("is a 404 for another team and for a derivation in the trash", async () => {
     signInAs(otherTeam.members.lead);
     expect((await exportArchive(sourceId)).status).toBe(404);
-    const binned = await createDerivation({ teamId: kestrel.team.id, title: "Binned sketch", ownerId: kestrel.members.analyst.id, content: blankDocument("Binned sketch") });
+    const binned = await createDerivation({
+      teamId: kestrel.team.id,
+      title: "Binned sketch",
+      ownerId: kestrel.members.analyst.id,
+      content: blankDocument("Binned sketch"),
+    });
     signInAs(kestrel.members.analyst);
     expect((await derivationRoute.DELETE(jsonRequest(`/api/derivations/${binned.id}`, "DELETE"), params({ id: binned.id }))).status).toBe(204);
     expect((await exportArchive(binned.id)).status).toBe(404);
@@ -231,7 +255,12 @@ describe("notebook archive import", () => {
     const response = await importArchive(otherTeam, archive);
     expect(response.status).toBe(201);
     const { derivation } = await response.json();
-    expect(derivation).toMatchObject({ teamId: otherTeam.team.id, title: "Gimbal pitch arm, archived", status: "draft", ownerId: otherTeam.members.analyst.id });
+    expect(derivation).toMatchObject({
+      teamId: otherTeam.team.id,
+      title: "Gimbal pitch arm, archived",
+      status: "draft",
+      ownerId: otherTeam.members.analyst.id,
+    });
     expect(derivation.id).not.toBe(sourceId);
     expect(derivation.content).toEqual(sourceDocument);
 
@@ -254,12 +283,23 @@ describe("notebook archive import", () => {
     const byName = (list: typeof copiedFiles) => [...list].sort((a, b) => a.originalName.localeCompare(b.originalName));
     for (const [copy, original] of byName(copiedFiles).map((file, i) => [file, byName(sourceFiles)[i]!] as const)) {
       expect(Buffer.from(copy.bytes).equals(Buffer.from(original.bytes))).toBe(true);
-      expect(copy).toMatchObject({ kind: original.kind, originalName: original.originalName, contentType: original.contentType, sizeBytes: original.sizeBytes, summary: original.summary, createdAt: original.createdAt });
+      expect(copy).toMatchObject({
+        kind: original.kind,
+        originalName: original.originalName,
+        contentType: original.contentType,
+        sizeBytes: original.sizeBytes,
+        summary: original.summary,
+        createdAt: original.createdAt,
+      });
     }
     expect(new TextDecoder().decode(byName(copiedFiles)[0]!.bytes)).toBe(measuredCsv);
 
     const audit = await getAuditEventsByTeamId({ teamId: otherTeam.team.id });
-    expect(audit.find((event) => event.action === "derivation.create" && event.targetId === derivation.id)?.details).toEqual({ source: "notebook-archive", files: 2, runs: 2 });
+    expect(audit.find((event) => event.action === "derivation.create" && event.targetId === derivation.id)?.details).toEqual({
+      source: "notebook-archive",
+      files: 2,
+      runs: 2,
+    });
   });
 
   it("takes a new title when one is given", async () => {
@@ -399,7 +439,12 @@ describe("a notebook archive with problems", () => {
     expect(response.status).toBe(500);
     expect(await teamDerivationCount(otherTeam.team.id)).toBe(before);
     expect((await db.select({ total: count() }).from(files))[0]).toEqual(filesBefore);
-    expect(await db.select({ id: derivations.id }).from(derivations).where(and(eq(derivations.teamId, otherTeam.team.id), eq(derivations.title, "Broken on the way in")))).toEqual([]);
+    expect(
+      await db
+        .select({ id: derivations.id })
+        .from(derivations)
+        .where(and(eq(derivations.teamId, otherTeam.team.id), eq(derivations.title, "Broken on the way in"))),
+    ).toEqual([]);
     expect((await listObjectKeys({ prefix: "derivations/" })).sort()).toEqual(objectsBefore);
     expect((await db.select({ total: count() }).from(simulationRuns))[0]).toEqual(runsBefore);
   });

@@ -75,12 +75,18 @@ async function saveAs(user: SessionUser, id: string, document: DerivationDocumen
 async function approveThroughFlow(fixture: TeamFixture, id: string, document: DerivationDocument) {
   const { analyst, reviewer, lead } = fixture.members;
   await saveAs(analyst, id, document);
-  const asked = await asUser(analyst, () => reviewRoute.POST(jsonRequest(`/api/derivations/${id}/review`, "POST", { reviewerIds: [reviewer.id] }), params({ id })));
+  const asked = await asUser(analyst, () =>
+    reviewRoute.POST(jsonRequest(`/api/derivations/${id}/review`, "POST", { reviewerIds: [reviewer.id] }), params({ id })),
+  );
   expect(asked.status).toBe(201);
   const { revision } = await asked.json();
-  const decided = await asUser(reviewer, () => reviewDecisionRoute.POST(jsonRequest(`/api/derivations/${id}/review/decision`, "POST", { decision: "signed_off" }), params({ id })));
+  const decided = await asUser(reviewer, () =>
+    reviewDecisionRoute.POST(jsonRequest(`/api/derivations/${id}/review/decision`, "POST", { decision: "signed_off" }), params({ id })),
+  );
   expect(decided.status).toBe(200);
-  const approved = await asUser(lead, () => approveRoute.POST(jsonRequest(`/api/derivations/${id}/approve`, "POST", { revisionId: revision.id }), params({ id })));
+  const approved = await asUser(lead, () =>
+    approveRoute.POST(jsonRequest(`/api/derivations/${id}/approve`, "POST", { revisionId: revision.id }), params({ id })),
+  );
   expect(approved.status).toBe(200);
   return revision as { id: string; number: number; contentHash: string };
 }
@@ -236,7 +242,10 @@ describe("GET /api/v1/derivations/{id}/approved", () => {
     const before = await (await getApproved(derivation.id, secret, "?language=c")).json();
 
     const unlocked = await asUser(lead, () =>
-      unlockRoute.POST(jsonRequest(`/api/derivations/${derivation.id}/unlock`, "POST", { reason: "Stiffer spring fitted for the next rig build." }), params({ id: derivation.id })),
+      unlockRoute.POST(
+        jsonRequest(`/api/derivations/${derivation.id}/unlock`, "POST", { reason: "Stiffer spring fitted for the next rig build." }),
+        params({ id: derivation.id }),
+      ),
     );
     expect(unlocked.status).toBe(200);
     const edited = modelToDocument(seatModel("Seat rig, retuned", stiffness * 2));
@@ -296,7 +305,10 @@ describe("GET /api/v1/derivations/{id}/approved", () => {
 
     const revoking = await issueToken(kestrel, "Retired build");
     await asUser(kestrel.members.lead, () =>
-      tokenRoute.DELETE(jsonRequest(`/api/teams/${kestrel.team.id}/tokens/${revoking.token.id}`, "DELETE"), params({ teamId: kestrel.team.id, tokenId: revoking.token.id })),
+      tokenRoute.DELETE(
+        jsonRequest(`/api/teams/${kestrel.team.id}/tokens/${revoking.token.id}`, "DELETE"),
+        params({ teamId: kestrel.team.id, tokenId: revoking.token.id }),
+      ),
     );
     const revoked = await getApproved(derivation.id, revoking.secret, "", "192.0.2.41");
     expect(revoked.status).toBe(401);
@@ -332,7 +344,13 @@ describe("GET /api/v1/derivations", () => {
     const newer = await newDerivation(team, "Trolley drive, approved second");
     await newDerivation(team, "Trolley drive, draft");
     // Marked approved without an approval (as rows from before the review flow): not listed.
-    await createDerivation({ teamId: team.team.id, title: "Marked approved, never reviewed", ownerId: team.members.analyst.id, content: modelToDocument(seatModel("x")), status: "approved" });
+    await createDerivation({
+      teamId: team.team.id,
+      title: "Marked approved, never reviewed",
+      ownerId: team.members.analyst.id,
+      content: modelToDocument(seatModel("x")),
+      status: "approved",
+    });
     const olderRevision = await approveThroughFlow(team, older.id, modelToDocument(seatModel("Trolley drive, approved first")));
     const newerRevision = await approveThroughFlow(team, newer.id, modelToDocument(seatModel("Trolley drive, approved second")));
 

@@ -48,10 +48,13 @@ const tiltArm: Model = {
 };
 
 function tiltArmDocument(): DerivationDocument {
-  const doc = modelToDocument(tiltArm, (() => {
-    let n = 0;
-    return () => `arm${(n += 1)}`;
-  })());
+  const doc = modelToDocument(
+    tiltArm,
+    (() => {
+      let n = 0;
+      return () => `arm${(n += 1)}`;
+    })(),
+  );
   return {
     ...doc,
     cells: [...doc.cells, createCell("linearization", "lin"), { ...createCell("code-export", "code"), settings: { language: "python" } }],
@@ -162,7 +165,10 @@ describe("another equilibrium or language for a reader", () => {
     const other = 1;
 
     const tasks = vi.spyOn(getEnginePool(), "run");
-    const response = await linearizeRoute.POST(jsonRequest(`/api/derivations/${id}/linearize`, "POST", { equilibriumIndex: other, inputValues: {} }), params({ id }));
+    const response = await linearizeRoute.POST(
+      jsonRequest(`/api/derivations/${id}/linearize`, "POST", { equilibriumIndex: other, inputValues: {} }),
+      params({ id }),
+    );
     expect(response.status).toBe(200);
     const { linearization, cached } = await response.json();
     expect(cached).toBe(false);
@@ -180,7 +186,9 @@ describe("another equilibrium or language for a reader", () => {
 
     // The same choice again is answered from the cache: no engine task at all.
     tasks.mockClear();
-    const again = await (await linearizeRoute.POST(jsonRequest(`/api/derivations/${id}/linearize`, "POST", { equilibriumIndex: other, inputValues: {} }), params({ id }))).json();
+    const again = await (
+      await linearizeRoute.POST(jsonRequest(`/api/derivations/${id}/linearize`, "POST", { equilibriumIndex: other, inputValues: {} }), params({ id }))
+    ).json();
     expect(again.cached).toBe(true);
     expect(tasks).not.toHaveBeenCalled();
 
@@ -209,12 +217,21 @@ describe("simulation by readers", () => {
     const release = 0.2;
     const ownLength = 2;
     const response = await runsRoute.POST(
-      jsonRequest(`/api/derivations/${id}/runs`, "POST", { initialCoordinates: { theta: release }, parameters: { l: ownLength }, endTime: 12, outputStep: 0.002 }),
+      jsonRequest(`/api/derivations/${id}/runs`, "POST", {
+        initialCoordinates: { theta: release },
+        parameters: { l: ownLength },
+        endTime: 12,
+        outputStep: 0.002,
+      }),
       params({ id }),
     );
     expect(response.status).toBe(201);
     const { run } = await response.json();
-    expect(run).toMatchObject({ status: "completed", createdBy: { id: kestrel.members.reviewer.id }, settings: { parameters: { l: ownLength }, initialCoordinates: { theta: release } } });
+    expect(run).toMatchObject({
+      status: "completed",
+      createdBy: { id: kestrel.members.reviewer.id },
+      settings: { parameters: { l: ownLength }, initialCoordinates: { theta: release } },
+    });
 
     // The run used the reviewer's arm length, not the document's: the period of a pendulum released
     // from θ0 is T = 4√(l/g)·K(k), k = sin(θ0/2), with K(k) = π/2·(1 + k²/4 + 9k⁴/64 + …)
@@ -233,7 +250,10 @@ describe("simulation by readers", () => {
     const id = await makeDerivation();
     const before = await storedRow(id);
     signInAs(kestrel.members.viewer);
-    const run = await runsRoute.POST(jsonRequest(`/api/derivations/${id}/runs`, "POST", { initialCoordinates: { theta: 0.1 }, endTime: 1, outputStep: 0.01 }), params({ id }));
+    const run = await runsRoute.POST(
+      jsonRequest(`/api/derivations/${id}/runs`, "POST", { initialCoordinates: { theta: 0.1 }, endTime: 1, outputStep: 0.01 }),
+      params({ id }),
+    );
     expect(run.status).toBe(403);
     expect((await run.json()).error.code).toBe("forbidden:derivation");
     const save = await contentRoute.PUT(jsonRequest(`/api/derivations/${id}/content`, "PUT", { document: before.content }), params({ id }));

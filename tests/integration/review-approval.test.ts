@@ -84,7 +84,13 @@ describe("review, approval and lock", () => {
     expect((await wrong.json()).error.fieldErrors.reviewerIds[0]).toMatch(/viewer/);
     expect((await post(reviewRoute, kestrel.members.viewer, `/api/derivations/${id}/review`, { id }, { reviewerIds: [reviewer.id] })).status).toBe(403);
 
-    const asked = await post(reviewRoute, analyst, `/api/derivations/${id}/review`, { id }, { reviewerIds: [reviewer.id], message: "Please check the rope term." });
+    const asked = await post(
+      reviewRoute,
+      analyst,
+      `/api/derivations/${id}/review`,
+      { id },
+      { reviewerIds: [reviewer.id], message: "Please check the rope term." },
+    );
     expect(asked.status).toBe(201);
     const first = (await asked.json()).revision;
     expect(first.number).toBe(1);
@@ -99,7 +105,13 @@ describe("review, approval and lock", () => {
     // Changes requested: back to draft.
     const noComment = await post(reviewDecisionRoute, reviewer, `/api/derivations/${id}/review/decision`, { id }, { decision: "changes_requested" });
     expect(noComment.status).toBe(400);
-    const changes = await post(reviewDecisionRoute, reviewer, `/api/derivations/${id}/review/decision`, { id }, { decision: "changes_requested", comment: "Add the rope's own mass." });
+    const changes = await post(
+      reviewDecisionRoute,
+      reviewer,
+      `/api/derivations/${id}/review/decision`,
+      { id },
+      { decision: "changes_requested", comment: "Add the rope's own mass." },
+    );
     expect(changes.status).toBe(200);
     signInAs(analyst);
     expect((await (await derivationRoute.GET(jsonRequest(`/api/derivations/${id}`, "GET"), params({ id }))).json()).derivation.status).toBe("draft");
@@ -118,7 +130,11 @@ describe("review, approval and lock", () => {
     const approved = await post(approveRoute, lead, `/api/derivations/${id}/approve`, { id }, { revisionId: again.revision.id });
     expect(approved.status).toBe(200);
     const approval = await approved.json();
-    expect(approval).toMatchObject({ status: "approved", revision: { number: 2 }, approval: { approvedById: lead.id, contentHash: again.revision.contentHash } });
+    expect(approval).toMatchObject({
+      status: "approved",
+      revision: { number: 2 },
+      approval: { approvedById: lead.id, contentHash: again.revision.contentHash },
+    });
 
     // Locked: every write is refused with 423 and a JSON error naming the lock.
     const edit = await save(analyst, id, noteDocument("sneaky edit"));
@@ -139,16 +155,25 @@ describe("review, approval and lock", () => {
     expect((await unlocked.json()).status).toBe("draft");
     signInAs(analyst);
     const state = await (await reviewRoute.GET(jsonRequest(`/api/derivations/${id}/review`, "GET"), params({ id }))).json();
-    expect(state.approvals[0]).toMatchObject({ revisionId: again.revision.id, unlockReason: "Rope stiffness needed for the dynamic load case.", unlockedById: lead.id });
+    expect(state.approvals[0]).toMatchObject({
+      revisionId: again.revision.id,
+      unlockReason: "Rope stiffness needed for the dynamic load case.",
+      unlockedById: lead.id,
+    });
 
     // The approved revision stays retrievable after later edits.
     await save(analyst, id, noteDocument("Rope with stiffness."));
-    const kept = await (await revisionRoute.GET(jsonRequest(`/api/derivations/${id}/revisions/${again.revision.id}`, "GET"), params({ id, revisionId: again.revision.id }))).json();
+    const kept = await (
+      await revisionRoute.GET(jsonRequest(`/api/derivations/${id}/revisions/${again.revision.id}`, "GET"), params({ id, revisionId: again.revision.id }))
+    ).json();
     expect(contentHash(kept.revision.content)).toBe(again.revision.contentHash);
     expect(kept.revision.content.cells.at(-1).markdown).toBe("Rope modelled as a rigid link with its own mass.");
 
-    const actions = (await getAuditRowsByTeamId({ teamId: kestrel.team.id, filters: { action: "derivation." } })).filter((row) => row.targetId === id).map((row) => row.action);
-    for (const action of ["derivation.review_request", "derivation.changes_requested", "derivation.sign_off", "derivation.approve", "derivation.unlock"]) expect(actions).toContain(action);
+    const actions = (await getAuditRowsByTeamId({ teamId: kestrel.team.id, filters: { action: "derivation." } }))
+      .filter((row) => row.targetId === id)
+      .map((row) => row.action);
+    for (const action of ["derivation.review_request", "derivation.changes_requested", "derivation.sign_off", "derivation.approve", "derivation.unlock"])
+      expect(actions).toContain(action);
   });
 
   it("refuses approval by the author of the latest changes", async () => {
@@ -186,7 +211,10 @@ describe("review, approval and lock", () => {
       signInAs(lead);
       const approval = approveRoute.POST(jsonRequest(`/api/derivations/${id}/approve`, "POST", { revisionId: asked.revision.id }), params({ id }));
       signInAs(analyst);
-      const edit = contentRoute.PUT(jsonRequest(`/api/derivations/${id}/content`, "PUT", { document: noteDocument(`edit during approval ${round}`) }), params({ id }));
+      const edit = contentRoute.PUT(
+        jsonRequest(`/api/derivations/${id}/content`, "PUT", { document: noteDocument(`edit during approval ${round}`) }),
+        params({ id }),
+      );
       const [approvalResponse, editResponse] = await Promise.all([approval, edit]);
       const outcome = [approvalResponse.status, editResponse.status].sort().join("/");
       expect(["200/423", "200/409"]).toContain(outcome);

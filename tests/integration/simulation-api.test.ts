@@ -108,15 +108,9 @@ function storedUploads(derivationId: string) {
   return listObjectKeys({ prefix: `derivations/${derivationId}/files/` });
 }
 
-const goodCsv = [
-  "# Gimbal rig G-2, run 14, pitch arm released from 20 deg",
-  "t [ms], theta [deg]",
-  "0, 20.00",
-  "5, 19.96",
-  "10, 19.84",
-  "15, 19.64",
-  "",
-].join("\n");
+const goodCsv = ["# Gimbal rig G-2, run 14, pitch arm released from 20 deg", "t [ms], theta [deg]", "0, 20.00", "5, 19.96", "10, 19.84", "15, 19.64", ""].join(
+  "\n",
+);
 
 // A 1×1 PNG.
 const png = Uint8Array.from(Buffer.from("iVBORw0KGgoAAAANSUhEUgAAAAEAAAABCAYAAAAfFcSJAAAADUlEQVR42mNkYPhfDwAChwGA60e6kgAAAABJRU5ErkJggg==", "base64"));
@@ -163,10 +157,28 @@ describe("measured data and image uploads", () => {
   });
 
   const badFiles: { label: string; csv: string; line: number | null; code: string; text: RegExp }[] = [
-    { label: "non-monotone time", csv: "t [s], theta [rad]\n0, 0.1\n0.1, 0.09\n0.1, 0.08\n", line: 4, code: "non_monotone_time", text: /line 4: time 0\.1 s is not after/ },
-    { label: "a NaN reading", csv: "# rig log\nt [s], theta [rad]\n0, 0.1\nNaN, 0.09\n", line: 4, code: "bad_cell", text: /line 4: the time cell "NaN" is not a number/ },
+    {
+      label: "non-monotone time",
+      csv: "t [s], theta [rad]\n0, 0.1\n0.1, 0.09\n0.1, 0.08\n",
+      line: 4,
+      code: "non_monotone_time",
+      text: /line 4: time 0\.1 s is not after/,
+    },
+    {
+      label: "a NaN reading",
+      csv: "# rig log\nt [s], theta [rad]\n0, 0.1\nNaN, 0.09\n",
+      line: 4,
+      code: "bad_cell",
+      text: /line 4: the time cell "NaN" is not a number/,
+    },
     { label: "no coordinate column", csv: "t [s]\n0\n0.1\n", line: 1, code: "missing_column", text: /line 1: the header has no coordinate column/ },
-    { label: "a column the model does not have", csv: "t [s], phi [rad]\n0, 0.1\n0.1, 0.09\n", line: 1, code: "unknown_column", text: /line 1: "phi" is not a coordinate/ },
+    {
+      label: "a column the model does not have",
+      csv: "t [s], phi [rad]\n0, 0.1\n0.1, 0.09\n",
+      line: 1,
+      code: "unknown_column",
+      text: /line 1: "phi" is not a coordinate/,
+    },
     { label: "an unknown unit", csv: "\n\nt [s], theta [blorps]\n0, 0.1\n0.1, 0.09\n", line: 3, code: "unknown_unit", text: /line 3: unknown unit "blorps"/ },
   ];
 
@@ -370,7 +382,12 @@ describe("server simulation runs", () => {
     const again = await upload(id, "run-export.csv", lines.join("\n"));
     expect(again.status).toBe(201);
     const { file } = await again.json();
-    expect(file.summary).toMatchObject({ timeUnit: "s", rowCount: 10001, columns: [{ coordinate: "theta", unit: "rad", targetUnit: "rad" }], timeSpan: { start: 0, end: 10 } });
+    expect(file.summary).toMatchObject({
+      timeUnit: "s",
+      rowCount: 10001,
+      columns: [{ coordinate: "theta", unit: "rad", targetUnit: "rad" }],
+      timeSpan: { start: 0, end: 10 },
+    });
   });
 
   it("keeps a large trajectory in object storage and serves it the same way", async () => {

@@ -51,7 +51,7 @@ describe("toAppError", () => {
   });
 
   it("hides unexpected errors behind a generic 500", () => {
-    const error = toAppError(new Error("column \"secret\" does not exist"));
+    const error = toAppError(new Error('column "secret" does not exist'));
     expect(error.code).toBe("internal:api");
     expect(error.message).not.toContain("secret");
   });

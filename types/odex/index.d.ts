@@ -12,13 +12,7 @@ export type Derivative = (x: number, y: number[]) => number[];
  * after the first call), `dense(i, x)` interpolates component i anywhere in
  * [xOld, x]. Returning false stops the integration.
  */
-export type OutputFunction = (
-  nr: number,
-  xOld: number,
-  x: number,
-  y: number[],
-  dense?: (component: number, x: number) => number,
-) => boolean | void;
+export type OutputFunction = (nr: number, xOld: number, x: number, y: number[], dense?: (component: number, x: number) => number) => boolean | void;
 
 export declare enum Outcome {
   Converged = 0,

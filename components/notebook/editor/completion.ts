@@ -30,7 +30,10 @@ export function symbolOptions(symbols: DocumentSymbols): Completion[] {
     );
   }
   for (const name of symbols.definitions) {
-    options.push({ label: name, type: "variable", detail: "definition", boost: 3 }, { label: `${name}'`, type: "variable", detail: "rate of definition", boost: 2 });
+    options.push(
+      { label: name, type: "variable", detail: "definition", boost: 3 },
+      { label: `${name}'`, type: "variable", detail: "rate of definition", boost: 2 },
+    );
   }
   for (const name of symbols.parameters) options.push({ label: name, type: "constant", detail: "parameter", boost: 1 });
   for (const name of symbols.inputs) options.push({ label: name, type: "variable", detail: "input", boost: 1 });

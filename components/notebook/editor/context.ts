@@ -44,8 +44,5 @@ export const serverDiagnosticsField = StateField.define<ServerDiagnostics>({
 });
 
 export function editorContext(initial: { symbols?: DocumentSymbols; diagnostics?: ServerDiagnostics } = {}): Extension[] {
-  return [
-    symbolsField.init(() => initial.symbols ?? EMPTY_SYMBOLS),
-    serverDiagnosticsField.init(() => initial.diagnostics ?? { text: null, items: [] }),
-  ];
+  return [symbolsField.init(() => initial.symbols ?? EMPTY_SYMBOLS), serverDiagnosticsField.init(() => initial.diagnostics ?? { text: null, items: [] })];
 }

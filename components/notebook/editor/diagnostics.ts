@@ -30,7 +30,9 @@ export interface LocalCheckOptions {
 /** Diagnostics the browser can find alone: parse errors and names the derivation lacks. */
 export function localDiagnostics(text: string, symbols: DocumentSymbols, options: LocalCheckOptions = {}): Diagnostic[] {
   if (text.trim() === "") {
-    return options.allowEmpty || options.written === false ? [] : [{ from: 0, to: text.length, severity: "warning", message: "expression is empty", source: "parser" }];
+    return options.allowEmpty || options.written === false
+      ? []
+      : [{ from: 0, to: text.length, severity: "warning", message: "expression is empty", source: "parser" }];
   }
   try {
     const tree = parseExpression(text);
@@ -42,7 +44,13 @@ export function localDiagnostics(text: string, symbols: DocumentSymbols, options
       if (node.kind !== "sym") return;
       if (!known.has(node.name)) found.push({ from: node.start, to: node.end, severity: "error", message: `unknown symbol "${node.name}"`, source: "symbols" });
       else if (node.order > 0 && rateless.has(node.name))
-        found.push({ from: node.start, to: node.end, severity: "error", message: `"${node.name}" is a ${symbols.parameters.includes(node.name) ? "parameter" : "input"} and has no rate`, source: "symbols" });
+        found.push({
+          from: node.start,
+          to: node.end,
+          severity: "error",
+          message: `"${node.name}" is a ${symbols.parameters.includes(node.name) ? "parameter" : "input"} and has no rate`,
+          source: "symbols",
+        });
     });
     return found;
   } catch (error) {
@@ -59,7 +67,13 @@ function serverDiagnostics(view: EditorView, local: readonly Diagnostic[]): Diag
   return items
     .map((item): Diagnostic => {
       const from = Math.max(0, Math.min(item.from, current.length));
-      return { from, to: Math.max(from, Math.min(item.to, current.length)), severity: item.severity ?? "error", message: item.message, source: item.source ?? "evaluator" };
+      return {
+        from,
+        to: Math.max(from, Math.min(item.to, current.length)),
+        severity: item.severity ?? "error",
+        message: item.message,
+        source: item.source ?? "evaluator",
+      };
     })
     .filter((item) => !local.some((seen) => seen.from === item.from && seen.to === item.to));
 }
@@ -80,7 +94,9 @@ export function expressionDiagnostics(options: LocalCheckOptions & { delay?: num
       },
       {
         delay: options.delay ?? 150,
-        needsRefresh: (update) => update.transactions.some((tr) => tr.effects.some((effect) => effect.is(setServerDiagnosticsEffect))) || update.startState.field(symbolsField) !== update.state.field(symbolsField),
+        needsRefresh: (update) =>
+          update.transactions.some((tr) => tr.effects.some((effect) => effect.is(setServerDiagnosticsEffect))) ||
+          update.startState.field(symbolsField) !== update.state.field(symbolsField),
       },
     ),
     everWrittenField,

@@ -79,7 +79,13 @@ export const expressionTheme = EditorView.theme({
   ".cm-matchingBracket": { backgroundColor: "var(--action-soft, #d9e9e6)", outline: "none" },
   ".cm-nonmatchingBracket": { color: "var(--danger, #b3261e)" },
   // A hint, not content: italic sans in a lighter tone, unlike the monospace expression text.
-  ".cm-placeholder": { color: "var(--muted, #5c6169)", opacity: "0.75", fontStyle: "italic", fontFamily: "var(--font-plex-sans), system-ui, sans-serif", fontSize: "0.85rem" },
+  ".cm-placeholder": {
+    color: "var(--muted, #5c6169)",
+    opacity: "0.75",
+    fontStyle: "italic",
+    fontFamily: "var(--font-plex-sans), system-ui, sans-serif",
+    fontSize: "0.85rem",
+  },
   ".cm-tooltip": {
     fontFamily: "var(--font-plex-sans), system-ui, sans-serif",
     backgroundColor: "var(--surface, #fbf8f2)",

@@ -183,7 +183,13 @@ export function Chart({ title, xLabel, yLabel, x, series, xy, height = 220, test
   return (
     <figure className="m-0 flex min-w-0 flex-col gap-1" data-testid={testId ? `${testId}-figure` : undefined}>
       <figcaption className="text-[13px] font-medium text-ink">{title}</figcaption>
-      <div ref={holder} className="hn-chart min-w-0 max-w-full overflow-hidden" data-testid={testId} role="img" aria-label={`${title}: ${yLabel} against ${xLabel}`} />
+      <div
+        ref={holder}
+        className="hn-chart min-w-0 max-w-full overflow-hidden"
+        data-testid={testId}
+        role="img"
+        aria-label={`${title}: ${yLabel} against ${xLabel}`}
+      />
     </figure>
   );
 }

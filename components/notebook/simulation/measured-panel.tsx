@@ -74,7 +74,9 @@ export function MeasuredPanel({ derivationId, document: doc, readOnly, settings,
   const [applied, setApplied] = useState(false);
   const parameters = useMemo(() => {
     const list: { name: string; value: string; cellId: string; rowId: string }[] = [];
-    for (const cell of doc.cells) if (cell.kind === "parameters") for (const row of cell.rows) if (row.name.trim()) list.push({ name: row.name.trim(), value: row.value, cellId: cell.id, rowId: row.id });
+    for (const cell of doc.cells)
+      if (cell.kind === "parameters")
+        for (const row of cell.rows) if (row.name.trim()) list.push({ name: row.name.trim(), value: row.value, cellId: cell.id, rowId: row.id });
     return list;
   }, [doc]);
   const symbols = useMemo(() => documentSymbols(doc), [doc]);
@@ -120,7 +122,9 @@ export function MeasuredPanel({ derivationId, document: doc, readOnly, settings,
       const text = await response.text();
       // The parser (with unit conversion) loads only when asked for.
       const { parseMeasuredCsv } = await import("@/lib/simulate/measured");
-      const coordinates = doc.cells.flatMap((c) => (c.kind === "coordinates" ? c.rows.filter((r) => r.name.trim()).map((r) => ({ name: r.name.trim(), unit: r.unit.trim() })) : []));
+      const coordinates = doc.cells.flatMap((c) =>
+        c.kind === "coordinates" ? c.rows.filter((r) => r.name.trim()).map((r) => ({ name: r.name.trim(), unit: r.unit.trim() })) : [],
+      );
       const data = parseMeasuredCsv(text, { coordinates });
       onOverlay({ times: data.times, series: data.series.map((s) => ({ coordinate: s.coordinate, unit: s.targetUnit, measured: s.values })) });
     } catch (error) {
@@ -150,7 +154,14 @@ export function MeasuredPanel({ derivationId, document: doc, readOnly, settings,
         fileId: selected,
         parameters: request,
         ...(settings
-          ? { settings: { relativeTolerance: settings.relativeTolerance, absoluteTolerance: settings.absoluteTolerance, inputs: settings.inputs, parameters: settings.parameters } }
+          ? {
+              settings: {
+                relativeTolerance: settings.relativeTolerance,
+                absoluteTolerance: settings.absoluteTolerance,
+                inputs: settings.inputs,
+                parameters: settings.parameters,
+              },
+            }
           : {}),
       };
       const response = await apiFetch<FitJson>(`/api/derivations/${derivationId}/fit`, { method: "POST", body });
@@ -199,7 +210,11 @@ export function MeasuredPanel({ derivationId, document: doc, readOnly, settings,
           </div>
         )}
         <p className="text-xs text-muted">
-          CSV: a header row naming the time column and coordinates with units, e.g. <code className="font-mono">t [s], {symbols.coordinates[0] ?? "q"} [{"rad"}]</code>; time strictly increasing.
+          CSV: a header row naming the time column and coordinates with units, e.g.{" "}
+          <code className="font-mono">
+            t [s], {symbols.coordinates[0] ?? "q"} [{"rad"}]
+          </code>
+          ; time strictly increasing.
         </p>
         {busy && <p role="status">{busy}</p>}
         {uploadError && (
@@ -238,7 +253,12 @@ export function MeasuredPanel({ derivationId, document: doc, readOnly, settings,
                   </option>
                 ))}
               </select>
-              <button type="button" className="text-action hover:underline disabled:opacity-40" disabled={!selected} onClick={() => void showOnCharts(selected)}>
+              <button
+                type="button"
+                className="text-action hover:underline disabled:opacity-40"
+                disabled={!selected}
+                onClick={() => void showOnCharts(selected)}
+              >
                 Show on charts
               </button>
               <button type="button" className="text-muted hover:underline" onClick={() => onOverlay(null)}>
@@ -265,7 +285,12 @@ export function MeasuredPanel({ derivationId, document: doc, readOnly, settings,
                       return (
                         <tr key={p.name}>
                           <td className="pr-2">
-                            <input type="checkbox" checked={row.chosen} aria-label={`Fit ${p.name}`} onChange={(event) => set({ chosen: event.target.checked })} />
+                            <input
+                              type="checkbox"
+                              checked={row.chosen}
+                              aria-label={`Fit ${p.name}`}
+                              onChange={(event) => set({ chosen: event.target.checked })}
+                            />
                           </td>
                           <td className="pr-2 font-mono">{p.name}</td>
                           {(["initial", "min", "max"] as const).map((key) => (
@@ -285,7 +310,12 @@ export function MeasuredPanel({ derivationId, document: doc, readOnly, settings,
                   </tbody>
                 </table>
               </div>
-              <button type="button" className="mt-2 rounded border border-action px-3 py-1 text-action hover:bg-action-soft disabled:opacity-50" disabled={busy !== null} onClick={() => void runFit()}>
+              <button
+                type="button"
+                className="mt-2 rounded border border-action px-3 py-1 text-action hover:bg-action-soft disabled:opacity-50"
+                disabled={busy !== null}
+                onClick={() => void runFit()}
+              >
                 Fit
               </button>
             </fieldset>
@@ -345,11 +375,16 @@ export function MeasuredPanel({ derivationId, document: doc, readOnly, settings,
               </ul>
             )}
             <p data-testid="fit-residual">
-              Residual RMS (fitted − measured) over {fit.fit.observations.toLocaleString("en-GB")} readings: {fit.fit.report.residuals.map((r) => r.text).join("; ")}.{" "}
-              <span className="text-muted">{fit.fit.report.standardErrorNote}</span>
+              Residual RMS (fitted − measured) over {fit.fit.observations.toLocaleString("en-GB")} readings:{" "}
+              {fit.fit.report.residuals.map((r) => r.text).join("; ")}. <span className="text-muted">{fit.fit.report.standardErrorNote}</span>
             </p>
             {!readOnly && fit.fit.status !== "unchanged" && (
-              <button type="button" className="self-start rounded bg-action px-3 py-1 text-action-ink hover:bg-action-strong" onClick={applyFit} disabled={applied}>
+              <button
+                type="button"
+                className="self-start rounded bg-action px-3 py-1 text-action-ink hover:bg-action-strong"
+                onClick={applyFit}
+                disabled={applied}
+              >
                 {applied ? "Written to the Parameters cell" : "Write fitted values to the Parameters cell"}
               </button>
             )}

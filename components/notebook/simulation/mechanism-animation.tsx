@@ -35,7 +35,13 @@ function range(values: ArrayLike<number>): { min: number; max: number } {
   return { min, max };
 }
 
-function distanceIsConstant(ax: ArrayLike<number>, ay: ArrayLike<number>, bx: ArrayLike<number> | null, by: ArrayLike<number> | null, tolerance: number): { constant: boolean; mean: number } {
+function distanceIsConstant(
+  ax: ArrayLike<number>,
+  ay: ArrayLike<number>,
+  bx: ArrayLike<number> | null,
+  by: ArrayLike<number> | null,
+  tolerance: number,
+): { constant: boolean; mean: number } {
   let min = Infinity;
   let max = -Infinity;
   for (let k = 0; k < ax.length; k++) {
@@ -67,7 +73,11 @@ export function layoutOf(points: MechanismAnimationProps["points"], span: number
   const rigidToPrevious = points.map((p, i) => (i === 0 ? false : distanceIsConstant(p.x, p.y, points[i - 1]!.x, points[i - 1]!.y, tolerance).constant));
   const first = points[0];
   const fromOrigin = first ? distanceIsConstant(first.x, first.y, null, null, tolerance) : { constant: false, mean: 0 };
-  return { motions, rigidToPrevious, pivotAtOrigin: Boolean(first) && motions[0] !== "horizontal" && motions[0] !== "vertical" && fromOrigin.constant && fromOrigin.mean > tolerance };
+  return {
+    motions,
+    rigidToPrevious,
+    pivotAtOrigin: Boolean(first) && motions[0] !== "horizontal" && motions[0] !== "vertical" && fromOrigin.constant && fromOrigin.mean > tolerance,
+  };
 }
 
 export interface MechanismAnimationProps {
@@ -258,7 +268,13 @@ export function MechanismAnimation({ times, points }: MechanismAnimationProps) {
   const time = count > 0 ? times[Math.min(frame, count - 1)]! : 0;
   return (
     <div className="min-w-0" data-testid="mechanism-animation">
-      <canvas ref={canvas} className="block w-full max-w-full rounded border border-line bg-surface" style={{ height: HEIGHT }} aria-label="Mechanism animation" role="img" />
+      <canvas
+        ref={canvas}
+        className="block w-full max-w-full rounded border border-line bg-surface"
+        style={{ height: HEIGHT }}
+        aria-label="Mechanism animation"
+        role="img"
+      />
       <div className="mt-2 flex flex-wrap items-center gap-3 text-sm">
         <button
           type="button"

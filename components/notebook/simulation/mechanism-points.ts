@@ -21,7 +21,8 @@ export interface PointSources {
 export function pointSourcesOf(doc: DerivationDocument): PointSources {
   const sources: PointSources = { coordinates: [], definitions: [] };
   for (const cell of doc.cells) {
-    if (cell.kind === "coordinates") for (const row of cell.rows) if (row.name.trim()) sources.coordinates.push({ name: row.name.trim(), unit: row.unit.trim() });
+    if (cell.kind === "coordinates")
+      for (const row of cell.rows) if (row.name.trim()) sources.coordinates.push({ name: row.name.trim(), unit: row.unit.trim() });
     if (cell.kind === "definitions") for (const row of cell.rows) if (row.name.trim()) sources.definitions.push({ name: row.name.trim(), expr: row.expr });
   }
   return sources;
@@ -99,7 +100,10 @@ export function suggestPoints(sources: PointSources): PointPair[] {
   }
   const dependencies = coordinateDependencies(sources);
   const depth = (p: PointPair) => new Set([...dependencies(p.x), ...dependencies(p.y)]).size;
-  return points.map((p, order) => ({ p, order, depth: depth(p) })).sort((a, b) => a.depth - b.depth || a.order - b.order).map(({ p }) => p);
+  return points
+    .map((p, order) => ({ p, order, depth: depth(p) }))
+    .sort((a, b) => a.depth - b.depth || a.order - b.order)
+    .map(({ p }) => p);
 }
 
 /** The first suggestion not drawn yet, or an empty point to fill in. */

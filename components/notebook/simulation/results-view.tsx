@@ -109,7 +109,12 @@ export default function ResultsView({ run, measured, units }: ResultsViewProps) 
             series: [
               ...indices.map((i, k) => ({ label: names[i]!, values: merged.sim[k]!, colorIndex: k })),
               ...overlay.map((s, k) => ({ label: `${s.coordinate} measured`, values: merged.meas[k]!, points: true, colorIndex: colourOf(s.coordinate) })),
-              ...fitted.map((s, k) => ({ label: `${s.coordinate} fitted`, values: merged.meas[overlay.length + k]!, dash: true, colorIndex: colourOf(s.coordinate) })),
+              ...fitted.map((s, k) => ({
+                label: `${s.coordinate} fitted`,
+                values: merged.meas[overlay.length + k]!,
+                dash: true,
+                colorIndex: colourOf(s.coordinate),
+              })),
             ],
           };
         }
@@ -156,7 +161,8 @@ export default function ResultsView({ run, measured, units }: ResultsViewProps) 
       {failure && (
         <div className="rounded border border-danger/60 bg-danger-soft px-3 py-2 text-sm text-danger" role="alert" data-testid="simulation-failure">
           <p className="font-medium">
-            Integration stopped: {FAILURE_LABELS[failure.reason] ?? failure.reason} at t = <span data-testid="time-reached">{formatNumber(failure.timeReached, 6)}</span> s.
+            Integration stopped: {FAILURE_LABELS[failure.reason] ?? failure.reason} at t ={" "}
+            <span data-testid="time-reached">{formatNumber(failure.timeReached, 6)}</span> s.
           </p>
           <p>{failure.message}</p>
           <p className="text-ink">The trajectory up to that time is plotted below.</p>
@@ -164,7 +170,11 @@ export default function ResultsView({ run, measured, units }: ResultsViewProps) 
       )}
 
       {drift ? (
-        <p className={drift.warning ? "rounded border border-danger/60 bg-danger-soft px-3 py-2 text-sm text-danger" : "text-sm"} role={drift.warning ? "alert" : undefined} data-testid="energy-drift">
+        <p
+          className={drift.warning ? "rounded border border-danger/60 bg-danger-soft px-3 py-2 text-sm text-danger" : "text-sm"}
+          role={drift.warning ? "alert" : undefined}
+          data-testid="energy-drift"
+        >
           Energy drift (largest relative change of the energy function):{" "}
           <strong className="font-mono" data-testid="energy-drift-value">
             {drift.relativeDrift.toExponential(2)}
@@ -192,10 +202,16 @@ export default function ResultsView({ run, measured, units }: ResultsViewProps) 
       {oscillation && (
         <div className={oscillation.passed ? "text-sm" : "text-sm text-danger"} data-testid="small-oscillation">
           <p>
-            Small-amplitude check ({oscillation.coordinate}, amplitude {formatNumber(oscillation.amplitude)}): linearization {formatNumber(oscillation.comparedFrequency, 5)} rad/s
+            Small-amplitude check ({oscillation.coordinate}, amplitude {formatNumber(oscillation.amplitude)}): linearization{" "}
+            {formatNumber(oscillation.comparedFrequency, 5)} rad/s
             {oscillation.measuredFrequency !== null ? `, simulation ${formatNumber(oscillation.measuredFrequency, 5)} rad/s` : ""}
             {oscillation.relativeError !== null ? ` (relative difference ${oscillation.relativeError.toExponential(1)}` : ""}
-            {oscillation.relativeError !== null && oscillation.threshold !== null ? `, accepted up to ${oscillation.threshold.toExponential(1)})` : oscillation.relativeError !== null ? ")" : ""}.
+            {oscillation.relativeError !== null && oscillation.threshold !== null
+              ? `, accepted up to ${oscillation.threshold.toExponential(1)})`
+              : oscillation.relativeError !== null
+                ? ")"
+                : ""}
+            .
           </p>
           <p className={oscillation.passed ? "text-muted" : undefined}>{explainSmallOscillation(oscillation)}</p>
         </div>
@@ -237,7 +253,9 @@ export default function ResultsView({ run, measured, units }: ResultsViewProps) 
             testId={`chart-phase${panels.length > 1 ? `-${panel.key}` : ""}`}
           />
         ))}
-        {energySeries && <Chart title="Energy function, relative change" xLabel="t (s)" yLabel="(h − h₀)/|h₀|" x={run.times} series={energySeries} testId="chart-energy" />}
+        {energySeries && (
+          <Chart title="Energy function, relative change" xLabel="t (s)" yLabel="(h − h₀)/|h₀|" x={run.times} series={energySeries} testId="chart-energy" />
+        )}
       </div>
 
       {run.pointsError && <p className="text-sm text-danger">The mechanism could not be drawn: {run.pointsError}</p>}

@@ -47,7 +47,9 @@ export function displayOfStoredRun(run: RunJson): RunDisplay | null {
     label: `Server run ${run.settings.label ? `“${run.settings.label}” ` : ""}by ${run.createdBy?.name ?? "a teammate"}, ${when}`,
     source: "server",
     status: run.status,
-    failure: run.failure ? { reason: run.failure.reason as SimulationFailure["reason"], message: run.failure.message, timeReached: run.failure.timeReached } : null,
+    failure: run.failure
+      ? { reason: run.failure.reason as SimulationFailure["reason"], message: run.failure.message, timeReached: run.failure.timeReached }
+      : null,
     timeReached: run.timeReached,
     coordinateNames: t.coordinateNames,
     times: t.times,

@@ -10,7 +10,15 @@ import clsx from "clsx";
 import { lazy, Suspense, useCallback, useEffect, useMemo, useState, type ReactNode } from "react";
 import { apiFetch } from "@/lib/api/fetcher";
 import { AppError } from "@/lib/errors";
-import { DocumentError, documentSymbols, documentToModel, type DerivationDocument, type DocumentOperation, type SimulationCell, type SimulationSettings } from "@/lib/notebook/document";
+import {
+  DocumentError,
+  documentSymbols,
+  documentToModel,
+  type DerivationDocument,
+  type DocumentOperation,
+  type SimulationCell,
+  type SimulationSettings,
+} from "@/lib/notebook/document";
 import type { NotebookResults } from "@/lib/notebook/results";
 import { ExpressionEditor } from "../editor/expression-editor";
 import { MeasuredPanel } from "./measured-panel";
@@ -120,7 +128,8 @@ export function SimulationSettingsForm({
     for (const c of doc.cells) if (c.kind === "parameters") for (const row of c.rows) values.set(row.name.trim(), row.value);
     return values;
   }, [doc]);
-  const update = (patch: Partial<SimulationSettings>) => (onSettingsChange ? onSettingsChange(patch) : onOperation({ type: "updateSettings", cellId: cell.id, patch }));
+  const update = (patch: Partial<SimulationSettings>) =>
+    onSettingsChange ? onSettingsChange(patch) : onOperation({ type: "updateSettings", cellId: cell.id, patch });
   const common = { readOnly, cellId: cell.id };
 
   return (
@@ -158,10 +167,38 @@ export function SimulationSettingsForm({
       <fieldset className="min-w-0">
         <legend className="mb-1 text-xs uppercase tracking-wide text-muted">Time and accuracy</legend>
         <div className="grid min-w-0 grid-cols-[repeat(auto-fill,minmax(9rem,1fr))] gap-2">
-          <NumberField label="Start time (s)" name="startTime" value={settings.startTime} error={errors.startTime} onChange={(startTime) => update({ startTime })} {...common} />
-          <NumberField label="End time (s)" name="endTime" value={settings.endTime} error={errors.endTime} onChange={(endTime) => update({ endTime })} {...common} />
-          <NumberField label="Output step (s)" name="outputStep" value={settings.outputStep} error={errors.outputStep} onChange={(outputStep) => update({ outputStep })} {...common} />
-          <NumberField label="Relative tolerance" name="tolerance" value={settings.tolerance} error={errors.tolerance} onChange={(tolerance) => update({ tolerance })} {...common} />
+          <NumberField
+            label="Start time (s)"
+            name="startTime"
+            value={settings.startTime}
+            error={errors.startTime}
+            onChange={(startTime) => update({ startTime })}
+            {...common}
+          />
+          <NumberField
+            label="End time (s)"
+            name="endTime"
+            value={settings.endTime}
+            error={errors.endTime}
+            onChange={(endTime) => update({ endTime })}
+            {...common}
+          />
+          <NumberField
+            label="Output step (s)"
+            name="outputStep"
+            value={settings.outputStep}
+            error={errors.outputStep}
+            onChange={(outputStep) => update({ outputStep })}
+            {...common}
+          />
+          <NumberField
+            label="Relative tolerance"
+            name="tolerance"
+            value={settings.tolerance}
+            error={errors.tolerance}
+            onChange={(tolerance) => update({ tolerance })}
+            {...common}
+          />
         </div>
       </fieldset>
       {symbols.inputs.length > 0 && (
@@ -247,7 +284,12 @@ export function SimulationSettingsForm({
                   </label>
                 ))}
                 {!readOnly && (
-                  <button type="button" className="text-muted hover:text-danger" aria-label={`Remove point ${i + 1}`} onClick={() => update({ points: settings.points.filter((_, j) => j !== i) })}>
+                  <button
+                    type="button"
+                    className="text-muted hover:text-danger"
+                    aria-label={`Remove point ${i + 1}`}
+                    onClick={() => update({ points: settings.points.filter((_, j) => j !== i) })}
+                  >
                     ×
                   </button>
                 )}
@@ -255,7 +297,11 @@ export function SimulationSettingsForm({
               </div>
             ))}
             {!readOnly && (
-              <button type="button" className="self-start text-sm text-action hover:underline" onClick={() => update({ points: [...settings.points, nextPoint(pointSources, settings.points)] })}>
+              <button
+                type="button"
+                className="self-start text-sm text-action hover:underline"
+                onClick={() => update({ points: [...settings.points, nextPoint(pointSources, settings.points)] })}
+              >
                 + Add point
               </button>
             )}
@@ -273,7 +319,17 @@ function coordinateUnitsOf(doc: DerivationDocument): Record<string, string> {
   return units;
 }
 
-export function SimulationCellView({ cell, results, readOnly, onOperation, document: doc, derivationId, onSettingsChange, onResetSettings, canStoreRuns = !readOnly }: SimulationCellProps) {
+export function SimulationCellView({
+  cell,
+  results,
+  readOnly,
+  onOperation,
+  document: doc,
+  derivationId,
+  onSettingsChange,
+  onResetSettings,
+  canStoreRuns = !readOnly,
+}: SimulationCellProps) {
   const [run, setRun] = useState<RunDisplay | null>(null);
   const [attempted, setAttempted] = useState(false);
   const [problem, setProblem] = useState<string | null>(null);
@@ -373,7 +429,14 @@ export function SimulationCellView({ cell, results, readOnly, onOperation, docum
           ) : null}
         </p>
       ) : null}
-      <SimulationSettingsForm cell={cell} document={doc} readOnly={readOnly && !onSettingsChange} errors={errors} onOperation={onOperation} onSettingsChange={onSettingsChange} />
+      <SimulationSettingsForm
+        cell={cell}
+        document={doc}
+        readOnly={readOnly && !onSettingsChange}
+        errors={errors}
+        onOperation={onOperation}
+        onSettingsChange={onSettingsChange}
+      />
       <div className="flex flex-wrap items-center gap-2">
         <button
           type="button"
@@ -396,7 +459,13 @@ export function SimulationCellView({ cell, results, readOnly, onOperation, docum
         )}
         {running && (
           <>
-            <progress className="h-2 w-40 max-w-full accent-[var(--action)]" max={1} value={progress} aria-label="Simulation progress" data-testid="simulation-progress" />
+            <progress
+              className="h-2 w-40 max-w-full accent-[var(--action)]"
+              max={1}
+              value={progress}
+              aria-label="Simulation progress"
+              data-testid="simulation-progress"
+            />
             <span className="font-mono text-xs text-muted tabular-nums">{Math.round(progress * 100)} %</span>
             <button type="button" className="rounded border border-line px-2 py-0.5 text-sm hover:border-danger hover:text-danger" onClick={cancel}>
               Cancel
@@ -404,7 +473,11 @@ export function SimulationCellView({ cell, results, readOnly, onOperation, docum
           </>
         )}
       </div>
-      {attempted && !validation.ok && <p className="text-sm text-danger" role="alert">Correct the highlighted settings to run.</p>}
+      {attempted && !validation.ok && (
+        <p className="text-sm text-danger" role="alert">
+          Correct the highlighted settings to run.
+        </p>
+      )}
       {problem && (
         <p className="text-sm text-danger" role="alert">
           {problem}
@@ -425,8 +498,8 @@ export function SimulationCellView({ cell, results, readOnly, onOperation, docum
                   Open
                 </button>
                 <span className={clsx(stored.status === "failed" && "text-danger")}>
-                  {new Date(stored.createdAt).toLocaleString("en-GB", { dateStyle: "medium", timeStyle: "short" })} · {stored.createdBy?.name ?? "—"} · {stored.pointCount} points ·{" "}
-                  {stored.status === "failed" ? `failed at t = ${stored.timeReached}` : "completed"}
+                  {new Date(stored.createdAt).toLocaleString("en-GB", { dateStyle: "medium", timeStyle: "short" })} · {stored.createdBy?.name ?? "—"} ·{" "}
+                  {stored.pointCount} points · {stored.status === "failed" ? `failed at t = ${stored.timeReached}` : "completed"}
                   {stored.energyDrift !== null && ` · drift ${stored.energyDrift.toExponential(1)}`}
                 </span>
               </li>

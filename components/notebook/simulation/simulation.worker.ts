@@ -28,7 +28,12 @@ const scope = globalThis as unknown as DedicatedWorkerScope;
 /** Point pairs and the model of each running job, for the result message. */
 const pending = new Map<
   string,
-  { model: ReturnType<typeof validateModel>; points: { x: string; y: string }[]; inputs: Record<string, string>; smallOscillation: SmallOscillationReport | null }
+  {
+    model: ReturnType<typeof validateModel>;
+    points: { x: string; y: string }[];
+    inputs: Record<string, string>;
+    smallOscillation: SmallOscillationReport | null;
+  }
 >();
 
 const handle = createWorkerHandler((message: WorkerResponse, transfer) => {
@@ -42,7 +47,10 @@ const handle = createWorkerHandler((message: WorkerResponse, transfer) => {
     } catch (error) {
       pointsError = error instanceof Error ? error.message : String(error);
     }
-    scope.postMessage({ ...message, points, pointsError, smallOscillation: job.smallOscillation }, [...(transfer ?? []), ...points.flatMap((p) => [p.x.buffer as ArrayBuffer, p.y.buffer as ArrayBuffer])]);
+    scope.postMessage({ ...message, points, pointsError, smallOscillation: job.smallOscillation }, [
+      ...(transfer ?? []),
+      ...points.flatMap((p) => [p.x.buffer as ArrayBuffer, p.y.buffer as ArrayBuffer]),
+    ]);
     return;
   }
   scope.postMessage(message, transfer ?? []);
@@ -70,8 +78,7 @@ scope.onmessage = (event) => {
       energyConserved: derived.conserved.some((c) => c.name === "energy function"),
     };
   } catch (error) {
-    const payload =
-      error instanceof ModelError ? { name: error.name, code: error.code, field: error.field, message: error.message } : errorPayload(error);
+    const payload = error instanceof ModelError ? { name: error.name, code: error.code, field: error.field, message: error.message } : errorPayload(error);
     scope.postMessage({ type: "error", id, error: payload });
     return;
   }

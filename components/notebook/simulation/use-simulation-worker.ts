@@ -7,9 +7,7 @@ import type { RunDisplay } from "./run-view";
 import type { ModelSimulationJob, ModelSimulationRequest, SimulationWorkerResponse } from "./worker-messages";
 
 export type WorkerRunState =
-  | { phase: "idle" }
-  | { phase: "running"; id: string; progress: SimulationProgress | null }
-  | { phase: "error"; error: WorkerErrorPayload };
+  { phase: "idle" } | { phase: "running"; id: string; progress: SimulationProgress | null } | { phase: "error"; error: WorkerErrorPayload };
 
 let sequence = 0;
 
@@ -76,7 +74,10 @@ export function useSimulationWorker(onResult: (run: RunDisplay) => void) {
       };
       created.onerror = (event) => {
         current.current = null;
-        setState({ phase: "error", error: { name: "Error", code: "worker", field: null, message: event.message || "The simulation worker stopped unexpectedly." } });
+        setState({
+          phase: "error",
+          error: { name: "Error", code: "worker", field: null, message: event.message || "The simulation worker stopped unexpectedly." },
+        });
         worker.current?.terminate();
         worker.current = null;
       };

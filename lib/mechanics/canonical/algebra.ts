@@ -114,10 +114,26 @@ export class Algebra {
     // sin a sin b = ½[cos(a−b) − cos(a+b)]      cos a cos b = ½[cos(a−b) + cos(a+b)]
     // sin a cos b = ½[sin(a+b) + sin(a−b)]      cos a sin b = ½[sin(a+b) − sin(a−b)]
     let parts: [boolean, number[], 1 | -1][];
-    if (g1.sin && g2.sin) parts = [[false, diff, 1], [false, sum, -1]];
-    else if (!g1.sin && !g2.sin) parts = [[false, diff, 1], [false, sum, 1]];
-    else if (g1.sin) parts = [[true, sum, 1], [true, diff, 1]];
-    else parts = [[true, sum, 1], [true, diff, -1]];
+    if (g1.sin && g2.sin)
+      parts = [
+        [false, diff, 1],
+        [false, sum, -1],
+      ];
+    else if (!g1.sin && !g2.sin)
+      parts = [
+        [false, diff, 1],
+        [false, sum, 1],
+      ];
+    else if (g1.sin)
+      parts = [
+        [true, sum, 1],
+        [true, diff, 1],
+      ];
+    else
+      parts = [
+        [true, sum, 1],
+        [true, diff, -1],
+      ];
     for (const [sin, combo, sign] of parts) {
       const canonical = canonicalTrig(this.space, sin, combo);
       if (canonical.sign === 0) continue;

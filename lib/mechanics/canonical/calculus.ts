@@ -139,7 +139,12 @@ function outerDerivative(alg: Algebra, fn: string, u: Poly): Poly {
 /** ∂/∂x for a plain symbol x (a coordinate, a rate, an acceleration). */
 export function partialDerivative(alg: Algebra, x: number): Derivation {
   const one = alg.constant(C.ONE);
-  return new Derivation(alg, (id) => (id === x ? one : null), (id) => id === x, x);
+  return new Derivation(
+    alg,
+    (id) => (id === x ? one : null),
+    (id) => id === x,
+    x,
+  );
 }
 
 /** Partial derivatives of atoms, per symbol table, so nerdamer sees each (atom, x) once per derivation. */

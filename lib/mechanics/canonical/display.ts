@@ -370,7 +370,13 @@ function trigProducts(alg: Algebra, p: Poly): TrigProduct[] {
   for (const u of squares.values()) out.push(product(true, u, true, u), product(false, u, false, u));
   for (const u of doubled.values()) out.push(product(true, u, false, u));
   for (const [a, b] of pairs.values()) {
-    for (const [sinA, sinB] of [[true, true], [false, false], [true, false], [false, true]] as const) out.push(product(sinA, [a, 1], sinB, [b, 1]));
+    for (const [sinA, sinB] of [
+      [true, true],
+      [false, false],
+      [true, false],
+      [false, true],
+    ] as const)
+      out.push(product(sinA, [a, 1], sinB, [b, 1]));
   }
   return out;
 }
@@ -447,7 +453,8 @@ function partialFactor(space: SymbolSpace, terms: readonly Term[]): Signed[] {
       seen.add(`${id}^${e}`);
       const count = terms.filter((u) => exponentOf(u, id) >= e).length;
       if (count < 2 || count === terms.length) continue;
-      if (best === null || count > best.count || (count === best.count && (e > best.e || (e === best.e && space.printRank(id) > space.printRank(best.id))))) best = { id, e, count };
+      if (best === null || count > best.count || (count === best.count && (e > best.e || (e === best.e && space.printRank(id) > space.printRank(best.id)))))
+        best = { id, e, count };
     }
   }
   if (best === null) return terms.map(plain);

@@ -6,7 +6,6 @@ import type { Poly, Term, Trig } from "./term";
 /** Values of the plain symbols of a space, by id (atoms are computed from them). */
 export type SymbolValues = ReadonlyMap<number, number>;
 
-
 /**
  * The value of a canonical sum at a point, atoms included. Used to check
  * results that come from outside the engine (nerdamer) before they are used.

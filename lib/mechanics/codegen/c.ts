@@ -3,8 +3,19 @@ import { argumentOf } from "./names";
 import { describeInterface, doubleLiteral, type PreparedModel } from "./prepare";
 
 const C_FUNCTIONS: Record<FunctionName, string> = {
-  sin: "sin", cos: "cos", tan: "tan", exp: "exp", log: "log", sqrt: "sqrt", abs: "fabs",
-  sinh: "sinh", cosh: "cosh", tanh: "tanh", asin: "asin", acos: "acos", atan: "atan",
+  sin: "sin",
+  cos: "cos",
+  tan: "tan",
+  exp: "exp",
+  log: "log",
+  sqrt: "sqrt",
+  abs: "fabs",
+  sinh: "sinh",
+  cosh: "cosh",
+  tanh: "tanh",
+  asin: "asin",
+  acos: "acos",
+  atan: "atan",
 };
 
 /** C99 with math.h: self-contained functions over plain double arrays (matrices row-major). */
@@ -31,7 +42,9 @@ export function emitC(model: PreparedModel): string {
   const defaults = np === 0 ? "0.0" : model.parameters.map((p) => (p.value === undefined ? "NAN" : doubleLiteral(p.value))).join(", ");
 
   return `/*
-${describeInterface(model, 0).map((line) => ` * ${line}`).join("\n")}
+${describeInterface(model, 0)
+  .map((line) => ` * ${line}`)
+  .join("\n")}
  *
  * Matrices are row-major: M[i*${upper}_COORDINATE_COUNT + j]. Compile with: cc -std=c99 -c file.c -lm
  */

@@ -16,7 +16,9 @@ export function emitJulia(model: PreparedModel): string {
   );
   const temporaries = (fn: { temporaries: { name: string; code: string }[] }) => fn.temporaries.map((tmp) => `    ${tmp.name} = ${tmp.code}`).join("\n");
   const matrix = (outputs: string[], rows: number, cols: number) =>
-    cols === 0 ? `zeros(${rows}, 0)` : `[\n${Array.from({ length: rows }, (_, i) => `        ${outputs.slice(i * cols, (i + 1) * cols).join(" ")}`).join(";\n")}\n    ]`;
+    cols === 0
+      ? `zeros(${rows}, 0)`
+      : `[\n${Array.from({ length: rows }, (_, i) => `        ${outputs.slice(i * cols, (i + 1) * cols).join(" ")}`).join(";\n")}\n    ]`;
   const { jacobians } = printed;
   const defaults = model.parameters.map((p) => (p.value === undefined ? "NaN" : doubleLiteral(p.value))).join(", ");
   const args = "coordinates, rates, t, parameters=DEFAULT_PARAMETERS, inputs=Float64[]";
@@ -24,7 +26,9 @@ export function emitJulia(model: PreparedModel): string {
   // Matrix literals separate entries by spaces, so every entry is parenthesized: [a -b] would be two entries.
   const entries = (outputs: string[]) => outputs.map((o) => `(${o})`);
 
-  return `${describeInterface(model, 1).map((line) => `# ${line}`).join("\n")}
+  return `${describeInterface(model, 1)
+    .map((line) => `# ${line}`)
+    .join("\n")}
 
 const COORDINATES = [${model.coordinates.map((c) => JSON.stringify(c)).join(", ")}]
 const INPUTS = String[${model.inputs.map((c) => JSON.stringify(c)).join(", ")}]

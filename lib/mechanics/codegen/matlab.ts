@@ -19,14 +19,18 @@ export function emitMatlab(model: PreparedModel): string {
   );
   const temporaries = (fn: { temporaries: { name: string; code: string }[] }) => fn.temporaries.map((tmp) => `  ${tmp.name} = ${tmp.code};`).join("\n");
   const assign = (target: string, outputs: string[], rows: number, cols: number) =>
-    [`  ${target} = zeros(${rows}, ${cols});`, ...outputs.map((code, i) => `  ${target}(${Math.floor(i / cols) + 1}, ${(i % cols) + 1}) = ${code};`)].join("\n");
+    [`  ${target} = zeros(${rows}, ${cols});`, ...outputs.map((code, i) => `  ${target}(${Math.floor(i / cols) + 1}, ${(i % cols) + 1}) = ${code};`)].join(
+      "\n",
+    );
   const { jacobians } = printed;
   const defaults = model.parameters.map((p) => (p.value === undefined ? "NaN" : doubleLiteral(p.value))).join("; ");
 
   const args = "coordinates, rates, t, parameters, inputs";
 
   return `function [M, f, A, B] = ${name}_equations(${args})
-${describeInterface(model, 1).map((line) => `% ${line}`).join("\n")}
+${describeInterface(model, 1)
+  .map((line) => `% ${line}`)
+  .join("\n")}
 %
 % Save as ${name}_equations.m. Call [M, f, A, B] = ${name}_equations(coordinates, rates, t) for the
 % parameter defaults, or pass parameters (column vector) and inputs. Runs in MATLAB and GNU Octave.

@@ -33,9 +33,11 @@ export interface PreparedModel {
   inputs: string[];
   parameters: { name: string; value?: number; unit?: string }[];
   /** Prints M (n×n row-major outputs), f (n outputs) and [∂r/∂q, ∂r/∂q', ∂r/∂u] (row-major) for a language. */
-  print(syntax: Omit<Syntax, "variable">, reference: (slot: SlotReference) => string): { mass: PrintedFunction; forcing: PrintedFunction; jacobians: PrintedFunction };
+  print(
+    syntax: Omit<Syntax, "variable">,
+    reference: (slot: SlotReference) => string,
+  ): { mass: PrintedFunction; forcing: PrintedFunction; jacobians: PrintedFunction };
 }
-
 
 export function prepareModel(input: CodeExportInput): PreparedModel {
   const coordinates = [...input.coordinates];

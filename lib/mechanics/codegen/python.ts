@@ -3,8 +3,19 @@ import { argumentOf } from "./names";
 import { describeInterface, doubleLiteral, type PreparedModel } from "./prepare";
 
 const NUMPY_FUNCTIONS: Record<FunctionName, string> = {
-  sin: "np.sin", cos: "np.cos", tan: "np.tan", exp: "np.exp", log: "np.log", sqrt: "np.sqrt", abs: "np.abs",
-  sinh: "np.sinh", cosh: "np.cosh", tanh: "np.tanh", asin: "np.arcsin", acos: "np.arccos", atan: "np.arctan",
+  sin: "np.sin",
+  cos: "np.cos",
+  tan: "np.tan",
+  exp: "np.exp",
+  log: "np.log",
+  sqrt: "np.sqrt",
+  abs: "np.abs",
+  sinh: "np.sinh",
+  cosh: "np.cosh",
+  tanh: "np.tanh",
+  asin: "np.arcsin",
+  acos: "np.arccos",
+  atan: "np.arctan",
 };
 
 /** Python with NumPy: functions returning arrays; A and B by numpy.linalg.solve. */
@@ -21,13 +32,17 @@ export function emitPython(model: PreparedModel): string {
   );
   const temporaries = (fn: { temporaries: { name: string; code: string }[] }) => fn.temporaries.map((tmp) => `    ${tmp.name} = ${tmp.code}`).join("\n");
   const matrix = (outputs: string[], rows: number, cols: number) =>
-    cols === 0 ? `np.zeros((${rows}, 0))` : `np.array([\n${Array.from({ length: rows }, (_, i) => `        [${outputs.slice(i * cols, (i + 1) * cols).join(", ")}],`).join("\n")}\n    ], dtype=float)`;
+    cols === 0
+      ? `np.zeros((${rows}, 0))`
+      : `np.array([\n${Array.from({ length: rows }, (_, i) => `        [${outputs.slice(i * cols, (i + 1) * cols).join(", ")}],`).join("\n")}\n    ], dtype=float)`;
   const { jacobians } = printed;
   const defaults = model.parameters.map((p) => (p.value === undefined ? "np.nan" : doubleLiteral(p.value))).join(", ");
   const args = "coordinates, rates, t, parameters=DEFAULT_PARAMETERS, inputs=()";
   const call = "coordinates, rates, t, parameters, inputs";
 
-  return `${describeInterface(model, 0).map((line) => `# ${line}`).join("\n")}
+  return `${describeInterface(model, 0)
+    .map((line) => `# ${line}`)
+    .join("\n")}
 import numpy as np
 
 COORDINATES = (${model.coordinates.map((c) => JSON.stringify(c)).join(", ")}${n === 1 ? "," : ""})

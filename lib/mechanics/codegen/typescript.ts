@@ -19,11 +19,14 @@ export function emitTypeScript(model: PreparedModel): string {
     `[\n${Array.from({ length: rows }, (_, i) => `    [${outputs.slice(i * cols, (i + 1) * cols).join(", ")}],`).join("\n")}\n  ]`;
   const { jacobians } = printed;
   const defaults = model.parameters.map((p) => (p.value === undefined ? "NaN" : doubleLiteral(p.value))).join(", ");
-  const args = "coordinates: ArrayLike<number>, rates: ArrayLike<number>, t: number, parameters: ArrayLike<number> = DEFAULT_PARAMETERS, inputs: ArrayLike<number> = []";
+  const args =
+    "coordinates: ArrayLike<number>, rates: ArrayLike<number>, t: number, parameters: ArrayLike<number> = DEFAULT_PARAMETERS, inputs: ArrayLike<number> = []";
   const call = "coordinates, rates, t, parameters, inputs";
   const used = "  void coordinates; void rates; void t; void parameters; void inputs;";
 
-  return `${describeInterface(model, 0).map((line) => `// ${line}`).join("\n")}
+  return `${describeInterface(model, 0)
+    .map((line) => `// ${line}`)
+    .join("\n")}
 
 export const COORDINATES = ${JSON.stringify(model.coordinates)} as const;
 export const INPUTS = ${JSON.stringify(model.inputs)} as const;

@@ -7,21 +7,7 @@
  * came from (0-based), so that diagnostics can point at a column.
  */
 
-export const FUNCTION_NAMES = [
-  "sin",
-  "cos",
-  "tan",
-  "exp",
-  "log",
-  "sqrt",
-  "abs",
-  "sinh",
-  "cosh",
-  "tanh",
-  "asin",
-  "acos",
-  "atan",
-] as const;
+export const FUNCTION_NAMES = ["sin", "cos", "tan", "exp", "log", "sqrt", "abs", "sinh", "cosh", "tanh", "asin", "acos", "atan"] as const;
 
 export type FunctionName = (typeof FUNCTION_NAMES)[number];
 

@@ -240,12 +240,7 @@ export function parseExpression(text: string, limits: ParseLimits = DEFAULT_PARS
   const tree = parseSum();
   const rest = peek();
   if (rest.type !== "end") {
-    throw new ExpressionError(
-      "parse",
-      rest.type === "rparen" ? `unmatched ")"` : `unexpected ${describe(rest, text)}`,
-      rest.start,
-      rest.end - rest.start,
-    );
+    throw new ExpressionError("parse", rest.type === "rparen" ? `unmatched ")"` : `unexpected ${describe(rest, text)}`, rest.start, rest.end - rest.start);
   }
   return tree;
 }

@@ -99,7 +99,14 @@ export class EnginePool {
       return Promise.reject(error);
     }
     return new Promise<T>((resolve, reject) => {
-      this.queue.push({ id: this.nextId++, task, payload: text, timeoutMs: options.timeoutMs ?? this.options.taskTimeoutMs, resolve: resolve as (v: unknown) => void, reject });
+      this.queue.push({
+        id: this.nextId++,
+        task,
+        payload: text,
+        timeoutMs: options.timeoutMs ?? this.options.taskTimeoutMs,
+        resolve: resolve as (v: unknown) => void,
+        reject,
+      });
       this.pump();
     });
   }
@@ -131,7 +138,10 @@ export class EnginePool {
     });
     worker.on("error", (error: Error & { code?: string }) => {
       const memory = error.code === "ERR_WORKER_OUT_OF_MEMORY" || /out of memory|heap/i.test(error.message);
-      this.replace(slot, memory ? new EngineLimitError("memory", "the task ran out of memory and was stopped") : new Error(`engine worker failed: ${error.message}`));
+      this.replace(
+        slot,
+        memory ? new EngineLimitError("memory", "the task ran out of memory and was stopped") : new Error(`engine worker failed: ${error.message}`),
+      );
     });
     worker.on("exit", (code) => {
       if (!this.closed && this.slots.includes(slot)) this.replace(slot, new Error(`engine worker exited with code ${code}`));
@@ -209,7 +219,11 @@ function checkCounts(payload: unknown, limits: ModelLimits): void {
     if (part === undefined) continue;
     const checks: [string, number, number][] = [
       ["coordinates", count(part, "coordinates"), limits.maxCoordinates],
-      ["parameters", key === "system" ? Object.keys(((part as Record<string, unknown>).parameters as object) ?? {}).length : count(part, "parameters"), limits.maxParameters],
+      [
+        "parameters",
+        key === "system" ? Object.keys(((part as Record<string, unknown>).parameters as object) ?? {}).length : count(part, "parameters"),
+        limits.maxParameters,
+      ],
       ["inputs", count(part, "inputs"), limits.maxInputs],
       ["definitions", count(part, "definitions"), limits.maxDefinitions],
     ];

@@ -96,12 +96,6 @@ export {
 } from "./operations";
 export { coordinateNames, documentSymbols, isBlankRow, locateModelField, type DocumentSymbols, type FieldLocation } from "./symbols";
 export { documentToModel, modelToDocument, parseParameterValue } from "./model-file";
-export {
-  DOCUMENT_MIGRATIONS,
-  type DocumentMigration,
-  type StoredContentVersion0,
-  type StoredDocument,
-  type StoredDocumentVersion1,
-} from "./migrations";
+export { DOCUMENT_MIGRATIONS, type DocumentMigration, type StoredContentVersion0, type StoredDocument, type StoredDocumentVersion1 } from "./migrations";
 export { parseStoredDocument, type ParseStoredOptions, type StoredDocumentResult } from "./stored";
 export { recoverModel, type RecoveredModel } from "./recover";

@@ -134,7 +134,9 @@ function textRecord(value: unknown): Record<string, string> {
 function simulationSettingsFrom(raw: unknown): SimulationSettings {
   const settings = isObject(raw) ? raw : {};
   const points = Array.isArray(settings.points)
-    ? settings.points.flatMap((point: unknown) => (isObject(point) && typeof point.x === "string" && typeof point.y === "string" ? [{ x: point.x, y: point.y }] : []))
+    ? settings.points.flatMap((point: unknown) =>
+        isObject(point) && typeof point.x === "string" && typeof point.y === "string" ? [{ x: point.x, y: point.y }] : [],
+      )
     : [];
   return {
     initialCoordinates: textRecord(settings.initialCoordinates),

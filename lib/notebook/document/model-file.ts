@@ -87,7 +87,10 @@ export function modelToDocument(model: Model, newId: () => string = createId): D
   });
   if (model.inputs && model.inputs.length > 0) {
     const ids = rowIds(model.inputs.length);
-    cells.push({ ...createCell("inputs", newId()), rows: model.inputs.map((u, i) => ({ id: ids[i]!, name: u.name, unit: u.unit, description: describe(u.description) })) });
+    cells.push({
+      ...createCell("inputs", newId()),
+      rows: model.inputs.map((u, i) => ({ id: ids[i]!, name: u.name, unit: u.unit, description: describe(u.description) })),
+    });
   }
   if (model.definitions && model.definitions.length > 0) {
     const ids = rowIds(model.definitions.length);

@@ -107,7 +107,8 @@ function salvageModelFile(stored: JsonObject, omitted: string[]): JsonObject {
   const entryShapes: Record<string, (entry: JsonObject) => boolean> = {
     coordinates: (e) => isText(e.name) && (e.unit === undefined || isText(e.unit)),
     inputs: (e) => isText(e.name) && (e.unit === undefined || isText(e.unit)),
-    parameters: (e) => isText(e.name) && (e.unit === undefined || isText(e.unit)) && (e.value === undefined || (typeof e.value === "number" && Number.isFinite(e.value))),
+    parameters: (e) =>
+      isText(e.name) && (e.unit === undefined || isText(e.unit)) && (e.value === undefined || (typeof e.value === "number" && Number.isFinite(e.value))),
     definitions: (e) => isText(e.name) && isText(e.expr),
   };
   for (const [field, fits] of Object.entries(entryShapes)) {

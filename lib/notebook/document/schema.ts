@@ -226,7 +226,8 @@ export const derivationDocumentSchema = z
         if (ids.has(cell.id)) ctx.addIssue({ code: "custom", path: ["cells", index, "id"], message: `duplicate cell id "${cell.id}"`, input: cell.id });
         ids.add(cell.id);
         if (SINGLETON_KINDS.has(cell.kind)) {
-          if (seen.has(cell.kind)) ctx.addIssue({ code: "custom", path: ["cells", index, "kind"], message: `more than one ${cell.kind} cell`, input: cell.kind });
+          if (seen.has(cell.kind))
+            ctx.addIssue({ code: "custom", path: ["cells", index, "kind"], message: `more than one ${cell.kind} cell`, input: cell.kind });
           seen.add(cell.kind);
         }
       });

@@ -31,12 +31,15 @@ export function parseStoredDocument(input: unknown, { title }: ParseStoredOption
     return {
       ok: false,
       newerVersion: declared,
-      issues: [{ path: "schemaVersion", message: `written by a newer version of Holonomy (schema ${declared}; this one reads up to ${DOCUMENT_SCHEMA_VERSION})` }],
+      issues: [
+        { path: "schemaVersion", message: `written by a newer version of Holonomy (schema ${declared}; this one reads up to ${DOCUMENT_SCHEMA_VERSION})` },
+      ],
     };
   }
   const version = storedVersionOf(stored);
   if (version === undefined) {
-    const message = declared === undefined ? "missing: a notebook document names its schema version" : `expected a schema version from 1 to ${DOCUMENT_SCHEMA_VERSION}`;
+    const message =
+      declared === undefined ? "missing: a notebook document names its schema version" : `expected a schema version from 1 to ${DOCUMENT_SCHEMA_VERSION}`;
     // Whatever else is wrong is judged as if it were meant to be current, so one answer lists it all.
     return { ok: false, issues: [{ path: "schemaVersion", message }, ...issuesOf({ ...stored, schemaVersion: DOCUMENT_SCHEMA_VERSION })] };
   }

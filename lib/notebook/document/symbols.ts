@@ -19,7 +19,9 @@ export function isBlankRow(row: AnyRow): boolean {
 }
 
 export function coordinateNames(doc: DerivationDocument): string[] {
-  return rowsOfKind(doc, "coordinates").map(({ row }) => row.name.trim()).filter((name) => name !== "");
+  return rowsOfKind(doc, "coordinates")
+    .map(({ row }) => row.name.trim())
+    .filter((name) => name !== "");
 }
 
 /** The names an expression in this derivation may use, by category, in document order. */

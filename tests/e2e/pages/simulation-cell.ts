@@ -5,7 +5,10 @@ export class SimulationCell {
   readonly cell: Locator;
 
   constructor(private readonly page: Page) {
-    this.cell = page.locator("[data-cell-kind='simulation'], section, article").filter({ has: page.getByTestId("simulation-settings") }).last();
+    this.cell = page
+      .locator("[data-cell-kind='simulation'], section, article")
+      .filter({ has: page.getByTestId("simulation-settings") })
+      .last();
   }
 
   async add(): Promise<void> {

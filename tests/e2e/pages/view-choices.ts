@@ -23,7 +23,9 @@ export class ViewChoices {
 
   /** Forgets this person's stored view of the derivation, so a run starts from the document's settings. */
   async reset(derivationId: string): Promise<void> {
-    const response = await this.page.request.put(`/api/derivations/${derivationId}/view-preferences`, { data: { preferences: { schemaVersion: 1, cells: {} } } });
+    const response = await this.page.request.put(`/api/derivations/${derivationId}/view-preferences`, {
+      data: { preferences: { schemaVersion: 1, cells: {} } },
+    });
     expect(response.status()).toBe(200);
   }
 

@@ -18,10 +18,13 @@ const csv = "t [s], z [mm]\n0, 10\n0.1, 8\n0.2, 3\n";
 const contents: NotebookArchiveContents = {
   title: "Seat rig carriage",
   status: "in_review",
-  document: blankDocument("Seat rig carriage", (() => {
-    let n = 0;
-    return () => `cell-${++n}`;
-  })()),
+  document: blankDocument(
+    "Seat rig carriage",
+    (() => {
+      let n = 0;
+      return () => `cell-${++n}`;
+    })(),
+  ),
   files: [
     {
       kind: "measured_csv",
@@ -79,7 +82,9 @@ describe("notebook archive format", () => {
     const bytes = writeNotebookArchive(contents, { exportedAt: new Date("2030-03-02T00:00:00.000Z") });
     const read = readNotebookArchive(bytes, limits);
     expect(read).toEqual(contents);
-    expect(unpackedSize(contents)).toBe(Object.entries(unzipSync(bytes)).reduce((sum, [name, data]) => (name === "manifest.json" ? sum : sum + data.byteLength), 0));
+    expect(unpackedSize(contents)).toBe(
+      Object.entries(unzipSync(bytes)).reduce((sum, [name, data]) => (name === "manifest.json" ? sum : sum + data.byteLength), 0),
+    );
   });
 
   it("refuses contents over the unpacked limit before unpacking them", () => {

@@ -51,7 +51,9 @@ function withQueryClient(node: React.ReactNode) {
 
 const created = (id: string) => new Response(JSON.stringify({ derivation: { id } }), { status: 201, headers: { "content-type": "application/json" } });
 const unavailable = () =>
-  new Response(JSON.stringify({ error: { code: "unavailable:database", message: "The database is not reachable right now. Try again in a moment." } }), { status: 503 });
+  new Response(JSON.stringify({ error: { code: "unavailable:database", message: "The database is not reachable right now. Try again in a moment." } }), {
+    status: 503,
+  });
 
 describe("NewDerivationDialog", () => {
   it("sends one request for a double click and keeps Create disabled until the answer", async () => {
@@ -133,7 +135,12 @@ describe("ImportDerivationDialog", () => {
     expect(calls[0]!.url).toBe("/api/teams/team-1/derivations/import");
     const problems = { "document.json: cells[1].kind": ["unknown kind"], "runs/002.json": ["missing from the archive"] };
     await act(async () =>
-      calls[0]!.answer(new Response(JSON.stringify({ error: { code: "unprocessable:archive", message: "The archive has 2 problems, listed below.", fieldErrors: problems } }), { status: 422 })),
+      calls[0]!.answer(
+        new Response(
+          JSON.stringify({ error: { code: "unprocessable:archive", message: "The archive has 2 problems, listed below.", fieldErrors: problems } }),
+          { status: 422 },
+        ),
+      ),
     );
     const alert = await screen.findByTestId("import-error");
     expect(alert.textContent).toContain("document.json: cells[1].kind: unknown kind");

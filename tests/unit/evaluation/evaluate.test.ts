@@ -5,7 +5,14 @@
  * how the engine's results are shown (display form, accelerations, free coordinates).
  */
 import { describe, expect, it } from "vitest";
-import { analyseSystem, distinctEquilibria, energyNotConservedReason, evaluateModel, withoutRoundingNoise, type EvaluationSettings } from "@/lib/evaluation/evaluate";
+import {
+  analyseSystem,
+  distinctEquilibria,
+  energyNotConservedReason,
+  evaluateModel,
+  withoutRoundingNoise,
+  type EvaluationSettings,
+} from "@/lib/evaluation/evaluate";
 import type { Equilibrium } from "@/lib/mechanics/equilibria";
 import type { Model } from "@/lib/mechanics/model";
 import { STABILITY_TOLERANCE } from "@/lib/mechanics/stability";
@@ -78,7 +85,14 @@ describe("stability verdicts on the demo models", () => {
   it("lists a stable equilibrium first when there is one", async () => {
     // Pendulum hanging from a pivot: θ = 0 stable, θ = π unstable; the stable one is listed (and selected) first
     // whatever order the search meets them in (fact of the trade).
-    const system = { coordinates: ["theta"], coordinateUnits: ["rad"], inputs: [], massMatrix: [["m*l^2"]], forcing: ["-m*g*l*sin(theta) - c*theta'"], parameters: { m: 1, l: 1, g, c: 0.1 } };
+    const system = {
+      coordinates: ["theta"],
+      coordinateUnits: ["rad"],
+      inputs: [],
+      massMatrix: [["m*l^2"]],
+      forcing: ["-m*g*l*sin(theta) - c*theta'"],
+      parameters: { m: 1, l: 1, g, c: 0.1 },
+    };
     const analysis = await analyseSystem(inProcessRunner, system, { equilibriumIndex: 0, inputValues: {} });
     expect(analysis.equilibria.map((e) => e.stability)).toEqual(["stable", "unstable"]);
     expect(analysis.linearization!.selected!.stability).toBe("stable");
@@ -92,7 +106,10 @@ describe("rounding noise in the linearization", () => {
       coordinates: ["x", "y"],
       coordinateUnits: ["m", "m"],
       inputs: [],
-      massMatrix: [["1", "0"], ["0", "1"]],
+      massMatrix: [
+        ["1", "0"],
+        ["0", "1"],
+      ],
       forcing: ["-k*x - (a + b - c)*k*y - d*x'", "-k*y - d*y'"],
       parameters: { k: 40, a: 0.1, b: 0.2, c: 0.3, d: 0.5 },
     };
@@ -136,7 +153,12 @@ describe("conserved quantities", () => {
     expect(result.conserved).toEqual([]);
     // Lagrange's equation for a cyclic x with D = ½ b x'² and force F: dp/dt = F − b x' (fact of the trade).
     expect(result.cyclicMomenta).toEqual([
-      { coordinate: "x", conserved: false, actedOnBy: ["applied force", "dissipation"], rateLatex: expect.stringContaining("\\dot{p_{x}} = -b\\,\\dot{x} + F") },
+      {
+        coordinate: "x",
+        conserved: false,
+        actedOnBy: ["applied force", "dissipation"],
+        rateLatex: expect.stringContaining("\\dot{p_{x}} = -b\\,\\dot{x} + F"),
+      },
     ]);
     expect(result.energyNotConserved).toBe("the dissipation function removes energy; applied forces act (F on x)");
   });

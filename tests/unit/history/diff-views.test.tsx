@@ -43,7 +43,13 @@ describe("ParameterDiffTable", () => {
       ...before,
       cells: before.cells.map((cell) =>
         cell.kind === "parameters"
-          ? { ...cell, rows: [...cell.rows.filter((row) => row.name !== "g").map((row) => (row.name === "l" ? { ...row, value: "4" } : row)), { id: "p9", name: "c", unit: "N*m*s/rad", value: "", description: "pivot damping" }] }
+          ? {
+              ...cell,
+              rows: [
+                ...cell.rows.filter((row) => row.name !== "g").map((row) => (row.name === "l" ? { ...row, value: "4" } : row)),
+                { id: "p9", name: "c", unit: "N*m*s/rad", value: "", description: "pivot damping" },
+              ],
+            }
           : cell,
       ),
     };

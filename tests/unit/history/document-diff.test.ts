@@ -40,7 +40,13 @@ describe("compareDocuments", () => {
     expect(potential.status).toBe("changed");
     expect(potential.lines.map((line) => line.kind)).toEqual(["removed", "added"]);
     const added = potential.lines[1]!;
-    expect(added.kind === "added" && added.parts?.filter((part) => part.changed).map((part) => part.text).join("")).toContain("k*theta^2");
+    expect(
+      added.kind === "added" &&
+        added.parts
+          ?.filter((part) => part.changed)
+          .map((part) => part.text)
+          .join(""),
+    ).toContain("k*theta^2");
     const note = comparison.cells.find((cell) => cell.id === "n1")!;
     expect(note).toMatchObject({ status: "added", added: 1, removed: 0 });
     expect(comparison.sameText).toBe(false);

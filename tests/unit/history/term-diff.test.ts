@@ -15,7 +15,11 @@ function compare(before: Model, after: Model): EquationChange[] {
 }
 
 function statuses(change: EquationChange): string[] {
-  return change.terms.map((term) => (term.status === "changed" ? `changed:${term.before.map((t) => t.text).join("+")}>${term.after.map((t) => t.text).join("+")}` : `${term.status}:${term.term.text}`));
+  return change.terms.map((term) =>
+    term.status === "changed"
+      ? `changed:${term.before.map((t) => t.text).join("+")}>${term.after.map((t) => t.text).join("+")}`
+      : `${term.status}:${term.term.text}`,
+  );
 }
 
 describe("compareEquations", () => {

@@ -13,7 +13,13 @@ describe("textDiff", () => {
     const lines = textDiff("T = m*v^2", "T = 1/2*m*v^2");
     expect(lines.map((line) => line.kind)).toEqual(["removed", "added"]);
     const added = lines[1]!;
-    expect(added.kind === "added" && added.parts?.filter((part) => part.changed).map((part) => part.text).join("")).toBe("1/2*");
+    expect(
+      added.kind === "added" &&
+        added.parts
+          ?.filter((part) => part.changed)
+          .map((part) => part.text)
+          .join(""),
+    ).toBe("1/2*");
     const removed = lines[0]!;
     // Nothing of the old line is gone, so no word of it is marked.
     expect(removed.kind === "removed" && removed.parts?.some((part) => part.changed)).toBe(false);

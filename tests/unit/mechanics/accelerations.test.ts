@@ -138,7 +138,10 @@ describe("solved accelerations", () => {
   it("says why when the coupled group is too large or the mass matrix singular", () => {
     const three = deriveModel(chainModel({ links: 3 })).accelerations;
     expect(Array.isArray(three)).toBe(false);
-    if (!Array.isArray(three)) expect(three.reason).toBe("all 3 coordinates are coupled through the mass matrix (a 3×3 block); accelerations are solved symbolically only for blocks up to 2×2");
+    if (!Array.isArray(three))
+      expect(three.reason).toBe(
+        "all 3 coordinates are coupled through the mass matrix (a 3×3 block); accelerations are solved symbolically only for blocks up to 2×2",
+      );
     const singular = deriveModel({
       title: "Two carts on one rail, one coordinate too many",
       coordinates: [coord("a", "m"), coord("b", "m")],

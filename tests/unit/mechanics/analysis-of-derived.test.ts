@@ -17,7 +17,10 @@ const l = 0.9;
 const g = 9.81;
 const model: Model = {
   title: "Hoist hook with a swinging block (double pendulum)",
-  coordinates: [{ name: "theta1", unit: "rad" }, { name: "theta2", unit: "rad" }],
+  coordinates: [
+    { name: "theta1", unit: "rad" },
+    { name: "theta2", unit: "rad" },
+  ],
   parameters: [
     { name: "m1", unit: "kg", value: 3 },
     { name: "m2", unit: "kg", value: 3 },
@@ -53,7 +56,11 @@ describe("analysis of a derived double pendulum", () => {
     for (const equation of derived.equations) {
       const { latex, terms } = toLatexTerms(equation.display);
       expect(terms).toHaveLength(topLevelTerms(equation.display).length);
-      const html = katex.renderToString(latex, { throwOnError: true, trust: (c) => c.command === "\\htmlData", strict: (code: string) => (code === "htmlExtension" ? "ignore" : "error") });
+      const html = katex.renderToString(latex, {
+        throwOnError: true,
+        trust: (c) => c.command === "\\htmlData",
+        strict: (code: string) => (code === "htmlExtension" ? "ignore" : "error"),
+      });
       expect(html.match(/data-term=/g)).toHaveLength(terms.length);
     }
   });

@@ -71,10 +71,7 @@ describe("compileMassMatrixSystem", () => {
       ["(m1 + m2)*l1^2", "m2*l1*l2*cos(theta1 - theta2)"],
       ["m2*l1*l2*cos(theta1 - theta2)", "m2*l2^2"],
     ],
-    forcing: [
-      "-m2*l1*l2*theta2'^2*sin(theta1 - theta2) - (m1 + m2)*g*l1*sin(theta1)",
-      "m2*l1*l2*theta1'^2*sin(theta1 - theta2) - m2*g*l2*sin(theta2)",
-    ],
+    forcing: ["-m2*l1*l2*theta2'^2*sin(theta1 - theta2) - (m1 + m2)*g*l1*sin(theta1)", "m2*l1*l2*theta1'^2*sin(theta1 - theta2) - m2*g*l2*sin(theta2)"],
     parameters: { m1: 1.3, m2: 0.7, l1: 1.1, l2: 0.8, g: 9.81 },
   };
 
@@ -97,7 +94,15 @@ describe("compileMassMatrixSystem", () => {
   });
 
   it("reports a singular mass matrix instead of returning garbage", () => {
-    const sys = compileMassMatrixSystem({ coordinates: ["x", "y"], massMatrix: [["m", "m"], ["m", "m"]], forcing: ["0", "0"], parameters: { m: 1 } });
+    const sys = compileMassMatrixSystem({
+      coordinates: ["x", "y"],
+      massMatrix: [
+        ["m", "m"],
+        ["m", "m"],
+      ],
+      forcing: ["0", "0"],
+      parameters: { m: 1 },
+    });
     expect(sys.accelerations(0, [0, 0], [0, 0], [], new Float64Array(2))).toBe(false);
   });
 

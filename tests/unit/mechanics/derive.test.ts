@@ -52,14 +52,24 @@ describe("deriveModel: published equations of motion", () => {
     // (m1+m2) l1 θ1'' + m2 l2 θ2'' cos(θ1−θ2) + m2 l2 θ2'² sin(θ1−θ2) + (m1+m2) g sin θ1 = 0
     // l2 θ2'' + l1 θ1'' cos(θ1−θ2) − l1 θ1'² sin(θ1−θ2) + g sin θ2 = 0
     expect(
-      sameExpression(result.equations[0]!.residual, "l1*((m1+m2)*l1*theta1'' + m2*l2*theta2''*cos(theta1-theta2) + m2*l2*theta2'^2*sin(theta1-theta2) + (m1+m2)*g*sin(theta1))", q),
+      sameExpression(
+        result.equations[0]!.residual,
+        "l1*((m1+m2)*l1*theta1'' + m2*l2*theta2''*cos(theta1-theta2) + m2*l2*theta2'^2*sin(theta1-theta2) + (m1+m2)*g*sin(theta1))",
+        q,
+      ),
     ).toBe(true);
     expect(
-      sameExpression(result.equations[1]!.residual, "m2*l2*(l2*theta2'' + l1*theta1''*cos(theta1-theta2) - l1*theta1'^2*sin(theta1-theta2) + g*sin(theta2))", q),
+      sameExpression(
+        result.equations[1]!.residual,
+        "m2*l2*(l2*theta2'' + l1*theta1''*cos(theta1-theta2) - l1*theta1'^2*sin(theta1-theta2) + g*sin(theta2))",
+        q,
+      ),
     ).toBe(true);
     // Compactness: product-to-sum canonical form, no sin²+cos² remnants.
     expect(result.equations.map((e) => topLevelTerms(e.residual).length)).toEqual([6, 4]);
-    expect(text(result.equations[1]!.residual)).toBe("m2*l1*l2*theta1''*cos(theta1 - theta2) + m2*l2^2*theta2'' - m2*l1*l2*theta1'^2*sin(theta1 - theta2) + m2*l2*g*sin(theta2)");
+    expect(text(result.equations[1]!.residual)).toBe(
+      "m2*l1*l2*theta1''*cos(theta1 - theta2) + m2*l2^2*theta2'' - m2*l1*l2*theta1'^2*sin(theta1 - theta2) + m2*l2*g*sin(theta2)",
+    );
     expect(result.equations.map((e) => text(e.residual)).join(" ")).not.toMatch(/\^2\*?cos\(|sin\([^)]*\)\^2/);
   });
 
@@ -152,7 +162,9 @@ describe("deriveModel: published equations of motion", () => {
     };
     const result = deriveModel(model);
     // Standard rotating-hoop example (e.g. Taylor 2005, ch. 7; from memory): m R² θ'' = m R² ω² sin θ cos θ − m g R sin θ
-    expect(sameExpression(result.equations[0]!.residual, "m*R^2*theta'' - m*R^2*w^2*sin(theta)*cos(theta) + m*g*R*sin(theta)", { coordinates: ["theta"] })).toBe(true);
+    expect(
+      sameExpression(result.equations[0]!.residual, "m*R^2*theta'' - m*R^2*w^2*sin(theta)*cos(theta) + m*g*R*sin(theta)", { coordinates: ["theta"] }),
+    ).toBe(true);
     // The forcing vanishes at cos θ = g/(ω² R) (same source; the equilibrium solver is tested elsewhere).
     const env: Env = { m: 0.2, R: 0.5, w: 7, g: 9.81, t: 0.3, "theta'": 0 };
     env.theta = Math.acos(env.g! / (env.w! ** 2 * env.R!));
@@ -197,7 +209,10 @@ describe("deriveModel: published equations of motion", () => {
       potential: "1/2*k*x1^2 + 1/2*k*(x2 - x1)^2 + 1/2*k*x2^2",
     };
     const result = deriveModel(model);
-    expect(result.massMatrix.map((row) => row.map(text))).toEqual([["m", "0"], ["0", "m"]]);
+    expect(result.massMatrix.map((row) => row.map(text))).toEqual([
+      ["m", "0"],
+      ["0", "m"],
+    ]);
     // The springs hold both carriages: no coordinate is free.
     expect(result.freeCoordinates).toEqual([]);
     // K = −∂f/∂x, from the forcing.
@@ -246,7 +261,9 @@ describe("deriveModel: published equations of motion", () => {
     const result = deriveModel(model);
     // Pendulum with a horizontally driven support (e.g. Taylor 2005, ch. 7 problems; from memory):
     // m l² θ'' − m a l ω² sin(ωt) cos θ + m g l sin θ = 0
-    expect(sameExpression(result.equations[0]!.residual, "m*l^2*theta'' - m*a*l*w^2*sin(w*t)*cos(theta) + m*g*l*sin(theta)", { coordinates: ["theta"] })).toBe(true);
+    expect(sameExpression(result.equations[0]!.residual, "m*l^2*theta'' - m*a*l*w^2*sin(w*t)*cos(theta) + m*g*l*sin(theta)", { coordinates: ["theta"] })).toBe(
+      true,
+    );
     expect(result.explicitTime).toBe(true);
     expect(result.conserved).toEqual([]);
   });

@@ -12,7 +12,11 @@ describe("differentiate", () => {
     for (let trial = 0; trial < 300; trial++) {
       const tree = randomExpression(random, symbols, 4);
       const at: Record<string, number> = { q: random() * 2 - 1, "q'": random() * 2 - 1, a: random() + 0.5, t: random() };
-      for (const [name, order] of [["q", 0], ["q", 1], ["t", 0]] as const) {
+      for (const [name, order] of [
+        ["q", 0],
+        ["q", 1],
+        ["t", 0],
+      ] as const) {
         const key = name + "'".repeat(order);
         const derivative = differentiate(tree, name, order);
         const exact = evaluateTree(derivative, at);
@@ -30,8 +34,21 @@ describe("differentiate", () => {
 
   it("covers every function of the language", () => {
     const cases: [string, number][] = [
-      ["tan(x)", 0.4], ["exp(x)", 0.4], ["log(x)", 0.4], ["sqrt(x)", 0.4], ["abs(x)", -0.4], ["sinh(x)", 0.4],
-      ["cosh(x)", 0.4], ["tanh(x)", 0.4], ["asin(x)", 0.4], ["acos(x)", 0.4], ["atan(x)", 0.4], ["x^x", 0.4], ["2^x", 0.4], ["x^(-3)", 0.4], ["x^0.5", 0.4],
+      ["tan(x)", 0.4],
+      ["exp(x)", 0.4],
+      ["log(x)", 0.4],
+      ["sqrt(x)", 0.4],
+      ["abs(x)", -0.4],
+      ["sinh(x)", 0.4],
+      ["cosh(x)", 0.4],
+      ["tanh(x)", 0.4],
+      ["asin(x)", 0.4],
+      ["acos(x)", 0.4],
+      ["atan(x)", 0.4],
+      ["x^x", 0.4],
+      ["2^x", 0.4],
+      ["x^(-3)", 0.4],
+      ["x^0.5", 0.4],
     ];
     for (const [text, x] of cases) {
       const d = compileExpressions([differentiate(parseExpression(text), "x")], ["x"]);

@@ -45,7 +45,10 @@ describe("findEquilibria", () => {
     const equilibria = findEquilibria({
       coordinates: ["theta1", "theta2"],
       coordinateUnits: ["rad", "rad"],
-      massMatrix: [["(m1 + m2)*l1^2", "m2*l1*l2*cos(theta1 - theta2)"], ["m2*l1*l2*cos(theta1 - theta2)", "m2*l2^2"]],
+      massMatrix: [
+        ["(m1 + m2)*l1^2", "m2*l1*l2*cos(theta1 - theta2)"],
+        ["m2*l1*l2*cos(theta1 - theta2)", "m2*l2^2"],
+      ],
       forcing: ["-m2*l1*l2*theta2'^2*sin(theta1 - theta2) - (m1 + m2)*g*l1*sin(theta1)", "m2*l1*l2*theta1'^2*sin(theta1 - theta2) - m2*g*l2*sin(theta2)"],
       parameters: { m1: 1, m2: 1, l1: 1, l2: 1, g: 9.81 },
     });
@@ -59,7 +62,14 @@ describe("findEquilibria", () => {
   it("a damped pendulum with a held torque input: the equilibrium is asymptotically stable at sin θ = u/(m g l)", () => {
     const [m, g, l, u] = [2, 9.81, 0.5, 3];
     const equilibria = findEquilibria(
-      { coordinates: ["theta"], coordinateUnits: ["rad"], inputs: ["u"], massMatrix: [["m*l^2"]], forcing: ["u - c*theta' - m*g*l*sin(theta)"], parameters: { m, g, l, c: 0.4 } },
+      {
+        coordinates: ["theta"],
+        coordinateUnits: ["rad"],
+        inputs: ["u"],
+        massMatrix: [["m*l^2"]],
+        forcing: ["u - c*theta' - m*g*l*sin(theta)"],
+        parameters: { m, g, l, c: 0.4 },
+      },
       { inputs: [u] },
     );
     // Static balance of torques, fact of the trade: m g l sin θ = u.
@@ -74,7 +84,10 @@ describe("findEquilibria", () => {
     const equilibria = findEquilibria({
       coordinates: ["x", "theta"],
       coordinateUnits: ["m", "rad"],
-      massMatrix: [["M + m", "m*l*cos(theta)"], ["m*l*cos(theta)", "m*l^2"]],
+      massMatrix: [
+        ["M + m", "m*l*cos(theta)"],
+        ["m*l*cos(theta)", "m*l^2"],
+      ],
       forcing: ["m*l*theta'^2*sin(theta)", "m*g*l*sin(theta)"],
       parameters: { M: 1, m: 0.2, l: 0.5, g: 9.81 },
     });
@@ -98,7 +111,10 @@ describe("findEquilibria", () => {
     const equilibria = findEquilibria({
       coordinates: ["x", "theta"],
       coordinateUnits: ["m", "rad"],
-      massMatrix: [["M + m", "m*l*cos(theta)"], ["m*l*cos(theta)", "m*l^2"]],
+      massMatrix: [
+        ["M + m", "m*l*cos(theta)"],
+        ["m*l*cos(theta)", "m*l^2"],
+      ],
       forcing: ["m*l*theta'^2*sin(theta) - b*x'", "m*g*l*sin(theta)"],
       parameters: { M: 1, m: 0.2, l: 0.5, g: 9.81, b: 0.3 },
     });

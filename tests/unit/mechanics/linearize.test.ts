@@ -13,10 +13,7 @@ const doublePendulum = (parameters: Record<string, number>): MassMatrixSystem =>
     ["(m1 + m2)*l1^2", "m2*l1*l2*cos(theta1 - theta2)"],
     ["m2*l1*l2*cos(theta1 - theta2)", "m2*l2^2"],
   ],
-  forcing: [
-    "-m2*l1*l2*theta2'^2*sin(theta1 - theta2) - (m1 + m2)*g*l1*sin(theta1)",
-    "m2*l1*l2*theta1'^2*sin(theta1 - theta2) - m2*g*l2*sin(theta2)",
-  ],
+  forcing: ["-m2*l1*l2*theta2'^2*sin(theta1 - theta2) - (m1 + m2)*g*l1*sin(theta1)", "m2*l1*l2*theta1'^2*sin(theta1 - theta2) - m2*g*l2*sin(theta2)"],
   parameters,
 });
 
@@ -46,7 +43,10 @@ describe("linearizeAbout", () => {
     const m = 3;
     const system: MassMatrixSystem = {
       coordinates: ["x1", "x2"],
-      massMatrix: [["m", "0"], ["0", "m"]],
+      massMatrix: [
+        ["m", "0"],
+        ["0", "m"],
+      ],
       forcing: ["-k*x1 - k*(x1 - x2)", "-k*x2 - k*(x2 - x1)"],
       parameters: { k, m },
     };
@@ -57,15 +57,30 @@ describe("linearizeAbout", () => {
     expect(lin.modes[0]!.shape).toEqual([1, expect.closeTo(1, 12)]);
     expect(lin.modes[1]!.shape).toEqual([1, expect.closeTo(-1, 12)]);
     // Independent check: ml-matrix eigenvalues of M⁻¹K for the hand-written K = [[2k, −k], [−k, 2k]].
-    const independent = new EigenvalueDecomposition(new Matrix([[2 * k, -k], [-k, 2 * k]]).div(m)).realEigenvalues.sort((a, b) => a - b);
+    const independent = new EigenvalueDecomposition(
+      new Matrix([
+        [2 * k, -k],
+        [-k, 2 * k],
+      ]).div(m),
+    ).realEigenvalues.sort((a, b) => a - b);
     expect(lin.modes.map((mode) => mode.omegaSquared)).toEqual(independent.map((v) => expect.closeTo(v, 9)));
-    expect(lin.stiffness).toEqual([[2 * k, -k], [-k, 2 * k]].map((row) => row.map((v) => expect.closeTo(v, 12))));
+    expect(lin.stiffness).toEqual(
+      [
+        [2 * k, -k],
+        [-k, 2 * k],
+      ].map((row) => row.map((v) => expect.closeTo(v, 12))),
+    );
   });
 
   it("damped oscillator with a force input: A, B and eigenvalues −ζω0 ± iωd", () => {
     const [m, c, k] = [2, 0.8, 50];
     const lin = linearizeAbout({ coordinates: ["x"], inputs: ["F"], massMatrix: [["m"]], forcing: ["F - c*x' - k*x"], parameters: { m, c, k } }, { q: [0] });
-    expect(lin.A).toEqual([[0, 1], [-k / m, -c / m]].map((row) => row.map((v) => expect.closeTo(v, 14))));
+    expect(lin.A).toEqual(
+      [
+        [0, 1],
+        [-k / m, -c / m],
+      ].map((row) => row.map((v) => expect.closeTo(v, 14))),
+    );
     expect(lin.B).toEqual([[0], [expect.closeTo(1 / m, 14)]]);
     expect(lin.damping).toEqual([[expect.closeTo(c, 14)]]);
     // Closed form: ω0 = √(k/m), ζ = c/(2√(km)), ωd = ω0√(1−ζ²) — Rao, Mechanical Vibrations (from memory; REFERENCES.md).
@@ -91,14 +106,37 @@ describe("linearizeAbout", () => {
         const h = 1e-6;
         const plus = new Float64Array(4);
         const minus = new Float64Array(4);
-        rhs.stateDerivative(0, x.map((v, i) => (i === j ? v + h : v)), [], plus);
-        rhs.stateDerivative(0, x.map((v, i) => (i === j ? v - h : v)), [], minus);
+        rhs.stateDerivative(
+          0,
+          x.map((v, i) => (i === j ? v + h : v)),
+          [],
+          plus,
+        );
+        rhs.stateDerivative(
+          0,
+          x.map((v, i) => (i === j ? v - h : v)),
+          [],
+          minus,
+        );
         for (let i = 0; i < 4; i++) expect(lin.A[i]![j]).toBeCloseTo((plus[i]! - minus[i]!) / (2 * h), 6);
       }
     }
   });
 
   it("refuses a singular mass matrix with a typed error", () => {
-    expect(() => linearizeAbout({ coordinates: ["x", "y"], massMatrix: [["1", "1"], ["1", "1"]], forcing: ["0", "0"], parameters: {} }, { q: [0, 0] })).toThrow(ModelError);
+    expect(() =>
+      linearizeAbout(
+        {
+          coordinates: ["x", "y"],
+          massMatrix: [
+            ["1", "1"],
+            ["1", "1"],
+          ],
+          forcing: ["0", "0"],
+          parameters: {},
+        },
+        { q: [0, 0] },
+      ),
+    ).toThrow(ModelError);
   });
 });

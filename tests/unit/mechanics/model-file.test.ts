@@ -28,7 +28,7 @@ describe("model file syntax", () => {
   });
 
   it("reports every malformed line at once, each with its line and column", () => {
-    const text = ['{', '  "title": "Hoist"', '  "coordinates": [],', '  "kinetic": 1/2,', '}'].join("\n");
+    const text = ["{", '  "title": "Hoist"', '  "coordinates": [],', '  "kinetic": 1/2,', "}"].join("\n");
     const { issues } = jsonSyntaxIssues(text);
     expect(issues.map((issue) => issue.message)).toEqual([
       'line 3, column 3: a "," is missing before this',
@@ -71,7 +71,9 @@ describe("every model problem at once", () => {
       'potential, column 19: unknown symbol "k"',
     ]);
     // validateModel still stops at the first, the same one.
-    expect(() => validateModel({ ...model(), parameters: [...model().parameters, { name: "m", unit: "kg" }], kinetic: "x'" })).toThrow('"m" is already declared');
+    expect(() => validateModel({ ...model(), parameters: [...model().parameters, { name: "m", unit: "kg" }], kinetic: "x'" })).toThrow(
+      '"m" is already declared',
+    );
   });
 });
 

@@ -52,7 +52,8 @@ describe("printDerivation", () => {
   });
 
   it("writes a wide numerator as (1/D)·(N) so it can break between terms, a narrow one as a fraction", () => {
-    const wide = "(-2*m2*l1*sin(q1 - q2)*cos(q1 - q2)*q1'^2 - 2*m2*l2*sin(q1 - q2)*q2'^2 - (2*m1 + m2)*g*sin(q1) - m2*g*sin(q1 - 2*q2))/(2*(m1 + m2*sin(q1 - q2)^2)*l1)";
+    const wide =
+      "(-2*m2*l1*sin(q1 - q2)*cos(q1 - q2)*q1'^2 - 2*m2*l2*sin(q1 - q2)*q2'^2 - (2*m1 + m2)*g*sin(q1) - m2*g*sin(q1 - 2*q2))/(2*(m1 + m2*sin(q1 - q2)^2)*l1)";
     expect(quotientLatex(parseExpression(wide))).toMatch(/^\\frac\{1\}\{2\\,\\left\(m_\{1\} \+ .*\\,\\allowbreak\\Bigl\(-2\\,m_\{2\}.*\\Bigr\)$/);
     expect(quotientLatex(parseExpression("(a + b + c + d + e)/m"))).toBe("\\frac{a + b + c + d + e}{m}");
     expect(quotientLatex(parseExpression("(a + b)/m"))).toBe("\\frac{a + b}{m}");

@@ -13,7 +13,7 @@ const cartSpring = {
 };
 
 describe("derivationReport", () => {
-  it("reports the CLI's keys, LaTeX without the \"= 0\", and the conserved energy function", () => {
+  it('reports the CLI\'s keys, LaTeX without the "= 0", and the conserved energy function', () => {
     const report = derivationReport(cartSpring);
     expect(Object.keys(report).sort()).toEqual(["conserved", "coordinates", "energy", "equations", "forcing", "massMatrix", "timingMs"]);
     // Undamped mass–spring: M x'' + k x = 0 (fact of the trade).

@@ -19,7 +19,10 @@ function modelError(run: () => void): ModelError {
 // Cartesian construction the engine sees in practice.
 const trolley = (): Model => ({
   title: "Gantry trolley with hanging load",
-  coordinates: [{ name: "x", unit: "m" }, { name: "theta", unit: "rad" }],
+  coordinates: [
+    { name: "x", unit: "m" },
+    { name: "theta", unit: "rad" },
+  ],
   parameters: [
     { name: "M", unit: "kg", value: 120 },
     { name: "m", unit: "kg", value: 800 },
@@ -29,7 +32,10 @@ const trolley = (): Model => ({
     { name: "ct", unit: "N*m*s/rad", value: 5 },
     { name: "w", unit: "rad/s", value: 2 },
   ],
-  inputs: [{ name: "F", unit: "N" }, { name: "tau", unit: "N*m" }],
+  inputs: [
+    { name: "F", unit: "N" },
+    { name: "tau", unit: "N*m" },
+  ],
   definitions: [
     { name: "xl", expr: "x + l*sin(theta)" },
     { name: "yl", expr: "-l*cos(theta)" },
@@ -134,7 +140,10 @@ describe("checkModelUnits", () => {
     // ½·kc·x is a force (N) where the potential needs J; ½·k·(r − r0)² is an energy and stays unmarked.
     const model: Model = {
       title: "Sprung carriage with a preloaded buffer",
-      coordinates: [{ name: "x", unit: "m" }, { name: "r", unit: "m" }],
+      coordinates: [
+        { name: "x", unit: "m" },
+        { name: "r", unit: "m" },
+      ],
       parameters: [
         { name: "m", unit: "kg", value: 40 },
         { name: "kc", unit: "N/m", value: 900 },
@@ -149,7 +158,13 @@ describe("checkModelUnits", () => {
     expect([error.column, error.length]).toEqual([1, 8]);
     expect(error.message).toBe('the term "1/2*kc*x" of the potential energy has unit kg*m/s^2 (N) but must have kg*m^2/s^2 (J)');
     // What the potential cell's editor underlines.
-    const doc = modelToDocument(model, (() => { let n = 0; return () => `c${++n}`; })());
+    const doc = modelToDocument(
+      model,
+      (() => {
+        let n = 0;
+        return () => `c${++n}`;
+      })(),
+    );
     const { byCell } = locateDiagnostics(doc, [error.toJSON()], model);
     const [located] = [...byCell.values()][0]!;
     const range = toEditorDiagnostic(located!, model.potential);

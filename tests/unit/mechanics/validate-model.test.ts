@@ -59,7 +59,13 @@ describe("validateModel", () => {
   });
 
   it("reports an unknown symbol with its column", () => {
-    const e = errorOf({ ...base(), definitions: [{ name: "xl", expr: "x + l*sin(phi)" }, { name: "yl", expr: "-l2*cos(phi)" }] });
+    const e = errorOf({
+      ...base(),
+      definitions: [
+        { name: "xl", expr: "x + l*sin(phi)" },
+        { name: "yl", expr: "-l2*cos(phi)" },
+      ],
+    });
     expect([e.code, e.field, e.column, e.length]).toEqual(["unknown_symbol", "definitions[1].expr", 2, 2]);
   });
 
@@ -85,12 +91,23 @@ describe("validateModel", () => {
   });
 
   it("orders definitions that refer to later ones", () => {
-    const analysis = analyzeModel({ ...base(), definitions: [{ name: "a", expr: "b + x" }, { name: "b", expr: "l*phi" }], kinetic: "1/2*m*a'^2", potential: "m*g*l*cos(phi)" });
+    const analysis = analyzeModel({
+      ...base(),
+      definitions: [
+        { name: "a", expr: "b + x" },
+        { name: "b", expr: "l*phi" },
+      ],
+      kinetic: "1/2*m*a'^2",
+      potential: "m*g*l*cos(phi)",
+    });
     expect(analysis.definitionOrder).toEqual([1, 0]);
   });
 
   it("refuses duplicate and reserved names", () => {
-    expect(errorOf({ ...base(), parameters: [...base().parameters, { name: "x", unit: "m" }] })).toMatchObject({ code: "duplicate_name", field: "parameters[4].name" });
+    expect(errorOf({ ...base(), parameters: [...base().parameters, { name: "x", unit: "m" }] })).toMatchObject({
+      code: "duplicate_name",
+      field: "parameters[4].name",
+    });
     expect(errorOf({ ...base(), parameters: [{ name: "t", unit: "s" }] })).toMatchObject({ code: "reserved_name", field: "parameters[0].name" });
     expect(errorOf({ ...base(), definitions: [{ name: "sin", expr: "x" }] })).toMatchObject({ code: "reserved_name" });
   });
@@ -98,9 +115,11 @@ describe("validateModel", () => {
   it("refuses forces on unknown coordinates and accelerations in the energies", () => {
     expect(errorOf({ ...base(), forces: { y: "F" } })).toMatchObject({ code: "unknown_symbol", field: "forces.y" });
     expect(errorOf({ ...base(), kinetic: "1/2*M*x'^2 + M*x*x''" })).toMatchObject({ code: "unsupported", field: "kinetic", column: 18 });
-    expect(
-      errorOf({ ...base(), definitions: [...base().definitions!, { name: "v", expr: "l*phi'" }], potential: "m*g*yl + m*l*v'" }),
-    ).toMatchObject({ code: "unsupported", field: "potential", column: 14 });
+    expect(errorOf({ ...base(), definitions: [...base().definitions!, { name: "v", expr: "l*phi'" }], potential: "m*g*yl + m*l*v'" })).toMatchObject({
+      code: "unsupported",
+      field: "potential",
+      column: 14,
+    });
   });
 
   it("refuses oversized models before parsing their expressions", () => {

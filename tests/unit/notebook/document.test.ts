@@ -168,7 +168,9 @@ describe("cell operations", () => {
     let doc = addCell(base(), createCell("simulation", "sim"));
     expect(doc.cells.find((c) => c.id === "sim")).toMatchObject({ settings: DEFAULT_SIMULATION_SETTINGS });
     doc = updateSettings(doc, "sim", { endTime: "4", initialCoordinates: { theta: "0.2" } });
-    expect(doc.cells.find((c) => c.id === "sim")).toMatchObject({ settings: { ...DEFAULT_SIMULATION_SETTINGS, endTime: "4", initialCoordinates: { theta: "0.2" } } });
+    expect(doc.cells.find((c) => c.id === "sim")).toMatchObject({
+      settings: { ...DEFAULT_SIMULATION_SETTINGS, endTime: "4", initialCoordinates: { theta: "0.2" } },
+    });
     expect(() => updateSettings(doc, "sim", { endTime: 4 })).toThrow(DocumentError);
     expect(() => updateSettings(doc, "sim", { solver: "rk4" })).toThrow(DocumentError);
     // The defaults object is never shared with a cell.
@@ -224,7 +226,13 @@ describe("model round trip", () => {
   });
 
   it("round-trips the smallest model, leaving absent optional fields absent", () => {
-    const minimal: Model = { title: "Mass on a spring", coordinates: [{ name: "x", unit: "m" }], parameters: [], kinetic: "1/2*m*x'^2", potential: "1/2*k*x^2" };
+    const minimal: Model = {
+      title: "Mass on a spring",
+      coordinates: [{ name: "x", unit: "m" }],
+      parameters: [],
+      kinetic: "1/2*m*x'^2",
+      potential: "1/2*k*x^2",
+    };
     const doc = modelToDocument(minimal, counter());
     expect(documentToModel(doc)).toEqual(minimal);
     expect(Object.keys(documentToModel(doc))).toEqual(["title", "coordinates", "parameters", "kinetic", "potential"]);

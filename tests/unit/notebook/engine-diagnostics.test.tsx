@@ -58,7 +58,9 @@ describe("engine diagnostics in the notebook", () => {
     const cell = screen.getByTestId(`cell-${kinetic.id}`);
     await waitFor(() => expect(cell.querySelector(".cm-lintRange-error")).not.toBeNull());
     // The engine points at the offending term by column and length.
-    expect(cell.querySelector(".cm-lintRange-error")!.textContent).toBe(evaluated.kinetic.slice(diagnostics[0]!.column! - 1, diagnostics[0]!.column! - 1 + diagnostics[0]!.length));
+    expect(cell.querySelector(".cm-lintRange-error")!.textContent).toBe(
+      evaluated.kinetic.slice(diagnostics[0]!.column! - 1, diagnostics[0]!.column! - 1 + diagnostics[0]!.length),
+    );
     expect(within(cell).getByText(diagnostics[0]!.message)).toBeTruthy();
 
     const edited = setExpression(doc, kinetic.id, "1/2*M*x'^2 + 1/2*m*(xL'^2 + yL'^2)");

@@ -28,7 +28,11 @@ async function viewOf(label: string): Promise<EditorView> {
 /** Types text at the end of the editor the way keyboard input reaches CodeMirror. */
 function typeAtEnd(view: EditorView, text: string) {
   act(() => {
-    view.dispatch({ changes: { from: view.state.doc.length, insert: text }, selection: { anchor: view.state.doc.length + text.length }, userEvent: "input.type" });
+    view.dispatch({
+      changes: { from: view.state.doc.length, insert: text },
+      selection: { anchor: view.state.doc.length + text.length },
+      userEvent: "input.type",
+    });
   });
 }
 
@@ -176,7 +180,18 @@ describe("completion and local checks", () => {
     const result = symbolCompletionSource(new CompletionContext(view.state, 2, false));
     expect(result?.from).toBe(0);
     const labels = result!.options.map((o) => `${o.label}:${o.detail}`);
-    expect(labels).toEqual(expect.arrayContaining(["theta:coordinate", "theta':rate", "theta'':acceleration", "y':rate of definition", "m:parameter", "u:input", "sin:function", "t:time"]));
+    expect(labels).toEqual(
+      expect.arrayContaining([
+        "theta:coordinate",
+        "theta':rate",
+        "theta'':acceleration",
+        "y':rate of definition",
+        "m:parameter",
+        "u:input",
+        "sin:function",
+        "t:time",
+      ]),
+    );
   });
 
   it("finds nothing wrong with a valid expression and allows blank only when told", () => {
@@ -190,7 +205,17 @@ describe("off-screen editors", () => {
   it("show plain text until focused, then build the editor with the cursor at the end", async () => {
     // An observer that never reports the element on screen, as for an editor far down the page.
     const observe = vi.fn();
-    vi.stubGlobal("IntersectionObserver", class { observe = observe; disconnect() {} unobserve() {} takeRecords() { return []; } });
+    vi.stubGlobal(
+      "IntersectionObserver",
+      class {
+        observe = observe;
+        disconnect() {}
+        unobserve() {}
+        takeRecords() {
+          return [];
+        }
+      },
+    );
     try {
       const onChange = vi.fn();
       const { container } = render(<ExpressionEditor label="V" value="m*g*y" onChange={onChange} />);

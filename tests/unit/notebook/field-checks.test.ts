@@ -42,11 +42,25 @@ describe("parameter values and names", () => {
   });
 
   it("finds names used twice across grids", () => {
-    let doc = blankDocument("d", (() => { let n = 0; return () => `c${++n}`; })());
+    let doc = blankDocument(
+      "d",
+      (() => {
+        let n = 0;
+        return () => `c${++n}`;
+      })(),
+    );
     doc = addRow(doc, "c1", { id: "a", name: "x", unit: "m", description: "" });
     doc = addRow(doc, "c2", { id: "b", name: "x", unit: "kg", value: "", description: "" });
     doc = addRow(doc, "c2", { id: "c", name: "m", unit: "kg", value: "", description: "" });
-    expect([...duplicateNames(doc)]).toEqual([["x", [{ cellId: "c1", rowId: "a", kind: "coordinates" }, { cellId: "c2", rowId: "b", kind: "parameters" }]]]);
+    expect([...duplicateNames(doc)]).toEqual([
+      [
+        "x",
+        [
+          { cellId: "c1", rowId: "a", kind: "coordinates" },
+          { cellId: "c2", rowId: "b", kind: "parameters" },
+        ],
+      ],
+    ]);
   });
 });
 

@@ -50,7 +50,9 @@ describe("equations cell", () => {
 
   it("renders the long equations of a 5-link chain without a KaTeX error", async () => {
     const derived = printDerivation(deriveModel(templateModel("n-link-chain", { links: 5 })));
-    const chain: NotebookResults = { equations: derived.equations.map((e) => ({ coordinate: e.coordinate, residual: e.residual, latex: `${e.termLatex} = 0` })) };
+    const chain: NotebookResults = {
+      equations: derived.equations.map((e) => ({ coordinate: e.coordinate, residual: e.residual, latex: `${e.termLatex} = 0` })),
+    };
     const { container } = render(<EquationsCellView cell={cell} results={chain} onOperation={() => {}} />);
     await typeset(container);
     expect(container.querySelectorAll(".katex-error")).toHaveLength(0);
@@ -74,7 +76,9 @@ describe("equations cell", () => {
   it("highlights a term on hover and reports it; selects it on Enter", async () => {
     const onTermFocus = vi.fn();
     const onTermSelect = vi.fn();
-    const { container } = render(<EquationsCellView cell={cell} results={results} onOperation={() => {}} onTermFocus={onTermFocus} onTermSelect={onTermSelect} />);
+    const { container } = render(
+      <EquationsCellView cell={cell} results={results} onOperation={() => {}} onTermFocus={onTermFocus} onTermSelect={onTermSelect} />,
+    );
     await typeset(container);
     const term = container.querySelector<HTMLElement>(`[data-term="${gravityTerm}"]`)!;
     fireEvent.mouseOver(term.querySelector(".mord") ?? term);
@@ -109,7 +113,13 @@ describe("equations cell", () => {
 });
 
 describe("stale results in the notebook", () => {
-  const doc = modelToDocument(templateModel("single-pendulum"), (() => { let n = 0; return () => `c${++n}`; })());
+  const doc = modelToDocument(
+    templateModel("single-pendulum"),
+    (() => {
+      let n = 0;
+      return () => `c${++n}`;
+    })(),
+  );
 
   it("keeps the last results visible and marks generated cells stale, not source cells", async () => {
     const { rerender } = render(<Notebook document={doc} onChange={() => {}} results={results} />);

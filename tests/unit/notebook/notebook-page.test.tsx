@@ -73,7 +73,7 @@ describe("NotebookPage", () => {
             body: {
               error: {
                 code: "unprocessable:model",
-                message: "potential, column 5: unknown symbol \"q\"",
+                message: 'potential, column 5: unknown symbol "q"',
                 details: { diagnostics: [{ code: "unknown-symbol", field: "potential", column: 5, length: 1, message: 'unknown symbol "q"' }] },
               },
             },
@@ -82,7 +82,7 @@ describe("NotebookPage", () => {
     );
     renderPage(props());
     const errors = await screen.findByTestId("evaluation-errors");
-    expect(errors.textContent).toContain("Potential energy, column 5: unknown symbol \"q\"");
+    expect(errors.textContent).toContain('Potential energy, column 5: unknown symbol "q"');
     expect(screen.getByTestId("evaluation-status").dataset.state).toBe("failed");
     // The evaluated document is the page's own (unsaved edits included).
     const evaluate = requests.find((r) => r.url.endsWith("/evaluate"));

@@ -63,7 +63,18 @@ describe("Notebook", () => {
     const handle = within(screen.getByTestId("cell-c1")).getByTestId("drag-handle");
     const target = screen.getByTestId("cell-c4");
     target.getBoundingClientRect = () => ({ top: 100, height: 40, bottom: 140, left: 0, right: 100, width: 100, x: 0, y: 100, toJSON: () => ({}) });
-    const dataTransfer = { data: {} as Record<string, string>, types: ["text/plain"], setData(type: string, value: string) { this.data[type] = value; }, getData(type: string) { return this.data[type] ?? ""; }, effectAllowed: "", dropEffect: "" };
+    const dataTransfer = {
+      data: {} as Record<string, string>,
+      types: ["text/plain"],
+      setData(type: string, value: string) {
+        this.data[type] = value;
+      },
+      getData(type: string) {
+        return this.data[type] ?? "";
+      },
+      effectAllowed: "",
+      dropEffect: "",
+    };
     fireEvent.dragStart(handle, { dataTransfer });
     fireEvent.dragOver(target, { dataTransfer, clientY: 135 });
     expect(target.classList.contains("hn-drop-after")).toBe(true);
@@ -150,7 +161,8 @@ describe("note cell", () => {
   it("renders Markdown with math and strips anything executable", async () => {
     const cell = {
       ...createCell("note", "n"),
-      markdown: "**Sway** at $\\omega = \\sqrt{g/l}$.\n\n$$T = \\tfrac12 m l^2 \\dot\\theta^2$$\n\n<script>window.bad = 1</script><img src=x onerror=\"window.bad=1\"> [x](javascript:alert(1))",
+      markdown:
+        '**Sway** at $\\omega = \\sqrt{g/l}$.\n\n$$T = \\tfrac12 m l^2 \\dot\\theta^2$$\n\n<script>window.bad = 1</script><img src=x onerror="window.bad=1"> [x](javascript:alert(1))',
     };
     render(<NoteCellEditor cell={cell} onOperation={() => {}} />);
     const rendered = await screen.findByTestId("note-rendered");

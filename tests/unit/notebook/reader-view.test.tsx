@@ -24,7 +24,8 @@ function pendulumDocument({ simulation = false }: { simulation?: boolean } = {})
   let n = 0;
   const doc = modelToDocument(templateModel("single-pendulum"), () => `c${(n += 1)}`);
   const cells = [...doc.cells, createCell("linearization", "lin"), { ...createCell("code-export", "code"), settings: { language: "python" as const } }];
-  if (simulation) cells.push({ ...createCell("simulation", "sim"), settings: { ...DEFAULT_SIMULATION_SETTINGS, initialCoordinates: { theta: "0.1" }, endTime: "5" } });
+  if (simulation)
+    cells.push({ ...createCell("simulation", "sim"), settings: { ...DEFAULT_SIMULATION_SETTINGS, initialCoordinates: { theta: "0.1" }, endTime: "5" } });
   return { ...doc, cells };
 }
 
@@ -41,16 +42,29 @@ const linearizationAbout = (index: number, stable: boolean) => ({
     index,
     stateNames: ["theta", "theta'"],
     inputNames: [],
-    A: [[0, 1], [stable ? -2.8 : 2.8, 0]],
+    A: [
+      [0, 1],
+      [stable ? -2.8 : 2.8, 0],
+    ],
     B: [[], []],
     modes: [
       stable
         ? { kind: "oscillating" as const, hertz: Math.sqrt(2.8) / (2 * Math.PI), growthRate: null, shape: [1], eigenvalue: { re: 0, im: Math.sqrt(2.8) } }
         : { kind: "divergent" as const, hertz: null, growthRate: Math.sqrt(2.8), shape: [1], eigenvalue: null },
     ],
-    eigenvalues: stable ? [{ re: 0, im: Math.sqrt(2.8) }, { re: 0, im: -Math.sqrt(2.8) }] : [{ re: Math.sqrt(2.8), im: 0 }, { re: -Math.sqrt(2.8), im: 0 }],
+    eigenvalues: stable
+      ? [
+          { re: 0, im: Math.sqrt(2.8) },
+          { re: 0, im: -Math.sqrt(2.8) },
+        ]
+      : [
+          { re: Math.sqrt(2.8), im: 0 },
+          { re: -Math.sqrt(2.8), im: 0 },
+        ],
     stability: stable ? ("stable" as const) : ("unstable" as const),
-    stabilityReason: stable ? "every eigenvalue is simple and on the imaginary axis, with positive definite stiffness" : "an eigenvalue has a positive real part",
+    stabilityReason: stable
+      ? "every eigenvalue is simple and on the imaginary axis, with positive definite stiffness"
+      : "an eigenvalue has a positive real part",
   },
 });
 const results: NotebookResults = {
@@ -72,14 +86,30 @@ function stubServer() {
       requests.push({ method, url, body });
       let answer: unknown = {};
       if (url.endsWith("/evaluate")) answer = { cached: true, modelHash: "h", result: results, timings: {}, requestMs: 3, evaluatedAt: UPDATED };
-      else if (url.endsWith("/linearize")) answer = { cached: false, linearization: linearizationAbout(Number(body?.equilibriumIndex), Number(body?.equilibriumIndex) === 0), equilibria: [] };
+      else if (url.endsWith("/linearize"))
+        answer = { cached: false, linearization: linearizationAbout(Number(body?.equilibriumIndex), Number(body?.equilibriumIndex) === 0), equilibria: [] };
       else if (url.endsWith("/code")) answer = { language: body?.language, filename: "hook_block.c", source: "/* C source of the hook block */" };
       else if (url.endsWith("/view-preferences")) answer = { preferences: body?.preferences, updatedAt: UPDATED };
       else if (url.endsWith("/runs") && method === "GET") answer = { runs: [] };
-      else if (url.endsWith("/runs")) answer = { run: { id: "r1", settings: body, status: "completed", createdAt: UPDATED, createdBy: { id: "u", name: "Priya" }, pointCount: 2, timeReached: 5, energyDrift: null } };
+      else if (url.endsWith("/runs"))
+        answer = {
+          run: {
+            id: "r1",
+            settings: body,
+            status: "completed",
+            createdAt: UPDATED,
+            createdBy: { id: "u", name: "Priya" },
+            pointCount: 2,
+            timeReached: 5,
+            energyDrift: null,
+          },
+        };
       else if (url.endsWith("/files")) answer = { files: [] };
       else if (url.endsWith("/content")) answer = { updatedAt: UPDATED };
-      return new Response(JSON.stringify(answer), { status: method === "POST" && url.endsWith("/runs") ? 201 : 200, headers: { "content-type": "application/json" } });
+      return new Response(JSON.stringify(answer), {
+        status: method === "POST" && url.endsWith("/runs") ? 201 : 200,
+        headers: { "content-type": "application/json" },
+      });
     }),
   );
 }
@@ -119,7 +149,8 @@ function documentWrites() {
   return requests.filter((r) => r.url.endsWith("/content") || (r.method === "PATCH" && r.url.endsWith("/d1")));
 }
 const evaluations = () => requests.filter((r) => r.url.endsWith("/evaluate"));
-const lastStoredView = () => requests.filter((r) => r.method === "PUT" && r.url.endsWith("/view-preferences")).at(-1)?.body as { preferences: ViewPreferences } | undefined;
+const lastStoredView = () =>
+  requests.filter((r) => r.method === "PUT" && r.url.endsWith("/view-preferences")).at(-1)?.body as { preferences: ViewPreferences } | undefined;
 
 beforeEach(() => {
   requests.length = 0;
@@ -217,11 +248,17 @@ describe("a reader's own simulation", () => {
     fireEvent.change(start, { target: { value: "0.4" } });
     fireEvent.change(screen.getByLabelText("l"), { target: { value: "5" } });
     expect(start.value).toBe("0.4");
-    await waitFor(() => expect(lastStoredView()?.preferences.cells.sim?.simulation).toEqual({ initialCoordinates: { theta: "0.4" }, parameterOverrides: { l: "5" } }));
+    await waitFor(() =>
+      expect(lastStoredView()?.preferences.cells.sim?.simulation).toEqual({ initialCoordinates: { theta: "0.4" }, parameterOverrides: { l: "5" } }),
+    );
 
     fireEvent.click(screen.getByRole("button", { name: "Run on server and save" }));
     await waitFor(() => expect(requests.some((r) => r.method === "POST" && r.url.endsWith("/runs"))).toBe(true));
-    expect(requests.find((r) => r.method === "POST" && r.url.endsWith("/runs"))!.body).toMatchObject({ initialCoordinates: { theta: 0.4 }, parameters: { l: 5 }, endTime: 5 });
+    expect(requests.find((r) => r.method === "POST" && r.url.endsWith("/runs"))!.body).toMatchObject({
+      initialCoordinates: { theta: 0.4 },
+      parameters: { l: 5 },
+      endTime: 5,
+    });
     expect(documentWrites()).toEqual([]);
     expect(evaluations()).toHaveLength(1);
   });

@@ -3,7 +3,15 @@ import { afterEach, describe, expect, it, vi } from "vitest";
 import { configure, cleanup, fireEvent, render, screen, waitFor, within } from "@testing-library/react";
 import { useState } from "react";
 import { TableCellEditor } from "@/components/notebook/table-cell";
-import { DOCUMENT_SCHEMA_VERSION, applyOperation, documentSymbols, type DerivationDocument, type DocumentOperation, type ParametersCell, type TableCell } from "@/lib/notebook/document";
+import {
+  DOCUMENT_SCHEMA_VERSION,
+  applyOperation,
+  documentSymbols,
+  type DerivationDocument,
+  type DocumentOperation,
+  type ParametersCell,
+  type TableCell,
+} from "@/lib/notebook/document";
 import { duplicateNames } from "@/lib/notebook/field-checks";
 import { locateDiagnostics } from "@/lib/notebook/results";
 
@@ -99,7 +107,9 @@ describe("parameter grid", () => {
 
   it("places an evaluator unit diagnostic on its row and column", () => {
     const doc: DerivationDocument = { schemaVersion: DOCUMENT_SCHEMA_VERSION, title: "t", cells: [parameters] };
-    const { byCell } = locateDiagnostics(doc, [{ code: "unit", field: "parameters[1].unit", column: null, length: 1, message: "unit of g must be an acceleration" }]);
+    const { byCell } = locateDiagnostics(doc, [
+      { code: "unit", field: "parameters[1].unit", column: null, length: 1, message: "unit of g must be an acceleration" },
+    ]);
     render(<TableCellEditor cell={parameters} symbols={documentSymbols(doc)} diagnostics={byCell.get("p")} newId={() => "x"} onOperation={() => {}} />);
     const row = screen.getByRole("textbox", { name: "Unit, parameter 2" }).closest("tr")!;
     expect(within(row).getByText("unit of g must be an acceleration")).toBeTruthy();

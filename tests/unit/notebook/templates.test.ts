@@ -21,7 +21,13 @@ const everyTemplate = [...TEMPLATES.filter((t) => !t.size).map((t) => t.build())
 
 describe("templates", () => {
   it.each(everyTemplate.map((model) => [model.title, model] as const))("%s parses, uses only its own symbols and valid units", (_title, model) => {
-    const known = new Set(["t", ...model.coordinates.map((c) => c.name), ...model.parameters.map((p) => p.name), ...(model.inputs ?? []).map((u) => u.name), ...(model.definitions ?? []).map((d) => d.name)]);
+    const known = new Set([
+      "t",
+      ...model.coordinates.map((c) => c.name),
+      ...model.parameters.map((p) => p.name),
+      ...(model.inputs ?? []).map((u) => u.name),
+      ...(model.definitions ?? []).map((d) => d.name),
+    ]);
     for (const [, text] of expressions(model)) {
       for (const name of symbolsOf(parseExpression(text)).keys()) expect(known, `${name} in ${text}`).toContain(name);
     }

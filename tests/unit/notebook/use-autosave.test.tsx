@@ -16,7 +16,16 @@ function ids() {
 function setup(save: SaveFunction, initial: DerivationDocument) {
   return renderHook(
     ({ document }: { document: DerivationDocument }) =>
-      useAutosave({ derivationId: ID, document, initialUpdatedAt: T0, enabled: true, save, debounceMs: 500, retryDelaysMs: [1_000, 3_000], storage: window.localStorage }),
+      useAutosave({
+        derivationId: ID,
+        document,
+        initialUpdatedAt: T0,
+        enabled: true,
+        save,
+        debounceMs: 500,
+        retryDelaysMs: [1_000, 3_000],
+        storage: window.localStorage,
+      }),
     { initialProps: { document: initial } },
   );
 }
@@ -165,7 +174,8 @@ describe("useAutosave", () => {
     const initial = blankDocument("Read only", ids());
     const save = vi.fn<SaveFunction>();
     const { result, rerender } = renderHook(
-      ({ document }: { document: DerivationDocument }) => useAutosave({ derivationId: ID, document, initialUpdatedAt: T0, enabled: false, save, debounceMs: 100, storage: window.localStorage }),
+      ({ document }: { document: DerivationDocument }) =>
+        useAutosave({ derivationId: ID, document, initialUpdatedAt: T0, enabled: false, save, debounceMs: 100, storage: window.localStorage }),
       { initialProps: { document: initial } },
     );
     rerender({ document: setTitle(initial, "Changed") });
@@ -181,7 +191,11 @@ describe("useAutosave", () => {
     const olderDraft = { schemaVersion: 1, title: "Hoist", cells: [{ id: "s", collapsed: false, kind: "simulation", settings: { endTime: "3" } }] };
     window.localStorage.setItem(draftKey(ID), JSON.stringify({ document: olderDraft, baseUpdatedAt: T0, writtenAt: T0 }));
     expect(readDraft(window.localStorage, ID)).toEqual({
-      document: { schemaVersion: DOCUMENT_SCHEMA_VERSION, title: "Hoist", cells: [{ id: "s", collapsed: false, kind: "simulation", settings: { ...DEFAULT_SIMULATION_SETTINGS, endTime: "3" } }] },
+      document: {
+        schemaVersion: DOCUMENT_SCHEMA_VERSION,
+        title: "Hoist",
+        cells: [{ id: "s", collapsed: false, kind: "simulation", settings: { ...DEFAULT_SIMULATION_SETTINGS, endTime: "3" } }],
+      },
       baseUpdatedAt: T0,
       writtenAt: T0,
     });

@@ -25,7 +25,11 @@ describe("view preferences", () => {
   it("lays simulation settings over the cell's only for a person who keeps their own", () => {
     const mine = setViewChoice(EMPTY_VIEW_PREFERENCES, "sim", { simulation: { initialCoordinates: { theta: "0.4" } } });
     expect(personalCell(simulation, mine).settings).toEqual(simulation.settings);
-    expect(personalCell(simulation, mine, { ownSimulation: true }).settings).toEqual({ ...DEFAULT_SIMULATION_SETTINGS, endTime: "5", initialCoordinates: { theta: "0.4" } });
+    expect(personalCell(simulation, mine, { ownSimulation: true }).settings).toEqual({
+      ...DEFAULT_SIMULATION_SETTINGS,
+      endTime: "5",
+      initialCoordinates: { theta: "0.4" },
+    });
   });
 
   it("reads what it cannot use as no choices at all", () => {

@@ -19,8 +19,26 @@ beforeEach(() => {
   posts.length = 0;
   router.push.mockReset();
   items = [
-    { id: ID, kind: "review_request", text: 'asked you to review revision 2 of "Hoist drum"', derivationId: DERIVATION, derivationTitle: "Hoist drum", actorName: "Tomas Reyes", readAt: null, createdAt: "2030-05-12T14:02:00.000Z" },
-    { id: "33333333-3333-4333-8333-333333333333", kind: "approved", text: 'approved revision 1 of "Seat rig"', derivationId: null, derivationTitle: null, actorName: "Ines Marlow", readAt: "2030-05-11T10:00:00.000Z", createdAt: "2030-05-11T09:00:00.000Z" },
+    {
+      id: ID,
+      kind: "review_request",
+      text: 'asked you to review revision 2 of "Hoist drum"',
+      derivationId: DERIVATION,
+      derivationTitle: "Hoist drum",
+      actorName: "Tomas Reyes",
+      readAt: null,
+      createdAt: "2030-05-12T14:02:00.000Z",
+    },
+    {
+      id: "33333333-3333-4333-8333-333333333333",
+      kind: "approved",
+      text: 'approved revision 1 of "Seat rig"',
+      derivationId: null,
+      derivationTitle: null,
+      actorName: "Ines Marlow",
+      readAt: "2030-05-11T10:00:00.000Z",
+      createdAt: "2030-05-11T09:00:00.000Z",
+    },
   ];
   vi.stubGlobal(
     "fetch",

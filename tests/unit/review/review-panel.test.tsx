@@ -112,14 +112,26 @@ describe("review panel", () => {
 
     fireEvent.click(within(dialog).getByRole("checkbox", { name: /Priya Nandakumar/ }));
     fireEvent.change(within(dialog).getByLabelText("Message (optional)"), { target: { value: "Rope mass added." } });
-    answer = (method, url) => (url === "/api/derivations/d1" ? { status: 200, body: { derivation: { title: "t", content: {}, updatedAt: "2030-01-01T00:00:00.000Z" } } } : { status: 201, body: {} });
+    answer = (method, url) =>
+      url === "/api/derivations/d1"
+        ? { status: 200, body: { derivation: { title: "t", content: {}, updatedAt: "2030-01-01T00:00:00.000Z" } } }
+        : { status: 201, body: {} };
     fireEvent.click(within(dialog).getByRole("button", { name: "Send request" }));
     await waitFor(() => expect(router.refresh).toHaveBeenCalled());
     expect(requests[0]).toEqual({ method: "POST", url: "/api/derivations/d1/review", body: { reviewerIds: [REVIEWER], message: "Rope mass added." } });
   });
 
   it("shows the server's field error when someone asked may not review", async () => {
-    answer = () => ({ status: 400, body: { error: { code: "bad_request:validation", message: "Some fields need attention.", fieldErrors: { reviewerIds: ["Jonah Weller is a viewer; ask reviewers or leads."] } } } });
+    answer = () => ({
+      status: 400,
+      body: {
+        error: {
+          code: "bad_request:validation",
+          message: "Some fields need attention.",
+          fieldErrors: { reviewerIds: ["Jonah Weller is a viewer; ask reviewers or leads."] },
+        },
+      },
+    });
     renderPanel(data());
     fireEvent.click(screen.getByRole("button", { name: "Request review…" }));
     const dialog = screen.getByRole("dialog", { name: "Request review" });
@@ -140,7 +152,11 @@ describe("review panel", () => {
     fireEvent.change(within(dialog).getByLabelText("What needs to change"), { target: { value: "Add the rope's own mass." } });
     fireEvent.click(within(dialog).getByRole("button", { name: "Request changes" }));
     await waitFor(() => expect(router.refresh).toHaveBeenCalled());
-    expect(requests[0]).toEqual({ method: "POST", url: "/api/derivations/d1/review/decision", body: { decision: "changes_requested", comment: "Add the rope's own mass." } });
+    expect(requests[0]).toEqual({
+      method: "POST",
+      url: "/api/derivations/d1/review/decision",
+      body: { decision: "changes_requested", comment: "Add the rope's own mass." },
+    });
   });
 
   it("lists each reviewer's decision and comment", () => {
@@ -156,7 +172,13 @@ describe("review panel", () => {
   });
 
   it("refuses a lead's approval of their own changes, naming the reason", () => {
-    renderPanel(inReview({ myId: LEAD, latest: { id: "r2", number: 2, contentHash: HASH, authorIds: [LEAD], authorNames: ["Ines Marlow"] }, can: { requestReview: true, review: true, approve: true, unlock: false } }));
+    renderPanel(
+      inReview({
+        myId: LEAD,
+        latest: { id: "r2", number: 2, contentHash: HASH, authorIds: [LEAD], authorNames: ["Ines Marlow"] },
+        can: { requestReview: true, review: true, approve: true, unlock: false },
+      }),
+    );
     expect((screen.getByRole("button", { name: "Approve revision 2" }) as HTMLButtonElement).disabled).toBe(true);
     expect(text(screen.getByTestId("approve-blocker"))).toContain("You made changes in revision 2; a second person must approve them.");
   });
@@ -173,7 +195,12 @@ describe("review panel", () => {
     const dialog = screen.getByRole("dialog", { name: "Approve and lock" });
     expect(text(dialog)).toContain(HASH.slice(0, 12));
     answer = (method, url) =>
-      url.endsWith("/approve") ? { status: 409, body: { error: { code: "conflict:revision", message: "The derivation changed after revision 2. Review the current content before approving it." } } } : { status: 200, body: {} };
+      url.endsWith("/approve")
+        ? {
+            status: 409,
+            body: { error: { code: "conflict:revision", message: "The derivation changed after revision 2. Review the current content before approving it." } },
+          }
+        : { status: 200, body: {} };
     fireEvent.click(within(dialog).getByRole("button", { name: "Approve and lock revision 2" }));
     expect(text(await within(dialog).findByRole("alert"))).toContain("changed after revision 2");
     expect(requests[0]).toEqual({ method: "POST", url: "/api/derivations/d1/approve", body: { revisionId: "r2" } });

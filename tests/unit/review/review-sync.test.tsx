@@ -12,7 +12,13 @@ afterEach(() => {
 function serverAnswers(document: unknown, updatedAt: string) {
   vi.stubGlobal(
     "fetch",
-    vi.fn(async () => new Response(JSON.stringify({ derivation: { title: "Hoist", content: document, updatedAt } }), { status: 200, headers: { "content-type": "application/json" } })),
+    vi.fn(
+      async () =>
+        new Response(JSON.stringify({ derivation: { title: "Hoist", content: document, updatedAt } }), {
+          status: 200,
+          headers: { "content-type": "application/json" },
+        }),
+    ),
   );
 }
 

@@ -58,10 +58,15 @@ describe("the server's simulation worker", () => {
   }, 30_000);
 
   it("answers bad settings as a result naming the setting, and a bad model as the engine's typed error", async () => {
-    const bad = await pool.run<SimulateTaskOutput>("simulate", { model: pendulum, settings: { initialCoordinates: { theta: 0.2 }, endTime: -1, outputStep: 0.5 } });
+    const bad = await pool.run<SimulateTaskOutput>("simulate", {
+      model: pendulum,
+      settings: { initialCoordinates: { theta: 0.2 }, endTime: -1, outputStep: 0.5 },
+    });
     expect(bad.ok).toBe(false);
     if (!bad.ok) expect(bad.error.name).toBe("SimulationSetupError");
-    const broken = await pool.run("simulate", { model: { ...pendulum, potential: "-m*g*l*cos(theta" }, settings: { initialCoordinates: { theta: 0.2 }, endTime: 1, outputStep: 0.5 } }).catch((e: unknown) => e);
+    const broken = await pool
+      .run("simulate", { model: { ...pendulum, potential: "-m*g*l*cos(theta" }, settings: { initialCoordinates: { theta: 0.2 }, endTime: 1, outputStep: 0.5 } })
+      .catch((e: unknown) => e);
     expect(broken).toBeInstanceOf(ModelError);
     expect((broken as ModelError).field).toBe("potential");
   }, 30_000);

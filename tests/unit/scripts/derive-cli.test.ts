@@ -32,33 +32,43 @@ function withChange(change: (model: Record<string, unknown>) => void): string {
 }
 
 describe("derive CLI", () => {
-  it.each(readdirSync(examples).filter((f) => f.endsWith(".model.json")))("prints one JSON object of the contract's shape for %s", (name) => {
-    const { status, stdout, stderr } = runCli(path.join(examples, name));
-    expect(stderr).toBe("");
-    expect(status).toBe(0);
-    const output = JSON.parse(stdout);
-    expect(Object.keys(output).sort()).toEqual(["conserved", "coordinates", "energy", "equations", "forcing", "massMatrix", "timingMs"]);
-    const n = output.coordinates.length;
-    expect(output.equations).toHaveLength(n);
-    for (const e of output.equations) {
-      expect(Object.keys(e).sort()).toEqual(["coordinate", "latex", "residual"]);
-      expect(typeof e.residual).toBe("string");
-      expect(e.latex.length).toBeGreaterThan(0);
-    }
-    expect(output.massMatrix).toHaveLength(n);
-    for (const row of output.massMatrix) expect(row).toHaveLength(n);
-    expect(output.forcing).toHaveLength(n);
-    expect(typeof output.energy).toBe("string");
-    expect(Array.isArray(output.conserved)).toBe(true);
-    expect(output.timingMs).toBeGreaterThanOrEqual(0);
-  }, TIMEOUT);
+  it.each(readdirSync(examples).filter((f) => f.endsWith(".model.json")))(
+    "prints one JSON object of the contract's shape for %s",
+    (name) => {
+      const { status, stdout, stderr } = runCli(path.join(examples, name));
+      expect(stderr).toBe("");
+      expect(status).toBe(0);
+      const output = JSON.parse(stdout);
+      expect(Object.keys(output).sort()).toEqual(["conserved", "coordinates", "energy", "equations", "forcing", "massMatrix", "timingMs"]);
+      const n = output.coordinates.length;
+      expect(output.equations).toHaveLength(n);
+      for (const e of output.equations) {
+        expect(Object.keys(e).sort()).toEqual(["coordinate", "latex", "residual"]);
+        expect(typeof e.residual).toBe("string");
+        expect(e.latex.length).toBeGreaterThan(0);
+      }
+      expect(output.massMatrix).toHaveLength(n);
+      for (const row of output.massMatrix) expect(row).toHaveLength(n);
+      expect(output.forcing).toHaveLength(n);
+      expect(typeof output.energy).toBe("string");
+      expect(Array.isArray(output.conserved)).toBe(true);
+      expect(output.timingMs).toBeGreaterThanOrEqual(0);
+    },
+    TIMEOUT,
+  );
 
-  it("writes the double pendulum's equations in the compact textbook form", () => {
-    const output = JSON.parse(runCli(path.join(examples, "double-pendulum.model.json")).stdout);
-    // Taylor, Classical Mechanics (2005), ch. 11 (from memory), multiplied by m2*l2.
-    expect(output.equations[1].residual).toBe("m2*l1*l2*theta1''*cos(theta1 - theta2) + m2*l2^2*theta2'' - m2*l1*l2*theta1'^2*sin(theta1 - theta2) + m2*l2*g*sin(theta2)");
-    expect(output.conserved.map((c: { name: string }) => c.name)).toEqual(["energy function"]);
-  }, TIMEOUT);
+  it(
+    "writes the double pendulum's equations in the compact textbook form",
+    () => {
+      const output = JSON.parse(runCli(path.join(examples, "double-pendulum.model.json")).stdout);
+      // Taylor, Classical Mechanics (2005), ch. 11 (from memory), multiplied by m2*l2.
+      expect(output.equations[1].residual).toBe(
+        "m2*l1*l2*theta1''*cos(theta1 - theta2) + m2*l2^2*theta2'' - m2*l1*l2*theta1'^2*sin(theta1 - theta2) + m2*l2*g*sin(theta2)",
+      );
+      expect(output.conserved.map((c: { name: string }) => c.name)).toEqual(["energy function"]);
+    },
+    TIMEOUT,
+  );
 
   const invalid: [string, () => string, RegExp][] = [
     ["a parse error", () => withChange((m) => (m.kinetic = "1/2*M*x'^2 + ")), /^kinetic, column 14: /],
@@ -76,18 +86,26 @@ describe("derive CLI", () => {
     ],
     ["a unit mismatch", () => withChange((m) => (m.potential = "m*g*yl + M*x")), /^potential, column \d+: /],
     ["a rate of an input in a force", () => withChange((m) => (m.forces = { x: "F'" })), /^forces\.x, column 1: /],
-    ["malformed JSON", () => {
-      const file = path.join(scratch, "broken.model.json");
-      writeFileSync(file, '{"title": "x",\n  coordinates: []}');
-      return file;
-    }, /^model, line 2, column 3: not valid JSON/],
+    [
+      "malformed JSON",
+      () => {
+        const file = path.join(scratch, "broken.model.json");
+        writeFileSync(file, '{"title": "x",\n  coordinates: []}');
+        return file;
+      },
+      /^model, line 2, column 3: not valid JSON/,
+    ],
   ];
-  it.each(invalid)("exits with status 2 and one stderr line for %s", (_, make, pattern) => {
-    const { status, stdout, stderr } = runScript(make());
-    expect(status).toBe(2);
-    expect(stdout).toBe("");
-    const lines = stderr.split("\n").filter((l) => l !== "");
-    expect(lines).toHaveLength(1);
-    expect(lines[0]).toMatch(pattern);
-  }, TIMEOUT);
+  it.each(invalid)(
+    "exits with status 2 and one stderr line for %s",
+    (_, make, pattern) => {
+      const { status, stdout, stderr } = runScript(make());
+      expect(status).toBe(2);
+      expect(stdout).toBe("");
+      const lines = stderr.split("\n").filter((l) => l !== "");
+      expect(lines).toHaveLength(1);
+      expect(lines[0]).toMatch(pattern);
+    },
+    TIMEOUT,
+  );
 });

@@ -80,7 +80,9 @@ describe("small-oscillation check", () => {
     expect(report.amplitudeShift!).toBeCloseTo(-(amplitude ** 2) / 16, 6);
     expect(report.passed).toBe(true);
     expect(report.threshold!).toBeGreaterThan(report.relativeError!);
-    expect(explainSmallOscillation(report)).toMatch(/^They agree: the relative difference 1\.6e-4 is accounted for — the swing of amplitude 0\.05 shifts the frequency by -1\.6e-4/);
+    expect(explainSmallOscillation(report)).toMatch(
+      /^They agree: the relative difference 1\.6e-4 is accounted for — the swing of amplitude 0\.05 shifts the frequency by -1\.6e-4/,
+    );
   });
 
   it("flags a linearization off by 2.5e-4 at a small amplitude, and says what the difference means", () => {
@@ -100,7 +102,16 @@ describe("small-oscillation check", () => {
     // Seat rig of the demo: m = 95 kg, k = 42 kN/m, c = 1300 N·s/m, ζ = 0.33. Its free swing oscillates at
     // ω_d = ω√(1 − ζ²), with λ = −ζω ± iω_d (Thomson & Dahleh, Theory of Vibration with Applications, 5th ed., §2.6 — from memory).
     const [m, k, c] = [95, 42000, 1300];
-    const seat = systemFromMassMatrixForm({ coordinates: ["z"], parameters: [{ name: "m", value: m }, { name: "k", value: k }, { name: "c", value: c }], massMatrix: [["m"]], forcing: ["-k*z - c*z'"] });
+    const seat = systemFromMassMatrixForm({
+      coordinates: ["z"],
+      parameters: [
+        { name: "m", value: m },
+        { name: "k", value: k },
+        { name: "c", value: c },
+      ],
+      massMatrix: [["m"]],
+      forcing: ["-k*z - c*z'"],
+    });
     const omega = Math.sqrt(k / m);
     const decay = c / (2 * m);
     const damped = Math.sqrt(omega * omega - decay * decay);
@@ -116,7 +127,11 @@ describe("small-oscillation check", () => {
     expect(undamped.passed).toBe(false);
     expect(undamped.relativeError!).toBeCloseTo(1 - damped / omega, 6);
 
-    const loose = checkSmallOscillation(seat, { expectedFrequency: omega, eigenvalue: { re: -decay, im: damped }, settings: { relativeTolerance: 1e-6, absoluteTolerance: 1e-15 } });
+    const loose = checkSmallOscillation(seat, {
+      expectedFrequency: omega,
+      eigenvalue: { re: -decay, im: damped },
+      settings: { relativeTolerance: 1e-6, absoluteTolerance: 1e-15 },
+    });
     expect(loose.integrationAllowance).toBeCloseTo(INTEGRATION_ERROR_FACTOR * 1e-6, 12);
     expect(loose.passed).toBe(true);
   });

@@ -8,7 +8,13 @@ import { dampedOscillator, gaussian, seededRandom } from "./systems";
 
 /** The oscillator's free response from x0 = 0.1 m at rest, plus seeded noise. */
 function freeResponse(noise: number, seed: number, x0 = 0.1): MeasuredData {
-  const truth = integrate(dampedOscillator({ m: 2, c: 0.8, k: 50 }), { initialCoordinates: [x0], endTime: 4, outputStep: 0.02, relativeTolerance: 1e-11, absoluteTolerance: 1e-13 });
+  const truth = integrate(dampedOscillator({ m: 2, c: 0.8, k: 50 }), {
+    initialCoordinates: [x0],
+    endTime: 4,
+    outputStep: 0.02,
+    relativeTolerance: 1e-11,
+    absoluteTolerance: 1e-13,
+  });
   const normal = gaussian(seededRandom(seed));
   const values = truth.trajectory.coordinates[0]!.map((v) => v + noise * normal());
   return { times: truth.trajectory.times, timeUnit: "s", series: [{ coordinate: "x", unit: "m", targetUnit: "m", scale: 1, values }] };
@@ -80,7 +86,12 @@ describe("fit explanations", () => {
     expect(F0!.standardError).toBeNull();
     expect(F0!.value).toBe(3);
 
-    const only = fitParameters({ system: dampedOscillator({ m: 2, k: 50, c: 0.8 }), measured: freeResponse(1e-3, 5), parameters: [{ name: "F0", initial: 3 }], settings: { initialCoordinates: [0.1] } });
+    const only = fitParameters({
+      system: dampedOscillator({ m: 2, k: 50, c: 0.8 }),
+      measured: freeResponse(1e-3, 5),
+      parameters: [{ name: "F0", initial: 3 }],
+      settings: { initialCoordinates: [0.1] },
+    });
     expect(only.status).toBe("unchanged");
     expect(only.parameters[0]!.value).toBe(3);
     const report = explainFit(only, { coordinateUnits: { x: "m" } });
@@ -93,11 +104,18 @@ describe("fit explanations", () => {
 
   it("says which unmeasured coordinate a parameter acts on", () => {
     const truth = integrate(twoOscillators(), { initialCoordinates: [0.2, 0.1], endTime: 3, outputStep: 0.02, relativeTolerance: 1e-11 });
-    const measured: MeasuredData = { times: truth.trajectory.times, timeUnit: "s", series: [{ coordinate: "x", unit: "m", targetUnit: "m", scale: 1, values: truth.trajectory.coordinates[0]! }] };
+    const measured: MeasuredData = {
+      times: truth.trajectory.times,
+      timeUnit: "s",
+      series: [{ coordinate: "x", unit: "m", targetUnit: "m", scale: 1, values: truth.trajectory.coordinates[0]! }],
+    };
     const result = fitParameters({
       system: twoOscillators(),
       measured,
-      parameters: [{ name: "kx", initial: 36 }, { name: "ky", initial: 20 }],
+      parameters: [
+        { name: "kx", initial: 36 },
+        { name: "ky", initial: 20 },
+      ],
       settings: { initialCoordinates: [0.2, 0.1] },
     });
     expect(result.notIdentifiable).toEqual([{ kind: "no_effect", parameters: ["ky"], affectsUnmeasured: ["y"] }]);
@@ -123,7 +141,15 @@ describe("fit explanations", () => {
 
   it("gives the residual of each coordinate in its unit", () => {
     const report = explainFit(
-      { status: "converged", iterations: 7, simulations: 30, residualRms: 0.01, residualRmsByCoordinate: { x: 5.12e-4, theta: 0.0173 }, notIdentifiable: [], recordMoves: true },
+      {
+        status: "converged",
+        iterations: 7,
+        simulations: 30,
+        residualRms: 0.01,
+        residualRmsByCoordinate: { x: 5.12e-4, theta: 0.0173 },
+        notIdentifiable: [],
+        recordMoves: true,
+      },
       { coordinateUnits: { x: "m", theta: "rad" } },
     );
     expect(report.residuals.map((r) => r.text)).toEqual(["x: 5.12e-4 m RMS", "theta: 0.0173 rad RMS"]);

@@ -38,7 +38,10 @@ describe("parameter fit", () => {
     expect(Math.abs(c!.value - 0.8) / 0.8).toBeLessThan(0.03);
     expect(Math.abs(k!.value - 50) / 50).toBeLessThan(0.03);
     // … and within four standard errors, which must be small but not zero.
-    for (const [p, truth] of [[c!, 0.8], [k!, 50]] as const) {
+    for (const [p, truth] of [
+      [c!, 0.8],
+      [k!, 50],
+    ] as const) {
       expect(p.standardError).not.toBeNull();
       expect(p.standardError!).toBeGreaterThan(0);
       expect(p.standardError! / truth).toBeLessThan(0.02);
@@ -93,7 +96,10 @@ describe("parameter fit", () => {
     const capped = fitParameters({
       system: dampedOscillator({ m: 2 }),
       measured,
-      parameters: [{ name: "c", initial: 0.2 }, { name: "k", initial: 30 }],
+      parameters: [
+        { name: "c", initial: 0.2 },
+        { name: "k", initial: 30 },
+      ],
       settings: { initialCoordinates: [0.1] },
       maxIterations: 1,
     });
@@ -102,7 +108,10 @@ describe("parameter fit", () => {
     const timed = fitParameters({
       system: dampedOscillator({ m: 2 }),
       measured,
-      parameters: [{ name: "c", initial: 0.2 }, { name: "k", initial: 30 }],
+      parameters: [
+        { name: "c", initial: 0.2 },
+        { name: "k", initial: 30 },
+      ],
       settings: { initialCoordinates: [0.1] },
       timeLimitMs: 5,
     });
@@ -116,6 +125,8 @@ describe("parameter fit", () => {
     const measured = syntheticData(1e-3, 3);
     expect(() => fitParameters({ system: dampedOscillator(), measured, parameters: [{ name: "zeta" }] })).toThrow(FitError);
     const other: MeasuredData = { ...measured, series: [{ ...measured.series[0]!, coordinate: "y" }] };
-    expect(() => fitParameters({ system: dampedOscillator(), measured: other, parameters: [{ name: "c" }] })).toThrow(expect.objectContaining({ code: "no_data" }));
+    expect(() => fitParameters({ system: dampedOscillator(), measured: other, parameters: [{ name: "c" }] })).toThrow(
+      expect.objectContaining({ code: "no_data" }),
+    );
   });
 });

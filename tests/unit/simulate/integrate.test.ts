@@ -141,7 +141,19 @@ describe("integrate: published check values", () => {
     const l = 1;
     // Cross-check of the remembered values: eigenvalues of M⁻¹K of the linearized
     // system (M = l²[[2,1],[1,1]], K = g l [[2,0],[0,1]]) from ml-matrix.
-    const eig = new EigenvalueDecomposition(inverse(new Matrix([[2 * l * l, l * l], [l * l, l * l]])).mmul(new Matrix([[2 * g * l, 0], [0, g * l]])));
+    const eig = new EigenvalueDecomposition(
+      inverse(
+        new Matrix([
+          [2 * l * l, l * l],
+          [l * l, l * l],
+        ]),
+      ).mmul(
+        new Matrix([
+          [2 * g * l, 0],
+          [0, g * l],
+        ]),
+      ),
+    );
     const library = [...eig.realEigenvalues].sort((x, y) => x - y);
     const remembered = [(2 - Math.SQRT2) * (g / l), (2 + Math.SQRT2) * (g / l)];
     expect(library[0]).toBeCloseTo(remembered[0]!, 10);

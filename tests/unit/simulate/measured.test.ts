@@ -19,7 +19,9 @@ function failure(text: string, options: Partial<Parameters<typeof parseMeasuredC
 
 describe("measured data CSV", () => {
   it("reads a rig file with comments and converts deg, mm and ms to SI", () => {
-    const text = ["# Gimbal rig G-2, run 14", "", "t [ms], theta1 [deg], x [mm]", "0, 90, 5", "# operator note", "500, 45, 2.5", "1000, -180, 0", ""].join("\n");
+    const text = ["# Gimbal rig G-2, run 14", "", "t [ms], theta1 [deg], x [mm]", "0, 90, 5", "# operator note", "500, 45, 2.5", "1000, -180, 0", ""].join(
+      "\n",
+    );
     const data = parseMeasuredCsv(text, { coordinates });
     expect(Array.from(data.times)).toEqual([0, 0.5, 1]);
     expect(data.timeUnit).toBe("ms");
@@ -51,7 +53,11 @@ describe("measured data CSV", () => {
   it("names the line of a quote that is never closed, counting a quoted line break", () => {
     expect(failure('# rig, "log\nt [s],x [mm]\n0,1\n0.1,"2\n')).toMatchObject({ code: "syntax", line: 4, message: "a quoted cell is not closed" });
     // The energy column is checked for its unit and not read, so its quoted line break passes.
-    expect(failure('t [s],x [mm],energy [J]\n0,1,"9\n8"\n0.1,2"5,7\n')).toMatchObject({ code: "bad_cell", line: 4, message: 'the x cell "2"5" is not a number' });
+    expect(failure('t [s],x [mm],energy [J]\n0,1,"9\n8"\n0.1,2"5,7\n')).toMatchObject({
+      code: "bad_cell",
+      line: 4,
+      message: 'the x cell "2"5" is not a number',
+    });
   });
 
   it("converts to SI when the model gives no unit for a coordinate", () => {

@@ -12,7 +12,16 @@ const doublePendulumModel = chainModel({ links: 2, masses: [1.4, 0.7], lengths: 
 
 describe("system adapters", () => {
   it("lays out the packed variables as q, q', t, inputs, parameters", () => {
-    const system = systemFromMassMatrixForm({ coordinates: ["x", "y"], inputs: ["u"], parameters: [{ name: "k", value: 1 }], massMatrix: [["1", "0"], ["0", "1"]], forcing: ["u", "-k*y"] });
+    const system = systemFromMassMatrixForm({
+      coordinates: ["x", "y"],
+      inputs: ["u"],
+      parameters: [{ name: "k", value: 1 }],
+      massMatrix: [
+        ["1", "0"],
+        ["0", "1"],
+      ],
+      forcing: ["u", "-k*y"],
+    });
     expect(variableNames(system)).toEqual(["x", "y", "x'", "y'", "t", "u", "k"]);
     expect(layoutOf(system)).toMatchObject({ n: 2, m: 1, k: 1, rates: 2, time: 4, inputs: 5, parameters: 6, length: 7 });
   });
@@ -54,7 +63,15 @@ describe("system adapters", () => {
   it("names the field and column of an expression it cannot compile", () => {
     let caught: unknown;
     try {
-      systemFromMassMatrixForm({ coordinates: ["x", "y"], parameters: [{ name: "m", value: 1 }], massMatrix: [["m", "0"], ["0", "m3"]], forcing: ["0", "0"] });
+      systemFromMassMatrixForm({
+        coordinates: ["x", "y"],
+        parameters: [{ name: "m", value: 1 }],
+        massMatrix: [
+          ["m", "0"],
+          ["0", "m3"],
+        ],
+        forcing: ["0", "0"],
+      });
     } catch (error) {
       caught = error;
     }

@@ -39,12 +39,8 @@ export function doublePendulum(values: { m1?: number; m2?: number; l1?: number; 
       ["(m1+m2)*l1^2", "m2*l1*l2*cos(theta1-theta2)"],
       ["m2*l1*l2*cos(theta1-theta2)", "m2*l2^2"],
     ],
-    forcing: [
-      "-m2*l1*l2*theta2'^2*sin(theta1-theta2) - (m1+m2)*g*l1*sin(theta1)",
-      "m2*l1*l2*theta1'^2*sin(theta1-theta2) - m2*g*l2*sin(theta2)",
-    ],
-    energy:
-      "1/2*(m1+m2)*l1^2*theta1'^2 + 1/2*m2*l2^2*theta2'^2 + m2*l1*l2*theta1'*theta2'*cos(theta1-theta2) - (m1+m2)*g*l1*cos(theta1) - m2*g*l2*cos(theta2)",
+    forcing: ["-m2*l1*l2*theta2'^2*sin(theta1-theta2) - (m1+m2)*g*l1*sin(theta1)", "m2*l1*l2*theta1'^2*sin(theta1-theta2) - m2*g*l2*sin(theta2)"],
+    energy: "1/2*(m1+m2)*l1^2*theta1'^2 + 1/2*m2*l2^2*theta2'^2 + m2*l1*l2*theta1'*theta2'*cos(theta1-theta2) - (m1+m2)*g*l1*cos(theta1) - m2*g*l2*cos(theta2)",
   });
 }
 

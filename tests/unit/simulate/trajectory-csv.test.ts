@@ -42,7 +42,13 @@ describe("trajectory CSV", () => {
   });
 
   it("writes a browser run's typed arrays the same way", () => {
-    const typed = { ...trajectory, times: Float64Array.from(trajectory.times), coordinates: trajectory.coordinates.map((c) => Float64Array.from(c)), rates: trajectory.rates.map((r) => Float64Array.from(r)), energy: Float64Array.from(trajectory.energy) };
+    const typed = {
+      ...trajectory,
+      times: Float64Array.from(trajectory.times),
+      coordinates: trajectory.coordinates.map((c) => Float64Array.from(c)),
+      rates: trajectory.rates.map((r) => Float64Array.from(r)),
+      energy: Float64Array.from(trajectory.energy),
+    };
     expect(trajectoryCsv(typed, { x: "m", phi: "rad" })).toBe(trajectoryCsv(trajectory, { x: "m", phi: "rad" }));
   });
 

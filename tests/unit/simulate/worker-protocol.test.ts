@@ -29,7 +29,11 @@ function collect() {
 describe("worker protocol", () => {
   it("runs a simulation job to one result with the energy check and transferable arrays", async () => {
     const { messages, transfers, handle } = collect();
-    await handle({ type: "start", id: "run-1", job: { kind: "simulate", system: pendulumForm, settings: { initialCoordinates: { theta: 1 }, endTime: 5, outputStep: 0.01 } } });
+    await handle({
+      type: "start",
+      id: "run-1",
+      job: { kind: "simulate", system: pendulumForm, settings: { initialCoordinates: { theta: 1 }, endTime: 5, outputStep: 0.01 } },
+    });
     const results = messages.filter((m) => m.type === "result");
     expect(results).toHaveLength(1);
     const outcome = (results[0] as Extract<WorkerResponse, { type: "result" }>).outcome as SimulationOutcome;
@@ -48,7 +52,11 @@ describe("worker protocol", () => {
     const job: WorkerRequest = {
       type: "start",
       id: "long",
-      job: { kind: "simulate", system: pendulumForm, settings: { initialCoordinates: [1], endTime: 1e5, outputStep: 1, relativeTolerance: 1e-12, progressIntervalMs: 1, timeLimitMs: 20_000 } },
+      job: {
+        kind: "simulate",
+        system: pendulumForm,
+        settings: { initialCoordinates: [1], endTime: 1e5, outputStep: 1, relativeTolerance: 1e-12, progressIntervalMs: 1, timeLimitMs: 20_000 },
+      },
     };
     const running = handle(job);
     // Cancel once the job has reported progress (it yields between slices).
@@ -81,7 +89,18 @@ describe("worker protocol", () => {
     await truthRun.handle({
       type: "start",
       id: "truth",
-      job: { kind: "simulate", system: { ...pendulumForm, parameters: [{ name: "m", value: 1.3 }, { name: "l", value: 0.65 }, { name: "g", value: 9.81 }] }, settings: { initialCoordinates: [0.5], endTime: 3, outputStep: 0.05, relativeTolerance: 1e-11 } },
+      job: {
+        kind: "simulate",
+        system: {
+          ...pendulumForm,
+          parameters: [
+            { name: "m", value: 1.3 },
+            { name: "l", value: 0.65 },
+            { name: "g", value: 9.81 },
+          ],
+        },
+        settings: { initialCoordinates: [0.5], endTime: 3, outputStep: 0.05, relativeTolerance: 1e-11 },
+      },
     });
     const truth = ((truthRun.messages.find((m) => m.type === "result") as Extract<WorkerResponse, { type: "result" }>).outcome as SimulationOutcome).result;
     await handle({
@@ -90,7 +109,11 @@ describe("worker protocol", () => {
       job: {
         kind: "fit",
         system: pendulumForm,
-        measured: { times: truth.trajectory.times, timeUnit: "s", series: [{ coordinate: "theta", unit: "rad", targetUnit: "rad", scale: 1, values: truth.trajectory.coordinates[0]! }] },
+        measured: {
+          times: truth.trajectory.times,
+          timeUnit: "s",
+          series: [{ coordinate: "theta", unit: "rad", targetUnit: "rad", scale: 1, values: truth.trajectory.coordinates[0]! }],
+        },
         parameters: [{ name: "l", min: 0.1, max: 2 }],
       },
     });

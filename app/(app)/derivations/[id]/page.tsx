@@ -49,21 +49,21 @@ export default async function DerivationPage({ params }: { params: Promise<{ id:
     <>
       <CurrentTeam teamId={derivation.teamId} />
       <NotebookPage
-      key={derivation.id}
-      derivationId={derivation.id}
-      teamId={derivation.teamId}
-      teamName={team?.name ?? "Team"}
-      status={derivation.status}
-      ownerName={derivation.ownerName}
-      roleLabel={roleLabels[membership.role]}
-      canEdit={canEdit}
-      readOnlyReason={readOnlyReason}
-      canRename={canEdit && can(membership.role, "derivation:rename", { status: derivation.status, locked })}
-      canSimulate={can(membership.role, "derivation:simulate", { status: derivation.status, locked })}
-      initialDocument={stored.document}
-      initialViewPreferences={readViewPreferences(view?.preferences)}
-      initialUpdatedAt={derivation.updatedAt.toISOString()}
-      rowTitle={derivation.title}
+        key={derivation.id}
+        derivationId={derivation.id}
+        teamId={derivation.teamId}
+        teamName={team?.name ?? "Team"}
+        status={derivation.status}
+        ownerName={derivation.ownerName}
+        roleLabel={roleLabels[membership.role]}
+        canEdit={canEdit}
+        readOnlyReason={readOnlyReason}
+        canRename={canEdit && can(membership.role, "derivation:rename", { status: derivation.status, locked })}
+        canSimulate={can(membership.role, "derivation:simulate", { status: derivation.status, locked })}
+        initialDocument={stored.document}
+        initialViewPreferences={readViewPreferences(view?.preferences)}
+        initialUpdatedAt={derivation.updatedAt.toISOString()}
+        rowTitle={derivation.title}
         uploadLimits={{ csvBytes: env.UPLOAD_MAX_CSV_BYTES, imageBytes: env.UPLOAD_MAX_IMAGE_BYTES }}
         review={<DerivationReview data={review} />}
       />

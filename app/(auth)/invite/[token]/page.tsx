@@ -16,7 +16,11 @@ export default async function InvitePage({ params }: { params: Promise<{ token: 
   const invite = await getInviteByTokenHash({ tokenHash: hashToken(token) });
 
   if (!invite || invite.state !== "open") {
-    const heading = !invite ? "This invitation link is not valid" : invite.state === "used" ? "This invitation has already been used" : "This invitation has expired";
+    const heading = !invite
+      ? "This invitation link is not valid"
+      : invite.state === "used"
+        ? "This invitation has already been used"
+        : "This invitation has expired";
     const detail = !invite
       ? "Check that you opened the whole link from the latest e-mail. A lead may have withdrawn the invitation, or sent a newer one that replaces this link."
       : invite.state === "used"

@@ -34,8 +34,22 @@ export function ResetPasswordForm({ token }: { token: string }) {
     <form method="post" onSubmit={onSubmit} noValidate className="space-y-4" aria-label="Choose a new password">
       {formError ? <Notice tone="error">{formError}</Notice> : null}
       <input type="hidden" {...register("token")} />
-      <Field label="New password" type="password" autoComplete="new-password" autoFocus hint="At least 10 characters." error={errors.password?.message} {...register("password")} />
-      <Field label="Repeat the new password" type="password" autoComplete="new-password" error={errors.confirmPassword?.message} {...register("confirmPassword")} />
+      <Field
+        label="New password"
+        type="password"
+        autoComplete="new-password"
+        autoFocus
+        hint="At least 10 characters."
+        error={errors.password?.message}
+        {...register("password")}
+      />
+      <Field
+        label="Repeat the new password"
+        type="password"
+        autoComplete="new-password"
+        error={errors.confirmPassword?.message}
+        {...register("confirmPassword")}
+      />
       <Button type="submit" variant="primary" className="w-full" disabled={isSubmitting}>
         {isSubmitting ? "Saving…" : "Save new password"}
       </Button>

@@ -101,7 +101,11 @@ describe("derivatives on the canonical form", () => {
       const a = Number(uniform(random, 0.1, 0.9).toFixed(3));
       const k = Number(uniform(random, 0.5, 1.5).toFixed(3));
       const m = Number(uniform(random, 0.5, 1.5).toFixed(3));
-      const reference = Number(nerdamer(theirs.toString(), { a: String(a), k: String(k), m: String(m) }).evaluate().text("decimals"));
+      const reference = Number(
+        nerdamer(theirs.toString(), { a: String(a), k: String(k), m: String(m) })
+          .evaluate()
+          .text("decimals"),
+      );
       expect(close(evaluate(ours, { a, k, m }), reference, 1e-9), `${text}: ${ours} vs ${theirs.toString()}`).toBe(true);
     }
   });

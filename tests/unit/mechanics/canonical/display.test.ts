@@ -22,7 +22,12 @@ const demos: [string, Model][] = demoDerivations.map((d) => [
   d.title,
   validateModel("cells" in d.content ? documentToModel(d.content as unknown as DerivationDocument) : d.content),
 ]);
-const models: [string, Model][] = [["double pendulum (2-link chain)", chainModel({ links: 2 })], ["3-link chain", chainModel({ links: 3 })], ...examples, ...demos];
+const models: [string, Model][] = [
+  ["double pendulum (2-link chain)", chainModel({ links: 2 })],
+  ["3-link chain", chainModel({ links: 3 })],
+  ...examples,
+  ...demos,
+];
 
 /** Every expression the notebook shows, canonical beside display. */
 function shown(result: DerivationResult): { what: string; canonical: Expr; display: Expr }[] {
@@ -124,6 +129,10 @@ describe("display form", () => {
     // x'' = (F − b x' + m l θ'² sin θ + m g sin θ cos θ)/(M + m sin²θ) — the standard gantry-crane
     // model, as in R. V. Florian (2007) with θ measured from below; from memory.
     expect(text(result.accelerations[0]!.display)).toBe("(-b*x' + m*l*sin(theta)*theta'^2 + m*g*sin(theta)*cos(theta) + F)/(M + m*sin(theta)^2)");
-    expect(sameExpression(result.accelerations[0]!.display, "(F - b*x' + m*l*theta'^2*sin(theta) + m*g*sin(theta)*cos(theta))/(M + m*sin(theta)^2)", { coordinates: ["x", "theta"] })).toBe(true);
+    expect(
+      sameExpression(result.accelerations[0]!.display, "(F - b*x' + m*l*theta'^2*sin(theta) + m*g*sin(theta)*cos(theta))/(M + m*sin(theta)^2)", {
+        coordinates: ["x", "theta"],
+      }),
+    ).toBe(true);
   });
 });

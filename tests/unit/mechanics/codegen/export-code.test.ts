@@ -87,7 +87,10 @@ function engine(model: CodeExportInput, c: Case): Result {
   compiled.evaluate([...c.q, ...c.qd, c.t, ...c.u], out);
   const M = Array.from({ length: n }, (_, i) => Array.from(out.slice(i * n, (i + 1) * n)));
   const f = Array.from(out.slice(n * n));
-  const { A, B } = linearizeAbout({ ...model, inputs: model.inputs ?? [], coordinates: model.coordinates, parameters }, { q: c.q, rates: c.qd, t: c.t, inputs: c.u });
+  const { A, B } = linearizeAbout(
+    { ...model, inputs: model.inputs ?? [], coordinates: model.coordinates, parameters },
+    { q: c.q, rates: c.qd, t: c.t, inputs: c.u },
+  );
   return { M, f, A, B };
 }
 
@@ -158,7 +161,11 @@ ${calls}
     states.forEach((c, k) => {
       const r = flat[k]!;
       const rows = (v: number[], cols: number) => Array.from({ length: v.length / Math.max(cols, 1) }, (_, i) => v.slice(i * cols, (i + 1) * cols));
-      expectClose({ M: rows(r.M, n), f: r.f, A: rows(r.A, 2 * n), B: m ? rows(r.B, m) : [] }, { ...engine(model, c), B: m ? engine(model, c).B : [] }, `C case ${k}`);
+      expectClose(
+        { M: rows(r.M, n), f: r.f, A: rows(r.A, 2 * n), B: m ? rows(r.B, m) : [] },
+        { ...engine(model, c), B: m ? engine(model, c).B : [] },
+        `C case ${k}`,
+      );
     });
   });
 
@@ -205,7 +212,8 @@ describe("exported code speaks the product's words", () => {
     python: /def forcing\(coordinates, rates, t, parameters=DEFAULT_PARAMETERS, inputs=\(\)\):/,
     julia: /function forcing\(coordinates, rates, t, parameters=DEFAULT_PARAMETERS, inputs=Float64\[\]\)/,
     matlab: /function f = forcing\(coordinates, rates, t, parameters, inputs\)/,
-    typescript: /export function forcing\(coordinates: ArrayLike<number>, rates: ArrayLike<number>, t: number, parameters: ArrayLike<number> = DEFAULT_PARAMETERS, inputs: ArrayLike<number> = \[\]\)/,
+    typescript:
+      /export function forcing\(coordinates: ArrayLike<number>, rates: ArrayLike<number>, t: number, parameters: ArrayLike<number> = DEFAULT_PARAMETERS, inputs: ArrayLike<number> = \[\]\)/,
   };
 
   it.each(Object.entries(signatures))("%s names its arguments coordinates, rates, accelerations, parameters and inputs", (language, signature) => {

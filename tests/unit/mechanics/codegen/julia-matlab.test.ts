@@ -52,7 +52,8 @@ function expectBalanced(code: string) {
 
 /** Renames 1-based array references (q[1] or q(1)) to model symbols, checking each index is in range. */
 function rename(expression: string, open: "[" | "("): string {
-  const pattern = open === "[" ? /\b(coordinates|rates|accelerations|parameters|inputs)\[(\d+)\]/g : /\b(coordinates|rates|accelerations|parameters|inputs)\((\d+)\)/g;
+  const pattern =
+    open === "[" ? /\b(coordinates|rates|accelerations|parameters|inputs)\[(\d+)\]/g : /\b(coordinates|rates|accelerations|parameters|inputs)\((\d+)\)/g;
   return expression.replace(pattern, (_, array: string, index: string) => {
     const i = Number(index);
     expect(i, `${array} index ${i} is 1-based and in range`).toBeGreaterThanOrEqual(1);
@@ -70,7 +71,10 @@ class Scope {
   evaluate(expression: string): number {
     const variables = [...this.values.keys()];
     const out = new Float64Array(1);
-    compileExpressions([expression], variables).evaluate(variables.map((v) => this.values.get(v)!), out);
+    compileExpressions([expression], variables).evaluate(
+      variables.map((v) => this.values.get(v)!),
+      out,
+    );
     return out[0]!;
   }
 }
@@ -101,7 +105,13 @@ MODEL.coordinates.forEach((c, i) => {
 });
 MODEL.parameters.forEach((p) => (base[p.name] = p.value!));
 MODEL.inputs!.forEach((u, i) => (base[u] = state.u[i]!));
-const expected = compileAnalysis({ ...MODEL, inputs: MODEL.inputs!, parameters: Object.fromEntries(MODEL.parameters.map((p) => [p.name, p.value!])) }).at(state.q, state.qd, state.qdd, state.t, state.u);
+const expected = compileAnalysis({ ...MODEL, inputs: MODEL.inputs!, parameters: Object.fromEntries(MODEL.parameters.map((p) => [p.name, p.value!])) }).at(
+  state.q,
+  state.qd,
+  state.qdd,
+  state.t,
+  state.u,
+);
 const EXPECTED: Record<string, number[]> = {
   M: expected.mass.flat(),
   f: expected.forcing,
@@ -144,7 +154,8 @@ describe("Julia export (structural; Julia is not installed)", () => {
       };
       if (name === "mass_matrix") expectValues("M", literal("return"));
       if (name === "forcing") expectValues("f", literal("return"));
-      if (name === "residual_jacobians") for (const target of ["residual_by_coordinates", "residual_by_rates", "residual_by_inputs"]) expectValues(target, literal(target));
+      if (name === "residual_jacobians")
+        for (const target of ["residual_by_coordinates", "residual_by_rates", "residual_by_inputs"]) expectValues(target, literal(target));
       seen.add(name);
     }
     expect([...seen]).toEqual(expect.arrayContaining(["mass_matrix", "forcing", "residual_jacobians", "state_matrices"]));

@@ -25,7 +25,13 @@ export function randomExpression(random: () => number, symbols: string[], depth 
   if (r < 0.25) return { kind: "bin", op: random() < 0.5 ? "+" : "-", left: sub(), right: sub(), ...span };
   if (r < 0.5) return { kind: "bin", op: "*", left: sub(), right: sub(), ...span };
   if (r < 0.6) {
-    const den: Expr = { kind: "bin", op: "+", left: { kind: "num", value: 2, ...span }, right: { kind: "bin", op: "^", left: sub(), right: { kind: "num", value: 2, ...span }, ...span }, ...span };
+    const den: Expr = {
+      kind: "bin",
+      op: "+",
+      left: { kind: "num", value: 2, ...span },
+      right: { kind: "bin", op: "^", left: sub(), right: { kind: "num", value: 2, ...span }, ...span },
+      ...span,
+    };
     return { kind: "bin", op: "/", left: sub(), right: den, ...span };
   }
   if (r < 0.7) return { kind: "bin", op: "^", left: sub(), right: { kind: "num", value: 1 + Math.floor(random() * 3), ...span }, ...span };

@@ -117,7 +117,16 @@ describe("production worker bundle (npm run build:workers)", () => {
     // Small-angle pendulum ω = √(g/l) — fact of the trade (any mechanics text; from memory).
     expect(lin.modes[0]!.radPerSecond).toBeCloseTo(Math.sqrt(9.81 / 0.5), 10);
     const { code } = await pool.run<{ code: string }>("exportCode", {
-      input: { coordinates: ["theta"], parameters: [{ name: "m", value: 2 }, { name: "l", value: 0.5 }, { name: "g", value: 9.81 }], massMatrix: derived.massMatrix, forcing: derived.forcing },
+      input: {
+        coordinates: ["theta"],
+        parameters: [
+          { name: "m", value: 2 },
+          { name: "l", value: 0.5 },
+          { name: "g", value: 9.81 },
+        ],
+        massMatrix: derived.massMatrix,
+        forcing: derived.forcing,
+      },
       language: "c",
     });
     expect(code).toContain("void model_mass_matrix(");

@@ -60,7 +60,18 @@ describe("version 0: a pre-notebook model file", () => {
     const model = fixture<Model>("version-0-model-file.json");
     const document = parsed(model);
     expect(document.title).toBe("Jib crane: slewing arm with hanging hook");
-    expect(document.cells.map((cell) => cell.kind)).toEqual(["coordinates", "parameters", "inputs", "definitions", "kinetic", "potential", "dissipation", "forces", "equations", "conserved"]);
+    expect(document.cells.map((cell) => cell.kind)).toEqual([
+      "coordinates",
+      "parameters",
+      "inputs",
+      "definitions",
+      "kinetic",
+      "potential",
+      "dissipation",
+      "forces",
+      "equations",
+      "conserved",
+    ]);
     expect(document.cells.map((cell) => cell.id)).toEqual(["c1", "c2", "c3", "c4", "c5", "c6", "c7", "c8", "c9", "c10"]);
     expect(documentToModel(document)).toEqual(model);
     // The same layout the model-file conversion gives today.

@@ -19,7 +19,15 @@ function measuredFile(id: string, name: string, createdAt: string) {
     createdAt,
   };
 }
-const image = { id: "img", kind: "image" as const, originalName: "rig.png", sizeBytes: 10, summary: null, url: "/api/files/img", createdAt: "2041-03-05T10:00:00Z" };
+const image = {
+  id: "img",
+  kind: "image" as const,
+  originalName: "rig.png",
+  sizeBytes: 10,
+  summary: null,
+  url: "/api/files/img",
+  createdAt: "2041-03-05T10:00:00Z",
+};
 
 let stored: ReturnType<typeof measuredFile>[];
 let fitBody: unknown;

@@ -24,12 +24,28 @@ describe("suggested mechanism points", () => {
   });
 
   it("moves a length coordinate named for height vertically, and skips angles", () => {
-    expect(suggestPoints({ coordinates: [{ name: "z", unit: "m" }, { name: "phi", unit: "rad" }], definitions: [] })).toEqual([{ x: "0", y: "z" }]);
+    expect(
+      suggestPoints({
+        coordinates: [
+          { name: "z", unit: "m" },
+          { name: "phi", unit: "rad" },
+        ],
+        definitions: [],
+      }),
+    ).toEqual([{ x: "0", y: "z" }]);
     expect(suggestPoints(sourcesOf("single-pendulum"))).toEqual([]);
   });
 
   it("pairs suffix-named definitions and offers the next one not drawn yet", () => {
-    const sources = { coordinates: [], definitions: [{ name: "p_x", expr: "1" }, { name: "p_y", expr: "2" }, { name: "bx", expr: "3" }, { name: "by", expr: "4" }] };
+    const sources = {
+      coordinates: [],
+      definitions: [
+        { name: "p_x", expr: "1" },
+        { name: "p_y", expr: "2" },
+        { name: "bx", expr: "3" },
+        { name: "by", expr: "4" },
+      ],
+    };
     expect(suggestPoints(sources)).toEqual([
       { x: "p_x", y: "p_y" },
       { x: "bx", y: "by" },

@@ -54,7 +54,9 @@ beforeAll(() => {
     unobserve() {}
   } as unknown as typeof ResizeObserver;
   // The page's theme supplies the series palette (app/globals.css); a stand-in palette here.
-  ["#101010", "#202020", "#303030", "#404040", "#505050", "#606060"].forEach((colour, i) => document.documentElement.style.setProperty(`--series-${i + 1}`, colour));
+  ["#101010", "#202020", "#303030", "#404040", "#505050", "#606060"].forEach((colour, i) =>
+    document.documentElement.style.setProperty(`--series-${i + 1}`, colour),
+  );
   window.matchMedia ??= (() => ({ matches: false, addEventListener() {}, removeEventListener() {} })) as unknown as typeof window.matchMedia;
 });
 afterEach(() => {
@@ -131,7 +133,12 @@ describe("simulation results view", () => {
   });
 
   it("overlays measured readings, and the fitted model, in the colour of their coordinate", () => {
-    render(<ResultsView run={syntheticRun(1e-10)} measured={{ times: [0.05, 0.15], series: [{ coordinate: "x", measured: [0.99, 0.98], fitted: [0.991, 0.981] }] }} />);
+    render(
+      <ResultsView
+        run={syntheticRun(1e-10)}
+        measured={{ times: [0.05, 0.15], series: [{ coordinate: "x", measured: [0.99, 0.98], fitted: [0.991, 0.981] }] }}
+      />,
+    );
     const chart = charts.find((c) => c.testId === "chart-coordinates")!;
     expect(chart.seriesLabels).toEqual(["x", "x measured", "x fitted"]);
     expect(new Set(chart.strokes).size).toBe(1);

@@ -4,7 +4,16 @@ import { cleanup, fireEvent, render, screen } from "@testing-library/react";
 import { useState } from "react";
 import { SimulationSettingsForm } from "@/components/notebook/simulation/simulation-cell";
 import { validateSettings } from "@/components/notebook/simulation/settings";
-import { DEFAULT_SIMULATION_SETTINGS as DEFAULT_SETTINGS, applyOperation, createCell, documentSymbols, modelToDocument, type DerivationDocument, type DocumentOperation, type SimulationCell } from "@/lib/notebook/document";
+import {
+  DEFAULT_SIMULATION_SETTINGS as DEFAULT_SETTINGS,
+  applyOperation,
+  createCell,
+  documentSymbols,
+  modelToDocument,
+  type DerivationDocument,
+  type DocumentOperation,
+  type SimulationCell,
+} from "@/lib/notebook/document";
 import { templateModel } from "@/lib/notebook/templates";
 
 afterEach(cleanup);
@@ -13,7 +22,14 @@ const symbols = { coordinates: ["x", "theta"], parameters: ["M", "m", "l"], inpu
 
 describe("simulation settings validation", () => {
   it("turns valid text into the run request, blanks meaning zero", () => {
-    const settings = { ...DEFAULT_SETTINGS, initialCoordinates: { theta: "0.3" }, initialRates: { x: "-1.5" }, inputs: { F: " 50*sin(t) " }, parameterOverrides: { m: "900", l: "" }, points: [{ x: "xL", y: "yL" }] };
+    const settings = {
+      ...DEFAULT_SETTINGS,
+      initialCoordinates: { theta: "0.3" },
+      initialRates: { x: "-1.5" },
+      inputs: { F: " 50*sin(t) " },
+      parameterOverrides: { m: "900", l: "" },
+      points: [{ x: "xL", y: "yL" }],
+    };
     const result = validateSettings(settings, symbols);
     expect(result.ok).toBe(true);
     if (!result.ok) return;
@@ -51,7 +67,10 @@ describe("simulation settings validation", () => {
   });
 
   it("refuses an output grid finer than the point limit and a blank end time", () => {
-    expect(validateSettings({ ...DEFAULT_SETTINGS, endTime: "1000", outputStep: "1e-4" }, symbols)).toMatchObject({ ok: false, errors: { outputStep: expect.stringContaining("Too fine") } });
+    expect(validateSettings({ ...DEFAULT_SETTINGS, endTime: "1000", outputStep: "1e-4" }, symbols)).toMatchObject({
+      ok: false,
+      errors: { outputStep: expect.stringContaining("Too fine") },
+    });
     expect(validateSettings({ ...DEFAULT_SETTINGS, endTime: " " }, symbols)).toMatchObject({ ok: false, errors: { endTime: "Required." } });
   });
 });
@@ -68,10 +87,13 @@ function Harness({ initial, cellId, errors = {} }: { initial: DerivationDocument
 }
 
 describe("simulation settings form", () => {
-  const base = modelToDocument(templateModel("single-pendulum"), (() => {
-    let i = 0;
-    return () => `id${++i}`;
-  })());
+  const base = modelToDocument(
+    templateModel("single-pendulum"),
+    (() => {
+      let i = 0;
+      return () => `id${++i}`;
+    })(),
+  );
   const doc = applyOperation(base, { type: "addCell", cell: createCell("simulation", "sim") });
 
   it("stores what is typed in the cell's settings through document operations", () => {
@@ -86,10 +108,16 @@ describe("simulation settings form", () => {
   });
 
   it("suggests the model's positions with + Add point: the trolley on its girder first, then the load", () => {
-    const crane = applyOperation(modelToDocument(templateModel("cart-with-pendulum"), (() => {
-      let i = 0;
-      return () => `c${++i}`;
-    })()), { type: "addCell", cell: createCell("simulation", "sim") });
+    const crane = applyOperation(
+      modelToDocument(
+        templateModel("cart-with-pendulum"),
+        (() => {
+          let i = 0;
+          return () => `c${++i}`;
+        })(),
+      ),
+      { type: "addCell", cell: createCell("simulation", "sim") },
+    );
     render(<Harness initial={crane} cellId="sim" />);
     const add = screen.getByRole("button", { name: "+ Add point" });
     fireEvent.click(add);

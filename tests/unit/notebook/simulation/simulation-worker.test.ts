@@ -47,7 +47,10 @@ describe("simulation cell worker", () => {
         job: {
           model: pendulum,
           settings: { initialCoordinates: { theta: 0.4 }, endTime: 5, outputStep: 0.05, relativeTolerance: 1e-10, absoluteTolerance: 1e-12 },
-          points: [{ x: "xb", y: "yb2" }, { x: "theta", y: "0" }],
+          points: [
+            { x: "xb", y: "yb2" },
+            { x: "theta", y: "0" },
+          ],
           smallOscillation: { expectedFrequency: Math.sqrt(9.81 / 3.5), equilibrium: { theta: 0 }, modeShape: [1] },
         },
       },
@@ -77,7 +80,13 @@ describe("simulation cell worker", () => {
   });
 
   it("names the model field when the model is invalid", async () => {
-    scope.onmessage!({ data: { type: "start", id: "b", job: { model: { ...pendulum, potential: "m*g*zz" }, settings: { initialCoordinates: {}, endTime: 1, outputStep: 0.1 }, points: [] } } });
+    scope.onmessage!({
+      data: {
+        type: "start",
+        id: "b",
+        job: { model: { ...pendulum, potential: "m*g*zz" }, settings: { initialCoordinates: {}, endTime: 1, outputStep: 0.1 }, points: [] },
+      },
+    });
     const message = await answer("b");
     expect(message).toMatchObject({ type: "error", error: { name: "ModelError", field: "potential" } });
   });

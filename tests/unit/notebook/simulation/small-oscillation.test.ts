@@ -57,7 +57,12 @@ describe("small-amplitude check from the notebook's results", () => {
     // Simple pendulum ω = √(g/l), l = 3.5 m (fact of the trade).
     expect(job.expectedFrequency).toBeCloseTo(Math.sqrt(9.81 / 3.5), 10);
     const derived = deriveModel(model);
-    const system = systemFromMassMatrixForm({ coordinates: derived.coordinates, parameters: model.parameters.map((p) => ({ name: p.name, value: p.value })), massMatrix: derived.massMatrix, forcing: derived.forcing });
+    const system = systemFromMassMatrixForm({
+      coordinates: derived.coordinates,
+      parameters: model.parameters.map((p) => ({ name: p.name, value: p.value })),
+      massMatrix: derived.massMatrix,
+      forcing: derived.forcing,
+    });
     const report = checkSmallOscillation(system, job);
     expect(report.passed).toBe(true);
     expect(explainSmallOscillation(report)).not.toContain("Damping");

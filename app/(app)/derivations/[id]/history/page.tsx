@@ -54,7 +54,12 @@ export default async function HistoryPage({ params }: { params: Promise<{ id: st
       </div>
 
       {revisions.length >= 2 ? (
-        <form method="get" action={`/derivations/${derivation.id}/history/compare`} className="flex flex-wrap items-end gap-3 rounded border border-line bg-surface p-3" aria-label="Compare two revisions">
+        <form
+          method="get"
+          action={`/derivations/${derivation.id}/history/compare`}
+          className="flex flex-wrap items-end gap-3 rounded border border-line bg-surface p-3"
+          aria-label="Compare two revisions"
+        >
           <label className="space-y-1 text-sm">
             <span className="block font-medium">From</span>
             <select name="from" defaultValue={previous?.number} className={inputClass}>
@@ -104,14 +109,21 @@ export default async function HistoryPage({ params }: { params: Promise<{ id: st
             const isLocked = history.lockedRevisionId === revision.id;
             const older = revisions[index + 1];
             return (
-              <li key={revision.id} className={isLocked ? "border-l-4 border-l-seal bg-seal-soft/40" : undefined} data-testid="revision" data-number={revision.number}>
+              <li
+                key={revision.id}
+                className={isLocked ? "border-l-4 border-l-seal bg-seal-soft/40" : undefined}
+                data-testid="revision"
+                data-number={revision.number}
+              >
                 <div className="flex flex-wrap items-start gap-x-4 gap-y-2 px-3 py-2.5">
                   <div className="w-14 shrink-0 font-mono text-sm font-semibold">r{revision.number}</div>
                   <div className="min-w-0 flex-1 basis-60 space-y-0.5">
                     <p className="text-sm">
                       <span className="font-medium">{revision.name ?? revisionKindLabels[revision.kind]}</span>
                       {revision.name ? <span className="text-muted"> · {revisionKindLabels[revision.kind]}</span> : null}
-                      {isLocked ? <span className="ml-2 rounded-sm border border-seal/60 bg-seal-soft px-1.5 text-xs font-medium text-seal">Locked</span> : null}
+                      {isLocked ? (
+                        <span className="ml-2 rounded-sm border border-seal/60 bg-seal-soft px-1.5 text-xs font-medium text-seal">Locked</span>
+                      ) : null}
                     </p>
                     <p className="text-xs text-muted">
                       {formatRecordTime(revision.createdAt)}
@@ -128,14 +140,19 @@ export default async function HistoryPage({ params }: { params: Promise<{ id: st
                   </div>
                   <div className="flex flex-wrap items-center gap-1">
                     {older ? (
-                      <Link className={buttonClass("ghost", "sm")} href={`/derivations/${derivation.id}/history/compare?from=${older.number}&to=${revision.number}`}>
+                      <Link
+                        className={buttonClass("ghost", "sm")}
+                        href={`/derivations/${derivation.id}/history/compare?from=${older.number}&to=${revision.number}`}
+                      >
                         Changes
                       </Link>
                     ) : null}
                     <Link className={buttonClass("ghost", "sm")} href={`/derivations/${derivation.id}/revisions/${revision.id}/report`}>
                       Report
                     </Link>
-                    {canEdit && (index > 0 || history.unrevisedChanges) ? <RestoreButton derivationId={derivation.id} revision={{ id: revision.id, number: revision.number }} /> : null}
+                    {canEdit && (index > 0 || history.unrevisedChanges) ? (
+                      <RestoreButton derivationId={derivation.id} revision={{ id: revision.id, number: revision.number }} />
+                    ) : null}
                   </div>
                 </div>
               </li>

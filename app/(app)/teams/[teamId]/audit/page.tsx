@@ -16,7 +16,9 @@ const PAGE_SIZE = 200;
 type SearchParams = Record<string, string | string[] | undefined>;
 
 function firstValues(params: SearchParams): Record<string, string> {
-  return Object.fromEntries(Object.entries(params).flatMap(([key, value]) => (typeof value === "string" ? [[key, value]] : Array.isArray(value) && value[0] ? [[key, value[0]]] : [])));
+  return Object.fromEntries(
+    Object.entries(params).flatMap(([key, value]) => (typeof value === "string" ? [[key, value]] : Array.isArray(value) && value[0] ? [[key, value[0]]] : [])),
+  );
 }
 
 /** A lead's view of the team's audit log: filters in the query string, newest first, CSV export of the same filter. */
@@ -85,24 +87,41 @@ export default async function TeamAuditPage({ params, searchParams }: { params: 
           <span className="block font-medium">To (inclusive)</span>
           <input type="date" name="to" defaultValue={query.to ?? ""} className={inputClass} />
         </label>
-        <button type="submit" className="rounded border border-action bg-action px-3 py-1.5 text-sm font-medium text-action-ink hover:border-action-strong hover:bg-action-strong">
+        <button
+          type="submit"
+          className="rounded border border-action bg-action px-3 py-1.5 text-sm font-medium text-action-ink hover:border-action-strong hover:bg-action-strong"
+        >
           Filter
         </button>
         <a href={csvHref} className="ml-auto text-sm text-action hover:underline" data-testid="audit-csv">
           Download CSV
         </a>
       </form>
-      {!parsed.success ? <Notice tone="error">Some filters were not understood and were ignored: {parsed.error.issues.map((issue) => issue.message).join(" ")}</Notice> : null}
+      {!parsed.success ? (
+        <Notice tone="error">Some filters were not understood and were ignored: {parsed.error.issues.map((issue) => issue.message).join(" ")}</Notice>
+      ) : null}
       <div className="overflow-x-auto rounded border border-line bg-surface">
         <table className="w-full text-sm" data-testid="audit-table">
           <thead className="border-b border-line bg-sunken/60 text-left">
             <tr>
-              <th scope="col" className="px-3 py-2 font-medium">Time (UTC)</th>
-              <th scope="col" className="px-3 py-2 font-medium">Action</th>
-              <th scope="col" className="px-3 py-2 font-medium">Person</th>
-              <th scope="col" className="px-3 py-2 font-medium">Target</th>
-              <th scope="col" className="px-3 py-2 font-medium">Address</th>
-              <th scope="col" className="px-3 py-2 font-medium">Details</th>
+              <th scope="col" className="px-3 py-2 font-medium">
+                Time (UTC)
+              </th>
+              <th scope="col" className="px-3 py-2 font-medium">
+                Action
+              </th>
+              <th scope="col" className="px-3 py-2 font-medium">
+                Person
+              </th>
+              <th scope="col" className="px-3 py-2 font-medium">
+                Target
+              </th>
+              <th scope="col" className="px-3 py-2 font-medium">
+                Address
+              </th>
+              <th scope="col" className="px-3 py-2 font-medium">
+                Details
+              </th>
             </tr>
           </thead>
           <tbody>
@@ -133,8 +152,20 @@ export default async function TeamAuditPage({ params, searchParams }: { params: 
         </table>
       </div>
       <nav className="flex justify-between text-sm" aria-label="Audit log pages">
-        {page > 0 ? <Link href={pageHref(page - 1)} className="text-action hover:underline">← Newer</Link> : <span />}
-        {rows.length > PAGE_SIZE ? <Link href={pageHref(page + 1)} className="text-action hover:underline">Older →</Link> : <span />}
+        {page > 0 ? (
+          <Link href={pageHref(page - 1)} className="text-action hover:underline">
+            ← Newer
+          </Link>
+        ) : (
+          <span />
+        )}
+        {rows.length > PAGE_SIZE ? (
+          <Link href={pageHref(page + 1)} className="text-action hover:underline">
+            Older →
+          </Link>
+        ) : (
+          <span />
+        )}
       </nav>
     </div>
   );

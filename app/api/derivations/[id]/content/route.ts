@@ -20,7 +20,8 @@ export const PUT = derivationRoute<Params>("derivation:edit", async ({ request, 
   });
   if (saved.status === "missing") throw new AppError("not_found:derivation", "Derivation not found.");
   // Approved between the page's load and this save: the approval won the race.
-  if (saved.status === "locked") throw new AppError("locked:derivation", "This derivation was approved and locked while you were editing. Your last change was not saved.");
+  if (saved.status === "locked")
+    throw new AppError("locked:derivation", "This derivation was approved and locked while you were editing. Your last change was not saved.");
   if (saved.status === "conflict") {
     throw new AppError("conflict:derivation", "Someone else saved this derivation since your copy was loaded.", {
       details: { updatedAt: saved.derivation.updatedAt.toISOString(), updatedById: saved.derivation.updatedById },

@@ -27,7 +27,7 @@ export const POST = derivationRoute<Params>("derivation:attach", async ({ reques
   try {
     form = await formDataOf(request, body);
   } catch {
-    throw new AppError("bad_request:validation", "Send the file as multipart/form-data in a field named \"file\".");
+    throw new AppError("bad_request:validation", 'Send the file as multipart/form-data in a field named "file".');
   }
   const upload = form.get("file");
   if (!(upload instanceof File)) {

@@ -1,7 +1,10 @@
 import { z } from "zod";
 import { uuidField } from "@/lib/validation/fields";
 
-const name = z.string().regex(/^[A-Za-z_][A-Za-z0-9_]*$/, "Not a name.").max(64);
+const name = z
+  .string()
+  .regex(/^[A-Za-z_][A-Za-z0-9_]*$/, "Not a name.")
+  .max(64);
 const finite = z.number().refine(Number.isFinite, "Must be a finite number.");
 const values = z.record(name, finite).refine((record) => Object.keys(record).length <= 200, "Too many entries.");
 

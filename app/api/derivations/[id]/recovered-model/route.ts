@@ -14,5 +14,8 @@ type Params = { id: string };
 export const GET = derivationRoute<Params>("derivation:read", async ({ user, derivation }) => {
   const { model } = recoverModel(derivation.content, derivation.title);
   await auditExport({ actorId: user.id, derivation, format: "recovered-model" });
-  return downloadResponse(`${JSON.stringify(model, null, 2)}\n`, { filename: `${fileBaseName(model.title)}.recovered.model.json`, contentType: "application/json" });
+  return downloadResponse(`${JSON.stringify(model, null, 2)}\n`, {
+    filename: `${fileBaseName(model.title)}.recovered.model.json`,
+    contentType: "application/json",
+  });
 });

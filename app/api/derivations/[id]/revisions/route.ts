@@ -10,11 +10,18 @@ type Params = { id: string };
 
 /** The derivation's revisions, newest first, and whether the current content differs from the latest. */
 export const GET = derivationRoute<Params>("derivation:read", async ({ derivation }) => {
-  const [revisions, latest] = await Promise.all([getRevisionsByDerivationId({ derivationId: derivation.id }), getLatestRevisionByDerivationId({ derivationId: derivation.id })]);
+  const [revisions, latest] = await Promise.all([
+    getRevisionsByDerivationId({ derivationId: derivation.id }),
+    getLatestRevisionByDerivationId({ derivationId: derivation.id }),
+  ]);
   const currentHash = contentHash(derivation.content);
   return Response.json({
     revisions: revisions.map((revision) => ({ ...revision, createdAt: revision.createdAt.toISOString(), updatedAt: revision.updatedAt.toISOString() })),
-    current: { contentHash: currentHash, inHistory: latest?.contentHash === currentHash && latest.title === derivation.title, lockedRevisionId: derivation.lockedRevisionId },
+    current: {
+      contentHash: currentHash,
+      inHistory: latest?.contentHash === currentHash && latest.title === derivation.title,
+      lockedRevisionId: derivation.lockedRevisionId,
+    },
   });
 });
 

@@ -19,6 +19,10 @@ export const GET = derivationRoute<Params>("derivation:read", async ({ user, der
 export const PUT = derivationRoute<Params>("derivation:read", async ({ request, user, derivation: { id } }) => {
   const input = parseOrThrow(saveViewPreferencesSchema, await readJson(request));
   const preferences = validViewPreferencesOrThrow(input.preferences);
-  const row = await upsertViewPreferencesByUserIdAndDerivationId({ userId: user.id, derivationId: id, preferences: preferences as unknown as Record<string, unknown> });
+  const row = await upsertViewPreferencesByUserIdAndDerivationId({
+    userId: user.id,
+    derivationId: id,
+    preferences: preferences as unknown as Record<string, unknown>,
+  });
   return Response.json({ preferences, updatedAt: row.updatedAt.toISOString() });
 });

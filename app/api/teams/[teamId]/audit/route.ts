@@ -21,7 +21,14 @@ export const GET = apiRoute<{ teamId: string }>(async (request, { params }) => {
   const filters = auditFiltersOf(query);
   if (query.format === "csv") {
     const rows = await getAuditRowsByTeamId({ teamId: team.id, filters, limit: EXPORT_LIMIT });
-    await recordAuditEvent({ teamId: team.id, actorId: user.id, action: "audit.export", targetType: "team", targetId: team.id, details: { filters: query, rows: rows.length } });
+    await recordAuditEvent({
+      teamId: team.id,
+      actorId: user.id,
+      action: "audit.export",
+      targetType: "team",
+      targetId: team.id,
+      details: { filters: query, rows: rows.length },
+    });
     const stamp = new Date().toISOString().slice(0, 10);
     return downloadResponse(auditCsv(rows.map(auditRowView)), { filename: `${team.slug}-audit-${stamp}.csv`, contentType: "text/csv" });
   }

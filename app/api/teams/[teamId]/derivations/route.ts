@@ -24,7 +24,12 @@ export const GET = teamRoute<Params>("derivation:read", async ({ request, params
 export const POST = teamRoute<Params>("derivation:create", async ({ request, params: { teamId }, user }) => {
   const input = parseOrThrow(createDerivationSchema, await readJson(request));
   // With an Idempotency-Key, a repeated request (a double click, a retry) answers with the first derivation.
-  const once = await beginCreateOnce({ request, userId: user.id, operation: "derivation.create", fingerprint: requestFingerprint(teamId, JSON.stringify(input)) });
+  const once = await beginCreateOnce({
+    request,
+    userId: user.id,
+    operation: "derivation.create",
+    fingerprint: requestFingerprint(teamId, JSON.stringify(input)),
+  });
   if (once.earlier) return createdResponse({ derivation: once.earlier, replayed: true });
   // A new derivation starts as a notebook document: blank, or from a template.
   const content = validDocumentOrThrow(

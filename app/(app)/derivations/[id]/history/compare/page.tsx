@@ -48,10 +48,24 @@ const cellStatusText: Record<CellChange["status"], string> = { added: "added", r
 
 function CellDiff({ cell }: { cell: CellChange }) {
   return (
-    <section className="overflow-hidden rounded border border-line bg-surface" aria-label={`${cell.label}, ${cellStatusText[cell.status]}`} data-testid="cell-change" data-kind={cell.kind} data-status={cell.status}>
+    <section
+      className="overflow-hidden rounded border border-line bg-surface"
+      aria-label={`${cell.label}, ${cellStatusText[cell.status]}`}
+      data-testid="cell-change"
+      data-kind={cell.kind}
+      data-status={cell.status}
+    >
       <h3 className="flex flex-wrap items-baseline gap-x-2 border-b border-line px-3 py-1.5 text-sm font-semibold">
         {cell.label}
-        <span className={cell.status === "added" ? "text-xs font-normal text-action" : cell.status === "removed" ? "text-xs font-normal text-danger" : "text-xs font-normal text-muted"}>
+        <span
+          className={
+            cell.status === "added"
+              ? "text-xs font-normal text-action"
+              : cell.status === "removed"
+                ? "text-xs font-normal text-danger"
+                : "text-xs font-normal text-muted"
+          }
+        >
           {cell.status === "changed" ? `${cell.added} added, ${cell.removed} removed` : `cell ${cellStatusText[cell.status]}`}
         </span>
       </h3>
@@ -167,7 +181,13 @@ export default async function CompareRevisionsPage({ params, searchParams }: { p
             {comparison.title.changed ? (
               <div className="overflow-hidden rounded border border-line bg-surface" data-testid="title-change">
                 <h3 className="border-b border-line px-3 py-1.5 text-sm font-semibold">Title</h3>
-                <TextDiffView lines={[{ kind: "removed", text: comparison.title.before }, { kind: "added", text: comparison.title.after }]} label="Title change" />
+                <TextDiffView
+                  lines={[
+                    { kind: "removed", text: comparison.title.before },
+                    { kind: "added", text: comparison.title.after },
+                  ]}
+                  label="Title change"
+                />
               </div>
             ) : null}
             {changedCells.length === 0 ? <p className="text-sm text-muted">No cell changed apart from the parameters.</p> : null}
@@ -192,7 +212,13 @@ export default async function CompareRevisionsPage({ params, searchParams }: { p
               Terms are the engine&apos;s canonical terms of each residual. Terms multiplying the same coordinates, rates, accelerations and inputs count as one
               changed term when their coefficient or sign changed.
             </p>
-            <Suspense fallback={<p className="text-sm text-muted" role="status">Deriving both revisions…</p>}>
+            <Suspense
+              fallback={
+                <p className="text-sm text-muted" role="status">
+                  Deriving both revisions…
+                </p>
+              }
+            >
               <EquationsSection before={loaded.before} after={loaded.after} numbers={{ from: from.number, to: to.number }} />
             </Suspense>
           </section>

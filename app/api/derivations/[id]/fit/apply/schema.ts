@@ -8,7 +8,13 @@ import { uuidField } from "@/lib/validation/fields";
  */
 export const applyFitSchema = z.object({
   values: z
-    .record(z.string().regex(/^[A-Za-z_][A-Za-z0-9_]*$/, "Not a name.").max(64), z.number().refine(Number.isFinite, "Must be a finite number."))
+    .record(
+      z
+        .string()
+        .regex(/^[A-Za-z_][A-Za-z0-9_]*$/, "Not a name.")
+        .max(64),
+      z.number().refine(Number.isFinite, "Must be a finite number."),
+    )
     .refine((record) => Object.keys(record).length > 0, "Give at least one value.")
     .refine((record) => Object.keys(record).length <= 50, "Too many values."),
   fileId: uuidField.optional(),

@@ -14,7 +14,9 @@ type Params = { teamId: string };
 const MULTIPART_OVERHEAD_BYTES = 64 * 1024;
 
 function tooLarge(limit: number): AppError {
-  return new AppError("too_large:archive", `The archive is larger than the limit of ${(limit / (1024 * 1024)).toFixed(1)} MB.`, { details: { limitBytes: limit } });
+  return new AppError("too_large:archive", `The archive is larger than the limit of ${(limit / (1024 * 1024)).toFixed(1)} MB.`, {
+    details: { limitBytes: limit },
+  });
 }
 
 /** The archive's bytes and the optional title, from multipart/form-data (`file`, `title`) or a raw application/zip body (`?title=`). */
@@ -37,7 +39,7 @@ async function readArchiveUpload(request: Request): Promise<{ bytes: Uint8Array;
     const title = new URL(request.url).searchParams.get("title");
     return { bytes: body, title: title && title.trim() !== "" ? title : undefined };
   }
-  throw new AppError("bad_request:validation", "Send the archive as multipart/form-data (field \"file\") or as an application/zip body.");
+  throw new AppError("bad_request:validation", 'Send the archive as multipart/form-data (field "file") or as an application/zip body.');
 }
 
 /**
@@ -56,7 +58,5 @@ export const POST = apiRoute<Params>(async (request, { params }) => {
   const once = await beginCreateOnce({ request, userId: user.id, operation: "derivation.import_notebook", fingerprint });
   if (once.earlier) return createdResponse({ derivation: once.earlier, replayed: true });
   const contents = checkNotebookArchive(upload.bytes);
-  return createdResponse(
-    await once.create((idempotency) => importNotebookArchive({ contents, teamId, userId: user.id, title: options.title, idempotency })),
-  );
+  return createdResponse(await once.create((idempotency) => importNotebookArchive({ contents, teamId, userId: user.id, title: options.title, idempotency })));
 });

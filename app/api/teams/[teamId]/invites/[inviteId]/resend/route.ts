@@ -11,6 +11,13 @@ type Params = { teamId: string; inviteId: string };
 export const POST = teamRoute<Params>("team:invite", async ({ params: { teamId, inviteId: rawInviteId }, user, team }) => {
   const inviteId = idOrNotFound(rawInviteId, "invite", "That invitation is no longer open.");
   const { token, tokenHash } = createToken();
-  const invite = await resendInviteById({ teamId, inviteId, actorId: user.id, tokenHash, expiresAt: inviteExpiry(), deliver: deliverInvite({ inviter: user, team, token }) });
+  const invite = await resendInviteById({
+    teamId,
+    inviteId,
+    actorId: user.id,
+    tokenHash,
+    expiresAt: inviteExpiry(),
+    deliver: deliverInvite({ inviter: user, team, token }),
+  });
   return Response.json({ invite: inviteView(invite) });
 });
