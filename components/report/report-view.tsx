@@ -473,13 +473,13 @@ export function ReportView({ report, title, teamName, generatedAt }: { report: R
           </div>
         ) : null}
         {report.approvals.length === 0 ? (
-          <div className="hn-report-approval rounded border border-line p-3 text-sm" data-testid="report-approval">
+          <div className="hn-report-approval rounded border border-line p-3 text-sm" data-testid="report-approval-block">
             <p className="font-semibold">Not approved.</p>
             <p className="text-muted">This revision has not been approved by a lead. Its equations are not released for use.</p>
           </div>
         ) : (
           report.approvals.map((approval) => (
-            <div key={approval.id} className="hn-report-approval space-y-1 rounded border-2 border-seal p-3 text-sm" data-testid="report-approval">
+            <div key={approval.id} className="hn-report-approval space-y-1 rounded border-2 border-seal p-3 text-sm" data-testid="report-approval-block">
               <p className="font-semibold text-seal">Approved</p>
               <dl className="grid gap-x-4 gap-y-0.5 sm:grid-cols-[auto_1fr]">
                 <dt className="text-muted">Approved by</dt>
