@@ -57,6 +57,8 @@ export interface NotebookPageProps {
   rowTitle: string;
   /** The review area (lock banner, review panel), shown under the header and kept in step with autosave. */
   review?: ReactNode;
+  /** Approved and locked: the review area's lock banner says so, in place of the read-only note. */
+  locked?: boolean;
 }
 
 interface DerivationRecord {
@@ -401,7 +403,7 @@ export function NotebookPage(props: NotebookPageProps) {
         </ReviewSyncProvider>
       ) : null}
 
-      {!canEdit ? (
+      {!canEdit && !props.locked ? (
         readOnlyReason === "approved" ? (
           <p className="rounded border border-seal/60 bg-seal-soft px-3 py-2 text-sm text-ink" data-testid="read-only-note" data-reason="approved">
             <strong className="font-semibold text-seal">Approved and locked.</strong> This derivation was approved, so it is frozen: a lead of the team can

@@ -54,7 +54,7 @@ export function LockBanner({ derivationId, lock, canUnlock }: { derivationId: st
           .
         </p>
       </div>
-      <div className="flex flex-wrap gap-2">
+      <div className="flex w-full flex-wrap gap-2 pl-8 sm:w-auto sm:pl-0">
         <Link href={reportHref(derivationId, lock.revisionId)} className={buttonClass("secondary", "sm")}>
           Report
         </Link>

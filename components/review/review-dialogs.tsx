@@ -1,6 +1,6 @@
 "use client";
 
-import { useEffect, useId, useState, type FormEvent } from "react";
+import { useId, useState, type FormEvent } from "react";
 import { Button } from "@/components/ui/button";
 import { Dialog } from "@/components/ui/dialog";
 import { inputClass } from "@/components/ui/field";
@@ -81,32 +81,31 @@ function generalError(error: unknown, fields: FieldMessages): string | null {
   return error instanceof Error ? error.message : "That did not work.";
 }
 
-export function RequestReviewDialog({
-  open,
-  data,
-  pending,
-  error,
-  onSubmit,
-  onClose,
-}: {
-  open: boolean;
+interface RequestReviewProps {
   data: ReviewPanelData;
   pending: boolean;
   error: unknown;
   onSubmit: (input: { reviewerIds: string[]; message: string }) => void;
   onClose: () => void;
-}) {
-  const [chosen, setChosen] = useState<string[]>([]);
+}
+
+// Each dialog's form is mounted only while the dialog is open, so it starts afresh every time.
+
+export function RequestReviewDialog({ open, ...props }: RequestReviewProps & { open: boolean }) {
+  return (
+    <Dialog open={open} onClose={props.onClose} title="Request review">
+      <RequestReviewForm {...props} />
+    </Dialog>
+  );
+}
+
+function RequestReviewForm({ data, pending, error, onSubmit, onClose }: RequestReviewProps) {
+  // Asking the same people again is the usual case after changes were requested.
+  const [chosen, setChosen] = useState<string[]>(
+    () => data.request?.reviewers.map((reviewer) => reviewer.id).filter((id) => data.candidates.some((candidate) => candidate.id === id)) ?? [],
+  );
   const [message, setMessage] = useState("");
   const [local, setLocal] = useState<FieldMessages>({});
-  useEffect(() => {
-    if (!open) return;
-    // Asking the same people again is the usual case after changes were requested.
-    const before = data.request?.reviewers.map((reviewer) => reviewer.id).filter((id) => data.candidates.some((candidate) => candidate.id === id)) ?? [];
-    setChosen(before);
-    setMessage("");
-    setLocal({});
-  }, [open, data.request, data.candidates]);
   const fields = { ...fieldMessagesOf(error), ...local };
   const groupId = useId();
 
@@ -119,87 +118,80 @@ export function RequestReviewDialog({
   }
 
   return (
-    <Dialog open={open} onClose={onClose} title="Request review">
-      <form onSubmit={submit} noValidate className="space-y-4" data-testid="request-review-form">
-        {generalError(error, fields) ? <Notice tone="error">{generalError(error, fields)}</Notice> : null}
-        <p className="text-sm text-muted">
-          The current content becomes a revision; the people you choose get an e-mail and a notification. While it is in review you can keep editing, but the
-          lead approves only the latest revision.
-        </p>
-        <fieldset className="space-y-1" aria-describedby={fields.reviewerIds ? `${groupId}-error` : undefined}>
-          <legend className="mb-1 text-sm font-medium">Reviewers and leads</legend>
-          {data.candidates.length === 0 ? (
-            <p className="text-sm text-muted">Nobody else in this team is a reviewer or a lead. A lead can change roles in the team settings.</p>
-          ) : (
-            <ul className="space-y-1">
-              {data.candidates.map((candidate) => (
-                <li key={candidate.id}>
-                  <label className="flex items-center gap-2 text-sm">
-                    <input
-                      type="checkbox"
-                      className="h-4 w-4 accent-[var(--action)]"
-                      checked={chosen.includes(candidate.id)}
-                      onChange={(event) =>
-                        setChosen((current) => (event.target.checked ? [...current, candidate.id] : current.filter((id) => id !== candidate.id)))
-                      }
-                    />
-                    {candidate.name}
-                    <span className="text-xs text-muted">{roleLabels[candidate.role].toLowerCase()}</span>
-                  </label>
-                </li>
-              ))}
-            </ul>
-          )}
-          {fields.reviewerIds ? (
-            <p id={`${groupId}-error`} role="alert" className="text-xs font-medium text-danger">
-              {fields.reviewerIds}
-            </p>
-          ) : null}
-        </fieldset>
-        <TextArea label="Message (optional)" value={message} onChange={setMessage} error={fields.message} hint="What should they look at?" rows={3} />
-        <div className="flex justify-end gap-2">
-          <Button onClick={onClose}>Cancel</Button>
-          <Button type="submit" variant="primary" disabled={pending || data.candidates.length === 0}>
-            {pending ? "Sending…" : "Send request"}
-          </Button>
-        </div>
-      </form>
-    </Dialog>
+    <form onSubmit={submit} noValidate className="space-y-4" data-testid="request-review-form">
+      {generalError(error, fields) ? <Notice tone="error">{generalError(error, fields)}</Notice> : null}
+      <p className="text-sm text-muted">
+        The current content becomes a revision; the people you choose get an e-mail and a notification. While it is in review you can keep editing, but the lead
+        approves only the latest revision.
+      </p>
+      <fieldset className="space-y-1" aria-describedby={fields.reviewerIds ? `${groupId}-error` : undefined}>
+        <legend className="mb-1 text-sm font-medium">Reviewers and leads</legend>
+        {data.candidates.length === 0 ? (
+          <p className="text-sm text-muted">Nobody else in this team is a reviewer or a lead. A lead can change roles in the team settings.</p>
+        ) : (
+          <ul className="space-y-1">
+            {data.candidates.map((candidate) => (
+              <li key={candidate.id}>
+                <label className="flex items-center gap-2 text-sm">
+                  <input
+                    type="checkbox"
+                    className="h-4 w-4 accent-[var(--action)]"
+                    checked={chosen.includes(candidate.id)}
+                    onChange={(event) =>
+                      setChosen((current) => (event.target.checked ? [...current, candidate.id] : current.filter((id) => id !== candidate.id)))
+                    }
+                  />
+                  {candidate.name}
+                  <span className="text-xs text-muted">{roleLabels[candidate.role].toLowerCase()}</span>
+                </label>
+              </li>
+            ))}
+          </ul>
+        )}
+        {fields.reviewerIds ? (
+          <p id={`${groupId}-error`} role="alert" className="text-xs font-medium text-danger">
+            {fields.reviewerIds}
+          </p>
+        ) : null}
+      </fieldset>
+      <TextArea label="Message (optional)" value={message} onChange={setMessage} error={fields.message} hint="What should they look at?" rows={3} />
+      <div className="flex justify-end gap-2">
+        <Button onClick={onClose}>Cancel</Button>
+        <Button type="submit" variant="primary" disabled={pending || data.candidates.length === 0}>
+          {pending ? "Sending…" : "Send request"}
+        </Button>
+      </div>
+    </form>
   );
 }
 
 export type DecisionKind = "signed_off" | "changes_requested";
 
-export function DecisionDialog({
-  decision,
-  revisionNumber,
-  pending,
-  error,
-  onSubmit,
-  onClose,
-}: {
-  decision: DecisionKind | null;
+interface DecisionProps {
   revisionNumber: number | null;
   pending: boolean;
   error: unknown;
   onSubmit: (input: { decision: DecisionKind; comment: string }) => void;
   onClose: () => void;
-}) {
+}
+
+export function DecisionDialog({ decision, ...props }: DecisionProps & { decision: DecisionKind | null }) {
+  return (
+    <Dialog open={decision !== null} onClose={props.onClose} title={decision === "changes_requested" ? "Request changes" : "Sign off"}>
+      {decision ? <DecisionForm decision={decision} {...props} /> : null}
+    </Dialog>
+  );
+}
+
+function DecisionForm({ decision, revisionNumber, pending, error, onSubmit, onClose }: DecisionProps & { decision: DecisionKind }) {
   const [comment, setComment] = useState("");
   const [local, setLocal] = useState<FieldMessages>({});
-  useEffect(() => {
-    if (decision) {
-      setComment("");
-      setLocal({});
-    }
-  }, [decision]);
   const fields = { ...fieldMessagesOf(error), ...local };
   const changes = decision === "changes_requested";
   const revision = revisionNumber !== null ? `revision ${revisionNumber}` : "this revision";
 
   function submit(event: FormEvent) {
     event.preventDefault();
-    if (!decision) return;
     const parsed = reviewDecisionSchema.safeParse({ decision, comment });
     if (!parsed.success) return setLocal(firstIssues(parsed.error.issues));
     setLocal({});
@@ -207,30 +199,28 @@ export function DecisionDialog({
   }
 
   return (
-    <Dialog open={decision !== null} onClose={onClose} title={changes ? "Request changes" : "Sign off"}>
-      <form onSubmit={submit} noValidate className="space-y-4" data-testid="decision-form">
-        {generalError(error, fields) ? <Notice tone="error">{generalError(error, fields)}</Notice> : null}
-        <p className="text-sm text-muted">
-          {changes
-            ? `Say what needs to change in ${revision}. The derivation goes back to draft; the author fixes it and asks again.`
-            : `You confirm you checked ${revision}. A lead approves it afterwards.`}
-        </p>
-        <TextArea
-          label={changes ? "What needs to change" : "Comment (optional)"}
-          value={comment}
-          onChange={setComment}
-          error={fields.comment}
-          autoFocus
-          rows={changes ? 5 : 3}
-        />
-        <div className="flex justify-end gap-2">
-          <Button onClick={onClose}>Cancel</Button>
-          <Button type="submit" variant={changes ? "danger" : "primary"} disabled={pending}>
-            {pending ? "Sending…" : changes ? "Request changes" : "Sign off"}
-          </Button>
-        </div>
-      </form>
-    </Dialog>
+    <form onSubmit={submit} noValidate className="space-y-4" data-testid="decision-form">
+      {generalError(error, fields) ? <Notice tone="error">{generalError(error, fields)}</Notice> : null}
+      <p className="text-sm text-muted">
+        {changes
+          ? `Say what needs to change in ${revision}. The derivation goes back to draft; the author fixes it and asks again.`
+          : `You confirm you checked ${revision}. A lead approves it afterwards.`}
+      </p>
+      <TextArea
+        label={changes ? "What needs to change" : "Comment (optional)"}
+        value={comment}
+        onChange={setComment}
+        error={fields.comment}
+        autoFocus
+        rows={changes ? 5 : 3}
+      />
+      <div className="flex justify-end gap-2">
+        <Button onClick={onClose}>Cancel</Button>
+        <Button type="submit" variant={changes ? "danger" : "primary"} disabled={pending}>
+          {pending ? "Sending…" : changes ? "Request changes" : "Sign off"}
+        </Button>
+      </div>
+    </form>
   );
 }
 
@@ -271,29 +261,25 @@ export function ApproveDialog({
   );
 }
 
-export function UnlockDialog({
-  open,
-  revisionNumber,
-  pending,
-  error,
-  onSubmit,
-  onClose,
-}: {
-  open: boolean;
+interface UnlockProps {
   revisionNumber: number | null;
   pending: boolean;
   error: unknown;
   onSubmit: (reason: string) => void;
   onClose: () => void;
-}) {
+}
+
+export function UnlockDialog({ open, ...props }: UnlockProps & { open: boolean }) {
+  return (
+    <Dialog open={open} onClose={props.onClose} title="Unlock for changes">
+      <UnlockForm {...props} />
+    </Dialog>
+  );
+}
+
+function UnlockForm({ revisionNumber, pending, error, onSubmit, onClose }: UnlockProps) {
   const [reason, setReason] = useState("");
   const [local, setLocal] = useState<FieldMessages>({});
-  useEffect(() => {
-    if (open) {
-      setReason("");
-      setLocal({});
-    }
-  }, [open]);
   const fields = { ...fieldMessagesOf(error), ...local };
 
   function submit(event: FormEvent) {
@@ -305,28 +291,26 @@ export function UnlockDialog({
   }
 
   return (
-    <Dialog open={open} onClose={onClose} title="Unlock for changes">
-      <form onSubmit={submit} noValidate className="space-y-4" data-testid="unlock-form">
-        {generalError(error, fields) ? <Notice tone="error">{generalError(error, fields)}</Notice> : null}
-        <p className="text-sm text-muted">
-          Unlocking returns the derivation to draft so it can be changed. The approval of{" "}
-          {revisionNumber !== null ? `revision ${revisionNumber}` : "the locked revision"} stays in the history, with your name, the time and your reason.
-        </p>
-        <TextArea
-          label="Reason for unlocking"
-          value={reason}
-          onChange={setReason}
-          error={fields.reason}
-          autoFocus
-          hint="At least a sentence; it is kept on record."
-        />
-        <div className="flex justify-end gap-2">
-          <Button onClick={onClose}>Cancel</Button>
-          <Button type="submit" variant="danger" disabled={pending}>
-            {pending ? "Unlocking…" : "Unlock"}
-          </Button>
-        </div>
-      </form>
-    </Dialog>
+    <form onSubmit={submit} noValidate className="space-y-4" data-testid="unlock-form">
+      {generalError(error, fields) ? <Notice tone="error">{generalError(error, fields)}</Notice> : null}
+      <p className="text-sm text-muted">
+        Unlocking returns the derivation to draft so it can be changed. The approval of{" "}
+        {revisionNumber !== null ? `revision ${revisionNumber}` : "the locked revision"} stays in the history, with your name, the time and your reason.
+      </p>
+      <TextArea
+        label="Reason for unlocking"
+        value={reason}
+        onChange={setReason}
+        error={fields.reason}
+        autoFocus
+        hint="At least a sentence; it is kept on record."
+      />
+      <div className="flex justify-end gap-2">
+        <Button onClick={onClose}>Cancel</Button>
+        <Button type="submit" variant="danger" disabled={pending}>
+          {pending ? "Unlocking…" : "Unlock"}
+        </Button>
+      </div>
+    </form>
   );
 }

@@ -43,10 +43,10 @@ function Summary({ data }: { data: ReviewPanelData }) {
   const request = data.request;
   const revision = (number: number | null) => (number !== null ? `revision ${number}` : "a revision");
   if (data.lock) {
+    // The lock banner above names the approval; here, only where the review stands.
     return (
       <p>
-        <strong className="font-semibold text-seal">Approved</strong> — {revision(data.lock.revisionNumber)} by {data.lock.approvedByName ?? "a former member"},{" "}
-        {formatRecordTime(data.lock.approvedAt)}.
+        <strong className="font-semibold text-seal">Approved</strong> — the review of {revision(data.lock.revisionNumber)} is closed.
       </p>
     );
   }
@@ -146,7 +146,7 @@ export function ReviewPanel({ data }: { data: ReviewPanelData }) {
   return (
     <section className="rounded border border-line bg-surface text-sm" aria-label="Review and approval" data-testid="review-panel" data-status={data.status}>
       <div className="flex flex-wrap items-center gap-x-4 gap-y-2 px-3 py-2">
-        <div className="min-w-0 flex-1" data-testid="review-summary">
+        <div className="min-w-0 flex-1 basis-full sm:basis-0" data-testid="review-summary">
           <Summary data={data} />
         </div>
         <nav className="flex flex-wrap items-center gap-2" aria-label="History and report">

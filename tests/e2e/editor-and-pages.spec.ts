@@ -82,12 +82,13 @@ test("at 390 px, the notebook's equations and tables scroll inside their boxes, 
   expect(await pageOverflow(page)).toBeLessThanOrEqual(0);
   await keepScreenshot(page, "dashboard-phone");
 
-  // The approved crane model: locked for an analyst, and the note says so.
+  // The approved crane model: locked for an analyst, and the lock banner says so (in place of the read-only note).
   await page.getByRole("link", { name: "Gantry crane: trolley with swinging load" }).click();
   const notebook = new NotebookPage(page);
   await notebook.expectOpen();
-  await expect(page.getByTestId("read-only-note")).toHaveAttribute("data-reason", "approved");
-  await expect(page.getByTestId("read-only-note")).toContainText("Approved and locked");
+  await expect(page.getByTestId("read-only-badge")).toHaveAttribute("data-reason", "approved");
+  await expect(page.getByTestId("lock-banner")).toContainText("Approved and locked");
+  await expect(page.getByTestId("read-only-note")).toHaveCount(0);
   await notebook.evaluate();
   expect(await pageOverflow(page)).toBeLessThanOrEqual(0);
   await keepScreenshot(page, "notebook-approved-phone");

@@ -135,6 +135,23 @@ describe("NotebookPage", () => {
     expect(screen.getByTestId("read-only-badge").textContent).toBe("Read-only for reviewers");
   });
 
+  it("lets the review area's lock banner stand in for the read-only note when locked", () => {
+    stubFetch(() => ({ status: 200, body: { cached: true, modelHash: "h", result: { equations: [] }, timings: {}, requestMs: 3, evaluatedAt: UPDATED } }));
+    renderPage(
+      props({
+        canEdit: false,
+        canRename: false,
+        status: "approved",
+        readOnlyReason: "approved",
+        locked: true,
+        review: <p data-testid="review-area">Locked at revision 2</p>,
+      }),
+    );
+    expect(screen.getByTestId("review-area").textContent).toBe("Locked at revision 2");
+    expect(screen.queryByTestId("read-only-note")).toBeNull();
+    expect(screen.getByTestId("read-only-badge").textContent).toBe("Read-only: approved and locked");
+  });
+
   it("keeps one h1, holding the editable title", () => {
     stubFetch(() => ({ status: 200, body: { updatedAt: UPDATED } }));
     renderPage(props());

@@ -66,6 +66,7 @@ export default async function DerivationPage({ params }: { params: Promise<{ id:
         rowTitle={derivation.title}
         uploadLimits={{ csvBytes: env.UPLOAD_MAX_CSV_BYTES, imageBytes: env.UPLOAD_MAX_IMAGE_BYTES }}
         review={<DerivationReview data={review} />}
+        locked={locked}
       />
     </>
   );

@@ -1,5 +1,6 @@
 import type { Metadata } from "next";
 import Link from "next/link";
+import { CurrentTeam } from "@/components/current-team";
 import { CheckpointForm, RestoreButton } from "@/components/history/history-actions";
 import { buttonClass } from "@/components/ui/button";
 import { inputClass } from "@/components/ui/field";
@@ -40,6 +41,7 @@ export default async function HistoryPage({ params }: { params: Promise<{ id: st
 
   return (
     <div className="space-y-6" data-testid="history-page">
+      <CurrentTeam teamId={derivation.teamId} />
       <div className="space-y-1">
         <Link href={`/derivations/${derivation.id}`} className="text-sm text-action hover:underline">
           ← Back to the notebook
@@ -49,7 +51,8 @@ export default async function HistoryPage({ params }: { params: Promise<{ id: st
           <StatusBadge status={derivation.status} />
         </div>
         <p className="text-sm text-muted">
-          {derivation.title}: every revision is a full copy of the notebook with the SHA-256 of its content. Revisions are never rewritten; a restore adds one.
+          <strong className="font-medium text-ink">{derivation.title}</strong>: every revision is a full copy of the notebook with the SHA-256 of its content.
+          Revisions are never rewritten; a restore adds one.
         </p>
       </div>
 

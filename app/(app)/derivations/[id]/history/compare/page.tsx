@@ -1,6 +1,7 @@
 import "katex/dist/katex.min.css";
 import type { Metadata } from "next";
 import Link from "next/link";
+import { CurrentTeam } from "@/components/current-team";
 import { Suspense } from "react";
 import { ParameterDiffTable } from "@/components/history/parameter-diff-table";
 import { TermDiffView } from "@/components/history/term-diff-view";
@@ -106,10 +107,14 @@ export default async function CompareRevisionsPage({ params, searchParams }: { p
   const comparison = loaded?.comparison ?? null;
   const changedCells = comparison?.cells.filter((cell) => cell.status !== "unchanged" && cell.kind !== "parameters") ?? [];
   const unchangedCells = comparison?.cells.filter((cell) => cell.status === "unchanged" && cell.kind !== "parameters") ?? [];
-  const parameterChanges = comparison?.parameters.filter((change) => change.status !== "unchanged").length ?? 0;
+  const parameterCounts = (["added", "removed", "changed"] as const)
+    .map((status) => [status, comparison?.parameters.filter((change) => change.status === status).length ?? 0] as const)
+    .filter(([, count]) => count > 0);
+  const parameterSummary = parameterCounts.length > 0 ? `parameters: ${parameterCounts.map(([status, count]) => `${count} ${status}`).join(", ")}` : "";
 
   return (
     <div className="space-y-6" data-testid="compare-page">
+      <CurrentTeam teamId={derivation.teamId} />
       <div className="space-y-1">
         <Link href={historyHref} className="text-sm text-action hover:underline">
           ← History
@@ -166,7 +171,7 @@ export default async function CompareRevisionsPage({ params, searchParams }: { p
               : [
                   comparison.title.changed ? "title changed" : "",
                   changedCells.length ? `${changedCells.length} cell${changedCells.length === 1 ? "" : "s"} changed` : "",
-                  parameterChanges ? `${parameterChanges} parameter${parameterChanges === 1 ? "" : "s"} changed` : "",
+                  parameterSummary,
                   comparison.moved ? "cells reordered" : "",
                 ]
                   .filter(Boolean)

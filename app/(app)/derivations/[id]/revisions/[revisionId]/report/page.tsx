@@ -3,6 +3,7 @@ import "@/components/notebook/notebook.css";
 import "./report.css";
 import type { Metadata } from "next";
 import Link from "next/link";
+import { CurrentTeam } from "@/components/current-team";
 import { PrintButton } from "@/components/report/report-client";
 import { ReportView } from "@/components/report/report-view";
 import { getTeamById } from "@/db/queries/teams";
@@ -28,6 +29,7 @@ export default async function RevisionReportPage({ params }: { params: Promise<{
 
   return (
     <div className="mx-auto max-w-4xl space-y-4">
+      <CurrentTeam teamId={derivation.teamId} />
       <nav className="flex flex-wrap items-center gap-3 text-sm print:hidden" aria-label="Report">
         <Link href={`/derivations/${derivation.id}`} className="text-action hover:underline">
           ← Notebook
