@@ -53,7 +53,8 @@ function timeDerivativeIn(dt: Derivation, p: Poly, field: string): Poly {
   try {
     return dt.apply(p);
   } catch (error) {
-    if (error instanceof RateUnavailableError) throw new ModelError("unsupported", field, `the constraint's rate needs the rate of ${error.what}, which the model does not define`);
+    if (error instanceof RateUnavailableError)
+      throw new ModelError("unsupported", field, `the constraint's rate needs the rate of ${error.what}, which the model does not define`);
     throw error;
   }
 }
@@ -83,7 +84,11 @@ export function canonicalConstraint(
   const jacobian = space.rates.map((r) => partialDerivative(alg, r).apply(expr));
   jacobian.forEach((a, j) => {
     if (space.rates.some((r) => alg.dependsOn(a, r))) {
-      throw new ModelError("unsupported", field, `the constraint is not linear in the rates: its coefficient of ${space.entry(space.rates[j]!).name}' depends on a rate`);
+      throw new ModelError(
+        "unsupported",
+        field,
+        `the constraint is not linear in the rates: its coefficient of ${space.entry(space.rates[j]!).name}' depends on a rate`,
+      );
     }
   });
   if (jacobian.every((a) => a.size === 0)) {

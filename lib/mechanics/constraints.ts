@@ -166,7 +166,11 @@ export function compileConstrainedSystem(system: ConstrainedSystem): CompiledCon
     ...multipliers,
   ];
   const options = { constants: system.parameters };
-  const core = compileExpressions([...system.massMatrix.flat(), ...system.forcing, ...constraints.flatMap((c) => c.jacobian), ...constraints.map((c) => c.bias)], variables, options);
+  const core = compileExpressions(
+    [...system.massMatrix.flat(), ...system.forcing, ...constraints.flatMap((c) => c.jacobian), ...constraints.map((c) => c.bias)],
+    variables,
+    options,
+  );
   const values = compileExpressions(
     constraints.map((c) => c.expr),
     variables,
@@ -185,7 +189,14 @@ export function compileConstrainedSystem(system: ConstrainedSystem): CompiledCon
   const lu = N > 0 ? createLuWorkspace(N) : null;
   const rhs = new Float64Array(N);
 
-  const load = (q: ArrayLike<number>, rates: ArrayLike<number> | null, t: number, u: ArrayLike<number> | undefined, accelerations?: ArrayLike<number>, lambdas?: ArrayLike<number>) => {
+  const load = (
+    q: ArrayLike<number>,
+    rates: ArrayLike<number> | null,
+    t: number,
+    u: ArrayLike<number> | undefined,
+    accelerations?: ArrayLike<number>,
+    lambdas?: ArrayLike<number>,
+  ) => {
     slots.fill(0);
     for (let i = 0; i < n; i++) {
       slots[i] = q[i]!;
@@ -279,7 +290,13 @@ export function compileConstrainedSystem(system: ConstrainedSystem): CompiledCon
           : inconsistent
             ? `"${c.name}" contradicts ${names.join(", ")} at this state: its row of the constraint matrix is a combination of theirs but its value is not`
             : `"${c.name}" is redundant with ${names.join(", ")} at this state: its row of the constraint matrix is a combination of theirs`;
-      return { index: found.index, name: c.name, kind: inconsistent ? "inconsistent" : "redundant", combinationOf: found.combinationOf.map((i) => constraints[i]!.name), message };
+      return {
+        index: found.index,
+        name: c.name,
+        kind: inconsistent ? "inconsistent" : "redundant",
+        combinationOf: found.combinationOf.map((i) => constraints[i]!.name),
+        message,
+      };
     },
   };
 

@@ -275,7 +275,9 @@ function constraintResults(canonical: CanonicalDerivation, model: Model): Constr
       bias: polyToExpr(space, c.bias),
       unit: units[c.symbol] ?? "",
     };
-    return closed.multiplier === null ? { ...base, multiplier: null, display: null, reason: closed.reason } : { ...base, multiplier: closed.multiplier, display: closed.display };
+    return closed.multiplier === null
+      ? { ...base, multiplier: null, display: null, reason: closed.reason }
+      : { ...base, multiplier: closed.multiplier, display: closed.display };
   });
 }
 
@@ -304,7 +306,12 @@ export function deriveCanonical(model: Model, options: DeriveOptions = {}): Cano
   const forces = model.coordinates.map((c) => canonicalOf(analysis.forces.get(c.name), `forces.${c.name}`));
   const constraintSpecs = [
     ...(model.constraints ?? []).map((c, i) => ({ name: c.name, kind: "position" as const, field: `constraints[${i}].expr`, tree: analysis.constraints[i]! })),
-    ...(model.rateConstraints ?? []).map((c, i) => ({ name: c.name, kind: "rate" as const, field: `rateConstraints[${i}].expr`, tree: analysis.rateConstraints[i]! })),
+    ...(model.rateConstraints ?? []).map((c, i) => ({
+      name: c.name,
+      kind: "rate" as const,
+      field: `rateConstraints[${i}].expr`,
+      tree: analysis.rateConstraints[i]!,
+    })),
   ];
   const constraintPolys = constraintSpecs.map((c) => canonicalOf(c.tree, c.field));
   // Multipliers are unknown functions of time, like inputs; only outputs may name them.
@@ -316,7 +323,11 @@ export function deriveCanonical(model: Model, options: DeriveOptions = {}): Cano
     return { symbol, id };
   });
   const outputResolve = makeResolver(alg, dt, new Map([...parameters, ...multipliers]), coordinates, definitions);
-  const outputs = (model.outputs ?? []).map((o, i) => ({ name: o.name, unit: o.unit, expr: convert(alg, analysis.outputs[i]!, `outputs[${i}].expr`, outputResolve) }));
+  const outputs = (model.outputs ?? []).map((o, i) => ({
+    name: o.name,
+    unit: o.unit,
+    expr: convert(alg, analysis.outputs[i]!, `outputs[${i}].expr`, outputResolve),
+  }));
   const canonicalMs = now() - start;
 
   const lagrangian = alg.sub(kinetic, potential);
@@ -345,7 +356,9 @@ export function deriveCanonical(model: Model, options: DeriveOptions = {}): Cano
     residuals.push(residual);
   }
 
-  const constraints = constraintSpecs.map((c, k) => canonicalConstraint(alg, dt, { name: c.name, kind: c.kind, field: c.field, ...constraintIds[k]! }, constraintPolys[k]!));
+  const constraints = constraintSpecs.map((c, k) =>
+    canonicalConstraint(alg, dt, { name: c.name, kind: c.kind, field: c.field, ...constraintIds[k]! }, constraintPolys[k]!),
+  );
 
   // Mass-matrix form: residual = Σ_j M_ij q_j'' − f_i.
   const massMatrix: Poly[][] = residuals.map((r, i) =>

@@ -255,13 +255,16 @@ export function exportStateSpace(ss: StateSpace, format: StateSpaceFormat, title
     case "csv": {
       const quote = (text: string) => (/[",\n]/.test(text) ? `"${text.replace(/"/g, '""')}"` : text);
       const lines = ["matrix,row,column,value"];
-      for (const [name, M, rows, cols] of matrices) M.forEach((row, r) => row.forEach((x, k) => lines.push(`${name},${quote(rows[r]!)},${quote(cols[k]!)},${x}`)));
+      for (const [name, M, rows, cols] of matrices)
+        M.forEach((row, r) => row.forEach((x, k) => lines.push(`${name},${quote(rows[r]!)},${quote(cols[k]!)},${x}`)));
       return `${lines.join("\n")}\n`;
     }
     case "python": {
       const tuple = (names: string[]) => `(${names.map((x) => JSON.stringify(x)).join(", ")}${names.length === 1 ? "," : ""})`;
       const array = (M: number[][], rows: number, cols: number) =>
-        rows === 0 || cols === 0 ? `np.zeros((${rows}, ${cols}))` : `np.array([\n${M.map((row) => `    [${row.map(doubleLiteral).join(", ")}],`).join("\n")}\n], dtype=float)`;
+        rows === 0 || cols === 0
+          ? `np.zeros((${rows}, ${cols}))`
+          : `np.array([\n${M.map((row) => `    [${row.map(doubleLiteral).join(", ")}],`).join("\n")}\n], dtype=float)`;
       return `${header.map((l) => `# ${l}`).join("\n")}
 import numpy as np
 

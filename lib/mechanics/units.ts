@@ -295,7 +295,11 @@ export function checkModelUnits(model: Model, equations?: readonly { coordinate:
     const declared = parseUnit(o.unit, `outputs[${i}].unit`);
     const unit = infer(o.expr, `outputs[${i}].expr`);
     if (unit !== null && !sameDimension(unit, declared)) {
-      throw new ModelError("unit_mismatch", `outputs[${i}].expr`, `the output "${o.name}" has unit ${formatDimension(unit)} but its unit is given as ${formatDimension(declared)}`);
+      throw new ModelError(
+        "unit_mismatch",
+        `outputs[${i}].expr`,
+        `the output "${o.name}" has unit ${formatDimension(unit)} but its unit is given as ${formatDimension(declared)}`,
+      );
     }
   });
   (equations ?? []).forEach((equation, i) => {

@@ -158,7 +158,8 @@ function checkSizes(input: unknown, limits: ModelLimits, report: Report): void {
   for (const key of ["constraints", "rateConstraints", "outputs"]) {
     const list = record[key];
     if (Array.isArray(list)) {
-      if (list.length > limits.maxConstraints) report(new ModelError("too_large", key, `at most ${limits.maxConstraints} ${key} are allowed (found ${list.length})`));
+      if (list.length > limits.maxConstraints)
+        report(new ModelError("too_large", key, `at most ${limits.maxConstraints} ${key} are allowed (found ${list.length})`));
       for (const c of list) if (c && typeof c === "object") add((c as Record<string, unknown>).expr);
     }
   }
@@ -291,7 +292,10 @@ function analyze(model: Model, report: Report): ModelAnalysis | null {
       const found = derivativeOrder(tree, definitionIndex, definitionOrderOf);
       const allowed = key === "constraints" ? 0 : 1;
       if (found.order > allowed) {
-        const what = key === "constraints" ? "a position constraint may not depend on rates (write it under rateConstraints)" : "a rate constraint may not depend on accelerations";
+        const what =
+          key === "constraints"
+            ? "a position constraint may not depend on rates (write it under rateConstraints)"
+            : "a rate constraint may not depend on accelerations";
         problem(new ModelError("unsupported", `${field}.expr`, what, found.node!.start + 1, found.node!.end - found.node!.start));
       }
       walk(tree, (node) => {
