@@ -9,6 +9,7 @@ import { createHash } from "node:crypto";
 import { fileBaseName } from "@/lib/files/names";
 import type { CodeExportInput, CodeLanguage } from "@/lib/mechanics/codegen";
 import type { MassMatrixSystem } from "@/lib/mechanics/compile";
+import { multiplierSymbol } from "@/lib/mechanics/constraints";
 import type { Equilibrium } from "@/lib/mechanics/equilibria";
 import { symbolLatex, type LatexTerm } from "@/lib/mechanics/latex";
 import { matchEigenvalues, type Linearization } from "@/lib/mechanics/linearize";
@@ -170,6 +171,10 @@ export function mechanicalSystemOf(
 ): MassMatrixSystem | { reason: string } {
   const symbolic = model.parameters.filter((p) => p.value === undefined).map((p) => p.name);
   if (symbolic.length > 0) return { reason: `Give ${symbolic.join(", ")} a value to find equilibria and linearize.` };
+  // The forcing of a constrained model holds its multipliers, which only the augmented system fixes.
+  if ((model.constraints ?? []).length + (model.rateConstraints ?? []).length > 0) {
+    return { reason: "Equilibria and linearization are not computed for a model with constraints; simulate it to see the constraint loads." };
+  }
   return {
     coordinates: result.coordinates,
     coordinateUnits: model.coordinates.map((c) => c.unit),
@@ -301,7 +306,12 @@ export function codeExportInput(model: Model, result: Pick<PrintedDerivation, "c
     title: model.title,
     coordinates: result.coordinates,
     parameters: model.parameters.map((p) => ({ name: p.name, unit: p.unit, ...(p.value !== undefined ? { value: p.value } : {}) })),
-    inputs: (model.inputs ?? []).map((u) => u.name),
+    // A constrained model's multipliers (lambda_<name>, mu_<name>) are arguments after the inputs.
+    inputs: [
+      ...(model.inputs ?? []).map((u) => u.name),
+      ...(model.constraints ?? []).map((c) => multiplierSymbol("position", c.name)),
+      ...(model.rateConstraints ?? []).map((c) => multiplierSymbol("rate", c.name)),
+    ],
     massMatrix: result.massMatrix,
     forcing: result.forcing,
   };
