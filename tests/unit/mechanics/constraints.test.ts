@@ -67,16 +67,46 @@ const verticalDisk: Model = {
   ],
 };
 
+/** A four-bar linkage, a closed loop: crank th1 (driven by tau), coupler th2, rocker th3, uniform bars. */
+const fourBar: Model = {
+  title: "Four-bar linkage",
+  coordinates: [coord("th1", "rad"), coord("th2", "rad"), coord("th3", "rad")],
+  parameters: [
+    param("a", "m", 0.2),
+    param("b", "m", 0.6),
+    param("c", "m", 0.45),
+    param("d", "m", 0.5),
+    param("m1", "kg", 1),
+    param("m2", "kg", 2),
+    param("m3", "kg", 1.5),
+    param("g", "m/s^2", 9.81),
+  ],
+  inputs: [{ name: "tau", unit: "N*m" }],
+  definitions: [
+    { name: "xc", expr: "a*cos(th1) + b/2*cos(th2)" },
+    { name: "yc", expr: "a*sin(th1) + b/2*sin(th2)" },
+  ],
+  kinetic: "m1*a^2/6*th1'^2 + m2/2*(xc'^2 + yc'^2) + m2*b^2/24*th2'^2 + m3*c^2/6*th3'^2",
+  potential: "m1*g*a/2*sin(th1) + m2*g*yc + m3*g*c/2*sin(th3)",
+  forces: { th1: "tau" },
+  constraints: [
+    { name: "loop_x", expr: "a*cos(th1) + b*cos(th2) - c*cos(th3) - d" },
+    { name: "loop_y", expr: "a*sin(th1) + b*sin(th2) - c*sin(th3)" },
+  ],
+  outputs: [{ name: "pin_load", expr: "sqrt(lambda_loop_x^2 + lambda_loop_y^2)", unit: "N" }],
+};
+
 function compiled(model: Model): { printed: PrintedDerivation; system: CompiledConstrainedSystem } {
   const printed = printDerivation(deriveModel(validateModel(model)));
   const parameters = Object.fromEntries(model.parameters.map((p) => [p.name, p.value!]));
-  return { printed, system: compileConstrainedSystem(constrainedSystemOf(printed, parameters)) };
+  const inputs = (model.inputs ?? []).map((i) => i.name);
+  return { printed, system: compileConstrainedSystem(constrainedSystemOf(printed, parameters, inputs)) };
 }
 
 /** Closed-form multipliers evaluated at a state, through the compiled (never eval'd) expressions. */
-function closedForm(model: Model, printed: PrintedDerivation, q: number[], rates: number[], t = 0): number[] {
+function closedForm(model: Model, printed: PrintedDerivation, q: number[], rates: number[], t = 0, u: number[] = []): number[] {
   const names = printed.coordinates;
-  const variables = [...names, ...names.map((n) => `${n}'`), "t"];
+  const variables = [...names, ...names.map((n) => `${n}'`), "t", ...(model.inputs ?? []).map((i) => i.name)];
   const parameters = Object.fromEntries(model.parameters.map((p) => [p.name, p.value!]));
   const evaluator = compileExpressions(
     printed.constraints.map((c) => c.multiplier!),
@@ -84,12 +114,29 @@ function closedForm(model: Model, printed: PrintedDerivation, q: number[], rates
     { constants: parameters },
   );
   const out = new Float64Array(printed.constraints.length);
-  evaluator.evaluate([...q, ...rates, t], out);
+  evaluator.evaluate([...q, ...rates, t, ...u], out);
   return Array.from(out);
 }
 
 /** Random states that satisfy each example's constraints (positions and rates). */
-const consistent: Record<string, (random: () => number) => { q: number[]; rates: number[] }> = {
+const consistent: Record<string, (random: () => number, system?: CompiledConstrainedSystem) => { q: number[]; rates: number[] }> = {
+  fourBar(random, system) {
+    // th1 and th1' at random; th2, th3 by Newton on the loop, their rates from A q' = 0.
+    const q = [uniform(random, -3, 3), 1, 2];
+    for (let iteration = 0; iteration < 50; iteration++) {
+      const g = system!.positionResiduals(q, 0);
+      const A = system!.jacobian(q, 0);
+      const det = A[0]![1]! * A[1]![2]! - A[0]![2]! * A[1]![1]!;
+      q[1]! -= (A[1]![2]! * g[0]! - A[0]![2]! * g[1]!) / det;
+      q[2]! -= (A[0]![1]! * g[1]! - A[1]![1]! * g[0]!) / det;
+    }
+    const A = system!.jacobian(q, 0);
+    const w = uniform(random, -3, 3);
+    const det = A[0]![1]! * A[1]![2]! - A[0]![2]! * A[1]![1]!;
+    const r0 = -A[0]![0]! * w;
+    const r1 = -A[1]![0]! * w;
+    return { q, rates: [w, (A[1]![2]! * r0 - A[0]![2]! * r1) / det, (A[0]![1]! * r1 - A[1]![1]! * r0) / det] };
+  },
   pendulum(random) {
     const l = 0.8;
     const theta = uniform(random, -3, 3);
@@ -119,11 +166,9 @@ describe("constraints: published checks", () => {
   it("the Cartesian pendulum moves like the angle form, and its multiplier gives the rod tension", () => {
     const { printed, system } = compiled(cartesianPendulum);
     const angle = deriveModel(validateModel(anglePendulum));
-    const thetaDdot = compileExpressions(
-      [(angle.accelerations as { expr: import("@/lib/mechanics/expr/ast").Expr }[])[0]!.expr],
-      ["theta", "theta'"],
-      { constants: { m: 1.3, g: 9.81, l: 0.8 } },
-    );
+    const thetaDdot = compileExpressions([(angle.accelerations as { expr: import("@/lib/mechanics/expr/ast").Expr }[])[0]!.expr], ["theta", "theta'"], {
+      constants: { m: 1.3, g: 9.81, l: 0.8 },
+    });
     const random = mulberry32(3);
     const [m, g, l] = [1.3, 9.81, 0.8];
     for (let k = 0; k < 20; k++) {
@@ -222,18 +267,20 @@ describe("constraints: closed form against the numeric augmented solve", () => {
     ["atwood", atwood],
     ["hoop", hoop],
     ["disk", verticalDisk],
+    ["fourBar", fourBar],
   ];
   it.each(examples)("%s: every closed-form multiplier agrees at random consistent states", (key, model) => {
     const { printed, system } = compiled(model);
     expect(printed.constraints.every((c) => c.multiplier !== null)).toBe(true);
     const random = mulberry32(17);
     for (let k = 0; k < 12; k++) {
-      const { q, rates } = consistent[key]!(random);
+      const { q, rates } = consistent[key]!(random, system);
+      const u = (model.inputs ?? []).map(() => uniform(random, -2, 2));
       // The constraints hold at the state (position and rate level).
       for (const r of system.positionResiduals(q, 0)) expect(Math.abs(r)).toBeLessThan(1e-12);
       for (const r of system.rateResiduals(q, rates, 0)) expect(Math.abs(r)).toBeLessThan(1e-9);
-      const numeric = system.solve(q, rates, 0).multipliers;
-      const closed = closedForm(model, printed, q, rates);
+      const numeric = system.solve(q, rates, 0, u).multipliers;
+      const closed = closedForm(model, printed, q, rates, 0, u);
       // Consistency of two computations of one quantity (no published value needed).
       closed.forEach((value, i) => expect(value).toBeCloseTo(numeric[i]!, 8));
     }
@@ -275,7 +322,9 @@ describe("constraints: validation and independence", () => {
   const issues = (model: unknown) => collectModelIssues(model).issues.map((e) => `${e.field}: ${e.message}`);
 
   it("refuses duplicate constraint and output names and names clashing with a multiplier", () => {
-    expect(issues({ ...atwood, constraints: [atwood.constraints![0], atwood.constraints![0]] })).toEqual(['constraints[1].name: "rope" is already the name of constraints[0]']);
+    expect(issues({ ...atwood, constraints: [atwood.constraints![0], atwood.constraints![0]] })).toEqual([
+      'constraints[1].name: "rope" is already the name of constraints[0]',
+    ]);
     expect(issues({ ...hoop, outputs: [hoop.outputs![0], hoop.outputs![0]] })).toEqual(['outputs[1].name: "friction" is already the name of an output']);
     expect(issues({ ...atwood, parameters: [...atwood.parameters, param("lambda_rope", "N", 1)] })).toEqual([
       'constraints[0].name: its multiplier "lambda_rope" is already declared as a parameter',
@@ -286,7 +335,9 @@ describe("constraints: validation and independence", () => {
     expect(issues({ ...atwood, constraints: [{ name: "rope", expr: "y1' + y2'" }] })).toEqual([
       "constraints[0].expr: a position constraint may not depend on rates (write it under rateConstraints)",
     ]);
-    expect(issues({ ...atwood, inputs: [coord("F", "N")], constraints: [{ name: "rope", expr: "y1 + y2 - F/m1*1" }] })[0]).toMatch(/may not depend on the input "F"/);
+    expect(issues({ ...atwood, inputs: [coord("F", "N")], constraints: [{ name: "rope", expr: "y1 + y2 - F/m1*1" }] })[0]).toMatch(
+      /may not depend on the input "F"/,
+    );
     expect(issues({ ...hoop, outputs: [{ name: "f", expr: "mu_slip", unit: "N" }] })).toEqual(['outputs[0].expr: unknown symbol "mu_slip"']);
   });
 
@@ -326,7 +377,10 @@ describe("constraints: validation and independence", () => {
     const rows = (other: string) =>
       compileConstrainedSystem({
         coordinates: ["x", "y"],
-        massMatrix: [["1", "0"], ["0", "1"]],
+        massMatrix: [
+          ["1", "0"],
+          ["0", "1"],
+        ],
         forcing: ["lambda_a + lambda_b", "0"],
         parameters: {},
         constraints: [
@@ -342,7 +396,18 @@ describe("constraints: validation and independence", () => {
     } catch (error) {
       expect((error as ModelError).field).toBe("constraints[1]");
     }
-    expect(findDependentRow([[1, 0], [0, 1]])).toBeNull();
-    expect(findDependentRow([[1, 1, 0], [0, 1, 1], [1, 2, 1]])).toMatchObject({ index: 2, combinationOf: [0, 1] });
+    expect(
+      findDependentRow([
+        [1, 0],
+        [0, 1],
+      ]),
+    ).toBeNull();
+    expect(
+      findDependentRow([
+        [1, 1, 0],
+        [0, 1, 1],
+        [1, 2, 1],
+      ]),
+    ).toMatchObject({ index: 2, combinationOf: [0, 1] });
   });
 });
