@@ -38,6 +38,8 @@ export interface CanonicalConstraint {
 export const MULTIPLIER_CLOSED_FORM_MAX_SIZE = 8;
 /** Term budget of the closed-form solve; beyond it the multiplier is left to the numeric evaluator. */
 const CLOSED_FORM_MAX_TERMS = 4000;
+/** Time budget of the closed-form solve (ms), for the same reason. */
+const CLOSED_FORM_MAX_MS = 2000;
 
 function withoutAccelerations(alg: Algebra, p: Poly): Poly {
   const out: Poly = alg.zero();
@@ -169,33 +171,38 @@ export function closedFormMultipliers(
   for (let i = 0; i < n; i++) K.push([...massMatrix[i]!, ...constraints.map((c) => alg.negate(c.jacobian[i]!))]);
   for (const c of constraints) K.push([...c.jacobian, ...constraints.map(() => alg.zero())]);
   const rhs = [...forcing, ...constraints.map((c) => c.bias)];
+  const deadline = performance.now() + CLOSED_FORM_MAX_MS;
   try {
-    const det = determinant(small, K);
+    const det = determinant(small, K, deadline);
     if (det.size === 0) {
       const reason = "the augmented system is singular for every state";
       return constraints.map(() => ({ multiplier: null, reason }));
     }
     return constraints.map((_, k) => {
       const replaced = K.map((row, i) => row.map((entry, j) => (j === n + k ? rhs[i]! : entry)));
-      const numerator = determinant(small, replaced);
+      const numerator = determinant(small, replaced, deadline);
       const { expr, display } = cancelledQuotient(small, numerator, det);
       return { multiplier: expr, display };
     });
   } catch (error) {
     if (!(error instanceof EngineLimitError)) throw error;
-    const reason = `the closed form grew beyond ${CLOSED_FORM_MAX_TERMS} terms; the multipliers are evaluated numerically`;
+    const reason =
+      error.limit === "time"
+        ? `the closed form took longer than ${CLOSED_FORM_MAX_MS / 1000} s; the multipliers are evaluated numerically`
+        : `the closed form grew beyond ${CLOSED_FORM_MAX_TERMS} terms; the multipliers are evaluated numerically`;
     return constraints.map(() => ({ multiplier: null, reason }));
   }
 }
 
 /** det by Laplace expansion along rows, memoised over the set of columns used; zero entries cost nothing. */
-function determinant(alg: Algebra, K: Poly[][]): Poly {
+function determinant(alg: Algebra, K: Poly[][], deadline: number): Poly {
   const N = K.length;
   const memo = new Map<number, Poly>();
   const expand = (row: number, used: number): Poly => {
     if (row === N) return alg.constant(C.ONE);
     const found = memo.get(used);
     if (found !== undefined) return found;
+    if (performance.now() > deadline) throw new EngineLimitError("time", "the closed form of the multipliers takes too long");
     const out: Poly = alg.zero();
     let position = 0;
     for (let j = 0; j < N; j++) {
