@@ -86,7 +86,10 @@ describe("frequency response", () => {
   it("names the output at fault and refuses unknown inputs", () => {
     expect(() => msdStateSpace([{ name: "bad", expr: "x +" }])).toThrow(ModelError);
     try {
-      msdStateSpace([{ name: "ok", expr: "x" }, { name: "bad", expr: "y" }]);
+      msdStateSpace([
+        { name: "ok", expr: "x" },
+        { name: "bad", expr: "y" },
+      ]);
     } catch (error) {
       expect((error as ModelError).field).toBe("outputs[1].expr");
     }
