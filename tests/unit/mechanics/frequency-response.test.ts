@@ -13,6 +13,17 @@ function msdStateSpace(outputs = [{ name: "x", expr: "x" }]): StateSpace {
   return stateSpaceOf(msd, linearizeAbout(msd, point), point, outputs);
 }
 
+/** The error `work` throws; fails the test when it throws nothing. */
+function thrown(work: () => unknown): ModelError {
+  try {
+    work();
+  } catch (error) {
+    expect(error).toBeInstanceOf(ModelError);
+    return error as ModelError;
+  }
+  throw new Error("expected an error");
+}
+
 describe("frequency response", () => {
   it("mass–spring–damper: |X/F| = 1/√((k − mω²)² + (cω)²)", () => {
     const ss = msdStateSpace();
@@ -85,14 +96,13 @@ describe("frequency response", () => {
 
   it("names the output at fault and refuses unknown inputs", () => {
     expect(() => msdStateSpace([{ name: "bad", expr: "x +" }])).toThrow(ModelError);
-    try {
+    const error = thrown(() =>
       msdStateSpace([
         { name: "ok", expr: "x" },
         { name: "bad", expr: "y" },
-      ]);
-    } catch (error) {
-      expect((error as ModelError).field).toBe("outputs[1].expr");
-    }
+      ]),
+    );
+    expect(error.field).toBe("outputs[1].expr");
     expect(() => frequencyResponse(msdStateSpace(), { input: "G", output: 0 })).toThrow(/no input "G"/);
   });
 
