@@ -98,14 +98,9 @@ export function stateSpaceOf(system: MassMatrixSystem, linearization: Linearizat
     for (const q of names) derivatives.push(differentiate(tree, q, 2));
     for (const u of inputs) derivatives.push(differentiate(tree, u, 0));
   }
-  let evaluator: ReturnType<typeof compileExpressions>;
-  try {
-    evaluator = compileExpressions(derivatives, variables, { constants: system.parameters });
-  } catch (error) {
-    // Find the output at fault by compiling each alone.
-    trees.forEach((tree, k) => ModelError.inField(`outputs[${k}].expr`, () => compileExpressions([tree], variables, { constants: system.parameters })));
-    throw error;
-  }
+  // Each output compiled alone first: an unknown symbol is named with its output (derivatives would drop it).
+  trees.forEach((tree, k) => ModelError.inField(`outputs[${k}].expr`, () => compileExpressions([tree], variables, { constants: system.parameters })));
+  const evaluator = compileExpressions(derivatives, variables, { constants: system.parameters });
   const values = [
     ...point.q,
     ...(point.rates ?? new Array<number>(n).fill(0)),

@@ -410,4 +410,24 @@ describe("constraints: validation and independence", () => {
       ]),
     ).toMatchObject({ index: 2, combinationOf: [0, 1] });
   });
+
+  it("evaluates the outputs of a model without constraints too", () => {
+    const system = compileConstrainedSystem({
+      coordinates: ["x"],
+      inputs: ["F"],
+      massMatrix: [["m"]],
+      forcing: ["F - k*x"],
+      parameters: { m: 2, k: 8 },
+      constraints: [],
+      outputs: [
+        { name: "spring", expr: "k*x" },
+        { name: "acc", expr: "x''" },
+      ],
+    });
+    const solution = system.solve([0.5], [0], 0, [1]);
+    // Newton's second law: x'' = (F − k x)/m = (1 − 4)/2 (fact of the trade).
+    expect(solution).toEqual({ accelerations: [-1.5], multipliers: [] });
+    expect(system.outputs([0.5], [0], solution, 0, [1])).toEqual([4, -1.5]);
+    expect(system.checkIndependence([0.5], [0], 0)).toBeNull();
+  });
 });
