@@ -13,6 +13,7 @@ import { bin, sum } from "./expr/build";
 import { toCanonical } from "./canonical/from-expr";
 import { SymbolSpace } from "./canonical/space";
 import type { Poly } from "./canonical/term";
+import type { ConstraintResult, OutputResult } from "./constraints";
 
 export interface DeriveOptions {
   /** Largest number of terms one intermediate sum may hold (default 200 000). */
@@ -103,8 +104,12 @@ export interface DerivationResult {
   /** L depends on t explicitly. */
   explicitTime: boolean;
   hamiltonian: HamiltonianResult;
-  /** q'' solved from M q'' = f where the engine gives a closed form, or why not (see accelerations.ts). */
+  /** q'' solved from M q'' = f where the engine gives a closed form, or why not (see accelerations.ts). With constraints, in terms of the multipliers. */
   accelerations: AccelerationsResult;
+  /** Position constraints, then rate constraints, with their multipliers (see constraints.ts); empty without constraints. */
+  constraints: ConstraintResult[];
+  /** The model's outputs, definitions expanded; empty without outputs. */
+  outputs: OutputResult[];
   timing: DerivationTiming;
 }
 
@@ -207,6 +212,8 @@ export function deriveModel(model: Model, options: DeriveOptions = {}): Derivati
     explicitTime: canonical.explicitTime,
     hamiltonian,
     accelerations,
+    constraints: [],
+    outputs: [],
     timing: {
       canonicalMs: canonical.canonicalMs,
       equationsMs: afterEquations - start - canonical.canonicalMs,

@@ -1,5 +1,5 @@
 // Public API of the derivation engine (framework-free). Append new exports; keep existing ones.
-export type { Model, Coordinate, Parameter, Input, Definition, NamedUnit } from "./model";
+export type { Model, Coordinate, Parameter, Input, Definition, NamedUnit, ConstraintSpec, OutputSpec } from "./model";
 export { ModelError, ExpressionError, EngineLimitError } from "./errors";
 export type { ModelErrorCode, ExpressionErrorCode } from "./errors";
 export { parseExpression, formatExpression, expressionTree } from "./expr/parse";
@@ -52,3 +52,27 @@ export type { DerivationReport } from "./report";
 // Printing where results leave the engine (worker boundary, CLI).
 export { printDerivation } from "./print";
 export type { PrintedDerivation, PrintedEquation } from "./print";
+// Constraints with multipliers, outputs, and the numeric evaluator of the augmented system.
+export { compileConstrainedSystem, constrainedSystemOf, multiplierSymbol, constraintField } from "./constraints";
+export type {
+  ConstraintKind,
+  ConstraintResult,
+  OutputResult,
+  ConstraintRow,
+  ConstrainedSystem,
+  ConstrainedSolution,
+  ConstraintDependence,
+  CompiledConstrainedSystem,
+} from "./constraints";
+export type { PrintedConstraint, PrintedOutput } from "./print";
+// Frequency response of a linearization (y = C x + D u) and state-space export.
+export { stateSpaceOf, polesOf, transmissionZeros, frequencyResponse, exportStateSpace } from "./frequency-response";
+export type {
+  StateSpace,
+  OutputChoice,
+  PoleInfo,
+  ZerosResult,
+  FrequencyResponseOptions,
+  FrequencyResponse,
+  StateSpaceFormat,
+} from "./frequency-response";

@@ -24,6 +24,8 @@ const description = z.string().max(4000).optional();
 const namedUnit = z.object({ name: identifier, unit, description });
 const parameter = namedUnit.extend({ value: z.number().refine(Number.isFinite, "value must be a finite number").optional() });
 const definition = z.object({ name: identifier, expr: z.string(), description });
+const constraint = z.object({ name: identifier, expr: z.string(), description });
+const output = z.object({ name: identifier, expr: z.string(), unit, description });
 
 const modelSchema = z.object({
   title: z.string().max(300),
@@ -35,6 +37,9 @@ const modelSchema = z.object({
   potential: z.string(),
   dissipation: z.string().optional(),
   forces: z.record(z.string(), z.string()).optional(),
+  constraints: z.array(constraint).optional(),
+  rateConstraints: z.array(constraint).optional(),
+  outputs: z.array(output).optional(),
 });
 
 /** The parsed trees of a model, its definitions in dependency order. */
@@ -108,6 +113,10 @@ function stripUndefined(data: z.infer<typeof modelSchema>): Model {
     model.definitions = data.definitions.map(({ name, expr, description }) => (description === undefined ? { name, expr } : { name, expr, description }));
   if (data.dissipation !== undefined) model.dissipation = data.dissipation;
   if (data.forces) model.forces = data.forces;
+  const named = <T extends { description?: string | undefined }>({ description, ...rest }: T) => (description === undefined ? rest : { ...rest, description });
+  if (data.constraints) model.constraints = data.constraints.map(named);
+  if (data.rateConstraints) model.rateConstraints = data.rateConstraints.map(named);
+  if (data.outputs) model.outputs = data.outputs.map(named);
   return model;
 }
 
