@@ -198,30 +198,45 @@ export function systemFromMassMatrixForm(form: MassMatrixForm, compile: Expressi
 }
 
 /**
- * The system of a derived model: coordinates, inputs and parameters (with
- * their values and units) from the model file, M, f and the energy function
- * from `deriveModel`. This is the path the notebook and the server take.
+ * The mass-matrix form of a derived model: coordinates, inputs and parameters
+ * (with their values and units) from the model file; M, f, the energy
+ * function, the constraints and the outputs (definitions written out) from
+ * `deriveModel`. Plain data that crosses a worker boundary.
+ *
+ * @example massMatrixFormOf(model, deriveModel(model)).constraints // [{ name: "rod", kind: "position", expr: … }]
+ */
+export function massMatrixFormOf(
+  model: Pick<Model, "coordinates" | "parameters" | "inputs">,
+  derivation: Pick<DerivationResult, "coordinates" | "massMatrix" | "forcing" | "energy" | "conserved"> & Partial<Pick<DerivationResult, "constraints" | "outputs">>,
+): MassMatrixForm {
+  const constraints = (derivation.constraints ?? []).map(({ name, kind, expr }) => ({ name, kind, expr }));
+  const outputs = (derivation.outputs ?? []).map(({ name, expr, unit }) => ({ name, expr, unit }));
+  return {
+    coordinates: derivation.coordinates,
+    inputs: (model.inputs ?? []).map((input) => input.name),
+    parameters: model.parameters.map((p) => ({ name: p.name, value: p.value, unit: p.unit })),
+    massMatrix: derivation.massMatrix,
+    forcing: derivation.forcing,
+    energy: derivation.energy,
+    energyConserved: derivation.conserved.some((c) => c.name === "energy function"),
+    ...(constraints.length > 0 ? { constraints } : {}),
+    ...(outputs.length > 0 ? { outputs } : {}),
+  };
+}
+
+/**
+ * The system of a derived model (see `massMatrixFormOf`). This is the path the
+ * server takes.
  *
  * @example
  * const system = systemFromDerivation(model, deriveModel(model));
  */
 export function systemFromDerivation(
   model: Pick<Model, "coordinates" | "parameters" | "inputs">,
-  derivation: Pick<DerivationResult, "coordinates" | "massMatrix" | "forcing" | "energy" | "conserved">,
+  derivation: Parameters<typeof massMatrixFormOf>[1],
   compile: ExpressionCompiler = defaultCompiler,
 ): MechanicalSystem {
-  return systemFromMassMatrixForm(
-    {
-      coordinates: derivation.coordinates,
-      inputs: (model.inputs ?? []).map((input) => input.name),
-      parameters: model.parameters.map((p) => ({ name: p.name, value: p.value, unit: p.unit })),
-      massMatrix: derivation.massMatrix,
-      forcing: derivation.forcing,
-      energy: derivation.energy,
-      energyConserved: derivation.conserved.some((c) => c.name === "energy function"),
-    },
-    compile,
-  );
+  return systemFromMassMatrixForm(massMatrixFormOf(model, derivation), compile);
 }
 
 /**
