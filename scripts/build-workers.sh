@@ -1,6 +1,7 @@
 #!/usr/bin/env bash
 # Bundles the worker-thread entries that the server loads by path at run time
-# (dist/workers/*.mjs): the engine worker and the simulation worker. They are
+# (dist/workers/*.mjs): the engine worker and the simulation worker; and the
+# derivation CLI (dist/cli/). They are
 # plain Node ESM bundles; the banner gives bundled CommonJS packages a `require`.
 set -euo pipefail
 cd "$(dirname "${BASH_SOURCE[0]}")/.."
@@ -11,3 +12,8 @@ bundle() {
 }
 bundle lib/mechanics/worker/engine-worker.ts engine-worker.mjs
 bundle lib/runs/simulation-worker.ts simulation-worker.mjs
+# The derivation CLI (the package binary bin/holonomy-derive.mjs runs it): one minified
+# CommonJS file and V8's code cache for it, so no TypeScript is loaded or compiled at start.
+npx esbuild scripts/derive.ts --bundle --platform=node --format=cjs --target=node20 --minify \
+  --outfile=dist/cli/derive.cjs --log-level=warning
+node scripts/build-cli-cache.mjs

@@ -243,7 +243,7 @@ export function ConservedCellView({ results, evaluating }: GeneratedCellProps<Co
 
 function actingText(actedOnBy: readonly string[]): string {
   if (actedOnBy.length === 0) return "a generalized force acts";
-  const names = actedOnBy.map((cause) => (cause === "applied force" ? "the applied force" : "the dissipation"));
+  const names = actedOnBy.map((cause) => (cause === "applied force" ? "the applied force" : cause === "constraint" ? "a constraint force" : "the dissipation"));
   return `${names.join(" and ")} act${names.length === 1 ? "s" : ""}`;
 }
 

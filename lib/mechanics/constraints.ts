@@ -1,4 +1,6 @@
 import { compileExpressions, type MassMatrixSystem } from "./compile";
+import { SingularMatrixError } from "../numeric/errors";
+import { createLuWorkspace, solveInPlace } from "../numeric/linear-solve";
 import { ModelError } from "./errors";
 import type { Expr } from "./expr/ast";
 import type { ExpressionSource } from "./expr/parse";
@@ -144,9 +146,207 @@ export function constraintField(constraints: readonly { kind: ConstraintKind }[]
  * sys.solve([0, -1], [1, 0], 0).multipliers[0] // −(m g + m v²/l)/(2 l) = −5.405
  */
 export function compileConstrainedSystem(system: ConstrainedSystem): CompiledConstrainedSystem {
-  void compileExpressions;
-  void system;
-  throw new ModelError("unsupported", "constraints", "not available yet");
+  const n = system.coordinates.length;
+  const inputs = system.inputs ?? [];
+  const p = inputs.length;
+  const constraints = system.constraints;
+  const m = constraints.length;
+  const outputs = system.outputs ?? [];
+  if (system.massMatrix.length !== n || system.massMatrix.some((row) => row.length !== n) || system.forcing.length !== n) {
+    throw new RangeError(`mass matrix must be ${n}×${n} and forcing of length ${n}`);
+  }
+  if (constraints.some((c) => c.jacobian.length !== n)) throw new RangeError(`every constraint row must have ${n} entries`);
+  const multipliers = constraints.map((c) => c.symbol);
+  const variables = [
+    ...system.coordinates,
+    ...system.coordinates.map((q) => `${q}'`),
+    ...system.coordinates.map((q) => `${q}''`),
+    "t",
+    ...inputs,
+    ...multipliers,
+  ];
+  const options = { constants: system.parameters };
+  const core = compileExpressions(
+    [...system.massMatrix.flat(), ...system.forcing, ...constraints.flatMap((c) => c.jacobian), ...constraints.map((c) => c.bias)],
+    variables,
+    options,
+  );
+  const values = compileExpressions(
+    constraints.map((c) => c.expr),
+    variables,
+    options,
+  );
+  const outputEvaluator = compileExpressions(
+    outputs.map((o) => o.expr),
+    variables,
+    options,
+  );
+  const slots = new Float64Array(variables.length);
+  const coreOut = new Float64Array(n * n + n + m * n + m);
+  const valueOut = new Float64Array(m);
+  const outputOut = new Float64Array(outputs.length);
+  const N = n + m;
+  const lu = N > 0 ? createLuWorkspace(N) : null;
+  const rhs = new Float64Array(N);
+
+  const load = (
+    q: ArrayLike<number>,
+    rates: ArrayLike<number> | null,
+    t: number,
+    u: ArrayLike<number> | undefined,
+    accelerations?: ArrayLike<number>,
+    lambdas?: ArrayLike<number>,
+  ) => {
+    slots.fill(0);
+    for (let i = 0; i < n; i++) {
+      slots[i] = q[i]!;
+      slots[n + i] = rates ? rates[i]! : 0;
+      slots[2 * n + i] = accelerations ? accelerations[i]! : 0;
+    }
+    slots[3 * n] = t;
+    for (let k = 0; k < p; k++) slots[3 * n + 1 + k] = u ? u[k]! : 0;
+    for (let k = 0; k < m; k++) slots[3 * n + 1 + p + k] = lambdas ? lambdas[k]! : 0;
+  };
+  const rowsOf = (): number[][] => Array.from({ length: m }, (_, k) => Array.from({ length: n }, (_, j) => coreOut[n * n + n + k * n + j]!));
+
+  const compiled: CompiledConstrainedSystem = {
+    coordinates: system.coordinates,
+    constraints,
+    multipliers,
+    outputNames: outputs.map((o) => o.name),
+    solve(q, rates, t, u) {
+      load(q, rates, t, u);
+      core.evaluate(slots, coreOut);
+      const a = lu!.matrix;
+      a.fill(0);
+      for (let i = 0; i < n; i++) {
+        for (let j = 0; j < n; j++) a[i * N + j] = coreOut[i * n + j]!;
+        rhs[i] = coreOut[n * n + i]!;
+      }
+      for (let k = 0; k < m; k++) {
+        for (let j = 0; j < n; j++) {
+          const entry = coreOut[n * n + n + k * n + j]!;
+          a[j * N + n + k] = -entry;
+          a[(n + k) * N + j] = entry;
+        }
+        rhs[n + k] = coreOut[n * n + n + m * n + k]!;
+      }
+      try {
+        solveInPlace(lu!, rhs);
+      } catch (error) {
+        if (!(error instanceof SingularMatrixError)) throw error;
+        const dependence = compiled.checkIndependence(q, rates, t, u);
+        if (dependence !== null) throw new ModelError("singular", constraintField(constraints, dependence.index), dependence.message);
+        throw new ModelError("singular", "massMatrix", "the mass matrix is singular on the motions the constraints allow at this state");
+      }
+      return { accelerations: Array.from(rhs.subarray(0, n)), multipliers: Array.from(rhs.subarray(n)) };
+    },
+    positionResiduals(q, t, u) {
+      load(q, null, t, u);
+      values.evaluate(slots, valueOut);
+      return constraints.flatMap((c, k) => (c.kind === "position" ? [valueOut[k]!] : []));
+    },
+    rateResiduals(q, rates, t, u) {
+      load(q, rates, t, u);
+      core.evaluate(slots, coreOut);
+      values.evaluate(slots, valueOut);
+      const A = rowsOf();
+      return constraints.map((c, k) => {
+        if (c.kind === "rate") return valueOut[k]!;
+        // ġ = A q' + ∂g/∂t; ∂g/∂t from g at t ± h (g is cheap and smooth in t).
+        let velocity = 0;
+        for (let j = 0; j < n; j++) velocity += A[k]![j]! * rates[j]!;
+        return velocity + explicitTimeRate(k, q, t, u);
+      });
+    },
+    jacobian(q, t, u) {
+      load(q, null, t, u);
+      core.evaluate(slots, coreOut);
+      return rowsOf();
+    },
+    outputs(q, rates, solution, t, u) {
+      load(q, rates, t, u, solution.accelerations, solution.multipliers);
+      outputEvaluator.evaluate(slots, outputOut);
+      return Array.from(outputOut);
+    },
+    checkIndependence(q, rates, t, u) {
+      const A = compiled.jacobian(q, t, u);
+      const found = findDependentRow(A);
+      if (found === null) return null;
+      const c = constraints[found.index]!;
+      const names = found.combinationOf.map((i) => `"${constraints[i]!.name}"`);
+      // Consistent when the residuals (and the biases) obey the same combination.
+      const position = constraints.every((x, i) => x.kind === "position" || (i !== found.index && !found.combinationOf.includes(i)));
+      const level = position ? allPositionValues(q, t, u) : compiled.rateResiduals(q, rates, t, u);
+      load(q, rates, t, u);
+      core.evaluate(slots, coreOut);
+      const bias = Array.from({ length: m }, (_, k) => coreOut[n * n + n + m * n + k]!);
+      const gap = (v: readonly number[]) => v[found.index]! - found.combinationOf.reduce((sum, i) => sum + found.weights[i]! * v[i]!, 0);
+      const scale = (v: readonly number[]) => Math.max(1, ...[found.index, ...found.combinationOf].map((i) => Math.abs(v[i]!)));
+      const inconsistent = Math.abs(gap(level)) > 1e-8 * scale(level) || Math.abs(gap(bias)) > 1e-8 * scale(bias);
+      const message =
+        names.length === 0
+          ? `"${c.name}" does not constrain any coordinate's motion at this state (its row of the constraint matrix is zero)`
+          : inconsistent
+            ? `"${c.name}" contradicts ${names.join(", ")} at this state: its row of the constraint matrix is a combination of theirs but its value is not`
+            : `"${c.name}" is redundant with ${names.join(", ")} at this state: its row of the constraint matrix is a combination of theirs`;
+      return {
+        index: found.index,
+        name: c.name,
+        kind: inconsistent ? "inconsistent" : "redundant",
+        combinationOf: found.combinationOf.map((i) => constraints[i]!.name),
+        message,
+      };
+    },
+  };
+
+  function allPositionValues(q: ArrayLike<number>, t: number, u: ArrayLike<number> | undefined): number[] {
+    load(q, null, t, u);
+    values.evaluate(slots, valueOut);
+    return Array.from(valueOut);
+  }
+  function explicitTimeRate(k: number, q: ArrayLike<number>, t: number, u: ArrayLike<number> | undefined): number {
+    const h = 1e-6 * Math.max(1, Math.abs(t));
+    const after = allPositionValues(q, t + h, u)[k]!;
+    const before = allPositionValues(q, t - h, u)[k]!;
+    return (after - before) / (2 * h);
+  }
+  return compiled;
+}
+
+/**
+ * The first row of `rows` that is a linear combination of earlier rows
+ * (relative tolerance 1e-9), by Gram–Schmidt: its index, the earlier rows with
+ * a nonzero weight, and the weights (by row index). Null for full row rank.
+ *
+ * @example findDependentRow([[1, 0], [2, 0]]) // { index: 1, combinationOf: [0], weights: [2, 0] }
+ */
+export function findDependentRow(rows: readonly (readonly number[])[]): { index: number; combinationOf: number[]; weights: number[] } | null {
+  const basis: { vector: number[]; of: number[] }[] = [];
+  for (let k = 0; k < rows.length; k++) {
+    const row = rows[k]!;
+    const norm = Math.hypot(...row);
+    const residual = [...row];
+    // Coefficients of the residual's removed part in terms of the original rows.
+    const removed = new Array<number>(rows.length).fill(0);
+    for (let pass = 0; pass < 2; pass++) {
+      for (const b of basis) {
+        const c = b.vector.reduce((sum, x, j) => sum + x * residual[j]!, 0);
+        for (let j = 0; j < residual.length; j++) residual[j]! -= c * b.vector[j]!;
+        b.of.forEach((w, i) => (removed[i]! += c * w));
+      }
+    }
+    const left = Math.hypot(...residual);
+    if (norm === 0 || left <= 1e-9 * norm) {
+      const combinationOf = removed.flatMap((w, i) => (i < k && Math.abs(w) > 1e-9 ? [i] : []));
+      return { index: k, combinationOf, weights: removed.map((w, i) => (i < k ? w : 0)) };
+    }
+    // vector = (row − Σ c_b b)/left, written over the original rows.
+    const of = removed.map((w) => -w / left);
+    of[k] = 1 / left;
+    basis.push({ vector: residual.map((x) => x / left), of });
+  }
+  return null;
 }
 
 /**

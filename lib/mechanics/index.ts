@@ -67,12 +67,4 @@ export type {
 export type { PrintedConstraint, PrintedOutput } from "./print";
 // Frequency response of a linearization (y = C x + D u) and state-space export.
 export { stateSpaceOf, polesOf, transmissionZeros, frequencyResponse, exportStateSpace } from "./frequency-response";
-export type {
-  StateSpace,
-  OutputChoice,
-  PoleInfo,
-  ZerosResult,
-  FrequencyResponseOptions,
-  FrequencyResponse,
-  StateSpaceFormat,
-} from "./frequency-response";
+export type { StateSpace, OutputChoice, PoleInfo, ZerosResult, FrequencyResponseOptions, FrequencyResponse, StateSpaceFormat } from "./frequency-response";

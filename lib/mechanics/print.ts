@@ -42,7 +42,7 @@ export interface PrintedDerivation {
     rate: string;
     latex: { momentum: string; rate: string };
     conserved: boolean;
-    actedOnBy: ("applied force" | "dissipation")[];
+    actedOnBy: ("applied force" | "dissipation" | "constraint")[];
   }[];
   freeCoordinates: string[];
   conserved: { name: string; expr: string; latex: string; reason: string }[];

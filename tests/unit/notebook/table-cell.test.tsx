@@ -144,18 +144,18 @@ describe("adding rows", () => {
     expect(document.activeElement).toBe(screen.getByRole("textbox", { name: "Name, definition 1" }));
   });
 
-  it("states the coordinate limit and refuses a 13th coordinate when it is added", () => {
-    const rows = Array.from({ length: 11 }, (_, i) => ({ id: `q${i + 1}`, name: `q${i + 1}`, unit: "m", description: "" }));
+  it("states the coordinate limit and refuses a 31st coordinate when it is added", () => {
+    const rows = Array.from({ length: 29 }, (_, i) => ({ id: `q${i + 1}`, name: `q${i + 1}`, unit: "m", description: "" }));
     const coordinates: TableCell = { id: "c", kind: "coordinates", collapsed: false, rows };
     render(<Harness initial={[coordinates]} />);
-    expect(screen.getByTestId("row-limit").textContent).toBe("11 of at most 12");
+    expect(screen.getByTestId("row-limit").textContent).toBe("29 of at most 30");
     const add = screen.getByRole("button", { name: "+ Add coordinate" });
     fireEvent.click(add);
-    expect(screen.getByRole("textbox", { name: "Name, coordinate 12" })).toBeTruthy();
+    expect(screen.getByRole("textbox", { name: "Name, coordinate 30" })).toBeTruthy();
     expect((add as HTMLButtonElement).disabled).toBe(true);
-    expect(screen.getByTestId("row-limit").textContent).toBe("A derivation holds at most 12 coordinates. Remove one to add another.");
+    expect(screen.getByTestId("row-limit").textContent).toBe("A derivation holds at most 30 coordinates. Remove one to add another.");
     fireEvent.click(add);
-    expect(screen.queryByRole("textbox", { name: "Name, coordinate 13" })).toBeNull();
+    expect(screen.queryByRole("textbox", { name: "Name, coordinate 31" })).toBeNull();
   });
 });
 
