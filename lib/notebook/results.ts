@@ -50,6 +50,12 @@ export interface NotebookResults {
       stability: "stable" | "marginal" | "unstable";
       /** The clause of the rule that decided, in words. */
       stabilityReason: string;
+      /**
+       * Rows of C and D (y = C x + D u) for every output the frequency response
+       * may use: each coordinate, each rate, and each model output that reads
+       * without multipliers; `notes` say why any output is left out.
+       */
+      outputs?: { names: string[]; units: string[]; C: number[][]; D: number[][]; notes: string[] };
     };
   };
   code?: { language: string; filename: string; source: string }[];
