@@ -92,7 +92,19 @@ const EMPTY_DIAGNOSTICS: readonly LocatedDiagnostic[] = [];
 const ADD_GROUPS: { label: string; kinds: CellKind[] }[] = [
   {
     label: "Model",
-    kinds: ["coordinates", "parameters", "inputs", "definitions", "kinetic", "potential", "dissipation", "forces", "constraints", "rate-constraints", "outputs"],
+    kinds: [
+      "coordinates",
+      "parameters",
+      "inputs",
+      "definitions",
+      "kinetic",
+      "potential",
+      "dissipation",
+      "forces",
+      "constraints",
+      "rate-constraints",
+      "outputs",
+    ],
   },
   { label: "Results", kinds: ["equations", "conserved", "linearization", "code-export", "simulation"] },
   { label: "Text", kinds: ["note"] },

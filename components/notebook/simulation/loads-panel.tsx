@@ -120,12 +120,12 @@ export function LoadsPanel({ run }: { run: RunDisplay }) {
           {report.names.map((name, k) => (
             <span key={name}>
               {k > 0 && ", "}
-              <span className="font-mono">{name}</span>{" "}
-              <strong className="font-mono">{formatValue(report.maxResidual[k]!, 2)}</strong>
+              <span className="font-mono">{name}</span> <strong className="font-mono">{formatValue(report.maxResidual[k]!, 2)}</strong>
               {residualUnit(name) && ` ${residualUnit(name)}`}
             </span>
           ))}
-          . <span className="text-muted">Largest correction at one output time: {formatValue(report.largestCorrection.coordinates, 2)} in the coordinates.</span>
+          .{" "}
+          <span className="text-muted">Largest correction at one output time: {formatValue(report.largestCorrection.coordinates, 2)} in the coordinates.</span>
         </p>
       )}
 
@@ -158,8 +158,8 @@ export function LoadsPanel({ run }: { run: RunDisplay }) {
             </table>
           </div>
           <p className="text-xs text-muted" data-testid="load-caution">
-            Peaks are read at the output points of this run: a finer output step can find a higher one. They are loads of the model as written, without
-            dynamic, fatigue or safety factors. {safetyNote}
+            Peaks are read at the output points of this run: a finer output step can find a higher one. They are loads of the model as written, without dynamic,
+            fatigue or safety factors. {safetyNote}
           </p>
         </div>
       )}

@@ -44,7 +44,9 @@ export function documentToModel(doc: DerivationDocument): Model {
     rowsOfKind(doc, kind).map(({ row }) => withDescription({ name: row.name.trim(), expr: row.expr }, row.description));
   const constraints = constraintsOf("constraints");
   const rateConstraints = constraintsOf("rate-constraints");
-  const outputs = rowsOfKind(doc, "outputs").map(({ row }) => withDescription({ name: row.name.trim(), expr: row.expr, unit: row.unit.trim() }, row.description));
+  const outputs = rowsOfKind(doc, "outputs").map(({ row }) =>
+    withDescription({ name: row.name.trim(), expr: row.expr, unit: row.unit.trim() }, row.description),
+  );
   const energy = (kind: EnergyKind) => doc.cells.find((cell): cell is EnergyCell => cell.kind === kind)?.expr ?? "";
   const forcesCell = doc.cells.find((cell): cell is ForcesCell => cell.kind === "forces");
   const forces: Record<string, string> = {};
