@@ -283,3 +283,34 @@ describe("dependentConstraint and peakOf", () => {
     expect(peakOf([], [])).toBeNull();
   });
 });
+
+describe("the demo crane's rope tension (db/seed/demo.ts)", () => {
+  it("peaks at m g [1 + 2(1 − cos θ0)(1 + m/M)] at the bottom of the first swing with the trolley free", async () => {
+    const { demoDerivations } = await import("@/db/seed/demo");
+    const { documentToModel, parseStoredDocument } = await import("@/lib/notebook/document");
+    const { validateModel } = await import("@/lib/mechanics/validate-model");
+    const { massMatrixFormOf } = await import("@/lib/simulate/system");
+    const stored = demoDerivations.find((d) => d.title.includes("rope tension"))!;
+    const parsed = parseStoredDocument(stored.content);
+    if (!parsed.ok) throw new Error("the demo document does not read");
+    const model = validateModel(documentToModel(parsed.document));
+    const system = systemFromMassMatrixForm(massMatrixFormOf(model, deriveModel(model)));
+    const [M, mass, length, gravity] = ["M", "m", "l", "g"].map((name) => model.parameters.find((p) => p.name === name)!.value!);
+    const theta0 = 0.15;
+    const result = integrate(system, {
+      initialCoordinates: { x: 0, xl: length! * Math.sin(theta0), yl: -length! * Math.cos(theta0) },
+      parameters: { b: 0 },
+      endTime: 2,
+      outputStep: 0.001,
+    });
+    expect(result.status).toBe("completed");
+    const tension = result.outputs.find((o) => o.name === "rope_tension")!;
+    // In the trolley's frame the trolley does not accelerate when the rope is vertical, so T = m g + m v_rel²/l;
+    // momentum and energy give v_rel² = 2 g l (1 − cos θ0)(1 + m/M). Derived from memory (two-body pendulum on a free cart).
+    const expected = mass! * gravity! * (1 + 2 * (1 - Math.cos(theta0)) * (1 + mass! / M!));
+    expect(Math.abs(tension.peak!.value - expected) / expected).toBeLessThan(1e-5);
+    // The first bottom of the swing comes a quarter period in: 2π/ω/4 with ω² = (g/l)(1 + m/M) (from memory, same system).
+    const quarter = (Math.PI / 2) * Math.sqrt(length! / (gravity! * (1 + mass! / M!)));
+    expect(Math.abs(tension.peak!.time - quarter)).toBeLessThan(0.02);
+  });
+});
