@@ -207,7 +207,8 @@ export function systemFromMassMatrixForm(form: MassMatrixForm, compile: Expressi
  */
 export function massMatrixFormOf(
   model: Pick<Model, "coordinates" | "parameters" | "inputs">,
-  derivation: Pick<DerivationResult, "coordinates" | "massMatrix" | "forcing" | "energy" | "conserved"> & Partial<Pick<DerivationResult, "constraints" | "outputs">>,
+  derivation: Pick<DerivationResult, "coordinates" | "massMatrix" | "forcing" | "energy" | "conserved"> &
+    Partial<Pick<DerivationResult, "constraints" | "outputs">>,
 ): MassMatrixForm {
   const constraints = (derivation.constraints ?? []).map(({ name, kind, expr }) => ({ name, kind, expr }));
   const outputs = (derivation.outputs ?? []).map(({ name, expr, unit }) => ({ name, expr, unit }));

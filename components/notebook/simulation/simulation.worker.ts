@@ -69,7 +69,7 @@ scope.onmessage = (event) => {
   const { id, job } = request;
   let system: MassMatrixForm;
   let model: ReturnType<typeof validateModel>;
-  let columnUnits: ExtraColumnUnits = {};
+  let columnUnits: ExtraColumnUnits;
   try {
     model = validateModel(job.model);
     const derived = deriveModel(model);
