@@ -7,7 +7,7 @@
  * visible but are marked stale (the frame shows the marker, the body dims).
  */
 import clsx from "clsx";
-import { useEffect, useReducer, useRef, useState, type ReactNode } from "react";
+import { lazy, Suspense, useEffect, useReducer, useRef, useState, type ReactNode } from "react";
 import {
   CODE_EXPORT_LANGUAGES,
   EQUATION_FORMS,
@@ -25,6 +25,8 @@ import type { ModeView, NotebookResults } from "@/lib/notebook/results";
 import { MathView } from "./math";
 import { safetyNote } from "@/lib/domain";
 import { ViewChoiceNote } from "./view-choice";
+
+const FrequencyResponsePanel = lazy(() => import("./frequency-response-panel"));
 
 export interface GeneratedCellProps<C> {
   cell: C;
@@ -329,6 +331,18 @@ export function LinearizationCellView(props: LinearizationCellProps) {
           {selected.inputNames.length > 0 && <MathView latex={`B = ${matrixLatex(selected.B)}`} display label="Input matrix B" />}
           <StabilityVerdictView stability={selected.stability} reason={selected.stabilityReason} eigenvalues={selected.eigenvalues} />
           {selected.modes.length > 0 && <ModeTable modes={selected.modes} coordinates={coordinatesOf(selected.stateNames)} />}
+          {selected.outputs && (
+            <Suspense fallback={<p className="text-sm text-muted">Loading the frequency response…</p>}>
+              <FrequencyResponsePanel
+                key={selected.index}
+                selected={selected}
+                outputs={cell.settings.outputs}
+                input={cell.settings.input}
+                title={cell.title ?? "linearization"}
+                onChoose={readOnly ? undefined : (patch) => onOperation({ type: "updateSettings", cellId: cell.id, patch })}
+              />
+            </Suspense>
+          )}
         </div>
       )}
     </div>

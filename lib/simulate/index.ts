@@ -5,7 +5,12 @@ export { SingularMatrixError, SimulationSetupError, MeasuredDataError, FitError 
 export type { SimulationSetupErrorCode, MeasuredDataErrorCode, FitErrorCode } from "./errors";
 export { createLuWorkspace, factorInPlace, substituteInPlace, solveInPlace, DEFAULT_SINGULAR_TOLERANCE } from "../numeric/linear-solve";
 export type { LuWorkspace } from "../numeric/linear-solve";
-export { systemFromMassMatrixForm, systemFromDerivation, variableNames, layoutOf } from "./system";
+export { systemFromMassMatrixForm, systemFromDerivation, massMatrixFormOf, variableNames, layoutOf } from "./system";
+export { multiplierSymbol } from "./specs";
+export type { ConstraintSpec, OutputSpec, ConstraintKind } from "./specs";
+export { dependentConstraint } from "./constraints";
+export { peakOf, outputVariables } from "./outputs";
+export type { Peak, OutputSeries } from "./outputs";
 export type {
   MechanicalSystem,
   SystemParameter,
@@ -17,12 +22,14 @@ export type {
   ExpressionEvaluator,
   VariableLayout,
 } from "./system";
-export { integrate, integrateInSlices, STEP_TOLERANCE_FACTOR } from "./integrate";
+export { integrate, integrateInSlices, STEP_TOLERANCE_FACTOR, CONSTRAINT_METHOD } from "./integrate";
 export type {
   SimulationSettings,
   SimulationResult,
   SimulationFailure,
   SimulationFailureReason,
+  ConstraintReport,
+  InitialProjection,
   SimulationProgress,
   SimulationStats,
   Trajectory,

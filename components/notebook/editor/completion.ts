@@ -37,6 +37,7 @@ export function symbolOptions(symbols: DocumentSymbols): Completion[] {
   }
   for (const name of symbols.parameters) options.push({ label: name, type: "constant", detail: "parameter", boost: 1 });
   for (const name of symbols.inputs) options.push({ label: name, type: "variable", detail: "input", boost: 1 });
+  for (const name of symbols.multipliers ?? []) options.push({ label: name, type: "variable", detail: "multiplier", boost: 1 });
   for (const name of FUNCTION_NAMES) options.push({ label: name, type: "function", detail: "function", apply: applyCall(name) });
   options.push({ label: "pi", type: "constant", detail: "π" }, { label: "t", type: "variable", detail: "time" });
   return options;

@@ -37,8 +37,9 @@ export function localDiagnostics(text: string, symbols: DocumentSymbols, options
   try {
     const tree = parseExpression(text);
     if (!options.checkSymbols) return [];
-    const known = new Set([TIME, ...symbols.coordinates, ...symbols.parameters, ...symbols.inputs, ...symbols.definitions]);
-    const rateless = new Set([...symbols.parameters, ...symbols.inputs]);
+    const multipliers = symbols.multipliers ?? [];
+    const known = new Set([TIME, ...symbols.coordinates, ...symbols.parameters, ...symbols.inputs, ...symbols.definitions, ...multipliers]);
+    const rateless = new Set([...symbols.parameters, ...symbols.inputs, ...multipliers]);
     const found: Diagnostic[] = [];
     walk(tree, (node) => {
       if (node.kind !== "sym") return;
@@ -48,7 +49,7 @@ export function localDiagnostics(text: string, symbols: DocumentSymbols, options
           from: node.start,
           to: node.end,
           severity: "error",
-          message: `"${node.name}" is a ${symbols.parameters.includes(node.name) ? "parameter" : "input"} and has no rate`,
+          message: `"${node.name}" is ${symbols.parameters.includes(node.name) ? "a parameter" : multipliers.includes(node.name) ? "a multiplier" : "an input"} and has no rate`,
           source: "symbols",
         });
     });

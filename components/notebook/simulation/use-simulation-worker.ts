@@ -68,6 +68,9 @@ export function useSimulationWorker(onResult: (run: RunDisplay) => void) {
           points: "points" in message ? message.points : [],
           pointsError: "pointsError" in message ? message.pointsError : null,
           parameterValues: result.parameterValues,
+          constraints: result.constraints ?? null,
+          outputs: result.outputs ?? [],
+          columnUnits: "columnUnits" in message ? message.columnUnits : undefined,
           rhsEvaluations: result.stats.rhsEvaluations,
           wallTimeMs: result.stats.wallTimeMs,
         });

@@ -1,5 +1,6 @@
 /** Messages between the simulation cell and its Web Worker (simulation.worker.ts). */
 import type { SmallOscillationReport } from "@/lib/simulate/checks";
+import type { ExtraColumnUnits } from "@/lib/simulate/trajectory-csv";
 import type { SimulationSettingsMessage, WorkerErrorPayload, WorkerResponse } from "@/lib/simulate/worker-protocol";
 
 export interface ModelSimulationJob {
@@ -30,5 +31,5 @@ export interface PointTrack {
 
 export type SimulationWorkerResponse =
   | Exclude<WorkerResponse, { type: "result" }>
-  | (Extract<WorkerResponse, { type: "result" }> & { points?: PointTrack[]; pointsError?: string | null; smallOscillation?: SmallOscillationReport | null })
+  | (Extract<WorkerResponse, { type: "result" }> & { points?: PointTrack[]; pointsError?: string | null; smallOscillation?: SmallOscillationReport | null; columnUnits?: ExtraColumnUnits })
   | { type: "error"; id: string; error: WorkerErrorPayload };

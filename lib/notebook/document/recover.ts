@@ -39,6 +39,9 @@ const ROW_FIELDS: Record<TableKind, readonly string[]> = {
   parameters: ["name", "unit", "value", "description"],
   inputs: ["name", "unit", "description"],
   definitions: ["name", "expr", "description"],
+  constraints: ["name", "expr", "description"],
+  "rate-constraints": ["name", "expr", "description"],
+  outputs: ["name", "expr", "unit", "description"],
 };
 
 // Field by field rather than through the strict schema, so a row written by a
