@@ -9,7 +9,7 @@ import { checkSmallOscillation, explainSmallOscillation } from "@/lib/simulate/c
 import { systemFromMassMatrixForm } from "@/lib/simulate/system";
 import { evaluateModel } from "@/lib/evaluation/evaluate";
 import { templateModel } from "@/lib/notebook/templates";
-import { demoModel, evaluateDemo, inProcessRunner } from "../../evaluation/in-process";
+import { demoModel, evaluateDemo, inProcessRunner } from "../../../evaluation/in-process";
 
 /** The system the simulation worker builds from a model (simulation.worker.ts). */
 function simulatedSystem(titleStart: string) {

@@ -6,7 +6,7 @@ import { Notebook } from "@/components/notebook/notebook";
 import { renderLatex, trustTermData } from "@/components/notebook/katex-render";
 import { createCell, modelToDocument, type ConservedCell, type EquationsCell, type LinearizationCell } from "@/lib/notebook/document";
 import { STABILITY_RULE } from "@/lib/mechanics/stability-rule";
-import { evaluateDemo } from "../evaluation/in-process";
+import { evaluateDemo } from "../../evaluation/in-process";
 import type { NotebookResults } from "@/lib/notebook/results";
 import { templateModel } from "@/lib/notebook/templates";
 import { toLatexTerms } from "@/lib/mechanics/latex";
