@@ -1,9 +1,7 @@
 // Derivation benchmark: the N-link planar chain built from Cartesian definitions,
 // N = 2…8. Prints in-process time and term counts per equation. A benchmark,
 // not a timed test: targets are 5 links under 100 ms and 8 links under 1 s.
-import { deriveModel } from "../lib/mechanics/derive";
-import { chainModel } from "../lib/mechanics/templates/chain";
-import { topLevelTerms } from "../lib/mechanics/terms";
+import { deriveModel, chainModel, topLevelTerms } from "../lib/mechanics";
 
 const REPEATS = 5;
 

@@ -3,8 +3,7 @@
 //
 //   npm run --silent derive -- path/to/file.model.json
 import { readFileSync, statSync } from "node:fs";
-import { EngineLimitError, ModelError } from "../lib/mechanics/errors";
-import { derivationReport } from "../lib/mechanics/report";
+import { EngineLimitError, ModelError, derivationReport } from "../lib/mechanics";
 
 const MAX_FILE_BYTES = 1_000_000;
 

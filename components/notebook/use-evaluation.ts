@@ -12,7 +12,7 @@ import { useCallback, useEffect, useMemo, useState } from "react";
 import { apiFetch } from "@/lib/api/fetcher";
 import { AppError } from "@/lib/errors";
 import type { EvaluationResponse } from "@/lib/evaluation/views";
-import type { Model } from "@/lib/mechanics/model";
+import type { Model } from "@/lib/mechanics/browser";
 import { coordinateNames, documentToModel, type DerivationDocument } from "@/lib/notebook/document";
 import type { ModelDiagnostic, NotebookResults } from "@/lib/notebook/results";
 

@@ -1,11 +1,9 @@
 import "server-only";
 import { getEvaluationByModelHash, upsertEvaluationByModelHash } from "@/db/queries/evaluations";
-import { EngineLimitError, ExpressionError, ModelError } from "@/lib/mechanics/errors";
-import type { Model } from "@/lib/mechanics/model";
+import { EngineLimitError, ExpressionError, ModelError, type Model, type CodeLanguage } from "@/lib/mechanics";
 import type { DerivationDocument } from "@/lib/notebook/document";
 import { AppError } from "@/lib/errors";
 import { modelErrorToAppError, modelFromDocument } from "./document-content";
-import type { CodeLanguage } from "@/lib/mechanics/codegen";
 import {
   codeExportInput,
   codeFileName,

@@ -2,9 +2,8 @@
  * One simulation as the results view shows it, whether it ran in this
  * browser's worker or was stored by the server.
  */
-import type { SmallOscillationReport } from "@/lib/simulate/checks";
+import type { SmallOscillationReport, SimulationFailure } from "@/lib/simulate";
 import type { RunJson } from "@/lib/runs/views";
-import type { SimulationFailure } from "@/lib/simulate/integrate";
 
 export interface RunDisplay {
   label: string;

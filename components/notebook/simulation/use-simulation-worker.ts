@@ -1,8 +1,7 @@
 "use client";
 
 import { useCallback, useEffect, useRef, useState } from "react";
-import type { SimulationProgress } from "@/lib/simulate/integrate";
-import type { WorkerErrorPayload } from "@/lib/simulate/worker-protocol";
+import type { SimulationProgress, WorkerErrorPayload } from "@/lib/simulate";
 import type { RunDisplay } from "./run-view";
 import type { ModelSimulationJob, ModelSimulationRequest, SimulationWorkerResponse } from "./worker-messages";
 

@@ -1,6 +1,5 @@
 /** Messages between the simulation cell and its Web Worker (simulation.worker.ts). */
-import type { SmallOscillationReport } from "@/lib/simulate/checks";
-import type { SimulationSettingsMessage, WorkerErrorPayload, WorkerResponse } from "@/lib/simulate/worker-protocol";
+import type { SmallOscillationReport, SimulationSettingsMessage, WorkerErrorPayload, WorkerResponse } from "@/lib/simulate";
 
 export interface ModelSimulationJob {
   /** The model file of the document, validated and derived inside the worker. */

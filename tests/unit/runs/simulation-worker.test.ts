@@ -3,10 +3,10 @@ import { tmpdir } from "node:os";
 import path from "node:path";
 import { build } from "esbuild";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { ModelError } from "@/lib/mechanics/errors";
-import { EnginePool } from "@/lib/mechanics/worker/pool";
+import { ModelError } from "@/lib/mechanics";
+import { EnginePool } from "@/lib/mechanics/worker";
 import type { FitTaskOutput, SimulateTaskInput, SimulateTaskOutput } from "@/lib/runs/tasks";
-import { trajectoryCsv } from "@/lib/simulate/trajectory-csv";
+import { trajectoryCsv } from "@/lib/simulate";
 
 // The server's path for simulations: lib/runs/simulation-worker.ts, bundled the way
 // build:workers bundles it, run through the same pool class as in lib/workers/simulation-pool.ts.
@@ -21,6 +21,7 @@ beforeAll(async () => {
     platform: "node",
     format: "esm",
     target: "node20",
+    mainFields: ["module", "main"],
     outfile: workerFile,
     banner: { js: "import { createRequire as __createRequire } from 'node:module'; const require = __createRequire(import.meta.url);" },
     logLevel: "warning",

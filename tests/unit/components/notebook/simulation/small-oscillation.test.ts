@@ -4,9 +4,8 @@
  */
 import { describe, expect, it } from "vitest";
 import { smallOscillationOf } from "@/components/notebook/simulation/small-oscillation";
-import { deriveModel } from "@/lib/mechanics/derive";
-import { checkSmallOscillation, explainSmallOscillation } from "@/lib/simulate/checks";
-import { systemFromMassMatrixForm } from "@/lib/simulate/system";
+import { deriveModel } from "@/lib/mechanics";
+import { checkSmallOscillation, explainSmallOscillation, systemFromMassMatrixForm } from "@/lib/simulate";
 import { evaluateModel } from "@/lib/evaluation/evaluate";
 import { templateModel } from "@/lib/notebook/templates";
 import { demoModel, evaluateDemo, inProcessRunner } from "../../../evaluation/in-process";
