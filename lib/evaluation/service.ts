@@ -13,7 +13,6 @@ import {
   relinearize,
   settingsOfDocument,
   type EngineRunner,
-  type EvaluationResult,
   type EvaluationSettings,
   type LinearizationSettings,
 } from "./evaluate";
@@ -59,7 +58,7 @@ export async function evaluateModelCached({
   const row = await upsertEvaluationByModelHash({
     modelHash,
     engineVersion: version,
-    result: evaluated.result as unknown as Record<string, unknown>,
+    result: evaluated.result,
     timings: { ...evaluated.timings },
   });
   return {
@@ -81,7 +80,7 @@ async function cachedEvaluation(modelHash: string, started: number): Promise<Eva
     cached: true,
     modelHash,
     engineVersion: hit.engineVersion,
-    result: hit.result as unknown as EvaluationResult,
+    result: hit.result,
     timings: hit.timings,
     requestMs: Math.round((performance.now() - started) * 100) / 100,
     evaluatedAt: hit.updatedAt.toISOString(),
@@ -121,7 +120,7 @@ async function relinearizedModelCached({
   const row = await upsertEvaluationByModelHash({
     modelHash,
     engineVersion: version,
-    result: relinearized.result as unknown as Record<string, unknown>,
+    result: relinearized.result,
     timings,
   });
   return {
