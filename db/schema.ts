@@ -1,6 +1,8 @@
 import { relations } from "drizzle-orm";
 import { boolean, doublePrecision, index, integer, jsonb, pgEnum, pgTable, text, timestamp, uniqueIndex, uuid } from "drizzle-orm/pg-core";
+import type { EvaluationResult } from "@/lib/evaluation/evaluate";
 import type { StoredDocument } from "@/lib/notebook/document";
+import type { ViewPreferences } from "@/lib/notebook/view-preferences";
 import { derivationStatuses, memberRoles, type DerivationStatus, type MemberRole } from "@/lib/domain";
 
 // Every table carries created_at / updated_at. updated_at is set by the query
@@ -343,7 +345,7 @@ export const evaluations = pgTable(
     id: uuid("id").primaryKey().defaultRandom(),
     modelHash: text("model_hash").notNull().unique(),
     engineVersion: text("engine_version").notNull(),
-    result: jsonb("result").$type<Record<string, unknown>>().notNull(),
+    result: jsonb("result").$type<EvaluationResult>().notNull(),
     // Milliseconds per stage of the run that produced the result.
     timings: jsonb("timings").$type<Record<string, number>>().notNull().default({}),
     hitCount: integer("hit_count").notNull().default(0),
@@ -460,7 +462,7 @@ export const viewPreferences = pgTable(
     derivationId: uuid("derivation_id")
       .notNull()
       .references(() => derivations.id, { onDelete: "cascade" }),
-    preferences: jsonb("preferences").$type<Record<string, unknown>>().notNull(),
+    preferences: jsonb("preferences").$type<ViewPreferences>().notNull(),
     ...timestamps,
   },
   (table) => [uniqueIndex("view_preferences_user_derivation_idx").on(table.userId, table.derivationId)],

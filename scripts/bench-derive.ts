@@ -2,9 +2,7 @@
 // N = 2…8, 12, 16, 20, 25, 30 (the coordinate limit). Prints in-process time and
 // term counts per equation (their range beyond 8 links). A benchmark, not a timed
 // test: targets are 5 links under 100 ms, 8 links under 1 s, 30 links under 10 s.
-import { deriveModel } from "../lib/mechanics/derive";
-import { chainModel } from "../lib/mechanics/templates/chain";
-import { topLevelTerms } from "../lib/mechanics/terms";
+import { deriveModel, chainModel, topLevelTerms } from "../lib/mechanics";
 
 const REPEATS = 5;
 

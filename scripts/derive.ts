@@ -8,8 +8,7 @@
 // The binary runs a bundle (dist/cli/derive.mjs, built with the worker bundles by
 // the start and test commands) so a small model is answered in well under 0.4 s.
 import { readFileSync, statSync } from "node:fs";
-import { EngineLimitError, ModelError } from "../lib/mechanics/errors";
-import { derivationReport } from "../lib/mechanics/report";
+import { EngineLimitError, ModelError, derivationReport } from "../lib/mechanics";
 
 const MAX_FILE_BYTES = 1_000_000;
 

@@ -8,8 +8,7 @@
  * as JSON, CSV or code. Loaded on first use (uPlot and the numerics).
  */
 import { useMemo, useState } from "react";
-import { CODE_LANGUAGES, type CodeLanguage } from "@/lib/mechanics/codegen/prepare";
-import { exportStateSpace, frequencyResponse, polesOf, transmissionZeros, type StateSpace } from "@/lib/mechanics/frequency-response";
+import { CODE_LANGUAGES, exportStateSpace, frequencyResponse, polesOf, transmissionZeros, type CodeLanguage, type StateSpace } from "@/lib/mechanics/browser";
 import type { NotebookResults } from "@/lib/notebook/results";
 import { Chart, type ChartSeries } from "./simulation/chart";
 

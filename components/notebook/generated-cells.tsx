@@ -20,7 +20,7 @@ import {
   type LinearizationCell,
 } from "@/lib/notebook/document";
 import { symbolLatex } from "@/lib/notebook/latex-preview";
-import { STABILITY_RULE } from "@/lib/mechanics/stability-rule";
+import { STABILITY_RULE } from "@/lib/mechanics/browser";
 import type { ModeView, NotebookResults } from "@/lib/notebook/results";
 import { MathView } from "./math";
 import { safetyNote } from "@/lib/domain";

@@ -13,7 +13,7 @@ import "katex/dist/katex.min.css";
 import "./notebook.css";
 import clsx from "clsx";
 import { Fragment, useEffect, useLayoutEffect, useMemo, useRef, useState, type DragEvent, type ReactNode } from "react";
-import type { Model } from "@/lib/mechanics/model";
+import type { Model } from "@/lib/mechanics/browser";
 import {
   CELL_KINDS,
   CELL_LABELS,

@@ -8,7 +8,7 @@
 import clsx from "clsx";
 import { useEffect, useId, useRef } from "react";
 import { ROW_LIMITS, emptyRow, rowLimitText, type AnyRow, type DocumentOperation, type DocumentSymbols, type TableCell } from "@/lib/notebook/document";
-import { spellGreekLetters } from "@/lib/mechanics/expr/greek";
+import { spellGreekLetters } from "@/lib/mechanics/browser";
 import { checkParameterValue, checkSymbolName, checkUnitSyntax, type FieldCheck } from "@/lib/notebook/field-checks";
 import { previewLatex, symbolLatex } from "@/lib/notebook/latex-preview";
 import { toEditorDiagnostic, type LocatedDiagnostic } from "@/lib/notebook/results";

@@ -10,6 +10,7 @@
 import canonicalize from "canonicalize";
 import { createContext, useContext, useEffect, useMemo, useRef, type ReactNode } from "react";
 import { apiFetch } from "@/lib/api/fetcher";
+import type { DerivationJson } from "@/lib/derivations/views";
 import { parseStoredDocument, type DerivationDocument } from "@/lib/notebook/document";
 
 export interface ReviewSync {
@@ -61,7 +62,7 @@ export function ReviewSyncProvider({
         };
       },
       async settle() {
-        const { derivation } = await apiFetch<{ derivation: { title: string; content: unknown; updatedAt: string } }>(`/api/derivations/${derivationId}`);
+        const { derivation } = await apiFetch<{ derivation: DerivationJson }>(`/api/derivations/${derivationId}`);
         const stored = parseStoredDocument(derivation.content, { title: derivation.title });
         // Someone else's edit in between stays a conflict for the notebook to show.
         if (stored.ok && canonicalize(stored.document) === canonicalize(latest.current.document)) {

@@ -2,7 +2,7 @@
 // crane, a camera gimbal and a seat-suspension test rig. The parameter values are
 // plausible round numbers chosen for the demo, not measured data.
 import type { DerivationStatus, MemberRole } from "@/lib/domain";
-import type { Model } from "@/lib/mechanics/model";
+import type { Model } from "@/lib/mechanics";
 import { createCell, modelToDocument, type Cell, type DerivationDocument, type StoredDocument } from "@/lib/notebook/document";
 
 export const demoPassword = "kestrel-demo-2041";

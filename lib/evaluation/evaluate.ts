@@ -7,16 +7,20 @@
  */
 import { createHash } from "node:crypto";
 import { fileBaseName } from "@/lib/files/names";
-import type { CodeExportInput, CodeLanguage } from "@/lib/mechanics/codegen";
-import type { MassMatrixSystem } from "@/lib/mechanics/compile";
-import { multiplierSymbol } from "@/lib/mechanics/constraints";
-import type { Equilibrium } from "@/lib/mechanics/equilibria";
-import { symbolLatex, type LatexTerm } from "@/lib/mechanics/latex";
-import { stateSpaceOf, type OutputChoice } from "@/lib/mechanics/frequency-response";
-import { matchEigenvalues, type Linearization } from "@/lib/mechanics/linearize";
-import { stabilityTolerance } from "@/lib/mechanics/stability";
-import type { Model } from "@/lib/mechanics/model";
-import type { PrintedDerivation } from "@/lib/mechanics/print";
+import {
+  type CodeExportInput,
+  type CodeLanguage,
+  type MassMatrixSystem,
+  type Equilibrium,
+  symbolLatex,
+  type LatexTerm,
+  matchEigenvalues,
+  type Linearization,
+  stabilityTolerance,
+  type Model,
+  type PrintedDerivation,
+} from "@/lib/mechanics";
+import { multiplierSymbol, stateSpaceOf, type OutputChoice } from "@/lib/mechanics";
 import type { CodeExportLanguage, DerivationDocument, LinearizationCell } from "@/lib/notebook/document";
 import type { ModeView, NotebookResults } from "@/lib/notebook/results";
 

@@ -4,9 +4,8 @@
  * language reserves); the server's unit check and model validation remain the
  * authority.
  */
-import { RESERVED_NAMES } from "../mechanics/expr/ast";
+import { RESERVED_NAMES, greekAdvice, hasGreekLetter } from "../mechanics/browser";
 import { MODEL_UNIT_SYMBOLS, parseUnitText, UnitError } from "../units";
-import { greekAdvice, hasGreekLetter } from "../mechanics/expr/greek";
 import { isBlankRow, isTableCell, parseParameterValue, type DerivationDocument, type TableKind } from "./document";
 
 export type FieldCheck = { ok: true } | { ok: false; message: string; /** 0-based position in the text */ position: number };

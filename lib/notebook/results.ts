@@ -4,7 +4,7 @@
  * (LaTeX comes from the engine, with each top-level term wrapped in
  * `\htmlData{term=ID}{…}`); the notebook only renders it.
  */
-import type { Model } from "../mechanics/model";
+import type { Model } from "../mechanics/browser";
 import { CELL_LABELS, locateModelField, type DerivationDocument, type FieldLocation } from "./document";
 
 export interface EquationView {

@@ -9,16 +9,24 @@
  * answer 422 precisely; model errors are thrown and cross the thread boundary
  * as the engine's typed errors.
  */
-import { deriveModel } from "../mechanics/derive";
-import type { Model } from "../mechanics/model";
-import { validateModel } from "../mechanics/validate-model";
-import { energyDrift, type EnergyDriftReport } from "../simulate/checks";
-import { FitError, MeasuredDataError, SimulationSetupError } from "../simulate/errors";
-import { fitParameters, type FitParameter, type FitResult } from "../simulate/fit";
-import { integrate, type SimulationResult } from "../simulate/integrate";
-import { parseMeasuredCsv } from "../simulate/measured";
-import { systemFromDerivation } from "../simulate/system";
-import { errorPayload, type SimulationSettingsMessage, type WorkerErrorPayload } from "../simulate/worker-protocol";
+import { deriveModel, type Model, validateModel } from "../mechanics";
+import {
+  energyDrift,
+  type EnergyDriftReport,
+  FitError,
+  MeasuredDataError,
+  SimulationSetupError,
+  fitParameters,
+  type FitParameter,
+  type FitResult,
+  integrate,
+  type SimulationResult,
+  parseMeasuredCsv,
+  systemFromDerivation,
+  errorPayload,
+  type SimulationSettingsMessage,
+  type WorkerErrorPayload,
+} from "../simulate";
 
 export type TaskFailure = { ok: false; error: WorkerErrorPayload };
 

@@ -1,4 +1,6 @@
 // Public API of the simulation library (framework-free; runs in a Web Worker and in Node worker threads).
+// Code outside lib/mechanics and lib/simulate imports this entry only (a lint rule keeps it so); nothing
+// behind it reaches the engine's computer algebra, so client components may import it.
 // The worker handler (worker-protocol.ts) serves the notebook's Web Worker (components/notebook/simulation);
 // the server runs simulations through lib/runs (tasks.ts in the simulation worker pool).
 export { SingularMatrixError, SimulationSetupError, MeasuredDataError, FitError } from "./errors";
@@ -50,7 +52,11 @@ export type { EnergyDriftReport, PeriodEstimate, SmallOscillationOptions, SmallO
 export { parseMeasuredCsv, resample, DEFAULT_MEASURED_LIMITS } from "./measured";
 export type { MeasuredData, MeasuredSeries, MeasuredDataOptions } from "./measured";
 export { fitParameters, fitParametersInSlices } from "./fit";
-export type { FitOptions, FitParameter, FitResult, FittedParameter, FitProgress, FitStatus } from "./fit";
+export type { FitOptions, FitParameter, FitResult, FittedParameter, FitProgress, FitStatus, NotIdentifiable } from "./fit";
+export { explainFit } from "./fit-report";
+export type { FitReport, FitReportContext } from "./fit-report";
+export { trajectoryCsv } from "./trajectory-csv";
+export type { TrajectoryColumns, ExtraColumnUnits } from "./trajectory-csv";
 export { createWorkerHandler, errorPayload } from "./worker-protocol";
 export type {
   WorkerRequest,

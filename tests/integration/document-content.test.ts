@@ -18,7 +18,7 @@ import * as importRoute from "@/app/api/teams/[teamId]/derivations/import/route"
 import * as teamDerivationsRoute from "@/app/api/teams/[teamId]/derivations/route";
 import { closeDatabase } from "@/db/client";
 import { getDerivationById } from "@/db/queries/derivations";
-import type { Model } from "@/lib/mechanics/model";
+import type { Model } from "@/lib/mechanics";
 import { DEFAULT_SIMULATION_SETTINGS, DOCUMENT_SCHEMA_VERSION, modelToDocument, type DerivationDocument } from "@/lib/notebook/document";
 import { closeEnginePool } from "@/lib/workers/engine-pool";
 import { jsonRequest, makeTeam, params, resetDatabase, storeRawContent, type TeamFixture } from "./support/fixtures";

@@ -13,7 +13,7 @@ import * as teamDerivationsRoute from "@/app/api/teams/[teamId]/derivations/rout
 import { closeDatabase } from "@/db/client";
 import { closeEnginePool } from "@/lib/workers/engine-pool";
 import { DOCUMENT_SCHEMA_VERSION, modelToDocument, type DerivationDocument } from "@/lib/notebook/document";
-import type { Model } from "@/lib/mechanics/model";
+import type { Model } from "@/lib/mechanics";
 import { safetyNote } from "@/lib/domain";
 import { formRequest, jsonRequest, makeTeam, params, resetDatabase, type TeamFixture } from "./support/fixtures";
 import { signInAs, signOut } from "./support/session";

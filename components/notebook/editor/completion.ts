@@ -6,7 +6,7 @@
 import { autocompletion, type Completion, type CompletionContext, type CompletionResult } from "@codemirror/autocomplete";
 import type { EditorView } from "@codemirror/view";
 import type { Extension } from "@codemirror/state";
-import { FUNCTION_NAMES } from "@/lib/mechanics/expr/ast";
+import { FUNCTION_NAMES } from "@/lib/mechanics/browser";
 import type { DocumentSymbols } from "@/lib/notebook/document";
 import { symbolsField } from "./context";
 

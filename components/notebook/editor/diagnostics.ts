@@ -9,9 +9,7 @@
 import { linter, lintKeymap, type Diagnostic } from "@codemirror/lint";
 import { keymap, type EditorView } from "@codemirror/view";
 import { StateField, type Extension } from "@codemirror/state";
-import { parseExpression } from "@/lib/mechanics/expr/parse";
-import { ExpressionError } from "@/lib/mechanics/errors";
-import { TIME, walk } from "@/lib/mechanics/expr/ast";
+import { parseExpression, ExpressionError, TIME, walk } from "@/lib/mechanics/browser";
 import type { DocumentSymbols } from "@/lib/notebook/document";
 import { serverDiagnosticsField, setServerDiagnosticsEffect, symbolsField } from "./context";
 

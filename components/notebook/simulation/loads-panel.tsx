@@ -8,7 +8,7 @@
  */
 import { useMemo } from "react";
 import { safetyNote } from "@/lib/domain";
-import { peakOf, type Peak } from "@/lib/simulate/outputs";
+import { peakOf, type Peak } from "@/lib/simulate";
 import { Chart, type ChartSeries } from "./chart";
 import type { RunDisplay } from "./run-view";
 

@@ -7,10 +7,9 @@
  * animation, and the trajectory as CSV. Loaded on first use, with uPlot.
  */
 import { useMemo } from "react";
-import { energyDrift, explainSmallOscillation } from "@/lib/simulate/checks";
+import { energyDrift, explainSmallOscillation, trajectoryCsv } from "@/lib/simulate";
 import { Chart, type ChartSeries } from "./chart";
 import { MechanismAnimation } from "./mechanism-animation";
-import { trajectoryCsv } from "@/lib/simulate/trajectory-csv";
 import { FAILURE_LABELS, type RunDisplay } from "./run-view";
 import { LoadsPanel } from "./loads-panel";
 

@@ -2,11 +2,9 @@
  * One simulation as the results view shows it, whether it ran in this
  * browser's worker or was stored by the server.
  */
-import type { SmallOscillationReport } from "@/lib/simulate/checks";
+import type { SmallOscillationReport, SimulationFailure } from "@/lib/simulate";
 import type { RunJson } from "@/lib/runs/views";
-import type { ConstraintReport, SimulationFailure } from "@/lib/simulate/integrate";
-import type { OutputSeries } from "@/lib/simulate/outputs";
-import type { ExtraColumnUnits } from "@/lib/simulate/trajectory-csv";
+import type { ConstraintReport, OutputSeries, ExtraColumnUnits } from "@/lib/simulate";
 
 export interface RunDisplay {
   label: string;

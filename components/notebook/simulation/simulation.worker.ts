@@ -9,17 +9,22 @@
  * page → worker: `{ type: "start", id, job: ModelSimulationJob }`, `{ type: "cancel", id }`
  * worker → page: the library's `progress`, `result` (with `points`) and `error` messages.
  */
-import { compileExpressions } from "@/lib/mechanics/compile";
-import { deriveModel } from "@/lib/mechanics/derive";
-import { ModelError } from "@/lib/mechanics/errors";
-import { analyzeModel, validateModel } from "@/lib/mechanics/validate-model";
-import type { SimulationResult } from "@/lib/simulate/integrate";
-import { checkSmallOscillation, type SmallOscillationReport } from "@/lib/simulate/checks";
-import { massMatrixFormOf, systemFromMassMatrixForm, type MassMatrixForm } from "@/lib/simulate/system";
-import { createWorkerHandler, errorPayload, type SimulationSettingsMessage, type WorkerRequest, type WorkerResponse } from "@/lib/simulate/worker-protocol";
-import { formatDimension, unitOfExpression } from "@/lib/mechanics/units";
-import type { ConstraintResult } from "@/lib/mechanics/constraints";
-import type { ExtraColumnUnits } from "@/lib/simulate/trajectory-csv";
+import { compileExpressions, deriveModel, ModelError, analyzeModel, validateModel } from "@/lib/mechanics";
+import {
+  type SimulationResult,
+  checkSmallOscillation,
+  type SmallOscillationReport,
+  systemFromMassMatrixForm,
+  type MassMatrixForm,
+  createWorkerHandler,
+  errorPayload,
+  type SimulationSettingsMessage,
+  type WorkerRequest,
+  type WorkerResponse,
+} from "@/lib/simulate";
+import { massMatrixFormOf } from "@/lib/simulate";
+import { formatDimension, unitOfExpression, type ConstraintResult } from "@/lib/mechanics";
+import type { ExtraColumnUnits } from "@/lib/simulate";
 import type { ModelSimulationJob, ModelSimulationRequest, PointTrack, SimulationWorkerResponse } from "./worker-messages";
 
 interface DedicatedWorkerScope {

@@ -2,7 +2,7 @@
  * Conversion between a document and the model file (`*.model.json`), the
  * portable form of a derivation the engine reads.
  */
-import type { Model } from "../../mechanics/model";
+import type { Model } from "../../mechanics/browser";
 import { createCell, createId } from "./create";
 import { DocumentError } from "./errors";
 import { DOCUMENT_SCHEMA_VERSION, type Cell, type DerivationDocument, type EnergyCell, type EnergyKind, type ForcesCell } from "./schema";

@@ -6,7 +6,7 @@
  * document and leaves its argument alone, and carries every id it creates, so
  * replaying one gives the same document everywhere.
  */
-import { DEFAULT_MODEL_LIMITS } from "../../mechanics/limits";
+import { DEFAULT_MODEL_LIMITS } from "../../mechanics/browser";
 import { createId, emptyRow } from "./create";
 import { DocumentError } from "./errors";
 import {

@@ -3,7 +3,7 @@
  * open, so an unreadable derivation never holds its work hostage. What can be
  * read is kept cell by cell and row by row; what cannot is named in `omitted`.
  */
-import type { Model } from "../../mechanics/model";
+import type { Model } from "../../mechanics/browser";
 import { migrateDocument, storedVersionOf } from "./migrations";
 import { documentToModel, parseParameterValue } from "./model-file";
 import {

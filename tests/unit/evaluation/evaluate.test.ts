@@ -15,10 +15,7 @@ import {
   withoutRoundingNoise,
   type EvaluationSettings,
 } from "@/lib/evaluation/evaluate";
-import type { Equilibrium } from "@/lib/mechanics/equilibria";
-import type { Model } from "@/lib/mechanics/model";
-import { STABILITY_TOLERANCE } from "@/lib/mechanics/stability";
-import { chainModel } from "@/lib/mechanics/templates/chain";
+import { type Equilibrium, type Model, STABILITY_TOLERANCE, chainModel } from "@/lib/mechanics";
 import { evaluateDemo, inProcessRunner } from "./in-process";
 
 const g = 9.81;

@@ -1,10 +1,11 @@
 // @vitest-environment jsdom
 import { afterEach, beforeEach, describe, expect, it, vi } from "vitest";
+import { QueryClient, QueryClientProvider } from "@tanstack/react-query";
 import { cleanup, fireEvent, render, screen, waitFor } from "@testing-library/react";
 import { MeasuredPanel } from "@/components/notebook/simulation/measured-panel";
 import { modelToDocument } from "@/lib/notebook/document";
 import { templateModel } from "@/lib/notebook/templates";
-import { explainFit } from "@/lib/simulate/fit-report";
+import { explainFit } from "@/lib/simulate";
 
 const doc = modelToDocument(templateModel("cart-with-pendulum"));
 
@@ -31,14 +32,18 @@ const image = {
 
 let stored: ReturnType<typeof measuredFile>[];
 let fitBody: unknown;
+let refuseUpload = false;
 const json = (body: unknown, status = 200) => new Response(JSON.stringify(body), { status, headers: { "content-type": "application/json" } });
 
 beforeEach(() => {
+  refuseUpload = false;
   stored = [measuredFile("old", "release-1.csv", "2041-03-01T10:00:00Z"), measuredFile("new", "release-2.csv", "2041-03-04T10:00:00Z")];
   vi.stubGlobal(
     "fetch",
     vi.fn(async (url: string, init?: RequestInit) => {
       if (url.endsWith("/files") && (init?.method ?? "GET") === "GET") return json({ files: [image, ...stored] });
+      if (url.endsWith("/files") && init?.method === "POST" && refuseUpload)
+        return json({ error: { code: "bad_request:measured_csv", message: "Line 3: the time does not increase." } }, 400);
       if (url.endsWith("/files") && init?.method === "POST") {
         const uploaded = measuredFile("fresh", "release-3.csv", "2041-03-06T10:00:00Z");
         stored = [uploaded, ...stored];
@@ -55,7 +60,12 @@ afterEach(() => {
 });
 
 function renderPanel() {
-  return render(<MeasuredPanel derivationId="d1" document={doc} settings={null} onOverlay={() => {}} onOperation={() => {}} />);
+  const client = new QueryClient({ defaultOptions: { queries: { retry: false }, mutations: { retry: false } } });
+  return render(
+    <QueryClientProvider client={client}>
+      <MeasuredPanel derivationId="d1" document={doc} settings={null} onOverlay={() => {}} onOperation={() => {}} />
+    </QueryClientProvider>,
+  );
 }
 
 describe("measured data panel", () => {
@@ -68,6 +78,17 @@ describe("measured data panel", () => {
     fireEvent.change(input, { target: { files: [new File(["t [s], x [m]\n0, 0\n"], "release-3.csv", { type: "text/csv" })] } });
     await waitFor(() => expect(screen.getByTestId<HTMLSelectElement>("measured-file").value).toBe("fresh"));
     expect(screen.getByRole("option", { name: /release-3\.csv/ })).toBeTruthy();
+  });
+
+  it("shows the server's reason for a refused upload and keeps the files listed", async () => {
+    refuseUpload = true;
+    renderPanel();
+    await waitFor(() => expect(screen.getByTestId<HTMLSelectElement>("measured-file").value).toBe("new"));
+    const input = screen.getByLabelText<HTMLInputElement>("Upload measured CSV");
+    fireEvent.change(input, { target: { files: [new File(["t [s], x [m]\n1, 0\n0, 0\n"], "bad.csv", { type: "text/csv" })] } });
+    expect((await screen.findByTestId("upload-error")).textContent).toContain("Line 3: the time does not increase.");
+    expect(screen.getByTestId<HTMLSelectElement>("measured-file").value).toBe("new");
+    expect(screen.queryByRole("status")).toBeNull();
   });
 
   it("shows why a parameter is not identifiable, what data would identify it, and the residual with its unit", async () => {

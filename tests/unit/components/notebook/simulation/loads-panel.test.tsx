@@ -3,8 +3,7 @@ import { afterEach, beforeAll, describe, expect, it, vi } from "vitest";
 import { cleanup, render, screen, within } from "@testing-library/react";
 import type { RunDisplay } from "@/components/notebook/simulation/run-view";
 import { safetyNote } from "@/lib/domain";
-import { integrate } from "@/lib/simulate/integrate";
-import { systemFromMassMatrixForm } from "@/lib/simulate/system";
+import { integrate, systemFromMassMatrixForm } from "@/lib/simulate";
 
 // jsdom has no canvas: a stand-in records each chart's series.
 const charts: { testId: string | null; labels: string[] }[] = [];

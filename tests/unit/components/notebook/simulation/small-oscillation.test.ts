@@ -4,12 +4,11 @@
  */
 import { describe, expect, it } from "vitest";
 import { smallOscillationOf } from "@/components/notebook/simulation/small-oscillation";
-import { deriveModel } from "@/lib/mechanics/derive";
-import { checkSmallOscillation, explainSmallOscillation } from "@/lib/simulate/checks";
-import { systemFromMassMatrixForm } from "@/lib/simulate/system";
+import { deriveModel } from "@/lib/mechanics";
+import { checkSmallOscillation, explainSmallOscillation, systemFromMassMatrixForm } from "@/lib/simulate";
 import { evaluateModel } from "@/lib/evaluation/evaluate";
 import { templateModel } from "@/lib/notebook/templates";
-import { demoModel, evaluateDemo, inProcessRunner } from "../../evaluation/in-process";
+import { demoModel, evaluateDemo, inProcessRunner } from "../../../evaluation/in-process";
 
 /** The system the simulation worker builds from a model (simulation.worker.ts). */
 function simulatedSystem(titleStart: string) {

@@ -1,5 +1,6 @@
 // @vitest-environment jsdom
 import { cleanup, configure, fireEvent, render, screen, waitFor, within } from "@testing-library/react";
+import { QueryClient, QueryClientProvider } from "@tanstack/react-query";
 import { afterEach, beforeAll, beforeEach, describe, expect, it, vi } from "vitest";
 import { DerivationReview } from "@/components/review/derivation-review";
 import { ShortcutsProvider } from "@/components/shortcuts";
@@ -90,10 +91,13 @@ function text(element: Element): string {
 }
 
 function renderPanel(panel: ReviewPanelData) {
+  const client = new QueryClient({ defaultOptions: { queries: { retry: false }, mutations: { retry: false } } });
   return render(
-    <ShortcutsProvider>
-      <DerivationReview data={panel} />
-    </ShortcutsProvider>,
+    <QueryClientProvider client={client}>
+      <ShortcutsProvider>
+        <DerivationReview data={panel} />
+      </ShortcutsProvider>
+    </QueryClientProvider>,
   );
 }
 

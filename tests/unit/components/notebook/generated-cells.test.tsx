@@ -5,13 +5,10 @@ import { ConservedCellView, EquationsCellView, LinearizationCellView } from "@/c
 import { Notebook } from "@/components/notebook/notebook";
 import { renderLatex, trustTermData } from "@/components/notebook/katex-render";
 import { createCell, modelToDocument, type ConservedCell, type EquationsCell, type LinearizationCell } from "@/lib/notebook/document";
-import { STABILITY_RULE } from "@/lib/mechanics/stability-rule";
-import { evaluateDemo } from "../evaluation/in-process";
+import { STABILITY_RULE, toLatexTerms, deriveModel, printDerivation } from "@/lib/mechanics";
+import { evaluateDemo } from "../../evaluation/in-process";
 import type { NotebookResults } from "@/lib/notebook/results";
 import { templateModel } from "@/lib/notebook/templates";
-import { toLatexTerms } from "@/lib/mechanics/latex";
-import { deriveModel } from "@/lib/mechanics/derive";
-import { printDerivation } from "@/lib/mechanics/print";
 
 afterEach(cleanup);
 // Editors lint after a pause and KaTeX loads on first use; allow for a busy machine.

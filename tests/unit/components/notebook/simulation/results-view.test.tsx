@@ -2,8 +2,8 @@
 import { afterEach, beforeAll, describe, expect, it, vi } from "vitest";
 import { cleanup, render, screen, within } from "@testing-library/react";
 import type { RunDisplay } from "@/components/notebook/simulation/run-view";
-import { checkSmallOscillation } from "@/lib/simulate/checks";
-import { pendulum } from "../../simulate/systems";
+import { checkSmallOscillation } from "@/lib/simulate";
+import { pendulum } from "../../../simulate/systems";
 
 // jsdom has no canvas: a stand-in records what each chart was given.
 interface RecordedChart {

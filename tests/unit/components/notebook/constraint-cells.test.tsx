@@ -4,7 +4,7 @@ import { cleanup, configure, fireEvent, render, screen, waitFor, within } from "
 import { useState } from "react";
 import { localDiagnostics } from "@/components/notebook/editor/diagnostics";
 import { TableCellEditor } from "@/components/notebook/table-cell";
-import type { Model } from "@/lib/mechanics/model";
+import type { Model } from "@/lib/mechanics";
 import {
   DOCUMENT_SCHEMA_VERSION,
   applyOperation,
