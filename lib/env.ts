@@ -26,6 +26,8 @@ const envSchema = z.object({
   // Failed sign-ins per client address (any e-mail) within the same window. Generous:
   // offices share an address, and the browser suite signs in many times from 127.0.0.1.
   SIGN_IN_MAX_FAILURES_PER_ADDRESS: z.coerce.number().int().positive().default(30),
+  // Scales every request rate limit (lib/auth/rate-limit.ts); load benchmarks raise it, production keeps 1.
+  RATE_LIMIT_MULTIPLIER: z.coerce.number().positive().default(1),
   INVITE_TTL_HOURS: z.coerce.number().int().positive().default(72),
   PASSWORD_RESET_TTL_MINUTES: z.coerce.number().int().positive().default(60),
   // Object storage (S3-compatible). Locally the S3 fake started by scripts/s3.sh, with its fixed key pair.
