@@ -109,11 +109,7 @@ export class AppError extends Error {
   // boundaries can tell "database down" apart from other failures in production.
   readonly digest: string;
 
-  constructor(
-    code: ErrorCode,
-    message?: string,
-    options?: { fieldErrors?: FieldErrors; details?: ErrorDetails; cause?: unknown; retryAfterSeconds?: number },
-  ) {
+  constructor(code: ErrorCode, message?: string, options?: { fieldErrors?: FieldErrors; details?: ErrorDetails; cause?: unknown; retryAfterSeconds?: number }) {
     const [kind, surface] = code.split(":") as [ErrorKind, ErrorSurface];
     super(message ?? defaultMessages[code] ?? kindMessages[kind], { cause: options?.cause });
     this.name = "AppError";

@@ -95,7 +95,11 @@ export async function consumeRateLimit(limit: RateLimit, key: string): Promise<R
  *
  * @example await enforceRateLimits([[rateLimits.evaluateByUser, user.id]], "rate_limited:engine");
  */
-export async function enforceRateLimits(checks: Array<[RateLimit, string | null]>, code: ErrorCode & `rate_limited:${string}`, message?: string): Promise<void> {
+export async function enforceRateLimits(
+  checks: Array<[RateLimit, string | null]>,
+  code: ErrorCode & `rate_limited:${string}`,
+  message?: string,
+): Promise<void> {
   let retryAfterSeconds = 0;
   for (const [limit, key] of checks) {
     if (key === null) continue;

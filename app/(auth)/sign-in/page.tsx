@@ -7,7 +7,11 @@ import { SignInForm } from "./sign-in-form";
 export const metadata: Metadata = { title: "Sign in" };
 export const dynamic = "force-dynamic";
 
-export default async function SignInPage({ searchParams }: { searchParams: Promise<{ callbackUrl?: string; reset?: string; email?: string; notice?: string }> }) {
+export default async function SignInPage({
+  searchParams,
+}: {
+  searchParams: Promise<{ callbackUrl?: string; reset?: string; email?: string; notice?: string }>;
+}) {
   const params = await searchParams;
   const returnTo = safeReturnPath(params.callbackUrl);
   if (await getSessionUser()) redirect(returnTo);

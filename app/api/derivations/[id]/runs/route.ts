@@ -21,7 +21,11 @@ export const GET = derivationRoute<Params>("derivation:read", async ({ derivatio
  * its reason, the time reached and the trajectory up to there).
  */
 export const POST = derivationRoute<Params>("derivation:simulate", async ({ request, user, derivation }) => {
-  await enforceRateLimits([[rateLimits.simulateByUser, user.id]], "rate_limited:simulation", "Too many simulations in a short time. Wait a moment and try again.");
+  await enforceRateLimits(
+    [[rateLimits.simulateByUser, user.id]],
+    "rate_limited:simulation",
+    "Too many simulations in a short time. Wait a moment and try again.",
+  );
   const settings = parseOrThrow(runSettingsSchema, await readJson(request));
   const run = await runAndStoreSimulation({ derivation, userId: user.id, settings });
   const trajectory = await trajectoryOfRun(run);
