@@ -406,7 +406,8 @@ describe("cross-site requests, swept over every state-changing route", () => {
     const failures: string[] = [];
     for (const route of unsafe) {
       const { url, routeParams } = fillTemplate(route.template, world.params);
-      for (const headers of [{ origin: "https://attacker.example" }, { origin: "null" }, { referer: "https://attacker.example/page" }]) {
+      const foreign: Record<string, string>[] = [{ origin: "https://attacker.example" }, { origin: "null" }, { referer: "https://attacker.example/page" }];
+      for (const headers of foreign) {
         const request = new Request(`http://localhost${url}`, {
           method: route.method,
           headers: { ...headers, "content-type": "text/plain", "content-length": "2" },
