@@ -1,5 +1,5 @@
 import { relations } from "drizzle-orm";
-import { boolean, doublePrecision, index, integer, jsonb, pgEnum, pgTable, text, timestamp, uniqueIndex, uuid } from "drizzle-orm/pg-core";
+import { bigint, boolean, doublePrecision, index, integer, jsonb, pgEnum, pgTable, text, timestamp, uniqueIndex, uuid } from "drizzle-orm/pg-core";
 import type { EvaluationResult } from "@/lib/evaluation/evaluate";
 import type { StoredDocument } from "@/lib/notebook/document";
 import type { ViewPreferences } from "@/lib/notebook/view-preferences";
@@ -125,22 +125,6 @@ export const derivations = pgTable(
 export type Derivation = typeof derivations.$inferSelect;
 export type NewDerivation = typeof derivations.$inferInsert;
 
-// One row per sign-in attempt; failures in a recent window drive the rate limit.
-export const signInAttempts = pgTable(
-  "sign_in_attempts",
-  {
-    id: uuid("id").primaryKey().defaultRandom(),
-    email: text("email").notNull(),
-    succeeded: boolean("succeeded").notNull(),
-    ...timestamps,
-  },
-  (table) => [index("sign_in_attempts_email_time_idx").on(table.email, table.createdAt)],
-);
-export type SignInAttempt = typeof signInAttempts.$inferSelect;
-
-// Requests counted against a rate limit other than the per-e-mail sign-in one
-// (failed sign-ins per client address, password-reset and sign-up requests).
-// `action` names the limit, `key` is what it is counted by (an address or an e-mail).
 export const revisionKinds = ["auto", "checkpoint", "restore", "review", "import"] as const;
 export type RevisionKind = (typeof revisionKinds)[number];
 export const revisionKind = pgEnum("revision_kind", revisionKinds);
@@ -288,17 +272,24 @@ export const apiTokens = pgTable(
 );
 export type ApiToken = typeof apiTokens.$inferSelect;
 
-export const rateLimitEvents = pgTable(
-  "rate_limit_events",
+// ---------------------------------------------------------------------------
+// Rate limits (security). The counters of rate-limiter-flexible's PostgreSQL
+// store: one row per limit and key ("<limit>:<key>"), the points used in the
+// current window and when the window ends (ms since the epoch). The library
+// writes the rows with positional INSERTs, so the columns are exactly these,
+// in this order, without the usual timestamps; lib/auth/rate-limit.ts defines
+// the limits.
+export const rateLimits = pgTable(
+  "rate_limits",
   {
-    id: uuid("id").primaryKey().defaultRandom(),
-    action: text("action").notNull(),
-    key: text("key").notNull(),
-    ...timestamps,
+    key: text("key").primaryKey(),
+    points: integer("points").notNull().default(0),
+    expire: bigint("expire", { mode: "number" }),
   },
-  (table) => [index("rate_limit_events_action_key_time_idx").on(table.action, table.key, table.createdAt)],
+  (table) => [index("rate_limits_expire_idx").on(table.expire)],
 );
-export type RateLimitEvent = typeof rateLimitEvents.$inferSelect;
+export type RateLimitRow = typeof rateLimits.$inferSelect;
+// ---------------------------------------------------------------------------
 
 export const auditLog = pgTable(
   "audit_log",

@@ -7,6 +7,7 @@ import { applyFittedValues } from "@/lib/runs/apply-fit";
 import { fitToMeasuredFile } from "@/lib/runs/service";
 import { parseOrThrow } from "@/lib/validation/parse";
 import { fitSchema } from "./schema";
+import { enforceRateLimits, rateLimits } from "@/lib/auth/rate-limit";
 
 type Params = { id: string };
 
@@ -17,6 +18,11 @@ type Params = { id: string };
  * written to the Parameters cell (lead, or analyst on an unapproved derivation).
  */
 export const POST = derivationRoute<Params>("derivation:simulate", async ({ request, user, derivation, membership }) => {
+  await enforceRateLimits(
+    [[rateLimits.simulateByUser, user.id]],
+    "rate_limited:simulation",
+    "Too many simulations in a short time. Wait a moment and try again.",
+  );
   const input = parseOrThrow(fitSchema, await readJson(request));
   // Refuse before the (long) fit rather than after it.
   if (input.apply) assertCan(membership.role, "derivation:edit", { status: derivation.status });

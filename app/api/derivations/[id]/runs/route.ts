@@ -5,6 +5,7 @@ import { runAndStoreSimulation, trajectoryOfRun } from "@/lib/runs/service";
 import { runView } from "@/lib/runs/views";
 import { parseOrThrow } from "@/lib/validation/parse";
 import { runSettingsSchema } from "./schema";
+import { enforceRateLimits, rateLimits } from "@/lib/auth/rate-limit";
 
 type Params = { id: string };
 
@@ -20,6 +21,11 @@ export const GET = derivationRoute<Params>("derivation:read", async ({ derivatio
  * its reason, the time reached and the trajectory up to there).
  */
 export const POST = derivationRoute<Params>("derivation:simulate", async ({ request, user, derivation }) => {
+  await enforceRateLimits(
+    [[rateLimits.simulateByUser, user.id]],
+    "rate_limited:simulation",
+    "Too many simulations in a short time. Wait a moment and try again.",
+  );
   const settings = parseOrThrow(runSettingsSchema, await readJson(request));
   const run = await runAndStoreSimulation({ derivation, userId: user.id, settings });
   const trajectory = await trajectoryOfRun(run);
