@@ -11,14 +11,17 @@ const READ_BUDGET_MS = 1000;
 
 const headerCell = fc.oneof(
   fc.constantFrom("t [s]", "time [ms]", "theta1 [deg]", "theta1 [rad]", "x [mm]", "x [m]", "theta1' [rad/s]", "energy [J]"),
-  fc.constantFrom("t", "x", "x []", "x [furlong]", "y [m]", "t [m]", "x [m", "\"x [m]\"", "theta1 [deg]", "__proto__ [m]", "constructor [s]", "x' [m]"),
+  fc.constantFrom("t", "x", "x []", "x [furlong]", "y [m]", "t [m]", "x [m", '"x [m]"', "theta1 [deg]", "__proto__ [m]", "constructor [s]", "x' [m]"),
   fc.string({ maxLength: 12 }),
 );
 
 const cell = fc.oneof(
   { weight: 6, arbitrary: fc.double({ min: -1e3, max: 1e3, noNaN: true }).map(String) },
   { weight: 2, arbitrary: fc.integer({ min: 0, max: 100 }).map(String) },
-  { weight: 1, arbitrary: fc.constantFrom("", "NaN", "Infinity", "-inf", "1e999", "1,5", "0x10", '"2"', ' "3" ', "\"unterminated", "1e", "--1", "#", "\u0000", "😀") },
+  {
+    weight: 1,
+    arbitrary: fc.constantFrom("", "NaN", "Infinity", "-inf", "1e999", "1,5", "0x10", '"2"', ' "3" ', '"unterminated', "1e", "--1", "#", "\u0000", "😀"),
+  },
 );
 
 const delimiter = fc.constantFrom(",", ";", "\t", ", ");
@@ -27,13 +30,29 @@ const lineEnd = fc.constantFrom("\n", "\r\n", "\r");
 /** A measured-data file: comments, a header, rows of cells, odd line ends. */
 const csvText = fc
   .record({
-    comments: fc.array(fc.string({ maxLength: 20 }).map((s) => `# ${s}`), { maxLength: 2 }),
+    comments: fc.array(
+      fc.string({ maxLength: 20 }).map((s) => `# ${s}`),
+      { maxLength: 2 },
+    ),
     header: fc.oneof(
-      { weight: 3, arbitrary: fc.constantFrom(["t [s]", "theta1 [deg]"], ["time [ms]", "x [mm]", "theta1 [rad]"], ["t [s]", "theta1 [rad]", "theta1' [rad/s]", "energy [J]"]) },
+      {
+        weight: 3,
+        arbitrary: fc.constantFrom(
+          ["t [s]", "theta1 [deg]"],
+          ["time [ms]", "x [mm]", "theta1 [rad]"],
+          ["t [s]", "theta1 [rad]", "theta1' [rad/s]", "energy [J]"],
+        ),
+      },
       { weight: 1, arbitrary: fc.array(headerCell, { minLength: 1, maxLength: 4 }) },
     ),
     rows: fc.oneof(
-      { weight: 3, arbitrary: fc.array(fc.array(fc.double({ min: -1e3, max: 1e3, noNaN: true }).map(String), { minLength: 4, maxLength: 4 }), { minLength: 2, maxLength: 12 }) },
+      {
+        weight: 3,
+        arbitrary: fc.array(fc.array(fc.double({ min: -1e3, max: 1e3, noNaN: true }).map(String), { minLength: 4, maxLength: 4 }), {
+          minLength: 2,
+          maxLength: 12,
+        }),
+      },
       { weight: 2, arbitrary: fc.array(fc.array(cell, { minLength: 0, maxLength: 5 }), { maxLength: 12 }) },
     ),
     delimiter,
@@ -42,7 +61,9 @@ const csvText = fc
   })
   .map(({ comments, header, rows, delimiter, lineEnd, increasing }) => {
     // Half the files get a valid time column, so the reader gets past the first row.
-    const body = rows.map((row, i) => (increasing ? [String(i * 0.01), ...row.slice(1, header.length)] : row.slice(0, header.length + (i % 2))).join(delimiter));
+    const body = rows.map((row, i) =>
+      (increasing ? [String(i * 0.01), ...row.slice(1, header.length)] : row.slice(0, header.length + (i % 2))).join(delimiter),
+    );
     return [...comments, header.join(delimiter), ...body].join(lineEnd);
   });
 

@@ -32,12 +32,11 @@ function modelObject(): fc.Arbitrary<Record<string, unknown>> {
         {
           title: fc.oneof(fc.constant("Fuzzed rig"), anyText(30)),
           coordinates: fc.tuple(...coordinates.map((name) => fc.record({ name: fc.constant(name), unit }))),
-          parameters: fc.tuple(...parameters.map((name) => fc.record({ name: fc.constant(name), unit, value: fc.oneof(fc.double({ noNaN: true }), fc.constant(1)) }))),
-          inputs: fc.constant(withInput ? [{ name: "u", unit: "N" }] : []),
-          kinetic: fc.oneof(
-            energy,
-            fc.constant(coordinates.map((c) => `1/2*${parameters[0] ?? "1"}*${c}'^2`).join(" + ")),
+          parameters: fc.tuple(
+            ...parameters.map((name) => fc.record({ name: fc.constant(name), unit, value: fc.oneof(fc.double({ noNaN: true }), fc.constant(1)) })),
           ),
+          inputs: fc.constant(withInput ? [{ name: "u", unit: "N" }] : []),
+          kinetic: fc.oneof(energy, fc.constant(coordinates.map((c) => `1/2*${parameters[0] ?? "1"}*${c}'^2`).join(" + "))),
           potential: energy,
           dissipation: fc.option(energy, { nil: undefined }),
           forces: fc.option(fc.dictionary(fc.constantFrom(...coordinates, "nope", "__proto__"), energy, { maxKeys: 2 }), { nil: undefined }),
@@ -49,26 +48,33 @@ function modelObject(): fc.Arbitrary<Record<string, unknown>> {
 
 /** Structural damage to a model object: wrong types, missing fields, odd keys, duplicates. */
 function damagedModel(): fc.Arbitrary<unknown> {
-  return fc.tuple(modelObject(), fc.constantFrom("drop", "wrong-type", "duplicate", "proto", "huge", "none"), fc.constantFrom("title", "coordinates", "parameters", "kinetic", "potential", "inputs", "forces"), fc.anything()).map(([model, damage, key, value]) => {
-    const copy: Record<string, unknown> = { ...model };
-    switch (damage) {
-      case "drop":
-        delete copy[key];
-        break;
-      case "wrong-type":
-        copy[key] = value;
-        break;
-      case "duplicate":
-        if (Array.isArray(copy.coordinates)) copy.coordinates = [...(copy.coordinates as unknown[]), ...(copy.coordinates as unknown[])];
-        break;
-      case "proto":
-        return JSON.parse(`{"__proto__": {"polluted": true}, "constructor": {"prototype": {"x": 1}}, ${JSON.stringify(copy).slice(1)}`);
-      case "huge":
-        copy.parameters = Array.from({ length: 250 }, (_, i) => ({ name: `p${i}`, unit: "1" }));
-        break;
-    }
-    return copy;
-  });
+  return fc
+    .tuple(
+      modelObject(),
+      fc.constantFrom("drop", "wrong-type", "duplicate", "proto", "huge", "none"),
+      fc.constantFrom("title", "coordinates", "parameters", "kinetic", "potential", "inputs", "forces"),
+      fc.anything(),
+    )
+    .map(([model, damage, key, value]) => {
+      const copy: Record<string, unknown> = { ...model };
+      switch (damage) {
+        case "drop":
+          delete copy[key];
+          break;
+        case "wrong-type":
+          copy[key] = value;
+          break;
+        case "duplicate":
+          if (Array.isArray(copy.coordinates)) copy.coordinates = [...(copy.coordinates as unknown[]), ...(copy.coordinates as unknown[])];
+          break;
+        case "proto":
+          return JSON.parse(`{"__proto__": {"polluted": true}, "constructor": {"prototype": {"x": 1}}, ${JSON.stringify(copy).slice(1)}`);
+        case "huge":
+          copy.parameters = Array.from({ length: 250 }, (_, i) => ({ name: `p${i}`, unit: "1" }));
+          break;
+      }
+      return copy;
+    });
 }
 
 /** Model file text: good JSON of good and damaged models, and broken JSON. */
@@ -76,7 +82,12 @@ function modelFileText(): fc.Arbitrary<string> {
   const json = fc.oneof(modelObject(), damagedModel(), fc.anything()).map((value) => JSON.stringify(value) ?? "");
   return fc.oneof(
     { weight: 4, arbitrary: json },
-    { weight: 1, arbitrary: fc.tuple(json, fc.nat(), fc.nat({ max: 20 })).map(([text, at, cut]) => text.slice(0, at % (text.length + 1)) + text.slice((at % (text.length + 1)) + cut)) },
+    {
+      weight: 1,
+      arbitrary: fc
+        .tuple(json, fc.nat(), fc.nat({ max: 20 }))
+        .map(([text, at, cut]) => text.slice(0, at % (text.length + 1)) + text.slice((at % (text.length + 1)) + cut)),
+    },
     { weight: 1, arbitrary: anyText(300) },
   );
 }

@@ -56,14 +56,23 @@ describe("expression parser under fuzzing", () => {
   });
 
   it("answers adversarial text with a tree or an ExpressionError", () => {
-    fc.assert(fc.property(adversarialExpression(), (text) => void expectTreeOrExpressionError(text)), fuzzSettings("parser, adversarial text", 300));
+    fc.assert(
+      fc.property(adversarialExpression(), (text) => void expectTreeOrExpressionError(text)),
+      fuzzSettings("parser, adversarial text", 300),
+    );
   });
 
   it("answers arbitrary Unicode with a tree or an ExpressionError", () => {
-    fc.assert(fc.property(anyText(), (text) => void expectTreeOrExpressionError(text)), fuzzSettings("parser, arbitrary text", 200));
+    fc.assert(
+      fc.property(anyText(), (text) => void expectTreeOrExpressionError(text)),
+      fuzzSettings("parser, arbitrary text", 200),
+    );
   });
 
   it("refuses deep nesting and overlong text with a limit error instead of overflowing the stack", () => {
-    fc.assert(fc.property(extremeExpression(), (text) => void expectTreeOrExpressionError(text)), fuzzSettings("parser, extreme shapes", 40));
+    fc.assert(
+      fc.property(extremeExpression(), (text) => void expectTreeOrExpressionError(text)),
+      fuzzSettings("parser, extreme shapes", 40),
+    );
   });
 });

@@ -15,7 +15,10 @@ const names = [...COORDINATES, ...PARAMETERS, "u", "t"];
 
 const number = fc.oneof(
   { weight: 4, arbitrary: fc.double({ min: -10, max: 10, noNaN: true }) },
-  { weight: 1, arbitrary: fc.constantFrom(0, -0, Number.NaN, Number.POSITIVE_INFINITY, Number.NEGATIVE_INFINITY, 1e308, -1e308, 5e-324, Number.MAX_SAFE_INTEGER) },
+  {
+    weight: 1,
+    arbitrary: fc.constantFrom(0, -0, Number.NaN, Number.POSITIVE_INFINITY, Number.NEGATIVE_INFINITY, 1e308, -1e308, 5e-324, Number.MAX_SAFE_INTEGER),
+  },
 );
 
 const expression = fc.oneof({ weight: 5, arbitrary: grammarExpression(names) }, { weight: 1, arbitrary: adversarialExpression() });
@@ -26,8 +29,21 @@ const systemForm = fc.integer({ min: 1, max: 2 }).chain((n) =>
   fc.record({
     coordinates: fc.constant(COORDINATES.slice(0, n)),
     massMatrix: fc.oneof(
-      { weight: 2, arbitrary: fc.constant(n === 1 ? [["m"]] : [["m", "0"], ["0", "m*k^2 + 1"]]) },
-      { weight: 1, arbitrary: fc.array(fc.array(fc.oneof(fc.constant("m"), fc.constant("0"), expression), { minLength: n, maxLength: n }), { minLength: n, maxLength: n }) },
+      {
+        weight: 2,
+        arbitrary: fc.constant(
+          n === 1
+            ? [["m"]]
+            : [
+                ["m", "0"],
+                ["0", "m*k^2 + 1"],
+              ],
+        ),
+      },
+      {
+        weight: 1,
+        arbitrary: fc.array(fc.array(fc.oneof(fc.constant("m"), fc.constant("0"), expression), { minLength: n, maxLength: n }), { minLength: n, maxLength: n }),
+      },
     ),
     forcing: fc.array(expression, { minLength: n, maxLength: n }),
     energy: fc.option(expression, { nil: undefined }),
@@ -45,14 +61,20 @@ const saneSettings = fc.record({
 /** Settings with any field absurd. */
 const absurdSettings = fc.record(
   {
-    initialCoordinates: fc.oneof(fc.record({ x: number, q: number }, { requiredKeys: [] }), fc.array(number, { maxLength: 3 }), fc.dictionary(fc.string({ maxLength: 4 }), number, { maxKeys: 2 })),
+    initialCoordinates: fc.oneof(
+      fc.record({ x: number, q: number }, { requiredKeys: [] }),
+      fc.array(number, { maxLength: 3 }),
+      fc.dictionary(fc.string({ maxLength: 4 }), number, { maxKeys: 2 }),
+    ),
     initialRates: fc.record({ x: number, q: number }, { requiredKeys: [] }),
     startTime: number,
     endTime: fc.oneof(fc.double({ min: 0.01, max: 5, noNaN: true }), number),
     outputStep: fc.oneof(fc.double({ min: 1e-3, max: 1, noNaN: true }), number),
     relativeTolerance: fc.oneof(fc.constant(1e-6), number),
     absoluteTolerance: fc.oneof(fc.constant(1e-8), number),
-    inputs: fc.dictionary(fc.constantFrom("u", "v", "__proto__"), fc.oneof(grammarExpression(["t", "m", "k", "c", "x"]), adversarialExpression()), { maxKeys: 2 }),
+    inputs: fc.dictionary(fc.constantFrom("u", "v", "__proto__"), fc.oneof(grammarExpression(["t", "m", "k", "c", "x"]), adversarialExpression()), {
+      maxKeys: 2,
+    }),
     parameters: fc.dictionary(fc.constantFrom(...PARAMETERS, "zz", "constructor"), number, { maxKeys: 3 }),
     maxSteps: fc.oneof(fc.constant(20_000), fc.integer({ min: -5, max: 50_000 }), number),
   },

@@ -66,7 +66,13 @@ export function grammarExpression(names: readonly string[] = NAMES): fc.Arbitrar
     atom: fc.oneof(
       { weight: 3, arbitrary: fc.constantFrom(...names) },
       { weight: 2, arbitrary: fc.tuple(fc.constantFrom(...names), fc.constantFrom("'", "''")).map(([n, p]) => n + p) },
-      { weight: 3, arbitrary: fc.oneof(fc.integer({ min: 0, max: 40 }).map(String), fc.double({ min: 0, max: 1e6, noNaN: true }).map((v) => String(v).replace("e+", "e"))) },
+      {
+        weight: 3,
+        arbitrary: fc.oneof(
+          fc.integer({ min: 0, max: 40 }).map(String),
+          fc.double({ min: 0, max: 1e6, noNaN: true }).map((v) => String(v).replace("e+", "e")),
+        ),
+      },
     ),
     expr: fc.oneof(
       { depthSize: "small", withCrossShrink: true },
@@ -130,16 +136,14 @@ const ADVERSARIAL_PIECES = [
 
 /** Expression text with adversarial pieces spliced into grammatical text. */
 export function adversarialExpression(): fc.Arbitrary<string> {
-  return fc
-    .tuple(grammarExpression(), fc.array(fc.tuple(fc.nat(), fc.constantFrom(...ADVERSARIAL_PIECES)), { maxLength: 4 }))
-    .map(([text, inserts]) => {
-      let out = text;
-      for (const [at, piece] of inserts) {
-        const index = out.length === 0 ? 0 : at % (out.length + 1);
-        out = out.slice(0, index) + piece + out.slice(index);
-      }
-      return out;
-    });
+  return fc.tuple(grammarExpression(), fc.array(fc.tuple(fc.nat(), fc.constantFrom(...ADVERSARIAL_PIECES)), { maxLength: 4 })).map(([text, inserts]) => {
+    let out = text;
+    for (const [at, piece] of inserts) {
+      const index = out.length === 0 ? 0 : at % (out.length + 1);
+      out = out.slice(0, index) + piece + out.slice(index);
+    }
+    return out;
+  });
 }
 
 /** Deep nesting and long chains: the shapes that stress recursion and limits. */
@@ -156,5 +160,9 @@ export function extremeExpression(): fc.Arbitrary<string> {
 
 /** Any text at all, with full Unicode. */
 export function anyText(maxLength = 200): fc.Arbitrary<string> {
-  return fc.oneof(fc.string({ maxLength }), fc.string({ unit: "binary", maxLength }), fc.string({ unit: fc.constantFrom(..."x()+-*/^'.0123456789e sinco"), maxLength }));
+  return fc.oneof(
+    fc.string({ maxLength }),
+    fc.string({ unit: "binary", maxLength }),
+    fc.string({ unit: fc.constantFrom(..."x()+-*/^'.0123456789e sinco"), maxLength }),
+  );
 }
