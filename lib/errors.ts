@@ -40,7 +40,8 @@ export type ErrorSurface =
   | "revision"
   | "review"
   | "notification"
-  | "archive";
+  | "archive"
+  | "job";
 
 export type ErrorCode = `${ErrorKind}:${ErrorSurface}`;
 

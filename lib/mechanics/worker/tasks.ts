@@ -18,7 +18,13 @@ import { validateModel } from "../validate-model";
  * crosses it printed (text and LaTeX, printDerivation), and M and f come back
  * as text, parsed once on arrival.
  */
-export type EngineTask = (payload: unknown) => unknown;
+export type EngineTask = (payload: unknown, context?: EngineTaskContext) => unknown;
+
+/** What a task may use besides its payload: reporting progress to whoever runs it (a queued job's page). */
+export interface EngineTaskContext {
+  /** The fraction done, in [0, 1]; cheap to call, the pool passes it on as it comes. */
+  progress(fraction: number): void;
+}
 
 /**
  * The fields of a task's payload. A payload that is not an object (null, a
