@@ -16,6 +16,7 @@ import type { FitJson } from "@/lib/runs/views";
 import { useUploadLimits } from "../upload-limits";
 import type { MeasuredOverlay } from "./results-view";
 import type { RunRequest } from "./settings";
+import { ServerJobStatus, useServerJob } from "./use-server-job";
 
 interface FitRow {
   chosen: boolean;
@@ -72,6 +73,7 @@ export function MeasuredPanel({ derivationId, document: doc, readOnly, settings,
   const [fit, setFit] = useState<FitJson | null>(null);
   const [fitError, setFitError] = useState<string | null>(null);
   const [applied, setApplied] = useState(false);
+  const fitJob = useServerJob(derivationId);
   const parameters = useMemo(() => {
     const list: { name: string; value: string; cellId: string; rowId: string }[] = [];
     for (const cell of doc.cells)
@@ -164,7 +166,9 @@ export function MeasuredPanel({ derivationId, document: doc, readOnly, settings,
             }
           : {}),
       };
-      const response = await apiFetch<FitJson>(`/api/derivations/${derivationId}/fit`, { method: "POST", body });
+      // A queue worker runs the fit; the page follows its progress and may cancel it.
+      const job = await fitJob.run(`/api/derivations/${derivationId}/fit`, body);
+      const response = job.result as unknown as FitJson;
       setFit(response);
       onOverlay(response.overlay);
     } catch (error) {
@@ -216,7 +220,11 @@ export function MeasuredPanel({ derivationId, document: doc, readOnly, settings,
           </code>
           ; time strictly increasing.
         </p>
-        {busy && <p role="status">{busy}</p>}
+        {fitJob.job ? (
+          <ServerJobStatus job={fitJob.job} what="Fit" onCancel={() => void fitJob.cancel().catch(() => undefined)} />
+        ) : (
+          busy && <p role="status">{busy}</p>
+        )}
         {uploadError && (
           <p className="rounded border border-danger/60 bg-danger-soft px-3 py-1.5 text-danger" role="alert" data-testid="upload-error">
             {uploadError}

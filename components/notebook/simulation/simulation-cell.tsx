@@ -29,6 +29,7 @@ import { validateSettings } from "./settings";
 import { smallOscillationOf } from "./small-oscillation";
 import type { MeasuredOverlay } from "./results-view";
 import { useSimulationWorker } from "./use-simulation-worker";
+import { ServerJobStatus, useServerJob } from "./use-server-job";
 
 const ResultsView = lazy(() => import("./results-view"));
 
@@ -337,6 +338,7 @@ export function SimulationCellView({
   const [storedRuns, setStoredRuns] = useState<RunJson[] | null>(null);
   const [overlay, setOverlay] = useState<MeasuredOverlay | null>(null);
   const { state, start, cancel } = useSimulationWorker(setRun);
+  const serverJob = useServerJob(derivationId);
 
   const symbols = useMemo(() => (doc ? documentSymbols(doc) : null), [doc]);
   const coordinateUnits = useMemo(() => (doc ? coordinateUnitsOf(doc) : {}), [doc]);
@@ -391,7 +393,9 @@ export function SimulationCellView({
     if (!prepared || !derivationId) return;
     setServerBusy(true);
     try {
-      const { run: stored } = await apiFetch<{ run: RunJson }>(`/api/derivations/${derivationId}/runs`, { method: "POST", body: prepared.request });
+      // A queue worker runs it; the page follows the job's progress and may cancel it.
+      const job = await serverJob.run(`/api/derivations/${derivationId}/runs`, prepared.request);
+      const { run: stored } = await apiFetch<{ run: RunJson }>(`/api/derivations/${derivationId}/runs/${String(job.result?.runId)}`);
       const display = displayOfStoredRun(stored);
       if (display) setRun(display);
       await loadRuns();
@@ -457,6 +461,7 @@ export function SimulationCellView({
             {serverBusy ? "Running on server…" : "Run on server and save"}
           </button>
         )}
+        {serverJob.job && <ServerJobStatus job={serverJob.job} what="Run" onCancel={() => void serverJob.cancel().catch(() => undefined)} />}
         {running && (
           <>
             <progress
