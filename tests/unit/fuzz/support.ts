@@ -12,7 +12,6 @@ import fc from "fast-check";
  * the failing case. The default run is kept short; `HOLONOMY_FUZZ_RUNS=20`
  * multiplies every property's number of runs for a long session.
  */
-export type FuzzSettings = fc.Parameters<never>;
 
 function integerFromEnv(name: string): number | null {
   const text = process.env[name];
@@ -31,7 +30,7 @@ const replayPath = process.env.HOLONOMY_FUZZ_PATH?.trim() || undefined;
  * HOLONOMY_FUZZ_RUNS multiplier, and the replay path when one is given.
  * Logs one line naming the seed, so every run can be reproduced.
  */
-export function fuzzSettings(suite: string, runs: number): FuzzSettings {
+export function fuzzSettings<Ts = unknown>(suite: string, runs: number): fc.Parameters<Ts> {
   const numRuns = runs * multiplier;
   console.info(`[fuzz] ${suite}: seed ${seed}, ${numRuns} runs (replay with HOLONOMY_FUZZ_SEED=${seed})`);
   return { seed, numRuns, ...(replayPath ? { path: replayPath } : {}) };
