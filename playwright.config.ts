@@ -38,7 +38,8 @@ export default defineConfig({
   },
   projects: [{ name: "chromium", use: { browserName: "chromium" } }],
   webServer: {
-    command: `npx next start -H 127.0.0.1 -p ${port}`,
+    // The app with its queue worker (server simulations and fits run there).
+    command: `bash scripts/start.sh ${port}`,
     url: `http://127.0.0.1:${port}/api/health`,
     reuseExistingServer: false,
     timeout: 120_000,

@@ -484,3 +484,48 @@ export const idempotencyKeys = pgTable(
   (table) => [uniqueIndex("idempotency_keys_user_key_idx").on(table.userId, table.key)],
 );
 export type IdempotencyKey = typeof idempotencyKeys.$inferSelect;
+
+// ---------------------------------------------------------------------------
+// Background jobs (robust slice). Heavy work (server simulations, parameter fits)
+// runs in queue workers (pg-boss, its own `pgboss` schema) rather than in the web
+// process. This table is the job as people see it: who asked, for which
+// derivation, its state, progress and answer; the row's id is the pg-boss job id.
+export const jobKinds = ["simulation", "fit"] as const;
+export type JobKind = (typeof jobKinds)[number];
+export const jobKind = pgEnum("job_kind", jobKinds);
+export const jobStates = ["queued", "running", "completed", "failed", "cancelled"] as const;
+export type JobState = (typeof jobStates)[number];
+export const jobState = pgEnum("job_state", jobStates);
+
+/** A job's refusal or failure, as the API answers errors (code, message, field errors). */
+export interface JobError {
+  code: string;
+  message: string;
+  fieldErrors?: Record<string, string[]>;
+  details?: Record<string, unknown>;
+}
+
+export const jobs = pgTable(
+  "jobs",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    derivationId: uuid("derivation_id")
+      .notNull()
+      .references(() => derivations.id, { onDelete: "cascade" }),
+    kind: jobKind("kind").notNull(),
+    state: jobState("state").notNull().default("queued"),
+    // Fraction done, 0 … 1, written by the worker as the task reports it.
+    progress: doublePrecision("progress").notNull().default(0),
+    // What was asked, with the derivation's content at the time, so the job runs what its author saw.
+    input: jsonb("input").$type<Record<string, unknown>>().notNull(),
+    result: jsonb("result").$type<Record<string, unknown>>(),
+    error: jsonb("error").$type<JobError>(),
+    createdById: uuid("created_by_id").references(() => users.id, { onDelete: "set null" }),
+    startedAt: timestamp("started_at", { withTimezone: true }),
+    finishedAt: timestamp("finished_at", { withTimezone: true }),
+    ...timestamps,
+  },
+  (table) => [index("jobs_derivation_idx").on(table.derivationId, table.createdAt)],
+);
+export type Job = typeof jobs.$inferSelect;
+export type NewJob = typeof jobs.$inferInsert;

@@ -42,7 +42,8 @@ export type ErrorSurface =
   | "review"
   | "notification"
   | "archive"
-  | "origin";
+  | "origin"
+  | "job";
 
 export type ErrorCode = `${ErrorKind}:${ErrorSurface}`;
 

@@ -26,4 +26,5 @@ log "building the app"
 npx next build
 if port_open 3000; then die "port 3000 is already in use; stop the other server first"; fi
 log "serving on http://localhost:3000 — sign in as lead@demo.holonomy.test (password in README)"
-exec npx next start -H 127.0.0.1 -p 3000
+# The app and one queue worker (server simulations and fits).
+exec bash scripts/start.sh 3000

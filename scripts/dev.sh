@@ -7,4 +7,8 @@ bash scripts/db.sh start
 bash scripts/mail.sh start 1025 1080
 bash scripts/s3.sh start 4568 holonomy
 npx tsx scripts/migrate.ts
-exec npx next dev -H 127.0.0.1 -p 3000
+# One queue worker for server simulations and fits, stopped with the dev server.
+node --conditions=react-server --import tsx scripts/worker.ts &
+WORKER=$!
+trap 'kill "$WORKER" 2>/dev/null || true' EXIT
+npx next dev -H 127.0.0.1 -p 3000

@@ -27,6 +27,7 @@ import {
   type SimulationSettingsMessage,
   type WorkerErrorPayload,
 } from "../simulate";
+import type { EngineTaskContext } from "../mechanics/worker";
 
 export type TaskFailure = { ok: false; error: WorkerErrorPayload };
 
@@ -64,11 +65,14 @@ function failure(error: unknown): TaskFailure {
   throw error;
 }
 
-export function simulateTask(payload: unknown): SimulateTaskOutput {
+export function simulateTask(payload: unknown, context?: EngineTaskContext): SimulateTaskOutput {
   const { model, settings, energyDriftThreshold } = payload as SimulateTaskInput;
   const system = systemOf(model);
   try {
-    const result = integrate(system, settings);
+    const result = integrate(system, {
+      ...settings,
+      ...(context ? { onProgress: ({ fraction }) => context.progress(fraction), progressIntervalMs: 250 } : {}),
+    });
     let energyCheck: Omit<EnergyDriftReport, "series"> | null = null;
     if (result.energy && system.energyConserved) {
       const { series: _series, ...report } = energyDrift(result.energy, { threshold: energyDriftThreshold });
@@ -80,7 +84,7 @@ export function simulateTask(payload: unknown): SimulateTaskOutput {
   }
 }
 
-export function fitTask(payload: unknown): FitTaskOutput {
+export function fitTask(payload: unknown, context?: EngineTaskContext): FitTaskOutput {
   const input = payload as FitTaskInput;
   const validated = validateModel(input.model);
   const system = systemFromDerivation(validated, deriveModel(validated));
@@ -94,6 +98,8 @@ export function fitTask(payload: unknown): FitTaskOutput {
       coordinateScales: input.coordinateScales,
       maxIterations: input.maxIterations,
       timeLimitMs: input.timeLimitMs,
+      // A fit's length is not known ahead; its iterations against the limit are the honest measure.
+      onProgress: context ? ({ iteration }) => context.progress(Math.min(0.95, iteration / (input.maxIterations ?? DEFAULT_FIT_ITERATIONS))) : undefined,
     });
     return {
       ok: true,

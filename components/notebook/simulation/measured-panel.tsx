@@ -18,6 +18,7 @@ import type { FitJson } from "@/lib/runs/views";
 import { useUploadLimits } from "../upload-limits";
 import type { MeasuredOverlay } from "./results-view";
 import type { RunRequest } from "./settings";
+import { ServerJobStatus, useServerJob } from "./use-server-job";
 
 interface FitRow {
   chosen: boolean;
@@ -81,6 +82,7 @@ export function MeasuredPanel({ derivationId, document: doc, readOnly, settings,
   const [fit, setFit] = useState<FitJson | null>(null);
   const [fitError, setFitError] = useState<string | null>(null);
   const [applied, setApplied] = useState(false);
+  const fitJob = useServerJob(derivationId);
   const parameters = useMemo(() => {
     const list: { name: string; value: string; cellId: string; rowId: string }[] = [];
     for (const cell of doc.cells)
@@ -126,7 +128,8 @@ export function MeasuredPanel({ derivationId, document: doc, readOnly, settings,
   }
 
   const fitting = useMutation({
-    mutationFn: (body: FitRequestBody) => apiFetch<FitJson>(`/api/derivations/${derivationId}/fit`, { method: "POST", body }),
+    // A queue worker runs the fit; the page follows its progress and may cancel it.
+    mutationFn: async (body: FitRequestBody) => (await fitJob.run(`/api/derivations/${derivationId}/fit`, body)).result as unknown as FitJson,
     onSuccess: (response) => {
       setFit(response);
       onOverlay(response.overlay);
@@ -215,7 +218,11 @@ export function MeasuredPanel({ derivationId, document: doc, readOnly, settings,
           </code>
           ; time strictly increasing.
         </p>
-        {busy && <p role="status">{busy}</p>}
+        {fitJob.job ? (
+          <ServerJobStatus job={fitJob.job} what="Fit" onCancel={() => void fitJob.cancel().catch(() => undefined)} />
+        ) : (
+          busy && <p role="status">{busy}</p>
+        )}
         {uploadError && (
           <p className="rounded border border-danger/60 bg-danger-soft px-3 py-1.5 text-danger" role="alert" data-testid="upload-error">
             {uploadError}

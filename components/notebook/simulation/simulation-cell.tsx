@@ -24,12 +24,14 @@ import type { NotebookResults } from "@/lib/notebook/results";
 import { ExpressionEditor } from "../editor/expression-editor";
 import { MeasuredPanel } from "./measured-panel";
 import type { RunJson } from "@/lib/runs/views";
+import type { JobJson } from "@/lib/jobs/views";
 import { FIXED_ZERO, isLengthUnit, nextPoint, pointSourcesOf } from "./mechanism-points";
 import { displayOfStoredRun, type RunDisplay } from "./run-view";
 import { validateSettings, type RunRequest } from "./settings";
 import { smallOscillationOf } from "./small-oscillation";
 import type { MeasuredOverlay } from "./results-view";
 import { useSimulationWorker } from "./use-simulation-worker";
+import { ServerJobStatus, useServerJob } from "./use-server-job";
 
 const ResultsView = lazy(() => import("./results-view"));
 
@@ -336,6 +338,7 @@ export function SimulationCellView({
   const [problem, setProblem] = useState<string | null>(null);
   const [overlay, setOverlay] = useState<MeasuredOverlay | null>(null);
   const { state, start, cancel } = useSimulationWorker(setRun);
+  const serverJob = useServerJob(derivationId);
 
   const symbols = useMemo(() => (doc ? documentSymbols(doc) : null), [doc]);
   const coordinateUnits = useMemo(() => (doc ? coordinateUnitsOf(doc) : {}), [doc]);
@@ -420,6 +423,7 @@ export function SimulationCellView({
         {derivationId && canStoreRuns && (
           <ServerRunButton
             derivationId={derivationId}
+            runJob={serverJob.run}
             disabled={running}
             prepare={() => prepare()?.request ?? null}
             onStored={(stored) => {
@@ -429,6 +433,7 @@ export function SimulationCellView({
             onFailed={(error) => setProblem(error instanceof AppError ? error.message : "The server run failed.")}
           />
         )}
+        {serverJob.job && <ServerJobStatus job={serverJob.job} what="Run" onCancel={() => void serverJob.cancel().catch(() => undefined)} />}
         {running && (
           <>
             <progress
@@ -514,12 +519,15 @@ function StoredRuns({ derivationId, onOpen }: { derivationId: string; onOpen: (r
 /** Runs the cell's settings on the server, which stores the run for the team. */
 function ServerRunButton({
   derivationId,
+  runJob,
   disabled,
   prepare,
   onStored,
   onFailed,
 }: {
   derivationId: string;
+  /** Queues the run and follows the job until it ends (useServerJob's `run`). */
+  runJob: (path: string, body: unknown) => Promise<JobJson>;
   disabled: boolean;
   /** The request to send, or null when the settings are not valid (the cell says why). */
   prepare: () => RunRequest | null;
@@ -528,7 +536,11 @@ function ServerRunButton({
 }) {
   const queryClient = useQueryClient();
   const serverRun = useMutation({
-    mutationFn: (request: RunRequest) => apiFetch<{ run: RunJson }>(`/api/derivations/${derivationId}/runs`, { method: "POST", body: request }),
+    // A queue worker runs it; the page follows the job's progress and may cancel it.
+    mutationFn: async (request: RunRequest) => {
+      const job = await runJob(`/api/derivations/${derivationId}/runs`, request);
+      return apiFetch<{ run: RunJson }>(`/api/derivations/${derivationId}/runs/${String(job.result?.runId)}`);
+    },
     onSuccess: async ({ run }) => {
       onStored(run);
       await queryClient.invalidateQueries({ queryKey: storedRunsKey(derivationId) });

@@ -32,11 +32,28 @@ const image = {
 
 let stored: ReturnType<typeof measuredFile>[];
 let fitBody: unknown;
+// The fit runs as a queued job: POST answers 202 with the job, GET …/jobs/j1 reports it.
 let refuseUpload = false;
+let jobPolls: { state: string; progress: number }[];
+let cancelled: boolean;
+const job = (state: string, progress: number, result: unknown = null) => ({
+  id: "j1",
+  derivationId: "d1",
+  kind: "fit",
+  state,
+  progress,
+  result,
+  error: state === "cancelled" ? { code: "conflict:job", message: "The job was cancelled." } : null,
+  createdAt: "2041-03-06T10:00:00Z",
+  startedAt: null,
+  finishedAt: null,
+});
 const json = (body: unknown, status = 200) => new Response(JSON.stringify(body), { status, headers: { "content-type": "application/json" } });
 
 beforeEach(() => {
   refuseUpload = false;
+  jobPolls = [{ state: "running", progress: 0.5 }];
+  cancelled = false;
   stored = [measuredFile("old", "release-1.csv", "2041-03-01T10:00:00Z"), measuredFile("new", "release-2.csv", "2041-03-04T10:00:00Z")];
   vi.stubGlobal(
     "fetch",
@@ -49,7 +66,19 @@ beforeEach(() => {
         stored = [uploaded, ...stored];
         return json({ file: uploaded }, 201);
       }
-      if (url.endsWith("/fit")) return json(fitBody);
+      if (url.endsWith("/fit")) {
+        expect(new Headers(init?.headers).get("prefer")).toBe("respond-async");
+        return json({ job: job("queued", 0) }, 202);
+      }
+      if (url.endsWith("/jobs/j1/cancel")) {
+        cancelled = true;
+        return json({ job: job("cancelled", 0.5) });
+      }
+      if (url.endsWith("/jobs/j1")) {
+        if (cancelled) return json({ job: job("cancelled", 0.5) });
+        const next = jobPolls.shift();
+        return json({ job: next ? job(next.state, next.progress) : job("completed", 1, fitBody) });
+      }
       return json({}, 404);
     }),
   );
@@ -115,7 +144,9 @@ describe("measured data panel", () => {
     fireEvent.click(screen.getByLabelText("Fit l"));
     fireEvent.click(screen.getByRole("button", { name: "Fit" }));
 
-    const outcome = await screen.findByTestId("fit-outcome");
+    // The job's progress shows while the worker runs it.
+    await waitFor(() => expect(screen.getByTestId("server-job-status").textContent).toMatch(/Fit (queued|running)/), { timeout: 5000 });
+    const outcome = await screen.findByTestId("fit-outcome", {}, { timeout: 5000 });
     expect(outcome.textContent).toMatch(/^Nothing moved/);
     expect(outcome.textContent).not.toContain("onverged");
     const groups = screen.getByTestId("fit-not-identifiable");
@@ -125,5 +156,19 @@ describe("measured data panel", () => {
     expect(screen.getByTestId("fit-residual").textContent).toContain("x: 0.0021 m RMS");
     // Starting values are not a result: nothing to write back.
     expect(screen.queryByRole("button", { name: /Write fitted values/ })).toBeNull();
+  });
+
+  it("shows a queued fit's progress and cancels it on request", async () => {
+    jobPolls = Array.from({ length: 50 }, () => ({ state: "running", progress: 0.4 }));
+    renderPanel();
+    await waitFor(() => expect(screen.getByTestId<HTMLSelectElement>("measured-file").value).toBe("new"));
+    fireEvent.click(screen.getByLabelText("Fit l"));
+    fireEvent.click(screen.getByRole("button", { name: "Fit" }));
+
+    await waitFor(() => expect(screen.getByTestId("server-job-status").textContent).toContain("Fit running on the server… 40 %"), { timeout: 5000 });
+    fireEvent.click(screen.getByRole("button", { name: "Cancel" }));
+    expect((await screen.findByRole("alert", {}, { timeout: 5000 })).textContent).toContain("The job was cancelled.");
+    expect(cancelled).toBe(true);
+    expect(screen.queryByTestId("fit-outcome")).toBeNull();
   });
 });
