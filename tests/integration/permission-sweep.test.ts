@@ -22,7 +22,7 @@ import { createTeamWithLead, upsertMembership } from "@/db/queries/teams";
 import { createToken } from "@/lib/auth/tokens";
 import type { SessionUser } from "@/lib/auth/session";
 import { blankDocument } from "@/lib/notebook/document";
-import { putObject } from "@/lib/storage";
+import { deleteObject, putObject } from "@/lib/storage";
 import { closeEnginePool } from "@/lib/workers/engine-pool";
 import { signInAs, signOut } from "./support/session";
 import { makeTeam, makeUser, resetDatabase, uniqueEmail } from "./support/fixtures";
@@ -234,6 +234,9 @@ interface World {
 }
 
 const PNG_BYTES = new Uint8Array([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a, 0, 0, 0, 0]);
+// Every object a world stores, removed again after the sweep: the object store is shared and
+// outlives the database reset.
+const storedKeys: string[] = [];
 
 async function buildWorld(): Promise<World> {
   const { team, members } = await makeTeam("Sweep bench");
@@ -262,6 +265,7 @@ async function buildWorld(): Promise<World> {
   const fileId = randomUUID();
   const objectKey = `derivations/${derivation.id}/files/${fileId}`;
   await putObject({ key: objectKey, body: PNG_BYTES, contentType: "image/png" });
+  storedKeys.push(objectKey);
   await createFile({
     teamId: team.id,
     file: {
@@ -349,6 +353,7 @@ beforeAll(async () => {
   routes = await discoverRoutes();
 }, 120_000);
 afterAll(async () => {
+  for (const key of storedKeys) await deleteObject({ key }).catch(() => undefined);
   await closeEnginePool();
   await closeDatabase();
 });
