@@ -8,6 +8,8 @@ import { defineConfig } from "@playwright/test";
 // would copy the app's development defaults (NEXTAUTH_SECRET among them) into the
 // environment of the production server started below.
 const port = Number(process.env.HOLONOMY_TEST_APP_PORT ?? 3100);
+// The collaboration server beside it (server/collab.ts); the app's token route names its address.
+const collabPort = Number(process.env.HOLONOMY_TEST_COLLAB_PORT ?? 3101);
 
 export default defineConfig({
   testDir: "tests/e2e",
@@ -38,9 +40,11 @@ export default defineConfig({
   },
   projects: [{ name: "chromium", use: { browserName: "chromium" } }],
   webServer: {
-    // The app with its queue worker (server simulations and fits run there).
+    // The app with its collaboration server and one queue worker (scripts/start.sh waits for
+    // the collaboration server before it starts the app).
     command: `bash scripts/start.sh ${port}`,
     url: `http://127.0.0.1:${port}/api/health`,
+    env: { COLLAB_PORT: String(collabPort) },
     reuseExistingServer: false,
     timeout: 120_000,
     stdout: "ignore",

@@ -1,5 +1,20 @@
 import { relations } from "drizzle-orm";
-import { bigint, boolean, doublePrecision, index, integer, jsonb, pgEnum, pgTable, text, timestamp, uniqueIndex, uuid } from "drizzle-orm/pg-core";
+import {
+  bigserial,
+  boolean,
+  bigint,
+  customType,
+  doublePrecision,
+  index,
+  integer,
+  jsonb,
+  pgEnum,
+  pgTable,
+  text,
+  timestamp,
+  uniqueIndex,
+  uuid,
+} from "drizzle-orm/pg-core";
 import type { EvaluationResult } from "@/lib/evaluation/evaluate";
 import type { StoredDocument } from "@/lib/notebook/document";
 import type { ViewPreferences } from "@/lib/notebook/view-preferences";
@@ -529,3 +544,33 @@ export const jobs = pgTable(
 );
 export type Job = typeof jobs.$inferSelect;
 export type NewJob = typeof jobs.$inferInsert;
+// Shared documents (live co-editing)
+//
+// A derivation's shared document is the Yjs updates in `derivation_updates`,
+// appended one row per stored update and read back in id order. Rows are never
+// changed; compaction folds a derivation's rows into one new row and deletes
+// exactly the rows it read, in one transaction under the derivation's advisory
+// lock (db/queries/collab.ts). `derivations.content` stays as the JSON copy the
+// collaboration server keeps current for search, evaluation and export.
+
+/** Raw bytes: Uint8Array in code, bytea in PostgreSQL (node-postgres reads it as a Buffer). */
+export const bytea = customType<{ data: Uint8Array; driverData: Buffer }>({
+  dataType: () => "bytea",
+  toDriver: (value) => Buffer.from(value.buffer, value.byteOffset, value.byteLength),
+  fromDriver: (value) => new Uint8Array(value.buffer, value.byteOffset, value.byteLength),
+});
+
+export const derivationUpdates = pgTable(
+  "derivation_updates",
+  {
+    id: bigserial("id", { mode: "number" }).primaryKey(),
+    derivationId: uuid("derivation_id")
+      .notNull()
+      .references(() => derivations.id, { onDelete: "cascade" }),
+    /** One Yjs update (encodeStateAsUpdate format, or a folded state after compaction). */
+    update: bytea("update").notNull(),
+    createdAt: timestamp("created_at", { withTimezone: true }).notNull().defaultNow(),
+  },
+  (table) => [index("derivation_updates_derivation_id_idx").on(table.derivationId, table.id)],
+);
+export type DerivationUpdate = typeof derivationUpdates.$inferSelect;

@@ -1,0 +1,27 @@
+/**
+ * The collaboration server's entry: the shared-document websocket server on
+ * 127.0.0.1:COLLAB_PORT under /collab, wired to PostgreSQL. Run it with
+ * `npm run collab` (node --conditions=react-server --import tsx server/collab.ts);
+ * the start, dev, demo and browser-test commands do. SIGTERM or SIGINT closes
+ * connections, writes and compacts every loaded document, then exits.
+ */
+import { closeDatabase } from "@/db/client";
+import { env } from "@/lib/env";
+import { createPostgresCollabServer } from "./collab/postgres";
+import { collabLimitsFromEnv, consoleLogger } from "./collab/setup";
+
+const server = createPostgresCollabServer({ limits: collabLimitsFromEnv(env), logger: consoleLogger });
+const port = await server.listen(env.COLLAB_PORT, "127.0.0.1");
+consoleLogger.info(`listening on ws://127.0.0.1:${port}/collab (pid ${process.pid})`);
+
+let stopping = false;
+async function stop(signal: string): Promise<void> {
+  if (stopping) return;
+  stopping = true;
+  consoleLogger.info(`${signal}: writing documents and stopping`);
+  await server.close();
+  await closeDatabase();
+  process.exit(0);
+}
+process.on("SIGTERM", () => void stop("SIGTERM"));
+process.on("SIGINT", () => void stop("SIGINT"));
