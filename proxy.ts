@@ -8,12 +8,15 @@ import { contentSecurityPolicy, createNonce, securityHeaders } from "@/lib/secur
 // API answers get a policy that allows nothing, since they are never pages.
 // The requested path goes to server components too, so a sign-in redirect can
 // bring the reader back to the page they asked for.
+// The browser opens its co-editing websocket to the collaboration server's public address.
+const collabOrigin = new URL(env.COLLAB_PUBLIC_URL).origin;
+
 export function proxy(request: NextRequest) {
   const isApi = request.nextUrl.pathname.startsWith("/api/");
   const nonce = createNonce();
   const policy = isApi
     ? "default-src 'none'; frame-ancestors 'none'"
-    : contentSecurityPolicy({ nonce, development: env.NODE_ENV === "development", appUrl: env.NEXTAUTH_URL, connectSources: env.CSP_CONNECT_SRC });
+    : contentSecurityPolicy({ nonce, development: env.NODE_ENV === "development", appUrl: env.NEXTAUTH_URL, connectSources: [...env.CSP_CONNECT_SRC, collabOrigin] });
 
   const requestHeaders = new Headers(request.headers);
   requestHeaders.set("x-holonomy-path", `${request.nextUrl.pathname}${request.nextUrl.search}`);
