@@ -48,6 +48,11 @@ export function documentFromContent(content: unknown, title: string): Derivation
 }
 
 /** A ModelError as the JSON body the editors underline from (field, column, length, code). */
+/** The document a request works on: the one it posted (the page's current content), else the stored one. */
+export function documentForRequest(posted: unknown, derivation: { content: unknown; title: string }): DerivationDocument {
+  return posted !== undefined ? validDocumentOrThrow(posted) : documentFromContent(derivation.content, derivation.title);
+}
+
 export function modelErrorToAppError(error: ModelError): AppError {
   return new AppError("unprocessable:model", error.toLine(), {
     fieldErrors: { [error.field]: [error.message] },

@@ -2,8 +2,8 @@ import { derivationRoute } from "@/lib/api/resource-route";
 import { evaluateDocumentCached } from "@/lib/evaluation/service";
 import { readOptionalJson } from "@/lib/api/optional-json";
 import { parseOrThrow } from "@/lib/validation/parse";
-import { documentForRequest } from "../content/schema";
 import { evaluateSchema } from "./schema";
+import { documentForRequest } from "@/lib/evaluation/document-content";
 
 type Params = { id: string };
 
