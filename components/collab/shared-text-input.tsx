@@ -31,6 +31,8 @@ interface Binding {
   transformInsert?: (inserted: string) => string;
   /** Runs inside the edit's transaction with the text before and after (e.g. carry a renamed coordinate's force). */
   onEdit?: (before: string, after: string) => void;
+  /** Read-only fields never write (whatever event reaches them). */
+  readOnly?: boolean;
 }
 
 /** The one change that turns `before` into `after`: a common prefix and suffix kept, the middle replaced. */
@@ -92,6 +94,7 @@ function useSharedValue(binding: Binding, ref: RefObject<FieldElement | null>) {
 
   const onChange = useCallback(
     (event: ChangeEvent<FieldElement>) => {
+      if (binding.readOnly) return;
       const before = text.toString();
       const typed = event.target.value;
       const change = textChange(before, typed);
@@ -121,7 +124,7 @@ export type SharedInputProps = Binding & Omit<InputHTMLAttributes<HTMLInputEleme
 export const SharedInput = forwardRef<HTMLInputElement, SharedInputProps>(function SharedInput({ text, origin, transformInsert, onEdit, ...rest }, outer) {
   const ref = useRef<HTMLInputElement>(null);
   useImperativeHandle(outer, () => ref.current!, []);
-  const { value, onChange } = useSharedValue({ text, origin, transformInsert, onEdit }, ref);
+  const { value, onChange } = useSharedValue({ text, origin, transformInsert, onEdit, readOnly: rest.readOnly }, ref);
   return <input {...rest} ref={ref} value={value} onChange={onChange} data-shared-field="" />;
 });
 
@@ -130,6 +133,6 @@ export type SharedTextareaProps = Binding & Omit<TextareaHTMLAttributes<HTMLText
 export const SharedTextarea = forwardRef<HTMLTextAreaElement, SharedTextareaProps>(function SharedTextarea({ text, origin, transformInsert, onEdit, ...rest }, outer) {
   const ref = useRef<HTMLTextAreaElement>(null);
   useImperativeHandle(outer, () => ref.current!, []);
-  const { value, onChange } = useSharedValue({ text, origin, transformInsert, onEdit }, ref);
+  const { value, onChange } = useSharedValue({ text, origin, transformInsert, onEdit, readOnly: rest.readOnly }, ref);
   return <textarea {...rest} ref={ref} value={value} onChange={onChange} data-shared-field="" />;
 });
