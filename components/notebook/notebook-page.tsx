@@ -158,23 +158,6 @@ export function NotebookPage(props: NotebookPageProps) {
     return () => window.removeEventListener("keydown", onKeyDown);
   }, [session, writable]);
 
-  // The dashboard lists the row's title: keep it in step with the document's when this person renamed it.
-  const rowTitle = useRef(props.rowTitle);
-  const titleEdited = useRef(false);
-  useEffect(() => {
-    const title = doc.title.trim();
-    if (!titleEdited.current || !props.canRename || !writable || !title || title === rowTitle.current) return;
-    const timer = setTimeout(() => {
-      titleEdited.current = false;
-      apiFetch<{ derivation: DerivationJson }>(`/api/derivations/${derivationId}`, { method: "PATCH", body: { title } })
-        .then(({ derivation }) => {
-          rowTitle.current = derivation.title;
-        })
-        .catch((error: unknown) => setProblem(`The new title is in the document but not in the team's list: ${error instanceof Error ? error.message : "the rename failed"}.`));
-    }, 1_500);
-    return () => clearTimeout(timer);
-  }, [doc.title, derivationId, props.canRename, writable]);
-
   /**
    * Resolves true once the server holds this page's document: every edit stored, and the JSON copy
    * (which exports and review steps read) written. Gives up after a few seconds.
@@ -276,12 +259,10 @@ export function NotebookPage(props: NotebookPageProps) {
           {canEdit && props.canRename && writable && title && fields ? (
             // The page's one heading holds the editable title, so the notebook still has an h1.
             <h1 className="min-w-0 flex-1">
+              {/* The collaboration server's JSON copy carries the title to the dashboard's list. */}
               <SharedInput
                 text={title}
                 origin={fields.origin}
-                onEdit={() => {
-                  titleEdited.current = true;
-                }}
                 aria-label="Derivation title"
                 data-testid="derivation-title"
                 className="w-full rounded border border-transparent bg-transparent px-1 text-2xl font-semibold hover:border-line focus:border-action focus:outline-none"
