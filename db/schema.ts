@@ -1,5 +1,19 @@
 import { relations } from "drizzle-orm";
-import { boolean, doublePrecision, index, integer, jsonb, pgEnum, pgTable, text, timestamp, uniqueIndex, uuid } from "drizzle-orm/pg-core";
+import {
+  bigserial,
+  boolean,
+  customType,
+  doublePrecision,
+  index,
+  integer,
+  jsonb,
+  pgEnum,
+  pgTable,
+  text,
+  timestamp,
+  uniqueIndex,
+  uuid,
+} from "drizzle-orm/pg-core";
 import type { StoredDocument } from "@/lib/notebook/document";
 import { derivationStatuses, memberRoles, type DerivationStatus, type MemberRole } from "@/lib/domain";
 
@@ -491,3 +505,35 @@ export const idempotencyKeys = pgTable(
   (table) => [uniqueIndex("idempotency_keys_user_key_idx").on(table.userId, table.key)],
 );
 export type IdempotencyKey = typeof idempotencyKeys.$inferSelect;
+
+// ---------------------------------------------------------------------------
+// Shared documents (live co-editing)
+//
+// A derivation's shared document is the Yjs updates in `derivation_updates`,
+// appended one row per stored update and read back in id order. Rows are never
+// changed; compaction folds a derivation's rows into one new row and deletes
+// exactly the rows it read, in one transaction under the derivation's advisory
+// lock (db/queries/collab.ts). `derivations.content` stays as the JSON copy the
+// collaboration server keeps current for search, evaluation and export.
+
+/** Raw bytes: Uint8Array in code, bytea in PostgreSQL (node-postgres reads it as a Buffer). */
+export const bytea = customType<{ data: Uint8Array; driverData: Buffer }>({
+  dataType: () => "bytea",
+  toDriver: (value) => Buffer.from(value.buffer, value.byteOffset, value.byteLength),
+  fromDriver: (value) => new Uint8Array(value.buffer, value.byteOffset, value.byteLength),
+});
+
+export const derivationUpdates = pgTable(
+  "derivation_updates",
+  {
+    id: bigserial("id", { mode: "number" }).primaryKey(),
+    derivationId: uuid("derivation_id")
+      .notNull()
+      .references(() => derivations.id, { onDelete: "cascade" }),
+    /** One Yjs update (encodeStateAsUpdate format, or a folded state after compaction). */
+    update: bytea("update").notNull(),
+    createdAt: timestamp("created_at", { withTimezone: true }).notNull().defaultNow(),
+  },
+  (table) => [index("derivation_updates_derivation_id_idx").on(table.derivationId, table.id)],
+);
+export type DerivationUpdate = typeof derivationUpdates.$inferSelect;

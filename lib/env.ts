@@ -59,12 +59,31 @@ const envSchema = z.object({
   // Wall-clock ceilings for server-side simulations and fits (a request may ask for less).
   SIMULATION_TIME_LIMIT_MS: z.coerce.number().int().positive().default(20_000),
   FIT_TIME_LIMIT_MS: z.coerce.number().int().positive().default(60_000),
+  // The collaboration server (server/collab.ts): its own process on loopback beside Next.js.
+  COLLAB_PORT: z.coerce.number().int().min(1).max(65535).default(3001),
+  // The address browsers connect to; ws://127.0.0.1:COLLAB_PORT/collab when unset. Behind a
+  // proxy that terminates TLS, e.g. wss://holonomy.example.com/collab.
+  COLLAB_PUBLIC_URL: z.url({ protocol: /^wss?$/ }).optional(),
+  // How long a connection token stays valid; a browser fetches a new one for every (re)connect.
+  COLLAB_TOKEN_TTL_SECONDS: z.coerce.number().int().positive().default(120),
+  // Largest accepted websocket message, and messages per second a connection may send
+  // (bursts up to three seconds' worth).
+  COLLAB_MAX_MESSAGE_BYTES: z.coerce
+    .number()
+    .int()
+    .positive()
+    .default(1024 * 1024),
+  COLLAB_MAX_MESSAGES_PER_SECOND: z.coerce.number().int().positive().default(100),
+  // A document with no connections is written and unloaded after this pause.
+  COLLAB_UNLOAD_DELAY_MS: z.coerce.number().int().nonnegative().default(30_000),
+  // The JSON copy (derivations.content) is written this long after the latest update.
+  COLLAB_JSON_COPY_DELAY_MS: z.coerce.number().int().nonnegative().default(1000),
 });
 
 /** Signs sessions on developer machines and in unit/integration tests; refused in production. */
 export const DEVELOPMENT_NEXTAUTH_SECRET = "holonomy-local-development-secret-not-for-production";
 
-export type Env = Omit<z.infer<typeof envSchema>, "NEXTAUTH_SECRET"> & { NEXTAUTH_SECRET: string };
+export type Env = Omit<z.infer<typeof envSchema>, "NEXTAUTH_SECRET" | "COLLAB_PUBLIC_URL"> & { NEXTAUTH_SECRET: string; COLLAB_PUBLIC_URL: string };
 
 /**
  * Validates a set of environment variables. A production server refuses to start
@@ -89,7 +108,8 @@ export function parseEnv(source: Record<string, string | undefined>): Env {
     if (secret === DEVELOPMENT_NEXTAUTH_SECRET) throw refuse("the committed development secret must not be used in production");
     if (secret.length < 32) throw refuse("too short for production");
   }
-  return { ...rest, NEXTAUTH_SECRET: secret ?? DEVELOPMENT_NEXTAUTH_SECRET };
+  const collabUrl = (rest.COLLAB_PUBLIC_URL ?? `ws://127.0.0.1:${rest.COLLAB_PORT}/collab`).replace(/\/+$/, "");
+  return { ...rest, COLLAB_PUBLIC_URL: collabUrl, NEXTAUTH_SECRET: secret ?? DEVELOPMENT_NEXTAUTH_SECRET };
 }
 
 export const env = parseEnv(process.env);

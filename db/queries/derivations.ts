@@ -2,9 +2,10 @@ import "server-only";
 import { returnedRow } from "./returned-row";
 import { and, asc, count, desc, eq, gt, ilike, inArray, isNotNull, isNull, lte, sql, type SQL } from "drizzle-orm";
 import { alias } from "drizzle-orm/pg-core";
-import type { DerivationDocument } from "@/lib/notebook/document";
+import { parseStoredDocument, type DerivationDocument } from "@/lib/notebook/document";
 import { db, type Executor } from "../client";
 import { derivations, files, simulationRuns, users, type Derivation, type DerivationStatus, type NewSimulationRun, type NewStoredFile } from "../schema";
+import { writeSharedDocInTransaction } from "./collab";
 import { currentRevision, getLatestRevisionByDerivationId, lockDerivationRow } from "./revisions";
 
 /** A pause in editing this long ends a stretch of work: the state it left becomes an automatic revision. */
@@ -200,12 +201,21 @@ export async function updateDerivationById({
   return db.transaction(async (tx) => {
     const current = await lockDerivationRow(tx, id);
     if (!current || current.lockedAt) return null;
+    // A rename renames the document too, so the notebook's title follows the dashboard's.
+    let content = changes.content;
+    if (changes.title !== undefined) {
+      const base = content ?? parseStoredDocument(current.content, { title: current.title });
+      if ("schemaVersion" in base) content = { ...base, title: changes.title.trim() };
+      else if (base.ok) content = { ...base.document, title: changes.title.trim() };
+    }
+    // Editors connected to the shared document receive the change.
+    if (content !== undefined) await writeSharedDocInTransaction(tx, { derivationId: id, document: content });
     const derivation = returnedRow(
       await tx
         .update(derivations)
         .set({
           ...(changes.title !== undefined ? { title: changes.title.trim() } : {}),
-          ...(changes.content !== undefined ? { content: changes.content } : {}),
+          ...(content !== undefined ? { content } : {}),
           pendingAuthorIds: [...new Set([...current.pendingAuthorIds, actorId])],
           updatedById: actorId,
           updatedAt: new Date(),
@@ -370,11 +380,21 @@ export async function updateDerivationContentById({
   actorId,
   content,
   baseUpdatedAt,
+  coAuthorIds = [],
+  fromSharedDocument = false,
 }: {
   id: string;
   actorId: string;
   content: DerivationDocument;
   baseUpdatedAt?: Date;
+  /** Others who changed the content along with `actorId` (they become the next revision's authors too). */
+  coAuthorIds?: string[];
+  /**
+   * Set by the collaboration server when it writes the JSON copy of the shared
+   * document: the row's title follows the document's, and the shared state is
+   * left alone. Any other write also becomes an update of the shared state.
+   */
+  fromSharedDocument?: boolean;
 }): Promise<SaveContentResult> {
   return db.transaction(async (tx) => {
     // The row lock orders this save against an approval of the same derivation.
@@ -389,9 +409,15 @@ export async function updateDerivationContentById({
     if (now.getTime() - current.updatedAt.getTime() >= AUTO_REVISION_PAUSE_MS && current.pendingAuthorIds.length > 0) {
       await currentRevision(tx, { derivation: current, kind: "auto", createdById: null });
     }
-    const pendingAuthorIds = [...new Set([...(await pendingAuthorsOf(tx, id)), actorId])];
+    const pendingAuthorIds = [...new Set([...(await pendingAuthorsOf(tx, id)), ...coAuthorIds, actorId])];
+    if (!fromSharedDocument) await writeSharedDocInTransaction(tx, { derivationId: id, document: content });
+    const title = content.title.trim();
     const saved = returnedRow(
-      await tx.update(derivations).set({ content, updatedById: actorId, updatedAt: now, pendingAuthorIds }).where(eq(derivations.id, id)).returning(),
+      await tx
+        .update(derivations)
+        .set({ content, updatedById: actorId, updatedAt: now, pendingAuthorIds, ...(fromSharedDocument && title !== "" ? { title } : {}) })
+        .where(eq(derivations.id, id))
+        .returning(),
       "derivation",
     );
     // During long stretches of activity, at most every few minutes.

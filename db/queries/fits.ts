@@ -4,6 +4,7 @@ import { db } from "../client";
 import type { DerivationDocument } from "@/lib/notebook/document";
 import { derivations, type Derivation } from "../schema";
 import { recordAuditEvent } from "./audit";
+import { writeSharedDocInTransaction } from "./collab";
 
 /**
  * Writes fitted parameter values into a derivation's document and records who
@@ -36,6 +37,8 @@ export async function applyFittedParametersByDerivationId({
       .where(and(...conditions))
       .returning();
     if (!derivation) return null;
+    // Editors connected to the shared document receive the fitted values.
+    await writeSharedDocInTransaction(tx, { derivationId: id, document: content });
     await recordAuditEvent({ teamId, actorId, action: "derivation.fit_apply", targetType: "derivation", targetId: id, details: { values, fileId } }, tx);
     return derivation;
   });

@@ -4,6 +4,7 @@ import { contentHash } from "@/lib/history/content-hash";
 import { db, type Executor } from "../client";
 import { derivations, revisions, users, type Derivation, type Revision, type RevisionKind } from "../schema";
 import { recordAuditEvent } from "./audit";
+import { writeStoredContentToSharedDoc } from "./collab";
 import { returnedRow } from "./returned-row";
 
 /** A revision without its content and results, as the history list shows it. */
@@ -196,6 +197,8 @@ export async function restoreRevision({
     const source = await getRevisionByDerivationIdAndId({ derivationId, id: revisionId }, tx);
     if (!source) return { ok: false, reason: "no_revision" } as const;
     await currentRevision(tx, { derivation, kind: "auto", createdById: null });
+    // Editors connected to the shared document receive the restored content.
+    await writeStoredContentToSharedDoc(tx, { derivationId, content: source.content, title: source.title });
     const now = new Date();
     const restored = returnedRow(
       await tx

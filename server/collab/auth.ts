@@ -1,0 +1,49 @@
+import "server-only";
+/**
+ * Connection tokens checked against the database: the token must be valid and
+ * name this room's derivation; then the user's membership in the derivation's
+ * team is read again and judged by the permission module, so a role changed or
+ * removed since the token was issued counts.
+ */
+import { getDerivationById } from "@/db/queries/derivations";
+import { getMembershipByTeamIdAndUserId } from "@/db/queries/teams";
+import { getUserById } from "@/db/queries/users";
+import { can } from "@/lib/auth/permissions";
+import { CollabTokenError, verifyCollabToken } from "@/lib/collab/token";
+import { CloseCode, RefusedConnection, type Authenticator, type ConnectionGrant } from "./types";
+
+// (lib/auth/access.ts has the same pattern, but imports Next.js page helpers this process does without.)
+const uuidPattern = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
+
+export function createTokenAuthenticator({ secret }: { secret: string }): Authenticator {
+  return {
+    async authenticate(token: string | null, room: string): Promise<ConnectionGrant> {
+      if (!token) throw new RefusedConnection(CloseCode.badToken, "No connection token.");
+      let claims;
+      try {
+        claims = await verifyCollabToken(token, { secret });
+      } catch (error) {
+        if (error instanceof CollabTokenError) {
+          throw new RefusedConnection(
+            CloseCode.badToken,
+            error.reason === "expired" ? "The connection token has expired." : "The connection token is not valid.",
+          );
+        }
+        throw error;
+      }
+      if (claims.derivationId !== room) throw new RefusedConnection(CloseCode.badToken, "The connection token is for another derivation.");
+      if (!uuidPattern.test(room)) throw new RefusedConnection(CloseCode.noDerivation, "No such derivation.");
+      const derivation = await getDerivationById({ id: room });
+      if (!derivation) throw new RefusedConnection(CloseCode.noDerivation, "No such derivation.");
+      const [user, membership] = await Promise.all([
+        getUserById({ id: claims.userId }),
+        getMembershipByTeamIdAndUserId({ teamId: derivation.teamId, userId: claims.userId }),
+      ]);
+      const resource = { status: derivation.status, locked: derivation.lockedAt !== null, isOwner: derivation.ownerId === claims.userId };
+      if (!user || !membership || !can(membership.role, "derivation:read", resource)) {
+        throw new RefusedConnection(CloseCode.noAccess, "You do not have access to this derivation.");
+      }
+      return { userId: user.id, derivationId: derivation.id, readOnly: !can(membership.role, "derivation:edit", resource) };
+    },
+  };
+}

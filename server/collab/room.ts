@@ -1,0 +1,393 @@
+/**
+ * One loaded shared document and its connections.
+ *
+ * The structure follows the utilities of `@y/websocket-server` (MIT; its README
+ * invites forking them): a Y.Doc with an Awareness, a set of connections, and
+ * relaying of document and awareness updates. What differs: an update is stored
+ * before it is applied or relayed and then acknowledged to its sender
+ * (MESSAGE_STORED); read-only connections have their updates dropped; loading,
+ * the JSON copy and unloading go through injected modules; each document has
+ * its own timers (no module-wide debouncer).
+ */
+import * as awarenessProtocol from "y-protocols/awareness";
+import * as Y from "yjs";
+import { parseStoredDocument, type DerivationDocument } from "@/lib/notebook/document";
+import { SharedDocumentError, replaceSharedDocument, yDocToDocument } from "@/lib/notebook/document/shared-doc";
+import { awarenessMessage, storedMessage, syncStep1Message, syncStep2Message, updateMessage, type IncomingMessage } from "./protocol";
+import { CloseCode, type CollabLimits, type CollabPersistence, type ConnectionGrant, type JsonCopyWriter, type Logger } from "./types";
+
+/** What a room needs of a connection. */
+export interface RoomConnection {
+  readonly grant: ConnectionGrant;
+  send(data: Uint8Array): void;
+  close(code: number, reason: string): void;
+}
+
+interface ConnectionState {
+  /** Awareness client ids this connection set. */
+  awarenessIds: Set<number>;
+  /** Updates received and not yet stored. */
+  pending: Uint8Array[];
+  /** The loop storing `pending`, while it runs. */
+  storing: Promise<void> | null;
+}
+
+/** Origins of changes that do not come from a connection. */
+const LOAD = "load";
+const NOTIFIED = "notified";
+const LOCK = "lock";
+
+function isEmptyUpdate(update: Uint8Array): boolean {
+  return update.length === 2 && update[0] === 0 && update[1] === 0;
+}
+
+export interface RoomDependencies {
+  persistence: CollabPersistence;
+  jsonCopy: JsonCopyWriter;
+  limits: CollabLimits;
+  logger: Logger;
+  /** Called once the room has unloaded (the server forgets it). */
+  onUnloaded: (room: Room) => void;
+}
+
+export class Room {
+  readonly doc = new Y.Doc({ gc: true });
+  readonly awareness = new awarenessProtocol.Awareness(this.doc);
+  readonly connections = new Map<RoomConnection, ConnectionState>();
+  /** Approved and locked: every connection is read-only. */
+  locked = false;
+  private loaded = false;
+  private resyncAfterLoad = false;
+  private unloadTimer: ReturnType<typeof setTimeout> | null = null;
+  private unloading: Promise<void> | null = null;
+  private jsonTimer: ReturnType<typeof setTimeout> | null = null;
+  private jsonDirtySince: number | null = null;
+  private jsonWriting: Promise<void> | null = null;
+  private lastJson: string | null = null;
+  private readonly authors = new Set<string>();
+  private appendsSinceCompaction = 0;
+  private compacting: Promise<void> | null = null;
+  /** Storing loops still running, also of connections that closed meanwhile. */
+  private readonly storing = new Set<Promise<void>>();
+  /** Updates stored and applied since the room loaded (statistics and tests). */
+  storedCount = 0;
+
+  constructor(
+    readonly derivationId: string,
+    private readonly deps: RoomDependencies,
+  ) {
+    this.awareness.setLocalState(null);
+    this.doc.on("update", (update: Uint8Array, origin: unknown) => {
+      if (origin === LOAD) return;
+      const message = updateMessage(update);
+      for (const connection of this.connections.keys()) if (connection !== origin) connection.send(message);
+      this.scheduleJsonCopy();
+    });
+    this.awareness.on("update", ({ added, updated, removed }: { added: number[]; updated: number[]; removed: number[] }, origin: unknown) => {
+      const changed = [...added, ...updated, ...removed];
+      const state = this.connections.get(origin as RoomConnection);
+      if (state) {
+        for (const id of [...added, ...updated]) state.awarenessIds.add(id);
+        for (const id of removed) state.awarenessIds.delete(id);
+      }
+      // Everyone, the sender included: a provider that hears nothing for 30 s reconnects.
+      const message = awarenessMessage(this.awareness, changed);
+      for (const connection of this.connections.keys()) connection.send(message);
+    });
+  }
+
+  /**
+   * Loads the stored updates (seeding them from the JSON content the first
+   * time). A locked derivation's shared state is brought to the approved
+   * content. Throws a `RefusedConnection`-like result through `loadError`.
+   */
+  async load(): Promise<{ ok: true } | { ok: false; code: number; reason: string }> {
+    const result = await this.deps.persistence.load(this.derivationId);
+    if (result.status === "missing") return { ok: false, code: CloseCode.noDerivation, reason: "No such derivation." };
+    if (result.status === "unreadable") {
+      return { ok: false, code: CloseCode.unreadable, reason: "The stored document does not read; restore a revision from its history." };
+    }
+    for (const { update } of result.updates) Y.applyUpdate(this.doc, update, LOAD);
+    this.lastJson = this.currentJson();
+    const state = await this.deps.persistence.state(this.derivationId);
+    if (!state) return { ok: false, code: CloseCode.noDerivation, reason: "No such derivation." };
+    if (state.locked) await this.becomeLocked(state.content, state.title);
+    this.loaded = true;
+    if (this.resyncAfterLoad) await this.resync();
+    return { ok: true };
+  }
+
+  get isLoaded(): boolean {
+    return this.loaded;
+  }
+
+  get isUnloading(): boolean {
+    return this.unloading !== null;
+  }
+
+  private isReadOnly(connection: RoomConnection): boolean {
+    return connection.grant.readOnly || this.locked;
+  }
+
+  /** Adds a verified connection: sends sync step 1 and the current presence. */
+  addConnection(connection: RoomConnection): void {
+    if (this.unloadTimer) clearTimeout(this.unloadTimer);
+    this.unloadTimer = null;
+    this.connections.set(connection, { awarenessIds: new Set(), pending: [], storing: null });
+    connection.send(syncStep1Message(this.doc));
+    const states = Array.from(this.awareness.getStates().keys());
+    if (states.length > 0) connection.send(awarenessMessage(this.awareness, states));
+  }
+
+  removeConnection(connection: RoomConnection): void {
+    const state = this.connections.get(connection);
+    if (!state) return;
+    this.connections.delete(connection);
+    awarenessProtocol.removeAwarenessStates(this.awareness, Array.from(state.awarenessIds), null);
+    if (this.connections.size === 0 && !this.unloading) {
+      this.unloadTimer = setTimeout(() => void this.unload(), this.deps.limits.unloadDelayMs);
+    }
+  }
+
+  /** Handles one read message of a connection in this room. */
+  handle(connection: RoomConnection, message: IncomingMessage): void {
+    const state = this.connections.get(connection);
+    if (!state) return;
+    switch (message.type) {
+      case "sync-step-1":
+        connection.send(syncStep2Message(this.doc, message.stateVector));
+        return;
+      case "update":
+        // Read-only: never applied, stored or relayed.
+        if (this.isReadOnly(connection)) return;
+        if (isEmptyUpdate(message.update)) {
+          connection.send(storedMessage(this.doc));
+          return;
+        }
+        state.pending.push(message.update);
+        if (!state.storing) {
+          const storing = this.store(connection, state);
+          state.storing = storing;
+          this.storing.add(storing);
+          void storing.finally(() => this.storing.delete(storing));
+        }
+        return;
+      case "awareness":
+        awarenessProtocol.applyAwarenessUpdate(this.awareness, message.update, connection);
+        return;
+      case "query-awareness":
+        connection.send(awarenessMessage(this.awareness, Array.from(this.awareness.getStates().keys())));
+        return;
+      case "auth":
+        return;
+    }
+  }
+
+  /**
+   * Stores a connection's pending updates in order (several that arrived
+   * meanwhile as one merged row), applies each stored batch, which relays it,
+   * and acknowledges it to the sender. A storage failure closes the connection
+   * with 1011: the provider reconnects and sends again what was not stored.
+   */
+  private async store(connection: RoomConnection, state: ConnectionState): Promise<void> {
+    try {
+      while (state.pending.length > 0 && !this.locked) {
+        const batch = state.pending.splice(0, state.pending.length);
+        const update = batch.length === 1 ? batch[0]! : Y.mergeUpdates(batch);
+        let result;
+        try {
+          result = await this.deps.persistence.append(this.derivationId, update);
+        } catch (error) {
+          this.deps.logger.error(`storing an update of ${this.derivationId} failed`, error);
+          state.pending.length = 0;
+          connection.close(CloseCode.serverError, "The update could not be stored; reconnecting.");
+          return;
+        }
+        if (result.status === "refused") {
+          state.pending.length = 0;
+          await this.onAppendRefused();
+          return;
+        }
+        Y.applyUpdate(this.doc, update, connection);
+        this.storedCount += batch.length;
+        this.authors.delete(connection.grant.userId);
+        this.authors.add(connection.grant.userId);
+        connection.send(storedMessage(this.doc));
+        this.appendsSinceCompaction += 1;
+        if (this.appendsSinceCompaction >= this.deps.limits.compactEvery) void this.compact();
+      }
+    } finally {
+      state.storing = null;
+    }
+  }
+
+  /** An append was refused: the derivation was locked, or is gone. */
+  private async onAppendRefused(): Promise<void> {
+    const state = await this.deps.persistence.state(this.derivationId).catch(() => null);
+    if (!state) {
+      for (const connection of this.connections.keys()) connection.close(CloseCode.noDerivation, "This derivation was deleted.");
+      return;
+    }
+    if (state.locked) await this.becomeLocked(state.content, state.title);
+  }
+
+  /**
+   * The derivation is approved and locked: the shared state becomes the
+   * approved content (an edit stored in the moment before the lock is undone
+   * for everyone) and connections that could edit are closed with 4403, so
+   * their pages reload read-only.
+   */
+  private async becomeLocked(content: unknown, title: string): Promise<void> {
+    if (this.locked) return;
+    this.locked = true;
+    const approved = parseStoredDocument(content, { title });
+    if (approved.ok && this.currentJson() !== JSON.stringify(approved.document)) {
+      const copy = new Y.Doc();
+      Y.applyUpdate(copy, Y.encodeStateAsUpdate(this.doc));
+      const before = Y.encodeStateVector(copy);
+      replaceSharedDocument(copy, approved.document, LOCK);
+      const update = Y.encodeStateAsUpdate(copy, before);
+      copy.destroy();
+      const stored = await this.deps.persistence.append(this.derivationId, update, { evenIfLocked: true });
+      if (stored.status === "stored") Y.applyUpdate(this.doc, update, LOCK);
+    }
+    this.lastJson = this.currentJson();
+    for (const connection of this.connections.keys()) {
+      if (!connection.grant.readOnly) connection.close(CloseCode.noAccess, "This derivation was approved and locked; reload to read it.");
+    }
+  }
+
+  /** A server-side write was announced: apply that stored update (or everything, if it was folded meanwhile). */
+  async applyNotified(rowId: number): Promise<void> {
+    if (!this.loaded) {
+      this.resyncAfterLoad = true;
+      return;
+    }
+    const row = await this.deps.persistence.update(this.derivationId, rowId);
+    if (row) Y.applyUpdate(this.doc, row.update, NOTIFIED);
+    else await this.resync();
+  }
+
+  /** Applies every stored update (after notifications may have been missed); applying one twice changes nothing. */
+  async resync(): Promise<void> {
+    if (!this.loaded) {
+      this.resyncAfterLoad = true;
+      return;
+    }
+    const rows = await this.deps.persistence.updates(this.derivationId);
+    Y.transact(
+      this.doc,
+      () => {
+        for (const { update } of rows) Y.applyUpdate(this.doc, update, NOTIFIED);
+      },
+      NOTIFIED,
+    );
+  }
+
+  // -------------------------------------------------------------------------
+  // The JSON copy
+
+  private currentDocument(): DerivationDocument | null {
+    try {
+      return yDocToDocument(this.doc);
+    } catch (error) {
+      if (error instanceof SharedDocumentError) return null;
+      throw error;
+    }
+  }
+
+  private currentJson(): string | null {
+    const document = this.currentDocument();
+    return document ? JSON.stringify(document) : null;
+  }
+
+  private scheduleJsonCopy(): void {
+    const now = Date.now();
+    this.jsonDirtySince ??= now;
+    if (this.jsonTimer) clearTimeout(this.jsonTimer);
+    const wait = Math.max(0, Math.min(this.deps.limits.jsonCopyDelayMs, this.jsonDirtySince + this.deps.limits.jsonCopyMaxWaitMs - now));
+    this.jsonTimer = setTimeout(() => void this.writeJsonCopy(), wait);
+  }
+
+  /** Writes the JSON copy now if the document changed since the last one. */
+  async writeJsonCopy(): Promise<void> {
+    if (this.jsonTimer) clearTimeout(this.jsonTimer);
+    this.jsonTimer = null;
+    this.jsonDirtySince = null;
+    while (this.jsonWriting) await this.jsonWriting;
+    const document = this.currentDocument();
+    if (!document) {
+      this.deps.logger.warn(`the shared document of ${this.derivationId} does not read; its JSON copy is left as it was`);
+      return;
+    }
+    const json = JSON.stringify(document);
+    if (json === this.lastJson || this.locked) return;
+    const authors = Array.from(this.authors).reverse();
+    this.authors.clear();
+    this.jsonWriting = (async () => {
+      try {
+        const result = await this.deps.jsonCopy.write(this.derivationId, document, authors);
+        if (result === "saved" || result === "skipped") this.lastJson = json;
+        else if (result === "locked") await this.onAppendRefused();
+      } catch (error) {
+        for (const author of authors) this.authors.add(author);
+        this.deps.logger.error(`writing the JSON copy of ${this.derivationId} failed`, error);
+        this.scheduleJsonCopy();
+      }
+    })();
+    try {
+      await this.jsonWriting;
+    } finally {
+      this.jsonWriting = null;
+    }
+  }
+
+  // -------------------------------------------------------------------------
+  // Compaction and unloading
+
+  async compact(): Promise<void> {
+    if (this.compacting) return this.compacting;
+    this.appendsSinceCompaction = 0;
+    this.compacting = this.deps.persistence
+      .compact(this.derivationId)
+      .then(() => undefined)
+      .catch((error: unknown) => this.deps.logger.error(`compacting ${this.derivationId} failed`, error))
+      .finally(() => {
+        this.compacting = null;
+      });
+    return this.compacting;
+  }
+
+  /** Waits for every connection's pending updates to be stored. */
+  async settle(): Promise<void> {
+    while (this.storing.size > 0) await Promise.all(Array.from(this.storing));
+  }
+
+  /**
+   * Writes the JSON copy, compacts and forgets the document, once it has had
+   * no connections for the unload pause (or at once when `force`d on shutdown).
+   */
+  unload(force = false): Promise<void> {
+    if (this.unloading) return this.unloading;
+    if (!force && this.connections.size > 0) return Promise.resolve();
+    if (this.unloadTimer) clearTimeout(this.unloadTimer);
+    this.unloadTimer = null;
+    this.unloading = (async () => {
+      try {
+        await this.settle();
+        if (this.loaded) {
+          await this.writeJsonCopy();
+          await this.compact();
+        }
+      } catch (error) {
+        this.deps.logger.error(`unloading ${this.derivationId} failed`, error);
+      } finally {
+        if (this.jsonTimer) clearTimeout(this.jsonTimer);
+        this.awareness.destroy();
+        this.doc.destroy();
+        this.deps.onUnloaded(this);
+      }
+    })();
+    return this.unloading;
+  }
+}
