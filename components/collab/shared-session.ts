@@ -208,6 +208,7 @@ export class SharedSession {
   }
 
   private later(fn: () => void, ms: number): void {
+    if (this.destroyed) return;
     const timer = setTimeout(() => {
       this.timers.delete(timer);
       fn();

@@ -71,7 +71,8 @@ export function useSharedDocument(options: SharedDocumentOptions): SharedDocumen
     ...snapshot,
     synced,
     // Until the shared copy is here nobody edits: an edit to the page's copy would have nowhere to go.
-    editable: synced && !snapshot.readOnly && snapshot.user !== null,
+    // A refused connection stores nothing more: editing stops there too.
+    editable: synced && !snapshot.readOnly && snapshot.user !== null && snapshot.connection.state !== "refused",
     session,
     document: state.document ?? options.initialDocument,
     problem: state.problem,

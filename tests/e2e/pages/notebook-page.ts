@@ -13,8 +13,9 @@ export class NotebookPage {
     return new URL(this.page.url()).pathname.split("/").pop() ?? "";
   }
 
-  get saveStatus(): Locator {
-    return this.page.getByTestId("save-status");
+  /** The shared document's connection: connecting, saved/saving (editors), live (readers), offline, refused. */
+  get connectionStatus(): Locator {
+    return this.page.getByTestId("connection-status");
   }
 
   get equations(): Locator {
@@ -52,8 +53,15 @@ export class NotebookPage {
     await expect(editor).toHaveText(text);
   }
 
+  /** Every edit of this page stored by the collaboration server. */
   async waitUntilSaved(): Promise<void> {
-    await expect(this.saveStatus).toHaveAttribute("data-state", "saved", { timeout: 20_000 });
+    await expect(this.connectionStatus).toHaveAttribute("data-state", "saved", { timeout: 20_000 });
+  }
+
+  /** The shared document has arrived and this person may edit it. */
+  async waitUntilEditable(): Promise<void> {
+    await this.waitUntilSaved();
+    await expect(this.page.getByTestId("notebook-page")).not.toHaveAttribute("data-read-only", "true");
   }
 
   async evaluate(): Promise<void> {
