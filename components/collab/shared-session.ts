@@ -102,7 +102,7 @@ const RETRY_DELAYS_MS = [1_000, 3_000, 10_000, 30_000] as const;
 
 const CLOSE_REASONS: Record<number, string> = {
   4400: "the server could not read a message from this page",
-  4401: "your access to this document could not be confirmed (sign in again)",
+  4401: "your access to this document could not be confirmed; reload the page or sign in again",
   4403: "you no longer have access to this derivation",
   4404: "this derivation no longer exists",
   4413: "an edit was too large for the server",
@@ -112,8 +112,8 @@ const CLOSE_REASONS: Record<number, string> = {
 /** The sentence shown for a refused connection: the server's reason when it gave one. */
 export function refusalText(code: number, reason: string): string {
   const known = CLOSE_REASONS[code];
-  if (reason && known) return `${reason.replace(/\.$/, "")} (${known})`;
-  return reason || known || `closed by the server (code ${code})`;
+  if (reason && known) return `${reason.replace(/\.$/, "")} — ${known}.`;
+  return reason || (known ? `${known[0]!.toUpperCase()}${known.slice(1)}.` : `Closed by the server (code ${code}).`);
 }
 
 const defaultProvider: ProviderFactory = (url, room, ydoc, { params }) =>
