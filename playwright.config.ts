@@ -8,6 +8,8 @@ import { defineConfig } from "@playwright/test";
 // would copy the app's development defaults (NEXTAUTH_SECRET among them) into the
 // environment of the production server started below.
 const port = Number(process.env.HOLONOMY_TEST_APP_PORT ?? 3100);
+// The collaboration server beside it (server/collab.ts); the app's token route names its address.
+const collabPort = Number(process.env.HOLONOMY_TEST_COLLAB_PORT ?? 3101);
 
 export default defineConfig({
   testDir: "tests/e2e",
@@ -37,12 +39,24 @@ export default defineConfig({
     },
   },
   projects: [{ name: "chromium", use: { browserName: "chromium" } }],
-  webServer: {
-    command: `npx next start -H 127.0.0.1 -p ${port}`,
-    url: `http://127.0.0.1:${port}/api/health`,
-    reuseExistingServer: false,
-    timeout: 120_000,
-    stdout: "ignore",
-    stderr: "pipe",
-  },
+  webServer: [
+    {
+      command: `npx next start -H 127.0.0.1 -p ${port}`,
+      url: `http://127.0.0.1:${port}/api/health`,
+      env: { COLLAB_PORT: String(collabPort) },
+      reuseExistingServer: false,
+      timeout: 120_000,
+      stdout: "ignore",
+      stderr: "pipe",
+    },
+    {
+      command: "node --conditions=react-server --import tsx server/collab.ts",
+      url: `http://127.0.0.1:${collabPort}/collab/health`,
+      env: { COLLAB_PORT: String(collabPort) },
+      reuseExistingServer: false,
+      timeout: 120_000,
+      stdout: "ignore",
+      stderr: "pipe",
+    },
+  ],
 });

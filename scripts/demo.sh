@@ -1,7 +1,8 @@
 #!/usr/bin/env bash
 # `npm run demo`: installs what is missing, starts PostgreSQL, the mail fake and the S3 fake,
 # migrates and seeds the demo team, builds the app and serves it on
-# http://localhost:3000 (bound to 127.0.0.1). Ctrl-C stops the app; PostgreSQL
+# http://localhost:3000 (bound to 127.0.0.1) with the collaboration server on 127.0.0.1:3001.
+# Ctrl-C stops the app and the collaboration server; PostgreSQL
 # and the fakes keep running until `npm run db:stop` / `npm run mail:stop` / `npm run s3:stop`.
 source "$(dirname "${BASH_SOURCE[0]}")/lib/common.sh"
 cd "$ROOT"
@@ -25,5 +26,9 @@ npx tsx --conditions=react-server scripts/seed.ts
 log "building the app"
 npx next build
 if port_open 3000; then die "port 3000 is already in use; stop the other server first"; fi
+export COLLAB_PORT="${COLLAB_PORT:-3001}"
+start_collab_server "$COLLAB_PORT"
+trap stop_collab_server EXIT
+trap 'exit 130' INT TERM
 log "serving on http://localhost:3000 — sign in as lead@demo.holonomy.test (password in README)"
-exec npx next start -H 127.0.0.1 -p 3000
+npx next start -H 127.0.0.1 -p 3000

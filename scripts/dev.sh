@@ -1,5 +1,6 @@
 #!/usr/bin/env bash
-# `npm run dev`: services + migrations, then the Next.js dev server on 127.0.0.1:3000.
+# `npm run dev`: services + migrations, the collaboration server on 127.0.0.1:3001, then the
+# Next.js dev server on 127.0.0.1:3000. Ctrl-C stops both (the services keep running).
 source "$(dirname "${BASH_SOURCE[0]}")/lib/common.sh"
 cd "$ROOT"
 ensure_node_modules
@@ -7,4 +8,8 @@ bash scripts/db.sh start
 bash scripts/mail.sh start 1025 1080
 bash scripts/s3.sh start 4568 holonomy
 npx tsx scripts/migrate.ts
-exec npx next dev -H 127.0.0.1 -p 3000
+export COLLAB_PORT="${COLLAB_PORT:-3001}"
+start_collab_server "$COLLAB_PORT"
+trap stop_collab_server EXIT
+trap 'exit 130' INT TERM
+npx next dev -H 127.0.0.1 -p 3000

@@ -12,6 +12,9 @@ TEST_MAIL_WEB_PORT=1081
 TEST_S3_PORT=4578
 TEST_S3_BUCKET=holonomy-test
 export HOLONOMY_TEST_APP_PORT="${HOLONOMY_TEST_APP_PORT:-3100}"
+# The collaboration server of the browser suite (playwright.config.ts starts it beside the
+# app); the integration tests start their own on ephemeral ports.
+export HOLONOMY_TEST_COLLAB_PORT="${HOLONOMY_TEST_COLLAB_PORT:-3101}"
 REPORT_DIR="$DATA_DIR/reports"
 
 ensure_node_modules

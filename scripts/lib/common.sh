@@ -71,3 +71,23 @@ ensure_nextauth_secret() {
   NEXTAUTH_SECRET="$(cat "$file")"
   export NEXTAUTH_SECRET
 }
+
+# The collaboration server (server/collab.ts), one node process on 127.0.0.1:PORT beside
+# Next.js, logging to .data/logs/collab-PORT.log. Sets COLLAB_PID; stop_collab_server
+# stops exactly that process (SIGTERM: it writes its documents first).
+start_collab_server() {
+  local port="$1"
+  if port_open "$port"; then die "port $port (collaboration server) is already in use; stop the other server first"; fi
+  mkdir -p "$LOG_DIR"
+  COLLAB_PORT="$port" node --conditions=react-server --import tsx "$ROOT/server/collab.ts" >>"$LOG_DIR/collab-$port.log" 2>&1 &
+  COLLAB_PID=$!
+  wait_for_port "$port" "the collaboration server" 120
+}
+
+stop_collab_server() {
+  if pid_alive "${COLLAB_PID:-}"; then
+    kill -TERM "$COLLAB_PID" 2>/dev/null || true
+    wait "$COLLAB_PID" 2>/dev/null || true
+  fi
+  COLLAB_PID=""
+}

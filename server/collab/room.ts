@@ -26,10 +26,6 @@ export interface RoomConnection {
 interface ConnectionState {
   /** Awareness client ids this connection set. */
   awarenessIds: Set<number>;
-  /** Updates received and not yet stored. */
-  pending: Uint8Array[];
-  /** The loop storing `pending`, while it runs. */
-  storing: Promise<void> | null;
 }
 
 /** Origins of changes that do not come from a connection. */
@@ -67,8 +63,10 @@ export class Room {
   private readonly authors = new Set<string>();
   private appendsSinceCompaction = 0;
   private compacting: Promise<void> | null = null;
-  /** Storing loops still running, also of connections that closed meanwhile. */
-  private readonly storing = new Set<Promise<void>>();
+  /** Updates received and not yet stored, in arrival order, with the connection each came from. */
+  private pending: { connection: RoomConnection; update: Uint8Array }[] = [];
+  /** The loop storing `pending`, while it runs. */
+  private storing: Promise<void> | null = null;
   /** Updates stored and applied since the room loaded (statistics and tests). */
   storedCount = 0;
 
@@ -133,7 +131,7 @@ export class Room {
   addConnection(connection: RoomConnection): void {
     if (this.unloadTimer) clearTimeout(this.unloadTimer);
     this.unloadTimer = null;
-    this.connections.set(connection, { awarenessIds: new Set(), pending: [], storing: null });
+    this.connections.set(connection, { awarenessIds: new Set() });
     connection.send(syncStep1Message(this.doc));
     const states = Array.from(this.awareness.getStates().keys());
     if (states.length > 0) connection.send(awarenessMessage(this.awareness, states));
@@ -164,13 +162,8 @@ export class Room {
           connection.send(storedMessage(this.doc));
           return;
         }
-        state.pending.push(message.update);
-        if (!state.storing) {
-          const storing = this.store(connection, state);
-          state.storing = storing;
-          this.storing.add(storing);
-          void storing.finally(() => this.storing.delete(storing));
-        }
+        this.pending.push({ connection, update: message.update });
+        this.storing ??= this.store();
         return;
       case "awareness":
         awarenessProtocol.applyAwarenessUpdate(this.awareness, message.update, connection);
@@ -184,40 +177,45 @@ export class Room {
   }
 
   /**
-   * Stores a connection's pending updates in order (several that arrived
-   * meanwhile as one merged row), applies each stored batch, which relays it,
-   * and acknowledges it to the sender. A storage failure closes the connection
-   * with 1011: the provider reconnects and sends again what was not stored.
+   * Stores pending updates: everything that arrived while the previous append
+   * was in flight goes into one row (a group commit), then each update is
+   * applied with its connection as origin (which relays it to the others) and
+   * each sender is acknowledged. A storage failure closes the senders with
+   * 1011: their providers reconnect and send again what was not stored.
    */
-  private async store(connection: RoomConnection, state: ConnectionState): Promise<void> {
+  private async store(): Promise<void> {
     try {
-      while (state.pending.length > 0 && !this.locked) {
-        const batch = state.pending.splice(0, state.pending.length);
-        const update = batch.length === 1 ? batch[0]! : Y.mergeUpdates(batch);
+      while (this.pending.length > 0 && !this.locked) {
+        const batch = this.pending;
+        this.pending = [];
+        const update = batch.length === 1 ? batch[0]!.update : Y.mergeUpdates(batch.map((entry) => entry.update));
+        const senders = new Set(batch.map((entry) => entry.connection));
         let result;
         try {
           result = await this.deps.persistence.append(this.derivationId, update);
         } catch (error) {
           this.deps.logger.error(`storing an update of ${this.derivationId} failed`, error);
-          state.pending.length = 0;
-          connection.close(CloseCode.serverError, "The update could not be stored; reconnecting.");
-          return;
+          for (const sender of senders) sender.close(CloseCode.serverError, "The update could not be stored; reconnecting.");
+          continue;
         }
         if (result.status === "refused") {
-          state.pending.length = 0;
+          this.pending = [];
           await this.onAppendRefused();
           return;
         }
-        Y.applyUpdate(this.doc, update, connection);
+        for (const entry of batch) Y.applyUpdate(this.doc, entry.update, entry.connection);
         this.storedCount += batch.length;
-        this.authors.delete(connection.grant.userId);
-        this.authors.add(connection.grant.userId);
-        connection.send(storedMessage(this.doc));
+        for (const sender of senders) {
+          this.authors.delete(sender.grant.userId);
+          this.authors.add(sender.grant.userId);
+        }
+        const acknowledgement = storedMessage(this.doc);
+        for (const sender of senders) sender.send(acknowledgement);
         this.appendsSinceCompaction += 1;
         if (this.appendsSinceCompaction >= this.deps.limits.compactEvery) void this.compact();
       }
     } finally {
-      state.storing = null;
+      this.storing = null;
     }
   }
 
@@ -360,7 +358,7 @@ export class Room {
 
   /** Waits for every connection's pending updates to be stored. */
   async settle(): Promise<void> {
-    while (this.storing.size > 0) await Promise.all(Array.from(this.storing));
+    while (this.storing) await this.storing;
   }
 
   /**

@@ -159,6 +159,7 @@ export function createCollabServer(options: CollabServerOptions): CollabServer {
       const load = (async () => {
         const result = await room.load();
         if (!result.ok) {
+          room.awareness.destroy();
           room.doc.destroy();
           throw new RefusedConnection(result.code, result.reason);
         }

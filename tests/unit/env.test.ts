@@ -32,3 +32,17 @@ describe("parseEnv: NEXTAUTH_SECRET", () => {
     expect(built.NEXTAUTH_SECRET).toBe(DEVELOPMENT_NEXTAUTH_SECRET);
   });
 });
+
+describe("parseEnv: the collaboration server", () => {
+  it("defaults to loopback port 3001 and derives the public address from the port", () => {
+    const env = parseEnv({ NODE_ENV: "test" });
+    expect(env.COLLAB_PORT).toBe(3001);
+    expect(env.COLLAB_PUBLIC_URL).toBe("ws://127.0.0.1:3001/collab");
+    expect(parseEnv({ NODE_ENV: "test", COLLAB_PORT: "4123" }).COLLAB_PUBLIC_URL).toBe("ws://127.0.0.1:4123/collab");
+  });
+
+  it("takes a public websocket address and refuses any other scheme", () => {
+    expect(parseEnv({ NODE_ENV: "test", COLLAB_PUBLIC_URL: "wss://holonomy.example.com/collab/" }).COLLAB_PUBLIC_URL).toBe("wss://holonomy.example.com/collab");
+    expect(() => parseEnv({ NODE_ENV: "test", COLLAB_PUBLIC_URL: "https://holonomy.example.com/collab" })).toThrow(/COLLAB_PUBLIC_URL/);
+  });
+});
