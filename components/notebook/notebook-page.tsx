@@ -250,7 +250,7 @@ export function NotebookPage(props: NotebookPageProps) {
   const response = evaluation.response;
 
   return (
-    <article className="space-y-4" data-testid="notebook-page" data-read-only={canEdit ? undefined : "true"}>
+    <article className="space-y-4" data-testid="notebook-page" data-read-only={writable ? undefined : "true"}>
       <header className="space-y-2">
         <Link href={`/teams/${props.teamId}`} className="text-sm text-action hover:underline">
           ← {props.teamName}

@@ -25,6 +25,7 @@ test("an analyst enters a double pendulum, evaluates it, exports the model file 
 
   const notebook = new NotebookPage(page);
   await notebook.expectOpen();
+  await notebook.waitUntilEditable();
   await expect(page.getByTestId("derivation-title")).toHaveValue(title);
 
   await notebook.addRow("coordinate", { Name: "theta1", Unit: "rad" });

@@ -46,6 +46,8 @@ export class NotebookPage {
 
   /** Types into an expression editor (CodeMirror, built when it gets focus). */
   async typeExpression(label: string, text: string): Promise<void> {
+    // Editors take typing once the shared document has arrived (until then the notebook is read-only).
+    await expect(this.page.getByTestId("notebook-page")).not.toHaveAttribute("data-read-only", "true", { timeout: 20_000 });
     await this.page.getByRole("textbox", { name: label, exact: true }).click();
     const editor = this.page.locator(`.cm-content[aria-label="${label}"]`);
     await expect(editor).toBeFocused();
