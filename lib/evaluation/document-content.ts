@@ -13,7 +13,7 @@ function fieldErrorsOf(issues: DocumentIssue[], field: string): FieldErrors {
 }
 
 /**
- * The one gate for content written to a derivation (create, update, autosave,
+ * The one gate for content written to a derivation (create, update, the shared document's JSON copy,
  * import, fits, seed): a document of any schema version (a pre-notebook model
  * file is version 0) in, the migrated and validated document out. Throws a 400
  * with field errors keyed `<field>.<path>` (`content.cells[2].rows[0].name`), or
