@@ -1,6 +1,7 @@
 "use client";
 
 import { useRouter } from "next/navigation";
+import { mayLeave } from "@/components/collab/use-leave-guard";
 import { createContext, useCallback, useContext, useEffect, useMemo, useRef, useState, type ReactNode } from "react";
 import { Dialog } from "./ui/dialog";
 import { toggleTheme } from "./theme-toggle";
@@ -106,8 +107,12 @@ export function ShortcutsProvider({ children }: { children: ReactNode }) {
   const globals = useMemo<Shortcut[]>(
     () => [
       { keys: "?", description: "Show this list of shortcuts", run: () => setHelpOpen(true) },
-      { keys: "g t", description: "Go to your teams", run: () => router.push("/teams") },
-      { keys: "g m", description: "Open the development mailbox (demo and development only)", run: () => router.push("/dev/mailbox") },
+      { keys: "g t", description: "Go to your teams", run: () => void mayLeave().then((leave) => leave && router.push("/teams")) },
+      {
+        keys: "g m",
+        description: "Open the development mailbox (demo and development only)",
+        run: () => void mayLeave().then((leave) => leave && router.push("/dev/mailbox")),
+      },
       // Changes the whole screen: a chord, so a stray key press cannot do it.
       { keys: "Alt+Shift+T", description: "Switch between light and dark theme", run: toggleTheme },
     ],

@@ -1,6 +1,7 @@
 "use client";
 
 import { useParams, useRouter } from "next/navigation";
+import { mayLeave } from "@/components/collab/use-leave-guard";
 import { roleLabels, type MemberRole } from "@/lib/domain";
 import { useCurrentTeamId } from "./current-team";
 
@@ -24,8 +25,9 @@ export function TeamSwitcher({ teams }: { teams: TeamOption[] }) {
         aria-label="Switch team"
         value={teams.some((team) => team.id === current) ? current : ""}
         onChange={(event) => {
-          if (event.target.value) router.push(`/teams/${event.target.value}`);
-          else router.push("/teams");
+          const target = event.target.value ? `/teams/${event.target.value}` : "/teams";
+          // Unstored edits on the page being left: wait for them or ask first.
+          void mayLeave().then((leave) => leave && router.push(target));
         }}
         className="max-w-64 rounded border border-line bg-surface px-2 py-1 text-sm"
       >

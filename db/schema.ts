@@ -1,7 +1,6 @@
 import { relations } from "drizzle-orm";
 import {
   bigserial,
-  boolean,
   bigint,
   customType,
   doublePrecision,

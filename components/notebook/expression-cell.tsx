@@ -4,6 +4,7 @@
  * Kinetic energy, potential energy, dissipation function and generalized
  * forces: expression editors with a live KaTeX rendering underneath.
  */
+import { useSharedField, useSharedFields } from "@/components/collab/shared-context";
 import type { DocumentOperation, DocumentSymbols, EnergyCell, ForcesCell } from "@/lib/notebook/document";
 import { previewLatex, symbolLatex } from "@/lib/notebook/latex-preview";
 import { toEditorDiagnostic, type LocatedDiagnostic } from "@/lib/notebook/results";
@@ -33,6 +34,7 @@ export interface EnergyCellProps {
 
 export function EnergyCellEditor({ cell, symbols, diagnostics = [], readOnly = false, onOperation }: EnergyCellProps) {
   const meta = ENERGY[cell.kind];
+  const shared = useSharedField(cell.id, "expr");
   return (
     <div className="min-w-0">
       <div className="flex items-start gap-2">
@@ -44,6 +46,7 @@ export function EnergyCellEditor({ cell, symbols, diagnostics = [], readOnly = f
           label={meta.label}
           value={cell.expr}
           onChange={(expr) => onOperation({ type: "setExpression", cellId: cell.id, expr })}
+          shared={shared ?? undefined}
           symbols={symbols}
           readOnly={readOnly}
           placeholder={meta.placeholder}
@@ -73,34 +76,18 @@ export function ForcesCellEditor({ cell, symbols, diagnostics = [], readOnly = f
   return (
     <div className="flex min-w-0 flex-col gap-3">
       {symbols.coordinates.length === 0 && <p className="text-sm text-muted">Add coordinates first; each gets one generalized force.</p>}
-      {symbols.coordinates.map((coordinate) => {
-        const own = diagnostics.filter((d) => d.location.coordinate === coordinate);
-        const text = textOf(coordinate);
-        const lhs = `Q_{${symbolLatex(coordinate)}}`;
-        return (
-          <div key={coordinate} className="min-w-0">
-            <div className="flex items-start gap-2">
-              <span className="w-24 shrink-0 truncate pt-1.5 text-sm text-muted" aria-hidden="true" data-testid={`force-label-${coordinate}`}>
-                <span className="italic">Q</span>
-                <sub className="font-mono">{coordinate}</sub> =
-              </span>
-              <ExpressionEditor
-                className="min-w-0 flex-1"
-                label={`Generalized force on ${coordinate}`}
-                value={text}
-                onChange={(expr) => onOperation({ type: "setForce", cellId: cell.id, coordinate, expr })}
-                symbols={symbols}
-                readOnly={readOnly}
-                placeholder="blank means no force"
-                allowEmpty
-                diagnostics={own.map((d) => toEditorDiagnostic(d, text))}
-                diagnosticsFor={own[0]?.text ?? null}
-              />
-            </div>
-            <ExpressionPreview lhs={lhs} expr={text} />
-          </div>
-        );
-      })}
+      {symbols.coordinates.map((coordinate) => (
+        <ForceField
+          key={coordinate}
+          cell={cell}
+          coordinate={coordinate}
+          text={textOf(coordinate)}
+          symbols={symbols}
+          diagnostics={diagnostics.filter((d) => d.location.coordinate === coordinate)}
+          readOnly={readOnly}
+          onOperation={onOperation}
+        />
+      ))}
       {orphans.map((entry) => (
         <div key={entry.coordinate} className="flex items-center gap-2 rounded border border-seal/60 bg-seal-soft px-2 py-1 text-sm text-ink" role="status">
           <span className="min-w-0 flex-1">
@@ -118,6 +105,58 @@ export function ForcesCellEditor({ cell, symbols, diagnostics = [], readOnly = f
           )}
         </div>
       ))}
+    </div>
+  );
+}
+
+/**
+ * The generalized force on one coordinate. In a shared document the entry is
+ * created when the field gets the focus, so the editor is bound to the entry's
+ * text before the first key is typed.
+ */
+function ForceField({
+  cell,
+  coordinate,
+  text,
+  symbols,
+  diagnostics,
+  readOnly,
+  onOperation,
+}: {
+  cell: ForcesCell;
+  coordinate: string;
+  text: string;
+  symbols: DocumentSymbols;
+  diagnostics: readonly LocatedDiagnostic[];
+  readOnly: boolean;
+  onOperation: (op: DocumentOperation) => void;
+}) {
+  const shared = useSharedField(cell.id, ["entries", coordinate, "expr"]);
+  const fields = useSharedFields();
+  const lhs = `Q_{${symbolLatex(coordinate)}}`;
+  return (
+    <div className="min-w-0">
+      <div className="flex items-start gap-2">
+        <span className="w-24 shrink-0 truncate pt-1.5 text-sm text-muted" aria-hidden="true" data-testid={`force-label-${coordinate}`}>
+          <span className="italic">Q</span>
+          <sub className="font-mono">{coordinate}</sub> =
+        </span>
+        <ExpressionEditor
+          className="min-w-0 flex-1"
+          label={`Generalized force on ${coordinate}`}
+          value={text}
+          onChange={(expr) => onOperation({ type: "setForce", cellId: cell.id, coordinate, expr })}
+          shared={shared ?? undefined}
+          onFocus={fields && !shared && !readOnly ? () => onOperation({ type: "setForce", cellId: cell.id, coordinate, expr: text }) : undefined}
+          symbols={symbols}
+          readOnly={readOnly}
+          placeholder="blank means no force"
+          allowEmpty
+          diagnostics={diagnostics.map((d) => toEditorDiagnostic(d, text))}
+          diagnosticsFor={diagnostics[0]?.text ?? null}
+        />
+      </div>
+      <ExpressionPreview lhs={lhs} expr={text} />
     </div>
   );
 }

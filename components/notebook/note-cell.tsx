@@ -1,6 +1,8 @@
 "use client";
 
-import { useEffect, useState } from "react";
+import { useEffect, useState, type KeyboardEvent } from "react";
+import { useSharedField } from "@/components/collab/shared-context";
+import { SharedTextarea } from "@/components/collab/shared-text-input";
 import type { DocumentOperation, NoteCell } from "@/lib/notebook/document";
 
 export interface NoteCellProps {
@@ -13,23 +15,28 @@ export interface NoteCellProps {
 export function NoteCellEditor({ cell, readOnly = false, onOperation }: NoteCellProps) {
   const [editing, setEditing] = useState(!readOnly && cell.markdown.trim() === "");
   const html = useRenderedNote(cell.markdown);
+  // In a shared document the Markdown is a Y.Text: two people writing in one note merge.
+  const shared = useSharedField(cell.id, "markdown");
 
   if (editing && !readOnly) {
+    const field = {
+      className: "min-h-24 w-full resize-y rounded border border-line bg-paper px-2 py-1.5 font-mono text-sm text-ink outline-none focus:border-action",
+      "aria-label": "Note (Markdown, $math$)",
+      placeholder: "Assumptions, sources, sign conventions… Math: $\\omega = \\sqrt{g/l}$",
+      onKeyDown: (event: KeyboardEvent<HTMLTextAreaElement>) => {
+        if (event.key === "Escape" || (event.key === "Enter" && (event.ctrlKey || event.metaKey))) {
+          event.preventDefault();
+          setEditing(false);
+        }
+      },
+    };
     return (
       <div className="flex flex-col gap-2">
-        <textarea
-          className="min-h-24 w-full resize-y rounded border border-line bg-paper px-2 py-1.5 font-mono text-sm text-ink outline-none focus:border-action"
-          aria-label="Note (Markdown, $math$)"
-          value={cell.markdown}
-          placeholder="Assumptions, sources, sign conventions… Math: $\omega = \sqrt{g/l}$"
-          onChange={(event) => onOperation({ type: "setNote", cellId: cell.id, markdown: event.target.value })}
-          onKeyDown={(event) => {
-            if (event.key === "Escape" || (event.key === "Enter" && (event.ctrlKey || event.metaKey))) {
-              event.preventDefault();
-              setEditing(false);
-            }
-          }}
-        />
+        {shared ? (
+          <SharedTextarea {...field} text={shared.text} origin={shared.origin} />
+        ) : (
+          <textarea {...field} value={cell.markdown} onChange={(event) => onOperation({ type: "setNote", cellId: cell.id, markdown: event.target.value })} />
+        )}
         <div className="flex justify-end">
           <button type="button" className="rounded px-2 py-1 text-[13px] text-action hover:bg-action-soft" onClick={() => setEditing(false)}>
             Done <kbd>Ctrl+Enter</kbd>

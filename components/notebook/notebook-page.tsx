@@ -1,17 +1,26 @@
 "use client";
 
 /**
- * The derivation screen: the notebook with its title, autosave, server
- * evaluation, exports and recovery of unsaved work. Readers (viewers,
+ * The derivation screen: the notebook with its title, the shared document
+ * (everyone on the page edits one Yjs document, with presence and the
+ * connection's state), server evaluation and exports. Readers (viewers,
  * reviewers, anyone once a derivation is approved without the right to edit)
- * get the same screen read-only; the server refuses their writes as well.
- * Everyone keeps their own view (equation form, equilibrium, code language,
- * and, without the right to edit, simulation settings) apart from the document.
+ * get the same screen read-only; the collaboration server drops their edits as
+ * well. Everyone keeps their own view (equation form, equilibrium, code
+ * language, and, without the right to edit, simulation settings) apart from
+ * the document.
  */
-import { useQuery } from "@tanstack/react-query";
+import canonicalize from "canonicalize";
 import clsx from "clsx";
 import Link from "next/link";
 import { useCallback, useEffect, useMemo, useRef, useState, type ReactNode } from "react";
+import { ConnectionStatus } from "@/components/collab/connection-status";
+import { PresenceAvatars } from "@/components/collab/presence";
+import { SharedFieldsProvider, type SharedFields } from "@/components/collab/shared-context";
+import type { ProviderFactory } from "@/components/collab/shared-session";
+import { SharedInput } from "@/components/collab/shared-text-input";
+import { useLeaveGuard } from "@/components/collab/use-leave-guard";
+import { useSharedDocument } from "@/components/collab/use-shared-document";
 import { ReviewSyncProvider } from "@/components/review/review-sync";
 import { useShortcut, useShortcutHelp } from "@/components/shortcuts";
 import { Button } from "@/components/ui/button";
@@ -20,14 +29,14 @@ import { apiFetch } from "@/lib/api/fetcher";
 import { safetyNote, type DerivationStatus } from "@/lib/domain";
 import type { DerivationJson } from "@/lib/derivations/views";
 import { AppError, appErrorFromBody } from "@/lib/errors";
-import { applyOperation, documentToModel, parseStoredDocument, type DerivationDocument } from "@/lib/notebook/document";
+import { DocumentError, parseStoredDocument, type DerivationDocument, type DocumentOperation } from "@/lib/notebook/document";
+import { applySharedOperation, titleText } from "@/lib/notebook/document/shared-doc";
 import { diagnosticLine } from "@/lib/notebook/results";
 import { EMPTY_VIEW_PREFERENCES, personalCell, type ViewPreferences } from "@/lib/notebook/view-preferences";
 import { CELL_SHORTCUTS } from "./cell-frame";
 import { Notebook, type NotebookView } from "./notebook";
 import { OwnSimulation } from "./own-simulation";
 import { UploadLimitsProvider, type UploadLimits } from "./upload-limits";
-import { readDraft, removeDraft, useAutosave, type SaveFunction, type SaveStatus } from "./use-autosave";
 import { useEvaluation } from "./use-evaluation";
 import { useViewPreferences } from "./use-view-preferences";
 import { useViewResults } from "./use-view-results";
@@ -55,29 +64,16 @@ export interface NotebookPageProps {
   /** The server's upload limits, stated and applied where files are chosen. */
   uploadLimits?: UploadLimits;
   rowTitle: string;
-  /** The review area (lock banner, review panel), shown under the header and kept in step with autosave. */
+  /** The review area (lock banner, review panel), shown under the header; its steps wait for stored edits. */
   review?: ReactNode;
   /** Approved and locked: the review area's lock banner says so, in place of the read-only note. */
   locked?: boolean;
+  /** Tests connect the shared document to an in-memory server instead of the collaboration server. */
+  collabProvider?: ProviderFactory;
 }
 
-interface DerivationRecord {
-  derivation: DerivationJson;
-}
-
-const timeFormat = new Intl.DateTimeFormat("en-GB", { timeStyle: "short" });
-
-function recoveryKey(id: string) {
-  return `holonomy:recovery:${id}`;
-}
-
-function modelText(doc: DerivationDocument): string {
-  try {
-    return JSON.stringify(documentToModel(doc), null, 2);
-  } catch {
-    return JSON.stringify(doc, null, 2);
-  }
-}
+/** How long a step that reads the stored derivation (export, review) waits for the server to hold this page's document. */
+const STORED_WAIT_MS = 6_000;
 
 /** Downloads a file from one of our GET routes, turning an error answer into an AppError. */
 async function download(url: string): Promise<void> {
@@ -103,50 +99,88 @@ async function download(url: string): Promise<void> {
 export function NotebookPage(props: NotebookPageProps) {
   const { derivationId, canEdit } = props;
   const readOnlyReason = canEdit ? undefined : (props.readOnlyReason ?? "role");
-  const [doc, setDoc] = useState(props.initialDocument);
-  const [recovery, setRecovery] = useState<{ document: DerivationDocument; reason: string } | null>(null);
-  const [notice, setNotice] = useState<string | null>(null);
+  // A change of the right to edit (a review step locked or unlocked the derivation) reconnects with a new ticket.
+  const shared = useSharedDocument({ derivationId, initialDocument: props.initialDocument, createProvider: props.collabProvider, generation: canEdit });
+  const doc = shared.document;
+  const { session } = shared;
+  const writable = canEdit && shared.editable;
+  const [problem, setProblem] = useState<string | null>(null);
   const [exportOpen, setExportOpen] = useState(false);
   const [exportError, setExportError] = useState<string | null>(null);
   const [exporting, setExporting] = useState<"model" | "latex" | "notebook" | null>(null);
-  const rowTitle = useRef(props.rowTitle);
   const docRef = useRef(doc);
   useEffect(() => {
     docRef.current = doc;
   }, [doc]);
 
-  const record = useQuery({
-    queryKey: ["derivations", derivationId, "record"],
-    queryFn: ({ signal }) => apiFetch<DerivationRecord>(`/api/derivations/${derivationId}`, { signal }),
-    enabled: false,
-  });
-
-  const save = useCallback<SaveFunction>(
-    async (document, baseUpdatedAt) => {
-      let { updatedAt } = await apiFetch<{ updatedAt: string }>(`/api/derivations/${derivationId}/content`, {
-        method: "PUT",
-        body: { document, ...(baseUpdatedAt ? { baseUpdatedAt } : {}) },
-      });
-      // The dashboard lists the row's title; keep it in step with the document's.
-      const title = document.title.trim();
-      if (props.canRename && title && title !== rowTitle.current) {
-        const renamed = await apiFetch<DerivationRecord>(`/api/derivations/${derivationId}`, { method: "PATCH", body: { title } });
-        rowTitle.current = renamed.derivation.title;
-        updatedAt = renamed.derivation.updatedAt;
-      }
-      return { updatedAt };
-    },
-    [derivationId, props.canRename],
+  const fields = useMemo<SharedFields | null>(
+    () =>
+      session && shared.synced && shared.user
+        ? { ydoc: session.ydoc, origin: session.origin, awareness: session.awareness, undoManager: session.undoManager }
+        : null,
+    [session, shared.synced, shared.user],
   );
 
-  const autosave = useAutosave({
-    derivationId,
-    document: doc,
-    initialUpdatedAt: props.initialUpdatedAt,
-    initialServerDocument: props.initialDocument,
-    enabled: canEdit,
-    save,
-  });
+  /** Every structural edit (cells, rows, settings) goes to the shared document as one transaction of this person's. */
+  const applyEdit = useCallback(
+    (op: DocumentOperation) => {
+      if (!session || !writable) return;
+      try {
+        applySharedOperation(session.ydoc, op, session.origin);
+        setProblem(null);
+      } catch (error) {
+        if (error instanceof DocumentError) setProblem(error.message);
+        else throw error;
+      }
+    },
+    [session, writable],
+  );
+
+  // Undo and redo span every cell: the shared history of this person's edits. Editors handle the keys
+  // themselves; elsewhere on the page (a table field, no focus) they are handled here.
+  useEffect(() => {
+    if (!session || !writable) return;
+    function onKeyDown(event: KeyboardEvent) {
+      if (!(event.ctrlKey || event.metaKey) || event.altKey) return;
+      const key = event.key.toLowerCase();
+      const redo = (key === "z" && event.shiftKey) || (key === "y" && !event.shiftKey);
+      if (!(key === "z" && !event.shiftKey) && !redo) return;
+      const target = event.target as HTMLElement | null;
+      if (target?.closest(".cm-editor")) return;
+      const field = target?.closest("input, textarea, select, [contenteditable=true]");
+      if (field && !field.hasAttribute("data-shared-field")) return;
+      if (target && target !== document.body && !target.closest("[data-testid=notebook-page]")) return;
+      event.preventDefault();
+      if (redo) session!.undoManager.redo();
+      else session!.undoManager.undo();
+    }
+    window.addEventListener("keydown", onKeyDown);
+    return () => window.removeEventListener("keydown", onKeyDown);
+  }, [session, writable]);
+
+  /**
+   * Resolves true once the server holds this page's document: every edit stored, and the JSON copy
+   * (which exports and review steps read) written. Gives up after a few seconds.
+   */
+  const whenServerCurrent = useCallback(async (): Promise<boolean> => {
+    if (!session) return true;
+    const deadline = Date.now() + STORED_WAIT_MS;
+    if (!(await session.whenStored(STORED_WAIT_MS))) return false;
+    while (Date.now() < deadline) {
+      try {
+        const { derivation } = await apiFetch<{ derivation: DerivationJson }>(`/api/derivations/${derivationId}`);
+        const stored = parseStoredDocument(derivation.content, { title: derivation.title });
+        if (stored.ok && canonicalize(stored.document) === canonicalize(docRef.current)) return true;
+      } catch {
+        // try again below
+      }
+      await new Promise((resolve) => setTimeout(resolve, 400));
+    }
+    return false;
+  }, [session, derivationId]);
+
+  useLeaveGuard({ pending: canEdit ? shared.pending : 0, whenStored: (ms) => session?.whenStored(ms) ?? Promise.resolve(true) });
+
   const evaluation = useEvaluation({ derivationId, document: doc });
 
   // This person's view: choices over the document's settings, and what they need from the server.
@@ -172,83 +206,13 @@ export function NotebookPage(props: NotebookPageProps) {
     ownSimulationRef.current?.querySelector<HTMLElement>("input, button")?.focus({ preventScroll: true });
   }, [scrollToOwnSimulation]);
 
-  // Work this browser kept from an earlier visit: resume it when it was based on the version
-  // the server still holds, otherwise set it aside where it can be restored. localStorage
-  // exists only in the browser, so this runs after mount (the page is a new one per derivation).
-  const { initialDocument, initialUpdatedAt } = props;
-  useEffect(() => {
-    if (!canEdit) return;
-    const storage = window.localStorage;
-    const aside = storage.getItem(recoveryKey(derivationId));
-    if (aside) {
-      try {
-        const entry = JSON.parse(aside) as { document: unknown; reason: string };
-        // Set aside by an earlier version of the page, perhaps: migrated like stored content.
-        const parsed = parseStoredDocument(entry.document);
-        // eslint-disable-next-line react-hooks/set-state-in-effect -- state read from localStorage, an external system
-        if (parsed.ok) setRecovery({ document: parsed.document, reason: String(entry.reason) });
-      } catch {
-        storage.removeItem(recoveryKey(derivationId));
-      }
-    }
-    const draft = readDraft(storage, derivationId);
-    if (!draft || JSON.stringify(draft.document) === JSON.stringify(initialDocument)) return;
-    if (draft.baseUpdatedAt === initialUpdatedAt) {
-      setDoc(draft.document);
-      setNotice("Restored changes from this browser that had not reached the server yet; saving them now.");
-    } else {
-      const entry = { document: draft.document, reason: "This browser kept changes made to an older version of this derivation, which has changed since." };
-      setRecovery(entry);
-      try {
-        storage.setItem(recoveryKey(derivationId), JSON.stringify(entry));
-      } catch {
-        // still shown on the page
-      }
-      removeDraft(storage, derivationId);
-    }
-  }, [canEdit, derivationId, initialDocument, initialUpdatedAt]);
-
-  function keepAside(document: DerivationDocument, reason: string) {
-    const entry = { document, reason };
-    setRecovery(entry);
-    try {
-      window.localStorage.setItem(recoveryKey(derivationId), JSON.stringify(entry));
-    } catch {
-      // still shown on the page
-    }
-  }
-
-  function dismissRecovery() {
-    setRecovery(null);
-    window.localStorage.removeItem(recoveryKey(derivationId));
-  }
-
-  async function loadServerVersion() {
-    const { data, error } = await record.refetch();
-    if (error || !data) return setNotice(`Could not load the saved version: ${error?.message ?? "no answer"}. Your copy is unchanged.`);
-    const parsed = parseStoredDocument(data.derivation.content, { title: data.derivation.title });
-    if (!parsed.ok) return setNotice("The saved version could not be read as a notebook. Your copy is unchanged.");
-    keepAside(docRef.current, "Your copy, set aside when you loaded the version someone else saved.");
-    autosave.reset(parsed.document, data.derivation.updatedAt);
-    rowTitle.current = data.derivation.title;
-    setDoc(parsed.document);
-    setNotice(null);
-  }
-
-  async function overwriteServerVersion() {
-    const { data, error } = await record.refetch();
-    if (error || !data) return setNotice(`Could not reach the server: ${error?.message ?? "no answer"}. Your copy is unchanged.`);
-    rowTitle.current = data.derivation.title;
-    await autosave.overwrite(data.derivation.updatedAt);
-  }
-
   async function exportFile(format: "model" | "latex" | "notebook") {
     setExportError(null);
     setExporting(format);
     try {
-      // Exports read the stored derivation: bring it up to date first.
-      if (canEdit && autosave.status.state !== "saved" && !(await autosave.saveNow())) {
-        throw new Error("The latest changes are not saved yet, so the export would miss them. Save, then export again.");
+      // Exports read the stored derivation: wait until it holds what this page shows.
+      if (canEdit && !(await whenServerCurrent())) {
+        throw new Error("The latest edits have not reached the server yet, so the export would miss them. Wait until the page says Saved, then export again.");
       }
       await download(format === "notebook" ? `/api/derivations/${derivationId}/export/notebook` : `/api/derivations/${derivationId}/export?format=${format}`);
       setExportOpen(false);
@@ -260,20 +224,18 @@ export function NotebookPage(props: NotebookPageProps) {
   }
 
   const { evaluateNow } = evaluation;
-  const { saveNow } = autosave;
   useShortcut("e", "Evaluate the derivation now", evaluateNow);
-  useShortcut("s", "Save now", () => void saveNow(), canEdit);
   // Downloads leave the page: chords, so a stray key press cannot start one.
   useShortcut("Alt+Shift+X", "Export the model file (.model.json)", () => void exportFile("model"));
   useShortcut("Alt+Shift+L", "Export the equations as a LaTeX document", () => void exportFile("latex"));
 
-  // The same two actions from inside an editor, where single keys type text.
+  // Evaluation from inside an editor, where single keys type text. Ctrl+S is taken too: edits are stored
+  // as they are typed, and the browser's own "save page" would only confuse.
   useEffect(() => {
     function onKeyDown(event: KeyboardEvent) {
       if (!(event.ctrlKey || event.metaKey) || event.altKey) return;
       if (event.key === "s" || event.key === "S") {
         event.preventDefault();
-        void saveNow();
       } else if (event.key === "Enter") {
         event.preventDefault();
         evaluateNow();
@@ -281,27 +243,30 @@ export function NotebookPage(props: NotebookPageProps) {
     }
     window.addEventListener("keydown", onKeyDown);
     return () => window.removeEventListener("keydown", onKeyDown);
-  }, [saveNow, evaluateNow]);
+  }, [evaluateNow]);
+
+  const title = fields ? titleText(fields.ydoc) : null;
 
   const response = evaluation.response;
 
   return (
-    <article className="space-y-4" data-testid="notebook-page" data-read-only={canEdit ? undefined : "true"}>
+    <article className="space-y-4" data-testid="notebook-page" data-read-only={writable ? undefined : "true"}>
       <header className="space-y-2">
         <Link href={`/teams/${props.teamId}`} className="text-sm text-action hover:underline">
           ← {props.teamName}
         </Link>
         <div className="flex flex-wrap items-center gap-3">
-          {canEdit && props.canRename ? (
+          {canEdit && props.canRename && writable && title && fields ? (
             // The page's one heading holds the editable title, so the notebook still has an h1.
             <h1 className="min-w-0 flex-1">
-              <input
+              {/* The collaboration server's JSON copy carries the title to the dashboard's list. */}
+              <SharedInput
+                text={title}
+                origin={fields.origin}
                 aria-label="Derivation title"
                 data-testid="derivation-title"
                 className="w-full rounded border border-transparent bg-transparent px-1 text-2xl font-semibold hover:border-line focus:border-action focus:outline-none"
-                value={doc.title}
                 maxLength={160}
-                onChange={(event) => setDoc((current) => applyOperation(current, { type: "setTitle", title: event.target.value }))}
               />
             </h1>
           ) : (
@@ -315,9 +280,9 @@ export function NotebookPage(props: NotebookPageProps) {
           <span className="text-muted">
             Owner {props.ownerName ?? "—"} · you are {props.roleLabel.toLowerCase()}
           </span>
-          {canEdit ? (
-            <SaveIndicator status={autosave.status} onRetry={() => void saveNow()} />
-          ) : (
+          <ConnectionStatus connection={shared.connection} editor={canEdit} pending={shared.pending} synced={shared.synced} />
+          <PresenceAvatars peers={shared.peers} />
+          {canEdit ? null : (
             <span
               className={clsx(
                 "rounded border px-2 py-0.5 text-xs",
@@ -344,16 +309,6 @@ export function NotebookPage(props: NotebookPageProps) {
                 }}
               >
                 Simulate
-              </Button>
-            ) : null}
-            {canEdit ? (
-              <Button
-                size="sm"
-                onClick={() => void saveNow()}
-                title="Save now (s, or Ctrl+S)"
-                disabled={autosave.status.state === "saved" || autosave.status.state === "conflict"}
-              >
-                Save now
               </Button>
             ) : null}
             <div className="relative">
@@ -398,7 +353,7 @@ export function NotebookPage(props: NotebookPageProps) {
       </header>
 
       {props.review ? (
-        <ReviewSyncProvider derivationId={derivationId} canEdit={canEdit} autosave={autosave} document={doc}>
+        <ReviewSyncProvider canEdit={canEdit} whenStored={whenServerCurrent}>
           {props.review}
         </ReviewSyncProvider>
       ) : null}
@@ -418,59 +373,15 @@ export function NotebookPage(props: NotebookPageProps) {
         )
       ) : null}
 
-      {notice ? (
-        <p className="flex items-start gap-3 rounded border border-line bg-surface px-3 py-2 text-sm" role="status">
-          <span className="flex-1">{notice}</span>
-          <button type="button" className="text-muted hover:text-ink" aria-label="Dismiss" onClick={() => setNotice(null)}>
-            ×
-          </button>
+      {problem || shared.problem ? (
+        <p className="flex items-start gap-3 rounded border border-seal/60 bg-seal-soft px-3 py-2 text-sm text-ink" role="status" data-testid="shared-problem">
+          <span className="flex-1">{problem ?? `The shared document could not be read: ${shared.problem}. The last readable version is shown.`}</span>
+          {problem ? (
+            <button type="button" className="text-muted hover:text-ink" aria-label="Dismiss" onClick={() => setProblem(null)}>
+              ×
+            </button>
+          ) : null}
         </p>
-      ) : null}
-
-      {autosave.status.state === "conflict" ? (
-        <div className="space-y-2 rounded border border-danger/60 bg-danger-soft px-3 py-2 text-sm" role="alert" data-testid="save-conflict">
-          <p>
-            <strong className="text-danger">Not saved: someone else saved this derivation since you loaded it.</strong> Your copy stays here and in this browser
-            until you choose.
-          </p>
-          <div className="flex flex-wrap gap-2">
-            <Button size="sm" onClick={() => void loadServerVersion()}>
-              Load their version (keep mine aside)
-            </Button>
-            <Button size="sm" variant="danger" onClick={() => void overwriteServerVersion()}>
-              Save mine over theirs
-            </Button>
-          </div>
-        </div>
-      ) : null}
-
-      {recovery ? (
-        <section className="space-y-2 rounded border border-seal/60 bg-seal-soft px-3 py-2 text-sm" aria-label="Recovered copy" data-testid="recovery-panel">
-          <p>{recovery.reason}</p>
-          <details>
-            <summary className="cursor-pointer text-action">Show that copy as a model file</summary>
-            <pre className="mt-2 max-h-64 overflow-auto rounded bg-surface p-2 font-mono text-xs">{modelText(recovery.document)}</pre>
-          </details>
-          <div className="flex flex-wrap gap-2">
-            {canEdit ? (
-              <Button
-                size="sm"
-                onClick={() => {
-                  setDoc(recovery.document);
-                  dismissRecovery();
-                }}
-              >
-                Restore that copy
-              </Button>
-            ) : null}
-            <Button size="sm" onClick={() => void navigator.clipboard?.writeText(modelText(recovery.document))}>
-              Copy
-            </Button>
-            <Button size="sm" variant="ghost" onClick={dismissRecovery}>
-              Discard
-            </Button>
-          </div>
-        </section>
       ) : null}
 
       <EvaluationBar evaluation={evaluation} document={doc} responseMs={response?.requestMs} cached={response?.cached} />
@@ -483,19 +394,21 @@ export function NotebookPage(props: NotebookPageProps) {
       ) : null}
 
       <UploadLimitsProvider limits={props.uploadLimits}>
-        <Notebook
-          document={doc}
-          onChange={(next) => setDoc(next)}
-          results={evaluation.results}
-          stale={evaluation.stale}
-          evaluating={evaluation.evaluating}
-          diagnostics={evaluation.diagnostics}
-          evaluatedModel={evaluation.evaluatedModel}
-          readOnly={!canEdit}
-          derivationId={derivationId}
-          view={view}
-          canStoreRuns={canStoreRuns}
-        />
+        <SharedFieldsProvider value={fields}>
+          <Notebook
+            document={doc}
+            onChange={(_next, op) => applyEdit(op)}
+            results={evaluation.results}
+            stale={evaluation.stale}
+            evaluating={evaluation.evaluating}
+            diagnostics={evaluation.diagnostics}
+            evaluatedModel={evaluation.evaluatedModel}
+            readOnly={!writable}
+            derivationId={derivationId}
+            view={view}
+            canStoreRuns={canStoreRuns}
+          />
+        </SharedFieldsProvider>
         {!hasSimulationCell && ownSimulationOpen ? (
           <OwnSimulation
             ref={ownSimulationRef}
@@ -512,7 +425,7 @@ export function NotebookPage(props: NotebookPageProps) {
       {CELL_SHORTCUTS.map((shortcut) => (
         <HelpEntry key={shortcut.keys} keys={shortcut.keys} description={`${shortcut.description} (focus in the cell)`} />
       ))}
-      <HelpEntry keys="Ctrl+S" description="Save now, also while typing in an editor" enabled={canEdit} />
+      <HelpEntry keys="Ctrl+Z / Ctrl+Shift+Z" description="Undo or redo your own edits, across every cell" enabled={canEdit} />
       <HelpEntry keys="Ctrl+Enter" description="Evaluate now, also while typing in an editor" />
     </article>
   );
@@ -526,59 +439,6 @@ function HelpEntry({ keys, description, enabled = true }: { keys: string; descri
 
 function Spinner() {
   return <span aria-hidden className="inline-block h-3 w-3 animate-spin rounded-full border-2 border-current border-r-transparent" />;
-}
-
-function SaveIndicator({ status, onRetry }: { status: SaveStatus; onRetry: () => void }) {
-  const [now, setNow] = useState(() => Date.now());
-  useEffect(() => {
-    if (status.state !== "retrying") return;
-    const timer = setInterval(() => setNow(Date.now()), 1000);
-    return () => clearInterval(timer);
-  }, [status.state]);
-
-  let text: string;
-  let tone = "text-muted";
-  switch (status.state) {
-    case "saved":
-      text = status.savedAt ? `Saved ${timeFormat.format(new Date(status.savedAt))}` : "Saved";
-      break;
-    case "unsaved":
-      text = "Unsaved changes";
-      break;
-    case "saving":
-      text = "Saving…";
-      break;
-    case "retrying":
-      text = `Save failed (${status.message}). Retrying in ${Math.max(0, Math.ceil((status.retryAt - now) / 1000))} s — your changes are kept in this browser.`;
-      tone = "text-danger";
-      break;
-    case "refused":
-      text = `Not saved: ${status.message} Your changes are kept in this browser.`;
-      tone = "text-danger";
-      break;
-    case "conflict":
-      text = "Not saved: conflict";
-      tone = "text-danger";
-      break;
-  }
-  return (
-    <span className={clsx("flex items-center gap-2", tone)} role="status" aria-live="polite" data-testid="save-status" data-state={status.state}>
-      {status.state === "saving" ? (
-        <Spinner />
-      ) : (
-        <span
-          aria-hidden
-          className={clsx("inline-block h-2 w-2 rounded-full", status.state === "saved" ? "bg-action" : status.state === "unsaved" ? "bg-seal" : "bg-danger")}
-        />
-      )}
-      {text}
-      {status.state === "retrying" || status.state === "refused" ? (
-        <button type="button" className="text-action underline" onClick={onRetry}>
-          Retry now
-        </button>
-      ) : null}
-    </span>
-  );
 }
 
 function EvaluationBar({
@@ -616,7 +476,7 @@ function EvaluationBar({
       ) : results && !evaluating ? (
         <p className="text-xs text-muted">
           {stale
-            ? "Results are from an earlier version; they update when your edits settle."
+            ? "Results are from an earlier version of the document; they update when the edits settle."
             : `Evaluated${cached ? " (from cache)" : ""}${responseMs !== undefined ? ` in ${Math.round(responseMs)} ms` : ""}.`}
         </p>
       ) : null}

@@ -6,12 +6,15 @@
  * placed on the row and column they name.
  */
 import clsx from "clsx";
-import { useEffect, useId, useRef } from "react";
+import { useEffect, useId, useRef, type ComponentProps, type InputHTMLAttributes } from "react";
 import { ROW_LIMITS, emptyRow, rowLimitText, type AnyRow, type DocumentOperation, type DocumentSymbols, type TableCell } from "@/lib/notebook/document";
 import { spellGreekLetters } from "@/lib/mechanics/browser";
 import { checkParameterValue, checkSymbolName, checkUnitSyntax, type FieldCheck } from "@/lib/notebook/field-checks";
 import { previewLatex, symbolLatex } from "@/lib/notebook/latex-preview";
 import { toEditorDiagnostic, type LocatedDiagnostic } from "@/lib/notebook/results";
+import { useSharedField, useSharedFields } from "@/components/collab/shared-context";
+import { SharedInput } from "@/components/collab/shared-text-input";
+import { carryForceOnRename } from "@/components/collab/carry-force";
 import { ExpressionEditor } from "./editor/expression-editor";
 import { MathView } from "./math";
 
@@ -151,7 +154,9 @@ export function TableCellEditor({ cell, symbols, duplicateNames, diagnostics = [
                     if (column === "expr") {
                       return (
                         <td key={column} className="px-1 py-1">
-                          <ExpressionEditor
+                          <DefinitionExpression
+                            cellId={cell.id}
+                            rowId={row.id}
                             label={`Expression of ${row.name.trim() || `${noun} ${rowIndex + 1}`}`}
                             value={value}
                             onChange={(next) => update(row.id, "expr", next)}
@@ -172,7 +177,11 @@ export function TableCellEditor({ cell, symbols, duplicateNames, diagnostics = [
                     }
                     return (
                       <td key={column} className="px-1 py-1">
-                        <input
+                        <TableField
+                          cellId={cell.id}
+                          rowId={row.id}
+                          column={column}
+                          renamesCoordinate={cell.kind === "coordinates" && column === "name"}
                           id={fieldId}
                           className={clsx(
                             "w-full rounded border bg-paper px-2 py-1 text-ink outline-none focus:border-action placeholder:font-sans placeholder:text-[13px] placeholder:italic placeholder:text-muted/70",
@@ -188,7 +197,7 @@ export function TableCellEditor({ cell, symbols, duplicateNames, diagnostics = [
                           spellCheck={column === "description"}
                           autoComplete="off"
                           inputMode={column === "value" ? "decimal" : undefined}
-                          onChange={(event) => update(row.id, column, column === "name" ? spellGreekLetters(event.target.value) : event.target.value)}
+                          onValue={(text) => update(row.id, column, column === "name" ? spellGreekLetters(text) : text)}
                         />
                         {messages.length > 0 && (
                           <p id={`${fieldId}-error`} className="mt-0.5 text-xs text-danger" role="status">
@@ -249,4 +258,43 @@ function ConstraintPreview({ expr }: { expr: string }) {
   const body = previewLatex(expr);
   if (!body) return null;
   return <MathView latex={`${body} = 0`} display className="text-sm text-ink" />;
+}
+
+type FieldProps = Omit<InputHTMLAttributes<HTMLInputElement>, "onChange"> & { value: string };
+
+/**
+ * One text field of a row: bound to its Y.Text in a shared document (typing
+ * merges with everyone else's), a controlled input otherwise. A name field
+ * reads a typed Greek letter as its name, and renaming a coordinate carries its
+ * generalized force along, as the document operation does.
+ */
+function TableField({
+  cellId,
+  rowId,
+  column,
+  renamesCoordinate,
+  onValue,
+  ...input
+}: FieldProps & { cellId: string; rowId: string; column: Column; renamesCoordinate: boolean; onValue: (text: string) => void }) {
+  const shared = useSharedField(cellId, ["rows", rowId, column]);
+  const fields = useSharedFields();
+  if (shared && fields) {
+    const { value: _value, ...rest } = input;
+    return (
+      <SharedInput
+        {...rest}
+        text={shared.text}
+        origin={shared.origin}
+        transformInsert={column === "name" ? spellGreekLetters : undefined}
+        onEdit={renamesCoordinate ? (before, after) => carryForceOnRename(fields.ydoc, before, after) : undefined}
+      />
+    );
+  }
+  return <input {...input} onChange={(event) => onValue(event.target.value)} />;
+}
+
+/** A definition's expression: the expression editor, bound to the row's Y.Text in a shared document. */
+function DefinitionExpression({ cellId, rowId, ...props }: ComponentProps<typeof ExpressionEditor> & { cellId: string; rowId: string }) {
+  const shared = useSharedField(cellId, ["rows", rowId, "expr"]);
+  return <ExpressionEditor {...props} shared={shared ?? undefined} />;
 }

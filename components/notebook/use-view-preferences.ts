@@ -4,7 +4,7 @@
  * This person's own view of the derivation (lib/notebook/view-preferences.ts):
  * the choices apply at once on this page and are stored for the person a
  * moment later through their own route. They never touch the document, so
- * they never autosave it, never re-evaluate it and never change who last
+ * they never edit it, never re-evaluate it and never change who last
  * edited it; anyone who may read the derivation may make them.
  */
 import { useCallback, useEffect, useRef, useState } from "react";

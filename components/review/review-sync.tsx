@@ -1,22 +1,17 @@
 "use client";
 
 /**
- * Keeps the notebook's autosave in step with review steps. A review request
- * captures the content the server holds, so the notebook's edits are saved
- * first; and every step (request, decision, approval, unlock) moves the
- * derivation's record on, so afterwards autosave continues from the server's
- * new version instead of reporting a conflict with itself.
+ * Keeps review steps in step with the shared document. A review request
+ * captures the content the server holds, so before a step the notebook's edits
+ * must be stored (and the server's JSON copy current); a step that cannot wait
+ * for that is refused with the reason instead of capturing an older version.
  */
-import canonicalize from "canonicalize";
 import { createContext, useContext, useEffect, useMemo, useRef, type ReactNode } from "react";
-import { apiFetch } from "@/lib/api/fetcher";
-import type { DerivationJson } from "@/lib/derivations/views";
-import { parseStoredDocument, type DerivationDocument } from "@/lib/notebook/document";
 
 export interface ReviewSync {
-  /** Saves the notebook's pending edits; `ok: false` says why they could not be saved. */
+  /** Waits for the notebook's edits to be stored; `ok: false` says why they are not. */
   prepare: () => Promise<{ ok: true } | { ok: false; message: string }>;
-  /** After a step: continue autosave from the server's version when it holds what this page shows. */
+  /** After a step (the page is refreshed from the server afterwards). */
   settle: () => Promise<void>;
 }
 
@@ -28,49 +23,35 @@ export function useReviewSync(): ReviewSync {
   return useContext(ReviewSyncContext);
 }
 
-interface AutosaveHandle {
-  saveNow: () => Promise<boolean>;
-  reset: (serverDocument: DerivationDocument, serverUpdatedAt: string) => void;
-}
+export const NOT_STORED_MESSAGE =
+  "Your latest edits have not reached the server yet, so this step would miss them. Wait until the page says Saved (see the connection status above), then try again.";
 
 export function ReviewSyncProvider({
-  derivationId,
   canEdit,
-  autosave,
-  document,
+  whenStored,
   children,
 }: {
-  derivationId: string;
   canEdit: boolean;
-  autosave: AutosaveHandle;
-  document: DerivationDocument;
+  /** Resolves true once the server holds everything this page shows (edits stored, JSON copy current). */
+  whenStored: () => Promise<boolean>;
   children: ReactNode;
 }) {
-  const latest = useRef({ canEdit, autosave, document });
+  const latest = useRef({ canEdit, whenStored });
   useEffect(() => {
-    latest.current = { canEdit, autosave, document };
+    latest.current = { canEdit, whenStored };
   });
 
   const sync = useMemo<ReviewSync>(
     () => ({
       async prepare() {
         if (!latest.current.canEdit) return { ok: true };
-        if (await latest.current.autosave.saveNow()) return { ok: true };
-        return {
-          ok: false,
-          message: "Your latest changes are not saved yet, so this step would miss them. Save them (see the save status above), then try again.",
-        };
+        return (await latest.current.whenStored()) ? { ok: true } : { ok: false, message: NOT_STORED_MESSAGE };
       },
       async settle() {
-        const { derivation } = await apiFetch<{ derivation: DerivationJson }>(`/api/derivations/${derivationId}`);
-        const stored = parseStoredDocument(derivation.content, { title: derivation.title });
-        // Someone else's edit in between stays a conflict for the notebook to show.
-        if (stored.ok && canonicalize(stored.document) === canonicalize(latest.current.document)) {
-          latest.current.autosave.reset(stored.document, derivation.updatedAt);
-        }
+        // Nothing to reconcile: the shared document carries on, and the page re-reads status and lock.
       },
     }),
-    [derivationId],
+    [],
   );
 
   return <ReviewSyncContext.Provider value={sync}>{children}</ReviewSyncContext.Provider>;

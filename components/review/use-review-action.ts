@@ -16,9 +16,9 @@ interface ReviewStep {
 }
 
 /**
- * One review step against the API: the notebook's edits are saved first, the
- * request is sent, autosave is brought up to the server's new version, and the
- * page is refreshed so status, lock and permissions come from the server again.
+ * One review step against the API: the step waits until the notebook's edits
+ * are stored, the request is sent, and the page is refreshed so status, lock
+ * and permissions come from the server again.
  */
 export function useReviewAction(derivationId: string) {
   const router = useRouter();

@@ -12,7 +12,7 @@ function fieldErrorsOf(issues: DocumentIssue[], field: string): FieldErrors {
 }
 
 /**
- * The one gate for content written to a derivation (create, update, autosave,
+ * The one gate for content written to a derivation (create, update, the shared document's JSON copy,
  * import, fits, seed): a document of any schema version (a pre-notebook model
  * file is version 0) in, the migrated and validated document out. Throws a 400
  * with field errors keyed `<field>.<path>` (`content.cells[2].rows[0].name`), or
@@ -47,6 +47,11 @@ export function documentFromContent(content: unknown, title: string): Derivation
 }
 
 /** A ModelError as the JSON body the editors underline from (field, column, length, code). */
+/** The document a request works on: the one it posted (the page's current content), else the stored one. */
+export function documentForRequest(posted: unknown, derivation: { content: unknown; title: string }): DerivationDocument {
+  return posted !== undefined ? validDocumentOrThrow(posted) : documentFromContent(derivation.content, derivation.title);
+}
+
 export function modelErrorToAppError(error: ModelError): AppError {
   return new AppError("unprocessable:model", error.toLine(), {
     fieldErrors: { [error.field]: [error.message] },

@@ -25,6 +25,7 @@ test("an analyst enters a double pendulum, evaluates it, exports the model file 
 
   const notebook = new NotebookPage(page);
   await notebook.expectOpen();
+  await notebook.waitUntilEditable();
   await expect(page.getByTestId("derivation-title")).toHaveValue(title);
 
   await notebook.addRow("coordinate", { Name: "theta1", Unit: "rad" });
@@ -45,7 +46,7 @@ test("an analyst enters a double pendulum, evaluates it, exports the model file 
   await notebook.typeExpression("Kinetic energy T", "1/2*m1*(x1'^2 + y1'^2) + 1/2*m2*(x2'^2 + y2'^2)");
   await notebook.typeExpression("Potential energy V", "m1*g*y1 + m2*g*y2");
 
-  // Autosave reaches "saved" on its own; Evaluate shows the equations.
+  // Every edit is stored as it is typed ("Saved" once the server confirms); Evaluate shows the equations.
   await notebook.waitUntilSaved();
   await notebook.evaluate();
   const equations = await notebook.equationTexts();
@@ -108,7 +109,7 @@ test("an analyst enters a double pendulum, evaluates it, exports the model file 
   await expect(page.getByTestId("derivations-total")).toHaveText(before!);
 });
 
-test("a viewer reads a derivation but cannot edit it, and the API refuses the viewer's save", async ({ page }) => {
+test("a viewer reads a derivation but cannot edit it, and sends no document write", async ({ page }) => {
   await page.setViewportSize({ width: 1280, height: 800 });
   const signIn = new SignInPage(page);
   await signIn.goto();
@@ -123,12 +124,12 @@ test("a viewer reads a derivation but cannot edit it, and the API refuses the vi
 
   const saves: string[] = [];
   page.on("request", (request) => {
-    if (request.method() !== "GET" && /\/api\/derivations\/[^/]+(\/content)?$/.test(new URL(request.url()).pathname)) saves.push(request.url());
+    if (request.method() !== "GET" && /\/api\/derivations\/[^/]+$/.test(new URL(request.url()).pathname)) saves.push(request.url());
   });
 
   await expect(page.getByTestId("read-only-badge")).toBeVisible();
-  await expect(page.getByTestId("save-status")).toHaveCount(0);
-  await expect(page.getByRole("button", { name: "Save now" })).toHaveCount(0);
+  // Connected to the shared document as a reader: live, and no claim about saving.
+  await expect(notebook.connectionStatus).toHaveAttribute("data-state", "live", { timeout: 20_000 });
   await expect(page.getByRole("button", { name: "Add cell" })).toHaveCount(0);
   const name = page.getByRole("textbox", { name: "Name, coordinate 1" });
   await expect(name).toHaveAttribute("readonly", "");
@@ -147,8 +148,8 @@ test("a viewer reads a derivation but cannot edit it, and the API refuses the vi
   await keepScreenshot(page, "notebook-viewer-read-only");
   expect(saves).toEqual([]);
 
-  // The server refuses the viewer's content save.
-  const response = await page.request.put(`/api/derivations/${notebook.id}/content`, { data: { document: { schemaVersion: 1, title: "x", cells: [] } } });
+  // The server refuses the viewer's rename (collab.spec.ts shows a viewer's typing reaches no one).
+  const response = await page.request.patch(`/api/derivations/${notebook.id}`, { data: { title: "x" } });
   expect(response.status()).toBe(403);
   expect(await response.json()).toMatchObject({ error: { code: "forbidden:derivation" } });
 });

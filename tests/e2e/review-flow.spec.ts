@@ -102,10 +102,7 @@ test("review, approval, lock and unlock, then the comparison and the report", as
   await expect(page.getByRole("textbox", { name: "Derivation title" })).toHaveCount(0);
   await expect(page.getByRole("button", { name: "+ Add parameter" })).toHaveCount(0);
   await screenshots(page, "locked-notebook");
-  const record = await (await page.request.get(`/api/derivations/${id}`)).json();
-  const refused = await page.request.put(`/api/derivations/${id}/content`, {
-    data: { document: { ...record.derivation.content, title: "Edited while locked" } },
-  });
+  const refused = await page.request.patch(`/api/derivations/${id}`, { data: { title: "Edited while locked" } });
   expect(refused.status()).toBe(423);
   expect((await refused.json()).error.code).toBe("locked:derivation");
 

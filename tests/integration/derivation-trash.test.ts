@@ -2,7 +2,6 @@ import { afterAll, beforeAll, beforeEach, describe, expect, it, vi } from "vites
 
 vi.mock("@/lib/auth/session", async () => (await import("./support/session")).sessionModule);
 
-import * as derivationContentRoute from "@/app/api/derivations/[id]/content/route";
 import * as exportRoute from "@/app/api/derivations/[id]/export/route";
 import * as derivationFilesRoute from "@/app/api/derivations/[id]/files/route";
 import * as derivationRoute from "@/app/api/derivations/[id]/route";
@@ -136,7 +135,6 @@ describe("deleting a derivation", () => {
     expect(await listedIds()).not.toContain(own.id);
     const id = own.id;
     const answers = [
-      await derivationContentRoute.PUT(jsonRequest(`/api/derivations/${id}/content`, "PUT", { document: own.content }), params({ id })),
       await exportRoute.GET(jsonRequest(`/api/derivations/${id}/export?format=model`, "GET"), params({ id })),
       await derivationFilesRoute.GET(jsonRequest(`/api/derivations/${id}/files`, "GET"), params({ id })),
       await runsRoute.GET(jsonRequest(`/api/derivations/${id}/runs`, "GET"), params({ id })),
@@ -144,7 +142,7 @@ describe("deleting a derivation", () => {
       await derivationRoute.PATCH(jsonRequest(`/api/derivations/${id}`, "PATCH", { title: "Renamed in the trash" }), params({ id })),
       await remove(id),
     ];
-    expect(answers.map((response) => response.status)).toEqual([404, 404, 404, 404, 404, 404, 404]);
+    expect(answers.map((response) => response.status)).toEqual([404, 404, 404, 404, 404, 404]);
 
     const trash = await (await trashList()).json();
     expect(trash.retentionDays).toBe(TRASH_RETENTION_DAYS);

@@ -9,7 +9,6 @@ import { afterAll, beforeAll, beforeEach, describe, expect, it, vi } from "vites
 vi.mock("@/lib/auth/session", async () => (await import("./support/session")).sessionModule);
 
 import DerivationPage from "@/app/(app)/derivations/[id]/page";
-import * as contentRoute from "@/app/api/derivations/[id]/content/route";
 import * as evaluateRoute from "@/app/api/derivations/[id]/evaluate/route";
 import * as exportRoute from "@/app/api/derivations/[id]/export/route";
 import * as recoveredModelRoute from "@/app/api/derivations/[id]/recovered-model/route";
@@ -18,9 +17,11 @@ import * as importRoute from "@/app/api/teams/[teamId]/derivations/import/route"
 import * as teamDerivationsRoute from "@/app/api/teams/[teamId]/derivations/route";
 import { closeDatabase } from "@/db/client";
 import { getDerivationById } from "@/db/queries/derivations";
+import { AppError } from "@/lib/errors";
 import type { Model } from "@/lib/mechanics";
 import { DEFAULT_SIMULATION_SETTINGS, DOCUMENT_SCHEMA_VERSION, modelToDocument, type DerivationDocument } from "@/lib/notebook/document";
 import { closeEnginePool } from "@/lib/workers/engine-pool";
+import { storeContentAs } from "./support/content";
 import { jsonRequest, makeTeam, params, resetDatabase, storeRawContent, type TeamFixture } from "./support/fixtures";
 import { signInAs, signOut } from "./support/session";
 
@@ -62,10 +63,6 @@ async function total(): Promise<number> {
 
 function patch(id: string, body: Json) {
   return derivationRoute.PATCH(jsonRequest(`/api/derivations/${id}`, "PATCH", body), params({ id }));
-}
-
-function save(id: string, body: Json) {
-  return contentRoute.PUT(jsonRequest(`/api/derivations/${id}/content`, "PUT", body), params({ id }));
 }
 
 function recovered(id: string) {
@@ -141,19 +138,20 @@ describe("writing content", () => {
     expect(((await storedContent(derivation.id)) as DerivationDocument).schemaVersion).toBe(DOCUMENT_SCHEMA_VERSION);
   });
 
-  it("autosave refuses bad content (400) and a newer document (422), and stores an older one migrated", async () => {
+  it("the stored JSON copy refuses bad content (400) and a newer document (422), and stores an older one migrated", async () => {
     const derivation = await created({ title: "Bogie", content: modelToDocument(bogie) });
-    const bad = await errorOf(
-      await save(derivation.id, {
-        document: { schemaVersion: DOCUMENT_SCHEMA_VERSION, title: "x", cells: [{ id: "s", collapsed: false, kind: "simulation", settings: { endTime: 4 } }] },
-      }),
-      400,
+    const analyst = kestrel.members.analyst;
+    const bad = { schemaVersion: DOCUMENT_SCHEMA_VERSION, title: "x", cells: [{ id: "s", collapsed: false, kind: "simulation", settings: { endTime: 4 } }] };
+    const refused = await storeContentAs(analyst, derivation.id, bad).catch((error: unknown) => error);
+    expect(refused).toBeInstanceOf(AppError);
+    expect((refused as AppError).status).toBe(400);
+    expect(Object.keys((refused as AppError).fieldErrors ?? {}).every((key) => key.startsWith("document.cells[0].settings"))).toBe(true);
+    const newer = await storeContentAs(analyst, derivation.id, { ...modelToDocument(bogie), schemaVersion: DOCUMENT_SCHEMA_VERSION + 1 }).catch(
+      (error: unknown) => error,
     );
-    expect(Object.keys(bad.fieldErrors).every((key) => key.startsWith("document.cells[0].settings"))).toBe(true);
-    const newer = await errorOf(await save(derivation.id, { document: { ...modelToDocument(bogie), schemaVersion: DOCUMENT_SCHEMA_VERSION + 1 } }), 422);
-    expect(newer.fieldErrors["document.schemaVersion"]).toHaveLength(1);
+    expect((newer as AppError).status).toBe(422);
 
-    expect((await save(derivation.id, { document: fixture("version-1-notebook.json") })).status).toBe(200);
+    expect((await storeContentAs(analyst, derivation.id, fixture("version-1-notebook.json"))).status).toBe("saved");
     expect(((await storedContent(derivation.id)) as DerivationDocument).schemaVersion).toBe(DOCUMENT_SCHEMA_VERSION);
   });
 

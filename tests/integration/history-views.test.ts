@@ -3,7 +3,6 @@ import { afterAll, beforeAll, beforeEach, describe, expect, it, vi } from "vites
 vi.mock("@/lib/auth/session", async () => (await import("./support/session")).sessionModule);
 
 import * as approveRoute from "@/app/api/derivations/[id]/approve/route";
-import * as contentRoute from "@/app/api/derivations/[id]/content/route";
 import * as reviewDecisionRoute from "@/app/api/derivations/[id]/review/decision/route";
 import * as reviewRoute from "@/app/api/derivations/[id]/review/route";
 import * as runsRoute from "@/app/api/derivations/[id]/runs/route";
@@ -18,6 +17,7 @@ import { modelToDocument, type DerivationDocument } from "@/lib/notebook/documen
 import { reviewPanelData } from "@/lib/review/panel-data";
 import { closeEnginePool } from "@/lib/workers/engine-pool";
 import { closeSimulationPool } from "@/lib/workers/simulation-pool";
+import { storeContentAs } from "./support/content";
 import { jsonRequest, makeTeam, params, resetDatabase, type TeamFixture } from "./support/fixtures";
 import { signInAs, signOut } from "./support/session";
 
@@ -61,8 +61,7 @@ async function post(
 }
 
 async function save(user: SessionUser, id: string, document: DerivationDocument) {
-  const response = await as(user, () => contentRoute.PUT(jsonRequest(`/api/derivations/${id}/content`, "PUT", { document }), params({ id })));
-  expect(response.status).toBe(200);
+  expect((await storeContentAs(user, id, document)).status).toBe("saved");
 }
 
 async function reload(id: string): Promise<Derivation> {

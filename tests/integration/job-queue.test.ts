@@ -12,7 +12,7 @@ import { createDerivation } from "@/db/queries/derivations";
 import { getJobById } from "@/db/queries/jobs";
 import { closeJobQueue } from "@/lib/jobs/boss";
 import type { JobJson } from "@/lib/jobs/views";
-import type { Model } from "@/lib/mechanics/model";
+import type { Model } from "@/lib/mechanics";
 import { modelToDocument } from "@/lib/notebook/document";
 import type { RunJson } from "@/lib/runs/views";
 import { jsonRequest, makeTeam, params, resetDatabase, type TeamFixture } from "./support/fixtures";

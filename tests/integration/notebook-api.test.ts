@@ -3,11 +3,9 @@ import { afterAll, beforeAll, beforeEach, describe, expect, it, vi } from "vites
 vi.mock("@/lib/auth/session", async () => (await import("./support/session")).sessionModule);
 
 import * as codeRoute from "@/app/api/derivations/[id]/code/route";
-import * as contentRoute from "@/app/api/derivations/[id]/content/route";
 import * as evaluateRoute from "@/app/api/derivations/[id]/evaluate/route";
 import * as exportRoute from "@/app/api/derivations/[id]/export/route";
 import * as linearizeRoute from "@/app/api/derivations/[id]/linearize/route";
-import * as derivationRoute from "@/app/api/derivations/[id]/route";
 import * as importRoute from "@/app/api/teams/[teamId]/derivations/import/route";
 import * as teamDerivationsRoute from "@/app/api/teams/[teamId]/derivations/route";
 import { closeDatabase } from "@/db/client";
@@ -53,10 +51,6 @@ async function createWithDocument(fixture: TeamFixture, document: DerivationDocu
 
 function evaluate(id: string, body?: unknown) {
   return evaluateRoute.POST(jsonRequest(`/api/derivations/${id}/evaluate`, "POST", body), params({ id }));
-}
-
-function saveContent(id: string, body: unknown) {
-  return contentRoute.PUT(jsonRequest(`/api/derivations/${id}/content`, "PUT", body), params({ id }));
 }
 
 function importJson(fixture: TeamFixture, body: unknown) {
@@ -187,54 +181,6 @@ describe("POST /api/derivations/[id]/linearize", () => {
     expect(linearization.selected.modes.some((mode: { hertz: number | null }) => mode.hertz !== null && Math.abs(mode.hertz - expectedHz) < 1e-6)).toBe(true);
     expect(linearization.selected.A).toHaveLength(4);
     expect(linearization.selected.B[2]).toHaveLength(1);
-  });
-});
-
-describe("PUT /api/derivations/[id]/content", () => {
-  it("refuses a viewer and a reviewer with 403, and another team with 404", async () => {
-    const derivation = await createWithDocument(kestrel, modelToDocument(seatModel()));
-    for (const role of ["viewer", "reviewer"] as const) {
-      signInAs(kestrel.members[role]);
-      const response = await saveContent(derivation.id, { document: derivation.content });
-      expect(response.status).toBe(403);
-      expect((await response.json()).error.code).toBe("forbidden:derivation");
-    }
-    signInAs(otherTeam.members.lead);
-    expect((await saveContent(derivation.id, { document: derivation.content })).status).toBe(404);
-  });
-
-  it("saves with the base updatedAt, records who saved, and answers 409 to a stale copy", async () => {
-    const derivation = await createWithDocument(kestrel, modelToDocument(seatModel()));
-    const edited = { ...derivation.content, title: "Seat rig, vertical (softer spring)" };
-    signInAs(kestrel.members.lead);
-    const first = await saveContent(derivation.id, { document: edited, baseUpdatedAt: derivation.updatedAt });
-    expect(first.status).toBe(200);
-    const saved = await first.json();
-    expect(saved.updatedById).toBe(kestrel.members.lead.id);
-    expect(new Date(saved.updatedAt).getTime()).toBeGreaterThanOrEqual(new Date(derivation.updatedAt).getTime());
-
-    signInAs(kestrel.members.analyst);
-    const stale = await saveContent(derivation.id, { document: derivation.content, baseUpdatedAt: derivation.updatedAt });
-    expect(stale.status).toBe(409);
-    const conflict = await stale.json();
-    expect(conflict.error.code).toBe("conflict:derivation");
-    expect(conflict.error.details.updatedAt).toBe(saved.updatedAt);
-
-    const read = await (await derivationRoute.GET(jsonRequest(`/api/derivations/${derivation.id}`, "GET"), params({ id: derivation.id }))).json();
-    expect(read.derivation.content.title).toBe("Seat rig, vertical (softer spring)");
-    expect(read.derivation.updatedById).toBe(kestrel.members.lead.id);
-
-    const next = await saveContent(derivation.id, { document: derivation.content, baseUpdatedAt: saved.updatedAt });
-    expect(next.status).toBe(200);
-  });
-
-  it("answers 400 with the path of a malformed document", async () => {
-    const derivation = await createWithDocument(kestrel, modelToDocument(seatModel()));
-    const bad = { ...derivation.content, cells: [{ ...derivation.content.cells[0], kind: "teapot" }] };
-    const response = await saveContent(derivation.id, { document: bad });
-    expect(response.status).toBe(400);
-    const body = await response.json();
-    expect(Object.keys(body.error.fieldErrors).some((key) => key.startsWith("document.cells[0]"))).toBe(true);
   });
 });
 

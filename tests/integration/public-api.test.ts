@@ -7,7 +7,6 @@ import { afterAll, beforeAll, beforeEach, describe, expect, it, vi } from "vites
 vi.mock("@/lib/auth/session", async () => (await import("./support/session")).sessionModule);
 
 import * as approveRoute from "@/app/api/derivations/[id]/approve/route";
-import * as contentRoute from "@/app/api/derivations/[id]/content/route";
 import * as reviewDecisionRoute from "@/app/api/derivations/[id]/review/decision/route";
 import * as reviewRoute from "@/app/api/derivations/[id]/review/route";
 import * as unlockRoute from "@/app/api/derivations/[id]/unlock/route";
@@ -29,6 +28,7 @@ import { CODE_EXPORT_LANGUAGES, modelToDocument, type DerivationDocument } from 
 import openapi from "@/lib/public-api/openapi.json";
 import { approvedDerivation } from "@/lib/public-api/approved";
 import { closeEnginePool } from "@/lib/workers/engine-pool";
+import { storeContentAs } from "./support/content";
 import { jsonRequest, makeTeam, params, resetDatabase, type TeamFixture } from "./support/fixtures";
 import { signInAs, signOut } from "./support/session";
 
@@ -67,8 +67,7 @@ async function asUser<T>(user: SessionUser, call: () => Promise<T>): Promise<T> 
 }
 
 async function saveAs(user: SessionUser, id: string, document: DerivationDocument) {
-  const response = await asUser(user, () => contentRoute.PUT(jsonRequest(`/api/derivations/${id}/content`, "PUT", { document }), params({ id })));
-  expect(response.status).toBe(200);
+  expect((await storeContentAs(user, id, document)).status).toBe("saved");
 }
 
 /** The real flow: the analyst's changes, a review request, the reviewer's sign-off, the lead's approval. */

@@ -9,10 +9,16 @@
  * The EditorView is built when the editor comes near the viewport (or gets
  * the focus); until then the text shows as plain, focusable monospace, so a
  * notebook with dozens of expressions renders quickly.
+ *
+ * With `shared`, the editor is bound to a Y.Text of the shared document
+ * instead: it starts from the text, edits flow through it (`value` and
+ * `onChange` are then only the document's copy), and it exists only while on
+ * screen or focused, since every bound editor listens to everyone's cursors.
  */
 import { useEffect, useId, useLayoutEffect, useRef, useState } from "react";
 import { useNearViewport } from "../use-near-viewport";
 import type { DocumentSymbols } from "@/lib/notebook/document";
+import type { SharedField } from "./collab";
 import type { ExpressionDiagnostic } from "./context";
 import type { ExpressionViewHandle, ShownDiagnostic } from "./expression-view";
 
@@ -39,6 +45,10 @@ export interface ExpressionEditorProps {
   lintDelay?: number;
   onEnter?: () => void;
   onBlur?: () => void;
+  /** The editor (or its plain-text stand-in) got the focus. */
+  onFocus?: () => void;
+  /** Bound to the shared document (see above). */
+  shared?: SharedField;
   className?: string;
   "data-testid"?: string;
 }
@@ -48,10 +58,15 @@ export function ExpressionEditor(props: ExpressionEditorProps) {
   const wrapperRef = useRef<HTMLDivElement>(null);
   const hostRef = useRef<HTMLDivElement>(null);
   const viewRef = useRef<ExpressionViewHandle | null>(null);
-  const near = useNearViewport(wrapperRef);
+  // The view is rebuilt while focused (its shared text was replaced): give the new one the focus back.
+  const refocus = useRef(false);
+  const shared = props.shared;
+  const near = useNearViewport(wrapperRef, "400px", { sticky: !shared });
   const [focusRequested, setFocusRequested] = useState(false);
+  const [focused, setFocused] = useState(false);
   const [mounted, setMounted] = useState(false);
-  const active = near || focusRequested;
+  const active = shared ? near || focused || focusRequested : near || focusRequested;
+  const sharedText = shared?.text;
   const callbacks = useRef({ onChange: props.onChange, onEnter: props.onEnter, onBlur: props.onBlur });
   // The latest props, read when the lazily loaded view is created (its options are fixed from then on).
   const latestProps = { ...props, value, label, symbols, diagnostics, diagnosticsFor, readOnly, focusRequested };
@@ -88,6 +103,7 @@ export function ExpressionEditor(props: ExpressionEditorProps) {
         checkSymbols: now.checkSymbols ?? now.symbols !== undefined,
         lintDelay: now.lintDelay,
         readOnly: now.readOnly,
+        shared: now.shared,
         onChange: (text) => callbacks.current.onChange(text),
         onEnter: () => callbacks.current.onEnter?.(),
         onBlur: () => callbacks.current.onBlur?.(),
@@ -96,15 +112,23 @@ export function ExpressionEditor(props: ExpressionEditorProps) {
       viewRef.current = handle;
       setMounted(true);
       // Focus came to the plain-text stand-in: continue at the end of the text.
-      if (now.focusRequested) handle.focusAtEnd();
+      if (now.focusRequested || refocus.current) {
+        refocus.current = false;
+        handle.focusAtEnd();
+        // A shared editor stays while focused; after that, only while on screen.
+        if (now.shared) setFocusRequested(false);
+      }
     });
     return () => {
       cancelled = true;
+      refocus.current = Boolean(handle && host.contains(host.ownerDocument.activeElement));
       handle?.destroy();
       viewRef.current = null;
+      setMounted(false);
     };
-    // Built once, when `active` turns true (it never turns back); the effects below follow prop changes.
-  }, [active, messagesId]);
+    // Built when `active` turns true (again, for a shared editor back on screen) or the shared text is another;
+    // the effects below follow other prop changes.
+  }, [active, messagesId, sharedText]);
 
   useEffect(() => {
     viewRef.current?.setValue(value);
@@ -127,7 +151,18 @@ export function ExpressionEditor(props: ExpressionEditorProps) {
   }, [label, messagesId]);
 
   return (
-    <div ref={wrapperRef} className={props.className} data-testid={props["data-testid"]}>
+    <div
+      ref={wrapperRef}
+      className={props.className}
+      data-testid={props["data-testid"]}
+      onFocus={() => {
+        setFocused(true);
+        props.onFocus?.();
+      }}
+      onBlur={(event) => {
+        if (!event.currentTarget.contains(event.relatedTarget as Node | null)) setFocused(false);
+      }}
+    >
       {!mounted && (
         <div
           className="overflow-hidden rounded border border-line bg-surface px-2 py-1.5 font-mono text-[0.95rem] whitespace-pre text-ink"

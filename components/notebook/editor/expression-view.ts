@@ -8,6 +8,7 @@ import { EditorView } from "@codemirror/view";
 import { forEachDiagnostic, forceLinting, setDiagnosticsEffect } from "@codemirror/lint";
 import type { DocumentSymbols } from "@/lib/notebook/document";
 import { pageNonce } from "@/lib/security/page-nonce";
+import type { SharedField } from "./collab";
 import { EMPTY_SYMBOLS, setServerDiagnosticsEffect, setSymbolsEffect, type ExpressionDiagnostic } from "./context";
 import { expressionExtensions } from "./extensions";
 
@@ -35,6 +36,11 @@ export interface ExpressionViewOptions {
   checkSymbols: boolean;
   lintDelay?: number;
   readOnly: boolean;
+  /**
+   * Bound to a Y.Text of the shared document: the editor starts from the text's
+   * content, and edits (this person's and everyone else's) flow through it.
+   */
+  shared?: SharedField;
   onChange: (value: string) => void;
   onEnter: () => void;
   onBlur: () => void;
@@ -66,7 +72,8 @@ export function createExpressionView(options: ExpressionViewOptions): Expression
   const view = new EditorView({
     parent: options.parent,
     state: EditorState.create({
-      doc: options.value,
+      // A fresh state from the shared text itself: the binding assumes the editor starts equal to it.
+      doc: options.shared ? options.shared.text.toString() : options.value,
       extensions: [
         // First, so it outranks the label expressionExtensions sets: CodeMirror keeps the
         // highest-precedence value of an attribute, and this compartment follows `label`.
@@ -82,6 +89,7 @@ export function createExpressionView(options: ExpressionViewOptions): Expression
           checkSymbols: options.checkSymbols,
           lintDelay: options.lintDelay,
           onEnter: options.onEnter,
+          shared: options.shared,
         }),
         readOnlyCompartment.of(readOnlyExtensions(options.readOnly)),
         // CodeMirror's theme goes into a <style> element, which the page's policy allows only with its nonce.
@@ -103,7 +111,8 @@ export function createExpressionView(options: ExpressionViewOptions): Expression
 
   return {
     setValue(value) {
-      if (view.state.doc.toString() === value) return;
+      // A shared editor follows its Y.Text; the document's copy of the text arrives a frame later.
+      if (options.shared || view.state.doc.toString() === value) return;
       view.dispatch({
         changes: { from: 0, to: view.state.doc.length, insert: value },
         annotations: [external.of(true), Transaction.addToHistory.of(false)],

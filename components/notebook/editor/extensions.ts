@@ -6,6 +6,8 @@ import { closeBrackets, closeBracketsKeymap, completionKeymap } from "@codemirro
 import { defaultKeymap, history, historyKeymap } from "@codemirror/commands";
 import { EditorState, Prec, type Extension } from "@codemirror/state";
 import { EditorView, keymap, placeholder as placeholderText } from "@codemirror/view";
+import { ySyncAnnotation } from "y-codemirror.next";
+import { sharedFieldExtensions, type SharedField } from "./collab";
 import { symbolCompletion } from "./completion";
 import { editorContext, type ServerDiagnostics } from "./context";
 import { expressionDiagnostics, type LocalCheckOptions } from "./diagnostics";
@@ -20,7 +22,8 @@ import { spellGreekLetters } from "@/lib/mechanics/browser";
 export function singleLine(onEnter?: (view: EditorView) => void): Extension[] {
   return [
     EditorState.transactionFilter.of((tr) => {
-      if (!tr.docChanged || tr.newDoc.lines === 1) return tr;
+      // Someone else's edit, already in the shared text: rewriting it here would part the editor from the text.
+      if (!tr.docChanged || tr.newDoc.lines === 1 || tr.annotation(ySyncAnnotation)) return tr;
       const changes: { from: number; to: number; insert: string }[] = [];
       tr.changes.iterChanges((from, to, _fromB, _toB, inserted) => changes.push({ from, to, insert: inserted.toString().replace(/\n/g, " ") }));
       // A line break and a space have the same length, so the transaction's selection still fits.
@@ -46,7 +49,7 @@ export function singleLine(onEnter?: (view: EditorView) => void): Extension[] {
  */
 export function greekLettersAsNames(): Extension {
   return EditorState.transactionFilter.of((tr) => {
-    if (!tr.docChanged) return tr;
+    if (!tr.docChanged || tr.annotation(ySyncAnnotation)) return tr;
     let spelled = false;
     const changes: { from: number; to: number; insert: string }[] = [];
     tr.changes.iterChanges((from, to, _fromB, _toB, inserted) => {
@@ -105,6 +108,8 @@ export interface ExpressionExtensionsOptions extends LocalCheckOptions {
   diagnostics?: ServerDiagnostics;
   lintDelay?: number;
   onEnter?: (view: EditorView) => void;
+  /** Bound to a field of the shared document: its Y.Text, presence and the document's undo history. */
+  shared?: SharedField;
 }
 
 /** Everything an expression editor needs except read-only state and change wiring. */
@@ -112,13 +117,14 @@ export function expressionExtensions(options: ExpressionExtensionsOptions): Exte
   return [
     editorContext({ symbols: options.symbols, diagnostics: options.diagnostics }),
     expressionLanguage(),
-    history(),
+    // A shared field undoes through the document's history (every cell, this person's edits only).
+    options.shared ? sharedFieldExtensions(options.shared) : history(),
     closeBrackets(),
     greekLettersAsNames(),
     symbolCompletion(),
     expressionDiagnostics({ allowEmpty: options.allowEmpty, checkSymbols: options.checkSymbols, delay: options.lintDelay }),
     options.multiline ? EditorView.lineWrapping : singleLine(options.onEnter),
-    keymap.of([...closeBracketsKeymap, ...completionKeymap, ...historyKeymap, ...defaultKeymap]),
+    keymap.of([...closeBracketsKeymap, ...completionKeymap, ...(options.shared ? [] : historyKeymap), ...defaultKeymap]),
     EditorView.contentAttributes.of({
       "aria-label": options.label,
       "aria-multiline": options.multiline ? "true" : "false",

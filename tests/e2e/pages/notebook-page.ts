@@ -13,8 +13,9 @@ export class NotebookPage {
     return new URL(this.page.url()).pathname.split("/").pop() ?? "";
   }
 
-  get saveStatus(): Locator {
-    return this.page.getByTestId("save-status");
+  /** The shared document's connection: connecting, saved/saving (editors), live (readers), offline, refused. */
+  get connectionStatus(): Locator {
+    return this.page.getByTestId("connection-status");
   }
 
   get equations(): Locator {
@@ -45,6 +46,8 @@ export class NotebookPage {
 
   /** Types into an expression editor (CodeMirror, built when it gets focus). */
   async typeExpression(label: string, text: string): Promise<void> {
+    // Editors take typing once the shared document has arrived (until then the notebook is read-only).
+    await expect(this.page.getByTestId("notebook-page")).not.toHaveAttribute("data-read-only", "true", { timeout: 20_000 });
     await this.page.getByRole("textbox", { name: label, exact: true }).click();
     const editor = this.page.locator(`.cm-content[aria-label="${label}"]`);
     await expect(editor).toBeFocused();
@@ -52,8 +55,15 @@ export class NotebookPage {
     await expect(editor).toHaveText(text);
   }
 
+  /** Every edit of this page stored by the collaboration server. */
   async waitUntilSaved(): Promise<void> {
-    await expect(this.saveStatus).toHaveAttribute("data-state", "saved", { timeout: 20_000 });
+    await expect(this.connectionStatus).toHaveAttribute("data-state", "saved", { timeout: 20_000 });
+  }
+
+  /** The shared document has arrived and this person may edit it. */
+  async waitUntilEditable(): Promise<void> {
+    await this.waitUntilSaved();
+    await expect(this.page.getByTestId("notebook-page")).not.toHaveAttribute("data-read-only", "true");
   }
 
   async evaluate(): Promise<void> {

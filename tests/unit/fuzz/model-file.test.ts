@@ -2,7 +2,7 @@ import path from "node:path";
 import fc from "fast-check";
 import { afterAll, describe, expect, it } from "vitest";
 import { deriveModel, EngineLimitError, ExpressionError, ModelError, readModelFile, type Model } from "@/lib/mechanics";
-import { EnginePool } from "@/lib/mechanics/worker/pool";
+import { EnginePool } from "@/lib/mechanics/worker";
 import { adversarialExpression, anyText, describeThrown, fuzzSettings, grammarExpression, timed } from "./support";
 
 // Small models keep the symbolic work short; the budget is well inside the

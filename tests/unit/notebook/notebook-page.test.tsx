@@ -3,14 +3,19 @@ import { QueryClient, QueryClientProvider } from "@tanstack/react-query";
 import { cleanup, configure, fireEvent, render, screen, waitFor, within } from "@testing-library/react";
 import { afterEach, beforeEach, describe, expect, it, vi } from "vitest";
 import { NotebookPage, type NotebookPageProps } from "@/components/notebook/notebook-page";
+import type { CollabTicket } from "@/components/collab/shared-session";
 import { ShortcutsProvider } from "@/components/shortcuts";
 import { blankDocument, modelToDocument } from "@/lib/notebook/document";
+import { yDocToDocument } from "@/lib/notebook/document/shared-doc";
 import { templateModel } from "@/lib/notebook/templates";
+import { MemoryCollabServer } from "../components/collab/memory-server";
 
 vi.mock("next/navigation", () => ({ useRouter: () => ({ push: vi.fn() }) }));
 configure({ asyncUtilTimeout: 5000 });
 
 const UPDATED = "2030-01-01T10:00:00.000Z";
+/** Two pages rendering at once are slow on a busy machine. */
+const SLOW = { timeout: 15_000 };
 
 function props(overrides: Partial<NotebookPageProps> = {}): NotebookPageProps {
   const document = modelToDocument(templateModel("single-pendulum"));
@@ -45,6 +50,7 @@ const requests: { method: string; url: string; body: unknown }[] = [];
 
 beforeEach(() => {
   requests.length = 0;
+  tickets.length = 0;
   window.localStorage.clear();
 });
 afterEach(() => {
@@ -52,13 +58,21 @@ afterEach(() => {
   vi.unstubAllGlobals();
 });
 
+/** Tickets the collab-token route hands out, in order of request (a refusal when none is left). */
+const tickets: CollabTicket[] = [];
+
 function stubFetch(answer: (method: string, url: string) => { status: number; body: unknown }) {
   vi.stubGlobal(
     "fetch",
     vi.fn(async (url: string, init?: RequestInit) => {
       const method = init?.method ?? "GET";
       requests.push({ method, url, body: init?.body ? JSON.parse(String(init.body)) : undefined });
-      const { status, body } = answer(method, url);
+      const ticket = url.endsWith("/collab-token") ? tickets.shift() : undefined;
+      const { status, body } = url.endsWith("/collab-token")
+        ? ticket
+          ? { status: 200, body: ticket }
+          : { status: 404, body: { error: { code: "not_found:derivation", message: "Derivation not found." } } }
+        : answer(method, url);
       return new Response(JSON.stringify(body), { status, headers: { "content-type": "application/json" } });
     }),
   );
@@ -89,17 +103,65 @@ describe("NotebookPage", () => {
     expect((evaluate?.body as { document: { title: string } }).document.title).toBe("Hook block on a fixed hoist cable");
   });
 
-  it("is read-only for a reader: no save state, no save button, inputs read-only, no writes", async () => {
+  it("is read-only for a reader: live, no save state, inputs read-only, nothing sent", async () => {
     stubFetch(() => ({ status: 200, body: { cached: true, modelHash: "h", result: { equations: [] }, timings: {}, requestMs: 3, evaluatedAt: UPDATED } }));
-    renderPage(props({ canEdit: false, canRename: false, roleLabel: "Viewer" }));
+    const p = props({ canEdit: false, canRename: false, roleLabel: "Viewer" });
+    const server = new MemoryCollabServer(p.initialDocument);
+    tickets.push(server.ticket({ id: "v", name: "Vi Viewer", readOnly: true }));
+    renderPage({ ...p, collabProvider: server.provider });
     expect(screen.getByTestId("read-only-badge")).toBeTruthy();
-    expect(screen.queryByTestId("save-status")).toBeNull();
-    expect(screen.queryByRole("button", { name: "Save now" })).toBeNull();
+    await waitFor(() => expect(screen.getByTestId("connection-status").dataset.state).toBe("live"));
+    expect(screen.getByTestId("connection-status").textContent).toBe("Live");
     const name = screen.getByRole("textbox", { name: "Name, coordinate 1" }) as HTMLInputElement;
     expect(name.readOnly).toBe(true);
     fireEvent.change(name, { target: { value: "phi" } });
     await waitFor(() => expect(screen.getByTestId("evaluation-status").dataset.state).toBe("current"));
-    expect(requests.filter((r) => r.method !== "POST" || !r.url.endsWith("/evaluate"))).toEqual([]);
+    expect(requests.filter((r) => !(r.method === "POST" && (r.url.endsWith("/evaluate") || r.url.endsWith("/collab-token"))))).toEqual([]);
+    expect(yDocToDocument(server.doc)).toEqual(p.initialDocument);
+    expect(server.dropped).toBe(0);
+  });
+
+  it("puts two people on one document: typing reaches the other, Saved only once stored, both avatars shown", async () => {
+    stubFetch(() => ({ status: 200, body: { cached: true, modelHash: "h", result: { equations: [] }, timings: {}, requestMs: 3, evaluatedAt: UPDATED } }));
+    const p = props();
+    const server = new MemoryCollabServer(p.initialDocument);
+    tickets.push(server.ticket({ id: "a", name: "Ana Analyst", colour: "#0f5f63" }), server.ticket({ id: "b", name: "Bo Lead", colour: "#8c3b7a" }));
+    const first = renderPage({ ...p, collabProvider: server.provider });
+    await waitFor(() => expect(within(first.container).getByTestId("connection-status").dataset.state).toBe("saved"), SLOW);
+    const second = renderPage({ ...p, collabProvider: server.provider });
+    await waitFor(() => expect(within(second.container).getByTestId("connection-status").dataset.state).toBe("saved"), SLOW);
+
+    server.holdAcks = true;
+    const mine = within(first.container).getByRole("textbox", { name: "Name, coordinate 1" }) as HTMLInputElement;
+    const theirs = within(second.container).getByRole("textbox", { name: "Name, coordinate 1" }) as HTMLInputElement;
+    fireEvent.change(mine, { target: { value: `${mine.value}2` } });
+    await waitFor(() => expect(theirs.value).toBe(mine.value), SLOW);
+    expect(mine.value).toBe("theta2");
+    // Sent and relayed, but not yet confirmed as stored: not "Saved".
+    await waitFor(() => expect(within(first.container).getByTestId("connection-status").dataset.state).toBe("saving"), SLOW);
+    server.releaseAcks();
+    await waitFor(() => expect(within(first.container).getByTestId("connection-status").dataset.state).toBe("saved"), SLOW);
+    expect(yDocToDocument(server.doc).cells.find((cell) => cell.kind === "coordinates")).toMatchObject({ rows: [{ name: "theta2" }] });
+
+    await waitFor(
+      () =>
+        expect(
+          within(first.container)
+            .getAllByTestId("presence-avatar")
+            .map((avatar) => avatar.dataset.name),
+        ).toEqual(["Ana Analyst", "Bo Lead"]),
+      SLOW,
+    );
+    expect(within(second.container).getByRole("group", { name: "Viewing now: Bo Lead (you), Ana Analyst" })).toBeTruthy();
+  }, 40_000);
+
+  it("says why the connection was refused, and keeps the notebook read-only", async () => {
+    stubFetch(() => ({ status: 200, body: { cached: true, modelHash: "h", result: { equations: [] }, timings: {}, requestMs: 3, evaluatedAt: UPDATED } }));
+    renderPage(props());
+    await waitFor(() => expect(screen.getByTestId("connection-status").dataset.state).toBe("refused"));
+    expect(screen.getByTestId("connection-status").textContent).toMatch(/^Refused: Derivation not found/);
+    expect((screen.getByRole("textbox", { name: "Name, coordinate 1" }) as HTMLInputElement).readOnly).toBe(true);
+    expect(screen.queryByRole("button", { name: "Add cell" })).toBeNull();
   });
 
   it("shows the export safety note beside the export actions", async () => {
@@ -152,9 +214,13 @@ describe("NotebookPage", () => {
     expect(screen.getByTestId("read-only-badge").textContent).toBe("Read-only: approved and locked");
   });
 
-  it("keeps one h1, holding the editable title", () => {
+  it("keeps one h1, holding the editable title", async () => {
     stubFetch(() => ({ status: 200, body: { updatedAt: UPDATED } }));
-    renderPage(props());
+    const p = props();
+    const server = new MemoryCollabServer(p.initialDocument);
+    tickets.push(server.ticket({ id: "a", name: "Ana Analyst" }));
+    renderPage({ ...p, collabProvider: server.provider });
+    await screen.findByRole("textbox", { name: "Derivation title" });
     const headings = screen.getAllByRole("heading", { level: 1 });
     expect(headings).toHaveLength(1);
     expect(within(headings[0]!).getByRole("textbox", { name: "Derivation title" })).toBeTruthy();

@@ -9,7 +9,9 @@ import { ShortcutsProvider } from "@/components/shortcuts";
 import { DEFAULT_SIMULATION_SETTINGS, createCell, modelToDocument, type DerivationDocument } from "@/lib/notebook/document";
 import type { NotebookResults } from "@/lib/notebook/results";
 import { EMPTY_VIEW_PREFERENCES, type ViewPreferences } from "@/lib/notebook/view-preferences";
+import { yDocToDocument } from "@/lib/notebook/document/shared-doc";
 import { templateModel } from "@/lib/notebook/templates";
+import { MemoryCollabServer } from "../components/collab/memory-server";
 
 // A reader's view choices (equation form, equilibrium, code language, their own
 // simulation settings) are theirs: they never become document operations, never
@@ -109,9 +111,11 @@ function stubServer() {
           },
         };
       else if (url.endsWith("/files")) answer = { files: [] };
-      else if (url.endsWith("/content")) answer = { updatedAt: UPDATED };
+      else if (url.endsWith("/collab-token")) answer = collabServer?.ticket({ id: "u1", name: "Ana Analyst" });
+      if (url.endsWith("/collab-token") && !collabServer)
+        answer = { error: { code: "not_found:derivation", message: "No collaboration server in this test." } };
       return new Response(JSON.stringify(answer), {
-        status: method === "POST" && url.endsWith("/runs") ? 202 : 200,
+        status: method === "POST" && url.endsWith("/runs") ? 202 : url.endsWith("/collab-token") && !collabServer ? 404 : 200,
         headers: { "content-type": "application/json" },
       });
     }),
@@ -148,9 +152,12 @@ function renderPage(p: NotebookPageProps) {
   );
 }
 
-/** Requests that would change the shared derivation or re-derive it. */
+/** The collaboration server of an editor's test (readers' tests get no ticket and stay read-only). */
+let collabServer: MemoryCollabServer | null = null;
+
+/** Requests that would change the derivation's record (the document itself changes through the shared document). */
 function documentWrites() {
-  return requests.filter((r) => r.url.endsWith("/content") || (r.method === "PATCH" && r.url.endsWith("/d1")));
+  return requests.filter((r) => r.method === "PATCH" && r.url.endsWith("/d1"));
 }
 const evaluations = () => requests.filter((r) => r.url.endsWith("/evaluate"));
 const lastStoredView = () =>
@@ -221,22 +228,25 @@ describe("a reviewer's view choices", () => {
 });
 
 describe("an editor's view choices", () => {
-  it("do not autosave; making one the document's does", async () => {
+  it("leave the shared document alone; making one the document's changes it", async () => {
     const doc = pendulumDocument();
-    renderPage(props({ initialDocument: doc, canEdit: true, canRename: true, roleLabel: "Analyst" }));
+    collabServer = new MemoryCollabServer(doc);
+    renderPage({ ...props({ initialDocument: doc, canEdit: true, canRename: true, roleLabel: "Analyst" }), collabProvider: collabServer.provider });
     await evaluated();
+    await waitFor(() => expect(screen.getByTestId("connection-status").dataset.state).toBe("saved"));
     fireEvent.change(screen.getByRole("combobox", { name: "Form" }), { target: { value: "mass-matrix" } });
     await waitFor(() => expect(lastStoredView()).toBeDefined());
-    // Past the autosave's settling time, still nothing saved.
-    await new Promise((resolve) => setTimeout(resolve, 1_300));
+    await new Promise((resolve) => setTimeout(resolve, 300));
     expect(documentWrites()).toEqual([]);
-    expect(screen.getByTestId("save-status").dataset.state).toBe("saved");
+    expect(yDocToDocument(collabServer.doc)).toEqual(doc);
 
     fireEvent.click(screen.getByRole("button", { name: "Make yours the document's" }));
-    await waitFor(() => expect(documentWrites().some((r) => r.method === "PUT")).toBe(true), { timeout: 5_000 });
-    const saved = documentWrites().find((r) => r.method === "PUT")!.body as { document: DerivationDocument };
-    expect(saved.document.cells.find((cell) => cell.kind === "equations")).toMatchObject({ settings: { form: "mass-matrix" } });
+    await waitFor(() =>
+      expect(yDocToDocument(collabServer!.doc).cells.find((cell) => cell.kind === "equations")).toMatchObject({ settings: { form: "mass-matrix" } }),
+    );
+    await waitFor(() => expect(screen.getByTestId("connection-status").dataset.state).toBe("saved"));
     await waitFor(() => expect(lastStoredView()?.preferences.cells).toEqual({}));
+    collabServer = null;
   }, 15_000);
 });
 

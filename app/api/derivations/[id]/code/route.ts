@@ -1,12 +1,11 @@
 import { auditExport } from "@/lib/api/audit-export";
 import { readOptionalJson } from "@/lib/api/optional-json";
 import { derivationRoute } from "@/lib/api/resource-route";
-import { documentFromContent } from "@/lib/evaluation/document-content";
+import { documentFromContent, documentForRequest } from "@/lib/evaluation/document-content";
 import { downloadResponse } from "@/lib/api/download";
 import { engineCodeLanguage } from "@/lib/evaluation/evaluate";
 import { codeOfDocument } from "@/lib/evaluation/service";
 import { parseOrThrow } from "@/lib/validation/parse";
-import { documentForRequest } from "../content/schema";
 import { codeQuerySchema, codeRequestSchema } from "./schema";
 import { enforceRateLimits, rateLimits } from "@/lib/auth/rate-limit";
 

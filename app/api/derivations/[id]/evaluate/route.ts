@@ -2,9 +2,9 @@ import { derivationRoute } from "@/lib/api/resource-route";
 import { evaluateDocumentCached } from "@/lib/evaluation/service";
 import { readOptionalJson } from "@/lib/api/optional-json";
 import { parseOrThrow } from "@/lib/validation/parse";
-import { documentForRequest } from "../content/schema";
 import { evaluateSchema } from "./schema";
 import { enforceRateLimits, rateLimits } from "@/lib/auth/rate-limit";
+import { documentForRequest } from "@/lib/evaluation/document-content";
 
 type Params = { id: string };
 

@@ -3,9 +3,9 @@ import { evaluateDocumentCached } from "@/lib/evaluation/service";
 import type { LinearizationResponse } from "@/lib/evaluation/views";
 import { readOptionalJson } from "@/lib/api/optional-json";
 import { parseOrThrow } from "@/lib/validation/parse";
-import { documentForRequest } from "../content/schema";
 import { linearizeSchema } from "./schema";
 import { enforceRateLimits, rateLimits } from "@/lib/auth/rate-limit";
+import { documentForRequest } from "@/lib/evaluation/document-content";
 
 type Params = { id: string };
 
