@@ -16,7 +16,12 @@ export function proxy(request: NextRequest) {
   const nonce = createNonce();
   const policy = isApi
     ? "default-src 'none'; frame-ancestors 'none'"
-    : contentSecurityPolicy({ nonce, development: env.NODE_ENV === "development", appUrl: env.NEXTAUTH_URL, connectSources: [...env.CSP_CONNECT_SRC, collabOrigin] });
+    : contentSecurityPolicy({
+        nonce,
+        development: env.NODE_ENV === "development",
+        appUrl: env.NEXTAUTH_URL,
+        connectSources: [...env.CSP_CONNECT_SRC, collabOrigin],
+      });
 
   const requestHeaders = new Headers(request.headers);
   requestHeaders.set("x-holonomy-path", `${request.nextUrl.pathname}${request.nextUrl.search}`);
