@@ -40,6 +40,7 @@ export type ErrorSurface =
   | "revision"
   | "review"
   | "notification"
+  | "comment"
   | "archive";
 
 export type ErrorCode = `${ErrorKind}:${ErrorSurface}`;
