@@ -12,6 +12,8 @@ import { useQuery } from "@tanstack/react-query";
 import clsx from "clsx";
 import Link from "next/link";
 import { useCallback, useEffect, useMemo, useRef, useState, type ReactNode } from "react";
+import { CommentsSource } from "@/components/comments/comments-context";
+import { CommentsButton, CommentsPanel } from "@/components/comments/comments-panel";
 import { ReviewSyncProvider } from "@/components/review/review-sync";
 import { useShortcut, useShortcutHelp } from "@/components/shortcuts";
 import { Button } from "@/components/ui/button";
@@ -330,6 +332,7 @@ export function NotebookPage(props: NotebookPageProps) {
             </span>
           )}
           <div className="ml-auto flex flex-wrap items-center gap-2" role="toolbar" aria-label="Derivation actions">
+            <CommentsButton />
             <Button variant="primary" size="sm" onClick={evaluateNow} disabled={evaluation.evaluating} title="Evaluate (e, or Ctrl+Enter in an editor)">
               {evaluation.evaluating ? <Spinner /> : null}
               {evaluation.evaluating ? "Evaluating…" : "Evaluate"}
@@ -514,6 +517,8 @@ export function NotebookPage(props: NotebookPageProps) {
       ))}
       <HelpEntry keys="Ctrl+S" description="Save now, also while typing in an editor" enabled={canEdit} />
       <HelpEntry keys="Ctrl+Enter" description="Evaluate now, also while typing in an editor" />
+      <CommentsSource cells={doc.cells} equations={evaluation.results?.equations} />
+      <CommentsPanel />
     </article>
   );
 }

@@ -46,7 +46,14 @@ function threadView(row: CommentThreadRow, { membership, user }: Pick<Caller, "m
   const role = membership.role;
   const anchor: ThreadView["anchor"] =
     row.anchorKind === "text"
-      ? { kind: "text", cellId: row.cellId ?? "", fieldPath: row.fieldPath ?? "", start: base64(row.anchorStart), end: base64(row.anchorEnd), quote: row.quote ?? "" }
+      ? {
+          kind: "text",
+          cellId: row.cellId ?? "",
+          fieldPath: row.fieldPath ?? "",
+          start: base64(row.anchorStart),
+          end: base64(row.anchorEnd),
+          quote: row.quote ?? "",
+        }
       : {
           kind: "term",
           key: row.termKey ?? "",
@@ -102,6 +109,7 @@ export async function listCommentThreads(caller: Caller): Promise<ThreadsAnswer>
     threads: rows.map((row) => threadView(row, caller)),
     members: members.map((member) => ({ id: member.userId, name: member.name })),
     mayComment: can(caller.membership.role, "comment:create"),
+    userId: caller.user.id,
   };
 }
 

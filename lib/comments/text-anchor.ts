@@ -15,9 +15,7 @@ export interface TextAnchor {
   quote: string;
 }
 
-export type ResolvedTextAnchor =
-  | { state: "attached"; index: number; length: number; text: string }
-  | { state: "detached"; reason: "missing" | "deleted" };
+export type ResolvedTextAnchor = { state: "attached"; index: number; length: number; text: string } | { state: "detached"; reason: "missing" | "deleted" };
 
 /** Longest quote kept with an anchor; the span itself may be longer. */
 export const QUOTE_LIMIT = 500;
@@ -37,7 +35,10 @@ export function createTextAnchor(text: Y.Text, index: number, length: number): T
   return {
     start: Y.encodeRelativePosition(start),
     end: Y.encodeRelativePosition(end),
-    quote: text.toString().slice(index, index + length).slice(0, QUOTE_LIMIT),
+    quote: text
+      .toString()
+      .slice(index, index + length)
+      .slice(0, QUOTE_LIMIT),
   };
 }
 

@@ -67,4 +67,6 @@ export interface ThreadsAnswer {
   /** Team members, for the @mention autocomplete. */
   members: MemberOption[];
   mayComment: boolean;
+  /** The caller, for the "mine" filter. */
+  userId: string;
 }
