@@ -15,7 +15,7 @@ import type * as Y from "yjs";
 import { liveTermsOf, parseTermKey, termThreadState, type LiveTerm, type TermAddress } from "@/lib/comments/term-anchor";
 import { resolveTextAnchor } from "@/lib/comments/text-anchor";
 import type { ThreadView, ThreadsAnswer } from "@/lib/comments/views";
-import { fieldText } from "@/lib/notebook/document/shared-doc";
+import { fieldTextOf } from "@/lib/comments/field-paths";
 import { useCommentThreads, type NewAnchor } from "./use-comment-threads";
 
 export type AnchorState =
@@ -77,8 +77,7 @@ function resolveThread(thread: ThreadView, liveByCell: (cellId: string) => Reado
     return resolved.state === "attached" ? { kind: "term", state: "attached", term: resolved.term } : { kind: "term", state: resolved.state };
   }
   if (!ydoc) return { kind: "text", state: "unknown" };
-  const path = anchor.fieldPath.split("/");
-  const text = fieldText(ydoc, anchor.cellId, path.length === 3 ? (path as [string, string, string]) : anchor.fieldPath);
+  const text = fieldTextOf(ydoc, anchor.cellId, anchor.fieldPath);
   const resolved = resolveTextAnchor(ydoc, text, { start: fromBase64(anchor.start), end: fromBase64(anchor.end) });
   return resolved.state === "attached" ? { kind: "text", state: "attached", text: resolved.text } : { kind: "text", state: "detached" };
 }

@@ -14,7 +14,6 @@ import "./comments.css";
 export function useTermComments(cellId: string, containerRef: RefObject<HTMLElement | null>) {
   const comments = useComments();
   const counts = comments?.termCounts;
-  const active = comments?.activeTermKey ?? null;
 
   useEffect(() => {
     if (!counts) return;
@@ -31,7 +30,6 @@ export function useTermComments(cellId: string, containerRef: RefObject<HTMLElem
         element.classList.remove("hn-term-commented");
         element.removeAttribute("aria-description");
       }
-      if (key === active) element.classList.add("hn-term-active");
     }
   });
 

@@ -2,14 +2,10 @@
 
 import { EditorView } from "@codemirror/view";
 import { createTextAnchor } from "@/lib/comments/text-anchor";
-import { fieldText, type FieldPath } from "@/lib/notebook/document/shared-doc";
+import { fieldPathsWithContent, fieldTextOf } from "@/lib/comments/field-paths";
 import type * as Y from "yjs";
 import { toBase64 } from "./comments-context";
 import type { NewAnchor } from "./use-comment-threads";
-
-// Cells whose one editor is their "expr" field; other editors say which field
-// they hold with data-field-path ("expr", or "rows/<row id>/<field>").
-const EXPRESSION_CELLS = new Set(["kinetic", "potential", "dissipation"]);
 
 let lastEditor: HTMLElement | null = null;
 
@@ -35,14 +31,21 @@ export function anchorFromSelection(ydoc: Y.Doc | null): { anchor: NewAnchor } |
   if (!view || !cell?.dataset.cellId) return { problem: "Select some text in an editor first." };
   const { from, to } = view.state.selection.main;
   if (to <= from) return { problem: "Select some text in an editor first." };
+  const content = view.state.doc.toString();
   const declared = lastEditor.closest<HTMLElement>("[data-field-path]")?.dataset.fieldPath;
-  const fieldPath = declared ?? (EXPRESSION_CELLS.has(cell.dataset.kind ?? "") ? "expr" : null);
-  if (!fieldPath) return { problem: "Comments on this editor's text are not available." };
-  const parts = fieldPath.split("/");
-  const path: FieldPath = parts.length === 3 ? (parts as [string, string, string]) : fieldPath;
-  const text = fieldText(ydoc, cell.dataset.cellId, path);
-  if (!text || text.toString() !== view.state.doc.toString())
-    return { problem: "This editor is not in step with the live document yet; try again in a moment." };
+  // Editors bound to a field hold exactly its text; the one field of the cell with that text is the one selected in.
+  const candidates = declared ? [declared] : fieldPathsWithContent(ydoc, cell.dataset.cellId, content);
+  if (candidates.length !== 1) {
+    return {
+      problem:
+        candidates.length === 0
+          ? "This editor is not in step with the live document yet; try again in a moment."
+          : "Two fields of this cell hold the same text, so the comment cannot tell which one is meant.",
+    };
+  }
+  const fieldPath = candidates[0]!;
+  const text = fieldTextOf(ydoc, cell.dataset.cellId, fieldPath);
+  if (!text || text.toString() !== content) return { problem: "This editor is not in step with the live document yet; try again in a moment." };
   const anchor = createTextAnchor(text, from, to - from);
   return {
     anchor: { kind: "text", cellId: cell.dataset.cellId, fieldPath, start: toBase64(anchor.start), end: toBase64(anchor.end), quote: anchor.quote },

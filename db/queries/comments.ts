@@ -191,13 +191,20 @@ export async function setCommentThreadStatusById(
   const now = new Date();
   const [row] = await executor
     .update(commentThreads)
-    .set(status === "resolved" ? { status, resolvedAt: now, resolvedById: actorId, updatedAt: now } : { status, resolvedAt: null, resolvedById: null, updatedAt: now })
+    .set(
+      status === "resolved"
+        ? { status, resolvedAt: now, resolvedById: actorId, updatedAt: now }
+        : { status, resolvedAt: null, resolvedById: null, updatedAt: now },
+    )
     .where(eq(commentThreads.id, id))
     .returning();
   return row ?? null;
 }
 
-export async function markCommentMentionsEmailedByCommentId({ commentId, userIds }: { commentId: string; userIds: string[] }, executor: Executor = db): Promise<void> {
+export async function markCommentMentionsEmailedByCommentId(
+  { commentId, userIds }: { commentId: string; userIds: string[] },
+  executor: Executor = db,
+): Promise<void> {
   if (userIds.length === 0) return;
   const now = new Date();
   await executor

@@ -46,11 +46,11 @@ test("a reviewer comments on a term with a mention; a viewer reads it", async ({
   await comments.write("Checked against the free-body sketch: it is.");
   await comments.panel.getByRole("button", { name: "Reply", exact: true }).click();
   await expect(comments.threads.first().getByTestId("comment")).toHaveCount(2);
-  await comments.panel.getByRole("button", { name: "Resolve" }).click();
+  await comments.panel.getByRole("button", { name: "Resolve", exact: true }).click();
   await expect(comments.panel.getByTestId("no-threads")).toBeVisible();
-  await comments.panel.getByRole("button", { name: "Unresolved" }).click();
+  await comments.panel.getByRole("button", { name: "Unresolved", exact: true }).click();
   await expect(comments.threads.first()).toHaveAttribute("data-status", "resolved");
-  await comments.panel.getByRole("button", { name: "Reopen" }).click();
+  await comments.panel.getByRole("button", { name: "Reopen", exact: true }).click();
   await expect(comments.threads.first()).toHaveAttribute("data-status", "open");
   await reviewerPage.close();
 
