@@ -4,7 +4,7 @@ import { CommentsPanel } from "./pages/comments-panel";
 import { DashboardPage } from "./pages/dashboard-page";
 import { NotebookPage } from "./pages/notebook-page";
 import { SignInPage } from "./pages/sign-in-page";
-import { keepScreenshot } from "./support";
+import { artifactsDir, keepScreenshot } from "./support";
 
 const reviewer = demoUsers.find((user) => user.role === "reviewer")!;
 const lead = demoUsers.find((user) => user.role === "lead")!;
@@ -41,6 +41,8 @@ test("a reviewer comments on a term with a mention; a viewer reads it", async ({
   await expect(term).toHaveAttribute("data-comments", "1");
   await expect(reviewerPage.getByTestId("cell-comment-count").first()).toHaveText("1");
   await keepScreenshot(reviewerPage, "comments-term-thread-desktop");
+  // The panel is fixed to the window: a window-sized picture shows it beside the equations.
+  await reviewerPage.screenshot({ path: `${artifactsDir}/comments-panel-desktop-window.png` });
 
   // A reply, then the thread's author resolves it; the "unresolved" filter hides it.
   await comments.write("Checked against the free-body sketch: it is.");
@@ -65,5 +67,6 @@ test("a reviewer comments on a term with a mention; a viewer reads it", async ({
   await expect(read.panel.getByTestId("comment-box")).toHaveCount(0);
   await expect(read.panel).toContainText("Your role reads comments");
   await keepScreenshot(viewerPage, "comments-viewer-390");
+  await viewerPage.screenshot({ path: `${artifactsDir}/comments-viewer-390-window.png` });
   await viewerPage.close();
 });
