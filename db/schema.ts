@@ -2,6 +2,7 @@ import { relations } from "drizzle-orm";
 import {
   bigserial,
   bigint,
+  boolean,
   customType,
   doublePrecision,
   index,
@@ -573,3 +574,96 @@ export const derivationUpdates = pgTable(
   (table) => [index("derivation_updates_derivation_id_idx").on(table.derivationId, table.id)],
 );
 export type DerivationUpdate = typeof derivationUpdates.$inferSelect;
+
+// ---------------------------------------------------------------------------
+// Comment threads (issue 9). A thread is anchored either to a span of an editor
+// field's text (Yjs relative positions, so the span follows concurrent edits) or
+// to one term of a generated equation (the engine's stable term key). Comments
+// are soft-deleted so a thread keeps its shape; mentions are recorded per comment
+// so an edit never notifies the same person twice.
+
+export const commentAnchorKinds = ["text", "term"] as const;
+export type CommentAnchorKind = (typeof commentAnchorKinds)[number];
+export const commentAnchorKind = pgEnum("comment_anchor_kind", commentAnchorKinds);
+export const commentThreadStatuses = ["open", "resolved"] as const;
+export type CommentThreadStatus = (typeof commentThreadStatuses)[number];
+export const commentThreadStatus = pgEnum("comment_thread_status", commentThreadStatuses);
+
+export const commentThreads = pgTable(
+  "comment_threads",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    derivationId: uuid("derivation_id")
+      .notNull()
+      .references(() => derivations.id, { onDelete: "cascade" }),
+    authorId: uuid("author_id").references(() => users.id, { onDelete: "set null" }),
+    anchorKind: commentAnchorKind("anchor_kind").notNull(),
+    status: commentThreadStatus("status").notNull().default("open"),
+    // Text anchors: the cell and field (e.g. "expr", "rows.<rowId>.value"), the encoded
+    // Yjs relative positions of the first character and of the last one, and the quoted text.
+    cellId: text("cell_id"),
+    fieldPath: text("field_path"),
+    anchorStart: bytea("anchor_start"),
+    anchorEnd: bytea("anchor_end"),
+    quote: text("quote"),
+    // Term anchors: "<cellId>:<coordinate>:<term hash>", with the term as it read then.
+    termKey: text("term_key"),
+    termText: text("term_text"),
+    termLatex: text("term_latex"),
+    // What the thread was written on: the latest revision then, and the SHA-256 of the content.
+    revisionId: uuid("revision_id").references(() => revisions.id, { onDelete: "set null" }),
+    contentHash: text("content_hash"),
+    resolvedAt: timestamp("resolved_at", { withTimezone: true }),
+    resolvedById: uuid("resolved_by_id").references(() => users.id, { onDelete: "set null" }),
+    ...timestamps,
+  },
+  (table) => [index("comment_threads_derivation_idx").on(table.derivationId, table.createdAt)],
+);
+export type CommentThread = typeof commentThreads.$inferSelect;
+export type NewCommentThread = typeof commentThreads.$inferInsert;
+
+export const comments = pgTable(
+  "comments",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    threadId: uuid("thread_id")
+      .notNull()
+      .references(() => commentThreads.id, { onDelete: "cascade" }),
+    authorId: uuid("author_id").references(() => users.id, { onDelete: "set null" }),
+    // Markdown; mentions are written as @[Name](user id).
+    body: text("body").notNull(),
+    editedAt: timestamp("edited_at", { withTimezone: true }),
+    deletedAt: timestamp("deleted_at", { withTimezone: true }),
+    ...timestamps,
+  },
+  (table) => [index("comments_thread_idx").on(table.threadId, table.createdAt)],
+);
+export type Comment = typeof comments.$inferSelect;
+
+export const commentMentions = pgTable(
+  "comment_mentions",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    commentId: uuid("comment_id")
+      .notNull()
+      .references(() => comments.id, { onDelete: "cascade" }),
+    userId: uuid("user_id")
+      .notNull()
+      .references(() => users.id, { onDelete: "cascade" }),
+    // Set when the e-mail went out; null when the person had turned mention e-mails off.
+    emailedAt: timestamp("emailed_at", { withTimezone: true }),
+    ...timestamps,
+  },
+  (table) => [uniqueIndex("comment_mentions_comment_user_idx").on(table.commentId, table.userId)],
+);
+export type CommentMention = typeof commentMentions.$inferSelect;
+
+/** A person's notification choices; no row means the defaults. */
+export const notificationSettings = pgTable("notification_settings", {
+  userId: uuid("user_id")
+    .primaryKey()
+    .references(() => users.id, { onDelete: "cascade" }),
+  mentionEmails: boolean("mention_emails").notNull().default(true),
+  ...timestamps,
+});
+export type NotificationSettings = typeof notificationSettings.$inferSelect;

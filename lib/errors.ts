@@ -43,7 +43,8 @@ export type ErrorSurface =
   | "notification"
   | "archive"
   | "origin"
-  | "job";
+  | "job"
+  | "comment";
 
 export type ErrorCode = `${ErrorKind}:${ErrorSurface}`;
 

@@ -2,6 +2,7 @@
 
 import clsx from "clsx";
 import { useEffect, useId, useRef, useState, type DragEvent, type KeyboardEvent, type ReactNode } from "react";
+import { CellCommentCount } from "@/components/comments/cell-comment-count";
 import { CELL_LABELS, isGeneratedCell, type Cell, type CellKind } from "@/lib/notebook/document";
 
 /** Keyboard shortcuts that act on the cell holding the focus (listed in the help dialog). */
@@ -145,6 +146,7 @@ export function CellFrame(props: CellFrameProps) {
             stale
           </span>
         )}
+        <CellCommentCount cellId={cell.id} />
         {props.actions}
         {!readOnly && (
           <CellMenu

@@ -8,6 +8,7 @@
  */
 import clsx from "clsx";
 import { lazy, Suspense, useEffect, useReducer, useRef, useState, type ReactNode } from "react";
+import { useTermComments } from "@/components/comments/term-comments";
 import {
   CODE_EXPORT_LANGUAGES,
   EQUATION_FORMS,
@@ -86,6 +87,7 @@ export function EquationsCellView(props: EquationsCellProps) {
   // Equations typeset lazily; each one re-renders this cell so its terms get decorated below.
   const [, typeset] = useReducer((count: number) => count + 1, 0);
   const form = cell.settings.form;
+  const termComments = useTermComments(cell.id, containerRef);
 
   // Terms are spans KaTeX wrote from \htmlData{term=ID}; make them reachable by keyboard too.
   useEffect(() => {
@@ -175,12 +177,14 @@ export function EquationsCellView(props: EquationsCellProps) {
         onClick={(event) => {
           const term = termAt(event.target);
           if (term) onTermSelect?.(term);
+          if (term && event.target instanceof HTMLElement) termComments?.open(event.target);
         }}
         onKeyDown={(event) => {
           const term = termAt(event.target);
           if (term && (event.key === "Enter" || event.key === " ")) {
             event.preventDefault();
             onTermSelect?.(term);
+            if (event.target instanceof HTMLElement) termComments?.open(event.target);
           }
         }}
       >

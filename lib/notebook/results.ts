@@ -13,6 +13,8 @@ export interface EquationView {
   residual: string;
   /** LaTeX of `residual = 0`, terms wrapped in \htmlData{term=ID}. */
   latex: string;
+  /** The equation's top-level terms with those ids (comments anchor to them); absent in results stored before they were kept. */
+  terms?: { id: string; text: string; latex: string }[];
 }
 
 export interface NotebookResults {
