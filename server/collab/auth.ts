@@ -15,9 +15,12 @@ import { CloseCode, RefusedConnection, type Authenticator, type ConnectionGrant 
 // (lib/auth/access.ts has the same pattern, but imports Next.js page helpers this process does without.)
 const uuidPattern = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 
-export function createTokenAuthenticator({ secret }: { secret: string }): Authenticator {
+/** Whether one more connection of this person, from this address, is allowed now (the app's rate limits). */
+export type ConnectionAdmission = (who: { userId: string; address: string | null }) => Promise<{ allowed: true } | { allowed: false; retryAfterSeconds: number }>;
+
+export function createTokenAuthenticator({ secret, admit }: { secret: string; admit?: ConnectionAdmission }): Authenticator {
   return {
-    async authenticate(token: string | null, room: string): Promise<ConnectionGrant> {
+    async authenticate(token: string | null, room: string, address: string | null = null): Promise<ConnectionGrant> {
       if (!token) throw new RefusedConnection(CloseCode.badToken, "No connection token.");
       let claims;
       try {
@@ -32,6 +35,13 @@ export function createTokenAuthenticator({ secret }: { secret: string }): Authen
         throw error;
       }
       if (claims.derivationId !== room) throw new RefusedConnection(CloseCode.badToken, "The connection token is for another derivation.");
+      // Counted before any database read, so a flood of reconnects costs the server little.
+      if (admit) {
+        const decision = await admit({ userId: claims.userId, address });
+        if (!decision.allowed) {
+          throw new RefusedConnection(CloseCode.tooMany, `Too many connections in a short time. Try again in ${decision.retryAfterSeconds} s.`);
+        }
+      }
       if (!uuidPattern.test(room)) throw new RefusedConnection(CloseCode.noDerivation, "No such derivation.");
       const derivation = await getDerivationById({ id: room });
       if (!derivation) throw new RefusedConnection(CloseCode.noDerivation, "No such derivation.");

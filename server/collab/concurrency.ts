@@ -40,5 +40,5 @@ export function limitJsonCopy(jsonCopy: JsonCopyWriter, slots: Semaphore): JsonC
 }
 
 export function limitAuthenticator(auth: Authenticator, slots: Semaphore): Authenticator {
-  return { authenticate: (token, room) => slots.run(() => auth.authenticate(token, room)) };
+  return { authenticate: (token, room, address) => slots.run(() => auth.authenticate(token, room, address)) };
 }

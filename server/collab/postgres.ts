@@ -1,6 +1,7 @@
 import "server-only";
 /** The collaboration server wired to PostgreSQL: what server/collab.ts runs and the integration tests start. */
 import { env } from "@/lib/env";
+import { allowCollabConnection } from "@/lib/auth/rate-limit";
 import { createTokenAuthenticator } from "./auth";
 import { Semaphore, limitAuthenticator, limitJsonCopy, limitPersistence } from "./concurrency";
 import { createPostgresNotifications } from "./listener";
@@ -12,7 +13,7 @@ export function createPostgresCollabServer({ limits, logger }: { limits: CollabL
   // One slot stays free in the pool for anything outside the limit.
   const slots = new Semaphore(Math.max(1, env.DATABASE_POOL_MAX - 1));
   return createCollabServer({
-    auth: limitAuthenticator(createTokenAuthenticator({ secret: env.NEXTAUTH_SECRET }), slots),
+    auth: limitAuthenticator(createTokenAuthenticator({ secret: env.NEXTAUTH_SECRET, admit: allowCollabConnection }), slots),
     persistence: limitPersistence(postgresPersistence, slots),
     jsonCopy: limitJsonCopy(postgresJsonCopy, slots),
     notifications: createPostgresNotifications({ connectionString: env.DATABASE_URL, logger }),

@@ -248,7 +248,7 @@ export function createCollabServer(options: CollabServerOptions): CollabServer {
     void (async () => {
       try {
         if (closing) throw new RefusedConnection(CloseCode.goingAway, "The server is shutting down");
-        connection.grant = await options.auth.authenticate(token, roomName);
+        connection.grant = await options.auth.authenticate(token, roomName, request.socket.remoteAddress ?? null);
         let room = await roomFor(connection.grant.derivationId);
         while (room.isUnloading) room = await roomFor(connection.grant.derivationId);
         if (connection.closed) return;

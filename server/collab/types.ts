@@ -43,7 +43,7 @@ export interface ConnectionGrant {
 
 export interface Authenticator {
   /** The grant for a token and the room it connects to; throws `RefusedConnection`. */
-  authenticate(token: string | null, room: string): Promise<ConnectionGrant>;
+  authenticate(token: string | null, room: string, address?: string | null): Promise<ConnectionGrant>;
 }
 
 export interface DerivationState {
