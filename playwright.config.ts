@@ -39,24 +39,15 @@ export default defineConfig({
     },
   },
   projects: [{ name: "chromium", use: { browserName: "chromium" } }],
-  webServer: [
-    {
-      command: `npx next start -H 127.0.0.1 -p ${port}`,
-      url: `http://127.0.0.1:${port}/api/health`,
-      env: { COLLAB_PORT: String(collabPort) },
-      reuseExistingServer: false,
-      timeout: 120_000,
-      stdout: "ignore",
-      stderr: "pipe",
-    },
-    {
-      command: "node --conditions=react-server --import tsx server/collab.ts",
-      url: `http://127.0.0.1:${collabPort}/collab/health`,
-      env: { COLLAB_PORT: String(collabPort) },
-      reuseExistingServer: false,
-      timeout: 120_000,
-      stdout: "ignore",
-      stderr: "pipe",
-    },
-  ],
+  webServer: {
+    // The app with its collaboration server and one queue worker (scripts/start.sh waits for
+    // the collaboration server before it starts the app).
+    command: `bash scripts/start.sh ${port}`,
+    url: `http://127.0.0.1:${port}/api/health`,
+    env: { COLLAB_PORT: String(collabPort) },
+    reuseExistingServer: false,
+    timeout: 120_000,
+    stdout: "ignore",
+    stderr: "pipe",
+  },
 });

@@ -1,4 +1,5 @@
 import type { Metadata } from "next";
+import { headers } from "next/headers";
 import type { ReactNode } from "react";
 import { Providers } from "@/components/providers";
 import { plexMono, plexSans } from "./fonts";
@@ -12,11 +13,14 @@ export const metadata: Metadata = {
 // Applies a stored theme choice before first paint, so dark mode never flashes.
 const themeScript = `try{var t=localStorage.getItem("holonomy-theme");if(t==="dark"||t==="light")document.documentElement.dataset.theme=t}catch(e){}`;
 
-export default function RootLayout({ children }: { children: ReactNode }) {
+// Every page is rendered per request: the Content-Security-Policy's nonce (proxy.ts)
+// is fresh for each response, and Next.js can only put it on scripts it renders then.
+export default async function RootLayout({ children }: { children: ReactNode }) {
+  const nonce = (await headers()).get("x-nonce") ?? undefined;
   return (
     <html lang="en" className={`${plexSans.variable} ${plexMono.variable}`} suppressHydrationWarning>
       <head>
-        <script dangerouslySetInnerHTML={{ __html: themeScript }} />
+        <script nonce={nonce} dangerouslySetInnerHTML={{ __html: themeScript }} />
       </head>
       <body className="min-h-screen font-sans text-[15px] leading-relaxed">
         <a

@@ -6,16 +6,22 @@ import { getTeamsByUserId } from "@/db/queries/teams";
 import { getSessionUser } from "@/lib/auth/session";
 import { devMailboxAvailable } from "@/lib/dev-mailbox";
 
-/** The site header for whoever is looking: the signed-in one, or the public one (also when the database is down). */
-async function Header() {
+/** Who is signed in, with their teams; null for a visitor, and also when the database is down. */
+async function signedIn() {
   try {
     const user = await getSessionUser();
-    if (!user) return <PublicHeader />;
+    if (!user) return null;
     const teams = await getTeamsByUserId({ userId: user.id });
-    return <SiteHeader user={user} teams={teams.map(({ id, name, role }) => ({ id, name, role }))} showMailbox={await devMailboxAvailable()} />;
+    return { user, teams: teams.map(({ id, name, role }) => ({ id, name, role })), showMailbox: await devMailboxAvailable() };
   } catch {
-    return <PublicHeader />;
+    return null;
   }
+}
+
+/** The site header for whoever is looking: the signed-in one, or the public one. */
+async function Header() {
+  const viewer = await signedIn();
+  return viewer ? <SiteHeader user={viewer.user} teams={viewer.teams} showMailbox={viewer.showMailbox} /> : <PublicHeader />;
 }
 
 // An address no route matches.

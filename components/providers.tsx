@@ -1,5 +1,7 @@
 "use client";
 
+// First, before any schema parses in the browser (see the module).
+import "@/lib/validation/zod-config";
 import { QueryClient, QueryClientProvider } from "@tanstack/react-query";
 import { useState, type ReactNode } from "react";
 import { AppError } from "@/lib/errors";

@@ -108,7 +108,11 @@ export function ShortcutsProvider({ children }: { children: ReactNode }) {
     () => [
       { keys: "?", description: "Show this list of shortcuts", run: () => setHelpOpen(true) },
       { keys: "g t", description: "Go to your teams", run: () => void mayLeave().then((leave) => leave && router.push("/teams")) },
-      { keys: "g m", description: "Open the development mailbox (demo and development only)", run: () => void mayLeave().then((leave) => leave && router.push("/dev/mailbox")) },
+      {
+        keys: "g m",
+        description: "Open the development mailbox (demo and development only)",
+        run: () => void mayLeave().then((leave) => leave && router.push("/dev/mailbox")),
+      },
       // Changes the whole screen: a chord, so a stray key press cannot do it.
       { keys: "Alt+Shift+T", description: "Switch between light and dark theme", run: toggleTheme },
     ],

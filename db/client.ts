@@ -32,6 +32,8 @@ function createHandle(): DatabaseHandle {
 // The pool connects lazily, on the first query, so importing this module is cheap.
 globalForDb.holonomyDb ??= createHandle();
 export const db: Database = globalForDb.holonomyDb.db;
+/** The pool itself, for libraries that bring their own SQL (the rate limiter's store, db/queries/rate-limits.ts). */
+export const pool: Pool = globalForDb.holonomyDb.pool;
 
 /** Closes the pool (scripts and tests call this so the process can exit). */
 export async function closeDatabase(): Promise<void> {

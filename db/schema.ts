@@ -1,6 +1,7 @@
 import { relations } from "drizzle-orm";
 import {
   bigserial,
+  bigint,
   boolean,
   customType,
   doublePrecision,
@@ -14,7 +15,9 @@ import {
   uniqueIndex,
   uuid,
 } from "drizzle-orm/pg-core";
+import type { EvaluationResult } from "@/lib/evaluation/evaluate";
 import type { StoredDocument } from "@/lib/notebook/document";
+import type { ViewPreferences } from "@/lib/notebook/view-preferences";
 import { derivationStatuses, memberRoles, type DerivationStatus, type MemberRole } from "@/lib/domain";
 
 // Every table carries created_at / updated_at. updated_at is set by the query
@@ -137,22 +140,6 @@ export const derivations = pgTable(
 export type Derivation = typeof derivations.$inferSelect;
 export type NewDerivation = typeof derivations.$inferInsert;
 
-// One row per sign-in attempt; failures in a recent window drive the rate limit.
-export const signInAttempts = pgTable(
-  "sign_in_attempts",
-  {
-    id: uuid("id").primaryKey().defaultRandom(),
-    email: text("email").notNull(),
-    succeeded: boolean("succeeded").notNull(),
-    ...timestamps,
-  },
-  (table) => [index("sign_in_attempts_email_time_idx").on(table.email, table.createdAt)],
-);
-export type SignInAttempt = typeof signInAttempts.$inferSelect;
-
-// Requests counted against a rate limit other than the per-e-mail sign-in one
-// (failed sign-ins per client address, password-reset and sign-up requests).
-// `action` names the limit, `key` is what it is counted by (an address or an e-mail).
 export const revisionKinds = ["auto", "checkpoint", "restore", "review", "import"] as const;
 export type RevisionKind = (typeof revisionKinds)[number];
 export const revisionKind = pgEnum("revision_kind", revisionKinds);
@@ -300,17 +287,24 @@ export const apiTokens = pgTable(
 );
 export type ApiToken = typeof apiTokens.$inferSelect;
 
-export const rateLimitEvents = pgTable(
-  "rate_limit_events",
+// ---------------------------------------------------------------------------
+// Rate limits (security). The counters of rate-limiter-flexible's PostgreSQL
+// store: one row per limit and key ("<limit>:<key>"), the points used in the
+// current window and when the window ends (ms since the epoch). The library
+// writes the rows with positional INSERTs, so the columns are exactly these,
+// in this order, without the usual timestamps; lib/auth/rate-limit.ts defines
+// the limits.
+export const rateLimits = pgTable(
+  "rate_limits",
   {
-    id: uuid("id").primaryKey().defaultRandom(),
-    action: text("action").notNull(),
-    key: text("key").notNull(),
-    ...timestamps,
+    key: text("key").primaryKey(),
+    points: integer("points").notNull().default(0),
+    expire: bigint("expire", { mode: "number" }),
   },
-  (table) => [index("rate_limit_events_action_key_time_idx").on(table.action, table.key, table.createdAt)],
+  (table) => [index("rate_limits_expire_idx").on(table.expire)],
 );
-export type RateLimitEvent = typeof rateLimitEvents.$inferSelect;
+export type RateLimitRow = typeof rateLimits.$inferSelect;
+// ---------------------------------------------------------------------------
 
 export const auditLog = pgTable(
   "audit_log",
@@ -357,7 +351,7 @@ export const evaluations = pgTable(
     id: uuid("id").primaryKey().defaultRandom(),
     modelHash: text("model_hash").notNull().unique(),
     engineVersion: text("engine_version").notNull(),
-    result: jsonb("result").$type<Record<string, unknown>>().notNull(),
+    result: jsonb("result").$type<EvaluationResult>().notNull(),
     // Milliseconds per stage of the run that produced the result.
     timings: jsonb("timings").$type<Record<string, number>>().notNull().default({}),
     hitCount: integer("hit_count").notNull().default(0),
@@ -474,7 +468,7 @@ export const viewPreferences = pgTable(
     derivationId: uuid("derivation_id")
       .notNull()
       .references(() => derivations.id, { onDelete: "cascade" }),
-    preferences: jsonb("preferences").$type<Record<string, unknown>>().notNull(),
+    preferences: jsonb("preferences").$type<ViewPreferences>().notNull(),
     ...timestamps,
   },
   (table) => [uniqueIndex("view_preferences_user_derivation_idx").on(table.userId, table.derivationId)],
@@ -507,6 +501,49 @@ export const idempotencyKeys = pgTable(
 export type IdempotencyKey = typeof idempotencyKeys.$inferSelect;
 
 // ---------------------------------------------------------------------------
+// Background jobs (robust slice). Heavy work (server simulations, parameter fits)
+// runs in queue workers (pg-boss, its own `pgboss` schema) rather than in the web
+// process. This table is the job as people see it: who asked, for which
+// derivation, its state, progress and answer; the row's id is the pg-boss job id.
+export const jobKinds = ["simulation", "fit"] as const;
+export type JobKind = (typeof jobKinds)[number];
+export const jobKind = pgEnum("job_kind", jobKinds);
+export const jobStates = ["queued", "running", "completed", "failed", "cancelled"] as const;
+export type JobState = (typeof jobStates)[number];
+export const jobState = pgEnum("job_state", jobStates);
+
+/** A job's refusal or failure, as the API answers errors (code, message, field errors). */
+export interface JobError {
+  code: string;
+  message: string;
+  fieldErrors?: Record<string, string[]>;
+  details?: Record<string, unknown>;
+}
+
+export const jobs = pgTable(
+  "jobs",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    derivationId: uuid("derivation_id")
+      .notNull()
+      .references(() => derivations.id, { onDelete: "cascade" }),
+    kind: jobKind("kind").notNull(),
+    state: jobState("state").notNull().default("queued"),
+    // Fraction done, 0 … 1, written by the worker as the task reports it.
+    progress: doublePrecision("progress").notNull().default(0),
+    // What was asked, with the derivation's content at the time, so the job runs what its author saw.
+    input: jsonb("input").$type<Record<string, unknown>>().notNull(),
+    result: jsonb("result").$type<Record<string, unknown>>(),
+    error: jsonb("error").$type<JobError>(),
+    createdById: uuid("created_by_id").references(() => users.id, { onDelete: "set null" }),
+    startedAt: timestamp("started_at", { withTimezone: true }),
+    finishedAt: timestamp("finished_at", { withTimezone: true }),
+    ...timestamps,
+  },
+  (table) => [index("jobs_derivation_idx").on(table.derivationId, table.createdAt)],
+);
+export type Job = typeof jobs.$inferSelect;
+export type NewJob = typeof jobs.$inferInsert;
 // Shared documents (live co-editing)
 //
 // A derivation's shared document is the Yjs updates in `derivation_updates`,
@@ -537,3 +574,96 @@ export const derivationUpdates = pgTable(
   (table) => [index("derivation_updates_derivation_id_idx").on(table.derivationId, table.id)],
 );
 export type DerivationUpdate = typeof derivationUpdates.$inferSelect;
+
+// ---------------------------------------------------------------------------
+// Comment threads (issue 9). A thread is anchored either to a span of an editor
+// field's text (Yjs relative positions, so the span follows concurrent edits) or
+// to one term of a generated equation (the engine's stable term key). Comments
+// are soft-deleted so a thread keeps its shape; mentions are recorded per comment
+// so an edit never notifies the same person twice.
+
+export const commentAnchorKinds = ["text", "term"] as const;
+export type CommentAnchorKind = (typeof commentAnchorKinds)[number];
+export const commentAnchorKind = pgEnum("comment_anchor_kind", commentAnchorKinds);
+export const commentThreadStatuses = ["open", "resolved"] as const;
+export type CommentThreadStatus = (typeof commentThreadStatuses)[number];
+export const commentThreadStatus = pgEnum("comment_thread_status", commentThreadStatuses);
+
+export const commentThreads = pgTable(
+  "comment_threads",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    derivationId: uuid("derivation_id")
+      .notNull()
+      .references(() => derivations.id, { onDelete: "cascade" }),
+    authorId: uuid("author_id").references(() => users.id, { onDelete: "set null" }),
+    anchorKind: commentAnchorKind("anchor_kind").notNull(),
+    status: commentThreadStatus("status").notNull().default("open"),
+    // Text anchors: the cell and field (e.g. "expr", "rows.<rowId>.value"), the encoded
+    // Yjs relative positions of the first character and of the last one, and the quoted text.
+    cellId: text("cell_id"),
+    fieldPath: text("field_path"),
+    anchorStart: bytea("anchor_start"),
+    anchorEnd: bytea("anchor_end"),
+    quote: text("quote"),
+    // Term anchors: "<cellId>:<coordinate>:<term hash>", with the term as it read then.
+    termKey: text("term_key"),
+    termText: text("term_text"),
+    termLatex: text("term_latex"),
+    // What the thread was written on: the latest revision then, and the SHA-256 of the content.
+    revisionId: uuid("revision_id").references(() => revisions.id, { onDelete: "set null" }),
+    contentHash: text("content_hash"),
+    resolvedAt: timestamp("resolved_at", { withTimezone: true }),
+    resolvedById: uuid("resolved_by_id").references(() => users.id, { onDelete: "set null" }),
+    ...timestamps,
+  },
+  (table) => [index("comment_threads_derivation_idx").on(table.derivationId, table.createdAt)],
+);
+export type CommentThread = typeof commentThreads.$inferSelect;
+export type NewCommentThread = typeof commentThreads.$inferInsert;
+
+export const comments = pgTable(
+  "comments",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    threadId: uuid("thread_id")
+      .notNull()
+      .references(() => commentThreads.id, { onDelete: "cascade" }),
+    authorId: uuid("author_id").references(() => users.id, { onDelete: "set null" }),
+    // Markdown; mentions are written as @[Name](user id).
+    body: text("body").notNull(),
+    editedAt: timestamp("edited_at", { withTimezone: true }),
+    deletedAt: timestamp("deleted_at", { withTimezone: true }),
+    ...timestamps,
+  },
+  (table) => [index("comments_thread_idx").on(table.threadId, table.createdAt)],
+);
+export type Comment = typeof comments.$inferSelect;
+
+export const commentMentions = pgTable(
+  "comment_mentions",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    commentId: uuid("comment_id")
+      .notNull()
+      .references(() => comments.id, { onDelete: "cascade" }),
+    userId: uuid("user_id")
+      .notNull()
+      .references(() => users.id, { onDelete: "cascade" }),
+    // Set when the e-mail went out; null when the person had turned mention e-mails off.
+    emailedAt: timestamp("emailed_at", { withTimezone: true }),
+    ...timestamps,
+  },
+  (table) => [uniqueIndex("comment_mentions_comment_user_idx").on(table.commentId, table.userId)],
+);
+export type CommentMention = typeof commentMentions.$inferSelect;
+
+/** A person's notification choices; no row means the defaults. */
+export const notificationSettings = pgTable("notification_settings", {
+  userId: uuid("user_id")
+    .primaryKey()
+    .references(() => users.id, { onDelete: "cascade" }),
+  mentionEmails: boolean("mention_emails").notNull().default(true),
+  ...timestamps,
+});
+export type NotificationSettings = typeof notificationSettings.$inferSelect;

@@ -12,6 +12,7 @@ export type ErrorKind =
   | "unprocessable"
   | "length_required"
   | "too_large"
+  | "unsupported_media_type"
   | "rate_limited"
   | "unavailable"
   | "internal";
@@ -40,7 +41,10 @@ export type ErrorSurface =
   | "revision"
   | "review"
   | "notification"
-  | "archive";
+  | "archive"
+  | "origin"
+  | "job"
+  | "comment";
 
 export type ErrorCode = `${ErrorKind}:${ErrorSurface}`;
 
@@ -54,6 +58,7 @@ export const statusByKind: Record<ErrorKind, number> = {
   unprocessable: 422,
   length_required: 411,
   too_large: 413,
+  unsupported_media_type: 415,
   rate_limited: 429,
   unavailable: 503,
   internal: 500,
@@ -79,6 +84,7 @@ const kindMessages: Record<ErrorKind, string> = {
   unprocessable: "The content cannot be processed as it stands.",
   length_required: "Send the upload with a Content-Length header.",
   too_large: "The upload is larger than the limit.",
+  unsupported_media_type: "The request body has a content type this route does not read.",
   rate_limited: "Too many requests. Try again later.",
   unavailable: "A service is not reachable right now.",
   internal: "Something went wrong on our side.",
@@ -99,11 +105,13 @@ export class AppError extends Error {
   readonly status: number;
   readonly fieldErrors?: FieldErrors;
   readonly details?: ErrorDetails;
+  /** For 429 answers: the Retry-After header (seconds). Not in the body, which stays the same for every caller. */
+  readonly retryAfterSeconds?: number;
   // Next.js keeps a custom digest across the server/client boundary, so error
   // boundaries can tell "database down" apart from other failures in production.
   readonly digest: string;
 
-  constructor(code: ErrorCode, message?: string, options?: { fieldErrors?: FieldErrors; details?: ErrorDetails; cause?: unknown }) {
+  constructor(code: ErrorCode, message?: string, options?: { fieldErrors?: FieldErrors; details?: ErrorDetails; cause?: unknown; retryAfterSeconds?: number }) {
     const [kind, surface] = code.split(":") as [ErrorKind, ErrorSurface];
     super(message ?? defaultMessages[code] ?? kindMessages[kind], { cause: options?.cause });
     this.name = "AppError";
@@ -113,6 +121,7 @@ export class AppError extends Error {
     this.status = statusByKind[kind];
     this.fieldErrors = options?.fieldErrors;
     this.details = options?.details;
+    this.retryAfterSeconds = options?.retryAfterSeconds;
     this.digest = `holonomy:${code}`;
   }
 
@@ -128,7 +137,8 @@ export class AppError extends Error {
   }
 
   toResponse(): Response {
-    return Response.json(this.toJSON(), { status: this.status });
+    const headers = this.retryAfterSeconds === undefined ? undefined : { "retry-after": String(Math.ceil(this.retryAfterSeconds)) };
+    return Response.json(this.toJSON(), { status: this.status, headers });
   }
 
   static isAppError(value: unknown): value is AppError {

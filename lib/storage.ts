@@ -1,7 +1,9 @@
 import "server-only";
 import {
+  CreateBucketCommand,
   DeleteObjectCommand,
   GetObjectCommand,
+  HeadBucketCommand,
   HeadObjectCommand,
   ListObjectsV2Command,
   NoSuchKey,
@@ -105,6 +107,56 @@ export async function listObjectKeys({ prefix, limit = 1000 }: { prefix: string;
     return (response.Contents ?? []).flatMap((item) => (item.Key ? [item.Key] : []));
   } catch (error) {
     throw unavailable("listing", error);
+  }
+}
+
+export interface ObjectSummary {
+  key: string;
+  size: number;
+}
+
+/**
+ * Every object in the bucket, page by page (backups walk the whole bucket;
+ * `listObjectKeys` stops at one page).
+ */
+export async function* listAllObjects(): AsyncGenerator<ObjectSummary> {
+  let token: string | undefined;
+  do {
+    let response;
+    try {
+      response = await client().send(new ListObjectsV2Command({ Bucket: env.S3_BUCKET, ContinuationToken: token }));
+    } catch (error) {
+      throw unavailable("listing", error);
+    }
+    for (const item of response.Contents ?? []) if (item.Key) yield { key: item.Key, size: item.Size ?? 0 };
+    token = response.IsTruncated ? response.NextContinuationToken : undefined;
+  } while (token);
+}
+
+/** An object's bytes with its content type (backups keep both); null when missing. */
+export async function getObjectRecord({ key }: { key: string }): Promise<{ body: Uint8Array; contentType: string } | null> {
+  try {
+    const response = await client().send(new GetObjectCommand({ Bucket: env.S3_BUCKET, Key: key }));
+    if (!response.Body) return null;
+    return { body: await response.Body.transformToByteArray(), contentType: response.ContentType ?? "application/octet-stream" };
+  } catch (error) {
+    if (isMissing(error)) return null;
+    throw unavailable("download", error);
+  }
+}
+
+/** Creates the bucket when it does not exist yet (restoring into a fresh store). */
+export async function ensureBucket(): Promise<void> {
+  try {
+    await client().send(new HeadBucketCommand({ Bucket: env.S3_BUCKET }));
+    return;
+  } catch (error) {
+    if (!isMissing(error)) throw unavailable("bucket look-up", error);
+  }
+  try {
+    await client().send(new CreateBucketCommand({ Bucket: env.S3_BUCKET }));
+  } catch (error) {
+    throw unavailable("bucket creation", error);
   }
 }
 

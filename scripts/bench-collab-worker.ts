@@ -22,6 +22,8 @@ export interface WorkerJob {
 
 export interface WorkerResult {
   latenciesMs: number[];
+  /** CPU time this process used (user + system), ms. */
+  cpuMs: number;
   /** Keystrokes typed, and how many some other client of the document never received. */
   typed: number;
   unseen: number;
@@ -123,8 +125,10 @@ async function run(job: WorkerJob): Promise<WorkerResult> {
     });
   while (!settled() && Date.now() < settleBy) await new Promise((resolve) => setTimeout(resolve, 100));
 
+  const cpu = process.cpuUsage();
   const result: WorkerResult = {
     latenciesMs,
+    cpuMs: Math.round((cpu.user + cpu.system) / 1000),
     typed,
     unseen: pending.size,
     documents: groups.map((group, index) => ({

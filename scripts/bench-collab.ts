@@ -134,10 +134,15 @@ async function bench(): Promise<void> {
     await new Promise((resolve) => setTimeout(resolve, 300));
   }
   let peakRssMb = 0;
+  let serverCpuMs = 0;
+  const cpuAtStart = ((await (await fetch(healthUrl)).json()) as { cpuMs: number }).cpuMs;
   const sampler = setInterval(() => {
     fetch(healthUrl)
-      .then((response) => response.json() as Promise<{ rssMb: number }>)
-      .then((health) => (peakRssMb = Math.max(peakRssMb, health.rssMb)))
+      .then((response) => response.json() as Promise<{ rssMb: number; cpuMs: number }>)
+      .then((health) => {
+        peakRssMb = Math.max(peakRssMb, health.rssMb);
+        serverCpuMs = health.cpuMs - cpuAtStart;
+      })
       .catch(() => undefined);
   }, 250);
 
@@ -196,6 +201,8 @@ async function bench(): Promise<void> {
       lost,
       converged,
       serverPeakRssMb: peakRssMb,
+      serverCpuS: round(serverCpuMs / 1000),
+      loadProcessCpuS: results.map((result) => round(result.cpuMs / 1000)),
       durationS: durationMs / 1000,
       keystrokesPerSecondPerClient: keystrokesPerSecond,
       loadProcesses: generatorProcesses,

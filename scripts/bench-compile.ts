@@ -7,8 +7,7 @@
  *
  * Prints one JSON object. The simulator needs at least 1e6 evaluations per second.
  */
-import { compileMassMatrixSystem } from "../lib/mechanics/compile";
-import { deriveModel } from "../lib/mechanics/derive";
+import { compileMassMatrixSystem, deriveModel } from "../lib/mechanics";
 
 // Double pendulum with point masses on massless rods, derived by the engine from Cartesian
 // definitions (m1 = m2 = 1 kg, l1 = l2 = 1 m, g = 9.81 m/s^2), as the simulator receives it.

@@ -9,11 +9,8 @@
  * output grid); derivation and compilation happen once per model in the app
  * and are not part of a run.
  */
-import { deriveModel } from "../lib/mechanics/derive";
-import { chainModel } from "../lib/mechanics/templates/chain";
-import { energyDrift } from "../lib/simulate/checks";
-import { integrate, type SimulationSettings } from "../lib/simulate/integrate";
-import { systemFromDerivation } from "../lib/simulate/system";
+import { deriveModel, chainModel } from "../lib/mechanics";
+import { energyDrift, integrate, type SimulationSettings, systemFromDerivation } from "../lib/simulate";
 
 // m1 = m2 = 1 kg, l1 = l2 = 1 m, g = 9.81 m/s², built from Cartesian definitions like the app's template.
 const model = chainModel({ links: 2, masses: [1, 1], lengths: [1, 1], gravity: 9.81 });

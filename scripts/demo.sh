@@ -31,4 +31,5 @@ start_collab_server "$COLLAB_PORT"
 trap stop_collab_server EXIT
 trap 'exit 130' INT TERM
 log "serving on http://localhost:3000 — sign in as lead@demo.holonomy.test (password in README)"
-npx next start -H 127.0.0.1 -p 3000
+# The app and one queue worker (server simulations and fits).
+exec bash scripts/start.sh 3000

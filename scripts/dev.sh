@@ -10,6 +10,9 @@ bash scripts/s3.sh start 4568 holonomy
 npx tsx scripts/migrate.ts
 export COLLAB_PORT="${COLLAB_PORT:-3001}"
 start_collab_server "$COLLAB_PORT"
-trap stop_collab_server EXIT
+# One queue worker for server simulations and fits; both stop with the dev server.
+node --conditions=react-server --import tsx scripts/worker.ts &
+WORKER=$!
+trap 'kill "$WORKER" 2>/dev/null || true; stop_collab_server' EXIT
 trap 'exit 130' INT TERM
 npx next dev -H 127.0.0.1 -p 3000

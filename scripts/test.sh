@@ -96,8 +96,13 @@ npx vitest run --project unit \
 
 log "vitest: integration (fresh holonomy_test database)"
 fresh_test_database
+# Server runs and fits are queued jobs: a queue worker runs them, as in production.
+node --conditions=react-server --import tsx scripts/worker.ts >"$LOG_DIR/test-worker.log" 2>&1 &
+queue_worker=$!
 npx vitest run --project integration \
   --reporter=default --reporter=json --outputFile.json="$REPORT_DIR/vitest-integration.json" || failed_steps+=("vitest integration")
+kill "$queue_worker" 2>/dev/null || true
+wait "$queue_worker" 2>/dev/null || true
 
 log "building the app for the browser suite"
 # next build sets NODE_ENV=production itself; it must not see NODE_ENV=test.

@@ -1,27 +1,16 @@
 /**
  * The collaboration server's entry: the shared-document websocket server on
  * 127.0.0.1:COLLAB_PORT under /collab, wired to PostgreSQL. Run it with
- * `npx tsx --conditions=react-server server/collab.ts` (the start, dev, demo
- * and test scripts do). SIGTERM or SIGINT closes connections, writes and
- * compacts every loaded document, then exits.
+ * `npm run collab` (node --conditions=react-server --import tsx server/collab.ts);
+ * the start, dev, demo and browser-test commands do. SIGTERM or SIGINT closes
+ * connections, writes and compacts every loaded document, then exits.
  */
 import { closeDatabase } from "@/db/client";
 import { env } from "@/lib/env";
-import { createTokenAuthenticator } from "./collab/auth";
-import { createPostgresNotifications } from "./collab/listener";
-import { postgresJsonCopy, postgresPersistence } from "./collab/persistence";
-import { createCollabServer } from "./collab/server";
+import { createPostgresCollabServer } from "./collab/postgres";
 import { collabLimitsFromEnv, consoleLogger } from "./collab/setup";
 
-const server = createCollabServer({
-  auth: createTokenAuthenticator({ secret: env.NEXTAUTH_SECRET }),
-  persistence: postgresPersistence,
-  jsonCopy: postgresJsonCopy,
-  notifications: createPostgresNotifications({ connectionString: env.DATABASE_URL, logger: consoleLogger }),
-  limits: collabLimitsFromEnv(env),
-  logger: consoleLogger,
-});
-
+const server = createPostgresCollabServer({ limits: collabLimitsFromEnv(env), logger: consoleLogger });
 const port = await server.listen(env.COLLAB_PORT, "127.0.0.1");
 consoleLogger.info(`listening on ws://127.0.0.1:${port}/collab (pid ${process.pid})`);
 

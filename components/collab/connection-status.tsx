@@ -21,7 +21,11 @@ function edits(count: number): string {
 }
 
 /** What the page says, and the `data-state` tests read. */
-export function connectionText({ connection, editor, pending, synced }: ConnectionStatusProps): { state: string; text: string; tone: "muted" | "ok" | "warn" | "danger" } {
+export function connectionText({ connection, editor, pending, synced }: ConnectionStatusProps): {
+  state: string;
+  text: string;
+  tone: "muted" | "ok" | "warn" | "danger";
+} {
   switch (connection.state) {
     case "connecting":
       return { state: "connecting", text: synced ? "Reconnecting…" : "Connecting…", tone: "muted" };

@@ -35,10 +35,7 @@ export interface CollabUser {
 
 /** What the page says about the connection. */
 export type ConnectionState =
-  | { state: "connecting" }
-  | { state: "live" }
-  | { state: "offline"; message?: string }
-  | { state: "refused"; code: number; reason: string };
+  { state: "connecting" } | { state: "live" } | { state: "offline"; message?: string } | { state: "refused"; code: number; reason: string };
 
 /** One person on the page (one entry per person, however many tabs they have open). */
 export interface Peer {

@@ -130,7 +130,10 @@ export const SharedInput = forwardRef<HTMLInputElement, SharedInputProps>(functi
 
 export type SharedTextareaProps = Binding & Omit<TextareaHTMLAttributes<HTMLTextAreaElement>, "value" | "onChange" | "defaultValue">;
 
-export const SharedTextarea = forwardRef<HTMLTextAreaElement, SharedTextareaProps>(function SharedTextarea({ text, origin, transformInsert, onEdit, ...rest }, outer) {
+export const SharedTextarea = forwardRef<HTMLTextAreaElement, SharedTextareaProps>(function SharedTextarea(
+  { text, origin, transformInsert, onEdit, ...rest },
+  outer,
+) {
   const ref = useRef<HTMLTextAreaElement>(null);
   useImperativeHandle(outer, () => ref.current!, []);
   const { value, onChange } = useSharedValue({ text, origin, transformInsert, onEdit, readOnly: rest.readOnly }, ref);

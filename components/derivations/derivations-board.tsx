@@ -55,13 +55,16 @@ export function DerivationsBoard({
   const [search, setSearch] = useState("");
   const [searchTerm, setSearchTerm] = useState("");
   const [sorting, setSorting] = useState<SortingState>([{ id: "updatedAt", desc: true }]);
-  const [page, setPage] = useState(1);
   // Typing in the search box asks the server once the typing pauses.
   useEffect(() => {
     const timer = setTimeout(() => setSearchTerm(search.trim()), 250);
     return () => clearTimeout(timer);
   }, [search]);
-  useEffect(() => setPage(1), [statusFilter, ownerFilter, searchTerm, sorting]);
+  // The page belongs to one choice of filters and sorting: another choice starts again at page 1.
+  const listing = JSON.stringify([statusFilter, ownerFilter, searchTerm, sorting]);
+  const [paging, setPaging] = useState({ listing, page: 1 });
+  const page = paging.listing === listing ? paging.page : 1;
+  const setPage = (next: (page: number) => number) => setPaging({ listing, page: next(page) });
   const sort = sorting[0];
   const params = new URLSearchParams({ page: String(page), pageSize: String(PAGE_SIZE) });
   if (sort) {
@@ -90,10 +93,9 @@ export function DerivationsBoard({
   useShortcut("i", "Import a model file", () => setImporting(true), mayCreate);
 
   const rows = data?.derivations ?? emptyRows;
-  // Listed again in an answer read after the deletion (restored from the trash panel, say): nothing left to undo.
-  useEffect(() => {
-    if (trashed && dataUpdatedAt > trashed.at && rows.some((row) => row.id === trashed.row.id)) setTrashed(null);
-  }, [rows, trashed, dataUpdatedAt]);
+  // Listed again in an answer read after the deletion (restored from the trash panel, say): nothing left to
+  // undo. Adjusted while rendering (React's pattern for state that follows other values), not in an effect.
+  if (trashed && dataUpdatedAt > trashed.at && rows.some((row) => row.id === trashed.row.id)) setTrashed(null);
   const total = data?.total ?? 0;
   const pages = Math.max(1, Math.ceil(total / PAGE_SIZE));
   const filtered = Boolean(statusFilter || ownerFilter || searchTerm);

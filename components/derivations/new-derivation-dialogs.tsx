@@ -1,7 +1,7 @@
 "use client";
 
 import { useMutation } from "@tanstack/react-query";
-import { useEffect, useRef, useState } from "react";
+import { useRef, useState } from "react";
 import { MAX_MODEL_FILE_LENGTH } from "@/app/api/teams/[teamId]/derivations/import/schema";
 import { Button } from "@/components/ui/button";
 import { Dialog } from "@/components/ui/dialog";
@@ -82,21 +82,35 @@ export function NewDerivationDialog({
       apiFetch<Created>(`/api/teams/${teamId}/derivations`, { method: "POST", body: input, headers: { "Idempotency-Key": key } }),
     { identity: (input) => JSON.stringify(input), onCreated },
   );
+  // The request (and its Idempotency-Key, for a retry after a lost answer) outlives an opening; its
+  // error does not. The fields live in the form, which the dialog mounts afresh on every opening.
+  const close = () => {
+    clear();
+    onClose();
+  };
+  return (
+    <Dialog open={open} onClose={close} title="New derivation">
+      <NewDerivationForm pending={pending} error={error} submit={submit} onCancel={close} />
+    </Dialog>
+  );
+}
+
+function NewDerivationForm({
+  pending,
+  error,
+  submit,
+  onCancel,
+}: {
+  pending: boolean;
+  error: Error | null;
+  submit: (input: NewDerivationInput) => void;
+  onCancel: () => void;
+}) {
   const [title, setTitle] = useState("");
   const [template, setTemplate] = useState<TemplateId | "blank">("blank");
   const [links, setLinks] = useState(3);
   const [titleTouched, setTitleTouched] = useState(false);
   const [problem, setProblem] = useState<string | null>(null);
-
-  useEffect(() => {
-    if (!open) return;
-    setTitle("");
-    setTemplate("blank");
-    setLinks(3);
-    setTitleTouched(false);
-    setProblem(null);
-    clear();
-  }, [open, clear]);
 
   const chosen = template === "blank" ? BLANK : (TEMPLATES.find((t) => t.id === template) ?? BLANK);
   const fieldError = error instanceof AppError ? (error.fieldErrors?.title?.[0] ?? error.fieldErrors?.links?.[0]) : undefined;
@@ -113,85 +127,83 @@ export function NewDerivationDialog({
   }
 
   return (
-    <Dialog open={open} onClose={onClose} title="New derivation">
-      <form
-        noValidate
-        className="space-y-4"
-        onSubmit={(event) => {
-          event.preventDefault();
-          const trimmed = title.trim();
-          if (!trimmed) return setProblem("Give the derivation a title.");
-          if (template === "n-link-chain" && !(Number.isInteger(links) && links >= MIN_CHAIN_LINKS && links <= MAX_CHAIN_LINKS)) {
-            return setProblem(`Choose between ${MIN_CHAIN_LINKS} and ${MAX_CHAIN_LINKS} links.`);
-          }
-          setProblem(null);
-          submit({ title: trimmed, template, ...(template === "n-link-chain" ? { links } : {}) });
-        }}
-      >
-        {error && !fieldError ? <Notice tone="error">{error.message}</Notice> : null}
-        <label className="block text-sm">
-          <span className="mb-1 block font-medium">Title</span>
-          <input
-            autoFocus
-            className={`${inputClass} w-full`}
-            value={title}
-            maxLength={160}
-            onChange={(event) => {
-              setTitle(event.target.value);
-              setTitleTouched(true);
-            }}
-            aria-invalid={Boolean(problem ?? fieldError) || undefined}
-          />
-        </label>
-        {(problem ?? fieldError) ? (
-          <p className="text-sm text-danger" role="alert">
-            {problem ?? fieldError}
-          </p>
-        ) : null}
-        <fieldset className="space-y-1.5">
-          <legend className="mb-1 text-sm font-medium">Start from</legend>
-          {[BLANK, ...TEMPLATES].map((option) => (
-            <label
-              key={option.id}
-              className="flex cursor-pointer items-start gap-2 rounded border border-line px-2.5 py-1.5 text-sm has-[:checked]:border-action has-[:checked]:bg-action-soft"
-            >
-              <input type="radio" name="template" className="mt-1" value={option.id} checked={template === option.id} onChange={() => choose(option.id)} />
-              <span>
-                <span className="font-medium">{option.title}</span>
-                <span className="block text-xs text-muted">{option.description}</span>
-              </span>
-            </label>
-          ))}
-        </fieldset>
-        {chosen.id === "n-link-chain" ? (
-          <label className="flex items-center gap-2 text-sm">
-            <span className="font-medium">Number of links N</span>
-            <input
-              type="number"
-              min={MIN_CHAIN_LINKS}
-              max={MAX_CHAIN_LINKS}
-              step={1}
-              className={`${inputClass} w-20`}
-              value={Number.isFinite(links) ? links : ""}
-              onChange={(event) => {
-                const n = event.target.valueAsNumber;
-                setLinks(n);
-                if (!titleTouched && Number.isInteger(n)) setTitle(defaultTitle("n-link-chain", n));
-              }}
-            />
-            <span className="text-xs text-muted">
-              {MIN_CHAIN_LINKS}–{MAX_CHAIN_LINKS}
+    <form
+      noValidate
+      className="space-y-4"
+      onSubmit={(event) => {
+        event.preventDefault();
+        const trimmed = title.trim();
+        if (!trimmed) return setProblem("Give the derivation a title.");
+        if (template === "n-link-chain" && !(Number.isInteger(links) && links >= MIN_CHAIN_LINKS && links <= MAX_CHAIN_LINKS)) {
+          return setProblem(`Choose between ${MIN_CHAIN_LINKS} and ${MAX_CHAIN_LINKS} links.`);
+        }
+        setProblem(null);
+        submit({ title: trimmed, template, ...(template === "n-link-chain" ? { links } : {}) });
+      }}
+    >
+      {error && !fieldError ? <Notice tone="error">{error.message}</Notice> : null}
+      <label className="block text-sm">
+        <span className="mb-1 block font-medium">Title</span>
+        <input
+          autoFocus
+          className={`${inputClass} w-full`}
+          value={title}
+          maxLength={160}
+          onChange={(event) => {
+            setTitle(event.target.value);
+            setTitleTouched(true);
+          }}
+          aria-invalid={Boolean(problem ?? fieldError) || undefined}
+        />
+      </label>
+      {(problem ?? fieldError) ? (
+        <p className="text-sm text-danger" role="alert">
+          {problem ?? fieldError}
+        </p>
+      ) : null}
+      <fieldset className="space-y-1.5">
+        <legend className="mb-1 text-sm font-medium">Start from</legend>
+        {[BLANK, ...TEMPLATES].map((option) => (
+          <label
+            key={option.id}
+            className="flex cursor-pointer items-start gap-2 rounded border border-line px-2.5 py-1.5 text-sm has-[:checked]:border-action has-[:checked]:bg-action-soft"
+          >
+            <input type="radio" name="template" className="mt-1" value={option.id} checked={template === option.id} onChange={() => choose(option.id)} />
+            <span>
+              <span className="font-medium">{option.title}</span>
+              <span className="block text-xs text-muted">{option.description}</span>
             </span>
           </label>
-        ) : null}
-        <div className="flex justify-end gap-2">
-          <Button onClick={onClose}>Cancel</Button>
-          <Button type="submit" variant="primary" disabled={pending}>
-            {pending ? "Creating…" : "Create"}
-          </Button>
-        </div>
-      </form>
-    </Dialog>
+        ))}
+      </fieldset>
+      {chosen.id === "n-link-chain" ? (
+        <label className="flex items-center gap-2 text-sm">
+          <span className="font-medium">Number of links N</span>
+          <input
+            type="number"
+            min={MIN_CHAIN_LINKS}
+            max={MAX_CHAIN_LINKS}
+            step={1}
+            className={`${inputClass} w-20`}
+            value={Number.isFinite(links) ? links : ""}
+            onChange={(event) => {
+              const n = event.target.valueAsNumber;
+              setLinks(n);
+              if (!titleTouched && Number.isInteger(n)) setTitle(defaultTitle("n-link-chain", n));
+            }}
+          />
+          <span className="text-xs text-muted">
+            {MIN_CHAIN_LINKS}–{MAX_CHAIN_LINKS}
+          </span>
+        </label>
+      ) : null}
+      <div className="flex justify-end gap-2">
+        <Button onClick={onCancel}>Cancel</Button>
+        <Button type="submit" variant="primary" disabled={pending}>
+          {pending ? "Creating…" : "Create"}
+        </Button>
+      </div>
+    </form>
   );
 }
 
@@ -220,8 +232,6 @@ export function ImportDerivationDialog({
   onImported: (id: string) => void;
   onClose: () => void;
 }) {
-  const fileRef = useRef<HTMLInputElement>(null);
-  const [missing, setMissing] = useState<AppError | null>(null);
   const {
     pending,
     error: failure,
@@ -236,13 +246,34 @@ export function ImportDerivationDialog({
     },
     { identity: (file) => `${file.name}\u0000${file.size}\u0000${file.lastModified}`, onCreated: onImported },
   );
-  const error = missing ?? (failure instanceof AppError ? failure : failure ? new AppError("unavailable:api", failure.message) : null);
-
-  useEffect(() => {
-    if (!open) return;
-    setMissing(null);
+  // As for a new derivation: the form (file and refusal) is mounted afresh on every opening.
+  const close = () => {
     clear();
-  }, [open, clear]);
+    onClose();
+  };
+  return (
+    <Dialog open={open} onClose={close} title="Import a model file or notebook archive">
+      <ImportForm pending={pending} failure={failure} submit={submit} clear={clear} onCancel={close} />
+    </Dialog>
+  );
+}
+
+function ImportForm({
+  pending,
+  failure,
+  submit,
+  clear,
+  onCancel,
+}: {
+  pending: boolean;
+  failure: Error | null;
+  submit: (file: File) => void;
+  clear: () => void;
+  onCancel: () => void;
+}) {
+  const fileRef = useRef<HTMLInputElement>(null);
+  const [missing, setMissing] = useState<AppError | null>(null);
+  const error = missing ?? (failure instanceof AppError ? failure : failure ? new AppError("unavailable:api", failure.message) : null);
 
   function start() {
     const file = fileRef.current?.files?.[0];
@@ -261,54 +292,51 @@ export function ImportDerivationDialog({
     : [];
 
   return (
-    <Dialog open={open} onClose={onClose} title="Import a model file or notebook archive">
-      <form
-        className="space-y-4"
-        onSubmit={(event) => {
-          event.preventDefault();
-          start();
+    <form
+      className="space-y-4"
+      onSubmit={(event) => {
+        event.preventDefault();
+        start();
+      }}
+    >
+      <p className="text-sm text-muted">
+        A <span className="font-mono">.model.json</span> file (the model) or a <span className="font-mono">.notebook.zip</span> archive (the whole notebook with
+        its stored runs and files) becomes a new derivation in this team. A file with a problem is refused as a whole, with every field or entry and the reason.
+      </p>
+      <FileInput
+        ref={fileRef}
+        label="Model file or notebook archive"
+        name="file"
+        accept=".json,application/json,.zip,application/zip"
+        maxBytes={NOTEBOOK_ARCHIVE_UPLOAD_LIMIT}
+        hint={`A .model.json file up to ${formatBytes(MAX_MODEL_FILE_LENGTH)}, or a .notebook.zip archive`}
+        onFile={(file) => {
+          clear();
+          // A model file has a smaller limit than an archive: refuse it here, and clear it, so nothing is sent.
+          const refusal = file && !file.name.endsWith(".zip") ? fileTooLarge(file, MAX_MODEL_FILE_LENGTH) : null;
+          if (refusal && fileRef.current) fileRef.current.value = "";
+          setMissing(refusal ? new AppError("too_large:model", refusal) : null);
         }}
-      >
-        <p className="text-sm text-muted">
-          A <span className="font-mono">.model.json</span> file (the model) or a <span className="font-mono">.notebook.zip</span> archive (the whole notebook
-          with its stored runs and files) becomes a new derivation in this team. A file with a problem is refused as a whole, with every field or entry and the
-          reason.
-        </p>
-        <FileInput
-          ref={fileRef}
-          label="Model file or notebook archive"
-          name="file"
-          accept=".json,application/json,.zip,application/zip"
-          maxBytes={NOTEBOOK_ARCHIVE_UPLOAD_LIMIT}
-          hint={`A .model.json file up to ${formatBytes(MAX_MODEL_FILE_LENGTH)}, or a .notebook.zip archive`}
-          onFile={(file) => {
-            clear();
-            // A model file has a smaller limit than an archive: refuse it here, and clear it, so nothing is sent.
-            const refusal = file && !file.name.endsWith(".zip") ? fileTooLarge(file, MAX_MODEL_FILE_LENGTH) : null;
-            if (refusal && fileRef.current) fileRef.current.value = "";
-            setMissing(refusal ? new AppError("too_large:model", refusal) : null);
-          }}
-          onRefused={(message) => setMissing(new AppError("too_large:model", message))}
-        />
-        {error ? (
-          <div className="rounded border border-danger/60 bg-danger-soft px-3 py-2 text-sm" role="alert" data-testid="import-error">
-            <p className="font-medium text-danger">Not imported. {error.message}</p>
-            {fieldLines.length > 0 && !(fieldLines.length === 1 && error.message.includes(fieldLines[0]!.split(": ").slice(1).join(": "))) ? (
-              <ul className="max-h-60 list-disc overflow-y-auto pl-5 font-mono text-xs">
-                {fieldLines.map((line) => (
-                  <li key={line}>{line}</li>
-                ))}
-              </ul>
-            ) : null}
-          </div>
-        ) : null}
-        <div className="flex justify-end gap-2">
-          <Button onClick={onClose}>Cancel</Button>
-          <Button type="submit" variant="primary" disabled={pending}>
-            {pending ? "Importing…" : "Import"}
-          </Button>
+        onRefused={(message) => setMissing(new AppError("too_large:model", message))}
+      />
+      {error ? (
+        <div className="rounded border border-danger/60 bg-danger-soft px-3 py-2 text-sm" role="alert" data-testid="import-error">
+          <p className="font-medium text-danger">Not imported. {error.message}</p>
+          {fieldLines.length > 0 && !(fieldLines.length === 1 && error.message.includes(fieldLines[0]!.split(": ").slice(1).join(": "))) ? (
+            <ul className="max-h-60 list-disc overflow-y-auto pl-5 font-mono text-xs">
+              {fieldLines.map((line) => (
+                <li key={line}>{line}</li>
+              ))}
+            </ul>
+          ) : null}
         </div>
-      </form>
-    </Dialog>
+      ) : null}
+      <div className="flex justify-end gap-2">
+        <Button onClick={onCancel}>Cancel</Button>
+        <Button type="submit" variant="primary" disabled={pending}>
+          {pending ? "Importing…" : "Import"}
+        </Button>
+      </div>
+    </form>
   );
 }

@@ -1,6 +1,7 @@
 "use client";
 
 /** The history page's two writes: naming a checkpoint, and restoring a revision (as a new one). */
+import { useMutation } from "@tanstack/react-query";
 import { useRouter } from "next/navigation";
 import { useId, useState, type FormEvent } from "react";
 import { Button } from "@/components/ui/button";
@@ -16,28 +17,25 @@ export function CheckpointForm({ derivationId }: { derivationId: string }) {
   const id = useId();
   const [name, setName] = useState("");
   const [error, setError] = useState<string | null>(null);
-  const [pending, setPending] = useState(false);
   const [done, setDone] = useState<string | null>(null);
+  const naming = useMutation({
+    mutationFn: (checkpoint: { name: string }) =>
+      apiFetch<{ revision: { number: number } }>(`/api/derivations/${derivationId}/revisions`, { method: "POST", body: checkpoint }),
+    onSuccess: ({ revision }, checkpoint) => {
+      setDone(`Checkpoint "${checkpoint.name}" is revision ${revision.number}.`);
+      setName("");
+      router.refresh();
+    },
+    onError: (caught) => setError(caught instanceof AppError ? (caught.fieldErrors?.name?.[0] ?? caught.message) : "The checkpoint could not be named."),
+  });
+  const pending = naming.isPending;
 
-  async function submit(event: FormEvent) {
+  function submit(event: FormEvent) {
     event.preventDefault();
     const parsed = checkpointSchema.safeParse({ name });
     if (!parsed.success) return setError(parsed.error.issues[0]?.message ?? "Name the checkpoint.");
-    setPending(true);
     setError(null);
-    try {
-      const { revision } = await apiFetch<{ revision: { number: number } }>(`/api/derivations/${derivationId}/revisions`, {
-        method: "POST",
-        body: parsed.data,
-      });
-      setDone(`Checkpoint "${parsed.data.name}" is revision ${revision.number}.`);
-      setName("");
-      router.refresh();
-    } catch (caught) {
-      setError(caught instanceof AppError ? (caught.fieldErrors?.name?.[0] ?? caught.message) : "The checkpoint could not be named.");
-    } finally {
-      setPending(false);
-    }
+    naming.mutate(parsed.data);
   }
 
   return (
@@ -76,26 +74,26 @@ export function CheckpointForm({ derivationId }: { derivationId: string }) {
 export function RestoreButton({ derivationId, revision }: { derivationId: string; revision: { id: string; number: number } }) {
   const router = useRouter();
   const [open, setOpen] = useState(false);
-  const [pending, setPending] = useState(false);
-  const [error, setError] = useState<string | null>(null);
-
-  async function restore() {
-    setPending(true);
-    setError(null);
-    try {
-      await apiFetch(`/api/derivations/${derivationId}/revisions/${revision.id}/restore`, { method: "POST" });
+  const restoring = useMutation({
+    mutationFn: () => apiFetch(`/api/derivations/${derivationId}/revisions/${revision.id}/restore`, { method: "POST" }),
+    onSuccess: () => {
       setOpen(false);
       router.refresh();
-    } catch (caught) {
-      setError(caught instanceof Error ? caught.message : "The restore failed.");
-    } finally {
-      setPending(false);
-    }
-  }
+    },
+  });
+  const pending = restoring.isPending;
+  const error = restoring.error ? restoring.error.message || "The restore failed." : null;
 
   return (
     <>
-      <Button size="sm" variant="ghost" onClick={() => setOpen(true)}>
+      <Button
+        size="sm"
+        variant="ghost"
+        onClick={() => {
+          restoring.reset();
+          setOpen(true);
+        }}
+      >
         Restore
       </Button>
       <Dialog open={open} onClose={() => setOpen(false)} title={`Restore revision ${revision.number}`}>
@@ -107,7 +105,7 @@ export function RestoreButton({ derivationId, revision }: { derivationId: string
           </p>
           <div className="flex justify-end gap-2">
             <Button onClick={() => setOpen(false)}>Cancel</Button>
-            <Button variant="primary" onClick={() => void restore()} disabled={pending} autoFocus>
+            <Button variant="primary" onClick={() => restoring.mutate()} disabled={pending} autoFocus>
               {pending ? "Restoring…" : `Restore revision ${revision.number}`}
             </Button>
           </div>

@@ -2,6 +2,7 @@
 
 import clsx from "clsx";
 import { useEffect, useId, useRef, useState, type DragEvent, type KeyboardEvent, type ReactNode } from "react";
+import { CellCommentCount } from "@/components/comments/cell-comment-count";
 import { CELL_LABELS, isGeneratedCell, type Cell, type CellKind } from "@/lib/notebook/document";
 
 /** Keyboard shortcuts that act on the cell holding the focus (listed in the help dialog). */
@@ -19,6 +20,9 @@ const KIND_MARKS: Record<CellKind, string> = {
   parameters: "p",
   inputs: "u",
   definitions: "≔",
+  constraints: "g=0",
+  "rate-constraints": "a·q'",
+  outputs: "y",
   kinetic: "T",
   potential: "V",
   dissipation: "D",
@@ -142,6 +146,7 @@ export function CellFrame(props: CellFrameProps) {
             stale
           </span>
         )}
+        <CellCommentCount cellId={cell.id} />
         {props.actions}
         {!readOnly && (
           <CellMenu

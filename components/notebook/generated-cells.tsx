@@ -7,7 +7,8 @@
  * visible but are marked stale (the frame shows the marker, the body dims).
  */
 import clsx from "clsx";
-import { useEffect, useReducer, useRef, useState, type ReactNode } from "react";
+import { lazy, Suspense, useEffect, useReducer, useRef, useState, type ReactNode } from "react";
+import { useTermComments } from "@/components/comments/term-comments";
 import {
   CODE_EXPORT_LANGUAGES,
   EQUATION_FORMS,
@@ -20,11 +21,13 @@ import {
   type LinearizationCell,
 } from "@/lib/notebook/document";
 import { symbolLatex } from "@/lib/notebook/latex-preview";
-import { STABILITY_RULE } from "@/lib/mechanics/stability-rule";
+import { STABILITY_RULE } from "@/lib/mechanics/browser";
 import type { ModeView, NotebookResults } from "@/lib/notebook/results";
 import { MathView } from "./math";
 import { safetyNote } from "@/lib/domain";
 import { ViewChoiceNote } from "./view-choice";
+
+const FrequencyResponsePanel = lazy(() => import("./frequency-response-panel"));
 
 export interface GeneratedCellProps<C> {
   cell: C;
@@ -84,6 +87,7 @@ export function EquationsCellView(props: EquationsCellProps) {
   // Equations typeset lazily; each one re-renders this cell so its terms get decorated below.
   const [, typeset] = useReducer((count: number) => count + 1, 0);
   const form = cell.settings.form;
+  const termComments = useTermComments(cell.id, containerRef);
 
   // Terms are spans KaTeX wrote from \htmlData{term=ID}; make them reachable by keyboard too.
   useEffect(() => {
@@ -173,12 +177,14 @@ export function EquationsCellView(props: EquationsCellProps) {
         onClick={(event) => {
           const term = termAt(event.target);
           if (term) onTermSelect?.(term);
+          if (term && event.target instanceof HTMLElement) termComments?.open(event.target);
         }}
         onKeyDown={(event) => {
           const term = termAt(event.target);
           if (term && (event.key === "Enter" || event.key === " ")) {
             event.preventDefault();
             onTermSelect?.(term);
+            if (event.target instanceof HTMLElement) termComments?.open(event.target);
           }
         }}
       >
@@ -243,7 +249,7 @@ export function ConservedCellView({ results, evaluating }: GeneratedCellProps<Co
 
 function actingText(actedOnBy: readonly string[]): string {
   if (actedOnBy.length === 0) return "a generalized force acts";
-  const names = actedOnBy.map((cause) => (cause === "applied force" ? "the applied force" : "the dissipation"));
+  const names = actedOnBy.map((cause) => (cause === "applied force" ? "the applied force" : cause === "constraint" ? "a constraint force" : "the dissipation"));
   return `${names.join(" and ")} act${names.length === 1 ? "s" : ""}`;
 }
 
@@ -329,6 +335,18 @@ export function LinearizationCellView(props: LinearizationCellProps) {
           {selected.inputNames.length > 0 && <MathView latex={`B = ${matrixLatex(selected.B)}`} display label="Input matrix B" />}
           <StabilityVerdictView stability={selected.stability} reason={selected.stabilityReason} eigenvalues={selected.eigenvalues} />
           {selected.modes.length > 0 && <ModeTable modes={selected.modes} coordinates={coordinatesOf(selected.stateNames)} />}
+          {selected.outputs && (
+            <Suspense fallback={<p className="text-sm text-muted">Loading the frequency response…</p>}>
+              <FrequencyResponsePanel
+                key={selected.index}
+                selected={selected}
+                outputs={cell.settings.outputs}
+                input={cell.settings.input}
+                title={cell.title ?? "linearization"}
+                onChoose={readOnly ? undefined : (patch) => onOperation({ type: "updateSettings", cellId: cell.id, patch })}
+              />
+            </Suspense>
+          )}
         </div>
       )}
     </div>

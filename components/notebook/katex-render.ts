@@ -1,7 +1,9 @@
 /**
- * KaTeX rendering for the notebook. Only `\htmlData{term=ID}` is trusted —
- * it is how the engine marks each top-level term of an equation so the
- * interface can address it; every other HTML-producing command is refused.
+ * KaTeX rendering for the notebook. In LaTeX the engine wrote, only
+ * `\htmlData{term=ID}` is trusted — it is how the engine marks each top-level
+ * term of an equation so the interface can address it; every other
+ * HTML-producing command (\href, \url, \includegraphics, \htmlClass, …) is
+ * refused. LaTeX a person typed in a note is trusted with nothing.
  *
  * Loaded on demand (see MathView), so KaTeX is not part of the notebook's
  * first-load JavaScript.
@@ -33,16 +35,19 @@ export const NOTE_MAX_EXPAND = 1_000;
 const cache = new Map<string, string>();
 const CACHE_LIMIT = 300;
 
+/** Whose LaTeX it is: the engine's (term marks trusted) or a person's (nothing trusted). */
+export type LatexSource = "engine" | "note";
+
 /** HTML for a LaTeX string; a LaTeX error renders as the source in the error colour, never throws. */
-export function renderLatex(latex: string, display = false, maxExpand = ENGINE_MAX_EXPAND): string {
-  const key = `${display ? "D" : "I"}${maxExpand}:${latex}`;
+export function renderLatex(latex: string, display = false, maxExpand = ENGINE_MAX_EXPAND, source: LatexSource = "engine"): string {
+  const key = `${source}:${display ? "D" : "I"}${maxExpand}:${latex}`;
   const hit = cache.get(key);
   if (hit !== undefined) return hit;
   const html = katex.renderToString(latex, {
     displayMode: display,
     throwOnError: false,
     errorColor: "var(--danger, #b3261e)",
-    trust: trustTermData,
+    trust: source === "engine" ? trustTermData : false,
     strict: "ignore",
     maxSize: 20,
     maxExpand,

@@ -25,7 +25,7 @@ const mathBlock: TokenizerAndRendererExtension = {
     if (match) return { type: "mathBlock", raw: match[0], text: match[1]!.trim(), display: true } satisfies MathToken;
     return undefined;
   },
-  renderer: (token) => `<div class="hn-math-display">${renderLatex((token as unknown as MathToken).text, true, NOTE_MAX_EXPAND)}</div>\n`,
+  renderer: (token) => `<div class="hn-math-display">${renderLatex((token as unknown as MathToken).text, true, NOTE_MAX_EXPAND, "note")}</div>\n`,
 };
 
 const mathInline: TokenizerAndRendererExtension = {
@@ -45,7 +45,7 @@ const mathInline: TokenizerAndRendererExtension = {
   },
   renderer: (token) => {
     const math = token as unknown as MathToken;
-    const html = renderLatex(math.text, math.display, NOTE_MAX_EXPAND);
+    const html = renderLatex(math.text, math.display, NOTE_MAX_EXPAND, "note");
     return math.display ? `<span class="hn-math-display">${html}</span>` : html;
   },
 };

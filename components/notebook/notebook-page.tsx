@@ -21,6 +21,8 @@ import type { ProviderFactory } from "@/components/collab/shared-session";
 import { SharedInput } from "@/components/collab/shared-text-input";
 import { useLeaveGuard } from "@/components/collab/use-leave-guard";
 import { useSharedDocument } from "@/components/collab/use-shared-document";
+import { CommentsSource } from "@/components/comments/comments-context";
+import { CommentsButton, CommentsPanel } from "@/components/comments/comments-panel";
 import { ReviewSyncProvider } from "@/components/review/review-sync";
 import { useShortcut, useShortcutHelp } from "@/components/shortcuts";
 import { Button } from "@/components/ui/button";
@@ -295,6 +297,7 @@ export function NotebookPage(props: NotebookPageProps) {
             </span>
           )}
           <div className="ml-auto flex flex-wrap items-center gap-2" role="toolbar" aria-label="Derivation actions">
+            <CommentsButton />
             <Button variant="primary" size="sm" onClick={evaluateNow} disabled={evaluation.evaluating} title="Evaluate (e, or Ctrl+Enter in an editor)">
               {evaluation.evaluating ? <Spinner /> : null}
               {evaluation.evaluating ? "Evaluating…" : "Evaluate"}
@@ -395,19 +398,19 @@ export function NotebookPage(props: NotebookPageProps) {
 
       <UploadLimitsProvider limits={props.uploadLimits}>
         <SharedFieldsProvider value={fields}>
-        <Notebook
-          document={doc}
-          onChange={(_next, op) => applyEdit(op)}
-          results={evaluation.results}
-          stale={evaluation.stale}
-          evaluating={evaluation.evaluating}
-          diagnostics={evaluation.diagnostics}
-          evaluatedModel={evaluation.evaluatedModel}
-          readOnly={!writable}
-          derivationId={derivationId}
-          view={view}
-          canStoreRuns={canStoreRuns}
-        />
+          <Notebook
+            document={doc}
+            onChange={(_next, op) => applyEdit(op)}
+            results={evaluation.results}
+            stale={evaluation.stale}
+            evaluating={evaluation.evaluating}
+            diagnostics={evaluation.diagnostics}
+            evaluatedModel={evaluation.evaluatedModel}
+            readOnly={!writable}
+            derivationId={derivationId}
+            view={view}
+            canStoreRuns={canStoreRuns}
+          />
         </SharedFieldsProvider>
         {!hasSimulationCell && ownSimulationOpen ? (
           <OwnSimulation
@@ -427,6 +430,8 @@ export function NotebookPage(props: NotebookPageProps) {
       ))}
       <HelpEntry keys="Ctrl+Z / Ctrl+Shift+Z" description="Undo or redo your own edits, across every cell" enabled={canEdit} />
       <HelpEntry keys="Ctrl+Enter" description="Evaluate now, also while typing in an editor" />
+      <CommentsSource cells={doc.cells} equations={evaluation.results?.equations} ydoc={shared.synced ? (session?.ydoc ?? null) : null} />
+      <CommentsPanel />
     </article>
   );
 }

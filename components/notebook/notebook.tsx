@@ -13,7 +13,7 @@ import "katex/dist/katex.min.css";
 import "./notebook.css";
 import clsx from "clsx";
 import { Fragment, useEffect, useLayoutEffect, useMemo, useRef, useState, type DragEvent, type ReactNode } from "react";
-import type { Model } from "@/lib/mechanics/model";
+import type { Model } from "@/lib/mechanics/browser";
 import {
   CELL_KINDS,
   CELL_LABELS,
@@ -90,7 +90,22 @@ const EMPTY_DIAGNOSTICS: readonly LocatedDiagnostic[] = [];
 
 /** Groups for the add-cell picker. */
 const ADD_GROUPS: { label: string; kinds: CellKind[] }[] = [
-  { label: "Model", kinds: ["coordinates", "parameters", "inputs", "definitions", "kinetic", "potential", "dissipation", "forces"] },
+  {
+    label: "Model",
+    kinds: [
+      "coordinates",
+      "parameters",
+      "inputs",
+      "definitions",
+      "kinetic",
+      "potential",
+      "dissipation",
+      "forces",
+      "constraints",
+      "rate-constraints",
+      "outputs",
+    ],
+  },
   { label: "Results", kinds: ["equations", "conserved", "linearization", "code-export", "simulation"] },
   { label: "Text", kinds: ["note"] },
 ];
@@ -357,6 +372,9 @@ function CellBody({
     case "parameters":
     case "inputs":
     case "definitions":
+    case "constraints":
+    case "rate-constraints":
+    case "outputs":
       return (
         <TableCellEditor
           cell={cell}

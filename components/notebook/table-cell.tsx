@@ -8,7 +8,7 @@
 import clsx from "clsx";
 import { useEffect, useId, useRef, type ComponentProps, type InputHTMLAttributes } from "react";
 import { ROW_LIMITS, emptyRow, rowLimitText, type AnyRow, type DocumentOperation, type DocumentSymbols, type TableCell } from "@/lib/notebook/document";
-import { spellGreekLetters } from "@/lib/mechanics/expr/greek";
+import { spellGreekLetters } from "@/lib/mechanics/browser";
 import { checkParameterValue, checkSymbolName, checkUnitSyntax, type FieldCheck } from "@/lib/notebook/field-checks";
 import { previewLatex, symbolLatex } from "@/lib/notebook/latex-preview";
 import { toEditorDiagnostic, type LocatedDiagnostic } from "@/lib/notebook/results";
@@ -25,6 +25,9 @@ const COLUMNS: Record<TableCell["kind"], Column[]> = {
   inputs: ["name", "unit", "description"],
   parameters: ["name", "unit", "value", "description"],
   definitions: ["name", "expr", "description"],
+  constraints: ["name", "expr", "description"],
+  "rate-constraints": ["name", "expr", "description"],
+  outputs: ["name", "expr", "unit", "description"],
 };
 
 // Below these widths the grid scrolls inside its cell (on a phone) instead of squeezing its fields.
@@ -33,11 +36,22 @@ const MIN_WIDTHS: Record<TableCell["kind"], string> = {
   inputs: "min-w-[30rem]",
   parameters: "min-w-[38rem]",
   definitions: "min-w-[36rem]",
+  constraints: "min-w-[36rem]",
+  "rate-constraints": "min-w-[36rem]",
+  outputs: "min-w-[42rem]",
 };
 
 const HEADINGS: Record<Column, string> = { name: "Name", unit: "Unit", value: "Value", expr: "Expression", description: "Description" };
 
-const ROW_NOUN: Record<TableCell["kind"], string> = { coordinates: "coordinate", parameters: "parameter", inputs: "input", definitions: "definition" };
+const ROW_NOUN: Record<TableCell["kind"], string> = {
+  coordinates: "coordinate",
+  parameters: "parameter",
+  inputs: "input",
+  definitions: "definition",
+  constraints: "constraint",
+  "rate-constraints": "rate constraint",
+  outputs: "output",
+};
 
 // Hints, not content: worded as examples and drawn in italic sans, unlike the monospace values.
 const PLACEHOLDERS: Record<TableCell["kind"], Partial<Record<Column, string>>> = {
@@ -45,6 +59,9 @@ const PLACEHOLDERS: Record<TableCell["kind"], Partial<Record<Column, string>>> =
   inputs: { name: "e.g. F", unit: "e.g. N" },
   parameters: { name: "e.g. m", unit: "e.g. kg", value: "blank = symbolic" },
   definitions: { name: "e.g. x1", expr: "e.g. l*sin(theta)" },
+  constraints: { name: "e.g. rope", expr: "= 0, e.g. x^2 + y^2 - l^2" },
+  "rate-constraints": { name: "e.g. roll", expr: "= 0, e.g. x' - r*phi'" },
+  outputs: { name: "e.g. tension", expr: "e.g. -2*l*lambda_rope", unit: "e.g. N" },
 };
 
 export interface TableCellProps {
@@ -140,7 +157,7 @@ export function TableCellEditor({ cell, symbols, duplicateNames, diagnostics = [
                           <DefinitionExpression
                             cellId={cell.id}
                             rowId={row.id}
-                            label={`Expression of ${row.name.trim() || `definition ${rowIndex + 1}`}`}
+                            label={`Expression of ${row.name.trim() || `${noun} ${rowIndex + 1}`}`}
                             value={value}
                             onChange={(next) => update(row.id, "expr", next)}
                             symbols={symbols}
@@ -150,7 +167,11 @@ export function TableCellEditor({ cell, symbols, duplicateNames, diagnostics = [
                             diagnosticsFor={server[0]?.text ?? null}
                             allowEmpty={blank}
                           />
-                          <DefinitionPreview name={row.name} expr={value} />
+                          {cell.kind === "constraints" || cell.kind === "rate-constraints" ? (
+                            <ConstraintPreview expr={value} />
+                          ) : (
+                            <DefinitionPreview name={row.name} expr={value} />
+                          )}
                         </td>
                       );
                     }
@@ -230,6 +251,13 @@ function DefinitionPreview({ name, expr }: { name: string; expr: string }) {
   const body = previewLatex(expr);
   if (!body || checkSymbolName(name).ok === false) return null;
   return <MathView latex={`${symbolLatex(name.trim())} = ${body}`} display className="text-sm text-ink" />;
+}
+
+/** Live rendering of `expr = 0` under a constraint. */
+function ConstraintPreview({ expr }: { expr: string }) {
+  const body = previewLatex(expr);
+  if (!body) return null;
+  return <MathView latex={`${body} = 0`} display className="text-sm text-ink" />;
 }
 
 type FieldProps = Omit<InputHTMLAttributes<HTMLInputElement>, "onChange"> & { value: string };

@@ -12,7 +12,7 @@ import { useCallback, useEffect, useMemo, useState } from "react";
 import { apiFetch } from "@/lib/api/fetcher";
 import { AppError } from "@/lib/errors";
 import type { EvaluationResponse } from "@/lib/evaluation/views";
-import type { Model } from "@/lib/mechanics/model";
+import type { Model } from "@/lib/mechanics/browser";
 import { coordinateNames, documentToModel, type DerivationDocument } from "@/lib/notebook/document";
 import type { ModelDiagnostic, NotebookResults } from "@/lib/notebook/results";
 
@@ -81,9 +81,10 @@ export function useEvaluation({
     refetchOnWindowFocus: false,
   });
 
-  useEffect(() => {
-    if (query.isSuccess && !query.isPlaceholderData && query.data) setLastGood({ json: settled, response: query.data });
-  }, [query.isSuccess, query.isPlaceholderData, query.data, settled]);
+  // The answer for the settled document, once it arrives, is the one shown until the next arrives
+  // (kept while rendering, React's pattern for state that follows other values, not in an effect).
+  const fresh = query.isSuccess && !query.isPlaceholderData ? query.data : undefined;
+  if (fresh && (lastGood?.response !== fresh || lastGood.json !== settled)) setLastGood({ json: settled, response: fresh });
 
   const error = query.isError && query.error instanceof AppError ? query.error : query.isError ? new AppError("internal:api", "The evaluation failed.") : null;
   const evaluatedModel = useMemo(() => {

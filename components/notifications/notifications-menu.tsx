@@ -2,7 +2,7 @@
 
 /**
  * The header's notifications: a button with the unread count, and a list of
- * the latest notifications (review requests, decisions, approvals). Opening
+ * the latest notifications (review requests, decisions, approvals, mentions in comments). Opening
  * one marks it read and goes to its derivation; "Mark all read" clears the count.
  */
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
@@ -31,7 +31,7 @@ interface NotificationsAnswer {
 
 export const notificationsKey = ["notifications"] as const;
 
-const kindMarks: Record<string, string> = { review_request: "◐", signed_off: "✓", changes_requested: "✕", approved: "●" };
+const kindMarks: Record<string, string> = { review_request: "◐", signed_off: "✓", changes_requested: "✕", approved: "●", mention: "@" };
 
 function BellMark() {
   return (

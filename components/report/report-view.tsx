@@ -9,7 +9,7 @@ import { renderLatex } from "@/components/notebook/katex-render";
 import { safetyNote } from "@/lib/domain";
 import { formatRecordTime } from "@/lib/history/format";
 import { revisionKindLabels, type ReportRun, type RevisionReport } from "@/lib/history/views";
-import { symbolLatex, toLatex } from "@/lib/mechanics";
+import { symbolLatex, toLatex } from "@/lib/mechanics/browser";
 import type { DerivationDocument, RowOf, TableCell, TableKind } from "@/lib/notebook/document";
 import { ReportNote } from "./report-client";
 import { SeriesChart } from "./run-plot";

@@ -15,7 +15,7 @@ import "server-only";
 import { and, asc, eq, gt, inArray, isNull, sql } from "drizzle-orm";
 import * as Y from "yjs";
 import { parseStoredDocument, type DerivationDocument, type DocumentIssue } from "@/lib/notebook/document";
-import { documentToYDoc, replaceSharedDocument } from "@/lib/notebook/document/shared-doc";
+import { documentToYDoc, replaceSharedDocument, yDocToDocument } from "@/lib/notebook/document/shared-doc";
 import { db, type Executor } from "../client";
 import { derivationUpdates, derivations } from "../schema";
 
@@ -222,4 +222,21 @@ export async function writeStoredContentToSharedDoc(
   const parsed = parseStoredDocument(content, { title });
   if (!parsed.ok) return null;
   return writeSharedDocInTransaction(executor, { derivationId, document: parsed.document });
+}
+
+/**
+ * The document as stored in the shared state right now (every acknowledged
+ * update, not waiting for the JSON copy), or null when the derivation has no
+ * shared state yet (then its JSON content is current). Throws a
+ * `SharedDocumentError` when the shared state does not read.
+ */
+export async function getSharedDocumentById({ derivationId }: { derivationId: string }): Promise<DerivationDocument | null> {
+  const rows = await selectUpdates(db, derivationId);
+  if (rows.length === 0) return null;
+  const ydoc = foldUpdates(rows);
+  try {
+    return yDocToDocument(ydoc);
+  } finally {
+    ydoc.destroy();
+  }
 }

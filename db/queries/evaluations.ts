@@ -1,6 +1,7 @@
 import "server-only";
 import { eq, sql } from "drizzle-orm";
 import { db, type Executor } from "../client";
+import type { EvaluationResult } from "@/lib/evaluation/evaluate";
 import { evaluations, type Evaluation } from "../schema";
 
 /** The cached evaluation for a model hash, counting the hit; null on a miss. */
@@ -18,7 +19,7 @@ export async function getEvaluationByModelHash({ modelHash }: { modelHash: strin
  * same content at once both succeed; the later result replaces the earlier one.
  */
 export async function upsertEvaluationByModelHash(
-  { modelHash, engineVersion, result, timings }: { modelHash: string; engineVersion: string; result: Record<string, unknown>; timings: Record<string, number> },
+  { modelHash, engineVersion, result, timings }: { modelHash: string; engineVersion: string; result: EvaluationResult; timings: Record<string, number> },
   executor: Executor = db,
 ): Promise<Evaluation> {
   const [row] = await executor

@@ -1,27 +1,22 @@
 import "server-only";
-import { and, count, eq, gt, lt } from "drizzle-orm";
-import { db, type Executor } from "../client";
-import { rateLimitEvents } from "../schema";
+import { RateLimiterPostgres } from "rate-limiter-flexible";
+import { pool } from "../client";
+import { rateLimits } from "../schema";
+import { getTableName } from "drizzle-orm";
 
-/** Counts one request against the limit `action` for `key`, and forgets this key's events older than `forgetBefore`. */
-export async function recordRateLimitEvent(
-  { action, key, forgetBefore }: { action: string; key: string; forgetBefore: Date },
-  executor: Executor = db,
-): Promise<void> {
-  await executor.insert(rateLimitEvents).values({ action, key });
-  await executor
-    .delete(rateLimitEvents)
-    .where(and(eq(rateLimitEvents.action, action), eq(rateLimitEvents.key, key), lt(rateLimitEvents.createdAt, forgetBefore)));
-}
-
-/** Events counted against the limit `action` for `key` since `since`. */
-export async function countRateLimitEventsByKey(
-  { action, key, since }: { action: string; key: string; since: Date },
-  executor: Executor = db,
-): Promise<number> {
-  const [row] = await executor
-    .select({ events: count() })
-    .from(rateLimitEvents)
-    .where(and(eq(rateLimitEvents.action, action), eq(rateLimitEvents.key, key), gt(rateLimitEvents.createdAt, since)));
-  return row?.events ?? 0;
+/**
+ * A fixed-window counter in PostgreSQL: `points` per `durationSeconds` for each
+ * key, stored in `rate_limits` (created by our migration, so the library never
+ * runs DDL). Instances are cheap and share the table; `name` keeps their keys apart.
+ */
+export function createPostgresRateLimiter({ name, points, durationSeconds }: { name: string; points: number; durationSeconds: number }): RateLimiterPostgres {
+  return new RateLimiterPostgres({
+    storeClient: pool,
+    storeType: "pool",
+    tableName: getTableName(rateLimits),
+    tableCreated: true,
+    keyPrefix: name,
+    points,
+    duration: durationSeconds,
+  });
 }

@@ -1,6 +1,7 @@
 import "server-only";
 import { and, eq } from "drizzle-orm";
 import { db, type Executor } from "../client";
+import type { ViewPreferences } from "@/lib/notebook/view-preferences";
 import { viewPreferences, type ViewPreferencesRow } from "../schema";
 
 /** A person's stored view of a derivation; null when they have made no choice yet. */
@@ -18,7 +19,7 @@ export async function getViewPreferencesByUserIdAndDerivationId(
 
 /** Stores a person's view of a derivation, replacing the earlier one. Touches nothing of the derivation. */
 export async function upsertViewPreferencesByUserIdAndDerivationId(
-  { userId, derivationId, preferences }: { userId: string; derivationId: string; preferences: Record<string, unknown> },
+  { userId, derivationId, preferences }: { userId: string; derivationId: string; preferences: ViewPreferences },
   executor: Executor = db,
 ): Promise<ViewPreferencesRow> {
   const [row] = await executor

@@ -2,7 +2,7 @@
 // crane, a camera gimbal and a seat-suspension test rig. The parameter values are
 // plausible round numbers chosen for the demo, not measured data.
 import type { DerivationStatus, MemberRole } from "@/lib/domain";
-import type { Model } from "@/lib/mechanics/model";
+import type { Model } from "@/lib/mechanics";
 import { createCell, modelToDocument, type Cell, type DerivationDocument, type StoredDocument } from "@/lib/notebook/document";
 
 export const demoPassword = "kestrel-demo-2041";
@@ -114,6 +114,67 @@ const seatSuspension: Model = {
 };
 
 /**
+ * The crane's load written in Cartesian coordinates and held on the rope by a
+ * constraint, so the rope tension is the constraint's multiplier: what the
+ * hoist rope, the sheaves and the trolley are sized from during a swing.
+ */
+const craneRopeTension: Model = {
+  title: "Gantry crane: hoist rope tension during a load swing",
+  coordinates: [
+    { name: "x", unit: "m", description: "trolley position along the girder" },
+    { name: "xl", unit: "m", description: "load position, horizontal" },
+    { name: "yl", unit: "m", description: "load position, vertical (up), from the trolley's rope point" },
+  ],
+  parameters: [
+    { name: "M", unit: "kg", value: 850, description: "trolley with hoist" },
+    { name: "m", unit: "kg", value: 2000, description: "rated load with hook block" },
+    { name: "l", unit: "m", value: 6.5, description: "rope length, load at working height" },
+    { name: "b", unit: "N*s/m", value: 120, description: "wheel and drive resistance" },
+    { name: "g", unit: "m/s^2", value: 9.81, description: "gravitational acceleration" },
+  ],
+  inputs: [{ name: "F", unit: "N", description: "traverse drive force" }],
+  kinetic: "1/2*M*x'^2 + 1/2*m*(xl'^2 + yl'^2)",
+  potential: "m*g*yl",
+  dissipation: "1/2*b*x'^2",
+  forces: { x: "F" },
+  constraints: [{ name: "rope", expr: "(xl - x)^2 + yl^2 - l^2", description: "the rope keeps the load at distance l from the trolley" }],
+  outputs: [
+    { name: "rope_tension", expr: "-2*l*lambda_rope", unit: "N", description: "pull in the hoist rope" },
+    { name: "trolley_side_load", expr: "-2*lambda_rope*(xl - x)", unit: "N", description: "horizontal pull of the rope on the trolley" },
+  ],
+};
+
+/** The rope-tension notebook: the model, a simulation of a swing released at 0.15 rad with the drive idle, and its loads. */
+function ropeTensionNotebook(): DerivationDocument {
+  const doc = demoNotebook(
+    craneRopeTension,
+    [
+      "Rope load during a free swing of the rated load. The load is a point mass at $(x_l, y_l)$, held on the rope by the constraint",
+      "$$g_\\text{rope} = (x_l - x)^2 + y_l^2 - l^2 = 0,$$",
+      "so the rope tension is $T = -2\\,l\\,\\lambda_\\text{rope}$ and its horizontal pull on the trolley $-2\\lambda_\\text{rope}(x_l - x)$.",
+      "",
+      "Released from rest at $\\theta_0$ with the trolley free, momentum and energy give the tension at the bottom of the first swing as",
+      "$$T = m g\\left[1 + 2(1 - \\cos\\theta_0)\\left(1 + \\frac{m}{M}\\right)\\right] \\approx 21\\,100\\ \\text{N}$$",
+      "for $\\theta_0 = 0.15$; the drive resistance $b$ takes a little off. That is what the rope and sheaves see, before any dynamic factor.",
+      "The initial load position is typed to four figures; the run projects it onto the rope and says what it changed.",
+    ].join("\n"),
+  );
+  const simulation = createCell("simulation", "cranerope-sim");
+  simulation.settings = {
+    ...simulation.settings,
+    initialCoordinates: { x: "0", xl: "0.9713", yl: "-6.4269" },
+    endTime: "20",
+    outputStep: "0.01",
+    inputs: { F: "0" },
+    points: [
+      { x: "x", y: "0" },
+      { x: "xl", y: "yl" },
+    ],
+  };
+  return { ...doc, cells: [...doc.cells, simulation] };
+}
+
+/**
  * The demo derivations. Content is stored as any version of the document may
  * be, so the last one is a pre-notebook model file; scripts/seed.ts writes each
  * through the same validation (and migration) as the API. An "approved" one is
@@ -162,6 +223,12 @@ export const demoDerivations: { title: string; status: DerivationStatus; owner: 
       ].join("\n"),
       { linearization: true },
     ),
+  },
+  {
+    title: craneRopeTension.title,
+    status: "draft",
+    owner: "analyst@demo.holonomy.test",
+    content: ropeTensionNotebook(),
   },
   {
     title: "Gantry crane: hoist drum and rope stretch",

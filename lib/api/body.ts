@@ -40,7 +40,9 @@ export async function readBodyWithin(request: Request, { limit, tooLarge }: { li
   return body;
 }
 
-/** Parses bytes already read with readBodyWithin as the request's multipart/form-data. */
+/** Parses bytes already read with readBodyWithin as the request's multipart/form-data (another content type is a 415). */
 export async function formDataOf(request: Request, body: Uint8Array): Promise<FormData> {
+  const type = request.headers.get("content-type") ?? "";
+  if (!/^multipart\/form-data\s*;/i.test(type)) throw new AppError("unsupported_media_type:api", "Send the upload as multipart/form-data.");
   return new Response(body as BodyInit, { headers: { "content-type": request.headers.get("content-type") ?? "" } }).formData();
 }

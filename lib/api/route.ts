@@ -2,6 +2,7 @@ import "server-only";
 import { clientAddress } from "@/lib/client-address";
 import { AppError, toAppError } from "@/lib/errors";
 import { withRequestContext } from "@/lib/request-context";
+import { assertJsonContentType, assertSameOrigin } from "./request-checks";
 
 type RouteContext<Params> = { params: Promise<Params> };
 
@@ -10,10 +11,13 @@ type RouteContext<Params> = { params: Promise<Params> };
  * `{ "error": { "code", "message" } }` with the status of its code. Unexpected
  * errors are logged in full and answered with a generic 500. The handler runs
  * with the client's address in the request context, for the audit log.
+ * A state-changing request from another site is refused (403 `forbidden:origin`)
+ * before the handler runs (lib/api/request-checks.ts).
  */
 export function apiRoute<Params = Record<string, never>>(handler: (request: Request, context: RouteContext<Params>) => Promise<Response>) {
   return async (request: Request, context: RouteContext<Params>): Promise<Response> => {
     try {
+      assertSameOrigin(request);
       return await withRequestContext({ clientAddress: clientAddress(request.headers) }, () => handler(request, context));
     } catch (error) {
       return toAppError(error).toResponse();
@@ -21,8 +25,12 @@ export function apiRoute<Params = Record<string, never>>(handler: (request: Requ
   };
 }
 
-/** Reads a JSON body; malformed JSON is a validation error, not a crash. */
+/**
+ * Reads a JSON body; a body not declared as JSON is a 415 (a cross-site form can
+ * send text/plain, never application/json), malformed JSON a validation error.
+ */
 export async function readJson(request: Request): Promise<unknown> {
+  assertJsonContentType(request);
   try {
     return await request.json();
   } catch {

@@ -1,12 +1,10 @@
 import "server-only";
 import { recordAuditEvent } from "@/db/queries/audit";
-import { countSignInFailuresByEmail, recordSignInAttempt } from "@/db/queries/sign-in-attempts";
 import { getUserByEmail } from "@/db/queries/users";
 import type { User } from "@/db/schema";
-import { env } from "@/lib/env";
 import { isDatabaseUnavailable } from "@/lib/errors";
 import { verifyAgainstDummy, verifyPassword } from "./password";
-import { countAgainst, isRateLimited, rateLimits } from "./rate-limit";
+import { countAgainst, emailKey, isRateLimited, rateLimits } from "./rate-limit";
 
 export type AuthenticationResult = { status: "ok"; user: User } | { status: "invalid" } | { status: "rate_limited" } | { status: "unavailable" };
 
@@ -26,10 +24,9 @@ export async function authenticate({
   clientAddress?: string | null;
 }): Promise<AuthenticationResult> {
   try {
-    const since = new Date(Date.now() - env.SIGN_IN_WINDOW_MINUTES * 60_000);
-    const failures = await countSignInFailuresByEmail({ email, since });
     const limited =
-      failures >= env.SIGN_IN_MAX_FAILURES || (clientAddress !== null && (await isRateLimited(rateLimits.signInFailuresByAddress, clientAddress)));
+      (await isRateLimited(rateLimits.signInFailuresByEmail, emailKey(email))) ||
+      (clientAddress !== null && (await isRateLimited(rateLimits.signInFailuresByAddress, clientAddress)));
     const user = await getUserByEmail({ email });
     // Every attempt is audited against the account it named (none for an unknown e-mail).
     const audit = (action: string, reason?: string) =>
@@ -47,8 +44,10 @@ export async function authenticate({
       return { status: "rate_limited" };
     }
     const valid = user ? await verifyPassword(password, user.passwordHash) : await verifyAgainstDummy(password);
-    await recordSignInAttempt({ email, succeeded: valid });
-    if (!valid && clientAddress !== null) await countAgainst(rateLimits.signInFailuresByAddress, clientAddress);
+    if (!valid) {
+      await countAgainst(rateLimits.signInFailuresByEmail, emailKey(email));
+      if (clientAddress !== null) await countAgainst(rateLimits.signInFailuresByAddress, clientAddress);
+    }
     if (!valid || !user) {
       await audit("auth.sign_in_failed", "invalid_credentials");
       return { status: "invalid" };

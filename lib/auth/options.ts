@@ -13,8 +13,14 @@ export const signInErrors = {
   unavailable: "Unavailable",
 } as const;
 
+/** Behind TLS (an https NEXTAUTH_URL) the auth cookies are Secure and carry the __Secure-/__Host- prefixes. */
+export const secureCookies = new URL(env.NEXTAUTH_URL).protocol === "https:";
+
 export const authOptions: NextAuthOptions = {
   secret: env.NEXTAUTH_SECRET,
+  // next-auth's cookies are HttpOnly and SameSite=Lax; Secure follows the app's own scheme,
+  // said here rather than left to next-auth's reading of process.env.
+  useSecureCookies: secureCookies,
   session: { strategy: "jwt", maxAge: 7 * 24 * 60 * 60 },
   pages: { signIn: "/sign-in" },
   providers: [

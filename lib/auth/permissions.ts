@@ -18,13 +18,17 @@ export const actions = [
   "derivation:read-trash",
   "derivation:restore",
   "derivation:purge",
-  "derivation:comment",
   "derivation:approve",
   "derivation:lock",
   "derivation:attach",
   "derivation:simulate",
   "derivation:request-review",
   "derivation:review",
+  "comment:read",
+  "comment:create",
+  "comment:edit",
+  "comment:delete",
+  "comment:resolve",
 ] as const;
 export type Action = (typeof actions)[number];
 
@@ -36,6 +40,8 @@ export interface ResourceContext {
   locked?: boolean;
   /** Whether the member asking owns the derivation (unknown counts as no). */
   isOwner?: boolean;
+  /** Whether the member asking wrote the comment (or, for resolving, the thread) the action targets. */
+  isAuthor?: boolean;
 }
 
 /**
@@ -63,6 +69,7 @@ const notApproved: Rule = (resource) => resource?.status !== "approved";
 // restores) only derivations they own.
 const ownNotApproved: Rule = (resource) => resource?.isOwner === true && resource.status !== "approved";
 const own: Rule = (resource) => resource?.isOwner === true;
+const authored: Rule = (resource) => resource?.isAuthor === true;
 
 const rules: Record<Action, Record<MemberRole, Rule>> = {
   "team:read": { lead: true, analyst: true, reviewer: true, viewer: true },
@@ -82,7 +89,6 @@ const rules: Record<Action, Record<MemberRole, Rule>> = {
   "derivation:restore": { lead: true, analyst: own, reviewer: false, viewer: false },
   // Removing from the trash before the retention period ends cannot be undone.
   "derivation:purge": { lead: true, analyst: false, reviewer: false, viewer: false },
-  "derivation:comment": { lead: true, analyst: true, reviewer: true, viewer: false },
   "derivation:approve": { lead: true, analyst: false, reviewer: false, viewer: false },
   "derivation:lock": { lead: true, analyst: false, reviewer: false, viewer: false },
   // Uploading or removing measured data and images changes the derivation's record.
@@ -93,6 +99,15 @@ const rules: Record<Action, Record<MemberRole, Rule>> = {
   // Whoever may edit asks for review; reviewers and leads sign off or request changes.
   "derivation:request-review": { lead: true, analyst: true, reviewer: false, viewer: false },
   "derivation:review": { lead: true, analyst: false, reviewer: true, viewer: false },
+  // Comment threads are discussion beside the record, not the record: they stay
+  // open while a derivation is approved and locked. Reviewers comment (that is
+  // their job); viewers read. People change only their own words; the thread's
+  // author, the editors and the leads close or reopen a thread.
+  "comment:read": { lead: true, analyst: true, reviewer: true, viewer: true },
+  "comment:create": { lead: true, analyst: true, reviewer: true, viewer: false },
+  "comment:edit": { lead: authored, analyst: authored, reviewer: authored, viewer: false },
+  "comment:delete": { lead: authored, analyst: authored, reviewer: authored, viewer: false },
+  "comment:resolve": { lead: true, analyst: true, reviewer: authored, viewer: false },
 };
 
 /** May a member with `role` perform `action` (on `resource`)? No role means no; a locked derivation refuses every write. */

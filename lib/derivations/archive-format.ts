@@ -25,7 +25,7 @@ import { fileKinds, simulationRunStatuses, type FileKind, type MeasuredFileSumma
 import type { RunSummary } from "@/db/schema";
 import { derivationStatuses, type DerivationStatus } from "@/lib/domain";
 import { parseStoredDocument, type DerivationDocument } from "@/lib/notebook/document";
-import { MeasuredDataError } from "@/lib/simulate/errors";
+import { MeasuredDataError } from "@/lib/simulate";
 import { decodeCsv, imageTypeOf, looksLikeMarkup, summariseMeasuredCsv, UploadError } from "@/lib/files/checks";
 import { safeFileName } from "@/lib/files/names";
 

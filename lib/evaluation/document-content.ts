@@ -1,6 +1,5 @@
 import { DocumentError, documentToModel, parseStoredDocument, type DerivationDocument, type DocumentIssue } from "@/lib/notebook/document";
-import type { Model } from "@/lib/mechanics/model";
-import { ModelError } from "@/lib/mechanics/errors";
+import { type Model, ModelError } from "@/lib/mechanics";
 import { AppError, type FieldErrors } from "@/lib/errors";
 
 /** At most this many issues travel in one answer; the first ones locate the problem. */

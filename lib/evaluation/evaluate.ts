@@ -7,14 +7,20 @@
  */
 import { createHash } from "node:crypto";
 import { fileBaseName } from "@/lib/files/names";
-import type { CodeExportInput, CodeLanguage } from "@/lib/mechanics/codegen";
-import type { MassMatrixSystem } from "@/lib/mechanics/compile";
-import type { Equilibrium } from "@/lib/mechanics/equilibria";
-import { symbolLatex, type LatexTerm } from "@/lib/mechanics/latex";
-import { matchEigenvalues, type Linearization } from "@/lib/mechanics/linearize";
-import { stabilityTolerance } from "@/lib/mechanics/stability";
-import type { Model } from "@/lib/mechanics/model";
-import type { PrintedDerivation } from "@/lib/mechanics/print";
+import {
+  type CodeExportInput,
+  type CodeLanguage,
+  type MassMatrixSystem,
+  type Equilibrium,
+  symbolLatex,
+  type LatexTerm,
+  matchEigenvalues,
+  type Linearization,
+  stabilityTolerance,
+  type Model,
+  type PrintedDerivation,
+} from "@/lib/mechanics";
+import { multiplierSymbol, stateSpaceOf, type OutputChoice } from "@/lib/mechanics";
 import type { CodeExportLanguage, DerivationDocument, LinearizationCell } from "@/lib/notebook/document";
 import type { ModeView, NotebookResults } from "@/lib/notebook/results";
 
@@ -56,6 +62,8 @@ export interface EvaluationResult extends NotebookResults {
   /** Why there is no linearization (symbolic parameters, no equilibrium found…); absent when there is one. */
   linearizationNote?: string;
   equilibria?: (Equilibrium & { label: string })[];
+  /** The model's outputs, definitions expanded (the engine's), for the frequency response when relinearizing. */
+  outputs?: { name: string; expr: string; unit: string }[];
 }
 
 const CODE_LANGUAGE_OF: Record<CodeExportLanguage, CodeLanguage> = {
@@ -109,6 +117,10 @@ export function normalizeModel(model: Model): unknown {
         .map(([k, v]) => [k.trim(), v.trim()])
         .sort(([a], [b]) => ((a ?? "") < (b ?? "") ? -1 : 1)),
     ),
+    // Present only when used, so the keys of models without them stay what they were.
+    ...(model.constraints?.length ? { constraints: model.constraints.map((c) => ({ name: c.name.trim(), expr: c.expr.trim() })) } : {}),
+    ...(model.rateConstraints?.length ? { rateConstraints: model.rateConstraints.map((c) => ({ name: c.name.trim(), expr: c.expr.trim() })) } : {}),
+    ...(model.outputs?.length ? { outputs: model.outputs.map((o) => ({ name: o.name.trim(), expr: o.expr.trim(), unit: o.unit.trim() })) } : {}),
   };
 }
 
@@ -170,6 +182,13 @@ export function mechanicalSystemOf(
 ): MassMatrixSystem | { reason: string } {
   const symbolic = model.parameters.filter((p) => p.value === undefined).map((p) => p.name);
   if (symbolic.length > 0) return { reason: `Give ${symbolic.join(", ")} a value to find equilibria and linearize.` };
+  const constraintCount = (model.constraints?.length ?? 0) + (model.rateConstraints?.length ?? 0);
+  if (constraintCount > 0) {
+    return {
+      reason:
+        "Equilibria and the linearization are found for unconstrained models only: this one has constraints, whose multipliers the search does not solve for. Simulate it, or write it in independent coordinates to linearize.",
+    };
+  }
   return {
     coordinates: result.coordinates,
     coordinateUnits: model.coordinates.map((c) => c.unit),
@@ -212,6 +231,8 @@ export async function analyseSystem(
   system: MassMatrixSystem,
   settings: LinearizationSettings,
   freeCoordinates: readonly string[] = [],
+  outputs: readonly { name: string; expr: string; unit: string }[] = [],
+  coordinateUnits: readonly string[] = [],
 ): Promise<{ linearization?: NotebookResults["linearization"]; equilibria: (Equilibrium & { label: string })[]; note?: string }> {
   const inputValues = (system.inputs ?? []).map((name) => numberOrZero(settings.inputValues[name]));
   const badInput = (system.inputs ?? []).find((_, i) => Number.isNaN(inputValues[i]!));
@@ -252,9 +273,41 @@ export async function analyseSystem(
         eigenvalues: lin.eigenvalues.map(rounded),
         stability: chosen.stability,
         stabilityReason: chosen.stabilityReason,
+        outputs: outputRows(system, lin, { q: chosen.q, inputs: inputValues }, outputs, coordinateUnits),
       },
     },
   };
+}
+
+/**
+ * Rows of C and D about the chosen point for every output a frequency
+ * response may use: each coordinate, each rate, and each of the model's
+ * outputs that reads in coordinates, rates, accelerations and inputs. An
+ * output that cannot (it uses a multiplier) is left out with a note.
+ */
+export function outputRows(
+  system: MassMatrixSystem,
+  lin: Linearization,
+  point: { q: number[]; inputs: number[] },
+  outputs: readonly { name: string; expr: string; unit: string }[],
+  coordinateUnits: readonly string[] = [],
+): NonNullable<NonNullable<NotebookResults["linearization"]>["selected"]>["outputs"] {
+  const rate = (unit: string) => (unit.trim() === "" ? "1/s" : /^[A-Za-z]+$/.test(unit.trim()) ? `${unit.trim()}/s` : `(${unit.trim()})/s`);
+  const choices: (OutputChoice & { unit: string })[] = [
+    ...system.coordinates.map((q, i) => ({ name: q, expr: q, unit: coordinateUnits[i] ?? "" })),
+    ...system.coordinates.map((q, i) => ({ name: `${q}'`, expr: `${q}'`, unit: rate(coordinateUnits[i] ?? "") })),
+  ];
+  const notes: string[] = [];
+  for (const output of outputs) {
+    try {
+      stateSpaceOf(system, lin, point, [output]);
+      choices.push({ name: output.name, expr: output.expr, unit: output.unit });
+    } catch (error) {
+      notes.push(`${output.name}: ${error instanceof Error ? error.message : String(error)}`);
+    }
+  }
+  const ss = stateSpaceOf(system, lin, point, choices);
+  return { names: ss.outputs, units: choices.map((c) => c.unit), C: ss.C, D: ss.D, notes };
 }
 
 /** Relative size below which a matrix entry is rounding noise (a few ulps of the block it sits in). */
@@ -301,7 +354,12 @@ export function codeExportInput(model: Model, result: Pick<PrintedDerivation, "c
     title: model.title,
     coordinates: result.coordinates,
     parameters: model.parameters.map((p) => ({ name: p.name, unit: p.unit, ...(p.value !== undefined ? { value: p.value } : {}) })),
-    inputs: (model.inputs ?? []).map((u) => u.name),
+    // A constrained model's multipliers (lambda_<name>, mu_<name>) are arguments after the inputs.
+    inputs: [
+      ...(model.inputs ?? []).map((u) => u.name),
+      ...(model.constraints ?? []).map((c) => multiplierSymbol("position", c.name)),
+      ...(model.rateConstraints ?? []).map((c) => multiplierSymbol("rate", c.name)),
+    ],
     massMatrix: result.massMatrix,
     forcing: result.forcing,
   };
@@ -342,7 +400,9 @@ export async function evaluateModel(
 
   const system = mechanicalSystemOf(model, derived);
   const analysis: Awaited<ReturnType<typeof analyseSystem>> =
-    "reason" in system ? { equilibria: [], note: system.reason } : await analyseSystem(runner, system, settings.linearization, derived.freeCoordinates);
+    "reason" in system
+      ? { equilibria: [], note: system.reason }
+      : await analyseSystem(runner, system, settings.linearization, derived.freeCoordinates, derived.outputs ?? [], system.coordinateUnits ?? []);
   const afterAnalysis = performance.now();
 
   const input = codeExportInput(model, derived);
@@ -376,6 +436,7 @@ export async function evaluateModel(
     ...(analysis.linearization ? { linearization: analysis.linearization } : {}),
     ...(analysis.note ? { linearizationNote: analysis.note } : {}),
     equilibria: analysis.equilibria,
+    ...(derived.outputs && derived.outputs.length > 0 ? { outputs: derived.outputs.map(({ name, expr, unit }) => ({ name, expr, unit })) } : {}),
     ...(code.length > 0 ? { code } : {}),
     timingMs: timings.totalMs,
   };
@@ -399,7 +460,10 @@ export async function relinearize(
 ): Promise<{ result: EvaluationResult; timings: Pick<EvaluationTimings, "analysisMs" | "totalMs"> }> {
   const started = performance.now();
   const system = mechanicalSystemOf(model, base);
-  const analysis = "reason" in system ? { equilibria: [], note: system.reason } : await analyseSystem(runner, system, settings, base.freeCoordinates ?? []);
+  const analysis =
+    "reason" in system
+      ? { equilibria: [], note: system.reason }
+      : await analyseSystem(runner, system, settings, base.freeCoordinates ?? [], base.outputs ?? [], system.coordinateUnits ?? []);
   const { linearization: _linearization, linearizationNote: _note, ...rest } = base;
   const result: EvaluationResult = {
     ...rest,

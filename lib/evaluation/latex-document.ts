@@ -3,8 +3,7 @@
  * class, amsmath), for reports. Term ids are a notebook feature, so the
  * document uses the engine's plain LaTeX.
  */
-import { joinLatexTerms, symbolLatex, toLatex } from "@/lib/mechanics/latex";
-import type { Model } from "@/lib/mechanics/model";
+import { joinLatexTerms, symbolLatex, toLatex, type Model } from "@/lib/mechanics";
 import { safetyNote } from "@/lib/domain";
 import type { EvaluationResult } from "./evaluate";
 

@@ -1,11 +1,9 @@
 import "server-only";
 import { getEvaluationByModelHash, upsertEvaluationByModelHash } from "@/db/queries/evaluations";
-import { EngineLimitError, ExpressionError, ModelError } from "@/lib/mechanics/errors";
-import type { Model } from "@/lib/mechanics/model";
+import { EngineLimitError, ExpressionError, ModelError, type Model, type CodeLanguage } from "@/lib/mechanics";
 import type { DerivationDocument } from "@/lib/notebook/document";
 import { AppError } from "@/lib/errors";
 import { modelErrorToAppError, modelFromDocument } from "./document-content";
-import type { CodeLanguage } from "@/lib/mechanics/codegen";
 import {
   codeExportInput,
   codeFileName,
@@ -15,7 +13,6 @@ import {
   relinearize,
   settingsOfDocument,
   type EngineRunner,
-  type EvaluationResult,
   type EvaluationSettings,
   type LinearizationSettings,
 } from "./evaluate";
@@ -61,7 +58,7 @@ export async function evaluateModelCached({
   const row = await upsertEvaluationByModelHash({
     modelHash,
     engineVersion: version,
-    result: evaluated.result as unknown as Record<string, unknown>,
+    result: evaluated.result,
     timings: { ...evaluated.timings },
   });
   return {
@@ -83,7 +80,7 @@ async function cachedEvaluation(modelHash: string, started: number): Promise<Eva
     cached: true,
     modelHash,
     engineVersion: hit.engineVersion,
-    result: hit.result as unknown as EvaluationResult,
+    result: hit.result,
     timings: hit.timings,
     requestMs: Math.round((performance.now() - started) * 100) / 100,
     evaluatedAt: hit.updatedAt.toISOString(),
@@ -123,7 +120,7 @@ async function relinearizedModelCached({
   const row = await upsertEvaluationByModelHash({
     modelHash,
     engineVersion: version,
-    result: relinearized.result as unknown as Record<string, unknown>,
+    result: relinearized.result,
     timings,
   });
   return {

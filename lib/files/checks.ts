@@ -3,7 +3,7 @@
  * (from its first bytes, never from the name or the browser's claim), and
  * whether a measured-data CSV reads against the derivation's coordinates.
  */
-import { parseMeasuredCsv } from "@/lib/simulate/measured";
+import { parseMeasuredCsv } from "@/lib/simulate";
 import type { MeasuredFileSummary } from "@/db/schema";
 
 export type ImageType = "image/png" | "image/jpeg" | "image/webp";

@@ -6,7 +6,7 @@ import type { SessionUser } from "@/lib/auth/session";
 import { env } from "@/lib/env";
 import { AppError } from "@/lib/errors";
 import { coordinatesOfDocument, documentOf } from "@/lib/runs/service";
-import { MeasuredDataError } from "@/lib/simulate/errors";
+import { MeasuredDataError } from "@/lib/simulate";
 import { deleteObject, putObject } from "@/lib/storage";
 import { decodeCsv, imageTypeOf, looksLikeMarkup, summariseMeasuredCsv, UploadError } from "./checks";
 import { safeFileName } from "./names";

@@ -61,7 +61,7 @@ export function solveAccelerations(alg: Algebra, coordinates: readonly string[],
       numerators = [alg.sub(alg.mul(M[1]![1]!, f[0]!), alg.mul(M[0]![1]!, f[1]!)), alg.sub(alg.mul(M[0]![0]!, f[1]!), alg.mul(M[1]![0]!, f[0]!))];
     }
     if (det.size === 0) return { available: false, reason: "the mass matrix is singular" };
-    block.forEach((i, k) => (solved[i] = { coordinate: coordinates[i]!, ...quotient(alg, numerators[k]!, det) }));
+    block.forEach((i, k) => (solved[i] = { coordinate: coordinates[i]!, ...cancelledQuotient(alg, numerators[k]!, det) }));
   }
   return solved;
 }
@@ -85,7 +85,12 @@ function coupledBlocks(massMatrix: Poly[][]): number[][] {
   return [...blocks.values()];
 }
 
-function quotient(alg: Algebra, numerator: Poly, det: Poly): { expr: Expr; display: Expr } {
+/**
+ * numerator/det with the common monomial and, where both are free of sin/cos,
+ * the common polynomial factor cancelled: canonical where the denominator is a
+ * single plain term, else one quotient; with its display form.
+ */
+export function cancelledQuotient(alg: Algebra, numerator: Poly, det: Poly): { expr: Expr; display: Expr } {
   const space = alg.space;
   if (numerator.size === 0) return { expr: num(0), display: num(0) };
   let [top, bottom] = cancelCommonFactor(alg, numerator, det);

@@ -13,6 +13,9 @@ import { bin, sum } from "./expr/build";
 import { toCanonical } from "./canonical/from-expr";
 import { SymbolSpace } from "./canonical/space";
 import type { Poly } from "./canonical/term";
+import { multiplierSymbol, type ConstraintResult, type OutputResult } from "./constraints";
+import { addMultiplierTerms, canonicalConstraint, checkConstraintRows, closedFormMultipliers, type CanonicalConstraint } from "./constraint-derive";
+import { formatDimension, multiplierUnits } from "./units";
 
 export interface DeriveOptions {
   /** Largest number of terms one intermediate sum may hold (default 200 000). */
@@ -65,7 +68,7 @@ export interface CyclicMomentum {
   /** `momentum` and `rate` in display form. */
   display: { momentum: Expr; rate: Expr };
   /** What acts on the coordinate: an applied force (the model's forces entry), the dissipation function, both, or neither. */
-  actedOnBy: ("applied force" | "dissipation")[];
+  actedOnBy: ("applied force" | "dissipation" | "constraint")[];
 }
 
 export type HamiltonianResult = { available: true; expr: Expr; momenta: { coordinate: string; symbol: string }[] } | { available: false; reason: string };
@@ -103,8 +106,12 @@ export interface DerivationResult {
   /** L depends on t explicitly. */
   explicitTime: boolean;
   hamiltonian: HamiltonianResult;
-  /** q'' solved from M q'' = f where the engine gives a closed form, or why not (see accelerations.ts). */
+  /** q'' solved from M q'' = f where the engine gives a closed form, or why not (see accelerations.ts). With constraints, in terms of the multipliers. */
   accelerations: AccelerationsResult;
+  /** Position constraints, then rate constraints, with their multipliers (see constraints.ts); empty without constraints. */
+  constraints: ConstraintResult[];
+  /** The model's outputs, definitions expanded; empty without outputs. */
+  outputs: OutputResult[];
   timing: DerivationTiming;
 }
 
@@ -124,6 +131,12 @@ export interface CanonicalDerivation {
   energy: Poly;
   cyclic: boolean[];
   explicitTime: boolean;
+  /** Position constraints, then rate constraints; their multiplier terms are in `residuals` and `forcing`. */
+  constraints: CanonicalConstraint[];
+  /** f₀: the forcing without the multiplier terms. */
+  unconstrainedForcing: Poly[];
+  /** The model's outputs, definitions expanded (may contain accelerations and multiplier symbols). */
+  outputs: { name: string; unit: string; expr: Poly }[];
   /** Milliseconds spent bringing the model's expressions to canonical form. */
   canonicalMs: number;
 }
@@ -151,7 +164,9 @@ export function deriveModel(model: Model, options: DeriveOptions = {}): Derivati
   const conserved: ConservedQuantity[] = [];
   const noForces = canonical.forces.every((q) => q.size === 0);
   const noDissipation = canonical.dissipation.size === 0;
-  if (!canonical.explicitTime && noForces && noDissipation) {
+  // Ideal constraints that do not move in time do no work.
+  const workless = canonical.constraints.every((c) => !c.explicitTime);
+  if (!canonical.explicitTime && noForces && noDissipation && workless) {
     conserved.push({
       name: "energy function",
       expr: tree(canonical.energy),
@@ -168,6 +183,12 @@ export function deriveModel(model: Model, options: DeriveOptions = {}): Derivati
     const actedOnBy: CyclicMomentum["actedOnBy"] = [];
     if (canonical.forces[i]!.size > 0) actedOnBy.push("applied force");
     if (dissipative.size > 0) actedOnBy.push("dissipation");
+    const constraintForce: Poly = alg.zero();
+    for (const c of canonical.constraints) alg.mulInto(constraintForce, alg.symbol(c.id), c.jacobian[i]!);
+    if (constraintForce.size > 0) {
+      alg.addInto(rate, constraintForce);
+      actedOnBy.push("constraint");
+    }
     const momentum = canonical.momenta[i]!;
     const isConserved = rate.size === 0;
     cyclicMomenta.push({
@@ -183,12 +204,16 @@ export function deriveModel(model: Model, options: DeriveOptions = {}): Derivati
         name: `momentum of ${name}`,
         expr: tree(momentum),
         display: display(momentum),
-        reason: `${name} is cyclic and no force or dissipation acts on it`,
+        reason: `${name} is cyclic and no force, dissipation or constraint acts on it`,
       });
     }
   });
 
-  const hamiltonian = legendreTransform(canonical, names, options.hamiltonianMaxSize ?? 3, model);
+  const hamiltonian: HamiltonianResult =
+    canonical.constraints.length > 0
+      ? { available: false, reason: "the model has constraints; the Hamiltonian is given for unconstrained coordinates only" }
+      : legendreTransform(canonical, names, options.hamiltonianMaxSize ?? 3, model);
+  const constraints = constraintResults(canonical, model);
   const accelerations = solveAccelerations(alg, names, canonical.massMatrix, canonical.forcing);
   const mentions = [...canonical.massMatrix.flat(), ...canonical.forcing];
   const freeCoordinates = names.filter((_, i) => !mentions.some((p) => alg.dependsOn(p, space.coordinates[i]!)));
@@ -207,6 +232,8 @@ export function deriveModel(model: Model, options: DeriveOptions = {}): Derivati
     explicitTime: canonical.explicitTime,
     hamiltonian,
     accelerations,
+    constraints,
+    outputs: canonical.outputs.map((o) => ({ name: o.name, expr: tree(o.expr), display: display(o.expr), unit: o.unit })),
     timing: {
       canonicalMs: canonical.canonicalMs,
       equationsMs: afterEquations - start - canonical.canonicalMs,
@@ -218,6 +245,40 @@ export function deriveModel(model: Model, options: DeriveOptions = {}): Derivati
   result.timing.analysisMs = end - afterEquations;
   result.timing.totalMs = end - start;
   return result;
+}
+
+/** Multipliers in closed form where small enough, after checking that the constraints are independent. */
+function constraintResults(canonical: CanonicalDerivation, model: Model): ConstraintResult[] {
+  const { space, algebra: alg } = canonical;
+  if (canonical.constraints.length === 0) return [];
+  const parameterValues = new Map<number, number>();
+  for (const p of model.parameters) {
+    const id = space.lookup(p.name, "parameter");
+    if (id !== undefined && p.value !== undefined) parameterValues.set(id, p.value);
+  }
+  checkConstraintRows(alg, canonical.constraints, parameterValues);
+  const solved = closedFormMultipliers(alg, canonical.massMatrix, canonical.unconstrainedForcing, canonical.constraints);
+  let units: Record<string, string> = {};
+  try {
+    units = Object.fromEntries(Object.entries(multiplierUnits(model)).map(([symbol, d]) => [symbol, formatDimension(d)]));
+  } catch {
+    // Unit problems are reported by checkModelUnits; the unit is left blank here.
+  }
+  return canonical.constraints.map((c, k) => {
+    const closed = solved[k]!;
+    const base = {
+      name: c.name,
+      kind: c.kind,
+      symbol: c.symbol,
+      expr: polyToExpr(space, c.expr),
+      jacobian: c.jacobian.map((a) => polyToExpr(space, a)),
+      bias: polyToExpr(space, c.bias),
+      unit: units[c.symbol] ?? "",
+    };
+    return closed.multiplier === null
+      ? { ...base, multiplier: null, display: null, reason: closed.reason }
+      : { ...base, multiplier: closed.multiplier, display: closed.display };
+  });
 }
 
 /** The Euler–Lagrange equations as canonical sums. See deriveModel. */
@@ -243,6 +304,30 @@ export function deriveCanonical(model: Model, options: DeriveOptions = {}): Cano
   const potential = canonicalOf(analysis.potential, "potential");
   const dissipation = canonicalOf(analysis.dissipation, "dissipation");
   const forces = model.coordinates.map((c) => canonicalOf(analysis.forces.get(c.name), `forces.${c.name}`));
+  const constraintSpecs = [
+    ...(model.constraints ?? []).map((c, i) => ({ name: c.name, kind: "position" as const, field: `constraints[${i}].expr`, tree: analysis.constraints[i]! })),
+    ...(model.rateConstraints ?? []).map((c, i) => ({
+      name: c.name,
+      kind: "rate" as const,
+      field: `rateConstraints[${i}].expr`,
+      tree: analysis.rateConstraints[i]!,
+    })),
+  ];
+  const constraintPolys = constraintSpecs.map((c) => canonicalOf(c.tree, c.field));
+  // Multipliers are unknown functions of time, like inputs; only outputs may name them.
+  const multipliers = new Map<string, number>();
+  const constraintIds = constraintSpecs.map((c) => {
+    const symbol = multiplierSymbol(c.kind, c.name);
+    const id = space.addInput(symbol);
+    multipliers.set(symbol, id);
+    return { symbol, id };
+  });
+  const outputResolve = makeResolver(alg, dt, new Map([...parameters, ...multipliers]), coordinates, definitions);
+  const outputs = (model.outputs ?? []).map((o, i) => ({
+    name: o.name,
+    unit: o.unit,
+    expr: convert(alg, analysis.outputs[i]!, `outputs[${i}].expr`, outputResolve),
+  }));
   const canonicalMs = now() - start;
 
   const lagrangian = alg.sub(kinetic, potential);
@@ -271,6 +356,10 @@ export function deriveCanonical(model: Model, options: DeriveOptions = {}): Cano
     residuals.push(residual);
   }
 
+  const constraints = constraintSpecs.map((c, k) =>
+    canonicalConstraint(alg, dt, { name: c.name, kind: c.kind, field: c.field, ...constraintIds[k]! }, constraintPolys[k]!),
+  );
+
   // Mass-matrix form: residual = Σ_j M_ij q_j'' − f_i.
   const massMatrix: Poly[][] = residuals.map((r, i) =>
     space.accelerations.map((a) => {
@@ -283,7 +372,7 @@ export function deriveCanonical(model: Model, options: DeriveOptions = {}): Cano
       return entry;
     }),
   );
-  const forcing = residuals.map((r) => {
+  const forcingOf = (r: Poly) => {
     const f: Poly = alg.zero();
     for (const t of r.values()) {
       let hasAcceleration = false;
@@ -291,7 +380,11 @@ export function deriveCanonical(model: Model, options: DeriveOptions = {}): Cano
       if (!hasAcceleration) alg.accumulate(f, C.negate(t.c), t.f, t.g);
     }
     return f;
-  });
+  };
+  const unconstrainedForcing = residuals.map(forcingOf);
+  // The residual of q gains −Σ λ_k ∂g_k/∂q and −Σ μ_k a_kq; the forcing carries +λ_k ∂g_k/∂q.
+  addMultiplierTerms(alg, residuals, constraints);
+  const forcing = constraints.length === 0 ? unconstrainedForcing : residuals.map(forcingOf);
 
   const energy = alg.negate(lagrangian);
   for (let i = 0; i < n; i++) alg.mulInto(energy, alg.symbol(space.rates[i]!), momenta[i]!);
@@ -312,6 +405,9 @@ export function deriveCanonical(model: Model, options: DeriveOptions = {}): Cano
     energy,
     cyclic,
     explicitTime,
+    constraints,
+    unconstrainedForcing,
+    outputs,
     canonicalMs,
   };
 }

@@ -1,4 +1,5 @@
 import type { AccelerationsResult } from "./accelerations";
+import type { ConstraintKind } from "./constraints";
 import type { DerivationResult, DerivationTiming, HamiltonianResult } from "./derive";
 import type { Expr } from "./expr/ast";
 import { formatExpression } from "./expr/parse";
@@ -41,7 +42,7 @@ export interface PrintedDerivation {
     rate: string;
     latex: { momentum: string; rate: string };
     conserved: boolean;
-    actedOnBy: ("applied force" | "dissipation")[];
+    actedOnBy: ("applied force" | "dissipation" | "constraint")[];
   }[];
   freeCoordinates: string[];
   conserved: { name: string; expr: string; latex: string; reason: string }[];
@@ -49,7 +50,39 @@ export interface PrintedDerivation {
   hamiltonian: { available: true; expr: string; momenta: { coordinate: string; symbol: string }[] } | { available: false; reason: string };
   /** q'' = expr (LaTeX of the right-hand side), or why there is no closed form. */
   accelerations: { coordinate: string; expr: string; latex: string }[] | { available: false; reason: string };
+  /** Constraints with their multipliers (position first, then rate); empty without constraints. */
+  constraints: PrintedConstraint[];
+  /** The model's outputs, definitions expanded; empty without outputs. */
+  outputs: PrintedOutput[];
   timing: DerivationTiming;
+}
+
+/** A constraint printed: see ConstraintResult. */
+export interface PrintedConstraint {
+  name: string;
+  kind: ConstraintKind;
+  /** `lambda_<name>` / `mu_<name>`, the symbol in the equations. */
+  symbol: string;
+  /** The constraint (= 0), canonical text. */
+  expr: string;
+  latex: string;
+  /** Row of A, one per coordinate. */
+  jacobian: string[];
+  /** A q'' = bias, bias = −(Ȧ q' + ȧ₀). */
+  bias: string;
+  /** λ or μ in closed form, or null (then evaluate numerically: compileConstrainedSystem). */
+  multiplier: string | null;
+  multiplierLatex: string | null;
+  reason?: string;
+  /** Unit of the multiplier over base symbols. */
+  unit: string;
+}
+
+export interface PrintedOutput {
+  name: string;
+  expr: string;
+  latex: string;
+  unit: string;
 }
 
 /**
@@ -94,6 +127,20 @@ export function printDerivation(result: DerivationResult): PrintedDerivation {
     explicitTime: result.explicitTime,
     hamiltonian: printHamiltonian(result.hamiltonian),
     accelerations: printAccelerations(result.accelerations),
+    constraints: result.constraints.map((c) => ({
+      name: c.name,
+      kind: c.kind,
+      symbol: c.symbol,
+      expr: text(c.expr),
+      latex: toLatex(c.expr),
+      jacobian: c.jacobian.map(text),
+      bias: text(c.bias),
+      multiplier: c.multiplier === null ? null : text(c.multiplier),
+      multiplierLatex: c.display === null ? null : quotientLatex(c.display),
+      ...(c.reason === undefined ? {} : { reason: c.reason }),
+      unit: c.unit,
+    })),
+    outputs: result.outputs.map((o) => ({ name: o.name, expr: text(o.expr), latex: toLatex(o.display), unit: o.unit })),
     timing: result.timing,
   };
 }

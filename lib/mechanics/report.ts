@@ -1,3 +1,4 @@
+import type { ConstraintKind } from "./constraints";
 import { deriveModel } from "./derive";
 import { printDerivation } from "./print";
 import { checkModelUnits } from "./units";
@@ -18,6 +19,14 @@ export interface DerivationReport {
   /** The energy function h = Σ q'·∂L/∂q' − L. */
   energy: string;
   conserved: { name: string; expr: string; reason: string }[];
+  /**
+   * Constraints with their solved multipliers: λ (position) or μ (rate) in
+   * coordinates, rates, t, parameters and inputs, or null where no closed form
+   * was produced. Absent from the report of a model without constraints.
+   */
+  constraints?: { name: string; kind: ConstraintKind; expr: string; multiplier: string | null }[];
+  /** The model's outputs, definitions expanded. Absent without outputs. */
+  outputs?: { name: string; expr: string; unit: string }[];
   /** In-process derivation time (ms). */
   timingMs: number;
 }
@@ -43,6 +52,10 @@ export function derivationReport(raw: unknown): DerivationReport {
     forcing: printed.forcing,
     energy: printed.energy,
     conserved: printed.conserved.map(({ name, expr, reason }) => ({ name, expr, reason })),
+    ...(printed.constraints.length === 0
+      ? {}
+      : { constraints: printed.constraints.map(({ name, kind, expr, multiplier }) => ({ name, kind, expr, multiplier })) }),
+    ...(printed.outputs.length === 0 ? {} : { outputs: printed.outputs.map(({ name, expr, unit }) => ({ name, expr, unit })) }),
     timingMs: Math.round(result.timing.totalMs * 100) / 100,
   };
 }

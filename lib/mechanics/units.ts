@@ -200,16 +200,16 @@ class UnitInference {
 }
 
 /**
- * Checks a model's units: T and V are energies, D a power, each generalized
- * force has unit J / unit(q), every definition has a consistent unit, the
- * arguments of sin, cos, exp… are dimensionless and the terms of every sum
- * agree. With `equations` (from the derivation, as trees), every top-level
- * term of each residual must have the unit of its coordinate's generalized force.
- * Throws ModelError("unit" | "unit_mismatch" | "unknown_symbol", field, …).
- *
- * @example checkModelUnits(model, derived.equations)
+ * Units of a model's symbols: declared ones, definitions inferred from their
+ * expressions, and the multipliers of its constraints: λ_k has unit
+ * J / unit(g_k), μ_k has J / (unit(rate expression) · s), so that each
+ * multiplier term of a residual is a generalized force.
  */
-export function checkModelUnits(model: Model, equations?: readonly { coordinate: string; residual: ExpressionSource }[]): void {
+function unitTable(model: Model): {
+  units: Map<string, Dimension>;
+  lookup: (name: string) => Dimension | undefined;
+  infer: (text: string, field: string) => Dimension | null;
+} {
   const units = new Map<string, Dimension>();
   const declare = (list: readonly { name: string; unit: string }[] | undefined, key: string) =>
     (list ?? []).forEach((item, i) => units.set(item.name, parseUnit(item.unit ?? "", `${key}[${i}].unit`)));
@@ -237,7 +237,38 @@ export function checkModelUnits(model: Model, equations?: readonly { coordinate:
     return new UnitInference(lookup, field, text).of(ModelError.inField(field, () => parseExpression(text)));
   }
   for (const name of definitions.keys()) lookup(name);
+  const multiplier = (list: readonly { name: string; expr: string }[] | undefined, key: "constraints" | "rateConstraints") =>
+    (list ?? []).forEach((c, i) => {
+      const unit = infer(c.expr, `${key}[${i}].expr`) ?? DIMENSIONLESS;
+      const symbol = `${key === "constraints" ? "lambda" : "mu"}_${c.name}`;
+      units.set(symbol, divideDimensions(ENERGY, key === "constraints" ? unit : multiplyDimensions(unit, TIME_DIMENSION)));
+    });
+  multiplier(model.constraints, "constraints");
+  multiplier(model.rateConstraints, "rateConstraints");
+  return { units, lookup, infer };
+}
 
+/** Units of a model's multipliers by symbol (`lambda_rope`: N). Throws ModelError like checkModelUnits. */
+export function multiplierUnits(model: Model): Record<string, Dimension> {
+  const { units } = unitTable(model);
+  const out: Record<string, Dimension> = {};
+  for (const c of model.constraints ?? []) out[`lambda_${c.name}`] = units.get(`lambda_${c.name}`)!;
+  for (const c of model.rateConstraints ?? []) out[`mu_${c.name}`] = units.get(`mu_${c.name}`)!;
+  return out;
+}
+
+/**
+ * Checks a model's units: T and V are energies, D a power, each generalized
+ * force has unit J / unit(q), every definition has a consistent unit, the
+ * arguments of sin, cos, exp… are dimensionless and the terms of every sum
+ * agree; constraints are consistent and outputs have their stated unit. With `equations` (from the derivation, as trees), every top-level
+ * term of each residual must have the unit of its coordinate's generalized force.
+ * Throws ModelError("unit" | "unit_mismatch" | "unknown_symbol", field, …).
+ *
+ * @example checkModelUnits(model, derived.equations)
+ */
+export function checkModelUnits(model: Model, equations?: readonly { coordinate: string; residual: ExpressionSource }[]): void {
+  const { units, lookup, infer } = unitTable(model);
   const expectEachTerm = (source: ExpressionSource, field: string, expected: Dimension, what: string, derived = false) => {
     // The model's text is pointed at by column; a derived equation is quoted by its printed term.
     const tree = expressionTree(source, derived ? DERIVED_EXPRESSION_LIMITS : DEFAULT_PARSE_LIMITS);
@@ -260,6 +291,17 @@ export function checkModelUnits(model: Model, equations?: readonly { coordinate:
   for (const [coordinate, text] of Object.entries(model.forces ?? {})) {
     expectEachTerm(text, `forces.${coordinate}`, generalizedForceUnit(coordinate), `the generalized force on ${coordinate}`);
   }
+  (model.outputs ?? []).forEach((o, i) => {
+    const declared = parseUnit(o.unit, `outputs[${i}].unit`);
+    const unit = infer(o.expr, `outputs[${i}].expr`);
+    if (unit !== null && !sameDimension(unit, declared)) {
+      throw new ModelError(
+        "unit_mismatch",
+        `outputs[${i}].expr`,
+        `the output "${o.name}" has unit ${formatDimension(unit)} but its unit is given as ${formatDimension(declared)}`,
+      );
+    }
+  });
   (equations ?? []).forEach((equation, i) => {
     expectEachTerm(equation.residual, `equations[${i}].residual`, generalizedForceUnit(equation.coordinate), `the equation of ${equation.coordinate}`, true);
   });

@@ -24,6 +24,8 @@ const description = z.string().max(4000).optional();
 const namedUnit = z.object({ name: identifier, unit, description });
 const parameter = namedUnit.extend({ value: z.number().refine(Number.isFinite, "value must be a finite number").optional() });
 const definition = z.object({ name: identifier, expr: z.string(), description });
+const constraint = z.object({ name: identifier, expr: z.string(), description });
+const output = z.object({ name: identifier, expr: z.string(), unit, description });
 
 const modelSchema = z.object({
   title: z.string().max(300),
@@ -35,6 +37,9 @@ const modelSchema = z.object({
   potential: z.string(),
   dissipation: z.string().optional(),
   forces: z.record(z.string(), z.string()).optional(),
+  constraints: z.array(constraint).optional(),
+  rateConstraints: z.array(constraint).optional(),
+  outputs: z.array(output).optional(),
 });
 
 /** The parsed trees of a model, its definitions in dependency order. */
@@ -47,9 +52,13 @@ export interface ModelAnalysis {
   potential: Expr;
   dissipation: Expr | null;
   forces: Map<string, Expr>;
+  /** Parsed position constraints, rate constraints and outputs, in model order. */
+  constraints: Expr[];
+  rateConstraints: Expr[];
+  outputs: Expr[];
 }
 
-type SymbolRole = "coordinate" | "parameter" | "input" | "definition";
+type SymbolRole = "coordinate" | "parameter" | "input" | "definition" | "multiplier";
 
 /** Collects problems (`collectModelIssues`) or stops at the first (`validateModel`, `analyzeModel`). */
 type Report = (issue: ModelError) => void;
@@ -108,6 +117,10 @@ function stripUndefined(data: z.infer<typeof modelSchema>): Model {
     model.definitions = data.definitions.map(({ name, expr, description }) => (description === undefined ? { name, expr } : { name, expr, description }));
   if (data.dissipation !== undefined) model.dissipation = data.dissipation;
   if (data.forces) model.forces = data.forces;
+  const named = <T extends { description?: string | undefined }>({ description, ...rest }: T) => (description === undefined ? rest : { ...rest, description });
+  if (data.constraints) model.constraints = data.constraints.map(named);
+  if (data.rateConstraints) model.rateConstraints = data.rateConstraints.map(named);
+  if (data.outputs) model.outputs = data.outputs.map(named);
   return model;
 }
 
@@ -142,6 +155,14 @@ function checkSizes(input: unknown, limits: ModelLimits, report: Report): void {
   add(record.potential);
   add(record.dissipation);
   if (Array.isArray(record.definitions)) for (const d of record.definitions) if (d && typeof d === "object") add((d as Record<string, unknown>).expr);
+  for (const key of ["constraints", "rateConstraints", "outputs"]) {
+    const list = record[key];
+    if (Array.isArray(list)) {
+      if (list.length > limits.maxConstraints)
+        report(new ModelError("too_large", key, `at most ${limits.maxConstraints} ${key} are allowed (found ${list.length})`));
+      for (const c of list) if (c && typeof c === "object") add((c as Record<string, unknown>).expr);
+    }
+  }
   if (record.forces && typeof record.forces === "object") {
     const forces = Object.values(record.forces as Record<string, unknown>);
     if (forces.length > limits.maxCoordinates) report(new ModelError("too_large", "forces", `at most ${limits.maxCoordinates} forces are allowed`));
@@ -254,8 +275,60 @@ function analyze(model: Model, report: Report): ModelAnalysis | null {
     const tree = parse(text, field);
     if (tree) forces.set(coordinate, tree);
   }
+  const constraintNames = new Map<string, string>();
+  const multiplierRoles = new Map(roles);
+  const constraintList = (list: readonly { name: string; expr: string }[] | undefined, key: "constraints" | "rateConstraints"): Expr[] =>
+    (list ?? []).map((c, i) => {
+      const field = `${key}[${i}]`;
+      const earlier = constraintNames.get(c.name);
+      if (earlier !== undefined) problem(new ModelError("duplicate_name", `${field}.name`, `"${c.name}" is already the name of ${earlier}`));
+      constraintNames.set(c.name, field);
+      const symbol = `${key === "constraints" ? "lambda" : "mu"}_${c.name}`;
+      if (roles.has(symbol)) {
+        problem(new ModelError("duplicate_name", `${field}.name`, `its multiplier "${symbol}" is already declared as a ${roles.get(symbol)}`));
+      } else multiplierRoles.set(symbol, "multiplier");
+      const tree = parse(c.expr, `${field}.expr`);
+      if (!tree) return null;
+      const found = derivativeOrder(tree, definitionIndex, definitionOrderOf);
+      const allowed = key === "constraints" ? 0 : 1;
+      if (found.order > allowed) {
+        const what =
+          key === "constraints"
+            ? "a position constraint may not depend on rates (write it under rateConstraints)"
+            : "a rate constraint may not depend on accelerations";
+        problem(new ModelError("unsupported", `${field}.expr`, what, found.node!.start + 1, found.node!.end - found.node!.start));
+      }
+      walk(tree, (node) => {
+        if (node.kind === "sym" && roles.get(node.name) === "input") {
+          problem(
+            new ModelError("unsupported", `${field}.expr`, `a constraint may not depend on the input "${node.name}"`, node.start + 1, node.end - node.start),
+          );
+        }
+      });
+      return tree;
+    }) as Expr[];
+  const constraints = constraintList(model.constraints, "constraints");
+  const rateConstraints = constraintList(model.rateConstraints, "rateConstraints");
+  const outputNames = new Set<string>();
+  const outputs = (model.outputs ?? []).map((o, i) => {
+    const field = `outputs[${i}]`;
+    if (outputNames.has(o.name)) problem(new ModelError("duplicate_name", `${field}.name`, `"${o.name}" is already the name of an output`));
+    outputNames.add(o.name);
+    let tree: Expr;
+    try {
+      tree = parseExpression(o.expr);
+    } catch (error) {
+      if (error instanceof ExpressionError) {
+        problem(ModelError.fromExpression(`${field}.expr`, error));
+        return null;
+      }
+      throw error;
+    }
+    checkSymbols(tree, `${field}.expr`, multiplierRoles, problem);
+    return tree;
+  }) as Expr[];
   if (problems > 0 || !kinetic || !potential) return null;
-  return { model, definitions: definitionTrees as Expr[], definitionOrder, kinetic, potential, dissipation, forces };
+  return { model, definitions: definitionTrees as Expr[], definitionOrder, kinetic, potential, dissipation, forces, constraints, rateConstraints, outputs };
 }
 
 function checkSymbols(tree: Expr, field: string, roles: Map<string, SymbolRole>, report: Report): void {
@@ -269,10 +342,9 @@ function checkSymbols(tree: Expr, field: string, roles: Map<string, SymbolRole>,
     }
     const role = roles.get(node.name);
     if (role === undefined) return report(new ModelError("unknown_symbol", field, `unknown symbol "${node.name}"`, column, length));
-    if (node.order > 0 && (role === "parameter" || role === "input")) {
-      report(
-        new ModelError("rate_of_parameter", field, `"${node.name}" is ${role === "parameter" ? "a parameter" : "an input"} and has no rate`, column, length),
-      );
+    if (node.order > 0 && (role === "parameter" || role === "input" || role === "multiplier")) {
+      const what = role === "parameter" ? "a parameter" : role === "input" ? "an input" : "a multiplier";
+      report(new ModelError("rate_of_parameter", field, `"${node.name}" is ${what} and has no rate`, column, length));
     }
   });
 }

@@ -4,10 +4,9 @@
  * language reserves); the server's unit check and model validation remain the
  * authority.
  */
-import { RESERVED_NAMES } from "../mechanics/expr/ast";
+import { RESERVED_NAMES, greekAdvice, hasGreekLetter } from "../mechanics/browser";
 import { MODEL_UNIT_SYMBOLS, parseUnitText, UnitError } from "../units";
-import { greekAdvice, hasGreekLetter } from "../mechanics/expr/greek";
-import { isBlankRow, parseParameterValue, type DerivationDocument, type TableKind } from "./document";
+import { isBlankRow, isTableCell, parseParameterValue, type DerivationDocument, type TableKind } from "./document";
 
 export type FieldCheck = { ok: true } | { ok: false; message: string; /** 0-based position in the text */ position: number };
 
@@ -51,21 +50,42 @@ export function checkSymbolName(text: string): FieldCheck {
 }
 
 /**
- * Names used by more than one coordinate, parameter, input or definition, with
- * the row ids that use them. The grids mark every row of a clash.
+ * Which names must differ from one another: symbols (coordinates, parameters,
+ * inputs, definitions) share one space; constraints of both kinds another (each
+ * names a multiplier); outputs a third.
+ */
+const NAME_SPACE: Record<TableKind, string> = {
+  coordinates: "symbol",
+  parameters: "symbol",
+  inputs: "symbol",
+  definitions: "symbol",
+  constraints: "constraint",
+  "rate-constraints": "constraint",
+  outputs: "output",
+};
+
+/**
+ * Names used twice within one name space (see NAME_SPACE), with the row ids
+ * that use them. The grids mark every row of a clash.
  */
 export function duplicateNames(doc: DerivationDocument): Map<string, { cellId: string; rowId: string; kind: TableKind }[]> {
   const uses = new Map<string, { cellId: string; rowId: string; kind: TableKind }[]>();
   for (const cell of doc.cells) {
-    if (cell.kind !== "coordinates" && cell.kind !== "parameters" && cell.kind !== "inputs" && cell.kind !== "definitions") continue;
+    if (!isTableCell(cell)) continue;
     for (const row of cell.rows) {
       const name = row.name.trim();
       if (name === "" || isBlankRow(row)) continue;
-      const list = uses.get(name) ?? [];
+      const key = `${NAME_SPACE[cell.kind]}:${name}`;
+      const list = uses.get(key) ?? [];
       list.push({ cellId: cell.id, rowId: row.id, kind: cell.kind });
-      uses.set(name, list);
+      uses.set(key, list);
     }
   }
-  for (const [name, list] of uses) if (list.length < 2) uses.delete(name);
-  return uses;
+  const clashes = new Map<string, { cellId: string; rowId: string; kind: TableKind }[]>();
+  for (const [key, list] of uses) {
+    if (list.length < 2) continue;
+    const name = key.slice(key.indexOf(":") + 1);
+    clashes.set(name, [...(clashes.get(name) ?? []), ...list]);
+  }
+  return clashes;
 }

@@ -4,7 +4,7 @@
  * small engine files (no symbolic library), so it is safe in the browser
  * bundle; keep it that way when changing its imports.
  */
-import { symbolLatex, toLatex } from "../mechanics/latex";
+import { symbolLatex, toLatex } from "../mechanics/browser";
 
 export { symbolLatex };
 

@@ -4,7 +4,7 @@
  * (LaTeX comes from the engine, with each top-level term wrapped in
  * `\htmlData{term=ID}{…}`); the notebook only renders it.
  */
-import type { Model } from "../mechanics/model";
+import type { Model } from "../mechanics/browser";
 import { CELL_LABELS, locateModelField, type DerivationDocument, type FieldLocation } from "./document";
 
 export interface EquationView {
@@ -13,6 +13,8 @@ export interface EquationView {
   residual: string;
   /** LaTeX of `residual = 0`, terms wrapped in \htmlData{term=ID}. */
   latex: string;
+  /** The equation's top-level terms with those ids (comments anchor to them); absent in results stored before they were kept. */
+  terms?: { id: string; text: string; latex: string }[];
 }
 
 export interface NotebookResults {
@@ -50,6 +52,12 @@ export interface NotebookResults {
       stability: "stable" | "marginal" | "unstable";
       /** The clause of the rule that decided, in words. */
       stabilityReason: string;
+      /**
+       * Rows of C and D (y = C x + D u) for every output the frequency response
+       * may use: each coordinate, each rate, and each model output that reads
+       * without multipliers; `notes` say why any output is left out.
+       */
+      outputs?: { names: string[]; units: string[]; C: number[][]; D: number[][]; notes: string[] };
     };
   };
   code?: { language: string; filename: string; source: string }[];
@@ -92,8 +100,11 @@ export interface LocatedDiagnostic {
 function fieldText(model: Model | undefined, field: string): string | null {
   if (!model) return null;
   if (field === "kinetic" || field === "potential" || field === "dissipation") return model[field] ?? null;
-  const definition = /^definitions\[(\d+)\]\.expr$/.exec(field);
-  if (definition) return model.definitions?.[Number(definition[1])]?.expr ?? null;
+  const row = /^(definitions|constraints|rateConstraints|outputs)\[(\d+)\]\.expr$/.exec(field);
+  if (row) {
+    const list = model[row[1] as "definitions" | "constraints" | "rateConstraints" | "outputs"];
+    return list?.[Number(row[2])]?.expr ?? null;
+  }
   const force = /^forces(?:\.([A-Za-z_]\w*)|\[["']?([A-Za-z_]\w*)["']?\])$/.exec(field);
   if (force) return model.forces?.[force[1] ?? force[2]!] ?? null;
   return null;
@@ -135,7 +146,15 @@ export function toEditorDiagnostic(located: LocatedDiagnostic, currentText: stri
 }
 
 const COLUMN_HEADINGS: Record<string, string> = { name: "Name", unit: "Unit", value: "Value", expr: "Expression", description: "Description" };
-const ROW_NOUNS: Record<string, string> = { coordinates: "coordinate", parameters: "parameter", inputs: "input", definitions: "definition" };
+const ROW_NOUNS: Record<string, string> = {
+  coordinates: "coordinate",
+  parameters: "parameter",
+  inputs: "input",
+  definitions: "definition",
+  constraints: "constraint",
+  "rate-constraints": "rate constraint",
+  outputs: "output",
+};
 
 /**
  * The label the analyst sees for a model field: `kinetic` → "Kinetic energy",

@@ -5,8 +5,7 @@
  * The N-link chain reuses the engine's chain builder (the one its benchmark
  * derives) and adds the picker's size limits, a title and descriptions.
  */
-import type { Model } from "../mechanics/model";
-import { chainModel } from "../mechanics/templates/chain";
+import { type Model, chainModel } from "../mechanics/browser";
 import { createCell, createId, modelToDocument, type DerivationDocument } from "./document";
 
 export const TEMPLATE_IDS = ["single-pendulum", "cart-with-pendulum", "two-mass-spring-chain", "n-link-chain"] as const;

@@ -60,6 +60,8 @@ const derivedSchema = z.object({
   forcing: z.array(z.string()),
   energy: z.string(),
   conserved: z.array(z.object({ name: z.string(), expr: z.string(), reason: z.string() })),
+  constraints: z.array(z.object({ name: z.string(), kind: z.enum(["position", "rate"]), expr: z.string(), multiplier: z.string().nullable() })).optional(),
+  outputs: z.array(z.object({ name: z.string(), expr: z.string(), unit: z.string() })).optional(),
 });
 type StoredDerived = z.infer<typeof derivedSchema>;
 

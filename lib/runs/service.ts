@@ -7,11 +7,9 @@ import { engineErrorToAppError } from "@/lib/evaluation/service";
 import { normalizeModel } from "@/lib/evaluation/evaluate";
 import { env } from "@/lib/env";
 import { AppError } from "@/lib/errors";
-import { EngineLimitError } from "@/lib/mechanics/errors";
-import type { Model } from "@/lib/mechanics/model";
+import { EngineLimitError, type Model } from "@/lib/mechanics";
 import { updateRow, type DerivationDocument, type ParametersCell } from "@/lib/notebook/document";
-import { explainFit } from "@/lib/simulate/fit-report";
-import type { WorkerErrorPayload } from "@/lib/simulate/worker-protocol";
+import { explainFit, type WorkerErrorPayload } from "@/lib/simulate";
 import { deleteObject, getObjectBytes, putObject } from "@/lib/storage";
 import { getSimulationPool } from "@/lib/workers/simulation-pool";
 import type { FitTaskInput, FitTaskOutput, SimulateTaskInput, SimulateTaskOutput } from "./tasks";
@@ -24,6 +22,12 @@ const SETUP_ALLOWANCE_MS = 15_000;
 const MAX_OVERLAY_POINTS = 5_000;
 /** Output points a server run may produce (a client asks for fewer through the output step). */
 export const MAX_RUN_OUTPUT_POINTS = 200_001;
+
+/** A queued job's progress report and cancel signal (lib/jobs), passed on to the worker pool. */
+export interface JobWatch {
+  onProgress?: (fraction: number) => void;
+  signal?: AbortSignal;
+}
 
 export interface RunSettings {
   initialCoordinates: Record<string, number>;
@@ -68,6 +72,7 @@ function setupError(surface: "simulation" | "fit", error: WorkerErrorPayload): A
 }
 
 function poolError(surface: "simulation" | "fit", error: unknown, limitMs: number): unknown {
+  if (error instanceof EngineLimitError && error.limit === "cancelled") return new AppError("conflict:job", "The job was cancelled.");
   if (error instanceof EngineLimitError && error.limit === "time") {
     return new AppError(
       `unprocessable:${surface}`,
@@ -100,10 +105,12 @@ export async function runAndStoreSimulation({
   derivation,
   userId,
   settings,
+  watch = {},
 }: {
   derivation: Derivation;
   userId: string;
   settings: RunSettings;
+  watch?: JobWatch;
 }): Promise<SimulationRun> {
   const model = modelFromDocument(documentOf(derivation));
   const timeLimitMs = Math.min(settings.timeLimitMs ?? env.SIMULATION_TIME_LIMIT_MS, env.SIMULATION_TIME_LIMIT_MS);
@@ -115,7 +122,7 @@ export async function runAndStoreSimulation({
   };
   let output: SimulateTaskOutput;
   try {
-    output = await getSimulationPool().run<SimulateTaskOutput>("simulate", input, { timeoutMs: timeLimitMs + SETUP_ALLOWANCE_MS });
+    output = await getSimulationPool().run<SimulateTaskOutput>("simulate", input, { timeoutMs: timeLimitMs + SETUP_ALLOWANCE_MS, ...watch });
   } catch (error) {
     throw poolError("simulation", error, timeLimitMs + SETUP_ALLOWANCE_MS);
   }
@@ -192,7 +199,15 @@ export interface FitRequest {
 }
 
 /** Fits parameters of the derivation's current model to a stored measured file, in the simulation pool. */
-export async function fitToMeasuredFile({ derivation, request }: { derivation: Derivation; request: FitRequest }): Promise<Omit<FitJson, "applied">> {
+export async function fitToMeasuredFile({
+  derivation,
+  request,
+  watch = {},
+}: {
+  derivation: Derivation;
+  request: FitRequest;
+  watch?: JobWatch;
+}): Promise<Omit<FitJson, "applied">> {
   if (request.file.kind !== "measured_csv") {
     throw new AppError("unprocessable:fit", "Choose a measured-data CSV to fit to.", { fieldErrors: { fileId: ["Not a measured-data file."] } });
   }
@@ -212,7 +227,7 @@ export async function fitToMeasuredFile({ derivation, request }: { derivation: D
   };
   let output: FitTaskOutput;
   try {
-    output = await getSimulationPool().run<FitTaskOutput>("fit", input, { timeoutMs: timeLimitMs + SETUP_ALLOWANCE_MS });
+    output = await getSimulationPool().run<FitTaskOutput>("fit", input, { timeoutMs: timeLimitMs + SETUP_ALLOWANCE_MS, ...watch });
   } catch (error) {
     throw poolError("fit", error, timeLimitMs + SETUP_ALLOWANCE_MS);
   }

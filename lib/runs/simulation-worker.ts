@@ -3,7 +3,7 @@
  * served with the engine pool's protocol. `npm run build:workers` bundles it to
  * dist/workers/simulation-worker.mjs.
  */
-import { serveEngineTasks } from "../mechanics/worker/serve";
+import { serveEngineTasks } from "../mechanics/worker";
 import { SIMULATION_TASKS } from "./tasks";
 
 serveEngineTasks(SIMULATION_TASKS);

@@ -9,16 +9,25 @@
  * answer 422 precisely; model errors are thrown and cross the thread boundary
  * as the engine's typed errors.
  */
-import { deriveModel } from "../mechanics/derive";
-import type { Model } from "../mechanics/model";
-import { validateModel } from "../mechanics/validate-model";
-import { energyDrift, type EnergyDriftReport } from "../simulate/checks";
-import { FitError, MeasuredDataError, SimulationSetupError } from "../simulate/errors";
-import { fitParameters, type FitParameter, type FitResult } from "../simulate/fit";
-import { integrate, type SimulationResult } from "../simulate/integrate";
-import { parseMeasuredCsv } from "../simulate/measured";
-import { systemFromDerivation } from "../simulate/system";
-import { errorPayload, type SimulationSettingsMessage, type WorkerErrorPayload } from "../simulate/worker-protocol";
+import { deriveModel, type Model, validateModel } from "../mechanics";
+import {
+  energyDrift,
+  type EnergyDriftReport,
+  FitError,
+  MeasuredDataError,
+  SimulationSetupError,
+  fitParameters,
+  type FitParameter,
+  type FitResult,
+  integrate,
+  type SimulationResult,
+  parseMeasuredCsv,
+  systemFromDerivation,
+  errorPayload,
+  type SimulationSettingsMessage,
+  type WorkerErrorPayload,
+} from "../simulate";
+import type { EngineTaskContext } from "../mechanics/worker";
 
 export type TaskFailure = { ok: false; error: WorkerErrorPayload };
 
@@ -56,11 +65,14 @@ function failure(error: unknown): TaskFailure {
   throw error;
 }
 
-export function simulateTask(payload: unknown): SimulateTaskOutput {
+export function simulateTask(payload: unknown, context?: EngineTaskContext): SimulateTaskOutput {
   const { model, settings, energyDriftThreshold } = payload as SimulateTaskInput;
   const system = systemOf(model);
   try {
-    const result = integrate(system, settings);
+    const result = integrate(system, {
+      ...settings,
+      ...(context ? { onProgress: ({ fraction }) => context.progress(fraction), progressIntervalMs: 250 } : {}),
+    });
     let energyCheck: Omit<EnergyDriftReport, "series"> | null = null;
     if (result.energy && system.energyConserved) {
       const { series: _series, ...report } = energyDrift(result.energy, { threshold: energyDriftThreshold });
@@ -72,7 +84,7 @@ export function simulateTask(payload: unknown): SimulateTaskOutput {
   }
 }
 
-export function fitTask(payload: unknown): FitTaskOutput {
+export function fitTask(payload: unknown, context?: EngineTaskContext): FitTaskOutput {
   const input = payload as FitTaskInput;
   const validated = validateModel(input.model);
   const system = systemFromDerivation(validated, deriveModel(validated));
@@ -86,6 +98,8 @@ export function fitTask(payload: unknown): FitTaskOutput {
       coordinateScales: input.coordinateScales,
       maxIterations: input.maxIterations,
       timeLimitMs: input.timeLimitMs,
+      // A fit's length is not known ahead; its iterations against the limit are the honest measure.
+      onProgress: context ? ({ iteration }) => context.progress(Math.min(0.95, iteration / (input.maxIterations ?? DEFAULT_FIT_ITERATIONS))) : undefined,
     });
     return {
       ok: true,

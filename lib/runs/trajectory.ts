@@ -3,7 +3,7 @@
  * in object storage). Pure functions, no I/O; the CSV download is
  * lib/simulate/trajectory-csv.ts.
  */
-import type { SimulationResult } from "../simulate/integrate";
+import type { SimulationResult } from "../simulate";
 import type { StoredTrajectory } from "@/db/schema";
 
 /** Trajectories with more values than this go to object storage instead of the row (about 1 MB of JSON). */

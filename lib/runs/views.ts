@@ -5,8 +5,7 @@
  * safe to import on the client.
  */
 import type { RunSummary, SimulationRun, SimulationRunStatus, StoredTrajectory } from "@/db/schema";
-import type { FitStatus, FittedParameter, NotIdentifiable } from "@/lib/simulate/fit";
-import type { FitReport } from "@/lib/simulate/fit-report";
+import type { FitStatus, FittedParameter, NotIdentifiable, FitReport } from "@/lib/simulate";
 
 export type { RunSummary } from "@/db/schema";
 

@@ -6,7 +6,7 @@
 
 export { SingularMatrixError } from "../numeric/errors";
 
-export type SimulationSetupErrorCode = "settings" | "unknown_name" | "missing_parameter" | "expression" | "too_large" | "dimension";
+export type SimulationSetupErrorCode = "settings" | "unknown_name" | "missing_parameter" | "expression" | "too_large" | "dimension" | "constraint";
 
 /** A problem with the system or the settings, found before integration starts. */
 export class SimulationSetupError extends Error {

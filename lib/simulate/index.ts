@@ -1,11 +1,18 @@
 // Public API of the simulation library (framework-free; runs in a Web Worker and in Node worker threads).
+// Code outside lib/mechanics and lib/simulate imports this entry only (a lint rule keeps it so); nothing
+// behind it reaches the engine's computer algebra, so client components may import it.
 // The worker handler (worker-protocol.ts) serves the notebook's Web Worker (components/notebook/simulation);
 // the server runs simulations through lib/runs (tasks.ts in the simulation worker pool).
 export { SingularMatrixError, SimulationSetupError, MeasuredDataError, FitError } from "./errors";
 export type { SimulationSetupErrorCode, MeasuredDataErrorCode, FitErrorCode } from "./errors";
 export { createLuWorkspace, factorInPlace, substituteInPlace, solveInPlace, DEFAULT_SINGULAR_TOLERANCE } from "../numeric/linear-solve";
 export type { LuWorkspace } from "../numeric/linear-solve";
-export { systemFromMassMatrixForm, systemFromDerivation, variableNames, layoutOf } from "./system";
+export { systemFromMassMatrixForm, systemFromDerivation, massMatrixFormOf, variableNames, layoutOf } from "./system";
+export { multiplierSymbol } from "./specs";
+export type { ConstraintSpec, OutputSpec, ConstraintKind } from "./specs";
+export { dependentConstraint } from "./constraints";
+export { peakOf, outputVariables } from "./outputs";
+export type { Peak, OutputSeries } from "./outputs";
 export type {
   MechanicalSystem,
   SystemParameter,
@@ -17,12 +24,14 @@ export type {
   ExpressionEvaluator,
   VariableLayout,
 } from "./system";
-export { integrate, integrateInSlices, STEP_TOLERANCE_FACTOR } from "./integrate";
+export { integrate, integrateInSlices, STEP_TOLERANCE_FACTOR, CONSTRAINT_METHOD } from "./integrate";
 export type {
   SimulationSettings,
   SimulationResult,
   SimulationFailure,
   SimulationFailureReason,
+  ConstraintReport,
+  InitialProjection,
   SimulationProgress,
   SimulationStats,
   Trajectory,
@@ -43,7 +52,11 @@ export type { EnergyDriftReport, PeriodEstimate, SmallOscillationOptions, SmallO
 export { parseMeasuredCsv, resample, DEFAULT_MEASURED_LIMITS } from "./measured";
 export type { MeasuredData, MeasuredSeries, MeasuredDataOptions } from "./measured";
 export { fitParameters, fitParametersInSlices } from "./fit";
-export type { FitOptions, FitParameter, FitResult, FittedParameter, FitProgress, FitStatus } from "./fit";
+export type { FitOptions, FitParameter, FitResult, FittedParameter, FitProgress, FitStatus, NotIdentifiable } from "./fit";
+export { explainFit } from "./fit-report";
+export type { FitReport, FitReportContext } from "./fit-report";
+export { trajectoryCsv } from "./trajectory-csv";
+export type { TrajectoryColumns, ExtraColumnUnits } from "./trajectory-csv";
 export { createWorkerHandler, errorPayload } from "./worker-protocol";
 export type {
   WorkerRequest,

@@ -1,7 +1,11 @@
 import { Outcome, Solver, type OutputFunction } from "odex";
 import { SimulationSetupError, SingularMatrixError } from "./errors";
 import { createLuWorkspace, solveInPlace } from "../numeric/linear-solve";
-import { compileLocated, layoutOf, type MechanicalSystem, type VariableLayout } from "./system";
+import { ConstraintFailure, ConstraintSet } from "./constraints";
+import { compileOutputs, peakOf, type OutputSeries } from "./outputs";
+import type { ConstraintKind } from "./specs";
+import type { ExpressionEvaluator } from "./system";
+import { compileLocated, layoutOf, variableNames, type MechanicalSystem, type VariableLayout } from "./system";
 
 /** Values given per coordinate: an array in coordinate order, or a record by name (missing names are 0). */
 export type NumericAssignment = readonly number[] | Readonly<Record<string, number>>;
@@ -61,13 +65,49 @@ export interface SimulationSettings {
   maxOutputPoints?: number;
 }
 
-export type SimulationFailureReason = "step_size_underflow" | "singular_mass_matrix" | "time_limit" | "cancelled" | "non_finite_state" | "max_steps";
+export type SimulationFailureReason =
+  "step_size_underflow" | "singular_mass_matrix" | "singular_constraints" | "time_limit" | "cancelled" | "non_finite_state" | "max_steps";
 
 export interface SimulationFailure {
   reason: SimulationFailureReason;
   message: string;
   /** The last time the integrator reached with an accepted step. */
   timeReached: number;
+  /** The constraint at fault, for `singular_constraints`. */
+  constraint?: string | null;
+}
+
+/** What the projection of the initial state onto the constraints changed. */
+export interface InitialProjection {
+  /** Every coordinate the projection moved: as given, and as the run started. */
+  coordinates: { name: string; given: number; projected: number }[];
+  rates: { name: string; given: number; projected: number }[];
+  /** Each constraint's residual at the state as given (g_k, or the rate residual of a rate constraint). */
+  residuals: { name: string; kind: ConstraintKind; given: number }[];
+}
+
+/** How the run held the constraints. */
+export interface ConstraintReport {
+  names: string[];
+  kinds: ConstraintKind[];
+  /** `lambda_<name>` or `mu_<name>`, per constraint. */
+  multiplierNames: string[];
+  /** The multiplier of each constraint at every output point (a generalized force per unit of the constraint). */
+  multipliers: Float64Array[];
+  /** Each constraint's residual at every output point: g_k, or A_k q' + a_k0 for a rate constraint. */
+  residuals: Float64Array[];
+  /** Each position constraint's rate-level residual A_k q' + a_k0 at every output point (rate constraints repeat their residual). */
+  rateResiduals: Float64Array[];
+  /** max |residual| per constraint over the run. */
+  maxResidual: number[];
+  /** Null when the given initial state met the constraints. */
+  initialProjection: InitialProjection | null;
+  /** The largest correction one projection made during the run (the drift the integrator left between output times). */
+  largestCorrection: { coordinates: number; rates: number };
+  /** How the constraints are held, in words, for the results panel. */
+  method: string;
+  /** True when a constraint names t: the constraint forces then do work and the energy function is no constant of the motion. */
+  explicitTime: boolean;
 }
 
 /** Output on the grid, one column per coordinate and per rate (ready for charts). */
@@ -99,7 +139,15 @@ export interface SimulationResult {
   /** The parameter values the run used (defaults with overrides applied). */
   parameterValues: Record<string, number>;
   stats: SimulationStats;
+  /** Null for a system without constraints. */
+  constraints: ConstraintReport | null;
+  /** The system's outputs at every output point, with their peaks; empty when it has none. */
+  outputs: OutputSeries[];
 }
+
+/** How the integrator holds constraints (shown with the results). */
+export const CONSTRAINT_METHOD =
+  "index reduction (q'' and the multipliers solved together at every step), with the state projected back onto the position and rate constraints at every output time";
 
 const DEFAULTS = {
   relativeTolerance: 1e-8,
@@ -127,8 +175,16 @@ class StopIntegration {
   constructor(
     readonly reason: SimulationFailureReason,
     readonly message: string,
+    readonly constraint: string | null = null,
   ) {}
 }
+
+/** Positions are projected until every |g_k| is below this, relative to 1 + max |q|. */
+const PROJECTION_TOLERANCE = 1e-12;
+/** A state whose constraints cannot be brought below this (relative to 1 + max |q|) is refused. */
+const CONSISTENCY_TOLERANCE = 1e-8;
+/** A given initial state counts as meeting its constraints when every residual is below this (relative). */
+const MET_TOLERANCE = 1e-10;
 
 const now: () => number = typeof performance !== "undefined" ? () => performance.now() : () => Date.now();
 
@@ -190,6 +246,11 @@ class IntegrationRun {
   private readonly onStep: OutputFunction;
   private readonly began: number;
   private readonly energy: ((values: Float64Array) => number) | undefined;
+  private readonly constraintSet: ConstraintSet | null;
+  private readonly outputEvaluator: ExpressionEvaluator | null;
+  private readonly evaluateMassForcing: (values: Float64Array, out: Float64Array) => void;
+  private initialProjection: InitialProjection | null = null;
+  private readonly largestCorrection = { coordinates: 0, rates: 0 };
 
   private state: number[];
   private filled = 0;
@@ -243,6 +304,9 @@ class IntegrationRun {
     const q0 = assign(system.coordinateNames, settings.initialCoordinates, "initialCoordinates");
     const rates0 = settings.initialRates === undefined ? new Array<number>(n).fill(0) : assign(system.coordinateNames, settings.initialRates, "initialRates");
     this.state = [...q0, ...rates0];
+    this.constraintSet =
+      system.constraints && system.constraints.length > 0 ? new ConstraintSet(system.constraints, system.coordinateNames, variableNames(system)) : null;
+    this.outputEvaluator = compileOutputs(system, this.constraintSet?.multiplierNames ?? []);
 
     this.columns = Array.from({ length: 2 * n }, () => new Float64Array(this.outputTimes.length));
 
@@ -257,6 +321,9 @@ class IntegrationRun {
     const specialized = system.specialize ? system.specialize(this.parameterValues) : system;
     this.energy = specialized.energy;
     const massForcing = specialized.massForcing;
+    this.evaluateMassForcing = massForcing;
+    const constraintSet = this.constraintSet;
+    const multipliers = new Float64Array(constraintSet?.m ?? 0);
     const nn = n * n;
     const mf = new Float64Array(nn + n);
     const lu = createLuWorkspace(n);
@@ -289,17 +356,25 @@ class IntegrationRun {
       values[timeSlot] = t;
       writeInputs(t);
       massForcing(values, mf);
-      for (let i = 0; i < nn; i++) matrix[i] = mf[i]!;
-      for (let i = 0; i < n; i++) acc[i] = mf[nn + i]!;
-      try {
-        solveInPlace(lu, acc);
-      } catch (error) {
-        if (error instanceof SingularMatrixError) {
-          if (error.nonFinite) throw new StopIntegration("non_finite_state", `the mass matrix is not finite at t = ${formatTime(t)}`);
-          throw new StopIntegration("singular_mass_matrix", `the mass matrix is singular at t = ${formatTime(t)} (${error.message})`);
+      if (constraintSet) {
+        try {
+          constraintSet.solveAugmented(values, mf, acc, multipliers);
+        } catch (error) {
+          if (error instanceof ConstraintFailure) throw new StopIntegration(error.reason, `${error.message} (t = ${formatTime(t)})`, error.constraint);
+          throw error;
         }
-        throw error;
-      }
+      } else
+        try {
+          for (let i = 0; i < nn; i++) matrix[i] = mf[i]!;
+          for (let i = 0; i < n; i++) acc[i] = mf[nn + i]!;
+          solveInPlace(lu, acc);
+        } catch (error) {
+          if (error instanceof SingularMatrixError) {
+            if (error.nonFinite) throw new StopIntegration("non_finite_state", `the mass matrix is not finite at t = ${formatTime(t)}`);
+            throw new StopIntegration("singular_mass_matrix", `the mass matrix is singular at t = ${formatTime(t)} (${error.message})`);
+          }
+          throw error;
+        }
       for (let i = 0; i < n; i++) {
         const a = acc[i]!;
         // NaN or ±Infinity: a - a is not 0.
@@ -352,6 +427,101 @@ class IntegrationRun {
     this.resetSolveCounter = () => {
       callsThisSolve = 0;
     };
+    if (constraintSet) this.projectInitialState(constraintSet);
+  }
+
+  /**
+   * Brings the given initial state onto the constraints before the run starts
+   * and records what changed; refuses, naming the constraint, a set that cannot
+   * be met or solved at the start.
+   */
+  private projectInitialState(set: ConstraintSet): void {
+    const { n, time } = this.layout;
+    const values = this.values;
+    for (let i = 0; i < 2 * n; i++) values[i] = this.state[i]!;
+    values[time] = this.startTime;
+    this.writeInputs(this.startTime);
+    const given = this.state.slice();
+    const residuals = new Float64Array(set.m);
+    const rateResiduals = new Float64Array(set.m);
+    set.residuals(values, residuals, rateResiduals);
+    const scaleQ = 1 + Math.max(...given.slice(0, n).map(Math.abs));
+    const scaleRates = 1 + Math.max(...given.slice(n).map(Math.abs));
+    const refuse = (error: unknown): never => {
+      if (error instanceof ConstraintFailure) {
+        throw new SimulationSetupError("constraint", `constraints.${error.constraint ?? set.names[0]}`, `at the start: ${error.message}`);
+      }
+      throw error;
+    };
+    let step;
+    try {
+      step = set.projectState(values, PROJECTION_TOLERANCE * scaleQ);
+    } catch (error) {
+      refuse(error);
+    }
+    const worst = set.worstPositionConstraint(values);
+    if (worst && !(Math.abs(worst.residual) <= CONSISTENCY_TOLERANCE * scaleQ)) {
+      throw new SimulationSetupError(
+        "constraint",
+        `constraints.${worst.name}`,
+        `the initial state cannot be brought onto the constraint "${worst.name}" (it is still ${Number(worst.residual.toPrecision(3))} after projection): ` +
+          "the constraints contradict each other, or have no solution near the given coordinates",
+      );
+    }
+    const mf = new Float64Array(n * n + n);
+    this.evaluateMassForcing(values, mf);
+    try {
+      set.solveAugmented(values, mf, new Float64Array(n), new Float64Array(set.m));
+    } catch (error) {
+      refuse(error);
+    }
+    this.state = Array.from(values.subarray(0, 2 * n));
+    const moved = (from: number, to: number, scale: number) => Math.abs(to - from) > MET_TOLERANCE * scale;
+    if (step!.positionBefore > MET_TOLERANCE * scaleQ || step!.rateBefore > MET_TOLERANCE * scaleRates) {
+      const names = this.system.coordinateNames;
+      this.initialProjection = {
+        coordinates: names.flatMap((name, i) => (moved(given[i]!, this.state[i]!, scaleQ) ? [{ name, given: given[i]!, projected: this.state[i]! }] : [])),
+        rates: names.flatMap((name, i) =>
+          moved(given[n + i]!, this.state[n + i]!, scaleRates) ? [{ name, given: given[n + i]!, projected: this.state[n + i]! }] : [],
+        ),
+        residuals: set.names.map((name, k) => ({ name, kind: set.kinds[k]!, given: residuals[k]! })),
+      };
+    }
+  }
+
+  /**
+   * Projects the state the integrator reached at an output time onto the
+   * constraints and writes it to that output point; the next segment starts
+   * from it.
+   */
+  private projectAt(set: ConstraintSet, t: number): void {
+    const { n, time } = this.layout;
+    const values = this.values;
+    for (let i = 0; i < 2 * n; i++) values[i] = this.state[i]!;
+    values[time] = t;
+    this.writeInputs(t);
+    let scaleQ = 1;
+    for (let i = 0; i < n; i++) scaleQ = Math.max(scaleQ, 1 + Math.abs(values[i]!));
+    let step;
+    try {
+      step = set.projectState(values, PROJECTION_TOLERANCE * scaleQ);
+    } catch (error) {
+      if (error instanceof ConstraintFailure) throw new StopIntegration(error.reason, `${error.message} (t = ${formatTime(t)})`, error.constraint);
+      throw error;
+    }
+    if (!(step.positionAfter <= CONSISTENCY_TOLERANCE * scaleQ)) {
+      const worst = set.worstPositionConstraint(values);
+      throw new StopIntegration(
+        "singular_constraints",
+        `the motion left the constraint "${worst?.name ?? set.names[0]}" near t = ${formatTime(t)} and could not be brought back`,
+        worst?.name ?? null,
+      );
+    }
+    this.largestCorrection.coordinates = Math.max(this.largestCorrection.coordinates, step.coordinates);
+    this.largestCorrection.rates = Math.max(this.largestCorrection.rates, step.rates);
+    this.state = Array.from(values.subarray(0, 2 * n));
+    const k = this.filled - 1;
+    if (k >= 0 && this.outputTimes[k] === t) for (let c = 0; c < 2 * n; c++) this.columns[c]![k] = this.state[c]!;
   }
 
   private readonly resetSolveCounter: () => void;
@@ -371,6 +541,36 @@ class IntegrationRun {
   advance(until: number): void {
     if (this.done) return;
     const target = Math.min(until, this.endTime);
+    const set = this.constraintSet;
+    if (set === null) {
+      this.solveTo(target);
+      return;
+    }
+    // One output interval at a time, projecting at each output time.
+    while (!this.done && this.timeReached < target) {
+      const next = Math.min(this.outputTimeAfter(this.timeReached), target);
+      this.solveTo(next);
+      if (this.failure) return;
+      try {
+        this.projectAt(set, next);
+      } catch (error) {
+        if (error instanceof StopIntegration) {
+          this.fail(error.reason, error.message, error.constraint);
+          return;
+        }
+        throw error;
+      }
+    }
+  }
+
+  /** The first output time after `t`, or the end time. */
+  private outputTimeAfter(t: number): number {
+    const times = this.outputTimes;
+    for (let k = this.filled; k < times.length; k++) if (times[k]! > t) return times[k]!;
+    return this.endTime;
+  }
+
+  private solveTo(target: number): void {
     if (this.lastStepSize > 0) this.solver.initialStepSize = this.lastStepSize;
     this.resetSolveCounter();
     try {
@@ -391,15 +591,15 @@ class IntegrationRun {
       if (target >= this.endTime) this.done = true;
     } catch (error) {
       if (error instanceof StopIntegration) {
-        this.fail(error.reason, error.message);
+        this.fail(error.reason, error.message, error.constraint);
         return;
       }
       throw error;
     }
   }
 
-  private fail(reason: SimulationFailureReason, message: string): void {
-    this.failure = { reason, message, timeReached: this.timeReached };
+  private fail(reason: SimulationFailureReason, message: string, constraint: string | null = null): void {
+    this.failure = { reason, message, timeReached: this.timeReached, ...(constraint !== null ? { constraint } : {}) };
     this.done = true;
   }
 
@@ -411,6 +611,7 @@ class IntegrationRun {
     const rates = this.columns.slice(n).map((c) => c.subarray(0, count));
     const trajectory: Trajectory = { coordinateNames: this.system.coordinateNames, times, coordinates, rates };
     const energy = this.energy ? this.energyAlong(trajectory) : null;
+    const { constraints, outputs } = this.loadsAlong(trajectory);
     return {
       status: this.failure ? "failed" : "completed",
       failure: this.failure,
@@ -424,6 +625,98 @@ class IntegrationRun {
         wallTimeMs: now() - this.began,
         stepTolerance: { relative: this.solver.relativeTolerance as number, absolute: this.solver.absoluteTolerance as number },
       },
+      constraints,
+      outputs,
+    };
+  }
+
+  /**
+   * The multipliers, the constraint residuals and the outputs at every output
+   * point, from the augmented system (or M q'' = f without constraints) solved
+   * again at the stored state.
+   */
+  private loadsAlong(trajectory: Trajectory): { constraints: ConstraintReport | null; outputs: OutputSeries[] } {
+    const set = this.constraintSet;
+    const outputsEvaluator = this.outputEvaluator;
+    if (set === null && outputsEvaluator === null) return { constraints: null, outputs: [] };
+    const { n, time, length } = this.layout;
+    const m = set?.m ?? 0;
+    const count = trajectory.times.length;
+    const specs = this.system.outputs ?? [];
+    const multipliers = Array.from({ length: m }, () => new Float64Array(count));
+    const residuals = Array.from({ length: m }, () => new Float64Array(count));
+    const rateResiduals = Array.from({ length: m }, () => new Float64Array(count));
+    const outputColumns = specs.map(() => new Float64Array(count));
+    const extended = new Float64Array(length + n + m);
+    const values = this.values;
+    const mf = new Float64Array(n * n + n);
+    const acc = new Float64Array(n);
+    const lambda = new Float64Array(m);
+    const position = new Float64Array(m);
+    const rate = new Float64Array(m);
+    const out = new Float64Array(specs.length);
+    const lu = set === null ? createLuWorkspace(n) : null;
+    for (let k = 0; k < count; k++) {
+      const t = trajectory.times[k]!;
+      for (let i = 0; i < n; i++) {
+        values[i] = trajectory.coordinates[i]![k]!;
+        values[n + i] = trajectory.rates[i]![k]!;
+      }
+      values[time] = t;
+      this.writeInputs(t);
+      this.evaluateMassForcing(values, mf);
+      let solved = true;
+      try {
+        if (set) {
+          set.solveAugmented(values, mf, acc, lambda);
+          set.residuals(values, position, rate);
+        } else {
+          for (let i = 0; i < n * n; i++) lu!.matrix[i] = mf[i]!;
+          for (let i = 0; i < n; i++) acc[i] = mf[n * n + i]!;
+          solveInPlace(lu!, acc);
+        }
+      } catch (error) {
+        if (!(error instanceof ConstraintFailure || error instanceof SingularMatrixError)) throw error;
+        solved = false;
+      }
+      for (let j = 0; j < m; j++) {
+        multipliers[j]![k] = solved ? lambda[j]! : NaN;
+        residuals[j]![k] = position[j]!;
+        rateResiduals[j]![k] = rate[j]!;
+      }
+      if (outputsEvaluator) {
+        if (solved) {
+          extended.set(values);
+          extended.set(acc, length);
+          extended.set(lambda, length + n);
+          outputsEvaluator.evaluate(extended, out);
+        }
+        for (let j = 0; j < specs.length; j++) outputColumns[j]![k] = solved ? out[j]! : NaN;
+      }
+    }
+    const outputs: OutputSeries[] = specs.map((spec, j) => ({
+      name: spec.name,
+      unit: spec.unit?.trim() ? spec.unit.trim() : null,
+      values: outputColumns[j]!,
+      peak: peakOf(trajectory.times, outputColumns[j]!),
+    }));
+    if (set === null) return { constraints: null, outputs };
+    const maxAbs = (column: Float64Array) => column.reduce((worst, v) => (Number.isFinite(v) ? Math.max(worst, Math.abs(v)) : Infinity), 0);
+    return {
+      constraints: {
+        names: [...set.names],
+        kinds: [...set.kinds],
+        multiplierNames: [...set.multiplierNames],
+        multipliers,
+        residuals,
+        rateResiduals,
+        maxResidual: residuals.map(maxAbs),
+        initialProjection: this.initialProjection,
+        largestCorrection: { ...this.largestCorrection },
+        method: CONSTRAINT_METHOD,
+        explicitTime: set.explicitTime,
+      },
+      outputs,
     };
   }
 

@@ -3,6 +3,7 @@ import type { DerivationResult } from "../mechanics/derive";
 import { ExpressionError } from "../mechanics/errors";
 import type { ExpressionSource } from "../mechanics/expr/parse";
 import type { Model } from "../mechanics/model";
+import { multiplierSymbol, type ConstraintSpec, type OutputSpec } from "./specs";
 import { SimulationSetupError } from "./errors";
 
 /**
@@ -40,6 +41,14 @@ export interface MechanicalSystem {
    * t, no dissipation, no applied force): only then is its drift a check.
    */
   readonly energyConserved?: boolean;
+  /**
+   * Position and rate constraints (definitions written out); the forcing is
+   * then f without the multiplier terms, and the integrator solves for q'' and
+   * the multipliers together (constraints.ts).
+   */
+  readonly constraints?: readonly ConstraintSpec[];
+  /** Named quantities evaluated at every output point (outputs.ts). */
+  readonly outputs?: readonly OutputSpec[];
 }
 
 export interface SystemParameter {
@@ -111,6 +120,10 @@ export interface MassMatrixForm {
   /** The energy function h = Σ q'·∂L/∂q' − L, when known. */
   energy?: ExpressionSource | null;
   energyConserved?: boolean;
+  /** Position and rate constraints, definitions written out. */
+  constraints?: readonly ConstraintSpec[];
+  /** Quantities evaluated along every run. */
+  outputs?: readonly OutputSpec[];
 }
 
 /**
@@ -141,7 +154,10 @@ export function systemFromMassMatrixForm(form: MassMatrixForm, compile: Expressi
   }
   const fields = [...form.massMatrix.flatMap((row, i) => row.map((_, j) => `massMatrix[${i}][${j}]`)), ...form.forcing.map((_, i) => `forcing[${i}]`)];
   const expressions = [...form.massMatrix.flat(), ...form.forcing];
-  const massForcingCompiled = compileLocated(expressions, fields, variables, compile);
+  // A forcing written with the multiplier terms (the engine's f + Aᵀλ) is read with λ = 0:
+  // the integrator adds Aᵀλ itself when it solves for the multipliers.
+  const multiplierZeros: Record<string, number> = Object.fromEntries((form.constraints ?? []).map((c) => [multiplierSymbol(c), 0]));
+  const massForcingCompiled = compileLocated(expressions, fields, variables, compile, multiplierZeros);
   const massForcing: MassForcingEvaluator = (values, out) => massForcingCompiled.evaluate(values, out);
   const energyExpression = form.energy || null;
   const energy = energyExpression === null ? undefined : energyEvaluator(compileLocated([energyExpression], ["energy"], variables, compile));
@@ -151,7 +167,7 @@ export function systemFromMassMatrixForm(form: MassMatrixForm, compile: Expressi
   let cachedKey = "";
   let cached: SpecializedEvaluators | null = null;
   const specialize = (parameterValues: Readonly<Record<string, number>>): SpecializedEvaluators => {
-    const constants: Record<string, number> = {};
+    const constants: Record<string, number> = { ...multiplierZeros };
     for (const p of form.parameters) {
       const value = parameterValues[p.name];
       if (value === undefined) throw new SimulationSetupError("missing_parameter", `parameters.${p.name}`, `the parameter "${p.name}" has no value`);
@@ -169,34 +185,59 @@ export function systemFromMassMatrixForm(form: MassMatrixForm, compile: Expressi
     cached = specialized;
     return specialized;
   };
-  return { ...shape, massForcing, energy, specialize, energyConserved: form.energyConserved };
+  const constraints = form.constraints && form.constraints.length > 0 ? form.constraints : undefined;
+  return {
+    ...shape,
+    massForcing,
+    energy,
+    specialize,
+    energyConserved: form.energyConserved,
+    ...(constraints ? { constraints } : {}),
+    ...(form.outputs && form.outputs.length > 0 ? { outputs: form.outputs } : {}),
+  };
 }
 
 /**
- * The system of a derived model: coordinates, inputs and parameters (with
- * their values and units) from the model file, M, f and the energy function
- * from `deriveModel`. This is the path the notebook and the server take.
+ * The mass-matrix form of a derived model: coordinates, inputs and parameters
+ * (with their values and units) from the model file; M, f, the energy
+ * function, the constraints and the outputs (definitions written out) from
+ * `deriveModel`. Plain data that crosses a worker boundary.
+ *
+ * @example massMatrixFormOf(model, deriveModel(model)).constraints // [{ name: "rod", kind: "position", expr: … }]
+ */
+export function massMatrixFormOf(
+  model: Pick<Model, "coordinates" | "parameters" | "inputs">,
+  derivation: Pick<DerivationResult, "coordinates" | "massMatrix" | "forcing" | "energy" | "conserved"> &
+    Partial<Pick<DerivationResult, "constraints" | "outputs">>,
+): MassMatrixForm {
+  const constraints = (derivation.constraints ?? []).map(({ name, kind, expr }) => ({ name, kind, expr }));
+  const outputs = (derivation.outputs ?? []).map(({ name, expr, unit }) => ({ name, expr, unit }));
+  return {
+    coordinates: derivation.coordinates,
+    inputs: (model.inputs ?? []).map((input) => input.name),
+    parameters: model.parameters.map((p) => ({ name: p.name, value: p.value, unit: p.unit })),
+    massMatrix: derivation.massMatrix,
+    forcing: derivation.forcing,
+    energy: derivation.energy,
+    energyConserved: derivation.conserved.some((c) => c.name === "energy function"),
+    ...(constraints.length > 0 ? { constraints } : {}),
+    ...(outputs.length > 0 ? { outputs } : {}),
+  };
+}
+
+/**
+ * The system of a derived model (see `massMatrixFormOf`). This is the path the
+ * server takes.
  *
  * @example
  * const system = systemFromDerivation(model, deriveModel(model));
  */
 export function systemFromDerivation(
   model: Pick<Model, "coordinates" | "parameters" | "inputs">,
-  derivation: Pick<DerivationResult, "coordinates" | "massMatrix" | "forcing" | "energy" | "conserved">,
+  derivation: Parameters<typeof massMatrixFormOf>[1],
   compile: ExpressionCompiler = defaultCompiler,
 ): MechanicalSystem {
-  return systemFromMassMatrixForm(
-    {
-      coordinates: derivation.coordinates,
-      inputs: (model.inputs ?? []).map((input) => input.name),
-      parameters: model.parameters.map((p) => ({ name: p.name, value: p.value, unit: p.unit })),
-      massMatrix: derivation.massMatrix,
-      forcing: derivation.forcing,
-      energy: derivation.energy,
-      energyConserved: derivation.conserved.some((c) => c.name === "energy function"),
-    },
-    compile,
-  );
+  return systemFromMassMatrixForm(massMatrixFormOf(model, derivation), compile);
 }
 
 /**

@@ -103,7 +103,10 @@ export function createWorkerHandler(post: PostMessage): (request: WorkerRequest)
           signal,
           onProgress: (progress) => post({ type: "progress", id, progress }),
         });
-        const energyCheck = result.energy && system.energyConserved ? { ...energyDrift(result.energy, { threshold: job.energyDriftThreshold }) } : null;
+        const energyCheck =
+          result.energy && system.energyConserved && !result.constraints?.explicitTime
+            ? { ...energyDrift(result.energy, { threshold: job.energyDriftThreshold }) }
+            : null;
         const compact = compactResult(result);
         if (energyCheck) energyCheck.series = energyCheck.series.slice();
         post({ type: "result", id, outcome: { kind: "simulate", result: compact, energyCheck } }, buffersOf(compact, energyCheck));

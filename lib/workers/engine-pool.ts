@@ -1,5 +1,5 @@
 import "server-only";
-import { EnginePool } from "@/lib/mechanics/worker/pool";
+import { EnginePool } from "@/lib/mechanics/worker";
 import { lazyPool } from "./lazy-pool";
 import { engineWorkerFile } from "./worker-file";
 

@@ -1,5 +1,5 @@
 import "server-only";
-import type { EnginePool } from "@/lib/mechanics/worker/pool";
+import type { EnginePool } from "@/lib/mechanics/worker";
 import { AppError, type ErrorCode } from "@/lib/errors";
 
 /**

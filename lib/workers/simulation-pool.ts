@@ -1,6 +1,6 @@
 import "server-only";
 import path from "node:path";
-import { EnginePool } from "@/lib/mechanics/worker/pool";
+import { EnginePool } from "@/lib/mechanics/worker";
 import { lazyPool } from "@/lib/workers/lazy-pool";
 
 /** The bundled simulation worker (`npm run build:workers`), resolved from the project folder. */

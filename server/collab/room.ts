@@ -110,6 +110,15 @@ export class Room {
     const state = await this.deps.persistence.state(this.derivationId);
     if (!state) return { ok: false, code: CloseCode.noDerivation, reason: "No such derivation." };
     if (state.locked) await this.becomeLocked(state.content, state.title);
+    else {
+      // After a crash the JSON copy may lag the stored updates: bring it up to date.
+      const stored = parseStoredDocument(state.content, { title: state.title });
+      const storedJson = stored.ok ? JSON.stringify(stored.document) : null;
+      if (storedJson !== this.lastJson) {
+        this.lastJson = storedJson;
+        this.scheduleJsonCopy();
+      }
+    }
     this.loaded = true;
     if (this.resyncAfterLoad) await this.resync();
     return { ok: true };

@@ -127,7 +127,15 @@ export function createCollabServer(options: CollabServerOptions): CollabServer {
       let connections = 0;
       for (const room of rooms.values()) connections += room.connections.size;
       response.writeHead(200, { "content-type": "application/json", "cache-control": "no-store" });
-      response.end(JSON.stringify({ ok: !closing, documents: rooms.size, connections, rssMb: Math.round(process.memoryUsage().rss / 1e6) }));
+      response.end(
+        JSON.stringify({
+          ok: !closing,
+          documents: rooms.size,
+          connections,
+          rssMb: Math.round(process.memoryUsage().rss / 1e6),
+          cpuMs: Math.round((process.cpuUsage().user + process.cpuUsage().system) / 1000),
+        }),
+      );
       return;
     }
     response.writeHead(404, { "content-type": "text/plain" });

@@ -3,8 +3,9 @@ import * as forgotRoute from "@/app/api/auth/forgot-password/route";
 import * as resetRoute from "@/app/api/auth/reset-password/route";
 import * as signUpRoute from "@/app/api/auth/sign-up/route";
 import { closeDatabase } from "@/db/client";
-import { createInvite } from "@/db/queries/invites";
+import { acceptInviteByTokenHash, createInvite } from "@/db/queries/invites";
 import { getMembershipByTeamIdAndUserId } from "@/db/queries/teams";
+import { getUserByEmail } from "@/db/queries/users";
 import { authenticate } from "@/lib/auth/authenticate";
 import { createToken } from "@/lib/auth/tokens";
 import { env } from "@/lib/env";
@@ -35,6 +36,15 @@ async function resetTokenFor(email: string): Promise<string> {
     await new Promise((resolve) => setTimeout(resolve, 100));
   }
   throw new Error(`no reset e-mail for ${email}`);
+}
+
+async function subjectsTo(email: string, count: number): Promise<string[]> {
+  let subjects: string[] = [];
+  for (let attempt = 0; attempt < 20 && subjects.length < count; attempt += 1) {
+    if (attempt > 0) await new Promise((resolve) => setTimeout(resolve, 100));
+    subjects = (await listCapturedMessages()).filter((m) => m.to.some((to) => to.address === email)).map((m) => m.subject);
+  }
+  return subjects;
 }
 
 describe("authenticate", () => {
@@ -76,16 +86,24 @@ describe("authenticate", () => {
 });
 
 describe("sign-up", () => {
-  it("creates an account and refuses the same e-mail twice with a field error", async () => {
+  it("answers a new and a registered e-mail the same way, and e-mails the existing account instead", async () => {
     const email = uniqueEmail("signup");
     const first = await signUpRoute.POST(jsonRequest("/", "POST", { name: "Rhea Okafor", email, password: "long-enough-pass" }), params({}));
-    expect(first.status).toBe(201);
+    expect(first.status).toBe(202);
+    expect((await authenticate({ email, password: "long-enough-pass" })).status).toBe("ok");
+
     const second = await signUpRoute.POST(
-      jsonRequest("/", "POST", { name: "Rhea Okafor", email: email.toUpperCase(), password: "long-enough-pass" }),
+      jsonRequest("/", "POST", { name: "Someone Else", email: email.toUpperCase(), password: "another-long-pass" }),
       params({}),
     );
-    expect(second.status).toBe(409);
-    expect((await second.json()).error.fieldErrors.email[0]).toMatch(/already exists/);
+    expect(second.status).toBe(first.status);
+    expect(await second.json()).toEqual(await first.json());
+    // The existing account is untouched: its password still works, the second one does not.
+    expect((await authenticate({ email, password: "long-enough-pass" })).status).toBe("ok");
+    expect((await authenticate({ email, password: "another-long-pass" })).status).toBe("invalid");
+    // Each attempt sent one message: the welcome, then the notice to the existing account.
+    const subjects = await subjectsTo(email, 2);
+    expect(subjects).toEqual(expect.arrayContaining(["Your Holonomy account is ready", "Someone tried to create a Holonomy account with your address"]));
   });
 
   it("reports every invalid field", async () => {
@@ -94,7 +112,7 @@ describe("sign-up", () => {
     expect(Object.keys((await response.json()).error.fieldErrors).sort()).toEqual(["email", "name", "password"]);
   });
 
-  it("joins the inviting team when signing up with an invitation", async () => {
+  it("leaves an invitation to the signed-in account: sign-up itself neither spends nor reveals it", async () => {
     const { team, members } = await makeTeam("Seat rig lab");
     const email = uniqueEmail("invited");
     const { token, tokenHash } = createToken();
@@ -103,11 +121,13 @@ describe("sign-up", () => {
       jsonRequest("/", "POST", { name: "New Analyst", email, password: "long-enough-pass", inviteToken: token }),
       params({}),
     );
-    expect(response.status).toBe(201);
-    const body = await response.json();
-    expect(body.teamId).toBe(team.id);
-    const membership = await getMembershipByTeamIdAndUserId({ teamId: team.id, userId: body.user.id });
-    expect(membership?.role).toBe("analyst");
+    expect(response.status).toBe(202);
+    const user = await getUserByEmail({ email });
+    expect(user).not.toBeNull();
+    expect(await getMembershipByTeamIdAndUserId({ teamId: team.id, userId: user!.id })).toBeNull();
+    // The form accepts it next, signed in (POST /api/invites/{token}/accept runs this).
+    const { membership } = await acceptInviteByTokenHash({ tokenHash, userId: user!.id, userEmail: user!.email });
+    expect(membership).toMatchObject({ teamId: team.id, role: "analyst" });
   });
 });
 
@@ -115,10 +135,10 @@ describe("sign-up and password-reset rate limits", () => {
   it("limits sign-ups per e-mail and per client address with 429 rate_limited:sign_up", async () => {
     const email = uniqueEmail("repeat");
     const body = { name: "Ines Varga", email, password: "long-enough-pass" };
-    expect((await signUpRoute.POST(requestFrom("203.0.113.40", body), params({}))).status).toBe(201);
+    expect((await signUpRoute.POST(requestFrom("203.0.113.40", body), params({}))).status).toBe(202);
     // 5 attempts per e-mail per hour (lib/auth/rate-limit.ts), whatever their outcome.
     for (let attempt = 1; attempt < 5; attempt += 1) {
-      expect((await signUpRoute.POST(requestFrom(`203.0.113.${41 + attempt}`, body), params({}))).status).toBe(409);
+      expect((await signUpRoute.POST(requestFrom(`203.0.113.${41 + attempt}`, body), params({}))).status).toBe(202);
     }
     const limited = await signUpRoute.POST(requestFrom("203.0.113.50", body), params({}));
     expect(limited.status).toBe(429);
@@ -127,7 +147,7 @@ describe("sign-up and password-reset rate limits", () => {
     const address = "203.0.113.60";
     for (let attempt = 0; attempt < 20; attempt += 1) {
       const response = await signUpRoute.POST(requestFrom(address, { ...body, email: uniqueEmail(`burst${attempt}`) }), params({}));
-      expect(response.status).toBe(201);
+      expect(response.status).toBe(202);
     }
     const burst = await signUpRoute.POST(requestFrom(address, { ...body, email: uniqueEmail("burst-extra") }), params({}));
     expect(burst.status).toBe(429);

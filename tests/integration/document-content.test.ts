@@ -18,7 +18,7 @@ import * as teamDerivationsRoute from "@/app/api/teams/[teamId]/derivations/rout
 import { closeDatabase } from "@/db/client";
 import { getDerivationById } from "@/db/queries/derivations";
 import { AppError } from "@/lib/errors";
-import type { Model } from "@/lib/mechanics/model";
+import type { Model } from "@/lib/mechanics";
 import { DEFAULT_SIMULATION_SETTINGS, DOCUMENT_SCHEMA_VERSION, modelToDocument, type DerivationDocument } from "@/lib/notebook/document";
 import { closeEnginePool } from "@/lib/workers/engine-pool";
 import { storeContentAs } from "./support/content";
@@ -146,7 +146,9 @@ describe("writing content", () => {
     expect(refused).toBeInstanceOf(AppError);
     expect((refused as AppError).status).toBe(400);
     expect(Object.keys((refused as AppError).fieldErrors ?? {}).every((key) => key.startsWith("document.cells[0].settings"))).toBe(true);
-    const newer = await storeContentAs(analyst, derivation.id, { ...modelToDocument(bogie), schemaVersion: DOCUMENT_SCHEMA_VERSION + 1 }).catch((error: unknown) => error);
+    const newer = await storeContentAs(analyst, derivation.id, { ...modelToDocument(bogie), schemaVersion: DOCUMENT_SCHEMA_VERSION + 1 }).catch(
+      (error: unknown) => error,
+    );
     expect((newer as AppError).status).toBe(422);
 
     expect((await storeContentAs(analyst, derivation.id, fixture("version-1-notebook.json"))).status).toBe("saved");

@@ -11,7 +11,7 @@ import * as teamDerivationsRoute from "@/app/api/teams/[teamId]/derivations/rout
 import { closeDatabase } from "@/db/client";
 import { closeEnginePool } from "@/lib/workers/engine-pool";
 import { DOCUMENT_SCHEMA_VERSION, modelToDocument, type DerivationDocument } from "@/lib/notebook/document";
-import type { Model } from "@/lib/mechanics/model";
+import type { Model } from "@/lib/mechanics";
 import { safetyNote } from "@/lib/domain";
 import { formRequest, jsonRequest, makeTeam, params, resetDatabase, type TeamFixture } from "./support/fixtures";
 import { signInAs, signOut } from "./support/session";
@@ -52,7 +52,6 @@ async function createWithDocument(fixture: TeamFixture, document: DerivationDocu
 function evaluate(id: string, body?: unknown) {
   return evaluateRoute.POST(jsonRequest(`/api/derivations/${id}/evaluate`, "POST", body), params({ id }));
 }
-
 
 function importJson(fixture: TeamFixture, body: unknown) {
   return importRoute.POST(jsonRequest(`/api/teams/${fixture.team.id}/derivations/import`, "POST", body), params({ teamId: fixture.team.id }));

@@ -33,7 +33,7 @@ import { createDerivation } from "@/db/queries/derivations";
 import { approveRevision, requestReview } from "@/db/queries/reviews";
 import { derivations, files, simulationRuns } from "@/db/schema";
 import { env } from "@/lib/env";
-import type { Model } from "@/lib/mechanics/model";
+import type { Model } from "@/lib/mechanics";
 import { addCell, blankDocument, createCell, modelToDocument, type DerivationDocument } from "@/lib/notebook/document";
 import { INLINE_TRAJECTORY_VALUES } from "@/lib/runs/trajectory";
 import { listObjectKeys } from "@/lib/storage";

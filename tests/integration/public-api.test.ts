@@ -325,7 +325,9 @@ describe("GET /api/v1/derivations/{id}/approved", () => {
     await approveThroughFlow(kestrel, derivation.id, modelToDocument(seatModel("Seat rig, polled")));
     // Fill the window up to the limit directly; 600 real requests would only slow the suite.
     const limit = rateLimits.apiRequestsByToken;
-    await db.execute(sql`insert into rate_limit_events (action, key) select ${limit.action}, ${busy.token.id} from generate_series(1, ${limit.max - 1})`);
+    await db.execute(
+      sql`insert into rate_limits (key, points, expire) values (${`${limit.name}:${busy.token.id}`}, ${limit.points - 1}, ${Date.now() + limit.durationSeconds * 1000})`,
+    );
     expect((await getApproved(derivation.id, busy.secret)).status).toBe(200);
     const limited = await getApproved(derivation.id, busy.secret);
     expect(limited.status).toBe(429);
@@ -397,8 +399,8 @@ describe("GET /api/v1/openapi.json", () => {
 
     const limit = rateLimits.apiRequestsByToken;
     const failures = rateLimits.apiTokenFailuresByAddress;
-    expect(openapi.info.description).toContain(`${limit.max} requests in ${limit.windowMinutes} minutes`);
-    expect(openapi.info.description).toContain(`${failures.max} invalid tokens in ${failures.windowMinutes} minutes`);
+    expect(openapi.info.description).toContain(`${limit.points} requests in ${limit.durationSeconds / 60} minutes`);
+    expect(openapi.info.description).toContain(`${failures.points} invalid tokens in ${failures.durationSeconds / 60} minutes`);
     expect(openapi.info.description).toContain(safetyNote);
     const language = openapi.paths["/derivations/{id}/approved"].get.parameters.find((parameter) => parameter.name === "language");
     expect((language?.schema as { enum?: string[] }).enum).toEqual([...CODE_EXPORT_LANGUAGES]);

@@ -10,9 +10,9 @@ import * as viewPreferencesRoute from "@/app/api/derivations/[id]/view-preferenc
 import { closeDatabase } from "@/db/client";
 import { createDerivation, getDerivationById } from "@/db/queries/derivations";
 import { safetyNote } from "@/lib/domain";
-import type { Model } from "@/lib/mechanics/model";
+import type { Model } from "@/lib/mechanics";
 import { createCell, modelToDocument, type DerivationDocument } from "@/lib/notebook/document";
-import { estimatePeriod } from "@/lib/simulate/checks";
+import { estimatePeriod } from "@/lib/simulate";
 import { closeEnginePool, getEnginePool } from "@/lib/workers/engine-pool";
 import { closeSimulationPool } from "@/lib/workers/simulation-pool";
 import { jsonRequest, makeTeam, params, resetDatabase, type TeamFixture } from "./support/fixtures";

@@ -33,6 +33,25 @@ describe("parseEnv: NEXTAUTH_SECRET", () => {
   });
 });
 
+describe("parseEnv: security settings", () => {
+  it("reads extra connect-src origins as a list and refuses anything that is not an origin", () => {
+    expect(parseEnv({}).CSP_CONNECT_SRC).toEqual([]);
+    expect(parseEnv({ CSP_CONNECT_SRC: " wss://collab.kestrel.example  https://status.kestrel.example " }).CSP_CONNECT_SRC).toEqual([
+      "wss://collab.kestrel.example",
+      "https://status.kestrel.example",
+    ]);
+    // A quote or semicolon would let a setting add directives of its own.
+    expect(() => parseEnv({ CSP_CONNECT_SRC: "wss://x.example; script-src *" })).toThrow(/CSP_CONNECT_SRC/);
+    expect(() => parseEnv({ CSP_CONNECT_SRC: "'unsafe-eval'" })).toThrow(/CSP_CONNECT_SRC/);
+  });
+
+  it("scales rate limits by a positive multiplier, 1 by default", () => {
+    expect(parseEnv({}).RATE_LIMIT_MULTIPLIER).toBe(1);
+    expect(parseEnv({ RATE_LIMIT_MULTIPLIER: "1000" }).RATE_LIMIT_MULTIPLIER).toBe(1000);
+    expect(() => parseEnv({ RATE_LIMIT_MULTIPLIER: "0" })).toThrow(/RATE_LIMIT_MULTIPLIER/);
+  });
+});
+
 describe("parseEnv: the collaboration server", () => {
   it("defaults to loopback port 3001 and derives the public address from the port", () => {
     const env = parseEnv({ NODE_ENV: "test" });

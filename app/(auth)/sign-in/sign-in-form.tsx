@@ -17,7 +17,18 @@ const messages: Record<string, string> = {
   Unavailable: "Sign-in is unavailable because the database cannot be reached. Try again shortly.",
 };
 
-export function SignInForm({ returnTo, passwordWasReset, initialEmail }: { returnTo: string; passwordWasReset: boolean; initialEmail: string }) {
+export function SignInForm({
+  returnTo,
+  passwordWasReset,
+  afterSignUp = false,
+  initialEmail,
+}: {
+  returnTo: string;
+  passwordWasReset: boolean;
+  /** Signing in right after a sign-up did not work: the address may already have an account, which was sent an e-mail. */
+  afterSignUp?: boolean;
+  initialEmail: string;
+}) {
   const router = useRouter();
   const [formError, setFormError] = useState<string | null>(null);
   const {
@@ -40,6 +51,9 @@ export function SignInForm({ returnTo, passwordWasReset, initialEmail }: { retur
   return (
     <form method="post" onSubmit={onSubmit} noValidate className="space-y-4" aria-label="Sign in">
       {passwordWasReset ? <Notice tone="info">Your password was changed. Sign in with the new one.</Notice> : null}
+      {afterSignUp ? (
+        <Notice tone="info">We sent a message to that address. If it already has an account, sign in with its password or reset the password.</Notice>
+      ) : null}
       {formError ? <Notice tone="error">{formError}</Notice> : null}
       <Field label="E-mail" type="email" autoComplete="email" autoFocus error={errors.email?.message} {...register("email")} />
       <Field label="Password" type="password" autoComplete="current-password" error={errors.password?.message} {...register("password")} />

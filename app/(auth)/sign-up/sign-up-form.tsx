@@ -12,9 +12,8 @@ import { apiFetch } from "@/lib/api/fetcher";
 import { AppError } from "@/lib/errors";
 import { signUpSchema, type SignUpInput } from "@/lib/validation/auth";
 
-interface SignUpResponse {
-  teamId: string | null;
-  inviteError: string | null;
+interface AcceptedInvite {
+  teamId: string;
 }
 
 export function SignUpForm({ inviteToken, invitedEmail }: { inviteToken?: string; invitedEmail?: string }) {
@@ -33,14 +32,22 @@ export function SignUpForm({ inviteToken, invitedEmail }: { inviteToken?: string
   const onSubmit = handleSubmit(async (values) => {
     setFormError(null);
     try {
-      const result = await apiFetch<SignUpResponse>("/api/auth/sign-up", { method: "POST", body: values });
+      // The answer is the same whether or not the e-mail already has an account (nothing to read from it).
+      await apiFetch("/api/auth/sign-up", { method: "POST", body: values });
       const signedIn = await signIn("credentials", { email: values.email, password: values.password, redirect: false });
       if (!signedIn || signedIn.error) {
-        router.push(`/sign-in?email=${encodeURIComponent(values.email)}`);
+        router.push(`/sign-in?email=${encodeURIComponent(values.email)}&notice=sign-up`);
         return;
       }
-      if (result.inviteError) setFormError(result.inviteError);
-      router.replace(result.teamId ? `/teams/${result.teamId}` : "/teams");
+      let teamId: string | null = null;
+      if (values.inviteToken) {
+        try {
+          teamId = (await apiFetch<AcceptedInvite>(`/api/invites/${encodeURIComponent(values.inviteToken)}/accept`, { method: "POST" })).teamId;
+        } catch (error) {
+          setFormError(error instanceof AppError ? error.message : "The invitation could not be accepted.");
+        }
+      }
+      router.replace(teamId ? `/teams/${teamId}` : "/teams");
       router.refresh();
     } catch (error) {
       if (error instanceof AppError && error.fieldErrors) {

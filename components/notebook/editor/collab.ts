@@ -89,10 +89,5 @@ const remoteNameTheme = EditorView.theme({
 
 /** The extensions that bind an editor to its Y.Text; they replace CodeMirror's own history. */
 export function sharedFieldExtensions(field: SharedField): Extension[] {
-  return [
-    keymap.of(yUndoManagerKeymap),
-    yCollab(field.text, field.awareness, { undoManager: field.undoManager }),
-    remoteNames,
-    remoteNameTheme,
-  ];
+  return [keymap.of(yUndoManagerKeymap), yCollab(field.text, field.awareness, { undoManager: field.undoManager }), remoteNames, remoteNameTheme];
 }

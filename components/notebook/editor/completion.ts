@@ -6,7 +6,7 @@
 import { autocompletion, type Completion, type CompletionContext, type CompletionResult } from "@codemirror/autocomplete";
 import type { EditorView } from "@codemirror/view";
 import type { Extension } from "@codemirror/state";
-import { FUNCTION_NAMES } from "@/lib/mechanics/expr/ast";
+import { FUNCTION_NAMES } from "@/lib/mechanics/browser";
 import type { DocumentSymbols } from "@/lib/notebook/document";
 import { symbolsField } from "./context";
 
@@ -37,6 +37,7 @@ export function symbolOptions(symbols: DocumentSymbols): Completion[] {
   }
   for (const name of symbols.parameters) options.push({ label: name, type: "constant", detail: "parameter", boost: 1 });
   for (const name of symbols.inputs) options.push({ label: name, type: "variable", detail: "input", boost: 1 });
+  for (const name of symbols.multipliers ?? []) options.push({ label: name, type: "variable", detail: "multiplier", boost: 1 });
   for (const name of FUNCTION_NAMES) options.push({ label: name, type: "function", detail: "function", apply: applyCall(name) });
   options.push({ label: "pi", type: "constant", detail: "π" }, { label: "t", type: "variable", detail: "time" });
   return options;

@@ -9,9 +9,7 @@
 import { linter, lintKeymap, type Diagnostic } from "@codemirror/lint";
 import { keymap, type EditorView } from "@codemirror/view";
 import { StateField, type Extension } from "@codemirror/state";
-import { parseExpression } from "@/lib/mechanics/expr/parse";
-import { ExpressionError } from "@/lib/mechanics/errors";
-import { TIME, walk } from "@/lib/mechanics/expr/ast";
+import { parseExpression, ExpressionError, TIME, walk } from "@/lib/mechanics/browser";
 import type { DocumentSymbols } from "@/lib/notebook/document";
 import { serverDiagnosticsField, setServerDiagnosticsEffect, symbolsField } from "./context";
 
@@ -37,8 +35,9 @@ export function localDiagnostics(text: string, symbols: DocumentSymbols, options
   try {
     const tree = parseExpression(text);
     if (!options.checkSymbols) return [];
-    const known = new Set([TIME, ...symbols.coordinates, ...symbols.parameters, ...symbols.inputs, ...symbols.definitions]);
-    const rateless = new Set([...symbols.parameters, ...symbols.inputs]);
+    const multipliers = symbols.multipliers ?? [];
+    const known = new Set([TIME, ...symbols.coordinates, ...symbols.parameters, ...symbols.inputs, ...symbols.definitions, ...multipliers]);
+    const rateless = new Set([...symbols.parameters, ...symbols.inputs, ...multipliers]);
     const found: Diagnostic[] = [];
     walk(tree, (node) => {
       if (node.kind !== "sym") return;
@@ -48,7 +47,7 @@ export function localDiagnostics(text: string, symbols: DocumentSymbols, options
           from: node.start,
           to: node.end,
           severity: "error",
-          message: `"${node.name}" is a ${symbols.parameters.includes(node.name) ? "parameter" : "input"} and has no rate`,
+          message: `"${node.name}" is ${symbols.parameters.includes(node.name) ? "a parameter" : multipliers.includes(node.name) ? "a multiplier" : "an input"} and has no rate`,
           source: "symbols",
         });
     });

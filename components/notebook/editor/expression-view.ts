@@ -7,6 +7,7 @@ import { Annotation, Compartment, EditorState, Transaction } from "@codemirror/s
 import { EditorView } from "@codemirror/view";
 import { forEachDiagnostic, forceLinting, setDiagnosticsEffect } from "@codemirror/lint";
 import type { DocumentSymbols } from "@/lib/notebook/document";
+import { pageNonce } from "@/lib/security/page-nonce";
 import type { SharedField } from "./collab";
 import { EMPTY_SYMBOLS, setServerDiagnosticsEffect, setSymbolsEffect, type ExpressionDiagnostic } from "./context";
 import { expressionExtensions } from "./extensions";
@@ -91,6 +92,8 @@ export function createExpressionView(options: ExpressionViewOptions): Expression
           shared: options.shared,
         }),
         readOnlyCompartment.of(readOnlyExtensions(options.readOnly)),
+        // CodeMirror's theme goes into a <style> element, which the page's policy allows only with its nonce.
+        EditorView.cspNonce.of(pageNonce() ?? ""),
         EditorView.updateListener.of((update) => {
           if (update.docChanged && !update.transactions.some((tr) => tr.annotation(external))) {
             options.onChange(update.state.doc.toString());

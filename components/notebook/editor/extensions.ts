@@ -13,7 +13,7 @@ import { editorContext, type ServerDiagnostics } from "./context";
 import { expressionDiagnostics, type LocalCheckOptions } from "./diagnostics";
 import { expressionLanguage } from "./language";
 import type { DocumentSymbols } from "@/lib/notebook/document";
-import { spellGreekLetters } from "@/lib/mechanics/expr/greek";
+import { spellGreekLetters } from "@/lib/mechanics/browser";
 
 /**
  * Keeps the text on one line: typed or pasted line breaks become spaces, and

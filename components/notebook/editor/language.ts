@@ -6,7 +6,7 @@
 import { HighlightStyle, StreamLanguage, bracketMatching, syntaxHighlighting, type StringStream } from "@codemirror/language";
 import { tags } from "@lezer/highlight";
 import type { Extension } from "@codemirror/state";
-import { FUNCTION_NAMES } from "@/lib/mechanics/expr/ast";
+import { FUNCTION_NAMES } from "@/lib/mechanics/browser";
 
 const FUNCTIONS: ReadonlySet<string> = new Set(FUNCTION_NAMES);
 

@@ -32,6 +32,8 @@ export interface ChartProps {
   xy?: { x: ArrayLike<number>; y: ArrayLike<number>; label: string }[];
   height?: number;
   testId?: string;
+  /** A logarithmic x axis (frequency plots); x values must be positive. */
+  xLog?: boolean;
 }
 
 /** Number of colours in the series palette; further series repeat them with a dash pattern. */
@@ -102,7 +104,7 @@ function themeOf() {
   };
 }
 
-export function Chart({ title, xLabel, yLabel, x, series, xy, height = 220, testId }: ChartProps) {
+export function Chart({ title, xLabel, yLabel, x, series, xy, height = 220, testId, xLog = false }: ChartProps) {
   const holder = useRef<HTMLDivElement>(null);
   const theme = useThemeVersion();
 
@@ -147,7 +149,7 @@ export function Chart({ title, xLabel, yLabel, x, series, xy, height = 220, test
       const opts: uPlot.Options = {
         width,
         height,
-        scales: { x: { time: false } },
+        scales: { x: xLog ? { time: false, distr: 3 } : { time: false } },
         axes,
         // A quiet legend: names only, no "--" placeholders for values until the cursor moves.
         legend: { show: true, live: false },
@@ -178,7 +180,7 @@ export function Chart({ title, xLabel, yLabel, x, series, xy, height = 220, test
       resize.disconnect();
       plot.destroy();
     };
-  }, [title, xLabel, yLabel, x, series, xy, height, theme]);
+  }, [title, xLabel, yLabel, x, series, xy, height, theme, xLog]);
 
   return (
     <figure className="m-0 flex min-w-0 flex-col gap-1" data-testid={testId ? `${testId}-figure` : undefined}>

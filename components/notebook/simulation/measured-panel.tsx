@@ -6,9 +6,11 @@
  * overlay a measured file on the charts, fit chosen parameters on the server
  * and write the fitted values back to the Parameters cell.
  */
-import { useCallback, useEffect, useMemo, useState } from "react";
+import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
+import { useMemo, useState } from "react";
 import { apiFetch } from "@/lib/api/fetcher";
-import { AppError, appErrorFromBody } from "@/lib/errors";
+import type { FitRequestBody } from "@/app/api/derivations/[id]/fit/schema";
+import { AppError } from "@/lib/errors";
 import { documentSymbols, parseParameterValue, type DerivationDocument, type DocumentOperation } from "@/lib/notebook/document";
 import { FileInput } from "@/components/ui/file-input";
 import type { FileJson } from "@/lib/files/views";
@@ -16,6 +18,7 @@ import type { FitJson } from "@/lib/runs/views";
 import { useUploadLimits } from "../upload-limits";
 import type { MeasuredOverlay } from "./results-view";
 import type { RunRequest } from "./settings";
+import { ServerJobStatus, useServerJob } from "./use-server-job";
 
 interface FitRow {
   chosen: boolean;
@@ -39,16 +42,11 @@ async function uploadFile(derivationId: string, file: File, kind: "measured_csv"
   const form = new FormData();
   form.set("file", file);
   form.set("kind", kind);
-  let response: Response;
-  try {
-    response = await fetch(`/api/derivations/${derivationId}/files`, { method: "POST", body: form, credentials: "same-origin" });
-  } catch (error) {
-    throw new AppError("unavailable:api", "The server could not be reached. Check your connection.", { cause: error });
-  }
-  const body: unknown = await response.json().catch(() => undefined);
-  if (!response.ok) throw appErrorFromBody(body, response.status);
-  return (body as { file: FileJson }).file;
+  const { file: stored } = await apiFetch<{ file: FileJson }>(`/api/derivations/${derivationId}/files`, { method: "POST", body: form });
+  return stored;
 }
+
+const noFiles: FileJson[] = [];
 
 /** The most recently uploaded measured-data file. */
 function newestMeasured(list: readonly FileJson[]): FileJson | undefined {
@@ -63,15 +61,28 @@ function messageOf(error: unknown): string {
   return error instanceof Error ? error.message : String(error);
 }
 
+/** The files attached to a derivation: the upload mutation refreshes this query. */
+const derivationFilesKey = (derivationId: string) => ["derivations", derivationId, "files"] as const;
+
 export function MeasuredPanel({ derivationId, document: doc, readOnly, settings, onOverlay, onOperation }: MeasuredPanelProps) {
-  const [files, setFiles] = useState<FileJson[]>([]);
+  const queryClient = useQueryClient();
+  const filesQuery = useQuery({
+    queryKey: derivationFilesKey(derivationId),
+    queryFn: ({ signal }) => apiFetch<{ files: FileJson[] }>(`/api/derivations/${derivationId}/files`, { signal }),
+  });
+  const files = filesQuery.data?.files ?? noFiles;
   const [uploadError, setUploadError] = useState<string | null>(null);
-  const [busy, setBusy] = useState<string | null>(null);
-  const [selected, setSelected] = useState<string>("");
+  // The measured file chosen: null until the reader chooses (the newest is preselected), "" for none. A choice
+  // holds while its file exists.
+  const [chosen, setChosen] = useState<string | null>(null);
+  const newest = newestMeasured(files)?.id ?? "";
+  const selected = chosen === "" || files.some((f) => f.id === chosen && f.kind === "measured_csv") ? (chosen ?? newest) : newest;
+  const setSelected = setChosen;
   const [rows, setRows] = useState<Record<string, FitRow>>({});
   const [fit, setFit] = useState<FitJson | null>(null);
   const [fitError, setFitError] = useState<string | null>(null);
   const [applied, setApplied] = useState(false);
+  const fitJob = useServerJob(derivationId);
   const parameters = useMemo(() => {
     const list: { name: string; value: string; cellId: string; rowId: string }[] = [];
     for (const cell of doc.cells)
@@ -82,37 +93,21 @@ export function MeasuredPanel({ derivationId, document: doc, readOnly, settings,
   const symbols = useMemo(() => documentSymbols(doc), [doc]);
   const uploadLimits = useUploadLimits();
 
-  const load = useCallback(async () => {
-    try {
-      const { files: list } = await apiFetch<{ files: FileJson[] }>(`/api/derivations/${derivationId}/files`);
-      setFiles(list);
-      // Keep the choice while its file exists; otherwise preselect the newest measured file.
-      setSelected((current) => (list.some((f) => f.id === current && f.kind === "measured_csv") ? current : (newestMeasured(list)?.id ?? "")));
-    } catch {
-      setFiles([]);
-    }
-  }, [derivationId]);
-  useEffect(() => {
-    void load();
-  }, [load]);
-
   const measuredFiles = files.filter((f) => f.kind === "measured_csv");
   const images = files.filter((f) => f.kind === "image");
 
-  async function upload(file: File | undefined, kind: "measured_csv" | "image") {
-    if (!file) return;
-    setUploadError(null);
-    setBusy(kind === "image" ? "Uploading image…" : "Uploading measured data…");
-    try {
-      const stored = await uploadFile(derivationId, file, kind);
+  const uploading = useMutation({
+    mutationFn: ({ file, kind }: { file: File; kind: "measured_csv" | "image" }) => uploadFile(derivationId, file, kind),
+    onMutate: () => setUploadError(null),
+    onSuccess: async (stored) => {
       if (stored.kind === "measured_csv") setSelected(stored.id);
-      await load();
-    } catch (error) {
-      setUploadError(messageOf(error));
-    } finally {
-      setBusy(null);
-    }
-  }
+      await queryClient.invalidateQueries({ queryKey: derivationFilesKey(derivationId) });
+    },
+    onError: (error) => setUploadError(messageOf(error)),
+  });
+  const upload = (file: File | undefined, kind: "measured_csv" | "image") => {
+    if (file) uploading.mutate({ file, kind });
+  };
 
   async function showOnCharts(fileId: string) {
     setUploadError(null);
@@ -121,7 +116,7 @@ export function MeasuredPanel({ derivationId, document: doc, readOnly, settings,
       if (!response.ok) throw new Error("The file could not be read.");
       const text = await response.text();
       // The parser (with unit conversion) loads only when asked for.
-      const { parseMeasuredCsv } = await import("@/lib/simulate/measured");
+      const { parseMeasuredCsv } = await import("@/lib/simulate");
       const coordinates = doc.cells.flatMap((c) =>
         c.kind === "coordinates" ? c.rows.filter((r) => r.name.trim()).map((r) => ({ name: r.name.trim(), unit: r.unit.trim() })) : [],
       );
@@ -132,7 +127,24 @@ export function MeasuredPanel({ derivationId, document: doc, readOnly, settings,
     }
   }
 
-  async function runFit() {
+  const fitting = useMutation({
+    // A queue worker runs the fit; the page follows its progress and may cancel it.
+    mutationFn: async (body: FitRequestBody) => (await fitJob.run(`/api/derivations/${derivationId}/fit`, body)).result as unknown as FitJson,
+    onSuccess: (response) => {
+      setFit(response);
+      onOverlay(response.overlay);
+    },
+    onError: (error) => setFitError(messageOf(error)),
+  });
+  const busy = uploading.isPending
+    ? uploading.variables.kind === "image"
+      ? "Uploading image…"
+      : "Uploading measured data…"
+    : fitting.isPending
+      ? "Fitting on the server…"
+      : null;
+
+  function runFit() {
     setFitError(null);
     setFit(null);
     setApplied(false);
@@ -148,30 +160,20 @@ export function MeasuredPanel({ derivationId, document: doc, readOnly, settings,
       if (min !== undefined && max !== undefined && !(min < max)) return setFitError(`The minimum of ${name} must be below its maximum.`);
       request.push({ name, ...(initial !== undefined ? { initial } : {}), ...(min !== undefined ? { min } : {}), ...(max !== undefined ? { max } : {}) });
     }
-    setBusy("Fitting on the server…");
-    try {
-      const body = {
-        fileId: selected,
-        parameters: request,
-        ...(settings
-          ? {
-              settings: {
-                relativeTolerance: settings.relativeTolerance,
-                absoluteTolerance: settings.absoluteTolerance,
-                inputs: settings.inputs,
-                parameters: settings.parameters,
-              },
-            }
-          : {}),
-      };
-      const response = await apiFetch<FitJson>(`/api/derivations/${derivationId}/fit`, { method: "POST", body });
-      setFit(response);
-      onOverlay(response.overlay);
-    } catch (error) {
-      setFitError(messageOf(error));
-    } finally {
-      setBusy(null);
-    }
+    fitting.mutate({
+      fileId: selected,
+      parameters: request,
+      ...(settings
+        ? {
+            settings: {
+              relativeTolerance: settings.relativeTolerance,
+              absoluteTolerance: settings.absoluteTolerance,
+              inputs: settings.inputs,
+              parameters: settings.parameters,
+            },
+          }
+        : {}),
+    });
   }
 
   function applyFit() {
@@ -216,7 +218,11 @@ export function MeasuredPanel({ derivationId, document: doc, readOnly, settings,
           </code>
           ; time strictly increasing.
         </p>
-        {busy && <p role="status">{busy}</p>}
+        {fitJob.job ? (
+          <ServerJobStatus job={fitJob.job} what="Fit" onCancel={() => void fitJob.cancel().catch(() => undefined)} />
+        ) : (
+          busy && <p role="status">{busy}</p>
+        )}
         {uploadError && (
           <p className="rounded border border-danger/60 bg-danger-soft px-3 py-1.5 text-danger" role="alert" data-testid="upload-error">
             {uploadError}
@@ -314,7 +320,7 @@ export function MeasuredPanel({ derivationId, document: doc, readOnly, settings,
                 type="button"
                 className="mt-2 rounded border border-action px-3 py-1 text-action hover:bg-action-soft disabled:opacity-50"
                 disabled={busy !== null}
-                onClick={() => void runFit()}
+                onClick={runFit}
               >
                 Fit
               </button>

@@ -5,8 +5,7 @@
  * track (a trolley's x, a seat's z). Supports come first, then what hangs
  * from them, so the links join in the order the mechanism is built.
  */
-import { walk } from "@/lib/mechanics/expr/ast";
-import { parseExpression } from "@/lib/mechanics/expr/parse";
+import { walk, parseExpression } from "@/lib/mechanics/browser";
 import type { DerivationDocument } from "@/lib/notebook/document";
 import type { PointPair } from "@/lib/notebook/document";
 

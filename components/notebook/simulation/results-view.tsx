@@ -7,11 +7,11 @@
  * animation, and the trajectory as CSV. Loaded on first use, with uPlot.
  */
 import { useMemo } from "react";
-import { energyDrift, explainSmallOscillation } from "@/lib/simulate/checks";
+import { energyDrift, explainSmallOscillation, trajectoryCsv } from "@/lib/simulate";
 import { Chart, type ChartSeries } from "./chart";
 import { MechanismAnimation } from "./mechanism-animation";
-import { trajectoryCsv } from "@/lib/simulate/trajectory-csv";
 import { FAILURE_LABELS, type RunDisplay } from "./run-view";
+import { LoadsPanel } from "./loads-panel";
 
 export interface MeasuredOverlay {
   times: ArrayLike<number>;
@@ -135,7 +135,8 @@ export default function ResultsView({ run, measured, units }: ResultsViewProps) 
   const uncheckedDrift = useMemo(() => (!drift && run.energy && run.energy.length > 0 ? energyDrift(run.energy).relativeDrift : null), [drift, run]);
 
   function downloadCsv() {
-    const blob = new Blob([trajectoryCsv(run, run.coordinateUnits)], { type: "text/csv" });
+    const csv = trajectoryCsv({ ...run, outputs: run.outputs, constraints: run.constraints }, run.coordinateUnits, run.columnUnits);
+    const blob = new Blob([csv], { type: "text/csv" });
     const url = URL.createObjectURL(blob);
     const link = document.createElement("a");
     link.href = url;
@@ -257,6 +258,8 @@ export default function ResultsView({ run, measured, units }: ResultsViewProps) 
           <Chart title="Energy function, relative change" xLabel="t (s)" yLabel="(h − h₀)/|h₀|" x={run.times} series={energySeries} testId="chart-energy" />
         )}
       </div>
+
+      <LoadsPanel run={run} />
 
       {run.pointsError && <p className="text-sm text-danger">The mechanism could not be drawn: {run.pointsError}</p>}
       {run.points && run.points.length > 0 && <MechanismAnimation times={run.times} points={run.points} />}

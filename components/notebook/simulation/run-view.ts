@@ -2,9 +2,9 @@
  * One simulation as the results view shows it, whether it ran in this
  * browser's worker or was stored by the server.
  */
-import type { SmallOscillationReport } from "@/lib/simulate/checks";
+import type { SmallOscillationReport, SimulationFailure } from "@/lib/simulate";
 import type { RunJson } from "@/lib/runs/views";
-import type { SimulationFailure } from "@/lib/simulate/integrate";
+import type { ConstraintReport, OutputSeries, ExtraColumnUnits } from "@/lib/simulate";
 
 export interface RunDisplay {
   label: string;
@@ -25,6 +25,12 @@ export interface RunDisplay {
   points?: { xName: string; yName: string; x: ArrayLike<number>; y: ArrayLike<number> }[];
   pointsError?: string | null;
   parameterValues?: Record<string, number>;
+  /** How the run held its constraints, with the multipliers; null or absent without constraints. */
+  constraints?: ConstraintReport | null;
+  /** The model's outputs with their peaks. */
+  outputs?: OutputSeries[];
+  /** Units of the multiplier and residual columns of the CSV. */
+  columnUnits?: ExtraColumnUnits;
   rhsEvaluations?: number;
   wallTimeMs?: number;
 }
@@ -33,6 +39,7 @@ export interface RunDisplay {
 export const FAILURE_LABELS: Record<string, string> = {
   step_size_underflow: "Step size underflow",
   singular_mass_matrix: "Singular mass matrix",
+  singular_constraints: "Constraints not independent",
   time_limit: "Time limit reached",
   cancelled: "Cancelled",
   non_finite_state: "The state became infinite or not a number",

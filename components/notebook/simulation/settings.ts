@@ -4,7 +4,7 @@
  * numbers the integrator and the runs API take.
  */
 import { parseParameterValue, type DocumentSymbols, type PointPair, type SimulationSettings } from "@/lib/notebook/document";
-import type { SimulationSettingsMessage } from "@/lib/simulate/worker-protocol";
+import type { SimulationSettingsMessage } from "@/lib/simulate";
 
 /** Most output points an interactive run asks for. */
 export const MAX_OUTPUT_POINTS = 200_000;

@@ -7,7 +7,8 @@
  * uPlot), and measured data with parameter fitting.
  */
 import clsx from "clsx";
-import { lazy, Suspense, useCallback, useEffect, useMemo, useState, type ReactNode } from "react";
+import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
+import { lazy, Suspense, useMemo, useState, type ReactNode } from "react";
 import { apiFetch } from "@/lib/api/fetcher";
 import { AppError } from "@/lib/errors";
 import {
@@ -23,12 +24,14 @@ import type { NotebookResults } from "@/lib/notebook/results";
 import { ExpressionEditor } from "../editor/expression-editor";
 import { MeasuredPanel } from "./measured-panel";
 import type { RunJson } from "@/lib/runs/views";
+import type { JobJson } from "@/lib/jobs/views";
 import { FIXED_ZERO, isLengthUnit, nextPoint, pointSourcesOf } from "./mechanism-points";
 import { displayOfStoredRun, type RunDisplay } from "./run-view";
-import { validateSettings } from "./settings";
+import { validateSettings, type RunRequest } from "./settings";
 import { smallOscillationOf } from "./small-oscillation";
 import type { MeasuredOverlay } from "./results-view";
 import { useSimulationWorker } from "./use-simulation-worker";
+import { ServerJobStatus, useServerJob } from "./use-server-job";
 
 const ResultsView = lazy(() => import("./results-view"));
 
@@ -333,29 +336,15 @@ export function SimulationCellView({
   const [run, setRun] = useState<RunDisplay | null>(null);
   const [attempted, setAttempted] = useState(false);
   const [problem, setProblem] = useState<string | null>(null);
-  const [serverBusy, setServerBusy] = useState(false);
-  const [storedRuns, setStoredRuns] = useState<RunJson[] | null>(null);
   const [overlay, setOverlay] = useState<MeasuredOverlay | null>(null);
   const { state, start, cancel } = useSimulationWorker(setRun);
+  const serverJob = useServerJob(derivationId);
 
   const symbols = useMemo(() => (doc ? documentSymbols(doc) : null), [doc]);
   const coordinateUnits = useMemo(() => (doc ? coordinateUnitsOf(doc) : {}), [doc]);
   const settings = cell.settings;
   const validation = symbols ? validateSettings(settings, symbols) : null;
   const errors = attempted && validation && !validation.ok ? validation.errors : {};
-
-  const loadRuns = useCallback(async () => {
-    if (!derivationId) return;
-    try {
-      const { runs } = await apiFetch<{ runs: RunJson[] }>(`/api/derivations/${derivationId}/runs`);
-      setStoredRuns(runs);
-    } catch {
-      setStoredRuns([]);
-    }
-  }, [derivationId]);
-  useEffect(() => {
-    void loadRuns();
-  }, [loadRuns]);
 
   if (!doc || !symbols || !validation) {
     return <p className="text-sm text-muted">The simulation needs the derivation&apos;s document.</p>;
@@ -384,22 +373,6 @@ export function SimulationCellView({
       points: prepared.points,
       smallOscillation: overrides ? null : smallOscillationOf(results, symbols!.coordinates),
     });
-  }
-
-  async function runOnServer() {
-    const prepared = prepare();
-    if (!prepared || !derivationId) return;
-    setServerBusy(true);
-    try {
-      const { run: stored } = await apiFetch<{ run: RunJson }>(`/api/derivations/${derivationId}/runs`, { method: "POST", body: prepared.request });
-      const display = displayOfStoredRun(stored);
-      if (display) setRun(display);
-      await loadRuns();
-    } catch (error) {
-      setProblem(error instanceof AppError ? error.message : "The server run failed.");
-    } finally {
-      setServerBusy(false);
-    }
   }
 
   async function openRun(runId: string) {
@@ -448,15 +421,19 @@ export function SimulationCellView({
           Run simulation
         </button>
         {derivationId && canStoreRuns && (
-          <button
-            type="button"
-            className="rounded border border-action px-3 py-1 text-sm text-action hover:bg-action-soft disabled:opacity-50"
-            disabled={serverBusy || running}
-            onClick={() => void runOnServer()}
-          >
-            {serverBusy ? "Running on server…" : "Run on server and save"}
-          </button>
+          <ServerRunButton
+            derivationId={derivationId}
+            runJob={serverJob.run}
+            disabled={running}
+            prepare={() => prepare()?.request ?? null}
+            onStored={(stored) => {
+              const display = displayOfStoredRun(stored);
+              if (display) setRun(display);
+            }}
+            onFailed={(error) => setProblem(error instanceof AppError ? error.message : "The server run failed.")}
+          />
         )}
+        {serverJob.job && <ServerJobStatus job={serverJob.job} what="Run" onCancel={() => void serverJob.cancel().catch(() => undefined)} />}
         {running && (
           <>
             <progress
@@ -488,25 +465,7 @@ export function SimulationCellView({
           The simulation could not start{state.error.field ? ` (${state.error.field})` : ""}: {state.error.message}
         </p>
       )}
-      {storedRuns && storedRuns.length > 0 && (
-        <details className="text-sm">
-          <summary className="cursor-pointer text-muted">Stored runs ({storedRuns.length})</summary>
-          <ul className="mt-1 flex flex-col gap-1">
-            {storedRuns.map((stored) => (
-              <li key={stored.id} className="flex flex-wrap items-center gap-2">
-                <button type="button" className="text-action hover:underline" onClick={() => void openRun(stored.id)}>
-                  Open
-                </button>
-                <span className={clsx(stored.status === "failed" && "text-danger")}>
-                  {new Date(stored.createdAt).toLocaleString("en-GB", { dateStyle: "medium", timeStyle: "short" })} · {stored.createdBy?.name ?? "—"} ·{" "}
-                  {stored.pointCount} points · {stored.status === "failed" ? `failed at t = ${stored.timeReached}` : "completed"}
-                  {stored.energyDrift !== null && ` · drift ${stored.energyDrift.toExponential(1)}`}
-                </span>
-              </li>
-            ))}
-          </ul>
-        </details>
-      )}
+      {derivationId && <StoredRuns derivationId={derivationId} onOpen={(runId) => void openRun(runId)} />}
       {run && (
         <Suspense fallback={<p className="text-sm text-muted">Loading charts…</p>}>
           <ResultsView run={run} measured={overlay} units={coordinateUnits} />
@@ -523,5 +482,82 @@ export function SimulationCellView({
         />
       )}
     </div>
+  );
+}
+
+/** The runs stored on the server for this derivation (refreshed when a server run is stored). */
+const storedRunsKey = (derivationId: string) => ["derivations", derivationId, "runs"] as const;
+
+function StoredRuns({ derivationId, onOpen }: { derivationId: string; onOpen: (runId: string) => void }) {
+  const { data } = useQuery({
+    queryKey: storedRunsKey(derivationId),
+    queryFn: ({ signal }) => apiFetch<{ runs: RunJson[] }>(`/api/derivations/${derivationId}/runs`, { signal }),
+  });
+  const storedRuns = data?.runs;
+  if (!storedRuns || storedRuns.length === 0) return null;
+  return (
+    <details className="text-sm">
+      <summary className="cursor-pointer text-muted">Stored runs ({storedRuns.length})</summary>
+      <ul className="mt-1 flex flex-col gap-1">
+        {storedRuns.map((stored) => (
+          <li key={stored.id} className="flex flex-wrap items-center gap-2">
+            <button type="button" className="text-action hover:underline" onClick={() => onOpen(stored.id)}>
+              Open
+            </button>
+            <span className={clsx(stored.status === "failed" && "text-danger")}>
+              {new Date(stored.createdAt).toLocaleString("en-GB", { dateStyle: "medium", timeStyle: "short" })} · {stored.createdBy?.name ?? "—"} ·{" "}
+              {stored.pointCount} points · {stored.status === "failed" ? `failed at t = ${stored.timeReached}` : "completed"}
+              {stored.energyDrift !== null && ` · drift ${stored.energyDrift.toExponential(1)}`}
+            </span>
+          </li>
+        ))}
+      </ul>
+    </details>
+  );
+}
+
+/** Runs the cell's settings on the server, which stores the run for the team. */
+function ServerRunButton({
+  derivationId,
+  runJob,
+  disabled,
+  prepare,
+  onStored,
+  onFailed,
+}: {
+  derivationId: string;
+  /** Queues the run and follows the job until it ends (useServerJob's `run`). */
+  runJob: (path: string, body: unknown) => Promise<JobJson>;
+  disabled: boolean;
+  /** The request to send, or null when the settings are not valid (the cell says why). */
+  prepare: () => RunRequest | null;
+  onStored: (run: RunJson) => void;
+  onFailed: (error: Error) => void;
+}) {
+  const queryClient = useQueryClient();
+  const serverRun = useMutation({
+    // A queue worker runs it; the page follows the job's progress and may cancel it.
+    mutationFn: async (request: RunRequest) => {
+      const job = await runJob(`/api/derivations/${derivationId}/runs`, request);
+      return apiFetch<{ run: RunJson }>(`/api/derivations/${derivationId}/runs/${String(job.result?.runId)}`);
+    },
+    onSuccess: async ({ run }) => {
+      onStored(run);
+      await queryClient.invalidateQueries({ queryKey: storedRunsKey(derivationId) });
+    },
+    onError: onFailed,
+  });
+  return (
+    <button
+      type="button"
+      className="rounded border border-action px-3 py-1 text-sm text-action hover:bg-action-soft disabled:opacity-50"
+      disabled={serverRun.isPending || disabled}
+      onClick={() => {
+        const request = prepare();
+        if (request) serverRun.mutate(request);
+      }}
+    >
+      {serverRun.isPending ? "Running on server…" : "Run on server and save"}
+    </button>
   );
 }

@@ -9,14 +9,22 @@
  * page → worker: `{ type: "start", id, job: ModelSimulationJob }`, `{ type: "cancel", id }`
  * worker → page: the library's `progress`, `result` (with `points`) and `error` messages.
  */
-import { compileExpressions } from "@/lib/mechanics/compile";
-import { deriveModel } from "@/lib/mechanics/derive";
-import { ModelError } from "@/lib/mechanics/errors";
-import { analyzeModel, validateModel } from "@/lib/mechanics/validate-model";
-import type { SimulationResult } from "@/lib/simulate/integrate";
-import { checkSmallOscillation, type SmallOscillationReport } from "@/lib/simulate/checks";
-import { systemFromMassMatrixForm, type MassMatrixForm } from "@/lib/simulate/system";
-import { createWorkerHandler, errorPayload, type SimulationSettingsMessage, type WorkerRequest, type WorkerResponse } from "@/lib/simulate/worker-protocol";
+import { compileExpressions, deriveModel, ModelError, analyzeModel, validateModel } from "@/lib/mechanics";
+import {
+  type SimulationResult,
+  checkSmallOscillation,
+  type SmallOscillationReport,
+  systemFromMassMatrixForm,
+  type MassMatrixForm,
+  createWorkerHandler,
+  errorPayload,
+  type SimulationSettingsMessage,
+  type WorkerRequest,
+  type WorkerResponse,
+} from "@/lib/simulate";
+import { massMatrixFormOf } from "@/lib/simulate";
+import { formatDimension, unitOfExpression, type ConstraintResult } from "@/lib/mechanics";
+import type { ExtraColumnUnits } from "@/lib/simulate";
 import type { ModelSimulationJob, ModelSimulationRequest, PointTrack, SimulationWorkerResponse } from "./worker-messages";
 
 interface DedicatedWorkerScope {
@@ -33,6 +41,7 @@ const pending = new Map<
     points: { x: string; y: string }[];
     inputs: Record<string, string>;
     smallOscillation: SmallOscillationReport | null;
+    columnUnits: ExtraColumnUnits;
   }
 >();
 
@@ -47,7 +56,7 @@ const handle = createWorkerHandler((message: WorkerResponse, transfer) => {
     } catch (error) {
       pointsError = error instanceof Error ? error.message : String(error);
     }
-    scope.postMessage({ ...message, points, pointsError, smallOscillation: job.smallOscillation }, [
+    scope.postMessage({ ...message, points, pointsError, smallOscillation: job.smallOscillation, columnUnits: job.columnUnits }, [
       ...(transfer ?? []),
       ...points.flatMap((p) => [p.x.buffer as ArrayBuffer, p.y.buffer as ArrayBuffer]),
     ]);
@@ -65,24 +74,18 @@ scope.onmessage = (event) => {
   const { id, job } = request;
   let system: MassMatrixForm;
   let model: ReturnType<typeof validateModel>;
+  let columnUnits: ExtraColumnUnits;
   try {
     model = validateModel(job.model);
     const derived = deriveModel(model);
-    system = {
-      coordinates: derived.coordinates,
-      inputs: (model.inputs ?? []).map((input) => input.name),
-      parameters: model.parameters.map((p) => ({ name: p.name, value: p.value, unit: p.unit })),
-      massMatrix: derived.massMatrix,
-      forcing: derived.forcing,
-      energy: derived.energy,
-      energyConserved: derived.conserved.some((c) => c.name === "energy function"),
-    };
+    system = massMatrixFormOf(model, derived);
+    columnUnits = constraintColumnUnits(model, derived.constraints);
   } catch (error) {
     const payload = error instanceof ModelError ? { name: error.name, code: error.code, field: error.field, message: error.message } : errorPayload(error);
     scope.postMessage({ type: "error", id, error: payload });
     return;
   }
-  pending.set(id, { model, points: job.points, inputs: job.settings.inputs ?? {}, smallOscillation: smallOscillationOf(system, job) });
+  pending.set(id, { model, points: job.points, inputs: job.settings.inputs ?? {}, smallOscillation: smallOscillationOf(system, job), columnUnits });
   const settings: SimulationSettingsMessage = job.settings;
   const start: WorkerRequest = { type: "start", id, job: { kind: "simulate", system, settings, energyDriftThreshold: job.energyDriftThreshold } };
   void handle(start);
@@ -181,4 +184,32 @@ function smallOscillationOf(form: MassMatrixForm, job: ModelSimulationJob): Smal
       problem: error instanceof Error ? error.message : String(error),
     };
   }
+}
+
+/** A unit for a CSV header: the named unit when there is one (`N`), else the base-symbol form. */
+function headerUnit(formatted: string): string {
+  const named = /\(([^)]+)\)$/.exec(formatted);
+  return named ? named[1]! : formatted;
+}
+
+/**
+ * Units of the multiplier and residual columns of the trajectory CSV: each
+ * multiplier's from the engine, each residual's from the constraint's
+ * expression. A unit that cannot be worked out is left out (the CSV then writes 1).
+ */
+function constraintColumnUnits(model: ReturnType<typeof validateModel>, constraints: readonly ConstraintResult[]): ExtraColumnUnits {
+  const symbolUnits: Record<string, string> = {};
+  for (const list of [model.coordinates, model.parameters, model.inputs ?? []]) for (const entry of list) symbolUnits[entry.name] = entry.unit;
+  const multipliers: Record<string, string> = {};
+  const residuals: Record<string, string> = {};
+  for (const c of constraints) {
+    if (c.unit) multipliers[c.symbol] = headerUnit(c.unit);
+    try {
+      const dimension = unitOfExpression(c.expr, symbolUnits, c.name);
+      if (dimension) residuals[c.name] = headerUnit(formatDimension(dimension));
+    } catch {
+      // The engine reports unit problems with the constraint itself; the column keeps no unit.
+    }
+  }
+  return { multipliers, residuals };
 }

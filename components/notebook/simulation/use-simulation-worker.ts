@@ -1,8 +1,7 @@
 "use client";
 
 import { useCallback, useEffect, useRef, useState } from "react";
-import type { SimulationProgress } from "@/lib/simulate/integrate";
-import type { WorkerErrorPayload } from "@/lib/simulate/worker-protocol";
+import type { SimulationProgress, WorkerErrorPayload } from "@/lib/simulate";
 import type { RunDisplay } from "./run-view";
 import type { ModelSimulationJob, ModelSimulationRequest, SimulationWorkerResponse } from "./worker-messages";
 
@@ -22,8 +21,11 @@ export function useSimulationWorker(onResult: (run: RunDisplay) => void) {
   const current = useRef<string | null>(null);
   /** Units of the running job's coordinates (from its model), for the CSV header. */
   const units = useRef<Record<string, string>>({});
+  // The latest handler, for the worker's message callback (set after render: refs are not written while rendering).
   const resultHandler = useRef(onResult);
-  resultHandler.current = onResult;
+  useEffect(() => {
+    resultHandler.current = onResult;
+  }, [onResult]);
 
   useEffect(
     () => () => {
@@ -68,6 +70,9 @@ export function useSimulationWorker(onResult: (run: RunDisplay) => void) {
           points: "points" in message ? message.points : [],
           pointsError: "pointsError" in message ? message.pointsError : null,
           parameterValues: result.parameterValues,
+          constraints: result.constraints ?? null,
+          outputs: result.outputs ?? [],
+          columnUnits: "columnUnits" in message ? message.columnUnits : undefined,
           rhsEvaluations: result.stats.rhsEvaluations,
           wallTimeMs: result.stats.wallTimeMs,
         });

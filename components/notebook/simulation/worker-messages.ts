@@ -1,6 +1,6 @@
 /** Messages between the simulation cell and its Web Worker (simulation.worker.ts). */
-import type { SmallOscillationReport } from "@/lib/simulate/checks";
-import type { SimulationSettingsMessage, WorkerErrorPayload, WorkerResponse } from "@/lib/simulate/worker-protocol";
+import type { SmallOscillationReport, SimulationSettingsMessage, WorkerErrorPayload, WorkerResponse } from "@/lib/simulate";
+import type { ExtraColumnUnits } from "@/lib/simulate";
 
 export interface ModelSimulationJob {
   /** The model file of the document, validated and derived inside the worker. */
@@ -30,5 +30,10 @@ export interface PointTrack {
 
 export type SimulationWorkerResponse =
   | Exclude<WorkerResponse, { type: "result" }>
-  | (Extract<WorkerResponse, { type: "result" }> & { points?: PointTrack[]; pointsError?: string | null; smallOscillation?: SmallOscillationReport | null })
+  | (Extract<WorkerResponse, { type: "result" }> & {
+      points?: PointTrack[];
+      pointsError?: string | null;
+      smallOscillation?: SmallOscillationReport | null;
+      columnUnits?: ExtraColumnUnits;
+    })
   | { type: "error"; id: string; error: WorkerErrorPayload };

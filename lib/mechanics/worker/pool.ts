@@ -35,6 +35,7 @@ interface Job {
   timeoutMs: number;
   resolve: (value: unknown) => void;
   reject: (error: Error) => void;
+  onProgress?: (fraction: number) => void;
 }
 
 interface Slot {
@@ -83,7 +84,11 @@ export class EnginePool {
    * Runs a named engine task. Refuses oversized or too deeply nested input,
    * and a full queue, with EngineLimitError before anything is dispatched.
    */
-  run<T = unknown>(task: string, payload: unknown, options: { timeoutMs?: number } = {}): Promise<T> {
+  run<T = unknown>(
+    task: string,
+    payload: unknown,
+    options: { timeoutMs?: number; onProgress?: (fraction: number) => void; signal?: AbortSignal } = {},
+  ): Promise<T> {
     if (this.closed) return Promise.reject(new EngineLimitError("closed", "the engine pool is closed"));
     let text: string;
     try {
@@ -98,15 +103,33 @@ export class EnginePool {
     } catch (error) {
       return Promise.reject(error);
     }
+    if (options.signal?.aborted) return Promise.reject(cancelledError());
     return new Promise<T>((resolve, reject) => {
-      this.queue.push({
+      const job: Job = {
         id: this.nextId++,
         task,
         payload: text,
         timeoutMs: options.timeoutMs ?? this.options.taskTimeoutMs,
         resolve: resolve as (v: unknown) => void,
         reject,
-      });
+        onProgress: options.onProgress,
+      };
+      // Cancelling stops a waiting task before it starts and a running one by terminating its worker.
+      options.signal?.addEventListener(
+        "abort",
+        () => {
+          const waiting = this.queue.indexOf(job);
+          if (waiting >= 0) {
+            this.queue.splice(waiting, 1);
+            reject(cancelledError());
+            return;
+          }
+          const slot = this.slots.find((s) => s.job === job);
+          if (slot) this.replace(slot, cancelledError());
+        },
+        { once: true },
+      );
+      this.queue.push(job);
       this.pump();
     });
   }
@@ -131,6 +154,10 @@ export class EnginePool {
     worker.on("message", (response: TaskResponse) => {
       const job = slot.job;
       if (!job || job.id !== response.id) return;
+      if ("progress" in response) {
+        job.onProgress?.(response.progress);
+        return;
+      }
       this.finish(slot);
       if (response.ok) job.resolve(response.result);
       else job.reject(deserializeError(response.error));
@@ -187,6 +214,10 @@ export class EnginePool {
       slot.worker.postMessage(request);
     }
   }
+}
+
+function cancelledError(): EngineLimitError {
+  return new EngineLimitError("cancelled", "the task was cancelled");
 }
 
 /** Throws EngineLimitError when objects and arrays nest deeper than `limit` (checked without recursion). */

@@ -7,8 +7,8 @@ export interface TaskRequest {
   payload: string;
 }
 
-/** Worker → pool. */
-export type TaskResponse = { id: number; ok: true; result: unknown } | { id: number; ok: false; error: SerializedError };
+/** Worker → pool: the answer, or (any number of times before it) the task's progress as a fraction in [0, 1]. */
+export type TaskResponse = { id: number; ok: true; result: unknown } | { id: number; ok: false; error: SerializedError } | { id: number; progress: number };
 
 export type SerializedError =
   | { type: "ModelError"; code: ModelErrorCode; field: string; column: number | null; length: number; message: string }

@@ -15,7 +15,8 @@ export function serveEngineTasks(tasks: Readonly<Record<string, EngineTask>> = E
     try {
       const handler = Object.prototype.hasOwnProperty.call(tasks, request.task) ? tasks[request.task] : undefined;
       if (!handler) throw new Error(`unknown engine task "${request.task}"`);
-      response = { id: request.id, ok: true, result: handler(JSON.parse(request.payload)) };
+      const progress = (fraction: number) => port.postMessage({ id: request.id, progress: Math.min(1, Math.max(0, fraction)) } satisfies TaskResponse);
+      response = { id: request.id, ok: true, result: handler(JSON.parse(request.payload), { progress }) };
     } catch (error) {
       response = { id: request.id, ok: false, error: serializeError(error) };
     }

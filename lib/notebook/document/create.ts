@@ -30,7 +30,11 @@ export function emptyRow<K extends TableKind>(kind: K, id: string = createId()):
     case "parameters":
       return { id, name: "", unit: "", value: "", description: "" } as RowOf<K>;
     case "definitions":
+    case "constraints":
+    case "rate-constraints":
       return { id, name: "", expr: "", description: "" } as RowOf<K>;
+    case "outputs":
+      return { id, name: "", expr: "", unit: "", description: "" } as RowOf<K>;
     default:
       return { id, name: "", unit: "", description: "" } as RowOf<K>;
   }
@@ -45,6 +49,9 @@ export function createCell<K extends CellKind>(kind: K, id: string = createId())
     case "parameters":
     case "inputs":
     case "definitions":
+    case "constraints":
+    case "rate-constraints":
+    case "outputs":
       cell = { ...base, kind, rows: [] } as TableCell;
       break;
     case "kinetic":

@@ -15,6 +15,8 @@ type JsonObject = { [field: string]: unknown };
 
 /** Version 0: a model file stored before the notebook existed, or `{}` for a row never given content. */
 export type StoredContentVersion0 = { schemaVersion?: undefined; cells?: undefined; [field: string]: unknown };
+/** Version 2: typed simulation settings; no constraint or output cells yet. */
+export type StoredDocumentVersion2 = { schemaVersion: 2; title: string; cells: JsonObject[] };
 /** Version 1: the first notebook document; the simulation cell's settings were free-form. */
 export type StoredDocumentVersion1 = { schemaVersion: 1; title: string; cells: JsonObject[] };
 /**
@@ -22,7 +24,7 @@ export type StoredDocumentVersion1 = { schemaVersion: 1; title: string; cells: J
  * version, or one an older version of Holonomy wrote. Read it through
  * `parseStoredDocument`, which migrates and validates.
  */
-export type StoredDocument = DerivationDocument | StoredDocumentVersion1 | StoredContentVersion0;
+export type StoredDocument = DerivationDocument | StoredDocumentVersion2 | StoredDocumentVersion1 | StoredContentVersion0;
 
 /** A stored value a migration step cannot convert, with the problems at their paths. */
 export class MigrationError extends Error {
@@ -159,11 +161,22 @@ function typedSimulationSettings(stored: JsonObject): JsonObject {
 }
 
 // ---------------------------------------------------------------------------
+// 2 → 3: constraint, rate-constraint and output cells exist; the linearization
+// cell may choose outputs and an input. Both are additions, so a version-2
+// document is already a version-3 one; the step marks it so that an older
+// Holonomy refuses a document that may hold the new cells.
+
+function constraintCellsExist(stored: JsonObject): JsonObject {
+  return { ...stored, schemaVersion: 3 };
+}
+
+// ---------------------------------------------------------------------------
 
 /** Every step, oldest first; the last one writes `DOCUMENT_SCHEMA_VERSION`. */
 export const DOCUMENT_MIGRATIONS: readonly DocumentMigration[] = [
   { from: 0, change: "a pre-notebook model file becomes a notebook document", up: notebookFromModelFile },
   { from: 1, change: "the simulation cell's settings are typed, with defaults for missing ones", up: typedSimulationSettings },
+  { from: 2, change: "constraint, rate-constraint and output cells; the linearization cell chooses outputs and an input", up: constraintCellsExist },
 ];
 
 /**

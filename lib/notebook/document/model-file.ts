@@ -2,7 +2,7 @@
  * Conversion between a document and the model file (`*.model.json`), the
  * portable form of a derivation the engine reads.
  */
-import type { Model } from "../../mechanics/model";
+import type { Model } from "../../mechanics/browser";
 import { createCell, createId } from "./create";
 import { DocumentError } from "./errors";
 import { DOCUMENT_SCHEMA_VERSION, type Cell, type DerivationDocument, type EnergyCell, type EnergyKind, type ForcesCell } from "./schema";
@@ -40,6 +40,13 @@ export function documentToModel(doc: DerivationDocument): Model {
   });
   const inputs = rowsOfKind(doc, "inputs").map(({ row }) => withDescription({ name: row.name.trim(), unit: row.unit.trim() }, row.description));
   const definitions = rowsOfKind(doc, "definitions").map(({ row }) => withDescription({ name: row.name.trim(), expr: row.expr }, row.description));
+  const constraintsOf = (kind: "constraints" | "rate-constraints") =>
+    rowsOfKind(doc, kind).map(({ row }) => withDescription({ name: row.name.trim(), expr: row.expr }, row.description));
+  const constraints = constraintsOf("constraints");
+  const rateConstraints = constraintsOf("rate-constraints");
+  const outputs = rowsOfKind(doc, "outputs").map(({ row }) =>
+    withDescription({ name: row.name.trim(), expr: row.expr, unit: row.unit.trim() }, row.description),
+  );
   const energy = (kind: EnergyKind) => doc.cells.find((cell): cell is EnergyCell => cell.kind === kind)?.expr ?? "";
   const forcesCell = doc.cells.find((cell): cell is ForcesCell => cell.kind === "forces");
   const forces: Record<string, string> = {};
@@ -56,13 +63,17 @@ export function documentToModel(doc: DerivationDocument): Model {
     potential: energy("potential"),
     ...(dissipation.trim() !== "" ? { dissipation } : {}),
     ...(Object.keys(forces).length > 0 ? { forces } : {}),
+    ...(constraints.length > 0 ? { constraints } : {}),
+    ...(rateConstraints.length > 0 ? { rateConstraints } : {}),
+    ...(outputs.length > 0 ? { outputs } : {}),
   };
 }
 
 /**
  * A document for a model file, in the default layout: coordinates, parameters,
- * inputs and definitions (when present), the energies, forces (when present),
- * then the equations and conserved quantities.
+ * inputs and definitions (when present), the energies, forces, constraints,
+ * rate constraints and outputs (each when present), then the equations and
+ * conserved quantities.
  */
 export function modelToDocument(model: Model, newId: () => string = createId): DerivationDocument {
   const cells: Cell[] = [];
@@ -104,6 +115,21 @@ export function modelToDocument(model: Model, newId: () => string = createId): D
   if (model.dissipation !== undefined && model.dissipation.trim() !== "") cells.push({ ...createCell("dissipation", newId()), expr: model.dissipation });
   if (model.forces && Object.keys(model.forces).length > 0) {
     cells.push({ ...createCell("forces", newId()), entries: Object.entries(model.forces).map(([coordinate, expr]) => ({ coordinate, expr })) });
+  }
+  for (const [kind, list] of [
+    ["constraints", model.constraints],
+    ["rate-constraints", model.rateConstraints],
+  ] as const) {
+    if (!list || list.length === 0) continue;
+    const ids = rowIds(list.length);
+    cells.push({ ...createCell(kind, newId()), rows: list.map((c, i) => ({ id: ids[i]!, name: c.name, expr: c.expr, description: describe(c.description) })) });
+  }
+  if (model.outputs && model.outputs.length > 0) {
+    const ids = rowIds(model.outputs.length);
+    cells.push({
+      ...createCell("outputs", newId()),
+      rows: model.outputs.map((o, i) => ({ id: ids[i]!, name: o.name, expr: o.expr, unit: o.unit, description: describe(o.description) })),
+    });
   }
   cells.push(createCell("equations", newId()), createCell("conserved", newId()));
   return { schemaVersion: DOCUMENT_SCHEMA_VERSION, title: model.title, cells };

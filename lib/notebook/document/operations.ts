@@ -6,7 +6,7 @@
  * document and leaves its argument alone, and carries every id it creates, so
  * replaying one gives the same document everywhere.
  */
-import { DEFAULT_MODEL_LIMITS } from "../../mechanics/limits";
+import { DEFAULT_MODEL_LIMITS } from "../../mechanics/browser";
 import { createId, emptyRow } from "./create";
 import { DocumentError } from "./errors";
 import {
@@ -134,9 +134,21 @@ export const ROW_LIMITS: Record<TableKind, number> = {
   parameters: DEFAULT_MODEL_LIMITS.maxParameters,
   inputs: DEFAULT_MODEL_LIMITS.maxInputs,
   definitions: DEFAULT_MODEL_LIMITS.maxDefinitions,
+  // Fewer constraints than coordinates, or nothing is left to move.
+  constraints: DEFAULT_MODEL_LIMITS.maxCoordinates,
+  "rate-constraints": DEFAULT_MODEL_LIMITS.maxCoordinates,
+  outputs: 50,
 };
 
-const ROW_NOUNS: Record<TableKind, string> = { coordinates: "coordinates", parameters: "parameters", inputs: "inputs", definitions: "definitions" };
+const ROW_NOUNS: Record<TableKind, string> = {
+  coordinates: "coordinates",
+  parameters: "parameters",
+  inputs: "inputs",
+  definitions: "definitions",
+  constraints: "constraints",
+  "rate-constraints": "rate constraints",
+  outputs: "outputs",
+};
 
 /** Rows of a kind across the document, blank ones included (each may still be filled in). */
 export function rowCount(doc: DerivationDocument, kind: TableKind): number {

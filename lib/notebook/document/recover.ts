@@ -3,7 +3,7 @@
  * open, so an unreadable derivation never holds its work hostage. What can be
  * read is kept cell by cell and row by row; what cannot is named in `omitted`.
  */
-import type { Model } from "../../mechanics/model";
+import type { Model } from "../../mechanics/browser";
 import { migrateDocument, storedVersionOf } from "./migrations";
 import { documentToModel, parseParameterValue } from "./model-file";
 import {
@@ -39,6 +39,9 @@ const ROW_FIELDS: Record<TableKind, readonly string[]> = {
   parameters: ["name", "unit", "value", "description"],
   inputs: ["name", "unit", "description"],
   definitions: ["name", "expr", "description"],
+  constraints: ["name", "expr", "description"],
+  "rate-constraints": ["name", "expr", "description"],
+  outputs: ["name", "expr", "unit", "description"],
 };
 
 // Field by field rather than through the strict schema, so a row written by a

@@ -7,7 +7,7 @@
 import * as z from "zod/mini";
 
 /** Bump with a new entry in `DOCUMENT_MIGRATIONS` whenever the stored shape changes. */
-export const DOCUMENT_SCHEMA_VERSION = 2;
+export const DOCUMENT_SCHEMA_VERSION = 3;
 
 /**
  * Size limits of a stored document; a request over them is refused with the
@@ -33,6 +33,10 @@ const coordinateRowSchema = z.strictObject({ id: idText, name: nameText, unit: u
 /** `value` is kept as typed; blank means the parameter stays symbolic. */
 const parameterRowSchema = z.strictObject({ id: idText, name: nameText, unit: unitText, value: valueText, description: descriptionText });
 const definitionRowSchema = z.strictObject({ id: idText, name: nameText, expr: exprText, description: descriptionText });
+/** A position constraint (expr = 0, of coordinates, t and parameters) or a rate constraint (expr = 0, linear in the rates). */
+const constraintRowSchema = z.strictObject({ id: idText, name: nameText, expr: exprText, description: descriptionText });
+/** A named quantity evaluated along every simulation (a rope tension, a pin load), checked against its unit. */
+const outputRowSchema = z.strictObject({ id: idText, name: nameText, expr: exprText, unit: unitText, description: descriptionText });
 /** A generalized force, keyed by the coordinate's name. */
 const forceEntrySchema = z.strictObject({ coordinate: nameText, expr: exprText });
 
@@ -41,6 +45,8 @@ export type InputRow = CoordinateRow;
 export type ParameterRow = z.infer<typeof parameterRowSchema>;
 export type DefinitionRow = z.infer<typeof definitionRowSchema>;
 export type ForceEntry = z.infer<typeof forceEntrySchema>;
+export type ConstraintRow = z.infer<typeof constraintRowSchema>;
+export type OutputRow = z.infer<typeof outputRowSchema>;
 
 function rowList<T extends { id: string }>(row: z.ZodMiniType<T>) {
   return z.array(row).check(
@@ -112,6 +118,9 @@ export const cellSchema = z.discriminatedUnion("kind", [
   z.strictObject({ ...cellBase, kind: z.literal("parameters"), rows: rowList(parameterRowSchema) }),
   z.strictObject({ ...cellBase, kind: z.literal("inputs"), rows: rowList(coordinateRowSchema) }),
   z.strictObject({ ...cellBase, kind: z.literal("definitions"), rows: rowList(definitionRowSchema) }),
+  z.strictObject({ ...cellBase, kind: z.literal("constraints"), rows: rowList(constraintRowSchema) }),
+  z.strictObject({ ...cellBase, kind: z.literal("rate-constraints"), rows: rowList(constraintRowSchema) }),
+  z.strictObject({ ...cellBase, kind: z.literal("outputs"), rows: rowList(outputRowSchema) }),
   z.strictObject({ ...cellBase, kind: z.enum(["kinetic", "potential", "dissipation"]), expr: exprText }),
   z.strictObject({
     ...cellBase,
@@ -137,6 +146,10 @@ export const cellSchema = z.discriminatedUnion("kind", [
       equilibriumIndex: z.int().check(z.minimum(0), z.maximum(1000)),
       /** Input values at the operating point, as typed (blank means 0). */
       inputValues: z.record(nameText, valueText),
+      /** The outputs y = C x + D u of the frequency response: names of coordinates or of rows of the Outputs cell; absent, none chosen. */
+      outputs: z.optional(z.array(nameText).check(z.maxLength(DOCUMENT_LIMITS.rows))),
+      /** The input of the frequency response; absent or blank, the first input. */
+      input: z.optional(nameText),
     }),
   }),
   z.strictObject({ ...cellBase, kind: z.literal("code-export"), settings: z.strictObject({ language: z.enum(CODE_EXPORT_LANGUAGES) }) }),
@@ -149,6 +162,9 @@ export type CoordinatesCell = Extract<Cell, { kind: "coordinates" }>;
 export type ParametersCell = Extract<Cell, { kind: "parameters" }>;
 export type InputsCell = Extract<Cell, { kind: "inputs" }>;
 export type DefinitionsCell = Extract<Cell, { kind: "definitions" }>;
+export type ConstraintsCell = Extract<Cell, { kind: "constraints" }>;
+export type RateConstraintsCell = Extract<Cell, { kind: "rate-constraints" }>;
+export type OutputsCell = Extract<Cell, { kind: "outputs" }>;
 export type EnergyCell = Extract<Cell, { kind: "kinetic" | "potential" | "dissipation" }>;
 export type ForcesCell = Extract<Cell, { kind: "forces" }>;
 export type NoteCell = Extract<Cell, { kind: "note" }>;
@@ -158,7 +174,7 @@ export type LinearizationCell = Extract<Cell, { kind: "linearization" }>;
 export type CodeExportCell = Extract<Cell, { kind: "code-export" }>;
 export type SimulationCell = Extract<Cell, { kind: "simulation" }>;
 
-export type TableCell = CoordinatesCell | ParametersCell | InputsCell | DefinitionsCell;
+export type TableCell = CoordinatesCell | ParametersCell | InputsCell | DefinitionsCell | ConstraintsCell | RateConstraintsCell | OutputsCell;
 export type SourceCell = TableCell | EnergyCell | ForcesCell | NoteCell;
 export type GeneratedCell = EquationsCell | ConservedCell | LinearizationCell | CodeExportCell | SimulationCell;
 export type TableKind = TableCell["kind"];
@@ -170,7 +186,7 @@ export type RowOf<K extends TableKind> = Extract<TableCell, { kind: K }>["rows"]
 export type AnyRow = TableCell["rows"][number];
 export type SettingsOf<K extends GeneratedKind> = Extract<GeneratedCell, { kind: K }>["settings"];
 
-export const TABLE_KINDS: readonly TableKind[] = ["coordinates", "parameters", "inputs", "definitions"];
+export const TABLE_KINDS: readonly TableKind[] = ["coordinates", "parameters", "inputs", "definitions", "constraints", "rate-constraints", "outputs"];
 export const ENERGY_KINDS: readonly EnergyKind[] = ["kinetic", "potential", "dissipation"];
 export const GENERATED_KINDS: readonly GeneratedKind[] = ["equations", "conserved", "linearization", "code-export", "simulation"];
 export const CELL_KINDS: readonly CellKind[] = [...TABLE_KINDS, ...ENERGY_KINDS, "forces", "note", ...GENERATED_KINDS];
@@ -186,6 +202,9 @@ export const CELL_LABELS: Record<CellKind, string> = {
   parameters: "Parameters",
   inputs: "Inputs",
   definitions: "Definitions",
+  constraints: "Constraints",
+  "rate-constraints": "Rate constraints",
+  outputs: "Outputs",
   kinetic: "Kinetic energy",
   potential: "Potential energy",
   dissipation: "Dissipation function",

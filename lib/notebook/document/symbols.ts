@@ -30,6 +30,18 @@ export interface DocumentSymbols {
   parameters: string[];
   inputs: string[];
   definitions: string[];
+  /** The constraints' multipliers (`lambda_<name>`, `mu_<name>`), which outputs may use. */
+  multipliers?: string[];
+}
+
+/** The multiplier symbols of a document's constraints, in document order. */
+export function multiplierNames(doc: DerivationDocument): string[] {
+  const of = (kind: "constraints" | "rate-constraints", prefix: string) =>
+    rowsOfKind(doc, kind)
+      .map(({ row }) => row.name.trim())
+      .filter((name) => name !== "")
+      .map((name) => `${prefix}_${name}`);
+  return [...of("constraints", "lambda"), ...of("rate-constraints", "mu")];
 }
 
 export function documentSymbols(doc: DerivationDocument): DocumentSymbols {
@@ -37,7 +49,13 @@ export function documentSymbols(doc: DerivationDocument): DocumentSymbols {
     rowsOfKind(doc, kind)
       .map(({ row }) => row.name.trim())
       .filter((name) => name !== "");
-  return { coordinates: names("coordinates"), parameters: names("parameters"), inputs: names("inputs"), definitions: names("definitions") };
+  return {
+    coordinates: names("coordinates"),
+    parameters: names("parameters"),
+    inputs: names("inputs"),
+    definitions: names("definitions"),
+    multipliers: multiplierNames(doc),
+  };
 }
 
 /** Which part of a cell a model field names. */
@@ -50,7 +68,9 @@ export interface FieldLocation {
   coordinate?: string;
 }
 
-const FIELD_PATH = /^(coordinates|parameters|inputs|definitions)(?:\[(\d+)\](?:\.(\w+))?)?$/;
+const FIELD_PATH = /^(coordinates|parameters|inputs|definitions|constraints|rateConstraints|outputs)(?:\[(\d+)\](?:\.(\w+))?)?$/;
+/** Model-file list names that differ from the cell kind holding their rows. */
+const KIND_OF_LIST: Readonly<Record<string, TableKind>> = { rateConstraints: "rate-constraints" };
 const FORCE_PATH = /^forces(?:\.([A-Za-z_][A-Za-z0-9_]*)|\[["']?([A-Za-z_][A-Za-z0-9_]*)["']?\])?$/;
 
 /**
@@ -63,7 +83,7 @@ export function locateModelField(doc: DerivationDocument, field: string): FieldL
   if (field === "title") return null;
   const table = FIELD_PATH.exec(field);
   if (table) {
-    const kind = table[1] as TableKind;
+    const kind = KIND_OF_LIST[table[1]!] ?? (table[1] as TableKind);
     if (table[2] === undefined) {
       const cell = doc.cells.find((c) => c.kind === kind);
       return cell ? { cellId: cell.id } : null;

@@ -2,12 +2,13 @@
 // it again, loses no update the server had acknowledged as stored.
 import { spawn, type ChildProcess } from "node:child_process";
 import path from "node:path";
+import { isDeepStrictEqual } from "node:util";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import * as Y from "yjs";
 import { closeDatabase } from "@/db/client";
-import { createDerivation } from "@/db/queries/derivations";
+import { createDerivation, getDerivationById } from "@/db/queries/derivations";
 import { blankDocument, type DerivationDocument } from "@/lib/notebook/document";
-import { fieldText } from "@/lib/notebook/document/shared-doc";
+import { fieldText, yDocToDocument } from "@/lib/notebook/document/shared-doc";
 import { makeTeam, resetDatabase, type TeamFixture } from "../support/fixtures";
 import { connectClient, storedDoc, tokenFor, waitFor, type TestClient } from "./support";
 
@@ -101,6 +102,11 @@ describe("a crash of the collaboration server", () => {
     expect(lost).toEqual([]);
     // after the restart every typed marker was stored, also those typed while the server was down
     expect(acknowledged.size).toBe(typed.length);
+    // the JSON copy catches up with everything stored, also what only the first process had stored
+    await waitFor(
+      async () => isDeepStrictEqual((await getDerivationById({ id: derivation.id }))?.content, yDocToDocument(await storedDoc(derivation.id))),
+      "the JSON copy",
+    );
     for (const client of clients) client.destroy();
   });
 });

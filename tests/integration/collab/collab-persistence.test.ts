@@ -1,10 +1,10 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import * as Y from "yjs";
 import { closeDatabase } from "@/db/client";
-import { appendSharedDocUpdate, compactSharedDocById, getSharedDocUpdatesById, loadSharedDocById } from "@/db/queries/collab";
+import { appendSharedDocUpdate, compactSharedDocById, getSharedDocUpdatesById, getSharedDocumentById, loadSharedDocById } from "@/db/queries/collab";
 import { createDerivation } from "@/db/queries/derivations";
 import { blankDocument } from "@/lib/notebook/document";
-import { yDocToDocument } from "@/lib/notebook/document/shared-doc";
+import { fieldText, yDocToDocument } from "@/lib/notebook/document/shared-doc";
 import { makeTeam, resetDatabase, type TeamFixture } from "../support/fixtures";
 import { storedDoc } from "./support";
 
@@ -31,6 +31,18 @@ describe("the shared document's update log", () => {
     expect(rows).toHaveLength(1);
     for (const load of loads) expect(load).toEqual({ status: "loaded", updates: rows });
     expect(yDocToDocument(await storedDoc(derivation.id))).toEqual(derivation.content);
+  });
+
+  it("reads the current shared document, or null before the first load", async () => {
+    const derivation = await newDerivation();
+    expect(await getSharedDocumentById({ derivationId: derivation.id })).toBeNull();
+    await loadSharedDocById({ derivationId: derivation.id });
+    const doc = await storedDoc(derivation.id);
+    const kinetic = yDocToDocument(doc).cells.find((cell) => cell.kind === "kinetic")!.id;
+    const before = Y.encodeStateVector(doc);
+    fieldText(doc, kinetic, "expr")!.insert(0, "1/2*J*theta'^2");
+    await appendSharedDocUpdate({ derivationId: derivation.id, update: Y.encodeStateAsUpdate(doc, before) });
+    expect(await getSharedDocumentById({ derivationId: derivation.id })).toEqual(yDocToDocument(doc));
   });
 
   it("loses no update when compactions run while three writers append", async () => {

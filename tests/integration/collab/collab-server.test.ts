@@ -7,6 +7,7 @@ vi.mock("@/lib/auth/session", async () => (await import("../support/session")).s
 import * as restoreRoute from "@/app/api/derivations/[id]/revisions/[revisionId]/restore/route";
 import * as checkpointRoute from "@/app/api/derivations/[id]/revisions/route";
 import * as tokenRoute from "@/app/api/derivations/[id]/collab-token/route";
+import * as derivationRouteModule from "@/app/api/derivations/[id]/route";
 import { closeDatabase, db } from "@/db/client";
 import { getSharedDocUpdatesById } from "@/db/queries/collab";
 import { createDerivation, getDerivationById } from "@/db/queries/derivations";
@@ -14,8 +15,8 @@ import { derivations } from "@/db/schema";
 import { verifyCollabToken } from "@/lib/collab/token";
 import { env } from "@/lib/env";
 import { blankDocument, parseStoredDocument, type DerivationDocument } from "@/lib/notebook/document";
-import { fieldText, yDocToDocument } from "@/lib/notebook/document/shared-doc";
-import { eq } from "drizzle-orm";
+import { fieldText, titleText, yDocToDocument } from "@/lib/notebook/document/shared-doc";
+import { eq, sql } from "drizzle-orm";
 import * as encoding from "lib0/encoding";
 import * as Y from "yjs";
 import { jsonRequest, makeTeam, params, resetDatabase, storeRawContent, type TeamFixture } from "../support/fixtures";
@@ -240,6 +241,27 @@ describe("editing", () => {
     expect(rows).toHaveLength(1);
     expect(yDocToDocument(await storedDoc(derivation.id))).toEqual(expected);
     expect((await getDerivationById({ id: derivation.id }))?.content).toEqual(expected);
+  });
+});
+
+describe("notifications", () => {
+  it("resyncs loaded documents after the LISTEN connection was lost, so a write made meanwhile arrives", async () => {
+    const derivation = await newDerivation();
+    const a = track(connectClient(running.url, derivation.id, await tokenFor(kestrel.members.analyst.id, derivation.id)));
+    await waitFor(() => a.provider.synced, "sync");
+    const listeners = await db.execute<{ pid: number }>(
+      sql`select pid from pg_stat_activity where datname = current_database() and query = 'LISTEN holonomy_doc' and pid <> pg_backend_pid()`,
+    );
+    expect(listeners.rows.length).toBeGreaterThan(0);
+    for (const { pid } of listeners.rows) await db.execute(sql`select pg_terminate_backend(${pid})`);
+    // renamed while nobody listens: the NOTIFY is lost
+    signInAs(kestrel.members.lead);
+    const renamed = await derivationRouteModule.PATCH(
+      jsonRequest(`/api/derivations/${derivation.id}`, "PATCH", { title: "Hoist brake drum, rev B" }),
+      params({ id: derivation.id }),
+    );
+    expect(renamed.status).toBe(200);
+    await waitFor(() => titleText(a.doc)?.toString() === "Hoist brake drum, rev B", "the renamed title after the listener reconnected");
   });
 });
 

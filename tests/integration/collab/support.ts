@@ -8,10 +8,8 @@ import * as Y from "yjs";
 import { getSharedDocUpdatesById } from "@/db/queries/collab";
 import { signCollabToken } from "@/lib/collab/token";
 import { env } from "@/lib/env";
-import { createTokenAuthenticator } from "@/server/collab/auth";
-import { createPostgresNotifications } from "@/server/collab/listener";
-import { postgresJsonCopy, postgresPersistence } from "@/server/collab/persistence";
-import { createCollabServer, type CollabServer } from "@/server/collab/server";
+import { createPostgresCollabServer } from "@/server/collab/postgres";
+import type { CollabServer } from "@/server/collab/server";
 import { MESSAGE_STORED } from "@/server/collab/protocol";
 import type { CollabLimits, Logger } from "@/server/collab/types";
 
@@ -33,14 +31,7 @@ export interface RunningServer {
 
 /** A collaboration server in this process on an ephemeral loopback port. */
 export async function startCollabServer(limits: Partial<CollabLimits> = {}): Promise<RunningServer> {
-  const server = createCollabServer({
-    auth: createTokenAuthenticator({ secret: env.NEXTAUTH_SECRET }),
-    persistence: postgresPersistence,
-    jsonCopy: postgresJsonCopy,
-    notifications: createPostgresNotifications({ connectionString: env.DATABASE_URL, logger: quietLogger }),
-    limits: { ...testLimits, ...limits },
-    logger: quietLogger,
-  });
+  const server = createPostgresCollabServer({ limits: { ...testLimits, ...limits }, logger: quietLogger });
   const port = await server.listen(0, "127.0.0.1");
   return { server, url: `ws://127.0.0.1:${port}/collab` };
 }

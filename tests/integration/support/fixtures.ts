@@ -50,7 +50,7 @@ export async function makeTeam(name = "Hoist test bench"): Promise<TeamFixture> 
  */
 export async function resetDatabase(): Promise<void> {
   await db.execute(sql`
-    truncate table sign_in_attempts, rate_limit_events, password_reset_tokens, invites, derivations, memberships, teams, users
+    truncate table rate_limits, password_reset_tokens, invites, derivations, memberships, teams, users
     restart identity cascade
   `);
 }

@@ -38,13 +38,19 @@ const expected: Record<Action, Record<Context, MemberRole[]>> = {
   "derivation:read-trash": anyOwner(["lead", "analyst"]),
   "derivation:restore": { draft: ["lead"], approved: ["lead"], ownDraft: ["lead", "analyst"], ownApproved: ["lead", "analyst"] },
   "derivation:purge": anyOwner(["lead"]),
-  "derivation:comment": anyOwner(["lead", "analyst", "reviewer"]),
   "derivation:approve": anyOwner(["lead"]),
   "derivation:lock": anyOwner(["lead"]),
   "derivation:attach": anyOwner(["lead", "analyst"], ["lead"]),
   "derivation:simulate": anyOwner(["lead", "analyst", "reviewer"]),
   "derivation:request-review": anyOwner(["lead", "analyst"]),
   "derivation:review": anyOwner(["lead", "reviewer"]),
+  // Issue 9: everyone reads threads, reviewers comment, viewers only read. Without
+  // authorship nobody edits or deletes a comment; resolving is for editors and leads.
+  "comment:read": anyOwner(everyone),
+  "comment:create": anyOwner(["lead", "analyst", "reviewer"]),
+  "comment:edit": anyOwner([]),
+  "comment:delete": anyOwner([]),
+  "comment:resolve": anyOwner(["lead", "analyst"]),
 };
 
 describe("permission table", () => {
@@ -91,7 +97,34 @@ describe("permission table", () => {
   });
 
   it("lists allowed actions for client components", () => {
-    expect(allowedActions("viewer")).toEqual(["team:read", "derivation:read"]);
-    expect(allowedActions("lead")).toEqual([...actions]);
+    expect(allowedActions("viewer")).toEqual(["team:read", "derivation:read", "comment:read"]);
+    expect(allowedActions("lead", { isAuthor: true })).toEqual([...actions]);
+  });
+});
+
+describe("comment threads", () => {
+  it("lets every role that comments change only its own words", () => {
+    for (const role of ["lead", "analyst", "reviewer"] as const) {
+      for (const action of ["comment:edit", "comment:delete"] as const) {
+        expect(can(role, action, { isAuthor: true })).toBe(true);
+        expect(can(role, action, { isAuthor: false })).toBe(false);
+      }
+    }
+    expect(can("viewer", "comment:edit", { isAuthor: true })).toBe(false);
+  });
+
+  it("lets a reviewer resolve only a thread they started; editors and leads any", () => {
+    expect(can("reviewer", "comment:resolve", { isAuthor: true })).toBe(true);
+    expect(can("reviewer", "comment:resolve", { isAuthor: false })).toBe(false);
+    expect(can("analyst", "comment:resolve", { isAuthor: false })).toBe(true);
+    expect(can("lead", "comment:resolve", { isAuthor: false })).toBe(true);
+    expect(can("viewer", "comment:resolve", { isAuthor: true })).toBe(false);
+  });
+
+  it("keeps discussion open on an approved, locked derivation", () => {
+    const locked = { status: "approved" as const, locked: true };
+    expect(can("reviewer", "comment:create", locked)).toBe(true);
+    expect(can("analyst", "comment:resolve", locked)).toBe(true);
+    expect(() => assertCan("viewer", "comment:create", locked)).toThrowError(expect.objectContaining({ code: "forbidden:comment" }));
   });
 });

@@ -7,16 +7,15 @@
 import { describe, expect, it } from "vitest";
 import {
   analyseSystem,
+  codeExportInput,
   distinctEquilibria,
   energyNotConservedReason,
   evaluateModel,
+  mechanicalSystemOf,
   withoutRoundingNoise,
   type EvaluationSettings,
 } from "@/lib/evaluation/evaluate";
-import type { Equilibrium } from "@/lib/mechanics/equilibria";
-import type { Model } from "@/lib/mechanics/model";
-import { STABILITY_TOLERANCE } from "@/lib/mechanics/stability";
-import { chainModel } from "@/lib/mechanics/templates/chain";
+import { type Equilibrium, type Model, STABILITY_TOLERANCE, chainModel } from "@/lib/mechanics";
 import { evaluateDemo, inProcessRunner } from "./in-process";
 
 const g = 9.81;
@@ -230,5 +229,42 @@ describe("distinctEquilibria", () => {
     ]);
     // With no free coordinate the trolley positions are distinct equilibria.
     expect(distinctEquilibria(["x", "theta"], [], found)).toHaveLength(3);
+  });
+});
+
+describe("models with constraints", () => {
+  const atwood: Model = {
+    title: "Atwood machine",
+    coordinates: [
+      { name: "y1", unit: "m" },
+      { name: "y2", unit: "m" },
+    ],
+    parameters: [
+      { name: "m1", unit: "kg", value: 1 },
+      { name: "m2", unit: "kg", value: 2 },
+      { name: "g", unit: "m/s^2", value: 9.81 },
+      { name: "L", unit: "m", value: 3 },
+    ],
+    inputs: [{ name: "F", unit: "N" }],
+    kinetic: "m1/2*y1'^2 + m2/2*y2'^2",
+    potential: "m1*g*y1 + m2*g*y2",
+    forces: { y1: "F" },
+    constraints: [{ name: "rope", expr: "y1 + y2 - L" }],
+  };
+  const derived = {
+    coordinates: ["y1", "y2"],
+    massMatrix: [
+      ["m1", "0"],
+      ["0", "m2"],
+    ],
+    forcing: ["F + lambda_rope - m1*g", "lambda_rope - m2*g"],
+  };
+
+  it("gives the reason instead of equilibria and a linearization, whose forcing would hold unsolved multipliers", () => {
+    expect(mechanicalSystemOf(atwood, derived)).toEqual({ reason: expect.stringMatching(/not computed for a model with constraints/) });
+  });
+
+  it("exports code with the multipliers as arguments after the inputs", () => {
+    expect(codeExportInput(atwood, derived).inputs).toEqual(["F", "lambda_rope"]);
   });
 });

@@ -5,8 +5,8 @@
  */
 import { demoDerivations } from "@/db/seed/demo";
 import { evaluateModel, type EngineRunner, type EvaluationResult } from "@/lib/evaluation/evaluate";
-import type { Model } from "@/lib/mechanics/model";
-import { ENGINE_TASKS } from "@/lib/mechanics/worker/tasks";
+import type { Model } from "@/lib/mechanics";
+import { ENGINE_TASKS } from "@/lib/mechanics/worker";
 import { documentToModel, type DerivationDocument } from "@/lib/notebook/document";
 
 export const inProcessRunner: EngineRunner = {

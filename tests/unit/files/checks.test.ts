@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { MeasuredDataError } from "@/lib/simulate/errors";
+import { MeasuredDataError } from "@/lib/simulate";
 import { decodeCsv, imageTypeOf, looksLikeMarkup, summariseMeasuredCsv, UploadError } from "@/lib/files/checks";
 import { safeFileName } from "@/lib/files/names";
 

@@ -123,7 +123,7 @@ describe("validateModel", () => {
   });
 
   it("refuses oversized models before parsing their expressions", () => {
-    const big = chainModel({ links: 13 });
+    const big = chainModel({ links: 31 });
     expect(errorOf(big)).toMatchObject({ code: "too_large", field: "coordinates" });
     const long = { ...base(), kinetic: "x".repeat(100_001) };
     expect(errorOf(long)).toMatchObject({ code: "too_large", field: "model" });

@@ -30,7 +30,7 @@ import {
   type DerivationDocument,
   type DocumentOperation,
 } from "@/lib/notebook/document";
-import type { Model } from "@/lib/mechanics/model";
+import type { Model } from "@/lib/mechanics";
 
 function counter(prefix = "c"): () => string {
   let n = 0;

@@ -6,9 +6,7 @@ import { Notebook } from "@/components/notebook/notebook";
 import { documentToModel, modelToDocument, setExpression, type DerivationDocument } from "@/lib/notebook/document";
 import { templateModel } from "@/lib/notebook/templates";
 import type { ModelDiagnostic } from "@/lib/notebook/results";
-import { ModelError } from "@/lib/mechanics/errors";
-import { validateModel } from "@/lib/mechanics/validate-model";
-import { checkModelUnits } from "@/lib/mechanics/units";
+import { ModelError, validateModel, checkModelUnits } from "@/lib/mechanics";
 
 afterEach(cleanup);
 // Editors lint after a pause and KaTeX loads on first use; allow for a busy machine.

@@ -1,7 +1,7 @@
 import { describe, expect, it } from "vitest";
 import katex from "katex";
 import { previewLatex } from "@/lib/notebook/latex-preview";
-import { toLatex } from "@/lib/mechanics/latex";
+import { toLatex } from "@/lib/mechanics";
 
 describe("live preview", () => {
   it.each(["1/2*m*(l*theta')^2", "-m*g*l*cos(theta)", "x1 + l2*sin(theta2)", "1/2*c*theta1'^2"])(

@@ -143,7 +143,15 @@ describe("NotebookPage", () => {
     await waitFor(() => expect(within(first.container).getByTestId("connection-status").dataset.state).toBe("saved"), SLOW);
     expect(yDocToDocument(server.doc).cells.find((cell) => cell.kind === "coordinates")).toMatchObject({ rows: [{ name: "theta2" }] });
 
-    await waitFor(() => expect(within(first.container).getAllByTestId("presence-avatar").map((avatar) => avatar.dataset.name)).toEqual(["Ana Analyst", "Bo Lead"]), SLOW);
+    await waitFor(
+      () =>
+        expect(
+          within(first.container)
+            .getAllByTestId("presence-avatar")
+            .map((avatar) => avatar.dataset.name),
+        ).toEqual(["Ana Analyst", "Bo Lead"]),
+      SLOW,
+    );
     expect(within(second.container).getByRole("group", { name: "Viewing now: Bo Lead (you), Ana Analyst" })).toBeTruthy();
   }, 40_000);
 

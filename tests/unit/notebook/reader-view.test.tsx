@@ -93,7 +93,11 @@ function stubServer() {
       else if (url.endsWith("/code")) answer = { language: body?.language, filename: "hook_block.c", source: "/* C source of the hook block */" };
       else if (url.endsWith("/view-preferences")) answer = { preferences: body?.preferences, updatedAt: UPDATED };
       else if (url.endsWith("/runs") && method === "GET") answer = { runs: [] };
-      else if (url.endsWith("/runs"))
+      // A server run is a queued job: 202 with the job, then the job (here at once completed) and the stored run.
+      else if (url.endsWith("/runs")) answer = { job: { id: "j1", kind: "simulation", state: "queued", progress: 0, result: null, error: null } };
+      else if (url.endsWith("/jobs/j1"))
+        answer = { job: { id: "j1", kind: "simulation", state: "completed", progress: 1, result: { runId: "r1" }, error: null } };
+      else if (url.endsWith("/runs/r1"))
         answer = {
           run: {
             id: "r1",
@@ -108,9 +112,10 @@ function stubServer() {
         };
       else if (url.endsWith("/files")) answer = { files: [] };
       else if (url.endsWith("/collab-token")) answer = collabServer?.ticket({ id: "u1", name: "Ana Analyst" });
-      if (url.endsWith("/collab-token") && !collabServer) answer = { error: { code: "not_found:derivation", message: "No collaboration server in this test." } };
+      if (url.endsWith("/collab-token") && !collabServer)
+        answer = { error: { code: "not_found:derivation", message: "No collaboration server in this test." } };
       return new Response(JSON.stringify(answer), {
-        status: method === "POST" && url.endsWith("/runs") ? 201 : url.endsWith("/collab-token") && !collabServer ? 404 : 200,
+        status: method === "POST" && url.endsWith("/runs") ? 202 : url.endsWith("/collab-token") && !collabServer ? 404 : 200,
         headers: { "content-type": "application/json" },
       });
     }),
@@ -268,6 +273,8 @@ describe("a reader's own simulation", () => {
       parameters: { l: 5 },
       endTime: 5,
     });
+    // The page follows the queued job to its end and opens the run it stored.
+    await waitFor(() => expect(requests.some((r) => r.url.endsWith("/runs/r1"))).toBe(true), { timeout: 5000 });
     expect(documentWrites()).toEqual([]);
     expect(evaluations()).toHaveLength(1);
   });

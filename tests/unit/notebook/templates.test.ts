@@ -1,10 +1,8 @@
 import { describe, expect, it } from "vitest";
 import { documentToModel, modelToDocument, parseStoredDocument } from "@/lib/notebook/document";
 import { TEMPLATES, nLinkChain, templateDocument, templateModel } from "@/lib/notebook/templates";
-import { parseExpression } from "@/lib/mechanics/expr/parse";
-import { symbolsOf } from "@/lib/mechanics/expr/ast";
+import { parseExpression, symbolsOf, type Model } from "@/lib/mechanics";
 import { checkSymbolName, checkUnitSyntax } from "@/lib/notebook/field-checks";
-import type { Model } from "@/lib/mechanics/model";
 
 /** Every expression of a model with the field it sits in. */
 function expressions(model: Model): [string, string][] {

@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
 import { Matrix, solve } from "ml-matrix";
-import { SingularMatrixError } from "@/lib/simulate/errors";
+import { SingularMatrixError } from "@/lib/simulate";
 import { createLuWorkspace, factorInPlace, solveInPlace, substituteInPlace } from "@/lib/numeric/linear-solve";
 import { seededRandom } from "../simulate/systems";
 

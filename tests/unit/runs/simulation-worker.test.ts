@@ -1,35 +1,21 @@
-import { mkdtempSync, rmSync } from "node:fs";
-import { tmpdir } from "node:os";
 import path from "node:path";
-import { build } from "esbuild";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { ModelError } from "@/lib/mechanics/errors";
-import { EnginePool } from "@/lib/mechanics/worker/pool";
+import { ModelError } from "@/lib/mechanics";
+import { EnginePool } from "@/lib/mechanics/worker";
 import type { FitTaskOutput, SimulateTaskInput, SimulateTaskOutput } from "@/lib/runs/tasks";
-import { trajectoryCsv } from "@/lib/simulate/trajectory-csv";
+import { trajectoryCsv } from "@/lib/simulate";
 
-// The server's path for simulations: lib/runs/simulation-worker.ts, bundled the way
-// build:workers bundles it, run through the same pool class as in lib/workers/simulation-pool.ts.
-const bundleDir = mkdtempSync(path.join(tmpdir(), "holonomy-simulation-worker-"));
-const workerFile = path.join(bundleDir, "simulation-worker.mjs");
+// The server's path for simulations: lib/runs/simulation-worker.ts as build:workers bundles it (the
+// Vitest global setup, tests/support/build-workers.ts, builds it before any test file), run through
+// the same pool class as in lib/workers/simulation-pool.ts.
+const workerFile = path.resolve("dist/workers/simulation-worker.mjs");
 let pool: EnginePool;
 
-beforeAll(async () => {
-  await build({
-    entryPoints: [path.resolve("lib/runs/simulation-worker.ts")],
-    bundle: true,
-    platform: "node",
-    format: "esm",
-    target: "node20",
-    outfile: workerFile,
-    banner: { js: "import { createRequire as __createRequire } from 'node:module'; const require = __createRequire(import.meta.url);" },
-    logLevel: "warning",
-  });
+beforeAll(() => {
   pool = new EnginePool({ workerFile, size: 1, taskTimeoutMs: 20_000 });
-}, 60_000);
+});
 afterAll(async () => {
   await pool?.close();
-  rmSync(bundleDir, { recursive: true, force: true });
 });
 
 // A test-rig pendulum: 1.3 kg on a 0.8 m arm.

@@ -87,6 +87,22 @@ describe("derive CLI", () => {
     ["a unit mismatch", () => withChange((m) => (m.potential = "m*g*yl + M*x")), /^potential, column \d+: /],
     ["a rate of an input in a force", () => withChange((m) => (m.forces = { x: "F'" })), /^forces\.x, column 1: /],
     [
+      "a rate constraint not linear in the rates",
+      () => withChange((m) => (m.rateConstraints = [{ name: "slip", expr: "x'^2" }])),
+      /^rateConstraints\[0\]\.expr: the constraint is not linear in the rates/,
+    ],
+    [
+      "a redundant constraint",
+      () =>
+        withChange((m) => {
+          m.constraints = [
+            { name: "rail", expr: "x - l" },
+            { name: "rail2", expr: "2*x - 2*l" },
+          ];
+        }),
+      /^constraints\[1\]: "rail2" is a combination of "rail"/,
+    ],
+    [
       "malformed JSON",
       () => {
         const file = path.join(scratch, "broken.model.json");
@@ -96,6 +112,64 @@ describe("derive CLI", () => {
       /^model, line 2, column 3: not valid JSON/,
     ],
   ];
+  it(
+    "answers --help with the usage, the output keys and the multiplier convention",
+    () => {
+      const result = spawnSync(process.execPath, [path.join(root, "bin/holonomy-derive.mjs"), "--help"], {
+        cwd: root,
+        encoding: "utf8",
+        timeout: TIMEOUT - 10_000,
+      });
+      expect(result.status).toBe(0);
+      expect(result.stdout).toMatch(/^usage: holonomy-derive <file\.model\.json>/);
+      expect(result.stdout).toContain('constraints   { name, kind: "position" | "rate", expr, multiplier }');
+      expect(result.stdout).toContain("-lambda_<name>*dg/dq");
+    },
+    TIMEOUT,
+  );
+
+  it(
+    "adds constraints with their multipliers and outputs, through the package binary",
+    () => {
+      const file = path.join(scratch, "atwood.model.json");
+      writeFileSync(
+        file,
+        JSON.stringify({
+          title: "Atwood machine",
+          coordinates: [
+            { name: "y1", unit: "m" },
+            { name: "y2", unit: "m" },
+          ],
+          parameters: [
+            { name: "m1", unit: "kg" },
+            { name: "m2", unit: "kg" },
+            { name: "g", unit: "m/s^2" },
+            { name: "L", unit: "m" },
+          ],
+          kinetic: "m1/2*y1'^2 + m2/2*y2'^2",
+          potential: "m1*g*y1 + m2*g*y2",
+          constraints: [{ name: "rope", expr: "y1 + y2 - L" }],
+          outputs: [{ name: "tension", expr: "lambda_rope", unit: "N" }],
+        }),
+      );
+      const pkg = JSON.parse(readFileSync(path.join(root, "package.json"), "utf8"));
+      const result = spawnSync(process.execPath, [path.join(root, pkg.bin["holonomy-derive"]), file], {
+        cwd: root,
+        encoding: "utf8",
+        timeout: TIMEOUT - 10_000,
+      });
+      expect(result.stderr).toBe("");
+      const output = JSON.parse(result.stdout);
+      expect(output.equations.map((e: { residual: string }) => e.residual)).toEqual(["m1*y1'' - lambda_rope + m1*g", "m2*y2'' - lambda_rope + m2*g"]);
+      expect(output.constraints).toHaveLength(1);
+      expect(output.constraints[0]).toMatchObject({ name: "rope", kind: "position", expr: "y1 + y2 - L" });
+      // Atwood machine: rope tension 2 m1 m2 g/(m1 + m2) (any mechanics text; from memory).
+      expect(output.constraints[0].multiplier).toBe("2*m1*m2*g/(m1 + m2)");
+      expect(output.outputs).toEqual([{ name: "tension", expr: "lambda_rope", unit: "N" }]);
+    },
+    TIMEOUT,
+  );
+
   it.each(invalid)(
     "exits with status 2 and one stderr line for %s",
     (_, make, pattern) => {

@@ -1,4 +1,5 @@
 import type { Metadata } from "next";
+import { CommentsProvider } from "@/components/comments/comments-context";
 import { CurrentTeam } from "@/components/current-team";
 import { NotebookPage } from "@/components/notebook/notebook-page";
 import { DerivationReview } from "@/components/review/derivation-review";
@@ -46,7 +47,7 @@ export default async function DerivationPage({ params }: { params: Promise<{ id:
   // A role that could edit a draft but not this derivation is held back by its approval and lock.
   const readOnlyReason = canEdit ? undefined : can(membership.role, "derivation:edit", { status: "draft" }) ? "approved" : "role";
   return (
-    <>
+    <CommentsProvider derivationId={derivation.id}>
       <CurrentTeam teamId={derivation.teamId} />
       <NotebookPage
         key={derivation.id}
@@ -68,6 +69,6 @@ export default async function DerivationPage({ params }: { params: Promise<{ id:
         review={<DerivationReview data={review} />}
         locked={locked}
       />
-    </>
+    </CommentsProvider>
   );
 }

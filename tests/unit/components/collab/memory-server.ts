@@ -154,7 +154,13 @@ export class MemoryProvider implements ProviderLike {
   acknowledge(stateVector: Uint8Array): void {
     const encoder = encoding.createEncoder();
     encoding.writeVarUint8Array(encoder, stateVector);
-    this.messageHandlers[MESSAGE_STORED]?.(encoding.createEncoder(), decoding.createDecoder(encoding.toUint8Array(encoder)), undefined as never, true, MESSAGE_STORED);
+    this.messageHandlers[MESSAGE_STORED]?.(
+      encoding.createEncoder(),
+      decoding.createDecoder(encoding.toUint8Array(encoder)),
+      undefined as never,
+      true,
+      MESSAGE_STORED,
+    );
   }
 
   private onUpdate = (update: Uint8Array, origin: unknown) => {

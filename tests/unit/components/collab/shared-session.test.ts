@@ -175,7 +175,9 @@ describe("observeDocument", () => {
     await until(() => seen.length >= 1, "one report");
     await new Promise((resolve) => setTimeout(resolve, 40));
     expect(seen).toHaveLength(1);
-    expect((seen[0] as { document: DerivationDocument }).document.cells.find((c) => c.id === cell.id)).toMatchObject({ expr: expect.stringMatching(/^(1\*){5}/) });
+    expect((seen[0] as { document: DerivationDocument }).document.cells.find((c) => c.id === cell.id)).toMatchObject({
+      expr: expect.stringMatching(/^(1\*){5}/),
+    });
 
     ydoc.getArray<Y.Map<unknown>>("cells").get(0).set("kind", "teapot");
     await until(() => seen.length === 2, "a problem");

@@ -4,7 +4,7 @@ import { afterEach, describe, expect, it } from "vitest";
 import * as Y from "yjs";
 import { mapThroughDelta, SharedInput, textChange } from "@/components/collab/shared-text-input";
 import { internalTarget, leaveQuestion } from "@/components/collab/use-leave-guard";
-import { spellGreekLetters } from "@/lib/mechanics/expr/greek";
+import { spellGreekLetters } from "@/lib/mechanics/browser";
 
 afterEach(cleanup);
 
@@ -59,7 +59,9 @@ describe("SharedInput", () => {
   it("rewrites typed Greek letters, reports the edit, and writes nothing when read-only", () => {
     const { a } = linkedTexts("");
     const edits: [string, string][] = [];
-    const { rerender } = render(<SharedInput text={a} origin="a" aria-label="name" transformInsert={spellGreekLetters} onEdit={(before, after) => edits.push([before, after])} />);
+    const { rerender } = render(
+      <SharedInput text={a} origin="a" aria-label="name" transformInsert={spellGreekLetters} onEdit={(before, after) => edits.push([before, after])} />,
+    );
     const field = screen.getByRole("textbox", { name: "name" }) as HTMLInputElement;
     fireEvent.change(field, { target: { value: "θ" } });
     expect(a.toString()).toBe("theta");

@@ -62,6 +62,31 @@ describe("EnginePool", () => {
     expect(pool.stats.size).toBe(1);
   }, 20_000);
 
+  it("passes a task's progress reports on before its answer", async () => {
+    const reports: number[] = [];
+    // A wide limit: starting a worker thread alone can take seconds on a busy machine.
+    const result = await pool.run("steps", { count: 4 }, { timeoutMs: 15_000, onProgress: (fraction) => reports.push(fraction) });
+    expect(result).toEqual({ done: 4 });
+    expect(reports).toEqual([0.25, 0.5, 0.75, 1]);
+  }, 20_000);
+
+  it("cancels a running task by stopping its worker, and a waiting one before it starts, and keeps working", async () => {
+    const running = new AbortController();
+    const waiting = new AbortController();
+    const first = pool.run("spin", {}, { timeoutMs: 15_000, signal: running.signal }).catch((e: unknown) => e);
+    const second = pool.run("echo", { never: true }, { timeoutMs: 15_000, signal: waiting.signal }).catch((e: unknown) => e);
+    const started = Date.now();
+    waiting.abort();
+    running.abort();
+    for (const error of await Promise.all([first, second])) {
+      expect(error).toBeInstanceOf(EngineLimitError);
+      expect((error as EngineLimitError).limit).toBe("cancelled");
+    }
+    expect(Date.now() - started).toBeLessThan(5000);
+    expect(await pool.run("echo", { after: "cancel" }, { timeoutMs: 15_000 })).toEqual({ after: "cancel" });
+    expect(pool.stats.size).toBe(1);
+  }, 20_000);
+
   it("stops a task that exhausts its memory cap, and keeps working", async () => {
     const error = await pool.run("hog", {}, { timeoutMs: 15_000 }).catch((e: unknown) => e);
     expect(error).toBeInstanceOf(EngineLimitError);

@@ -10,7 +10,7 @@ import {
   parseStoredDocument,
   type DerivationDocument,
 } from "@/lib/notebook/document";
-import type { Model } from "@/lib/mechanics/model";
+import type { Model } from "@/lib/mechanics";
 
 const FIXTURES = path.resolve(import.meta.dirname, "../../../fixtures/documents");
 const fixtureNames = readdirSync(FIXTURES).filter((name) => name.endsWith(".json"));

@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
 import { DOCUMENT_SCHEMA_VERSION, documentToModel, modelToDocument, recoverModel } from "@/lib/notebook/document";
-import type { Model } from "@/lib/mechanics/model";
+import type { Model } from "@/lib/mechanics";
 
 const sled: Model = {
   title: "Test sled on rails",

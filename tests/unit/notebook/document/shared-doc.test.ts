@@ -5,6 +5,7 @@ import * as Y from "yjs";
 import { demoDerivations } from "@/db/seed/demo";
 import {
   CELL_KINDS,
+  DOCUMENT_SCHEMA_VERSION,
   DocumentError,
   createCell,
   parseStoredDocument,
@@ -52,9 +53,7 @@ function read(input: unknown, title?: string): DerivationDocument {
 
 /** Every kind of cell, with rows, entries, a cell title, a note and non-default settings. */
 function everyKindDocument(): DerivationDocument {
-  let n = 0;
-  const id = () => `k${(n += 1)}`;
-  const cells: Cell[] = CELL_KINDS.map((kind) => createCell(kind, id()));
+  const cells: Cell[] = CELL_KINDS.map((kind) => createCell(kind, `k_${kind}`));
   const find = <K extends CellKind>(kind: K) => cells.find((cell) => cell.kind === kind) as CellOfKind<K>;
   find("coordinates").rows.push({ id: "r1", name: "theta", unit: "rad", description: "arm angle" }, { id: "r2", name: "x", unit: "m", description: "" });
   find("parameters").rows.push({ id: "r1", name: "m", unit: "kg", value: "2.5", description: "" });
@@ -66,7 +65,7 @@ function everyKindDocument(): DerivationDocument {
   find("simulation").settings.initialCoordinates = { theta: "0.1" };
   find("simulation").settings.points = [{ x: "xp", y: "xp" }];
   find("linearization").collapsed = true;
-  return { schemaVersion: 2, title: "Every kind", cells };
+  return { schemaVersion: DOCUMENT_SCHEMA_VERSION, title: "Every kind", cells };
 }
 
 /** Two replicas that exchange every update, as a provider does once connected. */
@@ -107,10 +106,10 @@ describe("round trip", () => {
 
   it("lays the document out as the contract says", () => {
     const ydoc = documentToYDoc(everyKindDocument());
-    expect(sharedMeta(ydoc).get("schemaVersion")).toBe(2);
+    expect(sharedMeta(ydoc).get("schemaVersion")).toBe(DOCUMENT_SCHEMA_VERSION);
     expect(titleText(ydoc)?.toString()).toBe("Every kind");
     const coordinates = sharedCells(ydoc).get(0);
-    expect(coordinates.get("id")).toBe("k1");
+    expect(coordinates.get("id")).toBe("k_coordinates");
     expect(coordinates.get("kind")).toBe("coordinates");
     expect(coordinates.get("collapsed")).toBe(false);
     const rows = coordinates.get("rows") as Y.Array<Y.Map<unknown>>;
@@ -121,10 +120,10 @@ describe("round trip", () => {
       .toArray()
       .find((cell) => cell.get("kind") === "simulation")!;
     expect(simulation.get("settings")).toMatchObject({ initialCoordinates: { theta: "0.1" } });
-    expect(fieldText(ydoc, "k5", "title")?.toString()).toBe("Trolley and load");
-    expect(fieldText(ydoc, "k8", ["entries", "x", "expr"])?.toString()).toBe("F - b*x'");
-    expect(fieldText(ydoc, "k1", ["rows", "r2", "name"])?.toString()).toBe("x");
-    expect(fieldText(ydoc, "k1", ["rows", "nope", "name"])).toBeNull();
+    expect(fieldText(ydoc, "k_kinetic", "title")?.toString()).toBe("Trolley and load");
+    expect(fieldText(ydoc, "k_forces", ["entries", "x", "expr"])?.toString()).toBe("F - b*x'");
+    expect(fieldText(ydoc, "k_coordinates", ["rows", "r2", "name"])?.toString()).toBe("x");
+    expect(fieldText(ydoc, "k_coordinates", ["rows", "nope", "name"])).toBeNull();
     expect(fieldText(ydoc, "missing", "expr")).toBeNull();
   });
 
@@ -138,7 +137,7 @@ describe("round trip", () => {
 
   it("names the path of a field that breaks the document's limits", () => {
     const ydoc = documentToYDoc(everyKindDocument());
-    fieldText(ydoc, "k1", ["rows", "r1", "name"])!.insert(0, "n".repeat(80));
+    fieldText(ydoc, "k_coordinates", ["rows", "r1", "name"])!.insert(0, "n".repeat(80));
     try {
       yDocToDocument(ydoc);
       expect.unreachable("an over-long name must not read");
@@ -152,12 +151,12 @@ describe("round trip", () => {
 describe("concurrent edits", () => {
   it("merge two people's typing in one expression", () => {
     const [a, b] = connectedPair(everyKindDocument());
-    fieldText(a, "k5", "expr")!.insert(0, "(");
-    fieldText(a, "k5", "expr")!.insert(fieldText(a, "k5", "expr")!.length, ")");
-    fieldText(b, "k5", "expr")!.insert(fieldText(b, "k5", "expr")!.length, " + 1/2*M*x'^2");
+    fieldText(a, "k_kinetic", "expr")!.insert(0, "(");
+    fieldText(a, "k_kinetic", "expr")!.insert(fieldText(a, "k_kinetic", "expr")!.length, ")");
+    fieldText(b, "k_kinetic", "expr")!.insert(fieldText(b, "k_kinetic", "expr")!.length, " + 1/2*M*x'^2");
     exchange(a, b);
-    const expr = fieldText(a, "k5", "expr")!.toString();
-    expect(expr).toBe(fieldText(b, "k5", "expr")!.toString());
+    const expr = fieldText(a, "k_kinetic", "expr")!.toString();
+    expect(expr).toBe(fieldText(b, "k_kinetic", "expr")!.toString());
     expect(expr).toContain("(1/2*m*x'^2");
     expect(expr).toContain(" + 1/2*M*x'^2");
     expect(yDocToDocument(a)).toEqual(yDocToDocument(b));
@@ -172,9 +171,9 @@ describe("concurrent edits", () => {
     if (note.kind === "note") note.markdown = note.markdown.replace("\\theta", "\\phi");
     replaceSharedDocument(a, target);
     // b: someone types at the start of the note at the same time
-    fieldText(b, "k9", "markdown")!.insert(0, "Draft: ");
+    fieldText(b, "k_note", "markdown")!.insert(0, "Draft: ");
     exchange(a, b);
-    expect(fieldText(a, "k9", "markdown")!.toString()).toBe("Draft: Ünïcødé and emoji 🏗️ and $$\\phi$$");
+    expect(fieldText(a, "k_note", "markdown")!.toString()).toBe("Draft: Ünïcødé and emoji 🏗️ and $$\\phi$$");
     expect(yDocToDocument(a)).toEqual(yDocToDocument(b));
   });
 
@@ -184,15 +183,15 @@ describe("concurrent edits", () => {
     const [a, b] = connectedPair(doc);
     insertSharedCell(a, createCell("dissipation", "da"), 3);
     insertSharedCell(b, createCell("dissipation", "db"), 5);
-    moveSharedCell(a, "k1", 4);
-    moveSharedCell(b, "k1", 6);
+    moveSharedCell(a, "k_coordinates", 4);
+    moveSharedCell(b, "k_coordinates", 6);
     exchange(a, b);
     const read = yDocToDocument(a);
     expect(read).toEqual(yDocToDocument(b));
     expect(read.cells.filter((cell) => cell.kind === "dissipation")).toHaveLength(1);
-    expect(read.cells.filter((cell) => cell.id === "k1")).toHaveLength(1);
+    expect(read.cells.filter((cell) => cell.id === "k_coordinates")).toHaveLength(1);
     // the next operation through the module clears the leftover duplicates
-    setSharedCollapsed(a, "k2", true);
+    setSharedCollapsed(a, "k_parameters", true);
     expect(sharedCells(a).length).toBe(read.cells.length);
   });
 });
@@ -205,14 +204,14 @@ describe("typed operations", () => {
     expect(doc.cells[1]).toEqual(note);
     doc = moveSharedCell(ydoc, "n2", 4);
     expect(doc.cells.map((cell) => cell.id).indexOf("n2")).toBe(4);
-    doc = deleteSharedCell(ydoc, "k1");
-    expect(doc.cells.some((cell) => cell.id === "k1")).toBe(false);
+    doc = deleteSharedCell(ydoc, "k_coordinates");
+    expect(doc.cells.some((cell) => cell.id === "k_coordinates")).toBe(false);
     expect(yDocToDocument(ydoc)).toEqual(doc);
   });
 
   it("moves a cell by deleting and inserting that cell only", () => {
     const ydoc = documentToYDoc(everyKindDocument());
-    const kinetic = fieldText(ydoc, "k5", "expr");
+    const kinetic = fieldText(ydoc, "k_kinetic", "expr");
     let deleted = 0;
     let inserted = 0;
     sharedCells(ydoc).observe((event) => {
@@ -221,11 +220,11 @@ describe("typed operations", () => {
         inserted += Array.isArray(change.insert) ? change.insert.length : 0;
       }
     });
-    moveSharedCell(ydoc, "k3", 10);
+    moveSharedCell(ydoc, "k_inputs", 10);
     expect([deleted, inserted]).toEqual([1, 1]);
     // untouched cells keep their Y.Text, so an editor bound to one keeps working
-    expect(fieldText(ydoc, "k5", "expr")).toBe(kinetic);
-    expect(yDocToDocument(ydoc).cells.map((cell) => cell.id)[10]).toBe("k3");
+    expect(fieldText(ydoc, "k_kinetic", "expr")).toBe(kinetic);
+    expect(yDocToDocument(ydoc).cells.map((cell) => cell.id)[10]).toBe("k_inputs");
   });
 
   it("refuses what the pure operations refuse, changing nothing", () => {
@@ -233,40 +232,40 @@ describe("typed operations", () => {
     const before = Y.encodeStateVector(ydoc);
     expect(() => insertSharedCell(ydoc, createCell("kinetic", "second"))).toThrow(DocumentError);
     expect(() => deleteSharedCell(ydoc, "nope")).toThrow(DocumentError);
-    expect(() => setSharedSettings(ydoc, "k10", { form: "sideways" })).toThrow(DocumentError);
+    expect(() => setSharedSettings(ydoc, "k_equations", { form: "sideways" })).toThrow(DocumentError);
     expect(Y.encodeStateVector(ydoc)).toEqual(before);
   });
 
   it("insert, update, move and delete rows; a coordinate rename carries its force", () => {
     const ydoc = documentToYDoc(everyKindDocument());
-    insertSharedRow(ydoc, "k1", { id: "r3", name: "phi", unit: "rad", description: "" }, 0);
-    moveSharedRow(ydoc, "k1", "r3", 2);
-    let doc = updateSharedRow(ydoc, "k1", "r2", { name: "s" });
+    insertSharedRow(ydoc, "k_coordinates", { id: "r3", name: "phi", unit: "rad", description: "" }, 0);
+    moveSharedRow(ydoc, "k_coordinates", "r3", 2);
+    let doc = updateSharedRow(ydoc, "k_coordinates", "r2", { name: "s" });
     const coordinates = doc.cells[0] as CoordinatesCell;
     expect(coordinates.rows.map((row) => row.id)).toEqual(["r1", "r2", "r3"]);
     expect(coordinates.rows[1]!.name).toBe("s");
     expect((doc.cells.find((cell) => cell.kind === "forces") as ForcesCell).entries).toEqual([{ coordinate: "s", expr: "F - b*x'" }]);
-    expect(fieldText(ydoc, "k8", ["entries", "s", "expr"])?.toString()).toBe("F - b*x'");
-    doc = deleteSharedRow(ydoc, "k1", "r1");
+    expect(fieldText(ydoc, "k_forces", ["entries", "s", "expr"])?.toString()).toBe("F - b*x'");
+    doc = deleteSharedRow(ydoc, "k_coordinates", "r1");
     expect((doc.cells[0] as CoordinatesCell).rows.map((row) => row.id)).toEqual(["r2", "r3"]);
     expect(yDocToDocument(ydoc)).toEqual(doc);
   });
 
   it("set collapsed, settings, titles and forces", () => {
     const ydoc = documentToYDoc(everyKindDocument());
-    setSharedCollapsed(ydoc, "k2", true);
-    setSharedSettings(ydoc, "k10", { form: "accelerations" });
-    setSharedCellTitle(ydoc, "k9", "Assumptions");
+    setSharedCollapsed(ydoc, "k_parameters", true);
+    setSharedSettings(ydoc, "k_equations", { form: "accelerations" });
+    setSharedCellTitle(ydoc, "k_note", "Assumptions");
     setSharedTitle(ydoc, "Renamed");
-    setSharedForce(ydoc, "k8", "theta", "tau");
-    let doc = removeSharedForce(ydoc, "k8", "x");
+    setSharedForce(ydoc, "k_forces", "theta", "tau");
+    let doc = removeSharedForce(ydoc, "k_forces", "x");
     expect(doc.title).toBe("Renamed");
     expect(doc.cells[1]!.collapsed).toBe(true);
-    expect(doc.cells.find((cell) => cell.id === "k10")).toMatchObject({ settings: { form: "accelerations" } });
-    expect(doc.cells.find((cell) => cell.id === "k9")!.title).toBe("Assumptions");
-    expect((doc.cells.find((cell) => cell.id === "k8") as ForcesCell).entries).toEqual([{ coordinate: "theta", expr: "tau" }]);
-    doc = setSharedCellTitle(ydoc, "k9", "");
-    expect("title" in doc.cells.find((cell) => cell.id === "k9")!).toBe(false);
+    expect(doc.cells.find((cell) => cell.id === "k_equations")).toMatchObject({ settings: { form: "accelerations" } });
+    expect(doc.cells.find((cell) => cell.id === "k_note")!.title).toBe("Assumptions");
+    expect((doc.cells.find((cell) => cell.id === "k_forces") as ForcesCell).entries).toEqual([{ coordinate: "theta", expr: "tau" }]);
+    doc = setSharedCellTitle(ydoc, "k_note", "");
+    expect("title" in doc.cells.find((cell) => cell.id === "k_note")!).toBe(false);
     expect(yDocToDocument(ydoc)).toEqual(doc);
   });
 
@@ -275,8 +274,8 @@ describe("typed operations", () => {
     const origins: unknown[] = [];
     ydoc.on("afterTransaction", (transaction: Y.Transaction) => origins.push(transaction.origin));
     const origin = { who: "editor" };
-    applySharedOperation(ydoc, { type: "duplicateCell", cellId: "k9", newCellId: "k9b" }, origin);
-    setSharedCollapsed(ydoc, "k9b", true, origin);
+    applySharedOperation(ydoc, { type: "duplicateCell", cellId: "k_note", newCellId: "k_note_b" }, origin);
+    setSharedCollapsed(ydoc, "k_note_b", true, origin);
     expect(origins).toEqual([origin, origin]);
   });
 
@@ -284,7 +283,7 @@ describe("typed operations", () => {
     const ydoc = documentToYDoc(everyKindDocument());
     const undo = new Y.UndoManager(sharedCells(ydoc), { trackedOrigins: new Set(["me"]) });
     const before = yDocToDocument(ydoc);
-    deleteSharedCell(ydoc, "k9", "me");
+    deleteSharedCell(ydoc, "k_note", "me");
     undo.undo();
     expect(yDocToDocument(ydoc)).toEqual(before);
     undo.destroy();

@@ -1,5 +1,6 @@
 import type { Metadata } from "next";
 import Link from "next/link";
+import { MentionEmailSetting } from "@/components/comments/mention-email-setting";
 import { ApiTokensPanel } from "@/components/teams/api-tokens-panel";
 import { MembersPanel } from "@/components/teams/members-panel";
 import { loadTeamFor, orNotFound } from "@/lib/auth/access";
@@ -27,6 +28,7 @@ export default async function TeamSettingsPage({ params }: { params: Promise<{ t
         mayInvite={can(membership.role, "team:invite")}
       />
       {can(membership.role, "team:manage-tokens") ? <ApiTokensPanel teamId={team.id} /> : null}
+      <MentionEmailSetting />
     </div>
   );
 }

@@ -7,6 +7,7 @@ import { engineCodeLanguage } from "@/lib/evaluation/evaluate";
 import { codeOfDocument } from "@/lib/evaluation/service";
 import { parseOrThrow } from "@/lib/validation/parse";
 import { codeQuerySchema, codeRequestSchema } from "./schema";
+import { enforceRateLimits, rateLimits } from "@/lib/auth/rate-limit";
 
 type Params = { id: string };
 
@@ -27,7 +28,8 @@ export const GET = derivationRoute<Params>("derivation:read", async ({ request, 
  * language the document's evaluation does not hold. The document is the stored
  * one unless one is posted (unsaved edits); nothing is stored or derived again.
  */
-export const POST = derivationRoute<Params>("derivation:read", async ({ request, derivation }) => {
+export const POST = derivationRoute<Params>("derivation:read", async ({ request, user, derivation }) => {
+  await enforceRateLimits([[rateLimits.evaluateByUser, user.id]], "rate_limited:engine", "Too many evaluations in a short time. Wait a moment and try again.");
   const input = parseOrThrow(codeRequestSchema, await readOptionalJson(request));
   const document = documentForRequest(input.document, derivation);
   const code = await codeOfDocument({ document, language: engineCodeLanguage(input.language), fallbackTitle: derivation.title });

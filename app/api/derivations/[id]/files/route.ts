@@ -6,6 +6,7 @@ import { largestUploadBytes, storeUpload, uploadTooLarge } from "@/lib/files/ser
 import { fileView } from "@/lib/files/views";
 import { parseOrThrow } from "@/lib/validation/parse";
 import { MULTIPART_OVERHEAD_BYTES, uploadFieldsSchema } from "./schema";
+import { enforceRateLimits, rateLimits } from "@/lib/auth/rate-limit";
 
 type Params = { id: string };
 
@@ -20,6 +21,7 @@ export const GET = derivationRoute<Params>("derivation:read", async ({ derivatio
  * anything is stored (lib/files/service.ts).
  */
 export const POST = derivationRoute<Params>("derivation:attach", async ({ request, user, derivation }) => {
+  await enforceRateLimits([[rateLimits.uploadsByUser, user.id]], "rate_limited:file", "Too many uploads in a short time. Wait a few minutes and try again.");
   const largest = largestUploadBytes();
   // Refused before reading when the declared length is missing or too large, and cut off while reading past the limit.
   const body = await readBodyWithin(request, { limit: largest + MULTIPART_OVERHEAD_BYTES, tooLarge: () => uploadTooLarge(largest) });

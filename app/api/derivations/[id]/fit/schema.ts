@@ -40,3 +40,6 @@ export const fitSchema = z.object({
   /** Write the fitted values into the Parameters cell as well (needs the right to edit). */
   apply: z.boolean().default(false),
 });
+
+/** The request body as a client sends it (defaults not yet applied). */
+export type FitRequestBody = z.input<typeof fitSchema>;

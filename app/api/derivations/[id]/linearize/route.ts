@@ -4,6 +4,7 @@ import type { LinearizationResponse } from "@/lib/evaluation/views";
 import { readOptionalJson } from "@/lib/api/optional-json";
 import { parseOrThrow } from "@/lib/validation/parse";
 import { linearizeSchema } from "./schema";
+import { enforceRateLimits, rateLimits } from "@/lib/auth/rate-limit";
 import { documentForRequest } from "@/lib/evaluation/document-content";
 
 type Params = { id: string };
@@ -13,7 +14,8 @@ type Params = { id: string };
  * the same cached evaluation as /evaluate with these settings, answered with
  * its linearization part.
  */
-export const POST = derivationRoute<Params>("derivation:read", async ({ request, derivation }) => {
+export const POST = derivationRoute<Params>("derivation:read", async ({ request, user, derivation }) => {
+  await enforceRateLimits([[rateLimits.evaluateByUser, user.id]], "rate_limited:engine", "Too many evaluations in a short time. Wait a moment and try again.");
   const input = parseOrThrow(linearizeSchema, await readOptionalJson(request));
   const document = documentForRequest(input.document, derivation);
   const evaluation = await evaluateDocumentCached({ document, linearization: { equilibriumIndex: input.equilibriumIndex, inputValues: input.inputValues } });

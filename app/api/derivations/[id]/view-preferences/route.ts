@@ -22,7 +22,7 @@ export const PUT = derivationRoute<Params>("derivation:read", async ({ request, 
   const row = await upsertViewPreferencesByUserIdAndDerivationId({
     userId: user.id,
     derivationId: id,
-    preferences: preferences as unknown as Record<string, unknown>,
+    preferences,
   });
   return Response.json({ preferences, updatedAt: row.updatedAt.toISOString() });
 });

@@ -8,6 +8,7 @@ import { parseOrThrow } from "@/lib/validation/parse";
 import { inviteView } from "@/lib/teams/views";
 import { inviteMemberSchema } from "@/lib/validation/teams";
 import { deliverInvite, inviteExpiry } from "./invite-mail";
+import { enforceRateLimits, rateLimits } from "@/lib/auth/rate-limit";
 
 type Params = { teamId: string };
 
@@ -21,6 +22,14 @@ export const GET = teamRoute<Params>("team:invite", async ({ params: { teamId } 
  * chosen role. Inviting an address again replaces its open invitation.
  */
 export const POST = teamRoute<Params>("team:invite", async ({ request, params: { teamId }, user, team }) => {
+  await enforceRateLimits(
+    [
+      [rateLimits.invitesByUser, user.id],
+      [rateLimits.invitesByTeam, teamId],
+    ],
+    "rate_limited:invite",
+    "Too many invitations in a short time. Wait a while and try again.",
+  );
   const input = parseOrThrow(inviteMemberSchema, await readJson(request));
   const members = await getMembersByTeamId({ teamId });
   if (members.some((member) => member.email === input.email.toLowerCase())) {

@@ -1,5 +1,6 @@
 import { createDerivation } from "@/db/queries/derivations";
 import { formDataOf, readBodyWithin } from "@/lib/api/body";
+import { assertJsonContentType } from "@/lib/api/request-checks";
 import { beginCreateOnce, createdResponse, requestFingerprint } from "@/lib/api/idempotency";
 import { teamRoute } from "@/lib/api/resource-route";
 import { modelIssuesToAppError, validDocumentOrThrow } from "@/lib/evaluation/document-content";
@@ -9,6 +10,7 @@ import { collectModelIssues, readModelFile } from "@/lib/mechanics";
 import { AppError } from "@/lib/errors";
 import { parseOrThrow } from "@/lib/validation/parse";
 import { importOptionsSchema, MAX_MODEL_FILE_LENGTH } from "./schema";
+import { enforceRateLimits, rateLimits } from "@/lib/auth/rate-limit";
 
 type Params = { teamId: string };
 
@@ -39,6 +41,7 @@ async function readUpload(request: Request): Promise<{ text: string; title?: str
     const title = form.get("title");
     return { text: await file.text(), title: typeof title === "string" && title.trim() !== "" ? title : undefined };
   }
+  assertJsonContentType(request);
   const text = new TextDecoder().decode(bytes);
   if (text.length > MAX_MODEL_FILE_LENGTH) throw fileProblem(`the body is ${text.length} characters; the limit is ${MAX_MODEL_FILE_LENGTH}`);
   let body: unknown;
@@ -60,6 +63,7 @@ async function readUpload(request: Request): Promise<{ text: string; title?: str
  * the derivation is created in one transaction.
  */
 export const POST = teamRoute<Params>("derivation:create", async ({ request, params: { teamId }, user }) => {
+  await enforceRateLimits([[rateLimits.uploadsByUser, user.id]], "rate_limited:file", "Too many uploads in a short time. Wait a few minutes and try again.");
   const upload = await readUpload(request);
   // A repeated request with the same Idempotency-Key answers with the first import, before any checking.
   const fingerprint = requestFingerprint(teamId, "text" in upload ? upload.text : JSON.stringify(upload.model ?? null), upload.title ?? "");

@@ -3,7 +3,7 @@ import { downloadResponse, fileBaseName } from "@/lib/api/download";
 import { runRoute } from "@/lib/api/resource-route";
 import { AppError } from "@/lib/errors";
 import { trajectoryOfRun } from "@/lib/runs/service";
-import { trajectoryCsv } from "@/lib/simulate/trajectory-csv";
+import { trajectoryCsv } from "@/lib/simulate";
 
 type Params = { id: string; runId: string };
 

@@ -7,6 +7,7 @@ import { archiveLimits, checkNotebookArchive, importNotebookArchive } from "@/li
 import { AppError } from "@/lib/errors";
 import { parseOrThrow } from "@/lib/validation/parse";
 import { importOptionsSchema } from "../schema";
+import { enforceRateLimits, rateLimits } from "@/lib/auth/rate-limit";
 
 type Params = { teamId: string };
 
@@ -52,6 +53,7 @@ export const POST = apiRoute<Params>(async (request, { params }) => {
   const user = await requireUser();
   const teamId = (await params).teamId;
   await loadTeamFor(user, teamId, "derivation:create");
+  await enforceRateLimits([[rateLimits.uploadsByUser, user.id]], "rate_limited:file", "Too many uploads in a short time. Wait a few minutes and try again.");
   const upload = await readArchiveUpload(request);
   const options = parseOrThrow(importOptionsSchema, { title: upload.title });
   const fingerprint = requestFingerprint(teamId, upload.bytes, options.title ?? "");

@@ -1,0 +1,80 @@
+import "server-only";
+import { and, eq, inArray, sql } from "drizzle-orm";
+import { db, type Executor } from "../client";
+import { jobs, type Job, type JobError, type JobState, type NewJob } from "../schema";
+
+export async function createJob({ job }: { job: NewJob & { id: string } }, executor: Executor = db): Promise<Job> {
+  const [row] = await executor.insert(jobs).values(job).returning();
+  return row!;
+}
+
+export async function getJobById({ id }: { id: string }, executor: Executor = db): Promise<Job | null> {
+  const [row] = await executor.select().from(jobs).where(eq(jobs.id, id)).limit(1);
+  return row ?? null;
+}
+
+export async function getJobByIdAndDerivationId({ id, derivationId }: { id: string; derivationId: string }): Promise<Job | null> {
+  const [row] = await db
+    .select()
+    .from(jobs)
+    .where(and(eq(jobs.id, id), eq(jobs.derivationId, derivationId)))
+    .limit(1);
+  return row ?? null;
+}
+
+/**
+ * Marks a queued job running; null when it is no longer queued (cancelled
+ * meanwhile, or taken by another worker after a retry), so it is not run twice.
+ * A job left `running` by a worker that died is taken again.
+ */
+export async function startJobById({ id }: { id: string }): Promise<Job | null> {
+  const now = new Date();
+  const [row] = await db
+    .update(jobs)
+    .set({ state: "running", startedAt: now, progress: 0, updatedAt: now })
+    .where(and(eq(jobs.id, id), inArray(jobs.state, ["queued", "running"])))
+    .returning();
+  return row ?? null;
+}
+
+/** Records progress of a running job (ignored once it has ended). */
+export async function updateJobProgressById({ id, progress }: { id: string; progress: number }): Promise<void> {
+  await db
+    .update(jobs)
+    .set({ progress, updatedAt: new Date() })
+    .where(and(eq(jobs.id, id), eq(jobs.state, "running")));
+}
+
+/**
+ * Ends a job. Only a queued or running job ends, so a cancelled job stays
+ * cancelled whatever its worker finishes with; false when it had already ended.
+ */
+export async function finishJobById({
+  id,
+  state,
+  result = null,
+  error = null,
+}: {
+  id: string;
+  state: Extract<JobState, "completed" | "failed" | "cancelled">;
+  result?: Record<string, unknown> | null;
+  error?: JobError | null;
+}): Promise<boolean> {
+  const now = new Date();
+  const rows = await db
+    .update(jobs)
+    .set({ state, result, error, finishedAt: now, updatedAt: now, ...(state === "completed" ? { progress: 1 } : {}) })
+    .where(and(eq(jobs.id, id), inArray(jobs.state, ["queued", "running"])))
+    .returning({ id: jobs.id });
+  return rows.length > 0;
+}
+
+/** Number of jobs of a derivation in each state (tests, the page's queue note). */
+export async function countJobsByDerivationId({ derivationId }: { derivationId: string }): Promise<Record<string, number>> {
+  const rows = await db
+    .select({ state: jobs.state, count: sql<number>`count(*)::int` })
+    .from(jobs)
+    .where(eq(jobs.derivationId, derivationId))
+    .groupBy(jobs.state);
+  return Object.fromEntries(rows.map((row) => [row.state, row.count]));
+}

@@ -1,0 +1,67 @@
+import "server-only";
+import { getDerivationById } from "@/db/queries/derivations";
+import { getFileByIdAndDerivationId } from "@/db/queries/files";
+import type { Derivation, Job, JobKind } from "@/db/schema";
+import { AppError } from "@/lib/errors";
+import { applyFittedValues } from "@/lib/runs/apply-fit";
+import { fitToMeasuredFile, runAndStoreSimulation, type FitRequest, type RunSettings } from "@/lib/runs/service";
+import type { JobHandler } from "./queue";
+
+/**
+ * What each kind of job carries in `jobs.input`: the request as validated by
+ * its route and the derivation's content when it was queued (the job runs the
+ * model its author saw, whatever is saved meanwhile).
+ */
+export interface SimulationJobInput {
+  settings: RunSettings;
+  content: unknown;
+}
+
+export interface FitJobInput {
+  request: Omit<FitRequest, "file"> & { fileId: string };
+  content: unknown;
+  /** Write the fitted values to the Parameters cell (the route checked the permission). */
+  apply: boolean;
+  /** The derivation's `updatedAt` when the fit was asked for: applying refuses a row that moved on. */
+  baseUpdatedAt: string;
+}
+
+/** The derivation a job is about, with the content it was queued with. */
+async function derivationOf(job: Job, content: unknown): Promise<Derivation> {
+  const derivation = await getDerivationById({ id: job.derivationId });
+  if (!derivation) throw new AppError("not_found:derivation", "The derivation was deleted before the job ran.");
+  return { ...derivation, content: content as Derivation["content"] };
+}
+
+export const simulationJob: JobHandler = async (job, { signal, progress }) => {
+  const input = job.input as unknown as SimulationJobInput;
+  if (!job.createdById) throw new AppError("not_found:job", "The person who queued this job no longer has an account.");
+  const run = await runAndStoreSimulation({
+    derivation: await derivationOf(job, input.content),
+    userId: job.createdById,
+    settings: input.settings,
+    watch: { signal, onProgress: progress },
+  });
+  return { runId: run.id };
+};
+
+export const fitJob: JobHandler = async (job, { signal, progress }) => {
+  const input = job.input as unknown as FitJobInput;
+  const derivation = await derivationOf(job, input.content);
+  const { fileId, ...request } = input.request;
+  const file = await getFileByIdAndDerivationId({ id: fileId, derivationId: derivation.id });
+  if (!file) throw new AppError("not_found:file", "File not found.", { fieldErrors: { fileId: ["No such file on this derivation."] } });
+  const result = await fitToMeasuredFile({ derivation, request: { ...request, file }, watch: { signal, onProgress: progress } });
+  let applied = null;
+  if (input.apply) {
+    if (!job.createdById) throw new AppError("not_found:job", "The person who queued this job no longer has an account.");
+    // The stored row (not the queued content) is what the values are written into.
+    const current = await getDerivationById({ id: derivation.id });
+    if (!current) throw new AppError("not_found:derivation", "The derivation was deleted before the fit ended.");
+    const values = Object.fromEntries(result.fit.parameters.map((p) => [p.name, p.value]));
+    applied = await applyFittedValues({ derivation: current, actorId: job.createdById, values, fileId: file.id, baseUpdatedAt: new Date(input.baseUpdatedAt) });
+  }
+  return { ...result, applied } as unknown as Record<string, unknown>;
+};
+
+export const JOB_HANDLERS: Record<JobKind, JobHandler> = { simulation: simulationJob, fit: fitJob };

@@ -1,0 +1,191 @@
+import "server-only";
+import { randomUUID } from "node:crypto";
+import type PgBoss from "pg-boss";
+import { createJob, finishJobById, getJobById, startJobById, updateJobProgressById } from "@/db/queries/jobs";
+import type { Job, JobError, JobKind } from "@/db/schema";
+import { AppError, type ErrorCode } from "@/lib/errors";
+
+/**
+ * The job queue: heavy work (server simulations, parameter fits) is queued in
+ * PostgreSQL through pg-boss and run by worker processes (scripts/worker.ts),
+ * any number of them on any number of machines. The web process only enqueues,
+ * reads and cancels. The `jobs` table (db/queries/jobs.ts) is the job as people
+ * see it (state, progress, answer); pg-boss carries just its id, delivers it to
+ * one worker, and delivers it again when that worker dies (after the queue's
+ * expiry), so a job outlives a restart of either side.
+ *
+ * The pg-boss instance is injected: the web process and the worker each make
+ * one (lib/jobs/boss.ts), tests make their own.
+ */
+
+/** pg-boss queue of each kind of job. */
+export const QUEUE_NAMES: Record<JobKind, string> = { simulation: "holonomy-simulation", fit: "holonomy-fit" };
+
+/** What a handler gets besides the job row. */
+export interface JobContext {
+  /** Aborted when someone cancels the job; pass it on to the worker pool. */
+  signal: AbortSignal;
+  /** Fraction done, 0 … 1 (written to the row at most every PROGRESS_INTERVAL_MS). */
+  progress(fraction: number): void;
+}
+
+/** Runs one job; returns its answer (stored in `jobs.result`), or throws an AppError (stored in `jobs.error`). */
+export type JobHandler = (job: Job, context: JobContext) => Promise<Record<string, unknown>>;
+
+export interface JobQueueOptions {
+  /** Seconds a worker may hold a job before pg-boss gives it to another (the worker is presumed dead). */
+  expireInSeconds?: number;
+  /** Deliveries after the first, for a worker that died mid-job. */
+  retryLimit?: number;
+  /** How often a waiting worker asks for work, and a running job checks for cancellation. */
+  pollingIntervalSeconds?: number;
+}
+
+const PROGRESS_INTERVAL_MS = 500;
+const CANCEL_CHECK_MS = 500;
+const TERMINAL = new Set(["completed", "failed", "cancelled"]);
+
+export class JobQueue {
+  private readonly boss: PgBoss;
+  private readonly options: Required<JobQueueOptions>;
+  private started: Promise<void> | null = null;
+
+  constructor(boss: PgBoss, options: JobQueueOptions = {}) {
+    this.boss = boss;
+    this.options = { expireInSeconds: 15 * 60, retryLimit: 2, pollingIntervalSeconds: 1, ...options };
+  }
+
+  /** Starts pg-boss (creating or migrating its schema) and the queues; idempotent. */
+  start(): Promise<void> {
+    this.started ??= (async () => {
+      await this.boss.start();
+      for (const name of Object.values(QUEUE_NAMES)) {
+        if (await this.boss.getQueue(name)) continue;
+        try {
+          await this.boss.createQueue(name, { name, expireInSeconds: this.options.expireInSeconds, retryLimit: this.options.retryLimit, retryDelay: 1 });
+        } catch (error) {
+          // Another process created it at the same moment.
+          if (!(await this.boss.getQueue(name))) throw error;
+        }
+      }
+    })();
+    return this.started;
+  }
+
+  async stop(): Promise<void> {
+    if (!this.started) return;
+    await this.started.catch(() => undefined);
+    this.started = null;
+    await this.boss.stop({ graceful: true, wait: true, timeout: 10_000 });
+  }
+
+  /** Records the job and queues it; the row is `queued` until a worker takes it. */
+  async enqueue({ kind, derivationId, userId, input }: { kind: JobKind; derivationId: string; userId: string; input: Record<string, unknown> }): Promise<Job> {
+    await this.start();
+    const id = randomUUID();
+    const job = await createJob({ job: { id, derivationId, kind, input, createdById: userId } });
+    try {
+      await this.boss.send(QUEUE_NAMES[kind], { jobId: id }, { id });
+    } catch (error) {
+      await finishJobById({ id, state: "failed", error: { code: "unavailable:job", message: "The job could not be queued." } });
+      throw new AppError("unavailable:job", "The job queue is not reachable right now. Try again in a moment.", { cause: error });
+    }
+    return job;
+  }
+
+  /**
+   * Cancels a queued or running job: the row says so at once (a worker never
+   * starts it, or aborts it at its next check) and pg-boss drops it.
+   * False when the job had already ended.
+   */
+  async cancel(job: Pick<Job, "id" | "kind">): Promise<boolean> {
+    const cancelled = await finishJobById({ id: job.id, state: "cancelled", error: { code: "conflict:job", message: "The job was cancelled." } });
+    if (cancelled) {
+      await this.start();
+      await this.boss.cancel(QUEUE_NAMES[job.kind], job.id).catch((error: unknown) => {
+        // The row decides; a worker that still gets the job skips it.
+        console.error("[holonomy] pg-boss could not cancel a job:", error instanceof Error ? error.message : error);
+      });
+    }
+    return cancelled;
+  }
+
+  /** Starts taking jobs of each kind given and running them with its handler (worker processes). */
+  async work(handlers: Partial<Record<JobKind, JobHandler>>): Promise<void> {
+    await this.start();
+    for (const [kind, handler] of Object.entries(handlers) as [JobKind, JobHandler][]) {
+      await this.boss.work<{ jobId: string }>(
+        QUEUE_NAMES[kind],
+        { batchSize: 1, pollingIntervalSeconds: this.options.pollingIntervalSeconds },
+        async ([delivery]) => {
+          if (delivery) await runJob(delivery.data.jobId, handler);
+        },
+      );
+    }
+  }
+}
+
+/** Runs one delivered job with its handler, keeping the row up to date. Never throws for the job's own failure. */
+export async function runJob(id: string, handler: JobHandler): Promise<void> {
+  const job = await startJobById({ id });
+  // Cancelled before it started, or already finished by an earlier delivery.
+  if (!job) return;
+  const controller = new AbortController();
+  const watcher = setInterval(() => {
+    void getJobById({ id })
+      .then((row) => {
+        if (row?.state === "cancelled") controller.abort();
+      })
+      .catch(() => undefined);
+  }, CANCEL_CHECK_MS);
+  let lastWrite = 0;
+  const progress = (fraction: number) => {
+    const now = Date.now();
+    if (now - lastWrite < PROGRESS_INTERVAL_MS) return;
+    lastWrite = now;
+    void updateJobProgressById({ id, progress: Math.min(1, Math.max(0, fraction)) }).catch(() => undefined);
+  };
+  try {
+    const result = await handler(job, { signal: controller.signal, progress });
+    await finishJobById({ id, state: "completed", result });
+  } catch (error) {
+    // A cancelled job's row already says so; finishJobById leaves it as it is.
+    await finishJobById({ id, state: "failed", error: jobErrorOf(error) });
+  } finally {
+    clearInterval(watcher);
+  }
+}
+
+function jobErrorOf(error: unknown): JobError {
+  if (error instanceof AppError) {
+    return {
+      code: error.code,
+      message: error.message,
+      ...(error.fieldErrors ? { fieldErrors: error.fieldErrors as Record<string, string[]> } : {}),
+      ...(error.details ? { details: error.details as Record<string, unknown> } : {}),
+    };
+  }
+  console.error("[holonomy] a job failed:", error);
+  return { code: "internal:job", message: "The job failed on the server." };
+}
+
+/** The stored error of a failed or cancelled job as the AppError the API answers. */
+export function appErrorOfJob(job: Pick<Job, "state" | "error">): AppError {
+  if (job.state === "cancelled") return new AppError("conflict:job", "The job was cancelled.");
+  const error = job.error ?? { code: "internal:job", message: "The job failed on the server." };
+  return new AppError(error.code as ErrorCode, error.message, { fieldErrors: error.fieldErrors, details: error.details });
+}
+
+/**
+ * Waits for a job to end by reading its row (the web process does no work of
+ * its own meanwhile); the job as it stands when the time is up.
+ */
+export async function waitForJob(id: string, { timeoutMs, intervalMs = 200 }: { timeoutMs: number; intervalMs?: number }): Promise<Job> {
+  const deadline = Date.now() + timeoutMs;
+  for (;;) {
+    const job = await getJobById({ id });
+    if (!job) throw new AppError("not_found:job", "The job is gone.");
+    if (TERMINAL.has(job.state) || Date.now() >= deadline) return job;
+    await new Promise((resolve) => setTimeout(resolve, intervalMs));
+  }
+}

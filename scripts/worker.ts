@@ -1,0 +1,34 @@
+// The queue worker: takes server simulations and parameter fits from the job queue
+// (pg-boss in PostgreSQL) and runs them in its worker-thread pools. Start any number,
+// on any machine that reaches the database and the object store:
+//   npx tsx --conditions=react-server scripts/worker.ts
+// Stops on SIGTERM/SIGINT after the job in hand (pg-boss's graceful stop); a job a
+// killed worker held is delivered again after the queue's expiry.
+import { closeDatabase } from "@/db/client";
+import { createBoss } from "@/lib/jobs/boss";
+import { JOB_HANDLERS } from "@/lib/jobs/handlers";
+import { JobQueue } from "@/lib/jobs/queue";
+import { closeSimulationPool } from "@/lib/workers/simulation-pool";
+
+async function main(): Promise<void> {
+  const queue = new JobQueue(createBoss({ maintenance: true }));
+  await queue.work(JOB_HANDLERS);
+  console.log(`[holonomy] queue worker ${process.pid} ready`);
+  let stopping = false;
+  const stop = async (signal: string) => {
+    if (stopping) return;
+    stopping = true;
+    console.log(`[holonomy] queue worker stopping (${signal})`);
+    await queue.stop().catch((error: unknown) => console.error("[holonomy] queue stop:", error));
+    await closeSimulationPool();
+    await closeDatabase();
+    process.exit(0);
+  };
+  process.on("SIGTERM", () => void stop("SIGTERM"));
+  process.on("SIGINT", () => void stop("SIGINT"));
+}
+
+main().catch((error: unknown) => {
+  console.error("[holonomy] queue worker failed to start:", error instanceof Error ? error.message : error);
+  process.exit(1);
+});

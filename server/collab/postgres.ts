@@ -1,0 +1,22 @@
+import "server-only";
+/** The collaboration server wired to PostgreSQL: what server/collab.ts runs and the integration tests start. */
+import { env } from "@/lib/env";
+import { createTokenAuthenticator } from "./auth";
+import { Semaphore, limitAuthenticator, limitJsonCopy, limitPersistence } from "./concurrency";
+import { createPostgresNotifications } from "./listener";
+import { postgresJsonCopy, postgresPersistence } from "./persistence";
+import { createCollabServer, type CollabServer } from "./server";
+import type { CollabLimits, Logger } from "./types";
+
+export function createPostgresCollabServer({ limits, logger }: { limits: CollabLimits; logger: Logger }): CollabServer {
+  // One slot stays free in the pool for anything outside the limit.
+  const slots = new Semaphore(Math.max(1, env.DATABASE_POOL_MAX - 1));
+  return createCollabServer({
+    auth: limitAuthenticator(createTokenAuthenticator({ secret: env.NEXTAUTH_SECRET }), slots),
+    persistence: limitPersistence(postgresPersistence, slots),
+    jsonCopy: limitJsonCopy(postgresJsonCopy, slots),
+    notifications: createPostgresNotifications({ connectionString: env.DATABASE_URL, logger }),
+    limits,
+    logger,
+  });
+}
