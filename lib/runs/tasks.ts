@@ -29,6 +29,9 @@ import {
 } from "../simulate";
 import type { EngineTaskContext } from "../mechanics/worker";
 
+/** The fit's iteration budget when the request names none (the fitter's own default), for progress. */
+const DEFAULT_FIT_ITERATIONS = 50;
+
 export type TaskFailure = { ok: false; error: WorkerErrorPayload };
 
 export interface SimulateTaskInput {

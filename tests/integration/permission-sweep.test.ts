@@ -16,6 +16,7 @@ import { createApiToken } from "@/db/queries/api-tokens";
 import { createDerivation, trashDerivationById } from "@/db/queries/derivations";
 import { createFile } from "@/db/queries/files";
 import { createInvite } from "@/db/queries/invites";
+import { createJob } from "@/db/queries/jobs";
 import { createCheckpoint } from "@/db/queries/revisions";
 import { createSimulationRun } from "@/db/queries/runs";
 import { createTeamWithLead, upsertMembership } from "@/db/queries/teams";
@@ -23,6 +24,7 @@ import { createToken } from "@/lib/auth/tokens";
 import type { SessionUser } from "@/lib/auth/session";
 import { blankDocument } from "@/lib/notebook/document";
 import { deleteObject, putObject } from "@/lib/storage";
+import { closeJobQueue } from "@/lib/jobs/boss";
 import { closeEnginePool } from "@/lib/workers/engine-pool";
 import { signInAs, signOut } from "./support/session";
 import { makeTeam, makeUser, resetDatabase, uniqueEmail } from "./support/fixtures";
@@ -132,6 +134,9 @@ const routeTable: Record<string, RouteRow> = {
   "GET /api/derivations/[id]/runs/[runId]/csv": { expect: anyMember },
   "POST /api/derivations/[id]/fit": { expect: roles(ok, ok, ok, 403) },
   "POST /api/derivations/[id]/fit/apply": { expect: roles(ok, ok, 403, 403) },
+  "GET /api/derivations/[id]/jobs/[jobId]": { expect: anyMember },
+  "POST /api/derivations/[id]/jobs/[jobId]/cancel": { expect: roles(ok, ok, ok, 403), note: "whoever may simulate may cancel a queued run or fit" },
+  "POST /api/derivations/[id]/collab-token": { expect: anyMember, note: "readers get a read-only token" },
   "GET /api/derivations/[id]/revisions": { expect: anyMember },
   "POST /api/derivations/[id]/revisions": { expect: roles(ok, ok, 403, 403) },
   "GET /api/derivations/[id]/revisions/[revisionId]": { expect: anyMember },
@@ -262,6 +267,20 @@ async function buildWorld(): Promise<World> {
       createdById: members.analyst.id,
     },
   });
+  const jobId = randomUUID();
+  await createJob({
+    job: {
+      id: jobId,
+      derivationId: derivation.id,
+      kind: "simulation",
+      state: "completed",
+      progress: 1,
+      input: {},
+      result: {},
+      createdById: members.analyst.id,
+      finishedAt: new Date(),
+    },
+  });
   const fileId = randomUUID();
   const objectKey = `derivations/${derivation.id}/files/${fileId}`;
   await putObject({ key: objectKey, body: PNG_BYTES, contentType: "image/png" });
@@ -307,6 +326,7 @@ async function buildWorld(): Promise<World> {
       id: derivation.id,
       revisionId: checkpoint.revision.id,
       runId,
+      jobId,
       fileId,
       inviteId: invite.id,
       tokenId: token.id,
@@ -354,6 +374,7 @@ beforeAll(async () => {
 }, 120_000);
 afterAll(async () => {
   for (const key of storedKeys) await deleteObject({ key }).catch(() => undefined);
+  await closeJobQueue();
   await closeEnginePool();
   await closeDatabase();
 });

@@ -6,4 +6,4 @@ export { EnginePool, DEFAULT_RESOURCE_LIMITS } from "./pool";
 export type { EnginePoolOptions } from "./pool";
 export { serveEngineTasks } from "./serve";
 export { ENGINE_TASKS } from "./tasks";
-export type { EngineTask } from "./tasks";
+export type { EngineTask, EngineTaskContext } from "./tasks";
