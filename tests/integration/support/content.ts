@@ -7,6 +7,6 @@ import { validDocumentOrThrow } from "@/lib/evaluation/document-content";
  * `updateDerivationContentById`). Tests use it where a browser's edit would
  * reach the stored row; the old autosave route is retired.
  */
-export function storeContentAs(user: { id: string }, id: string, document: unknown) {
+export async function storeContentAs(user: { id: string }, id: string, document: unknown) {
   return updateDerivationContentById({ id, actorId: user.id, content: validDocumentOrThrow(document) });
 }

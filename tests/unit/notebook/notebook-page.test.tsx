@@ -131,6 +131,8 @@ describe("NotebookPage", () => {
     const second = renderPage({ ...p, collabProvider: server.provider });
     await waitFor(() => expect(within(second.container).getByTestId("connection-status").dataset.state).toBe("saved"), SLOW);
 
+    // Editable once the shared document has arrived (a frame after the connection is live).
+    for (const page of [first, second]) await waitFor(() => expect(within(page.container).getByTestId("notebook-page").dataset.readOnly).toBeUndefined(), SLOW);
     server.holdAcks = true;
     const mine = within(first.container).getByRole("textbox", { name: "Name, coordinate 1" }) as HTMLInputElement;
     const theirs = within(second.container).getByRole("textbox", { name: "Name, coordinate 1" }) as HTMLInputElement;
