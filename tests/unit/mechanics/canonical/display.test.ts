@@ -51,6 +51,9 @@ function randomEnv(model: Model, random: () => number): Env {
     env[`${c.name}''`] = uniform(random, -2, 2);
   }
   for (const p of [...model.parameters, ...(model.inputs ?? [])]) env[p.name] = uniform(random, 0.5, 2);
+  // A constrained model's equations hold its multipliers as symbols (lambda_<name>, mu_<name>).
+  for (const c of model.constraints ?? []) env[`lambda_${c.name}`] = uniform(random, -2, 2);
+  for (const c of model.rateConstraints ?? []) env[`mu_${c.name}`] = uniform(random, -2, 2);
   return env;
 }
 
