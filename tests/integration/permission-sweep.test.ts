@@ -17,6 +17,7 @@ import { createDerivation, trashDerivationById } from "@/db/queries/derivations"
 import { createFile } from "@/db/queries/files";
 import { createInvite } from "@/db/queries/invites";
 import { createJob } from "@/db/queries/jobs";
+import { createCommentThread } from "@/db/queries/comments";
 import { createCheckpoint } from "@/db/queries/revisions";
 import { createSimulationRun } from "@/db/queries/runs";
 import { createTeamWithLead, upsertMembership } from "@/db/queries/teams";
@@ -114,7 +115,6 @@ const routeTable: Record<string, RouteRow> = {
   "GET /api/derivations/[id]": { expect: anyMember },
   "PATCH /api/derivations/[id]": { expect: roles(ok, ok, 403, 403), body: { title: "Renamed by the sweep" } },
   "DELETE /api/derivations/[id]": { expect: roles(ok, ok, 403, 403), note: "the analyst owns it" },
-  "PUT /api/derivations/[id]/content": { expect: roles(ok, ok, 403, 403) },
   "POST /api/derivations/[id]/evaluate": { expect: anyMember },
   "POST /api/derivations/[id]/linearize": { expect: anyMember },
   "GET /api/derivations/[id]/code": { expect: anyMember },
@@ -137,6 +137,25 @@ const routeTable: Record<string, RouteRow> = {
   "GET /api/derivations/[id]/jobs/[jobId]": { expect: anyMember },
   "POST /api/derivations/[id]/jobs/[jobId]/cancel": { expect: roles(ok, ok, ok, 403), note: "whoever may simulate may cancel a queued run or fit" },
   "POST /api/derivations/[id]/collab-token": { expect: anyMember, note: "readers get a read-only token" },
+  "GET /api/derivations/[id]/comments": { expect: anyMember },
+  "POST /api/derivations/[id]/comments": { expect: roles(ok, ok, ok, 403), note: "reviewers comment; that is their job" },
+  "POST /api/derivations/[id]/comments/[threadId]": { expect: roles(ok, ok, ok, 403), body: { body: "A reply from the sweep" } },
+  "PATCH /api/derivations/[id]/comments/[threadId]": {
+    expect: roles(ok, ok, 403, 403),
+    body: { status: "resolved" },
+    note: "the analyst wrote the thread; leads and analysts resolve any, a reviewer only their own",
+  },
+  "PATCH /api/derivations/[id]/comments/[threadId]/[commentId]": {
+    expect: roles(403, ok, 403, 403),
+    body: { body: "Edited by the sweep" },
+    note: "only the comment's author (the analyst) edits it",
+  },
+  "DELETE /api/derivations/[id]/comments/[threadId]/[commentId]": {
+    expect: roles(403, ok, 403, 403),
+    note: "only the comment's author (the analyst) deletes it",
+  },
+  "GET /api/account/notification-settings": { expect: signedIn },
+  "PUT /api/account/notification-settings": { expect: signedIn, body: { mentionEmails: false } },
   "GET /api/derivations/[id]/revisions": { expect: anyMember },
   "POST /api/derivations/[id]/revisions": { expect: roles(ok, ok, 403, 403) },
   "GET /api/derivations/[id]/revisions/[revisionId]": { expect: anyMember },
@@ -281,6 +300,23 @@ async function buildWorld(): Promise<World> {
       finishedAt: new Date(),
     },
   });
+  const { thread, comment } = await createCommentThread({
+    thread: {
+      derivationId: derivation.id,
+      authorId: members.analyst.id,
+      anchorKind: "term",
+      termKey: "sweep:x:term",
+      termText: "m*x''",
+      termLatex: "m\\ddot{x}",
+    },
+    body: "A thread of the sweep",
+    mentions: {
+      mentionedUserIds: [],
+      notificationFor: () => {
+        throw new Error("no mentions in the sweep");
+      },
+    },
+  });
   const fileId = randomUUID();
   const objectKey = `derivations/${derivation.id}/files/${fileId}`;
   await putObject({ key: objectKey, body: PNG_BYTES, contentType: "image/png" });
@@ -327,6 +363,8 @@ async function buildWorld(): Promise<World> {
       revisionId: checkpoint.revision.id,
       runId,
       jobId,
+      threadId: thread.id,
+      commentId: comment.id,
       fileId,
       inviteId: invite.id,
       tokenId: token.id,
