@@ -60,11 +60,18 @@ test("a reviewer checks a derivation without changing it: form, equilibrium, own
   await expect(own.getByTestId("simulation-results")).toBeVisible({ timeout: 45_000 });
   await expect(simulation.chart("coordinates").locator("canvas").first()).toBeVisible();
 
-  // Store it for the team: the server runs the same settings and keeps the run under the reviewer's name.
-  const stored = page.waitForResponse((response) => response.url().endsWith(`/api/derivations/${notebook.id}/runs`) && response.request().method() === "POST");
+  // Store it for the team: the server queues the run (202 with the job), a worker runs the same settings and
+  // keeps the run under the reviewer's name, and the page then reads the stored run.
+  const runsPath = `/api/derivations/${notebook.id}/runs`;
+  const queued = page.waitForResponse((response) => response.url().endsWith(runsPath) && response.request().method() === "POST");
+  const stored = page.waitForResponse(
+    (response) => new URL(response.url()).pathname.startsWith(`${runsPath}/`) && !response.url().endsWith("/csv") && response.request().method() === "GET",
+    { timeout: 45_000 },
+  );
   await own.getByRole("button", { name: "Run on server and save" }).click();
+  expect((await queued).status()).toBe(202);
   const response = await stored;
-  expect(response.status()).toBe(201);
+  expect(response.status()).toBe(200);
   const { run } = await response.json();
   expect(run).toMatchObject({
     status: "completed",

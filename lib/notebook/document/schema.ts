@@ -6,6 +6,12 @@
 // zod/mini: the tree-shakable build, so the browser bundle carries a few kB rather than all of zod.
 import * as z from "zod/mini";
 
+// zod tries `new Function` once to see whether it may compile parsers. In a browser page or
+// worker the Content-Security-Policy forbids eval, so that try is reported as a violation:
+// tell zod up front, before this module's schemas parse anything (the shared document is
+// validated in the browser). lib/validation/zod-config.ts does the same for full zod.
+if (typeof window !== "undefined" || typeof (globalThis as { importScripts?: unknown }).importScripts === "function") z.config({ jitless: true });
+
 /** Bump with a new entry in `DOCUMENT_MIGRATIONS` whenever the stored shape changes. */
 export const DOCUMENT_SCHEMA_VERSION = 3;
 
