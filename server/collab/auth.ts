@@ -16,7 +16,10 @@ import { CloseCode, RefusedConnection, type Authenticator, type ConnectionGrant 
 const uuidPattern = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 
 /** Whether one more connection of this person, from this address, is allowed now (the app's rate limits). */
-export type ConnectionAdmission = (who: { userId: string; address: string | null }) => Promise<{ allowed: true } | { allowed: false; retryAfterSeconds: number }>;
+export type ConnectionAdmission = (who: {
+  userId: string;
+  address: string | null;
+}) => Promise<{ allowed: true } | { allowed: false; retryAfterSeconds: number }>;
 
 export function createTokenAuthenticator({ secret, admit }: { secret: string; admit?: ConnectionAdmission }): Authenticator {
   return {

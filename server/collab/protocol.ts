@@ -107,10 +107,11 @@ export function awarenessMessage(awareness: awarenessProtocol.Awareness, clients
   });
 }
 
-export function storedMessage(doc: Y.Doc): Uint8Array {
+/** The "stored" acknowledgement: the state vector of what is stored (a document's, or clientID → clock). */
+export function storedMessage(stored: Y.Doc | Map<number, number>): Uint8Array {
   return encode((encoder) => {
     encoding.writeVarUint(encoder, MESSAGE_STORED);
-    encoding.writeVarUint8Array(encoder, Y.encodeStateVector(doc));
+    encoding.writeVarUint8Array(encoder, Y.encodeStateVector(stored));
   });
 }
 

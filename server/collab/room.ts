@@ -32,6 +32,8 @@ interface ConnectionState {
 const LOAD = "load";
 const NOTIFIED = "notified";
 const LOCK = "lock";
+/** How long to wait before storing again after the database refused a write (it keeps the updates meanwhile). */
+const STORE_RETRY_MS = 1000;
 
 function isEmptyUpdate(update: Uint8Array): boolean {
   return update.length === 2 && update[0] === 0 && update[1] === 0;
@@ -67,6 +69,17 @@ export class Room {
   private pending: { connection: RoomConnection; update: Uint8Array }[] = [];
   /** The loop storing `pending`, while it runs. */
   private storing: Promise<void> | null = null;
+  /** Per client, the clock up to which its updates are stored: what an acknowledgement covers. */
+  private storedVector = new Map<number, number>();
+
+  /** Counts an update as stored in the acknowledgements (updates of one client arrive in order). */
+  private markStored(update: Uint8Array): void {
+    for (const struct of Y.decodeUpdate(update).structs) {
+      const end = struct.id.clock + struct.length;
+      if (end > (this.storedVector.get(struct.id.client) ?? 0)) this.storedVector.set(struct.id.client, end);
+    }
+  }
+
   /** Updates stored and applied since the room loaded (statistics and tests). */
   storedCount = 0;
 
@@ -106,6 +119,7 @@ export class Room {
       return { ok: false, code: CloseCode.unreadable, reason: "The stored document does not read; restore a revision from its history." };
     }
     for (const { update } of result.updates) Y.applyUpdate(this.doc, update, LOAD);
+    this.storedVector = Y.decodeStateVector(Y.encodeStateVector(this.doc));
     this.lastJson = this.currentJson();
     const state = await this.deps.persistence.state(this.derivationId);
     if (!state) return { ok: false, code: CloseCode.noDerivation, reason: "No such derivation." };
@@ -168,9 +182,13 @@ export class Room {
         // Read-only: never applied, stored or relayed.
         if (this.isReadOnly(connection)) return;
         if (isEmptyUpdate(message.update)) {
-          connection.send(storedMessage(this.doc));
+          connection.send(storedMessage(this.storedVector));
           return;
         }
+        // Relayed at once (the others see it without waiting for the database); acknowledged to
+        // its sender only once stored. Should the server stop before storing it, the sender still
+        // holds it and sends it again on reconnect, since the restarted server's state lacks it.
+        Y.applyUpdate(this.doc, message.update, connection);
         this.pending.push({ connection, update: message.update });
         this.storing ??= this.store();
         return;
@@ -203,8 +221,10 @@ export class Room {
         try {
           result = await this.deps.persistence.append(this.derivationId, update);
         } catch (error) {
-          this.deps.logger.error(`storing an update of ${this.derivationId} failed`, error);
-          for (const sender of senders) sender.close(CloseCode.serverError, "The update could not be stored; reconnecting.");
+          // Already applied here, so a reconnecting sender would not send it again: keep it and retry.
+          this.deps.logger.error(`storing an update of ${this.derivationId} failed; retrying`, error);
+          this.pending = [...batch, ...this.pending];
+          await new Promise((resolve) => setTimeout(resolve, STORE_RETRY_MS));
           continue;
         }
         if (result.status === "refused") {
@@ -212,13 +232,13 @@ export class Room {
           await this.onAppendRefused();
           return;
         }
-        for (const entry of batch) Y.applyUpdate(this.doc, entry.update, entry.connection);
+        for (const entry of batch) this.markStored(entry.update);
         this.storedCount += batch.length;
         for (const sender of senders) {
           this.authors.delete(sender.grant.userId);
           this.authors.add(sender.grant.userId);
         }
-        const acknowledgement = storedMessage(this.doc);
+        const acknowledgement = storedMessage(this.storedVector);
         for (const sender of senders) sender.send(acknowledgement);
         this.appendsSinceCompaction += 1;
         if (this.appendsSinceCompaction >= this.deps.limits.compactEvery) void this.compact();
@@ -256,7 +276,10 @@ export class Room {
       const update = Y.encodeStateAsUpdate(copy, before);
       copy.destroy();
       const stored = await this.deps.persistence.append(this.derivationId, update, { evenIfLocked: true });
-      if (stored.status === "stored") Y.applyUpdate(this.doc, update, LOCK);
+      if (stored.status === "stored") {
+        Y.applyUpdate(this.doc, update, LOCK);
+        this.markStored(update);
+      }
     }
     this.lastJson = this.currentJson();
     for (const connection of this.connections.keys()) {
@@ -271,8 +294,10 @@ export class Room {
       return;
     }
     const row = await this.deps.persistence.update(this.derivationId, rowId);
-    if (row) Y.applyUpdate(this.doc, row.update, NOTIFIED);
-    else await this.resync();
+    if (row) {
+      Y.applyUpdate(this.doc, row.update, NOTIFIED);
+      this.markStored(row.update);
+    } else await this.resync();
   }
 
   /** Applies every stored update (after notifications may have been missed); applying one twice changes nothing. */
@@ -285,7 +310,10 @@ export class Room {
     Y.transact(
       this.doc,
       () => {
-        for (const { update } of rows) Y.applyUpdate(this.doc, update, NOTIFIED);
+        for (const { update } of rows) {
+          Y.applyUpdate(this.doc, update, NOTIFIED);
+          this.markStored(update);
+        }
       },
       NOTIFIED,
     );
