@@ -28,6 +28,7 @@ import {
   type WorkerErrorPayload,
 } from "../simulate";
 import type { EngineTaskContext } from "../mechanics/worker";
+import { constraintColumnUnits } from "./column-units";
 
 /** The fit's iteration budget when the request names none (the fitter's own default), for progress. */
 const DEFAULT_FIT_ITERATIONS = 50;
@@ -40,7 +41,15 @@ export interface SimulateTaskInput {
   energyDriftThreshold?: number;
 }
 
-export type SimulateTaskOutput = { ok: true; result: SimulationResult; energyCheck: Omit<EnergyDriftReport, "series"> | null } | TaskFailure;
+export type SimulateTaskOutput =
+  | {
+      ok: true;
+      result: SimulationResult;
+      energyCheck: Omit<EnergyDriftReport, "series"> | null;
+      /** Units of the multiplier and residual columns (empty without constraints). */
+      columnUnits: ReturnType<typeof constraintColumnUnits>;
+    }
+  | TaskFailure;
 
 export interface FitTaskInput {
   model: unknown;
@@ -69,8 +78,13 @@ function failure(error: unknown): TaskFailure {
 }
 
 export function simulateTask(payload: unknown, context?: EngineTaskContext): SimulateTaskOutput {
-  const { model, settings, energyDriftThreshold } = payload as SimulateTaskInput;
-  const system = systemOf(model);
+  const { model: raw, settings, energyDriftThreshold } = payload as SimulateTaskInput;
+  // The same path as the browser's worker: the mass-matrix form carries the constraints and outputs, so a
+  // constrained model is integrated with its multipliers and its outputs are evaluated along the run.
+  const model: Model = validateModel(raw);
+  const derived = deriveModel(model);
+  const system = systemFromDerivation(model, derived);
+  const columnUnits = constraintColumnUnits(model, derived.constraints ?? []);
   try {
     const result = integrate(system, {
       ...settings,
@@ -81,7 +95,7 @@ export function simulateTask(payload: unknown, context?: EngineTaskContext): Sim
       const { series: _series, ...report } = energyDrift(result.energy, { threshold: energyDriftThreshold });
       energyCheck = report;
     }
-    return { ok: true, result, energyCheck };
+    return { ok: true, result, energyCheck, columnUnits };
   } catch (error) {
     return failure(error);
   }
