@@ -65,11 +65,6 @@ export type FitTaskOutput =
   | { ok: true; result: FitResult; measured: { times: Float64Array; series: { coordinate: string; unit: string; targetUnit: string; values: Float64Array }[] } }
   | TaskFailure;
 
-function systemOf(raw: unknown) {
-  const model: Model = validateModel(raw);
-  return systemFromDerivation(model, deriveModel(model));
-}
-
 function failure(error: unknown): TaskFailure {
   if (error instanceof SimulationSetupError || error instanceof FitError || error instanceof MeasuredDataError) {
     return { ok: false, error: errorPayload(error) };

@@ -17,5 +17,8 @@ export const GET = runRoute<Params>("derivation:read", async ({ user, derivation
   const units = run.summary.coordinateUnits ?? {};
   await auditExport({ actorId: user.id, derivation, format: "trajectory-csv", details: { runId: run.id } });
   const stamp = run.createdAt.toISOString().slice(0, 19).replace(/:/g, "-");
-  return downloadResponse(trajectoryCsv(trajectory, units, run.summary.columnUnits ?? {}), { filename: `${fileBaseName(derivation.title)}-run-${stamp}.csv`, contentType: "text/csv" });
+  return downloadResponse(trajectoryCsv(trajectory, units, run.summary.columnUnits ?? {}), {
+    filename: `${fileBaseName(derivation.title)}-run-${stamp}.csv`,
+    contentType: "text/csv",
+  });
 });
