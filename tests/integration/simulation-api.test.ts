@@ -82,6 +82,36 @@ const cartesianArm: Model = {
   outputs: [{ name: "tension", expr: "-2*l*lambda_rod", unit: "N" }],
 };
 
+// Server runs and fits are queued (lib/jobs) and run by a queue worker process, as the start scripts run it.
+let worker: ChildProcess | null = null;
+
+async function startQueueWorker(): Promise<void> {
+  worker = spawn(process.execPath, ["--conditions=react-server", "--import", "tsx", "scripts/worker.ts"], {
+    cwd: path.resolve(import.meta.dirname, "../.."),
+    env: { ...process.env, AWS_SDK_JS_NODE_VERSION_SUPPORT_WARNING_DISABLED: "true" },
+    stdio: ["ignore", "pipe", "inherit"],
+  });
+  const started = worker;
+  await new Promise<void>((resolve, reject) => {
+    let output = "";
+    started.stdout!.on("data", (chunk: Buffer) => {
+      output += chunk.toString();
+      if (output.includes("ready")) resolve();
+    });
+    started.once("exit", (code) => reject(new Error(`the queue worker exited with code ${code} before it was ready: ${output}`)));
+  });
+}
+
+async function stopQueueWorker(): Promise<void> {
+  const running = worker;
+  if (running && running.exitCode === null) {
+    await new Promise<void>((resolve) => {
+      running.once("exit", () => resolve());
+      running.kill("SIGTERM");
+    });
+  }
+}
+
 async function makeDerivation(fixture: TeamFixture, model: Model) {
   const derivation = await createDerivation({
     teamId: fixture.team.id,
@@ -143,6 +173,7 @@ beforeAll(async () => {
 afterAll(async () => {
   signOut();
   await closeSimulationPool();
+  await closeJobQueue();
   await closeDatabase();
 });
 
@@ -344,34 +375,8 @@ describe("measured data and image uploads", () => {
 });
 
 describe("server simulation runs", () => {
-  // Server runs are queued (lib/jobs) and run by a queue worker process, as the start scripts run it.
-  let worker: ChildProcess | null = null;
-  beforeAll(async () => {
-    worker = spawn(process.execPath, ["--conditions=react-server", "--import", "tsx", "scripts/worker.ts"], {
-      cwd: path.resolve(import.meta.dirname, "../.."),
-      env: { ...process.env, AWS_SDK_JS_NODE_VERSION_SUPPORT_WARNING_DISABLED: "true" },
-      stdio: ["ignore", "pipe", "inherit"],
-    });
-    const started = worker;
-    await new Promise<void>((resolve, reject) => {
-      let output = "";
-      started.stdout!.on("data", (chunk: Buffer) => {
-        output += chunk.toString();
-        if (output.includes("ready")) resolve();
-      });
-      started.once("exit", (code) => reject(new Error(`the queue worker exited with code ${code} before it was ready: ${output}`)));
-    });
-  }, 120_000);
-  afterAll(async () => {
-    const running = worker;
-    if (running && running.exitCode === null) {
-      await new Promise<void>((resolve) => {
-        running.once("exit", () => resolve());
-        running.kill("SIGTERM");
-      });
-    }
-    await closeJobQueue();
-  });
+  beforeAll(startQueueWorker, 120_000);
+  afterAll(stopQueueWorker);
 
   it("runs a large-amplitude pendulum, stores it and lists it; period and energy check out", async () => {
     // Released from 150°, so the energy function (zero at the pivot's height) starts well away from 0.
@@ -577,6 +582,9 @@ describe("server simulation runs", () => {
 });
 
 describe("fitting to uploaded rig data", () => {
+  beforeAll(startQueueWorker, 120_000);
+  afterAll(stopQueueWorker);
+
   // Synthetic rig data: m = 1 kg, k = 40 N/m, c = 0.8 N·s/m, z0 = 0.1 m at rest,
   // written in millimetres with seeded Gaussian noise of 0.5 mm.
   const truth = { m: 1, k: 40, c: 0.8, z0: 0.1 };
