@@ -409,6 +409,16 @@ export interface StoredTrajectory {
   coordinates: number[][];
   rates: number[][];
   energy: number[] | null;
+  /** The model's outputs at every output point, with each one's peak (absent on runs stored before outputs were kept). */
+  outputs?: { name: string; unit: string | null; values: number[]; peak: { value: number; time: number } | null }[];
+  /** The constraints' multipliers and residuals at every output point; null or absent without constraints. */
+  constraints?: {
+    names: string[];
+    multiplierNames: string[];
+    multipliers: number[][];
+    residuals: number[][];
+    rateResiduals: number[][];
+  } | null;
 }
 
 /** What a stored run keeps beside its trajectory (lib/runs/service.ts writes it). */
@@ -421,6 +431,21 @@ export interface RunSummary {
   energyCheck?: { relativeDrift: number; maxDeviation?: number; reference?: number; threshold: number; warning: boolean } | null;
   /** t, each coordinate and each rate (`q'`) at the last output time. */
   finalState?: Record<string, number> | null;
+  /** How the run held its constraints (the series are in the trajectory); null or absent without constraints. */
+  constraints?: {
+    kinds: ("position" | "rate")[];
+    maxResidual: number[];
+    initialProjection: {
+      coordinates: { name: string; given: number; projected: number }[];
+      rates: { name: string; given: number; projected: number }[];
+      residuals: { name: string; kind: "position" | "rate"; given: number }[];
+    } | null;
+    largestCorrection: { coordinates: number; rates: number };
+    method: string;
+    explicitTime: boolean;
+  } | null;
+  /** Units of the multiplier and residual columns, by name. */
+  columnUnits?: { multipliers?: Record<string, string>; residuals?: Record<string, string> };
 }
 
 // A simulation run on the server, kept with its settings so teammates see the

@@ -14,7 +14,7 @@ import { deleteObject, getObjectBytes, putObject } from "@/lib/storage";
 import { getSimulationPool } from "@/lib/workers/simulation-pool";
 import type { FitTaskInput, FitTaskOutput, SimulateTaskInput, SimulateTaskOutput } from "./tasks";
 import type { FitJson } from "./views";
-import { INLINE_TRAJECTORY_VALUES, decimate, decimationStride, storedTrajectoryOf, valueCount } from "./trajectory";
+import { INLINE_TRAJECTORY_VALUES, constraintSummaryOf, decimate, decimationStride, storedTrajectoryOf, valueCount } from "./trajectory";
 
 /** Time a worker may spend deriving and compiling before the integration's own clock starts. */
 const SETUP_ALLOWANCE_MS = 15_000;
@@ -128,7 +128,7 @@ export async function runAndStoreSimulation({
   }
   if (!output.ok) throw setupError("simulation", output.error);
 
-  const { result, energyCheck } = output;
+  const { result, energyCheck, columnUnits } = output;
   const trajectory = storedTrajectoryOf(result);
   const runId = randomUUID();
   const inline = valueCount(trajectory) <= INLINE_TRAJECTORY_VALUES;
@@ -150,6 +150,8 @@ export async function runAndStoreSimulation({
           stats: result.stats,
           energyCheck,
           finalState: finalStateOf(trajectory),
+          constraints: constraintSummaryOf(result),
+          columnUnits,
         },
         trajectory: inline ? trajectory : null,
         trajectoryKey: key,

@@ -28,6 +28,7 @@ import {
   type WorkerErrorPayload,
 } from "../simulate";
 import type { EngineTaskContext } from "../mechanics/worker";
+import { constraintColumnUnits } from "./column-units";
 
 /** The fit's iteration budget when the request names none (the fitter's own default), for progress. */
 const DEFAULT_FIT_ITERATIONS = 50;
@@ -40,7 +41,15 @@ export interface SimulateTaskInput {
   energyDriftThreshold?: number;
 }
 
-export type SimulateTaskOutput = { ok: true; result: SimulationResult; energyCheck: Omit<EnergyDriftReport, "series"> | null } | TaskFailure;
+export type SimulateTaskOutput =
+  | {
+      ok: true;
+      result: SimulationResult;
+      energyCheck: Omit<EnergyDriftReport, "series"> | null;
+      /** Units of the multiplier and residual columns (empty without constraints). */
+      columnUnits: ReturnType<typeof constraintColumnUnits>;
+    }
+  | TaskFailure;
 
 export interface FitTaskInput {
   model: unknown;
@@ -56,11 +65,6 @@ export type FitTaskOutput =
   | { ok: true; result: FitResult; measured: { times: Float64Array; series: { coordinate: string; unit: string; targetUnit: string; values: Float64Array }[] } }
   | TaskFailure;
 
-function systemOf(raw: unknown) {
-  const model: Model = validateModel(raw);
-  return systemFromDerivation(model, deriveModel(model));
-}
-
 function failure(error: unknown): TaskFailure {
   if (error instanceof SimulationSetupError || error instanceof FitError || error instanceof MeasuredDataError) {
     return { ok: false, error: errorPayload(error) };
@@ -69,8 +73,13 @@ function failure(error: unknown): TaskFailure {
 }
 
 export function simulateTask(payload: unknown, context?: EngineTaskContext): SimulateTaskOutput {
-  const { model, settings, energyDriftThreshold } = payload as SimulateTaskInput;
-  const system = systemOf(model);
+  const { model: raw, settings, energyDriftThreshold } = payload as SimulateTaskInput;
+  // The same path as the browser's worker: the mass-matrix form carries the constraints and outputs, so a
+  // constrained model is integrated with its multipliers and its outputs are evaluated along the run.
+  const model: Model = validateModel(raw);
+  const derived = deriveModel(model);
+  const system = systemFromDerivation(model, derived);
+  const columnUnits = constraintColumnUnits(model, derived.constraints ?? []);
   try {
     const result = integrate(system, {
       ...settings,
@@ -81,7 +90,7 @@ export function simulateTask(payload: unknown, context?: EngineTaskContext): Sim
       const { series: _series, ...report } = energyDrift(result.energy, { threshold: energyDriftThreshold });
       energyCheck = report;
     }
-    return { ok: true, result, energyCheck };
+    return { ok: true, result, energyCheck, columnUnits };
   } catch (error) {
     return failure(error);
   }

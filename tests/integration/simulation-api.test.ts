@@ -1,3 +1,5 @@
+import { spawn, type ChildProcess } from "node:child_process";
+import path from "node:path";
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 
 vi.mock("@/lib/auth/session", async () => (await import("./support/session")).sessionModule);
@@ -10,6 +12,7 @@ import * as runRoute from "@/app/api/derivations/[id]/runs/[runId]/route";
 import * as runsRoute from "@/app/api/derivations/[id]/runs/route";
 import * as fileRoute from "@/app/api/files/[fileId]/route";
 import { closeDatabase } from "@/db/client";
+import { closeJobQueue } from "@/lib/jobs/boss";
 import { getAuditEventsByTeamId } from "@/db/queries/audit";
 import { createDerivation, getDerivationById } from "@/db/queries/derivations";
 import type { Model } from "@/lib/mechanics";
@@ -63,6 +66,51 @@ const collapsingGuide: Model = {
   kinetic: "1/2*m*cos(s)^2*s'^2",
   potential: "0",
 };
+
+// The same gimbal arm written in the pivot's Cartesian frame, held on its circle by a constraint; the
+// rope tension is an output from the rod's multiplier.
+const cartesianArm: Model = {
+  title: "Gimbal pitch arm, Cartesian with rod constraint",
+  coordinates: [
+    { name: "x", unit: "m" },
+    { name: "y", unit: "m" },
+  ],
+  parameters: pendulum.parameters,
+  kinetic: "1/2*m*(x'^2 + y'^2)",
+  potential: "m*g*y",
+  constraints: [{ name: "rod", expr: "x^2 + y^2 - l^2" }],
+  outputs: [{ name: "tension", expr: "-2*l*lambda_rod", unit: "N" }],
+};
+
+// Server runs and fits are queued (lib/jobs) and run by a queue worker process, as the start scripts run it.
+let worker: ChildProcess | null = null;
+
+async function startQueueWorker(): Promise<void> {
+  worker = spawn(process.execPath, ["--conditions=react-server", "--import", "tsx", "scripts/worker.ts"], {
+    cwd: path.resolve(import.meta.dirname, "../.."),
+    env: { ...process.env, AWS_SDK_JS_NODE_VERSION_SUPPORT_WARNING_DISABLED: "true" },
+    stdio: ["ignore", "pipe", "inherit"],
+  });
+  const started = worker;
+  await new Promise<void>((resolve, reject) => {
+    let output = "";
+    started.stdout!.on("data", (chunk: Buffer) => {
+      output += chunk.toString();
+      if (output.includes("ready")) resolve();
+    });
+    started.once("exit", (code) => reject(new Error(`the queue worker exited with code ${code} before it was ready: ${output}`)));
+  });
+}
+
+async function stopQueueWorker(): Promise<void> {
+  const running = worker;
+  if (running && running.exitCode === null) {
+    await new Promise<void>((resolve) => {
+      running.once("exit", () => resolve());
+      running.kill("SIGTERM");
+    });
+  }
+}
 
 async function makeDerivation(fixture: TeamFixture, model: Model) {
   const derivation = await createDerivation({
@@ -125,6 +173,7 @@ beforeAll(async () => {
 afterAll(async () => {
   signOut();
   await closeSimulationPool();
+  await closeJobQueue();
   await closeDatabase();
 });
 
@@ -326,6 +375,9 @@ describe("measured data and image uploads", () => {
 });
 
 describe("server simulation runs", () => {
+  beforeAll(startQueueWorker, 120_000);
+  afterAll(stopQueueWorker);
+
   it("runs a large-amplitude pendulum, stores it and lists it; period and energy check out", async () => {
     // Released from 150°, so the energy function (zero at the pivot's height) starts well away from 0.
     const id = await makeDerivation(kestrel, pendulum);
@@ -389,6 +441,49 @@ describe("server simulation runs", () => {
       timeSpan: { start: 0, end: 10 },
     });
   });
+
+  it("stores a constrained run's outputs, multipliers and residuals and exports them as CSV columns with units", async () => {
+    const id = await makeDerivation(kestrel, cartesianArm);
+    signInAs(kestrel.members.analyst);
+    // Released at 60° from the hanging position with a rate off the circle, so the start is projected.
+    // The multiplier is a force per metre of the constraint, kg/s^2 (N/m) in base units.
+    const theta0 = Math.PI / 3;
+    const response = await postRun(id, {
+      initialCoordinates: { x: 1.5 * Math.sin(theta0), y: -1.5 * Math.cos(theta0) },
+      initialRates: { x: 0.1, y: 0.2 },
+      endTime: 2,
+      outputStep: 0.01,
+      relativeTolerance: 1e-10,
+      absoluteTolerance: 1e-10,
+    });
+    expect(response.status).toBe(201);
+    const { run } = await response.json();
+    expect(run).toMatchObject({ status: "completed", pointCount: 201 });
+    expect(run.trajectory.outputs).toHaveLength(1);
+    expect(run.trajectory.outputs[0]).toMatchObject({ name: "tension", unit: "N" });
+    expect(run.trajectory.outputs[0].peak.value).toBe(Math.max(...run.trajectory.outputs[0].values.map(Math.abs)));
+    expect(run.trajectory.constraints).toMatchObject({ names: ["rod"], multiplierNames: ["lambda_rod"] });
+    expect(run.summary.constraints.initialProjection.rates.length).toBeGreaterThan(0);
+    expect(run.summary.constraints.maxResidual[0]).toBeLessThan(1e-8);
+
+    const csv = await runCsvRoute.GET(jsonRequest(`/api/derivations/${id}/runs/${run.id}/csv`, "GET"), params({ id, runId: run.id }));
+    const lines = (await csv.text()).trimEnd().split("\n");
+    expect(lines[0]).toBe("t [s],x [m],y [m],x' [m/s],y' [m/s],energy [J],tension [N],lambda_rod [kg/s^2],residual rod [m^2]");
+    expect(lines).toHaveLength(202);
+    const m = 2.5;
+    const l = 1.5;
+    const g = 9.81;
+    for (const k of [0, 77, 200]) {
+      const [t, , y, vx, vy, , tension, lambda, residual] = lines[k + 1]!.split(",").map(Number);
+      expect(t).toBeCloseTo(k * 0.01, 12);
+      // Rod tension of a pendulum, T = m g cos θ + m l θ'² with cos θ = −y/l and l θ' = speed (fact of the trade).
+      const closed = m * g * (-y! / l) + (m * (vx! * vx! + vy! * vy!)) / l;
+      expect(Math.abs(tension! - closed)).toBeLessThan(1e-6 * closed);
+      // The rod's constraint force is λ ∇(x² + y² − l²) = 2λ(x, y), so λ = −T/(2l) on the circle (fact of the trade).
+      expect(Math.abs(lambda! + closed / (2 * l))).toBeLessThan(1e-6 * closed);
+      expect(Math.abs(residual!)).toBeLessThan(1e-8);
+    }
+  }, 120_000);
 
   it("keeps a large trajectory in object storage and serves it the same way", async () => {
     const id = await makeDerivation(kestrel, seatRig);
@@ -487,6 +582,9 @@ describe("server simulation runs", () => {
 });
 
 describe("fitting to uploaded rig data", () => {
+  beforeAll(startQueueWorker, 120_000);
+  afterAll(stopQueueWorker);
+
   // Synthetic rig data: m = 1 kg, k = 40 N/m, c = 0.8 N·s/m, z0 = 0.1 m at rest,
   // written in millimetres with seeded Gaussian noise of 0.5 mm.
   const truth = { m: 1, k: 40, c: 0.8, z0: 0.1 };

@@ -66,7 +66,34 @@ export function displayOfStoredRun(run: RunJson): RunDisplay | null {
     coordinateUnits: run.summary?.coordinateUnits ?? {},
     energyCheck: run.summary?.energyCheck ?? null,
     parameterValues: run.summary?.parameterValues,
+    constraints: constraintsOfStoredRun(run),
+    outputs: (t.outputs ?? []).map((o) => ({ name: o.name, unit: o.unit, values: Float64Array.from(o.values), peak: o.peak })),
+    columnUnits: run.summary?.columnUnits ?? {},
     rhsEvaluations: run.summary?.stats?.rhsEvaluations,
     wallTimeMs: run.summary?.stats?.wallTimeMs,
+  };
+}
+
+/**
+ * The constraint report of a stored run: its series from the trajectory, the
+ * rest (projection notice, largest correction, method) from the summary.
+ * Null for a run without constraints or one stored before they were kept.
+ */
+function constraintsOfStoredRun(run: RunJson): ConstraintReport | null {
+  const series = run.trajectory?.constraints;
+  const summary = run.summary?.constraints;
+  if (!series || !summary) return null;
+  return {
+    names: series.names,
+    kinds: summary.kinds,
+    multiplierNames: series.multiplierNames,
+    multipliers: series.multipliers.map((column) => Float64Array.from(column)),
+    residuals: series.residuals.map((column) => Float64Array.from(column)),
+    rateResiduals: series.rateResiduals.map((column) => Float64Array.from(column)),
+    maxResidual: summary.maxResidual,
+    initialProjection: summary.initialProjection,
+    largestCorrection: summary.largestCorrection,
+    method: summary.method,
+    explicitTime: summary.explicitTime,
   };
 }

@@ -23,7 +23,7 @@ import {
   type WorkerResponse,
 } from "@/lib/simulate";
 import { massMatrixFormOf } from "@/lib/simulate";
-import { formatDimension, unitOfExpression, type ConstraintResult } from "@/lib/mechanics";
+import { constraintColumnUnits } from "@/lib/runs/column-units";
 import type { ExtraColumnUnits } from "@/lib/simulate";
 import type { ModelSimulationJob, ModelSimulationRequest, PointTrack, SimulationWorkerResponse } from "./worker-messages";
 
@@ -184,32 +184,4 @@ function smallOscillationOf(form: MassMatrixForm, job: ModelSimulationJob): Smal
       problem: error instanceof Error ? error.message : String(error),
     };
   }
-}
-
-/** A unit for a CSV header: the named unit when there is one (`N`), else the base-symbol form. */
-function headerUnit(formatted: string): string {
-  const named = /\(([^)]+)\)$/.exec(formatted);
-  return named ? named[1]! : formatted;
-}
-
-/**
- * Units of the multiplier and residual columns of the trajectory CSV: each
- * multiplier's from the engine, each residual's from the constraint's
- * expression. A unit that cannot be worked out is left out (the CSV then writes 1).
- */
-function constraintColumnUnits(model: ReturnType<typeof validateModel>, constraints: readonly ConstraintResult[]): ExtraColumnUnits {
-  const symbolUnits: Record<string, string> = {};
-  for (const list of [model.coordinates, model.parameters, model.inputs ?? []]) for (const entry of list) symbolUnits[entry.name] = entry.unit;
-  const multipliers: Record<string, string> = {};
-  const residuals: Record<string, string> = {};
-  for (const c of constraints) {
-    if (c.unit) multipliers[c.symbol] = headerUnit(c.unit);
-    try {
-      const dimension = unitOfExpression(c.expr, symbolUnits, c.name);
-      if (dimension) residuals[c.name] = headerUnit(formatDimension(dimension));
-    } catch {
-      // The engine reports unit problems with the constraint itself; the column keeps no unit.
-    }
-  }
-  return { multipliers, residuals };
 }

@@ -22,4 +22,14 @@ describe("stored trajectories", () => {
     expect(decimate([0, 1, 2, 3, 4, 5, 6], 3)).toEqual([0, 3, 6]);
     expect(decimate([0, 1, 2, 3, 4, 5], 3)).toEqual([0, 3, 5]);
   });
+
+  it("counts the outputs, multipliers and both residual series of a constrained run", () => {
+    const three = [0, 0, 0];
+    const constrained = {
+      ...trajectory,
+      outputs: [{ name: "tension", unit: "N", values: three, peak: null }],
+      constraints: { names: ["rod"], multiplierNames: ["lambda_rod"], multipliers: [three], residuals: [three], rateResiduals: [three] },
+    };
+    expect(valueCount(constrained)).toBe(3 * (6 + 1 + 3));
+  });
 });
