@@ -3,9 +3,9 @@
  *
  * The structure follows the utilities of `@y/websocket-server` (MIT; its README
  * invites forking them): a Y.Doc with an Awareness, a set of connections, and
- * relaying of document and awareness updates. What differs: an update is stored
- * before it is applied or relayed and then acknowledged to its sender
- * (MESSAGE_STORED); read-only connections have their updates dropped; loading,
+ * relaying of document and awareness updates. What differs: an update is relayed
+ * at once and acknowledged to its sender (MESSAGE_STORED) only after it is stored,
+ * with the state vector of what is stored; read-only connections have their updates dropped; loading,
  * the JSON copy and unloading go through injected modules; each document has
  * its own timers (no module-wide debouncer).
  */
