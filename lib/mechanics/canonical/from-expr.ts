@@ -49,8 +49,15 @@ export function toCanonical(alg: Algebra, expr: Expr, resolve: SymbolResolver): 
           case "^": {
             const exponent = constantValue(right);
             if (exponent === null) {
-              // base^v = exp(v·log(base)) for a non-constant exponent.
-              return alg.call("exp", alg.mul(right, alg.call("log", left)));
+              // base^v = exp(v·log(base)) for a non-constant exponent; a base that is zero has no logarithm.
+              try {
+                return alg.call("exp", alg.mul(right, alg.call("log", left)));
+              } catch (error) {
+                if (error instanceof RangeError) {
+                  throw new ExpressionError("unsupported", `a zero base with a variable exponent: ${error.message}`, node.start, node.end - node.start);
+                }
+                throw error;
+              }
             }
             try {
               return alg.power(left, exponent);

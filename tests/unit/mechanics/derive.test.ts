@@ -6,6 +6,7 @@ import { canonicalize, sameExpression } from "@/lib/mechanics/canonical";
 import { timeDerivative } from "@/lib/mechanics/canonical/calculus";
 import { MINUS_ONE } from "@/lib/mechanics/canonical/coefficient";
 import { deriveModel, type DerivationResult } from "@/lib/mechanics/derive";
+import { ModelError } from "@/lib/mechanics/errors";
 import { formatExpression as text } from "@/lib/mechanics/expr/parse";
 import { topLevelTerms } from "@/lib/mechanics/terms";
 import type { Model } from "@/lib/mechanics/model";
@@ -328,5 +329,26 @@ describe("deriveModel: properties at random states (seeded)", () => {
   it("says when the Hamiltonian is not formed", () => {
     const result = deriveModel(chainModel({ links: 4 }));
     expect(result.hamiltonian).toEqual({ available: false, reason: "the mass matrix is 4×4; it is inverted symbolically only up to 3×3" });
+  });
+});
+
+describe("deriveModel: expressions without a canonical form", () => {
+  // Found by the fuzz suite (seed 546873654): sin(pi) is 0, and 0^sin(q) has no logarithm to expand through.
+  it("refuses a zero base with a variable exponent with a typed error naming the field", () => {
+    const model = validateModel({
+      title: "Fuzzed rig",
+      coordinates: [{ name: "q", unit: "m" }],
+      parameters: [],
+      kinetic: "q",
+      potential: "sin(pi)^sin(q)",
+    });
+    let refusal: unknown;
+    try {
+      deriveModel(model);
+    } catch (error) {
+      refusal = error;
+    }
+    expect(refusal).toBeInstanceOf(ModelError);
+    expect((refusal as ModelError).message).toMatch(/zero base with a variable exponent/);
   });
 });
