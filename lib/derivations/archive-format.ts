@@ -199,7 +199,41 @@ function trajectoryProblems(entry: string, value: unknown): { trajectory: Stored
     const problem = numericColumn(t.energy, length);
     if (problem) at("energy", `${problem} (or null)`);
   }
-  const extra = Object.keys(t).filter((key) => !["coordinateNames", "times", "coordinates", "rates", "energy"].includes(key));
+  // Runs of models with outputs and constraints keep those series too (older runs have neither field).
+  if (t.outputs !== undefined) {
+    if (!Array.isArray(t.outputs)) at("outputs", "must be a list of outputs");
+    else
+      (t.outputs as unknown[]).forEach((output, i) => {
+        const o = (typeof output === "object" && output !== null ? output : {}) as Record<string, unknown>;
+        if (typeof o.name !== "string") at(`outputs[${i}].name`, "must be a name");
+        if (o.unit !== null && typeof o.unit !== "string") at(`outputs[${i}].unit`, "must be a unit or null");
+        const problem = numericColumn(o.values, length);
+        if (problem) at(`outputs[${i}].values`, problem);
+        const peak = o.peak as Record<string, unknown> | null | undefined;
+        if (peak !== null && (typeof peak !== "object" || typeof peak.value !== "number" || typeof peak.time !== "number")) {
+          at(`outputs[${i}].peak`, "must be { value, time } or null");
+        }
+      });
+  }
+  if (t.constraints !== undefined && t.constraints !== null) {
+    const c = (typeof t.constraints === "object" ? t.constraints : {}) as Record<string, unknown>;
+    for (const field of ["names", "multiplierNames"] as const) {
+      const list = c[field];
+      if (!Array.isArray(list) || list.some((name) => typeof name !== "string")) at(`constraints.${field}`, "must be a list of names");
+    }
+    for (const field of ["multipliers", "residuals", "rateResiduals"] as const) {
+      const columns = c[field];
+      if (!Array.isArray(columns)) {
+        at(`constraints.${field}`, "must be a list of columns");
+        continue;
+      }
+      columns.forEach((column, i) => {
+        const problem = numericColumn(column, length);
+        if (problem) at(`constraints.${field}[${i}]`, problem);
+      });
+    }
+  }
+  const extra = Object.keys(t).filter((key) => !["coordinateNames", "times", "coordinates", "rates", "energy", "outputs", "constraints"].includes(key));
   if (extra.length > 0) at(extra[0]!, "unknown field");
   return { trajectory: problems.length === 0 ? (value as StoredTrajectory) : null, problems };
 }

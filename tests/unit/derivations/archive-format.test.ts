@@ -87,6 +87,43 @@ describe("notebook archive format", () => {
     );
   });
 
+  it("reads back a run of a constrained model with its outputs, multipliers and residuals, and names a malformed one", () => {
+    // Hoist rope on the seat rig's test frame, invented numbers: one output and one position constraint.
+    const run = contents.runs[0]!;
+    const constrained: NotebookArchiveContents = {
+      ...contents,
+      runs: [
+        {
+          ...run,
+          trajectory: {
+            ...run.trajectory,
+            outputs: [{ name: "tension", unit: "N", values: [98.1, 99.4, 101.2], peak: { value: 101.2, time: 0.2 } }],
+            constraints: {
+              names: ["rope"],
+              multiplierNames: ["lambda_rope"],
+              multipliers: [[-49.05, -49.7, -50.6]],
+              residuals: [[0, 1e-12, 2e-12]],
+              rateResiduals: [],
+            },
+          },
+        },
+      ],
+    };
+    const bytes = writeNotebookArchive(constrained, { exportedAt: new Date("2030-03-02T00:00:00.000Z") });
+    expect(readNotebookArchive(bytes, limits)).toEqual(constrained);
+
+    const unpacked = unzipSync(bytes);
+    const runEntry = Object.keys(unpacked).find((name) => name.startsWith("runs/"))!;
+    const stored = JSON.parse(strFromU8(unpacked[runEntry]!));
+    stored.trajectory.outputs[0].values = [1, 2];
+    const broken = strToU8(JSON.stringify(stored));
+    const manifest = JSON.parse(strFromU8(unpacked["manifest.json"]!));
+    manifest.runs[0].sizeBytes = broken.byteLength;
+    manifest.runs[0].sha256 = createHash("sha256").update(broken).digest("hex");
+    const problems = problemsOf(zipSync({ ...unpacked, [runEntry]: broken, "manifest.json": strToU8(JSON.stringify(manifest)) }));
+    expect(problems.map((problem) => problem.path)).toContain(`${runEntry}: trajectory.outputs[0].values`);
+  });
+
   it("refuses contents over the unpacked limit before unpacking them", () => {
     const bytes = writeNotebookArchive(contents, { exportedAt: new Date() });
     expect(problemsOf(bytes, { ...limits, maxUnpackedBytes: 100 })).toEqual([{ path: "archive", message: expect.stringContaining("the limit is 100") }]);
