@@ -4,4 +4,4 @@ import { z } from "zod";
 // trying. In the browser, under the Content-Security-Policy (no eval), that try
 // is blocked and reported as a violation; zod then parses without compiling
 // anyway. Say so up front. The server has no such policy and keeps the faster path.
-if (typeof window !== "undefined" || typeof (globalThis as { importScripts?: unknown }).importScripts === "function") z.config({ jitless: true });
+if (typeof window !== "undefined" || "WorkerGlobalScope" in globalThis) z.config({ jitless: true });

@@ -9,6 +9,8 @@
  * page → worker: `{ type: "start", id, job: ModelSimulationJob }`, `{ type: "cancel", id }`
  * worker → page: the library's `progress`, `result` (with `points`) and `error` messages.
  */
+// First, so that zod knows before any schema parses here: this worker runs under the page's policy (no eval).
+import "@/lib/validation/zod-config";
 import { compileExpressions, deriveModel, ModelError, analyzeModel, validateModel } from "@/lib/mechanics";
 import {
   type SimulationResult,

@@ -10,7 +10,7 @@ import * as z from "zod/mini";
 // worker the Content-Security-Policy forbids eval, so that try is reported as a violation:
 // tell zod up front, before this module's schemas parse anything (the shared document is
 // validated in the browser). lib/validation/zod-config.ts does the same for full zod.
-if (typeof window !== "undefined" || typeof (globalThis as { importScripts?: unknown }).importScripts === "function") z.config({ jitless: true });
+if (typeof window !== "undefined" || "WorkerGlobalScope" in globalThis) z.config({ jitless: true });
 
 /** Bump with a new entry in `DOCUMENT_MIGRATIONS` whenever the stored shape changes. */
 export const DOCUMENT_SCHEMA_VERSION = 3;
