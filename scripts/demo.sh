@@ -26,10 +26,6 @@ npx tsx --conditions=react-server scripts/seed.ts
 log "building the app"
 npx next build
 if port_open 3000; then die "port 3000 is already in use; stop the other server first"; fi
-export COLLAB_PORT="${COLLAB_PORT:-3001}"
-start_collab_server "$COLLAB_PORT"
-trap stop_collab_server EXIT
-trap 'exit 130' INT TERM
 log "serving on http://localhost:3000 — sign in as lead@demo.holonomy.test (password in README)"
-# The app and one queue worker (server simulations and fits).
+# The app with the collaboration server and one queue worker beside it (scripts/start.sh starts all three).
 exec bash scripts/start.sh 3000
