@@ -9,6 +9,7 @@ import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import clsx from "clsx";
 import { useRouter } from "next/navigation";
 import { useEffect, useId, useRef, useState } from "react";
+import { mayLeave } from "@/components/collab/use-leave-guard";
 import { useShortcut } from "@/components/shortcuts";
 import { apiFetch } from "@/lib/api/fetcher";
 import { formatRecordTime } from "@/lib/history/format";
@@ -89,7 +90,8 @@ export function NotificationsMenu() {
   function openItem(item: NotificationItem) {
     if (!item.readAt) markRead.mutate([item.id]);
     setOpen(false);
-    if (item.derivationId) router.push(`/derivations/${item.derivationId}`);
+    const derivationId = item.derivationId;
+    if (derivationId) void mayLeave().then((leave) => leave && router.push(`/derivations/${derivationId}`));
   }
 
   return (

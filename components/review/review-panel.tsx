@@ -10,6 +10,7 @@ import clsx from "clsx";
 import Link from "next/link";
 import { useRouter } from "next/navigation";
 import { useState } from "react";
+import { mayLeave } from "@/components/collab/use-leave-guard";
 import { useShortcut } from "@/components/shortcuts";
 import { Button, buttonClass } from "@/components/ui/button";
 import { formatRecordTime, shortHash } from "@/lib/history/format";
@@ -124,11 +125,14 @@ export function ReviewPanel({ data }: { data: ReviewPanelData }) {
   const showRequest = data.can.requestReview && !data.lock;
   const reviewedIsNotLatest = request?.open && data.latest && data.latest.id !== request.revisionId;
 
-  useShortcut("g h", "Open the history of this derivation", () => router.push(historyHref(data.derivationId)));
+  useShortcut("g h", "Open the history of this derivation", () => void mayLeave().then((leave) => leave && router.push(historyHref(data.derivationId))));
   useShortcut(
     "g p",
     "Open the printable report",
-    () => data.reportRevisionId && router.push(reportHref(data.derivationId, data.reportRevisionId)),
+    () => {
+      const revisionId = data.reportRevisionId;
+      if (revisionId) void mayLeave().then((leave) => leave && router.push(reportHref(data.derivationId, revisionId)));
+    },
     data.reportRevisionId !== null,
   );
   useShortcut("r", "Request review of this derivation", () => setRequesting(true), showRequest);

@@ -3,6 +3,7 @@ import { QueryClient, QueryClientProvider } from "@tanstack/react-query";
 import { cleanup, configure, fireEvent, render, screen, waitFor, within } from "@testing-library/react";
 import { afterEach, beforeEach, describe, expect, it, vi } from "vitest";
 import { NotificationsMenu, type NotificationItem } from "@/components/notifications/notifications-menu";
+import { useLeaveGuard } from "@/components/collab/use-leave-guard";
 import { ShortcutsProvider } from "@/components/shortcuts";
 
 const router = { push: vi.fn(), refresh: vi.fn() };
@@ -70,7 +71,31 @@ function renderMenu() {
   );
 }
 
+/** A notebook page with one edit the server has not stored, whose author declines to leave. */
+function UnstoredEdit({ asked }: { asked: string[] }) {
+  useLeaveGuard({ pending: 1, whenStored: async () => false, waitMs: 0, confirm: (message) => (asked.push(message), false) });
+  return null;
+}
+
 describe("notifications menu", () => {
+  it("asks before leaving a page with unstored edits, and stays when told to", async () => {
+    const asked: string[] = [];
+    const client = new QueryClient({ defaultOptions: { queries: { retry: false } } });
+    render(
+      <QueryClientProvider client={client}>
+        <ShortcutsProvider>
+          <UnstoredEdit asked={asked} />
+          <NotificationsMenu />
+        </ShortcutsProvider>
+      </QueryClientProvider>,
+    );
+    fireEvent.click(await screen.findByRole("button", { name: "Notifications, 1 unread" }));
+    const panel = await screen.findByRole("region", { name: "Notifications" });
+    fireEvent.click((await within(panel).findAllByTestId("notification"))[0]!);
+    await waitFor(() => expect(asked).toEqual(["1 edit has not reached the server yet and would be lost. Leave this page anyway?"]));
+    expect(router.push).not.toHaveBeenCalled();
+  });
+
   it("shows the unread count, lists the notifications, and marks one read when it is opened", async () => {
     renderMenu();
     const button = await screen.findByRole("button", { name: "Notifications, 1 unread" });
@@ -81,7 +106,7 @@ describe("notifications menu", () => {
     expect(entries.map((entry) => entry.getAttribute("data-unread"))).toEqual(["true", null]);
     expect(entries[0]!.textContent).toContain('Tomas Reyes asked you to review revision 2 of "Hoist drum"');
     fireEvent.click(entries[0]!);
-    expect(router.push).toHaveBeenCalledWith(`/derivations/${DERIVATION}`);
+    await waitFor(() => expect(router.push).toHaveBeenCalledWith(`/derivations/${DERIVATION}`));
     await waitFor(() => expect(posts).toEqual([{ ids: [ID] }]));
     await screen.findByRole("button", { name: "Notifications" });
     expect(screen.queryByTestId("unread-count")).toBeNull();
