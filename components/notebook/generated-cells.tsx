@@ -334,7 +334,8 @@ export function LinearizationCellView(props: LinearizationCellProps) {
           <MathView latex={`A = ${matrixLatex(selected.A)}`} display label="State matrix A" />
           {selected.inputNames.length > 0 && <MathView latex={`B = ${matrixLatex(selected.B)}`} display label="Input matrix B" />}
           <StabilityVerdictView stability={selected.stability} reason={selected.stabilityReason} eigenvalues={selected.eigenvalues} />
-          {selected.modes.length > 0 && <ModeTable modes={selected.modes} coordinates={coordinatesOf(selected.stateNames)} />}
+          {selected.constrained && <ConstrainedStateNote constrained={selected.constrained} />}
+          {selected.modes.length > 0 && <ModeTable modes={selected.modes} coordinates={selected.shapeCoordinates ?? coordinatesOf(selected.stateNames)} />}
           {selected.outputs && (
             <Suspense fallback={<p className="text-sm text-muted">Loading the frequency response…</p>}>
               <FrequencyResponsePanel
@@ -396,6 +397,25 @@ function eigenvalueText({ re, im }: { re: number; im: number }): string {
 }
 
 /** Coordinate names from the state names [q; q']. */
+/** With constraints: which coordinates the state holds and the multipliers at the equilibrium. */
+type LinearizationSelected = NonNullable<NonNullable<NotebookResults["linearization"]>["selected"]>;
+
+function ConstrainedStateNote({ constrained }: { constrained: NonNullable<LinearizationSelected["constrained"]> }) {
+  return (
+    <p className="text-sm text-muted" data-testid="constrained-state">
+      The state holds the independent coordinates {constrained.independent.join(", ") || "(none)"}
+      {constrained.dependent.length > 0 && <>; {constrained.dependent.join(", ")} follow from the constraints</>}. Multipliers at this equilibrium:{" "}
+      {constrained.multipliers.map((m, k) => (
+        <span key={m.symbol}>
+          {k > 0 && ", "}
+          <code>{m.symbol}</code> = {Number(m.value.toPrecision(4)).toString().replace("-", "−")}
+        </span>
+      ))}
+      .
+    </p>
+  );
+}
+
 function coordinatesOf(stateNames: readonly string[]): string[] {
   return stateNames.filter((name) => !name.endsWith("'"));
 }

@@ -380,7 +380,12 @@ export function ReportView({ report, title, teamName, generatedAt }: { report: R
             {selected.modes.length > 0 ? (
               <Table
                 label="Modes"
-                head={["Mode", "Natural frequency [Hz]", "Damped [Hz], ζ", `Shape (${coordinatesOf(selected.stateNames).join(", ")})`]}
+                head={[
+                  "Mode",
+                  "Natural frequency [Hz]",
+                  "Damped [Hz], ζ",
+                  `Shape (${(selected.shapeCoordinates ?? coordinatesOf(selected.stateNames)).join(", ")})`,
+                ]}
                 rows={selected.modes.map((mode, k) => [
                   String(k + 1),
                   mode.kind === "oscillating"

@@ -10,7 +10,7 @@ import { fileBaseName } from "@/lib/files/names";
 import {
   type CodeExportInput,
   type CodeLanguage,
-  type MassMatrixSystem,
+  type AnalysisSystem,
   type Equilibrium,
   symbolLatex,
   type LatexTerm,
@@ -64,6 +64,16 @@ export interface EvaluationResult extends NotebookResults {
   equilibria?: (Equilibrium & { label: string })[];
   /** The model's outputs, definitions expanded (the engine's), for the frequency response when relinearizing. */
   outputs?: { name: string; expr: string; unit: string }[];
+  /** The model's constraints, definitions expanded (the engine's), for the equilibria and linearization when relinearizing. */
+  constraintRows?: ConstraintRowText[];
+}
+
+/** A constraint as the analysis takes it across the worker boundary. */
+export interface ConstraintRowText {
+  name: string;
+  kind: "position" | "rate";
+  symbol: string;
+  expr: string;
 }
 
 const CODE_LANGUAGE_OF: Record<CodeExportLanguage, CodeLanguage> = {
@@ -175,20 +185,22 @@ export function accelerationsView(result: Pick<PrintedDerivation, "accelerations
   return { accelerations: solved.map(({ coordinate, latex }) => ({ coordinate, latex: `${symbolLatex(coordinate, 2)} = ${latex}` })) };
 }
 
-/** The system with numbers for the parameters, or the reason there is none. */
+/** The system with numbers for the parameters (and its constraints), or the reason there is none. */
 export function mechanicalSystemOf(
   model: Model,
-  result: Pick<PrintedDerivation, "coordinates" | "massMatrix" | "forcing">,
-): MassMatrixSystem | { reason: string } {
+  result: Pick<PrintedDerivation, "coordinates" | "massMatrix" | "forcing"> & { constraintRows?: readonly ConstraintRowText[] },
+): AnalysisSystem | { reason: string } {
   const symbolic = model.parameters.filter((p) => p.value === undefined).map((p) => p.name);
   if (symbolic.length > 0) return { reason: `Give ${symbolic.join(", ")} a value to find equilibria and linearize.` };
-  const constraintCount = (model.constraints?.length ?? 0) + (model.rateConstraints?.length ?? 0);
-  if (constraintCount > 0) {
+  if ((model.rateConstraints?.length ?? 0) > 0) {
     return {
       reason:
-        "Equilibria and the linearization are found for unconstrained models only: this one has constraints, whose multipliers the search does not solve for. Simulate it, or write it in independent coordinates to linearize.",
+        "Equilibria and the linearization are found for models whose constraints are all position constraints: this one has rate constraints, which limit velocities without limiting positions. Simulate it to study its motion.",
     };
   }
+  const positionCount = model.constraints?.length ?? 0;
+  const rows = result.constraintRows ?? [];
+  if (positionCount > 0 && rows.length !== positionCount) return { reason: "Evaluate the notebook again to find equilibria of its constrained model." };
   return {
     coordinates: result.coordinates,
     coordinateUnits: model.coordinates.map((c) => c.unit),
@@ -196,6 +208,7 @@ export function mechanicalSystemOf(
     massMatrix: result.massMatrix,
     forcing: result.forcing,
     parameters: Object.fromEntries(model.parameters.map((p) => [p.name, p.value!])),
+    ...(rows.length > 0 ? { constraints: rows.map(({ name, kind, symbol, expr }) => ({ name, kind, symbol, expr })) } : {}),
   };
 }
 
@@ -204,7 +217,10 @@ export function mechanicalSystemOf(
  * angle; the engine reports them as `freeCoordinates`) leaves every
  * equilibrium one of a continuum; the search reports many copies. Keep one
  * per distinct value of the other coordinates, with the free ones at 0, and
- * round search noise (|q| < 1e-9) to 0.
+ * round search noise (|q| < 1e-9) to 0. The same holds for a continuum along
+ * a rigid mode (a trolley and its hanging load moving together): equilibria
+ * that differ by a combination of the rigid mode shapes are one, shown by the
+ * member nearest to all zeros.
  */
 export function distinctEquilibria(coordinates: readonly string[], freeCoordinates: readonly string[], found: readonly Equilibrium[]): Equilibrium[] {
   const free = coordinates.map((name) => freeCoordinates.includes(name));
@@ -215,9 +231,37 @@ export function distinctEquilibria(coordinates: readonly string[], freeCoordinat
     const key = q.map((value) => value.toFixed(6)).join(",");
     if (seen.has(key)) continue;
     seen.add(key);
-    kept.push({ ...equilibrium, q });
+    const candidate = { ...equilibrium, q };
+    const family = kept.findIndex((other) => sameFamily(other, candidate));
+    if (family < 0) kept.push(candidate);
+    else if (Math.hypot(...candidate.q) < Math.hypot(...kept[family]!.q)) kept[family] = candidate;
   }
   return kept;
+}
+
+/** Whether two equilibria of the same stability differ only along the rigid modes of the first. */
+function sameFamily(a: Equilibrium, b: Equilibrium): boolean {
+  if (a.isolated !== false || b.isolated !== false || a.stability !== b.stability) return false;
+  const rigid = (a.linearization?.modes ?? []).filter((mode) => mode.kind === "rigid").map((mode) => mode.shape);
+  if (rigid.length === 0) return false;
+  // Gram–Schmidt on the rigid shapes, then the part of the difference outside their span.
+  const basis: number[][] = [];
+  for (const shape of rigid) {
+    const v = [...shape];
+    for (const e of basis) {
+      const dot = v.reduce((sum, x, i) => sum + x * e[i]!, 0);
+      for (let i = 0; i < v.length; i++) v[i]! -= dot * e[i]!;
+    }
+    const length = Math.hypot(...v);
+    if (length > 1e-9) basis.push(v.map((x) => x / length));
+  }
+  const d = a.q.map((x, i) => x - b.q[i]!);
+  for (const e of basis) {
+    const dot = d.reduce((sum, x, i) => sum + x * e[i]!, 0);
+    for (let i = 0; i < d.length; i++) d[i]! -= dot * e[i]!;
+  }
+  const scale = 1 + Math.max(...a.q.map(Math.abs), ...b.q.map(Math.abs));
+  return Math.max(...d.map(Math.abs)) <= 1e-6 * scale;
 }
 
 function equilibriumLabel(names: readonly string[], q: readonly number[], stability: string): string {
@@ -228,7 +272,7 @@ function equilibriumLabel(names: readonly string[], q: readonly number[], stabil
 /** Equilibria, then the linearization about the chosen one, with frequencies and mode shapes. */
 export async function analyseSystem(
   runner: EngineRunner,
-  system: MassMatrixSystem,
+  system: AnalysisSystem,
   settings: LinearizationSettings,
   freeCoordinates: readonly string[] = [],
   outputs: readonly { name: string; expr: string; unit: string }[] = [],
@@ -260,9 +304,19 @@ export async function analyseSystem(
       selected: {
         index,
         stateNames: lin.state,
+        shapeCoordinates: [...system.coordinates],
+        ...(lin.basis
+          ? {
+              constrained: {
+                independent: lin.coordinates,
+                dependent: system.coordinates.filter((name) => !lin.coordinates.includes(name)),
+                multipliers: lin.multipliers,
+              },
+            }
+          : {}),
         inputNames: lin.inputs,
-        A: withoutRoundingNoise(lin.A, system.coordinates.length),
-        B: withoutRoundingNoise(lin.B, system.coordinates.length),
+        A: withoutRoundingNoise(lin.A, lin.coordinates.length),
+        B: withoutRoundingNoise(lin.B, lin.coordinates.length),
         modes: lin.modes.map((mode, k): ModeView => ({
           kind: mode.kind,
           hertz: mode.hertz,
@@ -286,7 +340,7 @@ export async function analyseSystem(
  * output that cannot (it uses a multiplier) is left out with a note.
  */
 export function outputRows(
-  system: MassMatrixSystem,
+  system: AnalysisSystem,
   lin: Linearization,
   point: { q: number[]; inputs: number[] },
   outputs: readonly { name: string; expr: string; unit: string }[],
@@ -398,7 +452,8 @@ export async function evaluateModel(
   const energyNotConserved = derived.conserved.some((quantity) => quantity.name === "energy function") ? undefined : energyNotConservedReason(model, derived);
   const afterLatex = performance.now();
 
-  const system = mechanicalSystemOf(model, derived);
+  const constraintRows: ConstraintRowText[] = derived.constraints.map(({ name, kind, symbol, expr }) => ({ name, kind, symbol, expr }));
+  const system = mechanicalSystemOf(model, { ...derived, constraintRows });
   const analysis: Awaited<ReturnType<typeof analyseSystem>> =
     "reason" in system
       ? { equilibria: [], note: system.reason }
@@ -437,6 +492,7 @@ export async function evaluateModel(
     ...(analysis.note ? { linearizationNote: analysis.note } : {}),
     equilibria: analysis.equilibria,
     ...(derived.outputs && derived.outputs.length > 0 ? { outputs: derived.outputs.map(({ name, expr, unit }) => ({ name, expr, unit })) } : {}),
+    ...(constraintRows.length > 0 ? { constraintRows } : {}),
     ...(code.length > 0 ? { code } : {}),
     timingMs: timings.totalMs,
   };

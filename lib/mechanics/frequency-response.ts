@@ -89,14 +89,25 @@ export function stateSpaceOf(system: MassMatrixSystem, linearization: Linearizat
   const inputs = [...(system.inputs ?? [])];
   const n = names.length;
   const m = inputs.length;
-  const variables = [...names, ...names.map((q) => `${q}'`), ...names.map((q) => `${q}''`), "t", ...inputs];
+  // With constraints, outputs may read the multipliers, whose first-order change the linearization gives.
+  const multipliers = linearization.multiplierRows ? linearization.multipliers : [];
+  const l = multipliers.length;
+  const variables = [
+    ...names,
+    ...names.map((q) => `${q}'`),
+    ...names.map((q) => `${q}''`),
+    "t",
+    ...inputs,
+    ...multipliers.map((multiplier) => multiplier.symbol),
+  ];
   const derivatives: Expr[] = [];
-  const trees = outputs.map((o, k) => ModelError.inField(`outputs[${k}].expr`, () => parseExpression(o.expr)));
+  const trees = outputs.map((o, index) => ModelError.inField(`outputs[${index}].expr`, () => parseExpression(o.expr)));
   for (const tree of trees) {
     for (const q of names) derivatives.push(differentiate(tree, q, 0));
     for (const q of names) derivatives.push(differentiate(tree, q, 1));
     for (const q of names) derivatives.push(differentiate(tree, q, 2));
     for (const u of inputs) derivatives.push(differentiate(tree, u, 0));
+    for (const multiplier of multipliers) derivatives.push(differentiate(tree, multiplier.symbol, 0));
   }
   // Each output compiled alone first: an unknown symbol is named with its output (derivatives would drop it).
   trees.forEach((tree, k) => ModelError.inField(`outputs[${k}].expr`, () => compileExpressions([tree], variables, { constants: system.parameters })));
@@ -107,19 +118,42 @@ export function stateSpaceOf(system: MassMatrixSystem, linearization: Linearizat
     ...linearization.accelerations,
     point.t ?? 0,
     ...(point.inputs ?? new Array<number>(m).fill(0)),
+    ...multipliers.map((multiplier) => multiplier.value),
   ];
   const out = new Float64Array(derivatives.length);
   evaluator.evaluate(values, out);
-  const stride = 3 * n + m;
+  const stride = 3 * n + m + l;
+  // With constraints the state is [z; z'] over the independent coordinates and δq = N δz
+  // (δq' = N δz', δq'' = N δz'' at rest); without, N is the identity.
+  const basis = linearization.basis ?? names.map((_, i) => names.map((__, j) => (i === j ? 1 : 0)));
+  const r = basis[0]?.length ?? 0;
+  const through = (row: readonly number[]) => Array.from({ length: r }, (_, j) => row.reduce((sum, x, i) => sum + x * basis[i]![j]!, 0));
   const C: number[][] = [];
   const D: number[][] = [];
   outputs.forEach((_, k) => {
     const base = k * stride;
-    const byState = Array.from({ length: 2 * n }, (_, j) => out[base + j]!);
-    const byAcceleration = Array.from({ length: n }, (_, i) => out[base + 2 * n + i]!);
+    const byCoordinate = through(Array.from({ length: n }, (_, i) => out[base + i]!));
+    const byRate = through(Array.from({ length: n }, (_, i) => out[base + n + i]!));
+    const byAcceleration = through(Array.from({ length: n }, (_, i) => out[base + 2 * n + i]!));
     const byInput = Array.from({ length: m }, (_, j) => out[base + 3 * n + j]!);
-    C.push(byState.map((x, j) => x + byAcceleration.reduce((sum, a, i) => sum + a * linearization.A[n + i]![j]!, 0)));
-    D.push(byInput.map((x, j) => x + byAcceleration.reduce((sum, a, i) => sum + a * linearization.B[n + i]![j]!, 0)));
+    const byMultiplier = Array.from({ length: l }, (_, j) => out[base + 3 * n + m + j]!);
+    const rows = linearization.multiplierRows;
+    C.push(
+      [...byCoordinate, ...byRate].map(
+        (x, j) =>
+          x +
+          byAcceleration.reduce((sum, a, i) => sum + a * linearization.A[r + i]![j]!, 0) +
+          byMultiplier.reduce((sum, a, i) => sum + a * rows!.byState[i]![j]!, 0),
+      ),
+    );
+    D.push(
+      byInput.map(
+        (x, j) =>
+          x +
+          byAcceleration.reduce((sum, a, i) => sum + a * linearization.B[r + i]![j]!, 0) +
+          byMultiplier.reduce((sum, a, i) => sum + a * rows!.byInput[i]![j]!, 0),
+      ),
+    );
   });
   return { state: linearization.state, inputs: linearization.inputs, outputs: outputs.map((o) => o.name), A: linearization.A, B: linearization.B, C, D };
 }

@@ -35,8 +35,8 @@ export type { CompiledExpressions, CompileOptions, MassMatrixSystem, CompiledMas
 export { ExpressionGraph } from "./graph";
 export { residualJacobians } from "./jacobians";
 export type { ResidualJacobians } from "./jacobians";
-export { linearizeAbout, compileAnalysis, normalModes, matchEigenvalues } from "./linearize";
-export type { OperatingPoint, Linearization, Mode, ModeKind, Complex, CompiledAnalysis } from "./linearize";
+export { linearizeAbout, compileAnalysis, normalModes, matchEigenvalues, constraintBasis } from "./linearize";
+export type { OperatingPoint, Linearization, Mode, ModeKind, Complex, CompiledAnalysis, AnalysisSystem, AnalysisConstraint } from "./linearize";
 export { findEquilibria, wrapAngle } from "./equilibria";
 export type { Equilibrium, EquilibriumOptions, Stability } from "./equilibria";
 export { classifyStability, frequencyScale, stabilityTolerance, formatEigenvalue, STABILITY_RULE, STABILITY_TOLERANCE } from "./stability";

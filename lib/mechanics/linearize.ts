@@ -1,10 +1,35 @@
 import { CholeskyDecomposition, EigenvalueDecomposition, LuDecomposition, Matrix, solve } from "ml-matrix";
 import { compileExpressions, type CompiledExpressions, type MassMatrixSystem } from "./compile";
+import { differentiate } from "./differentiate";
 import { ModelError } from "./errors";
+import type { Expr } from "./expr/ast";
+import { expressionTree, type ExpressionSource } from "./expr/parse";
 import { residualJacobians } from "./jacobians";
+
+/**
+ * A constraint as the analysis takes it: g(q, t, u) = 0, whose multiplier
+ * symbol (`lambda_<name>`) appears in the forcing with the convention of
+ * constraints.ts (M q'' = f₀ + Aᵀ λ, A = ∂g/∂q).
+ */
+export interface AnalysisConstraint {
+  name: string;
+  kind: "position" | "rate";
+  symbol: string;
+  expr: ExpressionSource;
+}
+
+/** The mass-matrix form with, optionally, position constraints and their multipliers in the forcing. */
+export interface AnalysisSystem extends MassMatrixSystem {
+  constraints?: readonly AnalysisConstraint[];
+}
 
 export interface OperatingPoint {
   q: readonly number[];
+  /**
+   * Multipliers of a constrained system at the point, in constraint order;
+   * solved from the augmented system when absent.
+   */
+  multipliers?: readonly number[];
   /** Defaults to zeros. */
   rates?: readonly number[];
   /** Input values; default zeros. */
@@ -38,22 +63,46 @@ export interface Mode {
 }
 
 export interface Linearization {
-  /** State names, x = [q; q']. */
+  /**
+   * The coordinates the state is made of: all of them without constraints;
+   * with constraints, the independent ones (coordinate partitioning), the
+   * others following from them through `basis`.
+   */
+  coordinates: string[];
+  /**
+   * With constraints, N (n×r): first-order motions allowed by the constraints
+   * are δq = N δz, δz over `coordinates`; null without constraints.
+   */
+  basis: number[][] | null;
+  /** Multipliers at the point (`lambda_<name>`, in constraint order); empty without constraints. */
+  multipliers: { symbol: string; value: number }[];
+  /**
+   * With constraints, the multipliers' first-order change δλ = byState x + byInput u
+   * (k×2r and k×m), so outputs that read multipliers (a rope's tension) linearize too;
+   * null without constraints.
+   */
+  multiplierRows: { byState: number[][]; byInput: number[][] } | null;
+  /** State names, x = [z; z'] with z = `coordinates`. */
   state: string[];
   inputs: string[];
   /** 2n×2n, ẋ ≈ A x + B u about the point. */
   A: number[][];
   /** 2n×m. */
   B: number[][];
+  /** Over `coordinates` (NᵀMN with constraints). */
   massMatrix: number[][];
-  /** K = −∂f/∂q (with the ∂M/∂q·q'' term where q'' ≠ 0). */
+  /**
+   * K = −∂f/∂q (with the ∂M/∂q·q'' term where q'' ≠ 0), over `coordinates`;
+   * with constraints NᵀKN, where K holds the multipliers at their values at
+   * the point (the constraints' curvature times λ, their geometric stiffness).
+   */
   stiffness: number[][];
-  /** C = −∂f/∂q'. */
+  /** C = −∂f/∂q' over `coordinates` (NᵀCN with constraints). */
   damping: number[][];
-  /** Accelerations at the point; all zero at an equilibrium. */
+  /** Accelerations of every coordinate at the point; all zero at an equilibrium. */
   accelerations: number[];
   eigenvalues: Complex[];
-  /** Undamped modes from K v = ω² M v, sorted by ω². */
+  /** Undamped modes from K v = ω² M v, sorted by ω²; shapes over every coordinate (N v with constraints). */
   modes: Mode[];
 }
 
@@ -61,49 +110,105 @@ export interface Linearization {
 export interface CompiledAnalysis {
   n: number;
   m: number;
+  coordinates: string[];
+  /** Multiplier symbols of the position constraints, in order; empty without constraints. */
+  multipliers: string[];
+  /** Constraint names, in the order of `multipliers`. */
+  constraintNames: string[];
   variables: string[];
   evaluator: CompiledExpressions;
-  /** Evaluates everything at (q, q', q'', t, u) into plain matrices. */
+  /**
+   * Evaluates everything at (q, q', q'', t, u) into plain matrices, with the
+   * multipliers at `lambda` (zeros when absent, which leaves f₀).
+   */
   at(
     q: readonly number[],
     rates: readonly number[],
     accelerations: readonly number[],
     t: number,
     u: readonly number[],
+    lambda?: readonly number[],
   ): {
     mass: number[][];
     forcing: number[];
     byCoordinate: number[][];
     byRate: number[][];
     byInput: number[][];
+    /** ∂r/∂λ (n×k): −Aᵀ by the sign convention. */
+    byMultiplier: number[][];
   };
+  /** g(q, t, u), A = ∂g/∂q and ∂g/∂t at a point (k values, k×n, k values). */
+  constraintsAt(q: readonly number[], t: number, u: readonly number[]): { residuals: number[]; jacobian: number[][]; timeRates: number[] };
 }
 
-export function compileAnalysis(system: MassMatrixSystem): CompiledAnalysis {
+export function compileAnalysis(system: AnalysisSystem): CompiledAnalysis {
   const n = system.coordinates.length;
   const inputs = system.inputs ?? [];
   const m = inputs.length;
-  const trees = residualJacobians(system);
-  const variables = [...system.coordinates, ...system.coordinates.map((q) => `${q}'`), ...system.coordinates.map((q) => `${q}''`), "t", ...inputs];
+  const constraints = system.constraints ?? [];
+  const rate = constraints.findIndex((c) => c.kind === "rate");
+  if (rate >= 0) {
+    throw new ModelError(
+      "schema",
+      `rateConstraints[0]`,
+      `rate constraint "${constraints[rate]!.name}": equilibria and the linearization are found for position constraints only`,
+    );
+  }
+  const multipliers = constraints.map((c) => c.symbol);
+  const k = multipliers.length;
+  // The multipliers are read as inputs after the system's own: ∂r/∂λ comes with ∂r/∂u.
+  const trees = residualJacobians({ ...system, inputs: [...inputs, ...multipliers] });
+  const variables = [
+    ...system.coordinates,
+    ...system.coordinates.map((q) => `${q}'`),
+    ...system.coordinates.map((q) => `${q}''`),
+    "t",
+    ...inputs,
+    ...multipliers,
+  ];
   const outputs = [...trees.mass.flat(), ...trees.forcing, ...trees.byCoordinate.flat(), ...trees.byRate.flat(), ...trees.byInput.flat()];
   const evaluator = compileExpressions(outputs, variables, { constants: system.parameters });
   const values = new Float64Array(variables.length);
   const out = new Float64Array(outputs.length);
   const take = (offset: number, rows: number, cols: number) =>
     Array.from({ length: rows }, (_, i) => Array.from({ length: cols }, (_, j) => out[offset + i * cols + j]!));
+
+  const gTrees: Expr[] = constraints.map((c, index) => ModelError.inField(`constraints[${index}].expr`, () => expressionTree(c.expr)));
+  const constraintOutputs = [
+    ...gTrees,
+    ...gTrees.flatMap((g) => system.coordinates.map((q) => differentiate(g, q, 0))),
+    ...gTrees.map((g) => differentiate(g, "t", 0)),
+  ];
+  const constraintEvaluator = k > 0 ? compileExpressions(constraintOutputs, variables, { constants: system.parameters }) : null;
+  const constraintOut = new Float64Array(constraintOutputs.length);
+  const load = (
+    q: readonly number[],
+    rates: readonly number[],
+    accelerations: readonly number[],
+    t: number,
+    u: readonly number[],
+    lambda?: readonly number[],
+  ) => {
+    for (let i = 0; i < n; i++) {
+      values[i] = q[i]!;
+      values[n + i] = rates[i]!;
+      values[2 * n + i] = accelerations[i]!;
+    }
+    values[3 * n] = t;
+    for (let j = 0; j < m; j++) values[3 * n + 1 + j] = u[j]!;
+    for (let j = 0; j < k; j++) values[3 * n + 1 + m + j] = lambda?.[j] ?? 0;
+  };
+  const zeros = new Array<number>(n).fill(0);
   return {
     n,
     m,
+    coordinates: [...system.coordinates],
+    multipliers,
+    constraintNames: constraints.map((c) => c.name),
     variables,
     evaluator,
-    at(q, rates, accelerations, t, u) {
-      for (let i = 0; i < n; i++) {
-        values[i] = q[i]!;
-        values[n + i] = rates[i]!;
-        values[2 * n + i] = accelerations[i]!;
-      }
-      values[3 * n] = t;
-      for (let k = 0; k < m; k++) values[3 * n + 1 + k] = u[k]!;
+    at(q, rates, accelerations, t, u, lambda) {
+      load(q, rates, accelerations, t, u, lambda);
       evaluator.evaluate(values, out);
       let offset = 0;
       const mass = take(offset, n, n);
@@ -114,8 +219,25 @@ export function compileAnalysis(system: MassMatrixSystem): CompiledAnalysis {
       offset += n * n;
       const byRate = take(offset, n, n);
       offset += n * n;
-      const byInput = take(offset, n, m);
-      return { mass, forcing, byCoordinate, byRate, byInput };
+      const byAll = take(offset, n, m + k);
+      return {
+        mass,
+        forcing,
+        byCoordinate,
+        byRate,
+        byInput: byAll.map((row) => row.slice(0, m)),
+        byMultiplier: byAll.map((row) => row.slice(m)),
+      };
+    },
+    constraintsAt(q, t, u) {
+      if (constraintEvaluator === null) return { residuals: [], jacobian: [], timeRates: [] };
+      load(q, zeros, zeros, t, u);
+      constraintEvaluator.evaluate(values, constraintOut);
+      return {
+        residuals: Array.from(constraintOut.subarray(0, k)),
+        jacobian: Array.from({ length: k }, (_, row) => Array.from(constraintOut.subarray(k + row * n, k + (row + 1) * n))),
+        timeRates: Array.from(constraintOut.subarray(k + k * n, k + k * n + k)),
+      };
     },
   };
 }
@@ -125,11 +247,25 @@ export function compileAnalysis(system: MassMatrixSystem): CompiledAnalysis {
  * eigenvalues of A, and the undamped natural frequencies and mode shapes.
  * Derivatives are exact (differentiate.ts), evaluated numerically.
  *
+ * With position constraints the point must be at rest and the constraints
+ * fixed in time there. The multipliers λ₀ and accelerations come from the
+ * augmented system; the stiffness then holds λ₀ times the constraints'
+ * curvature. Coordinate partitioning picks independent coordinates z (the
+ * others follow from A δq = 0, δq = N δz), and the equations are projected
+ * with Nᵀ, which removes the multipliers:
+ *   NᵀMN δz'' + NᵀCN δz' + NᵀKN δz = −NᵀB_u δu.
+ * (The null-space projection of the linearized constrained equations; a fact
+ * of the trade, e.g. Géradin & Cardona, Flexible Multibody Dynamics (2001),
+ * the linearization of constrained systems, from memory.) It is exact at an
+ * equilibrium; at a rest point with q'' ≠ 0 it leaves out the constraints'
+ * curvature acting on q''.
+ *
  * @example
  * linearizeAbout({ coordinates: ["x"], massMatrix: [["m"]], forcing: ["-k*x"], parameters: { m: 1, k: 4 } }, { q: [0] }).modes[0].radPerSecond // 2
  */
-export function linearizeAbout(system: MassMatrixSystem | CompiledAnalysis, point: OperatingPoint): Linearization {
+export function linearizeAbout(system: AnalysisSystem | CompiledAnalysis, point: OperatingPoint): Linearization {
   const compiled = "evaluator" in system ? system : compileAnalysis(system);
+  if (compiled.multipliers.length > 0) return linearizeConstrained(compiled, point);
   const { n, m } = compiled;
   const zeros = new Array<number>(n).fill(0);
   const rates = point.rates ?? zeros;
@@ -140,29 +276,53 @@ export function linearizeAbout(system: MassMatrixSystem | CompiledAnalysis, poin
   const mass = new Matrix(first.mass);
   const accelerations = solveOrThrow(mass, Matrix.columnVector(first.forcing)).to1DArray();
   const e = accelerations.every((a) => a === 0) ? first : compiled.at(point.q, rates, accelerations, t, u);
-
   const stiffness = new Matrix(e.byCoordinate);
   const damping = new Matrix(e.byRate);
+  return assemble(compiled, mass, stiffness, damping, m > 0 ? new Matrix(e.byInput) : new Matrix(n, 0), accelerations, null, []);
+}
+
+/** x = [z; z'], ẋ = A x + B u from M z'' + C z' + K z + B_r u = 0 (B_r = ∂r/∂u), with modes and eigenvalues. */
+function assemble(
+  compiled: CompiledAnalysis,
+  mass: Matrix,
+  stiffness: Matrix,
+  damping: Matrix,
+  byInput: Matrix,
+  accelerations: number[],
+  basis: Matrix | null,
+  multipliers: { symbol: string; value: number }[],
+  multiplierRows: (A: Matrix, B: Matrix) => Linearization["multiplierRows"] = () => null,
+): Linearization {
+  const r = mass.rows;
+  const m = compiled.m;
+  const names = basis === null ? compiled.coordinates : independentNames(compiled.coordinates, basis);
   const lowerLeft = solveOrThrow(mass, stiffness).neg();
   const lowerRight = solveOrThrow(mass, damping).neg();
-  const A = Matrix.zeros(2 * n, 2 * n);
-  for (let i = 0; i < n; i++) {
-    A.set(i, n + i, 1);
-    for (let j = 0; j < n; j++) {
-      A.set(n + i, j, lowerLeft.get(i, j));
-      A.set(n + i, n + j, lowerRight.get(i, j));
+  const A = Matrix.zeros(2 * r, 2 * r);
+  for (let i = 0; i < r; i++) {
+    A.set(i, r + i, 1);
+    for (let j = 0; j < r; j++) {
+      A.set(r + i, j, lowerLeft.get(i, j));
+      A.set(r + i, r + j, lowerRight.get(i, j));
     }
   }
-  const B = Matrix.zeros(2 * n, m);
+  const B = Matrix.zeros(2 * r, m);
   if (m > 0) {
-    const lower = solveOrThrow(mass, new Matrix(e.byInput)).neg();
-    for (let i = 0; i < n; i++) for (let k = 0; k < m; k++) B.set(n + i, k, lower.get(i, k));
+    const lower = solveOrThrow(mass, byInput).neg();
+    for (let i = 0; i < r; i++) for (let k = 0; k < m; k++) B.set(r + i, k, lower.get(i, k));
   }
   const decomposition = new EigenvalueDecomposition(A);
   const eigenvalues = decomposition.realEigenvalues.map((re, i) => ({ re, im: decomposition.imaginaryEigenvalues[i]! }));
+  const modes = normalModes(mass, stiffness).map((mode) =>
+    basis === null ? mode : { ...mode, shape: normaliseShape(basis.mmul(Matrix.columnVector(mode.shape)).to1DArray()) },
+  );
   return {
-    state: [...compiled.variables.slice(0, 2 * n)],
-    inputs: compiled.variables.slice(3 * n + 1),
+    coordinates: names,
+    basis: basis === null ? null : basis.to2DArray(),
+    multipliers,
+    multiplierRows: multiplierRows(A, B),
+    state: [...names, ...names.map((q) => `${q}'`)],
+    inputs: compiled.variables.slice(3 * compiled.n + 1, 3 * compiled.n + 1 + m),
     A: A.to2DArray(),
     B: B.to2DArray(),
     massMatrix: mass.to2DArray(),
@@ -170,8 +330,154 @@ export function linearizeAbout(system: MassMatrixSystem | CompiledAnalysis, poin
     damping: damping.to2DArray(),
     accelerations,
     eigenvalues,
-    modes: normalModes(mass, stiffness),
+    modes,
   };
+}
+
+/** The coordinates whose rows of N are rows of the identity: the independent ones, in N's column order. */
+function independentNames(coordinates: readonly string[], basis: Matrix): string[] {
+  return Array.from({ length: basis.columns }, (_, j) => {
+    const i = coordinates.findIndex((_, row) => basis.get(row, j) === 1 && basis.getRow(row).every((x, c) => c === j || x === 0));
+    return coordinates[i]!;
+  });
+}
+
+/** Relative size of a pivot (to the largest |A| entry) below which a constraint row counts as dependent. */
+const CONSTRAINT_RANK_TOLERANCE = 1e-10;
+
+/**
+ * Coordinate partitioning of A δq = 0 (k×n, full row rank): Gaussian
+ * elimination with complete pivoting picks k dependent coordinates (largest
+ * pivots), the rest are independent; returns N (n×(n−k)) with δq = N δz.
+ * Throws ModelError naming the constraint whose row depends on the others.
+ */
+export function constraintBasis(jacobian: readonly (readonly number[])[], constraintNames: readonly string[]): Matrix {
+  const k = jacobian.length;
+  const n = jacobian[0]?.length ?? 0;
+  const a = jacobian.map((row) => [...row]);
+  const rows = Array.from({ length: k }, (_, i) => i);
+  const scale = Math.max(1e-300, ...jacobian.flat().map(Math.abs));
+  const dependent: number[] = [];
+  const free = new Set(Array.from({ length: n }, (_, j) => j));
+  for (let step = 0; step < k; step++) {
+    let best = { row: -1, col: -1, size: 0 };
+    for (let i = step; i < k; i++) {
+      for (const j of free) {
+        const size = Math.abs(a[rows[i]!]![j]!);
+        if (size > best.size) best = { row: i, col: j, size };
+      }
+    }
+    if (best.size <= CONSTRAINT_RANK_TOLERANCE * scale) {
+      const index = rows[step]!;
+      throw new ModelError(
+        "singular",
+        `constraints[${index}]`,
+        `constraint "${constraintNames[index]}" is redundant with the others at this point (the constraint matrix loses rank), so the independent coordinates are not defined`,
+      );
+    }
+    [rows[step], rows[best.row]] = [rows[best.row]!, rows[step]!];
+    const pivotRow = a[rows[step]!]!;
+    for (let i = step + 1; i < k; i++) {
+      const row = a[rows[i]!]!;
+      const factor = row[best.col]! / pivotRow[best.col]!;
+      for (let j = 0; j < n; j++) row[j]! -= factor * pivotRow[j]!;
+    }
+    dependent.push(best.col);
+    free.delete(best.col);
+  }
+  const independent = [...free].sort((x, y) => x - y);
+  // δq_D = −A_D⁻¹ A_I δq_I with the original rows.
+  const full = new Matrix(jacobian.map((row) => [...row]));
+  const aD = new Matrix(k, k);
+  const aI = new Matrix(k, independent.length);
+  for (let i = 0; i < k; i++) {
+    dependent.forEach((col, c) => aD.set(i, c, full.get(i, col)));
+    independent.forEach((col, c) => aI.set(i, c, full.get(i, col)));
+  }
+  const follow = k > 0 && independent.length > 0 ? new LuDecomposition(aD).solve(aI).neg() : new Matrix(k, independent.length);
+  const basis = new Matrix(n, independent.length);
+  independent.forEach((col, c) => basis.set(col, c, 1));
+  dependent.forEach((col, d) => {
+    for (let c = 0; c < independent.length; c++) basis.set(col, c, follow.get(d, c));
+  });
+  return basis;
+}
+
+/** See linearizeAbout: the constrained case. */
+function linearizeConstrained(compiled: CompiledAnalysis, point: OperatingPoint): Linearization {
+  const { n, m } = compiled;
+  const k = compiled.multipliers.length;
+  const zeros = new Array<number>(n).fill(0);
+  const u = point.inputs ?? new Array<number>(m).fill(0);
+  const t = point.t ?? 0;
+  if (point.rates && point.rates.some((v) => v !== 0)) {
+    throw new ModelError("schema", "rates", "a model with constraints is linearized about a state at rest (all rates zero)");
+  }
+  const { jacobian, timeRates } = compiled.constraintsAt(point.q, t, u);
+  const moving = timeRates.findIndex((v, i) => Math.abs(v) > 1e-12 * Math.max(1, ...jacobian[i]!.map(Math.abs)));
+  if (moving >= 0) {
+    throw new ModelError(
+      "schema",
+      `constraints[${moving}]`,
+      `constraint "${compiled.constraintNames[moving]}" moves with time at this point; the linearization needs constraints fixed in time`,
+    );
+  }
+  const basis = constraintBasis(jacobian, compiled.constraintNames);
+  // [M −Aᵀ; A 0][q''; λ] = [f₀; 0] at rest with fixed constraints (constraints.ts's convention).
+  const base = compiled.at(point.q, zeros, zeros, t, u);
+  let accelerations: number[];
+  let lambda: number[];
+  if (point.multipliers) {
+    lambda = [...point.multipliers];
+    const withLambda = compiled.at(point.q, zeros, zeros, t, u, lambda);
+    accelerations = solveOrThrow(new Matrix(withLambda.mass), Matrix.columnVector(withLambda.forcing)).to1DArray();
+  } else {
+    const augmented = Matrix.zeros(n + k, n + k);
+    const rhs = Matrix.zeros(n + k, 1);
+    for (let i = 0; i < n; i++) {
+      for (let j = 0; j < n; j++) augmented.set(i, j, base.mass[i]![j]!);
+      // ∂r/∂λ = −Aᵀ: the column of λ_j in row i.
+      for (let j = 0; j < k; j++) augmented.set(i, n + j, base.byMultiplier[i]![j]!);
+      rhs.set(i, 0, base.forcing[i]!);
+    }
+    for (let i = 0; i < k; i++) for (let j = 0; j < n; j++) augmented.set(n + i, j, jacobian[i]![j]!);
+    const solution = solveOrThrow(augmented, rhs).to1DArray();
+    accelerations = solution.slice(0, n);
+    lambda = solution.slice(n);
+  }
+  const e = compiled.at(point.q, zeros, accelerations, t, u, lambda);
+  const project = (matrix: Matrix) => basis.transpose().mmul(matrix).mmul(basis);
+  const mass = project(new Matrix(e.mass));
+  const stiffness = project(new Matrix(e.byCoordinate));
+  const damping = project(new Matrix(e.byRate));
+  const byInput = basis.transpose().mmul(m > 0 ? new Matrix(e.byInput) : new Matrix(n, 0));
+  const multipliers = compiled.multipliers.map((symbol, i) => ({ symbol, value: lambda[i]! }));
+  // Aᵀ δλ = M δq'' + K δq + C δq' + B_u δu with δq = N z, δq' = N z', δq'' = N (A₂ x + B₂ u),
+  // consistent by construction; δλ = (A Aᵀ)⁻¹ A (…).
+  const multiplierRows = (stateMatrix: Matrix, inputMatrix: Matrix) => {
+    const r = basis.columns;
+    const a = new Matrix(jacobian);
+    const lowerA = stateMatrix.subMatrix(r, 2 * r - 1, 0, 2 * r - 1);
+    const fullMass = new Matrix(e.mass);
+    const byState = fullMass.mmul(basis).mmul(lowerA);
+    const K = new Matrix(e.byCoordinate).mmul(basis);
+    const C = new Matrix(e.byRate).mmul(basis);
+    for (let i = 0; i < n; i++) {
+      for (let j = 0; j < r; j++) {
+        byState.set(i, j, byState.get(i, j) + K.get(i, j));
+        byState.set(i, r + j, byState.get(i, r + j) + C.get(i, j));
+      }
+    }
+    const solver = new LuDecomposition(a.mmul(a.transpose()));
+    const stateRows = solver.solve(a.mmul(byState));
+    let inputRows = new Matrix(k, 0);
+    if (m > 0) {
+      const lowerB = inputMatrix.subMatrix(r, 2 * r - 1, 0, m - 1);
+      inputRows = solver.solve(a.mmul(fullMass.mmul(basis).mmul(lowerB).add(new Matrix(e.byInput))));
+    }
+    return { byState: stateRows.to2DArray(), byInput: inputRows.to2DArray() };
+  };
+  return assemble(compiled, mass, stiffness, damping, byInput, accelerations, basis, multipliers, multiplierRows);
 }
 
 /** |ω²| at or below this fraction of the largest |ω²| is a rigid mode (rounding of K's zero eigenvalue). */

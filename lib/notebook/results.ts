@@ -46,6 +46,18 @@ export interface NotebookResults {
       B: number[][];
       /** Every mode of K v = ω² M v, by ω²: oscillating, rigid (ω = 0) and divergent (ω² < 0) ones. */
       modes: ModeView[];
+      /**
+       * The coordinates a mode shape lists, in order: every coordinate of the
+       * model (with constraints the state holds only the independent ones).
+       * Absent in results stored before constraints were linearized: the
+       * state's coordinates then.
+       */
+      shapeCoordinates?: string[];
+      /**
+       * With constraints: which coordinates the state holds, the others
+       * following from the constraints, and each multiplier at the equilibrium.
+       */
+      constrained?: { independent: string[]; dependent: string[]; multipliers: { symbol: string; value: number }[] };
       /** Eigenvalues of A, rounding noise below the stability tolerance written as 0. */
       eigenvalues: { re: number; im: number }[];
       /** The verdict of the one stability rule (lib/mechanics/stability.ts), as the equilibrium list shows it. */

@@ -1,8 +1,7 @@
 import { exportCode, type CodeExportInput, type CodeLanguage } from "../codegen";
-import type { MassMatrixSystem } from "../compile";
 import { deriveModel, type DeriveOptions } from "../derive";
 import { findEquilibria, type EquilibriumOptions } from "../equilibria";
-import { linearizeAbout, type OperatingPoint } from "../linearize";
+import { linearizeAbout, type AnalysisSystem, type OperatingPoint } from "../linearize";
 import { printDerivation } from "../print";
 import { derivationReport } from "../report";
 import { checkModelUnits } from "../units";
@@ -64,12 +63,12 @@ export const ENGINE_TASKS: Record<string, EngineTask> = {
   },
   /** { system, point } → Linearization */
   linearize(payload) {
-    const { system, point } = payload as { system: MassMatrixSystem; point: OperatingPoint };
+    const { system, point } = payload as { system: AnalysisSystem; point: OperatingPoint };
     return linearizeAbout(system, point);
   },
   /** { system, options? } → Equilibrium[] */
   equilibria(payload) {
-    const { system, options } = payload as { system: MassMatrixSystem; options?: EquilibriumOptions };
+    const { system, options } = payload as { system: AnalysisSystem; options?: EquilibriumOptions };
     return findEquilibria(system, options);
   },
   /** { input, language } → { code } */

@@ -57,6 +57,29 @@ describe("stability verdicts on the demo models", () => {
     expect(upright.modes.find((mode) => mode.kind === "rigid")!.hertz).toBe(0);
   });
 
+  it("crane with a rope constraint: the same swing as the angle form, one equilibrium per family, and the rope loads as outputs", async () => {
+    const [M, m, l] = [850, 2000, 6.5];
+    const result = await evaluateDemo("Gantry crane: hoist");
+    // The trolley and load moving together is a continuum of rest points: shown once, nearest to zero.
+    expect(result.linearization!.equilibria.map((e) => e.label)).toEqual(["x = 0, xl = 0, yl = -6.5 (marginal)", "x = 0, xl = 0, yl = 6.5 (unstable)"]);
+    const selected = result.linearization!.selected!;
+    expect(selected.constrained).toMatchObject({ independent: ["x", "xl"], dependent: ["yl"] });
+    expect(selected.shapeCoordinates).toEqual(["x", "xl", "yl"]);
+    // Same frequency as the angle-form demo above: ω² = (g/l)(1 + m/M) (fact of the trade).
+    const omega = Math.sqrt((g / l) * (1 + m / M));
+    expect(selected.modes.map((mode) => mode.kind)).toEqual(["rigid", "oscillating"]);
+    expect(selected.modes[1]!.hertz!).toBeCloseTo(omega / (2 * Math.PI), 10);
+    // Rope tension at rest: the load's weight, T = −2 l λ = m g (fact of the trade).
+    expect(-2 * l * selected.constrained!.multipliers[0]!.value).toBeCloseTo(m * g, 8);
+    // The rope's horizontal pull on the trolley, −2 λ (xl − x), is m g times the rope's lean (xl − x)/l to
+    // first order; the tension itself does not change to first order (T = m g cos θ + m l θ'², fact of the trade).
+    const outputs = selected.outputs!;
+    const side = outputs.C[outputs.names.indexOf("trolley_side_load")]!;
+    expect(side).toEqual([(-m * g) / l, (m * g) / l, 0, 0].map((v) => expect.closeTo(v, 6)));
+    expect(outputs.C[outputs.names.indexOf("rope_tension")]!.every((v) => Math.abs(v) < 1e-9)).toBe(true);
+    expect(outputs.notes).toEqual([]);
+  });
+
   it("camera gimbal: marginal tilt-down point with the compound-pendulum frequency and its damped eigenvalue", async () => {
     const result = await evaluateDemo("Camera gimbal");
     expect(result.linearization!.equilibria.map((e) => e.label)).toEqual(["psi = 0, theta = 0 (marginal)", "psi = 0, theta = 3.14159 (unstable)"]);
@@ -230,6 +253,23 @@ describe("distinctEquilibria", () => {
     // With no free coordinate the trolley positions are distinct equilibria.
     expect(distinctEquilibria(["x", "theta"], [], found)).toHaveLength(3);
   });
+
+  it("keeps one member of a family along a rigid mode, the one nearest to zero", () => {
+    // Trolley x and load xl move together (rigid mode shape (1, 1, 0)) at rest.
+    const member = (q: number[], stability: Equilibrium["stability"] = "marginal") =>
+      ({
+        q,
+        isolated: false,
+        stability,
+        linearization: { modes: [{ kind: "rigid", shape: [1, 1, 0] }] },
+      }) as unknown as Equilibrium;
+    const found = [member([-1.5, -1.5, -6.5]), member([0.25, 0.25, -6.5]), member([0.5, 0.5, 6.5], "unstable"), member([1, 0, -6.5])];
+    expect(distinctEquilibria(["x", "xl", "yl"], [], found).map((e) => e.q)).toEqual([
+      [0.25, 0.25, -6.5],
+      [0.5, 0.5, 6.5],
+      [1, 0, -6.5],
+    ]);
+  });
 });
 
 describe("models with constraints", () => {
@@ -260,8 +300,17 @@ describe("models with constraints", () => {
     forcing: ["F + lambda_rope - m1*g", "lambda_rope - m2*g"],
   };
 
-  it("gives the reason instead of equilibria and a linearization, whose forcing would hold unsolved multipliers", () => {
-    expect(mechanicalSystemOf(atwood, derived)).toEqual({ reason: expect.stringMatching(/found for unconstrained models only/) });
+  const rope = [{ name: "rope", kind: "position" as const, symbol: "lambda_rope", expr: "y1 + y2 - L" }];
+
+  it("passes position constraints on to the equilibrium search and the linearization", () => {
+    expect(mechanicalSystemOf(atwood, { ...derived, constraintRows: rope })).toMatchObject({ constraints: rope, inputs: ["F"] });
+    // A result stored without its constraints cannot be relinearized: the reason says what to do.
+    expect(mechanicalSystemOf(atwood, derived)).toEqual({ reason: expect.stringMatching(/Evaluate the notebook again/) });
+  });
+
+  it("gives the reason instead of equilibria for rate constraints", () => {
+    const rolling: Model = { ...atwood, constraints: [], rateConstraints: [{ name: "roll", expr: "y1' - y2'" }] };
+    expect(mechanicalSystemOf(rolling, derived)).toEqual({ reason: expect.stringMatching(/rate constraints/) });
   });
 
   it("exports code with the multipliers as arguments after the inputs", () => {

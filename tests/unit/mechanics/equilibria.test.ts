@@ -132,3 +132,28 @@ describe("findEquilibria", () => {
     expect(wrapAngle(7)).toBeCloseTo(7 - 2 * Math.PI, 12);
   });
 });
+
+describe("findEquilibria with position constraints", () => {
+  it("Cartesian pendulum: hanging down is stable, standing up unstable, each with its rod force", () => {
+    const equilibria = findEquilibria({
+      coordinates: ["x", "y"],
+      coordinateUnits: ["m", "m"],
+      massMatrix: [
+        ["m", "0"],
+        ["0", "m"],
+      ],
+      forcing: ["2*x*lambda_rod", "-m*g + 2*y*lambda_rod"],
+      parameters: { m: 2, g: 9.81, l: 1.5 },
+      constraints: [{ name: "rod", kind: "position", symbol: "lambda_rod", expr: "x^2 + y^2 - l^2" }],
+    });
+    // A pendulum rests straight down (stable) or straight up (unstable): fact of the trade.
+    expect(equilibria.map((e) => e.q)).toEqual([
+      [expect.closeTo(0, 9), expect.closeTo(-1.5, 9)],
+      [expect.closeTo(0, 9), expect.closeTo(1.5, 9)],
+    ]);
+    expect(equilibria.map((e) => e.stability)).toEqual(["stable", "unstable"]);
+    expect(equilibria.every((e) => e.isolated)).toBe(true);
+    // The rod holds the weight: T = −2 l λ = m g hanging (tension), −m g standing (compression); fact of the trade.
+    expect(equilibria.map((e) => -2 * 1.5 * e.multipliers![0]!)).toEqual([expect.closeTo(2 * 9.81, 9), expect.closeTo(-2 * 9.81, 9)]);
+  });
+});

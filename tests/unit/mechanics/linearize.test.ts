@@ -2,7 +2,7 @@ import { EigenvalueDecomposition, Matrix } from "ml-matrix";
 import { describe, expect, it } from "vitest";
 import { compileMassMatrixSystem, type MassMatrixSystem } from "@/lib/mechanics/compile";
 import { ModelError } from "@/lib/mechanics/errors";
-import { linearizeAbout } from "@/lib/mechanics/linearize";
+import { linearizeAbout, type AnalysisSystem } from "@/lib/mechanics/linearize";
 import { seededRandom } from "./helpers/random-expr";
 
 // Double pendulum, point masses on massless rods: J. R. Taylor, Classical Mechanics (2005), ch. 11 (from memory; REFERENCES.md).
@@ -138,5 +138,100 @@ describe("linearizeAbout", () => {
         { q: [0, 0] },
       ),
     ).toThrow(ModelError);
+  });
+});
+
+/**
+ * A pendulum bob in Cartesian coordinates held on a rod of length l by the
+ * constraint x² + y² − l² = 0 (multiplier lambda_rod, forcing f₀ + Aᵀλ by the
+ * engine's convention), with a horizontal force F on the bob.
+ */
+const cartesianPendulum: AnalysisSystem = {
+  coordinates: ["x", "y"],
+  coordinateUnits: ["m", "m"],
+  inputs: ["F"],
+  massMatrix: [
+    ["m", "0"],
+    ["0", "m"],
+  ],
+  forcing: ["F + 2*x*lambda_rod", "-m*g + 2*y*lambda_rod"],
+  parameters: { m: 2, g: 9.81, l: 1.5 },
+  constraints: [{ name: "rod", kind: "position", symbol: "lambda_rod", expr: "x^2 + y^2 - l^2" }],
+};
+
+describe("linearizeAbout with position constraints", () => {
+  it("Cartesian pendulum hanging down: one independent coordinate, ω² = g/l, rod tension m g", () => {
+    const lin = linearizeAbout(cartesianPendulum, { q: [0, -1.5], inputs: [0] });
+    expect(lin.coordinates).toEqual(["x"]);
+    expect(lin.state).toEqual(["x", "x'"]);
+    expect(lin.basis).toEqual([[1], [0]]);
+    // Small oscillations of a simple pendulum: ω² = g/l (fact of the trade).
+    expect(lin.modes).toHaveLength(1);
+    expect(lin.modes[0]!.omegaSquared).toBeCloseTo(9.81 / 1.5, 10);
+    // The shape lists every coordinate: the bob swings sideways, y is still to first order.
+    expect(lin.modes[0]!.shape).toEqual([1, 0]);
+    // Tension T = −2 l λ = m g at rest (fact of the trade: the rod carries the weight).
+    expect(-2 * 1.5 * lin.multipliers[0]!.value).toBeCloseTo(2 * 9.81, 10);
+    // B: a sideways force accelerates the bob by F/m.
+    expect(lin.B[1]![0]).toBeCloseTo(1 / 2, 12);
+  });
+
+  it("pendulum held aside by a steady force: ω² = g_eff/l, and a step of F changes the tension by sin α · δF", () => {
+    const m = 2;
+    const g = 9.81;
+    const l = 1.5;
+    const x = 0.3;
+    const y = -Math.sqrt(l * l - x * x);
+    const F = (m * g * x) / -y; // tan α = F/(m g) keeps the bob at rest at angle α
+    const lin = linearizeAbout(cartesianPendulum, { q: [x, y], inputs: [F] });
+    // Effective gravity √(g² + (F/m)²) along the rod (fact of the trade): ω² = g_eff / l.
+    const gEffective = Math.hypot(g, F / m);
+    expect(lin.modes[0]!.omegaSquared).toBeCloseTo(gEffective / l, 9);
+    // The basis follows the circle: δy = −(x/y) δx.
+    expect(lin.basis![1]![0]).toBeCloseTo(-x / y, 12);
+    // Static tension m g_eff, and with the bob at rest the radial balance T = m g cos α + F sin α
+    // gives δT = sin α δF at the instant of a step (fact of the trade).
+    expect(-2 * l * lin.multipliers[0]!.value).toBeCloseTo(m * gEffective, 9);
+    expect(-2 * l * lin.multiplierRows!.byInput[0]![0]!).toBeCloseTo(x / l, 12);
+    expect(lin.multiplierRows!.byState[0]).toEqual([0, 0].map(() => expect.closeTo(0, 12)));
+  });
+
+  it("Cartesian double pendulum agrees with the angle form: ω² = (2 ± √2) g/l", () => {
+    const lin = linearizeAbout(
+      {
+        coordinates: ["x1", "y1", "x2", "y2"],
+        massMatrix: [
+          ["m", "0", "0", "0"],
+          ["0", "m", "0", "0"],
+          ["0", "0", "m", "0"],
+          ["0", "0", "0", "m"],
+        ],
+        forcing: ["2*x1*lambda_a - 2*(x2 - x1)*lambda_b", "-m*g + 2*y1*lambda_a - 2*(y2 - y1)*lambda_b", "2*(x2 - x1)*lambda_b", "-m*g + 2*(y2 - y1)*lambda_b"],
+        parameters: { m: 1, g: 9.81, l: 1 },
+        constraints: [
+          { name: "a", kind: "position", symbol: "lambda_a", expr: "x1^2 + y1^2 - l^2" },
+          { name: "b", kind: "position", symbol: "lambda_b", expr: "(x2 - x1)^2 + (y2 - y1)^2 - l^2" },
+        ],
+      },
+      { q: [0, -1, 0, -2] },
+    );
+    // Same source as the angle-form test above (Taylor, ch. 11, from memory).
+    expect(lin.coordinates).toEqual(["x1", "x2"]);
+    expect(lin.modes.map((mode) => mode.omegaSquared)).toEqual([(2 - Math.SQRT2) * 9.81, (2 + Math.SQRT2) * 9.81].map((v) => expect.closeTo(v, 9)));
+    // The slow mode: both bobs to one side, the lower one √2 times further (x2 = √2 x1 in angle terms: θ2 = √2 θ1).
+    const slow = lin.modes[0]!.shape;
+    expect(slow[2]! / slow[0]!).toBeCloseTo(1 + Math.SQRT2, 9);
+  });
+
+  it("names a constraint that repeats another, and refuses rate constraints and moving points", () => {
+    const twice: AnalysisSystem = {
+      ...cartesianPendulum,
+      forcing: ["F + 2*x*lambda_rod + 2*x*lambda_again", "-m*g + 2*y*lambda_rod + 2*y*lambda_again"],
+      constraints: [...cartesianPendulum.constraints!, { name: "again", kind: "position", symbol: "lambda_again", expr: "x^2 + y^2 - l^2" }],
+    };
+    expect(() => linearizeAbout(twice, { q: [0, -1.5], inputs: [0] })).toThrow(/constraint "again" is redundant/);
+    const rolling: AnalysisSystem = { ...cartesianPendulum, constraints: [{ name: "roll", kind: "rate", symbol: "mu_roll", expr: "x' - y'" }] };
+    expect(() => linearizeAbout(rolling, { q: [0, -1.5], inputs: [0] })).toThrow(ModelError);
+    expect(() => linearizeAbout(cartesianPendulum, { q: [0, -1.5], rates: [1, 0], inputs: [0] })).toThrow(/at rest/);
   });
 });
