@@ -24,7 +24,7 @@ export type {
   ExpressionEvaluator,
   VariableLayout,
 } from "./system";
-export { integrate, integrateInSlices, STEP_TOLERANCE_FACTOR, CONSTRAINT_METHOD } from "./integrate";
+export { integrate, integrateInSlices, chooseMethod, STEP_TOLERANCE_FACTOR, STEP_TOLERANCE_FACTORS, INTEGRATION_METHODS, CONSTRAINT_METHOD } from "./integrate";
 export type {
   SimulationSettings,
   SimulationResult,
@@ -38,6 +38,8 @@ export type {
   NumericAssignment,
   InputSignal,
   CancelSignal,
+  IntegrationMethod,
+  IntegrationMethodSetting,
 } from "./integrate";
 export {
   energyDrift,
