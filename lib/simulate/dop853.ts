@@ -39,9 +39,9 @@ export interface Dop853Result {
 const STAGES = 12;
 // Module-local copies: a transpiled import can be a getter on every access, and these are read in the inner loops.
 const { A, B, C, D, E3, E5 } = coefficients;
-const [B0, , , , , B5, B6, B7, B8, B9, B10, B11] = B as unknown as number[];
-const [E30, , , , , , , , E38, , , E311] = E3 as unknown as number[];
-const [E50, , , , , E55, E56, E57, E58, E59, E510, E511] = E5 as unknown as number[];
+const [B0, B5, B6, B7, B8, B9, B10, B11] = [0, 5, 6, 7, 8, 9, 10, 11].map((j) => B[j]!) as [number, number, number, number, number, number, number, number];
+const [E30, E38, E311] = [0, 8, 11].map((j) => E3[j]!) as [number, number, number];
+const [E50, E55, E56, E57, E58, E59, E510, E511] = [0, 5, 6, 7, 8, 9, 10, 11].map((j) => E5[j]!) as [number, number, number, number, number, number, number, number];
 // E3 equals B except at stages 0, 8 and 11 (bhh in dop853.f), and stages 1 … 4 carry no weight.
 for (const j of [1, 2, 3, 4]) if (B[j] !== 0 || E3[j] !== 0 || E5[j] !== 0) throw new Error("DOP853 weights: stage " + j + " must be 0");
 for (const j of [5, 6, 7, 9, 10]) if (E3[j] !== B[j]) throw new Error("DOP853 weights: E3 must equal B at stage " + j);
@@ -66,25 +66,25 @@ export class Dop853 {
   rejectedSteps = 0;
 
   private readonly n: number;
-  /** k[s] = stage derivative s (0 … 15). */
+  /** All stage derivatives in one array: stage s (0 … 15), component i at K[s·n + i]. */
+  private readonly K: Float64Array;
+  /** k[s]: a view of stage s in K, for the right-hand side to write into. */
   private readonly k: Float64Array[];
   private readonly y: Float64Array;
   private readonly yNew: Float64Array;
   private readonly stage: Float64Array;
   private readonly fOld: Float64Array;
-  /** The stages as the dense output reads them: fOld in place of k[0]. */
-  private readonly denseStages: Float64Array[];
   /** Dense-output coefficients: y(xOld + θh) = r0 + θ(r1 + (1−θ)(r2 + θ(r3 + (1−θ)(r4 + θ(r5 + (1−θ)(r6 + θ r7)))))). */
   private readonly cont: Float64Array[];
 
   constructor(n: number) {
     this.n = n;
-    this.k = Array.from({ length: 16 }, () => new Float64Array(n));
+    this.K = new Float64Array(16 * n);
+    this.k = Array.from({ length: 16 }, (_, s) => this.K.subarray(s * n, (s + 1) * n));
     this.y = new Float64Array(n);
     this.yNew = new Float64Array(n);
     this.stage = new Float64Array(n);
     this.fOld = new Float64Array(n);
-    this.denseStages = this.k.map((stage, s) => (s === 0 ? this.fOld : stage));
     this.cont = Array.from({ length: 8 }, () => new Float64Array(n));
   }
 
@@ -92,6 +92,7 @@ export class Dop853 {
   solve(f: RightHandSide, x0: number, y0: ArrayLike<number>, xEnd: number, onStep?: StepCallback): Dop853Result {
     const n = this.n;
     const k = this.k;
+    const K = this.K;
     const y = this.y;
     const yNew = this.yNew;
     const stage = this.stage;
@@ -103,9 +104,8 @@ export class Dop853 {
     let x = x0;
     const direction = xEnd >= x0 ? 1 : -1;
     const hmax = this.maxStepSize > 0 ? this.maxStepSize : Math.abs(xEnd - x0);
-    const k0 = k[0]!;
     const kNew = k[12]!;
-    f(x, y, k0);
+    f(x, y, k[0]!);
     this.evaluations++;
     let h = this.initialStepSize > 0 ? Math.min(this.initialStepSize, hmax) * direction : this.startingStep(f, x, direction, hmax);
     if (onStep && onStep(0, x, x, y) === false) return this.result("stopped", x, h);
@@ -146,8 +146,8 @@ export class Dop853 {
         for (let j = 0; j < s; j++) {
           const w = a[j]! * h;
           if (w === 0) continue;
-          const kj = k[j]!;
-          for (let i = 0; i < n; i++) stage[i] += w * kj[i]!;
+          const offset = j * n;
+          for (let i = 0; i < n; i++) stage[i] = stage[i]! + w * K[offset + i]!;
         }
         f(x + C[s]! * h, stage, k[s]!);
       }
@@ -156,10 +156,10 @@ export class Dop853 {
       // The new solution and the error estimate (dop853.f: ERR, ERR2, DENO).
       let err5 = 0;
       let err3 = 0;
-      const k1 = k[0]!, k6 = k[5]!, k7 = k[6]!, k8 = k[7]!, k9 = k[8]!, k10 = k[9]!, k11 = k[10]!, k12 = k[11]!;
       for (let i = 0; i < n; i++) {
-        // Stages 2 … 5 have zero weight in B, E3 and E5.
-        const a1 = k1[i]!, a6 = k6[i]!, a7 = k7[i]!, a8 = k8[i]!, a9 = k9[i]!, a10 = k10[i]!, a11 = k11[i]!, a12 = k12[i]!;
+        // Stages 1 … 4 have zero weight in B, E3 and E5.
+        const a1 = K[i]!, a6 = K[5 * n + i]!, a7 = K[6 * n + i]!, a8 = K[7 * n + i]!;
+        const a9 = K[8 * n + i]!, a10 = K[9 * n + i]!, a11 = K[10 * n + i]!, a12 = K[11 * n + i]!;
         const sumB = B0 * a1 + B5 * a6 + B6 * a7 + B7 * a8 + B8 * a9 + B9 * a10 + B10 * a11 + B11 * a12;
         const sum3 = E30 * a1 + B5 * a6 + B6 * a7 + B7 * a8 + E38 * a9 + B9 * a10 + B10 * a11 + E311 * a12;
         const sum5 = E50 * a1 + E55 * a6 + E56 * a7 + E57 * a8 + E58 * a9 + E59 * a10 + E510 * a11 + E511 * a12;
@@ -193,9 +193,9 @@ export class Dop853 {
         denseReady = false;
         for (let i = 0; i < n; i++) {
           cont[0]![i] = y[i]!;
-          fOld[i] = k0[i]!;
+          fOld[i] = K[i]!;
           y[i] = yNew[i]!;
-          k0[i] = kNew[i]!;
+          K[i] = K[12 * n + i]!;
         }
         x = xNew;
         if (onStep && onStep(steps, xOld, x, y, dense) === false) return this.result("stopped", x, hNew);
@@ -219,25 +219,26 @@ export class Dop853 {
    */
   private prepareDense(f: RightHandSide, xOld: number, h: number): void {
     const n = this.n;
-    // k[0] already holds the next step's first stage; the step's own is in fOld.
-    const stages = this.denseStages;
+    // K's stage 0 already holds the next step's first stage; this step's own is in fOld.
+    const K = this.K;
+    const fOld = this.fOld;
     const cont = this.cont;
     const stage = this.stage;
     const yOld = cont[0]!;
     for (let s = 13; s < 16; s++) {
       const a = A[s]!;
-      for (let i = 0; i < n; i++) stage[i] = yOld[i]!;
-      for (let j = 0; j < s; j++) {
+      const w0 = a[0]! * h;
+      for (let i = 0; i < n; i++) stage[i] = yOld[i]! + w0 * fOld[i]!;
+      for (let j = 1; j < s; j++) {
         const w = a[j]! * h;
         if (w === 0) continue;
-        const kj = stages[j]!;
-        for (let i = 0; i < n; i++) stage[i] += w * kj[i]!;
+        const offset = j * n;
+        for (let i = 0; i < n; i++) stage[i] = stage[i]! + w * K[offset + i]!;
       }
-      f(xOld + C[s]! * h, stage, stages[s]!);
+      f(xOld + C[s]! * h, stage, this.k[s]!);
     }
     this.evaluations += 3;
-    const fOld = this.fOld;
-    const fNew = stages[12]!;
+    const fNew = this.k[12]!;
     const yNew = this.y;
     for (let i = 0; i < n; i++) {
       const dy = yNew[i]! - yOld[i]!;
@@ -249,12 +250,13 @@ export class Dop853 {
     for (let r = 0; r < 4; r++) {
       const d = D[r]!;
       const c = cont[4 + r]!;
-      c.fill(0);
-      for (let s = 0; s < 16; s++) {
+      const w0 = d[0]! * h;
+      for (let i = 0; i < n; i++) c[i] = w0 * fOld[i]!;
+      for (let s = 1; s < 16; s++) {
         const w = d[s]! * h;
         if (w === 0) continue;
-        const ks = stages[s]!;
-        for (let i = 0; i < n; i++) c[i] += w * ks[i]!;
+        const offset = s * n;
+        for (let i = 0; i < n; i++) c[i] = c[i]! + w * K[offset + i]!;
       }
     }
   }
