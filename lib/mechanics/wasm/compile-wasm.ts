@@ -167,8 +167,8 @@ export function compileGraphToWasm(graph: ExpressionGraph, roots: readonly numbe
     const { bytes, imports } = emitGraphModule(graph, roots, variableCount);
     const math: Record<string, (...args: number[]) => number> = {};
     for (const op of imports) math[op] = IMPORTED[op].math;
-    const module = new WebAssembly.Module(bytes as Uint8Array<ArrayBuffer>);
-    const instance = new WebAssembly.Instance(module, { m: math });
+    const compiled = new WebAssembly.Module(bytes as Uint8Array<ArrayBuffer>);
+    const instance = new WebAssembly.Instance(compiled, { m: math });
     const memory = instance.exports.memory as WebAssembly.Memory;
     const run = instance.exports.run as () => void;
     return {
