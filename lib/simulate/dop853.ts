@@ -107,8 +107,9 @@ export class Dop853 {
     const kNew = k[12]!;
     f(x, y, k[0]!);
     this.evaluations++;
-    let h = this.initialStepSize > 0 ? Math.min(this.initialStepSize, hmax) * direction : this.startingStep(f, x, direction, hmax);
+    let h = xEnd === x0 ? 0 : this.initialStepSize > 0 ? Math.min(this.initialStepSize, hmax) * direction : this.startingStep(f, x, direction, hmax);
     if (onStep && onStep(0, x, x, y) === false) return this.result("stopped", x, h);
+    if (xEnd === x0) return this.result("converged", x, this.initialStepSize);
 
     let reject = false;
     let last = false;
