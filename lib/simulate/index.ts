@@ -19,6 +19,7 @@ export type {
   MassForcingEvaluator,
   EnergyEvaluator,
   SpecializedEvaluators,
+  MassForcingKernel,
   MassMatrixForm,
   ExpressionCompiler,
   ExpressionEvaluator,

@@ -6,7 +6,7 @@ import { ConstraintFailure, ConstraintSet } from "./constraints";
 import { compileOutputs, peakOf, type OutputSeries } from "./outputs";
 import type { ConstraintKind } from "./specs";
 import type { ExpressionEvaluator } from "./system";
-import { compileLocated, layoutOf, variableNames, type MechanicalSystem, type VariableLayout } from "./system";
+import { compileLocated, layoutOf, variableNames, type MechanicalSystem, type SpecializedEvaluators, type VariableLayout } from "./system";
 
 /** Values given per coordinate: an array in coordinate order, or a record by name (missing names are 0). */
 export type NumericAssignment = readonly number[] | Readonly<Record<string, number>>;
@@ -369,7 +369,9 @@ class IntegrationRun {
     }
 
     // ---- the right-hand side: the hot path, no allocation ----
-    const specialized = system.specialize ? system.specialize(this.parameterValues) : system;
+    const specialized: SpecializedEvaluators = system.specialize
+      ? system.specialize(this.parameterValues)
+      : { massForcing: system.massForcing, ...(system.energy ? { energy: system.energy } : {}) };
     this.energy = specialized.energy;
     const massForcing = specialized.massForcing;
     this.evaluateMassForcing = massForcing;
@@ -382,6 +384,11 @@ class IntegrationRun {
     const acc = new Float64Array(n);
     const writeInputs = this.writeInputs;
     const timeSlot = layout.time;
+    const inputSlot = layout.inputs;
+    const inputCount = layout.m;
+    // Without constraints the right-hand side needs only M and f: it writes the state straight into the
+    // WebAssembly module's memory when the system offers one (the constrained solve reads the packed vector).
+    const kernel = this.constraintSet === null ? specialized.massForcingKernel : undefined;
     const deadline = this.began + timeLimitMs;
     const signal = settings.signal;
     const span = endTime - startTime;
@@ -402,10 +409,24 @@ class IntegrationRun {
       if (++callsThisSolve > 1 && t - this.timeReached <= tinyOffset(t)) {
         throw new StopIntegration("step_size_underflow", `the step size fell to roundoff level near t = ${formatTime(this.timeReached)}`);
       }
-      for (let i = 0; i < 2 * n; i++) values[i] = y[i]!;
-      values[timeSlot] = t;
-      writeInputs(t);
-      massForcing(values, mf);
+      let source: Float64Array = mf;
+      if (kernel !== undefined) {
+        // The module reads [q, q', t, u] from its own memory and leaves M and f there: no copies between.
+        const input = kernel.input;
+        for (let i = 0; i < 2 * n; i++) input[i] = y[i]!;
+        input[timeSlot] = t;
+        if (inputCount > 0) {
+          writeInputs(t);
+          for (let k = 0; k < inputCount; k++) input[inputSlot + k] = values[inputSlot + k]!;
+        }
+        kernel.run();
+        source = kernel.output;
+      } else {
+        for (let i = 0; i < 2 * n; i++) values[i] = y[i]!;
+        values[timeSlot] = t;
+        writeInputs(t);
+        massForcing(values, mf);
+      }
       if (constraintSet) {
         try {
           constraintSet.solveAugmented(values, mf, acc, multipliers);
@@ -415,8 +436,8 @@ class IntegrationRun {
         }
       } else
         try {
-          for (let i = 0; i < nn; i++) matrix[i] = mf[i]!;
-          for (let i = 0; i < n; i++) acc[i] = mf[nn + i]!;
+          for (let i = 0; i < nn; i++) matrix[i] = source[i]!;
+          for (let i = 0; i < n; i++) acc[i] = source[nn + i]!;
           solveInPlace(lu, acc);
         } catch (error) {
           if (error instanceof SingularMatrixError) {
