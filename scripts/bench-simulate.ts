@@ -13,12 +13,14 @@
  * when SciPy imports; the reference fields are null otherwise.
  *
  * Prints one JSON object: {"totalMs", "cpuMs", "rhsEvaluations", "rhsPerSecond",
- * "energyDriftRel", "method", "evaluator", "referenceMs", "referenceEvaluations",
- * "ratio"}. totalMs (wall) and cpuMs (this process's CPU time) are medians of
- * seven runs of the integration (setup, integration, energy along the output
- * grid); derivation and compilation happen once per model in the app and are
- * not part of a run. rhsPerSecond = rhsEvaluations / totalMs. ratio =
- * totalMs / referenceMs (both wall-clock medians).
+ * "energyDriftRel", "method", "evaluator", "referenceMs", "referenceCpuMs",
+ * "referenceEvaluations", "ratio", "cpuRatio"}. totalMs (wall) and cpuMs (this
+ * process's CPU time) are medians of seven runs of the integration (setup,
+ * integration, energy along the output grid); derivation and compilation
+ * happen once per model in the app and are not part of a run. rhsPerSecond =
+ * rhsEvaluations / totalMs. ratio = totalMs / referenceMs (wall-clock
+ * medians); cpuRatio = cpuMs / referenceCpuMs, the steadier figure when other
+ * work shares the machine.
  */
 import { spawnSync } from "node:child_process";
 import path from "node:path";
@@ -66,7 +68,7 @@ const cpuMs = median(runs, (r) => r.cpuMs).cpuMs;
 const round = (v: number, digits: number) => Number(v.toPrecision(digits));
 
 /** SciPy's DOP853 on the same problem, or null when Python or SciPy is missing. */
-function reference(): { ms: number; nfev: number } | null {
+function reference(): { ms: number; cpuMs: number; nfev: number } | null {
   const python = process.env.HOLONOMY_PYTHON || "python3";
   const script = path.join(path.dirname(new URL(import.meta.url).pathname), "lib", "bench-simulate-reference.py");
   const run = spawnSync(python, [script], { encoding: "utf8", timeout: 120_000 });
@@ -74,7 +76,7 @@ function reference(): { ms: number; nfev: number } | null {
     if (run.status !== 3) process.stderr.write(`reference integrator did not run (${run.error?.message ?? `status ${run.status}`}); fields are null\n`);
     return null;
   }
-  const parsed = JSON.parse(run.stdout.trim().split("\n").pop()!) as { ms: number; nfev: number };
+  const parsed = JSON.parse(run.stdout.trim().split("\n").pop()!) as { ms: number; cpuMs: number; nfev: number };
   return parsed;
 }
 const ref = reference();
@@ -89,7 +91,9 @@ process.stdout.write(
     method: typical.method,
     evaluator: compileExpressions(["x"], ["x"]).backend,
     referenceMs: ref ? round(ref.ms, 4) : null,
+    referenceCpuMs: ref ? round(ref.cpuMs, 4) : null,
     referenceEvaluations: ref ? ref.nfev : null,
     ratio: ref ? round(typical.ms / ref.ms, 3) : null,
+    cpuRatio: ref ? round(cpuMs / ref.cpuMs, 3) : null,
   }) + "\n",
 );

@@ -4,7 +4,8 @@ output every 0.01 s) with SciPy's solve_ivp and its DOP853, a high-order general
 integrator. The right-hand side is written out by hand (mass matrix and forcing of the
 derivation, solved by Cramer's rule), the fastest plain form in Python.
 
-Prints one JSON object: {"ms": median wall time of 7 runs after one warm-up, "nfev", "scipy"}.
+Prints one JSON object: {"ms": median wall time of 7 runs after one warm-up, "cpuMs": median
+process CPU time, "nfev", "scipy"}.
 Exits with status 3 when SciPy does not import.
 """
 import json
@@ -46,11 +47,15 @@ def run():
 
 run()
 times = []
+cpu_times = []
 for _ in range(7):
     started = time.perf_counter()
+    cpu_started = time.process_time()
     solution = run()
+    cpu_times.append(time.process_time() - cpu_started)
     times.append(time.perf_counter() - started)
     if not solution.success:
         sys.exit(4)
 times.sort()
-print(json.dumps({"ms": times[len(times) // 2] * 1000, "nfev": int(solution.nfev), "scipy": scipy.__version__}))
+cpu_times.sort()
+print(json.dumps({"ms": times[3] * 1000, "cpuMs": cpu_times[3] * 1000, "nfev": int(solution.nfev), "scipy": scipy.__version__}))
