@@ -20,8 +20,10 @@ function isLoopback(url: URL): boolean {
 /**
  * The Content-Security-Policy of a page. Scripts run only with the response's
  * nonce, or when a nonced script loaded them ('strict-dynamic'); no eval in
- * production (no 'unsafe-eval', and no 'wasm-unsafe-eval' until something needs
- * WebAssembly). Style elements need the nonce too; style attributes are allowed
+ * production (no 'unsafe-eval'). 'wasm-unsafe-eval' lets the simulation worker
+ * compile the WebAssembly module it generates from a model's expression trees
+ * (lib/mechanics/wasm); it permits WebAssembly compilation only, not eval or
+ * new Function. Style elements need the nonce too; style attributes are allowed
  * because KaTeX positions every glyph with one (they cannot run script).
  * Workers come from this origin (the simulation worker). Nothing may frame a page.
  *
@@ -33,7 +35,7 @@ export function contentSecurityPolicy({ nonce, development, appUrl, connectSourc
   const localSockets = isLoopback(app) ? ["ws://localhost:*", "ws://127.0.0.1:*"] : [];
   const directives: Array<[string, ...string[]]> = [
     ["default-src", "'self'"],
-    ["script-src", "'self'", `'nonce-${nonce}'`, "'strict-dynamic'", ...(development ? ["'unsafe-eval'"] : [])],
+    ["script-src", "'self'", `'nonce-${nonce}'`, "'strict-dynamic'", "'wasm-unsafe-eval'", ...(development ? ["'unsafe-eval'"] : [])],
     ["style-src", "'self'", `'nonce-${nonce}'`],
     ["style-src-attr", "'unsafe-inline'"],
     ["img-src", "'self'", "blob:", "data:"],

@@ -19,12 +19,13 @@ export type {
   MassForcingEvaluator,
   EnergyEvaluator,
   SpecializedEvaluators,
+  MassForcingKernel,
   MassMatrixForm,
   ExpressionCompiler,
   ExpressionEvaluator,
   VariableLayout,
 } from "./system";
-export { integrate, integrateInSlices, STEP_TOLERANCE_FACTOR, CONSTRAINT_METHOD } from "./integrate";
+export { integrate, integrateInSlices, chooseMethod, STEP_TOLERANCE_FACTOR, STEP_TOLERANCE_FACTORS, INTEGRATION_METHODS, CONSTRAINT_METHOD } from "./integrate";
 export type {
   SimulationSettings,
   SimulationResult,
@@ -38,6 +39,8 @@ export type {
   NumericAssignment,
   InputSignal,
   CancelSignal,
+  IntegrationMethod,
+  IntegrationMethodSetting,
 } from "./integrate";
 export {
   energyDrift,

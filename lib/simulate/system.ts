@@ -61,6 +61,18 @@ export interface SystemParameter {
 export interface SpecializedEvaluators {
   readonly massForcing: MassForcingEvaluator;
   readonly energy?: EnergyEvaluator;
+  /**
+   * The WebAssembly module behind `massForcing`, when it has one: write
+   * [q, q', t, u] into `input`, call `run()`, read M (row-major) and then f
+   * from `output`. The same numbers as `massForcing`, without its copies.
+   */
+  readonly massForcingKernel?: MassForcingKernel;
+}
+
+export interface MassForcingKernel {
+  readonly input: Float64Array;
+  readonly output: Float64Array;
+  readonly run: () => void;
 }
 
 export type MassForcingEvaluator = (values: Float64Array, out: Float64Array) => void;
@@ -177,8 +189,10 @@ export function systemFromMassMatrixForm(form: MassMatrixForm, compile: Expressi
     const key = JSON.stringify(constants);
     if (cached !== null && key === cachedKey) return cached;
     const compiled = compileLocated(expressions, fields, prefix, compile, constants);
+    const kernel = (compiled as Partial<CompiledExpressions>).kernel;
     const specialized: SpecializedEvaluators = {
       massForcing: (values, out) => compiled.evaluate(values, out),
+      ...(kernel ? { massForcingKernel: { input: kernel.input, output: kernel.output, run: kernel.run } } : {}),
       energy: energyExpression === null ? undefined : energyEvaluator(compileLocated([energyExpression], ["energy"], prefix, compile, constants)),
     };
     cachedKey = key;
