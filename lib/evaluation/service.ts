@@ -190,14 +190,17 @@ export async function codeOfDocument({
   document,
   language,
   fallbackTitle,
+  evaluate = (doc) => evaluateDocumentCached({ document: doc }),
 }: {
   document: DerivationDocument;
   language: CodeLanguage;
   fallbackTitle: string;
+  /** How the document's evaluation is had (a route passes one that queues a large model: lib/jobs/service.ts's evaluationForRequest). */
+  evaluate?: (document: DerivationDocument) => Promise<EvaluationResponse>;
 }): Promise<{ language: CodeLanguage; filename: string; source: string }> {
   const model = modelFromDocument(document);
   if (!model.title.trim()) model.title = fallbackTitle;
-  const { result } = await evaluateDocumentCached({ document });
+  const { result } = await evaluate(document);
   let source = result.code?.find((entry) => engineCodeLanguage(entry.language as "octave") === language)?.source;
   if (source === undefined) {
     try {

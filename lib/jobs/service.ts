@@ -3,13 +3,16 @@ import { getActiveJobByModelHash, getJobByIdAndDerivationId } from "@/db/queries
 import type { Derivation, Job, JobKind, MemberRole } from "@/db/schema";
 import { assertCan, type Action } from "@/lib/auth/permissions";
 import type { LinearizationSettings } from "@/lib/evaluation/evaluate";
+import { cachedDocumentEvaluation, documentEvaluationHash, evaluateDocumentCached, isLargeDocument } from "@/lib/evaluation/service";
+import type { EvaluationResponse } from "@/lib/evaluation/views";
 import type { DerivationDocument } from "@/lib/notebook/document";
 import { env } from "@/lib/env";
 import { AppError } from "@/lib/errors";
 import { uuidField } from "@/lib/validation/fields";
 import { getJobQueue } from "./boss";
 import { QUEUED_ENGINE_TASK_MS, type EvaluationJobInput, type FitJobInput, type ReportJobInput, type SimulationJobInput } from "./handlers";
-import { waitForJob } from "./queue";
+import { appErrorOfJob, waitForJob } from "./queue";
+import { jobView } from "./views";
 
 /** Time a waiting request allows beyond the job's own limit: a worker to pick it up, derive and store. */
 const WAIT_ALLOWANCE_MS = 45_000;
@@ -117,4 +120,42 @@ export function assertMayCancel({ role, userId, derivation, job }: { role: Membe
   if (QUEUE_ACTION[job.kind] === "derivation:read" && job.createdById !== userId) {
     throw new AppError("forbidden:job", "Only the person who asked for this job can cancel it.");
   }
+}
+
+/**
+ * A document's evaluation for a route or page that needs it whole (exports,
+ * code, linearization, report and comparison pages): from the cache; on the
+ * request for a small model; for a large one, from an evaluation job a queue
+ * worker runs — the request waits by reading the job's row (`wait`), or, for a
+ * page that should not wait, gets a 503 `unavailable:engine` naming the job,
+ * which the page shows as "being evaluated" and the route client may follow.
+ */
+export async function evaluationForRequest({
+  derivation,
+  userId,
+  document,
+  linearization,
+  wait = true,
+}: {
+  derivation: Derivation;
+  userId: string;
+  document: DerivationDocument;
+  linearization?: Partial<LinearizationSettings>;
+  wait?: boolean;
+}): Promise<EvaluationResponse> {
+  const asked = { document, linearization };
+  const cached = await cachedDocumentEvaluation(asked);
+  if (cached) return cached;
+  if (!isLargeDocument(document)) return evaluateDocumentCached(asked);
+  const queued = await queueEvaluation({ derivation, userId, ...asked, modelHash: documentEvaluationHash(asked) });
+  const job = wait ? await awaitJob(queued) : queued;
+  if (job.state === "queued" || job.state === "running") {
+    throw new AppError("unavailable:engine", "This model is large: a queue worker is evaluating it now. Try again when it is done (the notebook shows its progress).", {
+      details: { job: jobView(job) },
+    });
+  }
+  if (job.state !== "completed") throw appErrorOfJob(job);
+  const evaluated = await cachedDocumentEvaluation(asked);
+  if (!evaluated) throw new AppError("internal:engine", "The evaluation completed but its answer was not stored.");
+  return evaluated;
 }

@@ -12,6 +12,7 @@ import { loadDerivationFor, orNotFound, uuidPattern } from "@/lib/auth/access";
 import { requirePageUser } from "@/lib/auth/session";
 import { AppError } from "@/lib/errors";
 import { revisionReport } from "@/lib/history/views";
+import { evaluationForRequest } from "@/lib/jobs/service";
 import { reportThreadsFor } from "@/lib/reports/service";
 
 export const metadata: Metadata = { title: "Derivation report" };
@@ -28,7 +29,8 @@ export default async function RevisionReportPage({ params }: { params: Promise<{
     getTeamById({ id: derivation.teamId }),
     orNotFound(() => {
       if (!uuidPattern.test(revisionId)) throw new AppError("not_found:revision", "No such revision of this derivation.");
-      return revisionReport(derivation, revisionId);
+      // A large model is queued, not derived on the request; the page says so until it is done.
+      return revisionReport(derivation, revisionId, (document) => evaluationForRequest({ derivation, userId: user.id, document, wait: false }));
     }),
   ]);
   const threads = await reportThreadsFor({ derivation, membership, user, document: report.document });

@@ -13,7 +13,8 @@ type Params = { id: string; jobId: string };
  */
 export const GET = derivationRoute<Params>("derivation:read", async ({ derivation, params }) => {
   const job = await jobOfDerivation(derivation.id, params.jobId);
-  if (job.kind !== "report") throw new AppError("not_found:job", "This job has no file to download.");
+  // A job without a file (yet) is there, it just has nothing to give: 409, as for other states that refuse a request.
+  if (job.kind !== "report") throw new AppError("conflict:job", `This ${job.kind} job has no file to download.`);
   if (job.state !== "completed") throw new AppError("conflict:job", `The report is not ready: the job is ${job.state}.`);
   const file = job.result as unknown as ReportJobResult;
   const object = await getObjectStream({ key: file.objectKey });
