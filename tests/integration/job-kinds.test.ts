@@ -10,6 +10,8 @@ import * as cancelRoute from "@/app/api/derivations/[id]/jobs/[jobId]/cancel/rou
 import * as downloadRoute from "@/app/api/derivations/[id]/jobs/[jobId]/download/route";
 import * as jobRoute from "@/app/api/derivations/[id]/jobs/[jobId]/route";
 import * as reportRoute from "@/app/api/derivations/[id]/revisions/[revisionId]/report/route";
+import * as derivationRoute from "@/app/api/derivations/[id]/route";
+import * as purgeRoute from "@/app/api/teams/[teamId]/trash/[derivationId]/route";
 import { closeDatabase } from "@/db/client";
 import { createCommentThread, setCommentThreadStatusById } from "@/db/queries/comments";
 import { createDerivation } from "@/db/queries/derivations";
@@ -22,7 +24,7 @@ import type { JobJson } from "@/lib/jobs/views";
 import { chainModel, type Model } from "@/lib/mechanics";
 import { modelToDocument } from "@/lib/notebook/document";
 import { closeEnginePool } from "@/lib/workers/engine-pool";
-import { deleteObject } from "@/lib/storage";
+import { deleteObject, objectExists } from "@/lib/storage";
 import type { SessionUser } from "@/lib/auth/session";
 import { jsonRequest, makeTeam, params, resetDatabase, type TeamFixture } from "./support/fixtures";
 import { signInAs } from "./support/session";
@@ -327,5 +329,25 @@ describe("evaluation and report jobs", () => {
     } finally {
       signInAs(kestrel.members.analyst);
     }
+  }, 240_000);
+
+  it("removes a derivation's report files when the derivation leaves the trash for good", async () => {
+    const { id, revisionId } = await reportFixture();
+    const job = await queueReport(id, revisionId);
+    const { job: finished } = await pollJob(id, job.id, ended, 120_000);
+    expect(finished.state).toBe("completed");
+    const key = String(finished.result!.objectKey);
+    storedKeys.push(key);
+    expect(await objectExists({ key })).toBe(true);
+    expect((await derivationRoute.DELETE(jsonRequest(`/api/derivations/${id}`, "DELETE"), params({ id }))).status).toBe(204);
+    signInAs(kestrel.members.lead);
+    try {
+      const teamId = kestrel.team.id;
+      const purged = await purgeRoute.DELETE(jsonRequest(`/api/teams/${teamId}/trash/${id}`, "DELETE"), params({ teamId, derivationId: id }));
+      expect(purged.status).toBe(204);
+    } finally {
+      signInAs(kestrel.members.analyst);
+    }
+    expect(await objectExists({ key })).toBe(false);
   }, 240_000);
 });

@@ -415,12 +415,13 @@ beforeAll(async () => {
   await resetDatabase();
   routes = await discoverRoutes();
 }, 120_000);
+// Every world stores an object (hundreds of deletes) and the queue stops gracefully: more than the 10 s default on a busy machine.
 afterAll(async () => {
   for (const key of storedKeys) await deleteObject({ key }).catch(() => undefined);
   await closeJobQueue();
   await closeEnginePool();
   await closeDatabase();
-});
+}, 120_000);
 
 describe("the permission sweep's table", () => {
   it("has a row for every route handler, and no row for a route that is gone", () => {
