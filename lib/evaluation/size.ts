@@ -29,8 +29,10 @@ export interface LargeEvaluationMarks {
 /**
  * The marks. A third of the coordinate limit: the N-link chain derives in
  * well under a second up to the limit, but the equilibrium search, the
- * linearization and the code export grow with N, and 10 coordinates is where
- * a whole evaluation leaves the time a request should take on a busy server.
+ * linearization and the code export grow with N: a whole evaluation of the
+ * 10-link chain took about 6 s in one thread on the development machine
+ * (derivation and equilibrium search about half each), past what a request
+ * should hold a connection and an engine thread for.
  * A fifth of the text limit, and term and constraint counts past which the
  * algebra (products of sums, Cramer's rule for the multipliers) grows quickly.
  * The 5-link chain of `bench:notebook` (5 coordinates, 4 written terms) stays
