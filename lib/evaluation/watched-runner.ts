@@ -5,6 +5,13 @@
  */
 import type { EngineRunner } from "./evaluate";
 
+/**
+ * Engine time a queued evaluation's task may take: the point of queueing a
+ * large model is that it no longer has to fit a request (the web process's
+ * pool keeps its 20 s); the worker's memory limit still applies.
+ */
+export const QUEUED_ENGINE_TASK_MS = 120_000;
+
 /** The engine's task runner with its per-task options (EnginePool.run). */
 export interface CancellableEngine {
   run<T = unknown>(task: string, payload: unknown, options?: { timeoutMs?: number; signal?: AbortSignal }): Promise<T>;

@@ -6,7 +6,7 @@ import { AppError } from "@/lib/errors";
 import { validDocumentOrThrow } from "@/lib/evaluation/document-content";
 import type { LinearizationSettings } from "@/lib/evaluation/evaluate";
 import { evaluateDocumentCached } from "@/lib/evaluation/service";
-import { watchedRunner } from "@/lib/evaluation/watched-runner";
+import { QUEUED_ENGINE_TASK_MS, watchedRunner } from "@/lib/evaluation/watched-runner";
 import { renderRevisionReport } from "@/lib/reports/service";
 import { applyFittedValues } from "@/lib/runs/apply-fit";
 import { getEnginePool } from "@/lib/workers/engine-pool";
@@ -51,13 +51,6 @@ export interface ReportJobResult {
   contentType: string;
   size: number;
 }
-
-/**
- * Engine time a queued evaluation's task may take: the point of queueing a
- * large model is that it no longer has to fit a request (the web process's
- * pool keeps its 20 s); the worker's memory limit still applies.
- */
-export const QUEUED_ENGINE_TASK_MS = 120_000;
 
 /** The derivation a job is about, with the content it was queued with. */
 async function derivationOf(job: Job, content: unknown): Promise<Derivation> {

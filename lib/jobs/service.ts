@@ -10,7 +10,8 @@ import { env } from "@/lib/env";
 import { AppError } from "@/lib/errors";
 import { uuidField } from "@/lib/validation/fields";
 import { getJobQueue } from "./boss";
-import { QUEUED_ENGINE_TASK_MS, type EvaluationJobInput, type FitJobInput, type ReportJobInput, type SimulationJobInput } from "./handlers";
+import { QUEUED_ENGINE_TASK_MS } from "@/lib/evaluation/watched-runner";
+import type { EvaluationJobInput, FitJobInput, ReportJobInput, SimulationJobInput } from "./handlers";
 import { appErrorOfJob, waitForJob } from "./queue";
 import { jobView } from "./views";
 
