@@ -526,11 +526,13 @@ export const idempotencyKeys = pgTable(
 export type IdempotencyKey = typeof idempotencyKeys.$inferSelect;
 
 // ---------------------------------------------------------------------------
-// Background jobs (robust slice). Heavy work (server simulations, parameter fits)
-// runs in queue workers (pg-boss, its own `pgboss` schema) rather than in the web
-// process. This table is the job as people see it: who asked, for which
-// derivation, its state, progress and answer; the row's id is the pg-boss job id.
-export const jobKinds = ["simulation", "fit"] as const;
+// Background jobs (robust slice). Heavy work (server simulations, parameter fits,
+// evaluations of large models, rendered reports) runs in queue workers (pg-boss,
+// its own `pgboss` schema) rather than in the web process. This table is the job
+// as people see it: who asked, for which derivation, its state, progress and
+// answer; the row's id is the pg-boss job id. A new kind: append it here (and a
+// migration adding the enum value), then a handler in lib/jobs/handlers.ts.
+export const jobKinds = ["simulation", "fit", "evaluation", "report"] as const;
 export type JobKind = (typeof jobKinds)[number];
 export const jobKind = pgEnum("job_kind", jobKinds);
 export const jobStates = ["queued", "running", "completed", "failed", "cancelled"] as const;

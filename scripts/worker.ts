@@ -1,5 +1,6 @@
-// The queue worker: takes server simulations and parameter fits from the job queue
-// (pg-boss in PostgreSQL) and runs them in its worker-thread pools. Start any number,
+// The queue worker: takes server simulations, parameter fits, evaluations of large
+// models and report renderings from the job queue (pg-boss in PostgreSQL) and runs
+// them in its worker-thread pools. Start any number,
 // on any machine that reaches the database and the object store:
 //   npx tsx --conditions=react-server scripts/worker.ts
 // Stops on SIGTERM/SIGINT after the job in hand (pg-boss's graceful stop); a job a
@@ -8,6 +9,7 @@ import { closeDatabase } from "@/db/client";
 import { createBoss } from "@/lib/jobs/boss";
 import { JOB_HANDLERS } from "@/lib/jobs/handlers";
 import { JobQueue } from "@/lib/jobs/queue";
+import { closeEnginePool } from "@/lib/workers/engine-pool";
 import { closeSimulationPool } from "@/lib/workers/simulation-pool";
 
 async function main(): Promise<void> {
@@ -21,6 +23,7 @@ async function main(): Promise<void> {
     console.log(`[holonomy] queue worker stopping (${signal})`);
     await queue.stop().catch((error: unknown) => console.error("[holonomy] queue stop:", error));
     await closeSimulationPool();
+    await closeEnginePool();
     await closeDatabase();
     process.exit(0);
   };

@@ -38,6 +38,7 @@ import { EMPTY_VIEW_PREFERENCES, personalCell, type ViewPreferences } from "@/li
 import { CELL_SHORTCUTS } from "./cell-frame";
 import { Notebook, type NotebookView } from "./notebook";
 import { OwnSimulation } from "./own-simulation";
+import { ServerJobStatus } from "./simulation/use-server-job";
 import { UploadLimitsProvider, type UploadLimits } from "./upload-limits";
 import { useEvaluation } from "./use-evaluation";
 import { useViewPreferences } from "./use-view-preferences";
@@ -302,6 +303,10 @@ export function NotebookPage(props: NotebookPageProps) {
               {evaluation.evaluating ? <Spinner /> : null}
               {evaluation.evaluating ? "Evaluating…" : "Evaluate"}
             </Button>
+            {evaluation.job ? (
+              // A large model: a queue worker evaluates it; the results appear when it is done.
+              <ServerJobStatus job={evaluation.job} what="Evaluation of this large model" onCancel={() => void evaluation.cancel().catch(() => undefined)} />
+            ) : null}
             {!hasSimulationCell ? (
               <Button
                 size="sm"

@@ -6,12 +6,17 @@
  * its cache when the model is unchanged. The last good results stay on screen;
  * they are marked stale while they belong to another version of the document
  * or after an evaluation failed, whose diagnostics are returned for the editors.
+ * A large model is evaluated by a queue worker: the server answers 202 with the
+ * job, the hook follows its progress (`job`, `cancel`) and, once it completed,
+ * asks again and gets the answer from the server's cache.
  */
 import { keepPreviousData, useQuery } from "@tanstack/react-query";
-import { useCallback, useEffect, useMemo, useState } from "react";
+import { useCallback, useEffect, useMemo, useRef, useState } from "react";
 import { apiFetch } from "@/lib/api/fetcher";
 import { AppError } from "@/lib/errors";
 import type { EvaluationResponse } from "@/lib/evaluation/views";
+import type { JobJson } from "@/lib/jobs/views";
+import { cancelJob, followJob, jobFailure } from "./simulation/use-server-job";
 import type { Model } from "@/lib/mechanics/browser";
 import { coordinateNames, documentToModel, type DerivationDocument } from "@/lib/notebook/document";
 import type { ModelDiagnostic, NotebookResults } from "@/lib/notebook/results";
@@ -30,6 +35,10 @@ export interface Evaluation {
   /** The document (as JSON) the results belong to; view choices ask the server about this one. */
   resultsDocumentJson: string | null;
   evaluateNow: () => void;
+  /** The queued evaluation of a large model while a queue worker runs it; null otherwise. */
+  job: JobJson | null;
+  /** Cancels the queued evaluation (the last good results stay). */
+  cancel: () => Promise<void>;
 }
 
 /** A coordinate, a kinetic and a potential energy: the least the engine can derive from. */
@@ -69,10 +78,30 @@ export function useEvaluation({
     return () => clearTimeout(timer);
   }, [json, settled, settleMs]);
 
+  const [job, setJob] = useState<JobJson | null>(null);
+  const jobRef = useRef<JobJson | null>(null);
+  const showJob = useCallback((next: JobJson | null) => {
+    jobRef.current = next;
+    setJob(next);
+  }, []);
+
   const query = useQuery({
     queryKey: ["derivations", derivationId, "evaluation", settled],
-    queryFn: ({ signal }) =>
-      apiFetch<EvaluationResponse>(`/api/derivations/${derivationId}/evaluate`, { method: "POST", body: { document: JSON.parse(settled) as unknown }, signal }),
+    queryFn: async ({ signal }) => {
+      const path = `/api/derivations/${derivationId}/evaluate`;
+      const body = { document: JSON.parse(settled) as unknown };
+      const first = await apiFetch<EvaluationResponse | { job: JobJson }>(path, { method: "POST", body, signal, headers: { prefer: "respond-async" } });
+      if (!("job" in first)) return first;
+      let ended: JobJson;
+      try {
+        ended = await followJob(derivationId, first.job, { onUpdate: showJob, signal });
+      } finally {
+        showJob(null);
+      }
+      if (ended.state !== "completed") throw jobFailure(ended);
+      // The worker stored the answer in the evaluation cache: asking again is a cache hit.
+      return apiFetch<EvaluationResponse>(path, { method: "POST", body, signal });
+    },
     placeholderData: keepPreviousData,
     staleTime: Infinity,
     gcTime: 5 * 60_000,
@@ -102,7 +131,14 @@ export function useEvaluation({
     else setSettled(json);
   }, [json, settled, refetch]);
 
+  const cancel = useCallback(async () => {
+    const running = jobRef.current;
+    if (running) showJob(await cancelJob(derivationId, running.id));
+  }, [derivationId, showJob]);
+
   return {
+    job,
+    cancel,
     results: lastGood?.response.result ?? null,
     response: lastGood?.response ?? null,
     evaluating: query.isFetching,

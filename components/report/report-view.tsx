@@ -1,8 +1,8 @@
 /**
  * The printable derivation report of one revision (server-rendered). Sections
  * follow the analyst's work: the model, the equations, what is conserved, the
- * linearization, the checks and stored runs, review and approval, and the
- * safety note. Comment threads get a section once the product has them.
+ * linearization, the checks and stored runs, review and approval, the comment
+ * threads (open and resolved, with their anchors), and the safety note.
  */
 import type { ReactNode } from "react";
 import { renderLatex } from "@/components/notebook/katex-render";
@@ -11,6 +11,8 @@ import { formatRecordTime } from "@/lib/history/format";
 import { revisionKindLabels, type ReportRun, type RevisionReport } from "@/lib/history/views";
 import { symbolLatex, toLatex } from "@/lib/mechanics/browser";
 import type { DerivationDocument, RowOf, TableCell, TableKind } from "@/lib/notebook/document";
+import { coordinatesOf, formatValue, matrixLatex, runSettingsText, stateLatex } from "@/lib/reports/format";
+import type { ReportThread } from "@/lib/reports/threads";
 import { ReportNote } from "./report-client";
 import { SeriesChart } from "./run-plot";
 
@@ -28,14 +30,6 @@ function Expression({ text, display = false }: { text: string; display?: boolean
     latex = null;
   }
   return latex === null ? <code className="font-mono text-sm">{text}</code> : <Tex latex={latex} display={display} />;
-}
-
-export function formatValue(value: number): string {
-  if (!Number.isFinite(value)) return String(value);
-  if (value === 0) return "0";
-  const size = Math.abs(value);
-  if (size >= 1e6 || size < 1e-3) return value.toExponential(3);
-  return String(Number(value.toPrecision(6)));
 }
 
 function Section({ number, title, children, id }: { number: number; title: string; children: ReactNode; id: string }) {
@@ -177,44 +171,6 @@ function ModelSection({ document }: { document: DerivationDocument }) {
   );
 }
 
-function matrixLatex(rows: number[][]): string {
-  return `\\begin{bmatrix}${rows.map((row) => row.map(formatValue).join(" & ")).join(" \\\\ ")}\\end{bmatrix}`;
-}
-
-function stateLatex(name: string): string {
-  const order = (name.match(/'/g)?.length ?? 0) as 0 | 1 | 2;
-  return symbolLatex(name.replace(/'+$/, ""), order);
-}
-
-/** Coordinate names from the state names [q; q']. */
-function coordinatesOf(stateNames: readonly string[]): string[] {
-  return stateNames.filter((name) => !name.endsWith("'"));
-}
-
-function runSettingsText(settings: Record<string, unknown>): string[] {
-  const numbers = (value: unknown) =>
-    value && typeof value === "object"
-      ? Object.entries(value as Record<string, unknown>)
-          .map(([name, v]) => `${name} = ${typeof v === "number" ? formatValue(v) : String(v)}`)
-          .join(", ")
-      : "";
-  const lines = [
-    `t from ${formatValue(Number(settings.startTime ?? 0))} s to ${formatValue(Number(settings.endTime))} s, output every ${formatValue(Number(settings.outputStep))} s`,
-  ];
-  const initial = numbers(settings.initialCoordinates);
-  if (initial) lines.push(`initial coordinates: ${initial}`);
-  const rates = numbers(settings.initialRates);
-  if (rates) lines.push(`initial rates: ${rates}`);
-  const parameters = numbers(settings.parameters);
-  if (parameters) lines.push(`parameters set for this run: ${parameters}`);
-  const inputs =
-    settings.inputs && typeof settings.inputs === "object"
-      ? Object.entries(settings.inputs as Record<string, string>).map(([name, expr]) => `${name}(t) = ${expr}`)
-      : [];
-  if (inputs.length > 0) lines.push(`inputs: ${inputs.join(", ")}`);
-  return lines;
-}
-
 function RunBlock({ run, index }: { run: ReportRun; index: number }) {
   return (
     <article className="hn-report-run space-y-2 rounded border border-line p-3" data-testid="report-run">
@@ -257,7 +213,56 @@ function RunBlock({ run, index }: { run: ReportRun; index: number }) {
   );
 }
 
-export function ReportView({ report, title, teamName, generatedAt }: { report: RevisionReport; title: string; teamName: string; generatedAt: string }) {
+function ThreadBlock({ thread }: { thread: ReportThread }) {
+  return (
+    <article className="hn-report-thread space-y-1 rounded border border-line p-3 text-sm" data-testid="report-thread" data-status={thread.status}>
+      <p>
+        <strong>{thread.status === "open" ? "Open" : "Resolved"}</strong> — {thread.anchor.where}
+        {thread.writtenOn ? <span className="text-muted"> (written on {thread.writtenOn})</span> : null}
+      </p>
+      {thread.anchor.kind === "text" ? (
+        thread.anchor.quote ? (
+          <blockquote className="border-l-2 border-line pl-2 font-mono text-xs whitespace-pre-wrap">{thread.anchor.quote}</blockquote>
+        ) : null
+      ) : (
+        <p>
+          On the term {thread.anchor.termLatex ? <Tex latex={thread.anchor.termLatex} /> : <code className="font-mono">{thread.anchor.termText}</code>}
+        </p>
+      )}
+      <ul className="space-y-1">
+        {thread.comments.map((comment, index) => (
+          <li key={index}>
+            <span className="text-muted">
+              {comment.authorName}, {formatRecordTime(comment.createdAt)}
+              {comment.edited ? " (edited)" : ""}:
+            </span>{" "}
+            {comment.deleted ? <em className="text-muted">comment deleted</em> : <span className="whitespace-pre-wrap">{comment.body}</span>}
+          </li>
+        ))}
+      </ul>
+      {thread.resolved ? (
+        <p className="text-xs text-muted">
+          Resolved by {thread.resolved.byName}, {formatRecordTime(thread.resolved.at)}.
+        </p>
+      ) : null}
+    </article>
+  );
+}
+
+export function ReportView({
+  report,
+  title,
+  teamName,
+  generatedAt,
+  threads,
+}: {
+  report: RevisionReport;
+  title: string;
+  teamName: string;
+  generatedAt: string;
+  /** The derivation's comment threads as they stand now; null when the reader may not read comments. */
+  threads: ReportThread[] | null;
+}) {
   const { revision, evaluation, document } = report;
   const result = evaluation.ok ? evaluation.result : null;
   const current = report.approvals.find((approval) => approval.unlockedAt === null);
@@ -508,6 +513,24 @@ export function ReportView({ report, title, teamName, generatedAt }: { report: R
           ))
         )}
       </Section>
+
+      {threads ? (
+        <Section number={8} title="Comment threads" id="report-threads">
+          {threads.length === 0 ? (
+            <p className="text-sm text-muted">No comment threads.</p>
+          ) : (
+            <>
+              <p className="text-xs text-muted">
+                {threads.filter((t) => t.status === "open").length} open, {threads.filter((t) => t.status === "resolved").length} resolved; threads belong to
+                the derivation and are printed as they stand now.
+              </p>
+              {threads.map((thread) => (
+                <ThreadBlock key={thread.id} thread={thread} />
+              ))}
+            </>
+          )}
+        </Section>
+      ) : null}
 
       <aside
         className="hn-report-safety rounded border border-l-4 border-seal/60 border-l-seal bg-seal-soft p-3 text-sm"

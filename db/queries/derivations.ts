@@ -4,7 +4,7 @@ import { and, asc, count, desc, eq, gt, ilike, inArray, isNotNull, isNull, lte, 
 import { alias } from "drizzle-orm/pg-core";
 import { parseStoredDocument, type DerivationDocument } from "@/lib/notebook/document";
 import { db, type Executor } from "../client";
-import { derivations, files, simulationRuns, users, type Derivation, type DerivationStatus, type NewSimulationRun, type NewStoredFile } from "../schema";
+import { derivations, files, jobs, simulationRuns, users, type Derivation, type DerivationStatus, type NewSimulationRun, type NewStoredFile } from "../schema";
 import { writeSharedDocInTransaction } from "./collab";
 import { currentRevision, getLatestRevisionByDerivationId, lockDerivationRow } from "./revisions";
 
@@ -357,6 +357,11 @@ export async function purgeTrashedDerivations({
       .select({ key: simulationRuns.trajectoryKey })
       .from(simulationRuns)
       .where(and(inArray(simulationRuns.derivationId, doomedIds), isNotNull(simulationRuns.trajectoryKey)));
+    // Report files rendered by queue workers (lib/reports): their keys are in the completed jobs' results.
+    const reportKeys = await tx
+      .select({ key: sql<string | null>`${jobs.result}->>'objectKey'` })
+      .from(jobs)
+      .where(and(inArray(jobs.derivationId, doomedIds), eq(jobs.kind, "report"), eq(jobs.state, "completed")));
     const purged = await tx.delete(derivations).where(inArray(derivations.id, doomedIds)).returning({ id: derivations.id, title: derivations.title });
     for (const row of purged) {
       await recordAuditEvent(
@@ -364,7 +369,14 @@ export async function purgeTrashedDerivations({
         tx,
       );
     }
-    return { purged, objectKeys: [...fileKeys.map((row) => row.key), ...runKeys.flatMap((row) => (row.key ? [row.key] : []))] };
+    return {
+      purged,
+      objectKeys: [
+        ...fileKeys.map((row) => row.key),
+        ...runKeys.flatMap((row) => (row.key ? [row.key] : [])),
+        ...reportKeys.flatMap((row) => (row.key ? [row.key] : [])),
+      ],
+    };
   });
 }
 

@@ -1,7 +1,7 @@
 import "server-only";
-import { and, eq, inArray, sql } from "drizzle-orm";
+import { and, desc, eq, inArray, sql } from "drizzle-orm";
 import { db, type Executor } from "../client";
-import { jobs, type Job, type JobError, type JobState, type NewJob } from "../schema";
+import { jobs, type Job, type JobError, type JobKind, type JobState, type NewJob } from "../schema";
 
 export async function createJob({ job }: { job: NewJob & { id: string } }, executor: Executor = db): Promise<Job> {
   const [row] = await executor.insert(jobs).values(job).returning();
@@ -77,4 +77,37 @@ export async function countJobsByDerivationId({ derivationId }: { derivationId: 
     .where(eq(jobs.derivationId, derivationId))
     .groupBy(jobs.state);
   return Object.fromEntries(rows.map((row) => [row.state, row.count]));
+}
+
+/**
+ * A queued or running job of this kind on the derivation that this person asked
+ * for with the same `input.modelHash`: a repeated request (a reload, a second
+ * tab) joins it rather than queueing the same work again.
+ */
+export async function getActiveJobByModelHash({
+  derivationId,
+  kind,
+  createdById,
+  modelHash,
+}: {
+  derivationId: string;
+  kind: JobKind;
+  createdById: string;
+  modelHash: string;
+}): Promise<Job | null> {
+  const [row] = await db
+    .select()
+    .from(jobs)
+    .where(
+      and(
+        eq(jobs.derivationId, derivationId),
+        eq(jobs.kind, kind),
+        eq(jobs.createdById, createdById),
+        inArray(jobs.state, ["queued", "running"]),
+        sql`${jobs.input}->>'modelHash' = ${modelHash}`,
+      ),
+    )
+    .orderBy(desc(jobs.createdAt))
+    .limit(1);
+  return row ?? null;
 }

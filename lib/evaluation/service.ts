@@ -19,6 +19,7 @@ import {
 import { getEnginePool } from "@/lib/workers/engine-pool";
 import type { EvaluationResponse } from "./views";
 import { engineVersion } from "@/lib/workers/worker-file";
+import { evaluationSize, isLargeEvaluation } from "./size";
 
 export type { EvaluationResponse } from "./views";
 
@@ -142,17 +143,42 @@ async function relinearizedModelCached({
 export async function evaluateDocumentCached({
   document,
   linearization,
+  runner,
 }: {
   document: DerivationDocument;
   linearization?: Partial<LinearizationSettings>;
+  /** The engine to run on; the process's engine pool by default (a queue worker passes one that reports progress and stops on cancel). */
+  runner?: EngineRunner;
 }): Promise<EvaluationResponse> {
   const model = modelFromDocument(document);
   const own = settingsOfDocument(document);
-  if (!linearization) return evaluateModelCached({ model, settings: own });
+  if (!linearization) return evaluateModelCached({ model, settings: own, runner });
   const settings = settingsOfDocument(document, linearization);
   const version = engineVersion();
-  if (evaluationHash(model, settings, version) === evaluationHash(model, own, version)) return evaluateModelCached({ model, settings: own });
-  return relinearizedModelCached({ model, base: own, settings });
+  if (evaluationHash(model, settings, version) === evaluationHash(model, own, version)) return evaluateModelCached({ model, settings: own, runner });
+  return relinearizedModelCached({ model, base: own, settings, runner });
+}
+
+/** The cache key of a document's evaluation with these linearization settings. */
+export function documentEvaluationHash({ document, linearization }: { document: DerivationDocument; linearization?: Partial<LinearizationSettings> }): string {
+  return evaluationHash(modelFromDocument(document), settingsOfDocument(document, linearization), engineVersion());
+}
+
+/** The document's evaluation from the cache, running nothing; null on a miss. */
+export async function cachedDocumentEvaluation({
+  document,
+  linearization,
+}: {
+  document: DerivationDocument;
+  linearization?: Partial<LinearizationSettings>;
+}): Promise<EvaluationResponse | null> {
+  const started = performance.now();
+  return cachedEvaluation(documentEvaluationHash({ document, linearization }), started);
+}
+
+/** True when the document's model is large enough to be evaluated by a queue worker (lib/evaluation/size.ts). */
+export function isLargeDocument(document: DerivationDocument): boolean {
+  return isLargeEvaluation(evaluationSize(modelFromDocument(document)));
 }
 
 /**
@@ -164,14 +190,17 @@ export async function codeOfDocument({
   document,
   language,
   fallbackTitle,
+  evaluate = (doc) => evaluateDocumentCached({ document: doc }),
 }: {
   document: DerivationDocument;
   language: CodeLanguage;
   fallbackTitle: string;
+  /** How the document's evaluation is had (a route passes one that queues a large model: lib/jobs/service.ts's evaluationForRequest). */
+  evaluate?: (document: DerivationDocument) => Promise<EvaluationResponse>;
 }): Promise<{ language: CodeLanguage; filename: string; source: string }> {
   const model = modelFromDocument(document);
   if (!model.title.trim()) model.title = fallbackTitle;
-  const { result } = await evaluateDocumentCached({ document });
+  const { result } = await evaluate(document);
   let source = result.code?.find((entry) => engineCodeLanguage(entry.language as "octave") === language)?.source;
   if (source === undefined) {
     try {

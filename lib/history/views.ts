@@ -130,6 +130,14 @@ function approvalView(
   };
 }
 
+/**
+ * How a page has a revision evaluated: the evaluation service by default (a
+ * queue worker rendering a report); the pages pass one that queues a large
+ * model instead of deriving it on the request (lib/jobs/service.ts).
+ */
+export type RevisionEvaluator = (document: DerivationDocument) => Promise<{ result: EvaluationResult; engineVersion: string; modelHash: string; evaluatedAt: string }>;
+const defaultEvaluator: RevisionEvaluator = (document) => evaluateDocumentCached({ document });
+
 export type RevisionEvaluation =
   { ok: true; result: EvaluationResult; engineVersion: string; modelHash: string; evaluatedAt: string } | { ok: false; message: string };
 
@@ -147,9 +155,9 @@ export function documentOfRevision(revision: Pick<Revision, "content" | "title">
  * service (cached by model hash). A model the engine refuses — an automatic
  * revision may hold half-typed work — is reported, not thrown.
  */
-export async function evaluateRevision(document: DerivationDocument): Promise<RevisionEvaluation> {
+export async function evaluateRevision(document: DerivationDocument, evaluate: RevisionEvaluator = defaultEvaluator): Promise<RevisionEvaluation> {
   try {
-    const response = await evaluateDocumentCached({ document });
+    const response = await evaluate(document);
     return { ok: true, result: response.result, engineVersion: response.engineVersion, modelHash: response.modelHash, evaluatedAt: response.evaluatedAt };
   } catch (error) {
     const appError = toAppError(error);
@@ -216,8 +224,9 @@ export async function compareRevisionEquations(
   before: DerivationDocument,
   after: DerivationDocument,
   numbers: { from: number; to: number },
+  evaluate: RevisionEvaluator = defaultEvaluator,
 ): Promise<EquationsComparison> {
-  const [old, current] = await Promise.all([evaluateRevision(before), evaluateRevision(after)]);
+  const [old, current] = await Promise.all([evaluateRevision(before, evaluate), evaluateRevision(after, evaluate)]);
   if (!old.ok) return { ok: false, message: `Revision ${numbers.from} does not derive: ${old.message}` };
   if (!current.ok) return { ok: false, message: `Revision ${numbers.to} does not derive: ${current.message}` };
   const isMotion = motionNames({
@@ -315,7 +324,7 @@ async function reportRuns(derivationId: string, modelHash: string): Promise<{ ru
 }
 
 /** Everything the printable report of one revision shows. */
-export async function revisionReport(derivation: Derivation, revisionId: string): Promise<RevisionReport> {
+export async function revisionReport(derivation: Derivation, revisionId: string, evaluate: RevisionEvaluator = defaultEvaluator): Promise<RevisionReport> {
   const [revision, nameOf, state] = await Promise.all([
     getRevisionByDerivationIdAndId({ derivationId: derivation.id, id: revisionId }),
     teamNames(derivation.teamId),
@@ -325,7 +334,7 @@ export async function revisionReport(derivation: Derivation, revisionId: string)
   const read = documentOfRevision(revision);
   if (!read.ok) throw new AppError("unprocessable:revision", `Revision ${revision.number} cannot be read: ${read.message}`);
   const document = read.document;
-  const evaluation = await evaluateRevision(document);
+  const evaluation = await evaluateRevision(document, evaluate);
   let runs: ReportRun[] = [];
   let otherRuns = 0;
   try {

@@ -2,11 +2,12 @@ import "server-only";
 import { randomUUID } from "node:crypto";
 import type PgBoss from "pg-boss";
 import { createJob, finishJobById, getJobById, startJobById, updateJobProgressById } from "@/db/queries/jobs";
-import type { Job, JobError, JobKind } from "@/db/schema";
+import { jobKinds, type Job, type JobError, type JobKind } from "@/db/schema";
 import { AppError, type ErrorCode } from "@/lib/errors";
 
 /**
- * The job queue: heavy work (server simulations, parameter fits) is queued in
+ * The job queue: heavy work (server simulations, parameter fits, evaluations of
+ * large models, rendered reports) is queued in
  * PostgreSQL through pg-boss and run by worker processes (scripts/worker.ts),
  * any number of them on any number of machines. The web process only enqueues,
  * reads and cancels. The `jobs` table (db/queries/jobs.ts) is the job as people
@@ -18,8 +19,8 @@ import { AppError, type ErrorCode } from "@/lib/errors";
  * one (lib/jobs/boss.ts), tests make their own.
  */
 
-/** pg-boss queue of each kind of job. */
-export const QUEUE_NAMES: Record<JobKind, string> = { simulation: "holonomy-simulation", fit: "holonomy-fit" };
+/** pg-boss queue of each kind of job: one per kind, named after it, so a new kind needs no entry here. */
+export const QUEUE_NAMES = Object.fromEntries(jobKinds.map((kind) => [kind, `holonomy-${kind}`])) as Record<JobKind, string>;
 
 /** What a handler gets besides the job row. */
 export interface JobContext {

@@ -135,7 +135,11 @@ const routeTable: Record<string, RouteRow> = {
   "POST /api/derivations/[id]/fit": { expect: roles(ok, ok, ok, 403) },
   "POST /api/derivations/[id]/fit/apply": { expect: roles(ok, ok, 403, 403) },
   "GET /api/derivations/[id]/jobs/[jobId]": { expect: anyMember },
-  "POST /api/derivations/[id]/jobs/[jobId]/cancel": { expect: roles(ok, ok, ok, 403), note: "whoever may simulate may cancel a queued run or fit" },
+  "POST /api/derivations/[id]/jobs/[jobId]/cancel": {
+    expect: roles(ok, ok, ok, 403),
+    note: "whoever may simulate may cancel a queued run or fit (the sweep's job is a run); an evaluation or report only by who queued it (job-queue tests)",
+  },
+  "GET /api/derivations/[id]/jobs/[jobId]/download": { expect: anyMember, note: "the sweep's job is a run: 409, no file, past the gate" },
   "POST /api/derivations/[id]/collab-token": { expect: anyMember, note: "readers get a read-only token" },
   "GET /api/derivations/[id]/comments": { expect: anyMember },
   "POST /api/derivations/[id]/comments": { expect: roles(ok, ok, ok, 403), note: "reviewers comment; that is their job" },
@@ -160,6 +164,7 @@ const routeTable: Record<string, RouteRow> = {
   "POST /api/derivations/[id]/revisions": { expect: roles(ok, ok, 403, 403) },
   "GET /api/derivations/[id]/revisions/[revisionId]": { expect: anyMember },
   "POST /api/derivations/[id]/revisions/[revisionId]/restore": { expect: roles(ok, ok, 403, 403) },
+  "POST /api/derivations/[id]/revisions/[revisionId]/report": { expect: anyMember, note: "queues a report file; every reader may print" },
   "GET /api/derivations/[id]/review": { expect: anyMember },
   "POST /api/derivations/[id]/review": { expect: roles(ok, ok, 403, 403) },
   "POST /api/derivations/[id]/review/decision": { expect: roles(ok, 403, ok, 403) },
@@ -410,12 +415,13 @@ beforeAll(async () => {
   await resetDatabase();
   routes = await discoverRoutes();
 }, 120_000);
+// Every world stores an object (hundreds of deletes) and the queue stops gracefully: more than the 10 s default on a busy machine.
 afterAll(async () => {
   for (const key of storedKeys) await deleteObject({ key }).catch(() => undefined);
   await closeJobQueue();
   await closeEnginePool();
   await closeDatabase();
-});
+}, 120_000);
 
 describe("the permission sweep's table", () => {
   it("has a row for every route handler, and no row for a route that is gone", () => {

@@ -8,7 +8,41 @@ const POLL_MS = 500;
 const ENDED = new Set(["completed", "failed", "cancelled"]);
 
 /**
- * A server run or fit as a queued job: `run` posts with `Prefer: respond-async`
+ * Polls a queued job until it ends (or `signal` aborts, or `stop()` says so),
+ * handing each state to `onUpdate`; the last job seen.
+ */
+export async function followJob(
+  derivationId: string,
+  job: JobJson,
+  { onUpdate, signal, stop }: { onUpdate: (job: JobJson) => void; signal?: AbortSignal; stop?: () => boolean },
+): Promise<JobJson> {
+  let latest = job;
+  onUpdate(latest);
+  while (!ENDED.has(latest.state)) {
+    await new Promise((resolve) => setTimeout(resolve, POLL_MS));
+    if (signal?.aborted || stop?.()) break;
+    ({ job: latest } = await apiFetch<{ job: JobJson }>(`/api/derivations/${derivationId}/jobs/${latest.id}`, { signal }));
+    onUpdate(latest);
+  }
+  return latest;
+}
+
+/** A job that did not complete as the AppError the page shows (a cancelled job: `conflict:job`). */
+export function jobFailure(job: JobJson): AppError {
+  if (job.state === "cancelled") return new AppError("conflict:job", "The job was cancelled.");
+  return new AppError((job.error?.code ?? "internal:job") as ErrorCode, job.error?.message ?? "The job failed on the server.", {
+    fieldErrors: job.error?.fieldErrors,
+    details: job.error?.details,
+  });
+}
+
+/** Asks the server to cancel a job; the job as it then stands. */
+export async function cancelJob(derivationId: string, jobId: string): Promise<JobJson> {
+  return (await apiFetch<{ job: JobJson }>(`/api/derivations/${derivationId}/jobs/${jobId}/cancel`, { method: "POST" })).job;
+}
+
+/**
+ * A server run, fit or report file as a queued job: `run` posts with `Prefer: respond-async`
  * and polls GET …/jobs/[jobId] until the job ends, keeping `job` (state and
  * progress) current for the page; `cancel` asks the server to stop it. `run`
  * resolves with the completed job, or throws the job's error as an AppError
@@ -32,24 +66,16 @@ export function useServerJob(derivationId: string | undefined) {
 
   const run = useCallback(
     async (path: string, body: unknown): Promise<JobJson> => {
-      let { job: latest } = await apiFetch<{ job: JobJson }>(path, { method: "POST", body, headers: { prefer: "respond-async" } });
-      show(latest);
+      const { job: queued } = await apiFetch<{ job: JobJson }>(path, { method: "POST", body, headers: { prefer: "respond-async" } });
+      let latest: JobJson;
       try {
-        while (!ENDED.has(latest.state)) {
-          await new Promise((resolve) => setTimeout(resolve, POLL_MS));
-          // Leaving the page stops the polling, not the job: its answer is stored for later.
-          if (unmounted.current) break;
-          ({ job: latest } = await apiFetch<{ job: JobJson }>(`/api/derivations/${derivationId}/jobs/${latest.id}`));
-          show(latest);
-        }
+        // Leaving the page stops the polling, not the job: its answer is stored for later.
+        latest = await followJob(derivationId!, queued, { onUpdate: show, stop: () => unmounted.current });
       } finally {
         show(null);
       }
       if (latest.state === "completed") return latest;
-      if (latest.state === "cancelled") throw new AppError("conflict:job", "The job was cancelled.");
-      throw new AppError((latest.error?.code ?? "internal:job") as ErrorCode, latest.error?.message ?? "The job failed on the server.", {
-        fieldErrors: latest.error?.fieldErrors,
-      });
+      throw jobFailure(latest);
     },
     [derivationId],
   );
@@ -57,8 +83,7 @@ export function useServerJob(derivationId: string | undefined) {
   const cancel = useCallback(async () => {
     const running = current.current;
     if (!running || !derivationId) return;
-    const { job: after } = await apiFetch<{ job: JobJson }>(`/api/derivations/${derivationId}/jobs/${running.id}/cancel`, { method: "POST" });
-    show(after);
+    show(await cancelJob(derivationId, running.id));
   }, [derivationId]);
 
   return { job, run, cancel };

@@ -2,7 +2,7 @@ import { auditExport } from "@/lib/api/audit-export";
 import { derivationRoute } from "@/lib/api/resource-route";
 import { documentFromContent, modelFromDocument } from "@/lib/evaluation/document-content";
 import { downloadResponse, fileBaseName } from "@/lib/api/download";
-import { evaluateDocumentCached } from "@/lib/evaluation/service";
+import { evaluationForRequest } from "@/lib/jobs/service";
 import { latexDocument } from "@/lib/evaluation/latex-document";
 import { parseOrThrow } from "@/lib/validation/parse";
 import { exportQuerySchema } from "./schema";
@@ -20,8 +20,8 @@ export const GET = derivationRoute<Params>("derivation:read", async ({ request, 
     await auditExport({ actorId: user.id, derivation, format });
     return downloadResponse(`${JSON.stringify(model, null, 2)}\n`, { filename: `${base}.model.json`, contentType: "application/json" });
   }
-  // The equations come from the (cached) evaluation; a model that does not derive is a 422.
-  const { result } = await evaluateDocumentCached({ document });
+  // The equations come from the (cached) evaluation, a queued one for a large model; a model that does not derive is a 422.
+  const { result } = await evaluationForRequest({ derivation, userId: user.id, document });
   await auditExport({ actorId: user.id, derivation, format });
   return downloadResponse(latexDocument(model, result), { filename: `${base}.tex`, contentType: "application/x-tex" });
 });

@@ -1,5 +1,5 @@
 import { derivationRoute } from "@/lib/api/resource-route";
-import { evaluateDocumentCached } from "@/lib/evaluation/service";
+import { evaluationForRequest } from "@/lib/jobs/service";
 import type { LinearizationResponse } from "@/lib/evaluation/views";
 import { readOptionalJson } from "@/lib/api/optional-json";
 import { parseOrThrow } from "@/lib/validation/parse";
@@ -18,7 +18,13 @@ export const POST = derivationRoute<Params>("derivation:read", async ({ request,
   await enforceRateLimits([[rateLimits.evaluateByUser, user.id]], "rate_limited:engine", "Too many evaluations in a short time. Wait a moment and try again.");
   const input = parseOrThrow(linearizeSchema, await readOptionalJson(request));
   const document = documentForRequest(input.document, derivation);
-  const evaluation = await evaluateDocumentCached({ document, linearization: { equilibriumIndex: input.equilibriumIndex, inputValues: input.inputValues } });
+  // A large model's linearization is a queued evaluation with these settings (the request waits for it).
+  const evaluation = await evaluationForRequest({
+    derivation,
+    userId: user.id,
+    document,
+    linearization: { equilibriumIndex: input.equilibriumIndex, inputValues: input.inputValues },
+  });
   const { result } = evaluation;
   const answer: LinearizationResponse = {
     cached: evaluation.cached,

@@ -13,7 +13,8 @@ import { loadDerivationFor, orNotFound } from "@/lib/auth/access";
 import { requirePageUser } from "@/lib/auth/session";
 import type { CellChange } from "@/lib/history/document-diff";
 import { formatRecordTime, shortHash } from "@/lib/history/format";
-import { compareRevisionDocuments, compareRevisionEquations, revisionKindLabels, revisionPair, type RevisionView } from "@/lib/history/views";
+import { compareRevisionDocuments, compareRevisionEquations, revisionKindLabels, revisionPair, type RevisionEvaluator, type RevisionView } from "@/lib/history/views";
+import { evaluationForRequest } from "@/lib/jobs/service";
 import type { DerivationDocument } from "@/lib/notebook/document";
 
 export const metadata: Metadata = { title: "Compare revisions" };
@@ -75,8 +76,18 @@ function CellDiff({ cell }: { cell: CellChange }) {
   );
 }
 
-async function EquationsSection({ before, after, numbers }: { before: DerivationDocument; after: DerivationDocument; numbers: { from: number; to: number } }) {
-  const result = await compareRevisionEquations(before, after, numbers);
+async function EquationsSection({
+  before,
+  after,
+  numbers,
+  evaluate,
+}: {
+  before: DerivationDocument;
+  after: DerivationDocument;
+  numbers: { from: number; to: number };
+  evaluate: RevisionEvaluator;
+}) {
+  const result = await compareRevisionEquations(before, after, numbers, evaluate);
   if (!result.ok) return <Notice tone="error">{result.message} The text and parameter changes above are still complete.</Notice>;
   return <TermDiffView equations={result.equations} />;
 }
@@ -224,7 +235,13 @@ export default async function CompareRevisionsPage({ params, searchParams }: { p
                 </p>
               }
             >
-              <EquationsSection before={loaded.before} after={loaded.after} numbers={{ from: from.number, to: to.number }} />
+              <EquationsSection
+                before={loaded.before}
+                after={loaded.after}
+                numbers={{ from: from.number, to: to.number }}
+                // A large model is queued, not derived on the request; the section says so until it is done.
+                evaluate={(document) => evaluationForRequest({ derivation, userId: user.id, document, wait: false })}
+              />
             </Suspense>
           </section>
         </>
