@@ -18,6 +18,7 @@
 // No browser is involved: the clients are HTTP sessions and y-websocket providers in
 // this process, the same protocol the pages speak.
 import { execFile } from "node:child_process";
+import { existsSync } from "node:fs";
 import path from "node:path";
 import { promisify } from "node:util";
 import { expect, test } from "@playwright/test";
@@ -68,6 +69,8 @@ test("no acknowledged work is lost when the app, the collaboration server and Po
 
   try {
     // ---- the stack, on a database of its own --------------------------------------------
+    if (!existsSync(path.join(ROOT, ".next", "BUILD_ID")))
+      throw new Error("no production build: run `npx next build` first (npm test builds before this suite)");
     database = await startPrivatePostgres({ database: "holonomy_faults" });
     const appPort = await freePort();
     const collabPort = await freePort();
@@ -372,7 +375,14 @@ test("no acknowledged work is lost when the app, the collaboration server and Po
     await jobPolling;
 
     // ---- found again -------------------------------------------------------------------
-    // Edits: a newcomer opening the derivation now sees every acknowledged marker.
+    // Edits: read from storage, not from the live room. The editors leave (a reconnecting
+    // editor would send its edits again) and the collaboration server is killed once more,
+    // so the next one loads the document from PostgreSQL; a newcomer opening the derivation
+    // then sees every acknowledged marker.
+    const reconnects = editors.map((client) => ({ syncs: client.syncs, closedConnections: client.closes.length }));
+    for (const client of editors.splice(0)) client.destroy();
+    await services.get("collab")!.kill("SIGKILL");
+    await start.collab();
     const fresh = await tokenFor(reviewer);
     const newcomer = connectCollabClient(fresh.url, sharedId, fresh.token);
     editors.push(newcomer);
@@ -435,7 +445,7 @@ test("no acknowledged work is lost when the app, the collaboration server and Po
         ["queued", "running", "completed", "failed", "cancelled"].map((state) => [state, [...jobs.values()].filter((job) => job.state === state).length]),
       ),
       derivationsApproved: approved.length,
-      editorReconnects: editors.slice(0, 2).map((client) => ({ syncs: client.syncs, closes: client.closes })),
+      editorReconnects: reconnects,
       acknowledgedByPhase: {
         edits: byPhase(acks.edits.values()),
         comments: byPhase(acks.comments.values()),
