@@ -14,6 +14,7 @@ import {
   type CommentThreadStatus,
   type NewCommentThread,
 } from "../schema";
+import { recordAuditEvent } from "./audit";
 import { createNotifications, type NewNotification } from "./notifications";
 import { returnedRow } from "./returned-row";
 
@@ -112,20 +113,61 @@ async function recordNewMentions(executor: Executor, commentId: string, input: C
   return fresh;
 }
 
+/** Who changed a comment, on which team's derivation: every write below records it in the audit log. */
+export interface CommentAuditContext {
+  teamId: string;
+  derivationId: string;
+  actorId: string;
+}
+
+/**
+ * One audit event of a comment or thread, written in the transaction of the change
+ * itself, so the log never misses a stored change nor records one that rolled back.
+ * The comment's text is not copied: the log says who did what and when.
+ */
+async function auditComment(
+  executor: Executor,
+  audit: CommentAuditContext,
+  action: "comment.create" | "comment.edit" | "comment.delete" | "comment.resolve" | "comment.reopen",
+  target: { type: "comment" | "comment_thread"; id: string },
+  details: Record<string, unknown>,
+): Promise<void> {
+  await recordAuditEvent(
+    {
+      teamId: audit.teamId,
+      actorId: audit.actorId,
+      action,
+      targetType: target.type,
+      targetId: target.id,
+      details: { derivationId: audit.derivationId, ...details },
+    },
+    executor,
+  );
+}
+
 /** A new thread with its first comment and that comment's mentions, in one transaction. */
 export async function createCommentThread({
   thread,
   body,
   mentions,
+  audit,
 }: {
   thread: Omit<NewCommentThread, "id" | "status" | "resolvedAt" | "resolvedById" | "createdAt" | "updatedAt">;
   body: string;
   mentions: CommentMentionsInput;
+  audit: CommentAuditContext;
 }): Promise<{ thread: CommentThread; comment: Comment; newlyMentioned: string[] }> {
   return db.transaction(async (tx) => {
     const created = returnedRow(await tx.insert(commentThreads).values(thread).returning(), "comment thread");
     const comment = returnedRow(await tx.insert(comments).values({ threadId: created.id, authorId: thread.authorId, body }).returning(), "comment");
     const newlyMentioned = await recordNewMentions(tx, comment.id, mentions);
+    await auditComment(
+      tx,
+      audit,
+      "comment.create",
+      { type: "comment", id: comment.id },
+      { threadId: created.id, anchorKind: created.anchorKind, newThread: true },
+    );
     return { thread: created, comment, newlyMentioned };
   });
 }
@@ -136,16 +178,19 @@ export async function createCommentReply({
   authorId,
   body,
   mentions,
+  audit,
 }: {
   threadId: string;
   authorId: string;
   body: string;
   mentions: CommentMentionsInput;
+  audit: CommentAuditContext;
 }): Promise<{ comment: Comment; newlyMentioned: string[] }> {
   return db.transaction(async (tx) => {
     const comment = returnedRow(await tx.insert(comments).values({ threadId, authorId, body }).returning(), "comment");
     await tx.update(commentThreads).set({ updatedAt: new Date() }).where(eq(commentThreads.id, threadId));
     const newlyMentioned = await recordNewMentions(tx, comment.id, mentions);
+    await auditComment(tx, audit, "comment.create", { type: "comment", id: comment.id }, { threadId, newThread: false });
     return { comment, newlyMentioned };
   });
 }
@@ -155,10 +200,12 @@ export async function updateCommentBodyById({
   id,
   body,
   mentions,
+  audit,
 }: {
   id: string;
   body: string;
   mentions: CommentMentionsInput;
+  audit: CommentAuditContext;
 }): Promise<{ comment: Comment; newlyMentioned: string[] } | null> {
   return db.transaction(async (tx) => {
     const now = new Date();
@@ -169,36 +216,51 @@ export async function updateCommentBodyById({
       .returning();
     if (!comment) return null;
     const newlyMentioned = await recordNewMentions(tx, comment.id, mentions);
+    await auditComment(tx, audit, "comment.edit", { type: "comment", id: comment.id }, { threadId: comment.threadId });
     return { comment, newlyMentioned };
   });
 }
 
 /** Marks a comment deleted (its text is no longer answered); the thread keeps its place. */
-export async function softDeleteCommentById({ id }: { id: string }, executor: Executor = db): Promise<Comment | null> {
-  const now = new Date();
-  const [row] = await executor
-    .update(comments)
-    .set({ deletedAt: now, updatedAt: now })
-    .where(and(eq(comments.id, id), isNull(comments.deletedAt)))
-    .returning();
-  return row ?? null;
+export async function softDeleteCommentById({ id, audit }: { id: string; audit: CommentAuditContext }): Promise<Comment | null> {
+  return db.transaction(async (tx) => {
+    const now = new Date();
+    const [row] = await tx
+      .update(comments)
+      .set({ deletedAt: now, updatedAt: now })
+      .where(and(eq(comments.id, id), isNull(comments.deletedAt)))
+      .returning();
+    if (!row) return null;
+    await auditComment(tx, audit, "comment.delete", { type: "comment", id: row.id }, { threadId: row.threadId, authorId: row.authorId });
+    return row;
+  });
 }
 
-export async function setCommentThreadStatusById(
-  { id, status, actorId }: { id: string; status: CommentThreadStatus; actorId: string },
-  executor: Executor = db,
-): Promise<CommentThread | null> {
-  const now = new Date();
-  const [row] = await executor
-    .update(commentThreads)
-    .set(
-      status === "resolved"
-        ? { status, resolvedAt: now, resolvedById: actorId, updatedAt: now }
-        : { status, resolvedAt: null, resolvedById: null, updatedAt: now },
-    )
-    .where(eq(commentThreads.id, id))
-    .returning();
-  return row ?? null;
+/** Resolves or reopens a thread (the actor is the one who resolved it); null when it is gone. */
+export async function setCommentThreadStatusById({
+  id,
+  status,
+  audit,
+}: {
+  id: string;
+  status: CommentThreadStatus;
+  audit: CommentAuditContext;
+}): Promise<CommentThread | null> {
+  return db.transaction(async (tx) => {
+    const now = new Date();
+    const [row] = await tx
+      .update(commentThreads)
+      .set(
+        status === "resolved"
+          ? { status, resolvedAt: now, resolvedById: audit.actorId, updatedAt: now }
+          : { status, resolvedAt: null, resolvedById: null, updatedAt: now },
+      )
+      .where(eq(commentThreads.id, id))
+      .returning();
+    if (!row) return null;
+    await auditComment(tx, audit, status === "resolved" ? "comment.resolve" : "comment.reopen", { type: "comment_thread", id: row.id }, {});
+    return row;
+  });
 }
 
 export async function markCommentMentionsEmailedByCommentId(

@@ -39,6 +39,9 @@ interface Caller {
   user: SessionUser;
 }
 
+/** The audit log's context of a change by the caller (each write records its own event). */
+const auditOf = ({ derivation, user }: Pick<Caller, "derivation" | "user">) => ({ teamId: derivation.teamId, derivationId: derivation.id, actorId: user.id });
+
 const iso = (date: Date | null) => (date ? date.toISOString() : null);
 const base64 = (bytes: Uint8Array | null) => (bytes ? Buffer.from(bytes).toString("base64") : "");
 
@@ -211,7 +214,12 @@ export async function startCommentThread(caller: Caller, input: CreateThreadInpu
           termLatex: anchor.termLatex,
           ...written,
         };
-  const created = await createCommentThread({ thread, body: input.body, mentions: mentionInput(caller, mentioned, input.body) });
+  const created = await createCommentThread({
+    thread,
+    body: input.body,
+    mentions: mentionInput(caller, mentioned, input.body),
+    audit: auditOf(caller),
+  });
   await mailMentions(caller, created.comment, created.newlyMentioned, members);
   return threadViewById(caller, created.thread.id);
 }
@@ -233,7 +241,13 @@ export async function replyToThread(caller: Caller, threadId: string, body: stri
   assertCan(caller.membership.role, "comment:create");
   const thread = await threadOf(caller, threadId);
   const { mentioned, members } = await mentionsOf(caller, body);
-  const created = await createCommentReply({ threadId: thread.id, authorId: caller.user.id, body, mentions: mentionInput(caller, mentioned, body) });
+  const created = await createCommentReply({
+    threadId: thread.id,
+    authorId: caller.user.id,
+    body,
+    mentions: mentionInput(caller, mentioned, body),
+    audit: auditOf(caller),
+  });
   await mailMentions(caller, created.comment, created.newlyMentioned, members);
   return threadViewById(caller, thread.id);
 }
@@ -242,7 +256,7 @@ export async function editComment(caller: Caller, threadId: string, commentId: s
   const comment = await commentOf(caller, threadId, commentId);
   assertCan(caller.membership.role, "comment:edit", { isAuthor: comment.authorId === caller.user.id });
   const { mentioned, members } = await mentionsOf(caller, body);
-  const updated = await updateCommentBodyById({ id: comment.id, body, mentions: mentionInput(caller, mentioned, body) });
+  const updated = await updateCommentBodyById({ id: comment.id, body, mentions: mentionInput(caller, mentioned, body), audit: auditOf(caller) });
   if (!updated) throw new AppError("not_found:comment", "That comment is gone.");
   await mailMentions(caller, updated.comment, updated.newlyMentioned, members);
   return threadViewById(caller, threadId);
@@ -251,13 +265,13 @@ export async function editComment(caller: Caller, threadId: string, commentId: s
 export async function deleteComment(caller: Caller, threadId: string, commentId: string): Promise<ThreadView> {
   const comment = await commentOf(caller, threadId, commentId);
   assertCan(caller.membership.role, "comment:delete", { isAuthor: comment.authorId === caller.user.id });
-  await softDeleteCommentById({ id: comment.id });
+  await softDeleteCommentById({ id: comment.id, audit: auditOf(caller) });
   return threadViewById(caller, threadId);
 }
 
 export async function setThreadStatus(caller: Caller, threadId: string, status: "open" | "resolved"): Promise<ThreadView> {
   const thread = await threadOf(caller, threadId);
   assertCan(caller.membership.role, "comment:resolve", { isAuthor: thread.authorId === caller.user.id });
-  if (thread.status !== status) await setCommentThreadStatusById({ id: thread.id, status, actorId: caller.user.id });
+  if (thread.status !== status) await setCommentThreadStatusById({ id: thread.id, status, audit: auditOf(caller) });
   return threadViewById(caller, thread.id);
 }

@@ -321,6 +321,7 @@ async function buildWorld(): Promise<World> {
         throw new Error("no mentions in the sweep");
       },
     },
+    audit: { teamId: team.id, derivationId: derivation.id, actorId: members.analyst.id },
   });
   const fileId = randomUUID();
   const objectKey = `derivations/${derivation.id}/files/${fileId}`;
