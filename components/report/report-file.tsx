@@ -27,7 +27,12 @@ export function ReportFileButton({ derivationId, revisionId }: { derivationId: s
         </Button>
       )}
       {ready ? (
-        <a className="text-action hover:underline" href={`/api/derivations/${derivationId}/jobs/${ready.id}/download`} download data-testid="report-file-download">
+        <a
+          className="text-action hover:underline"
+          href={`/api/derivations/${derivationId}/jobs/${ready.id}/download`}
+          download
+          data-testid="report-file-download"
+        >
           Download the report file
         </a>
       ) : null}

@@ -225,9 +225,7 @@ function ThreadBlock({ thread }: { thread: ReportThread }) {
           <blockquote className="border-l-2 border-line pl-2 font-mono text-xs whitespace-pre-wrap">{thread.anchor.quote}</blockquote>
         ) : null
       ) : (
-        <p>
-          On the term {thread.anchor.termLatex ? <Tex latex={thread.anchor.termLatex} /> : <code className="font-mono">{thread.anchor.termText}</code>}
-        </p>
+        <p>On the term {thread.anchor.termLatex ? <Tex latex={thread.anchor.termLatex} /> : <code className="font-mono">{thread.anchor.termText}</code>}</p>
       )}
       <ul className="space-y-1">
         {thread.comments.map((comment, index) => (

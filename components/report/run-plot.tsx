@@ -14,7 +14,13 @@ export function SeriesChart({ times, values, label, unit }: { times: readonly nu
   const { width, height, margin } = CHART;
   return (
     <figure className="hn-report-chart">
-      <svg viewBox={`0 0 ${width} ${height}`} role="img" aria-label={`${label} in ${unit || "1"} against time in s`} className="h-auto w-full" data-testid="run-plot">
+      <svg
+        viewBox={`0 0 ${width} ${height}`}
+        role="img"
+        aria-label={`${label} in ${unit || "1"} against time in s`}
+        className="h-auto w-full"
+        data-testid="run-plot"
+      >
         <g className="text-line" stroke="currentColor" strokeWidth="0.6">
           {chart.yTicks.map((tick) => (
             <line key={`y${tick.value}`} x1={margin.left} x2={width - margin.right} y1={tick.at} y2={tick.at} />

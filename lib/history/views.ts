@@ -135,7 +135,9 @@ function approvalView(
  * queue worker rendering a report); the pages pass one that queues a large
  * model instead of deriving it on the request (lib/jobs/service.ts).
  */
-export type RevisionEvaluator = (document: DerivationDocument) => Promise<{ result: EvaluationResult; engineVersion: string; modelHash: string; evaluatedAt: string }>;
+export type RevisionEvaluator = (
+  document: DerivationDocument,
+) => Promise<{ result: EvaluationResult; engineVersion: string; modelHash: string; evaluatedAt: string }>;
 const defaultEvaluator: RevisionEvaluator = (document) => evaluateDocumentCached({ document });
 
 export type RevisionEvaluation =

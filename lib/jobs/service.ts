@@ -151,9 +151,13 @@ export async function evaluationForRequest({
   const queued = await queueEvaluation({ derivation, userId, ...asked, modelHash: documentEvaluationHash(asked) });
   const job = wait ? await awaitJob(queued) : queued;
   if (job.state === "queued" || job.state === "running") {
-    throw new AppError("unavailable:engine", "This model is large: a queue worker is evaluating it now. Try again when it is done (the notebook shows its progress).", {
-      details: { job: jobView(job) },
-    });
+    throw new AppError(
+      "unavailable:engine",
+      "This model is large: a queue worker is evaluating it now. Try again when it is done (the notebook shows its progress).",
+      {
+        details: { job: jobView(job) },
+      },
+    );
   }
   if (job.state !== "completed") throw appErrorOfJob(job);
   const evaluated = await cachedDocumentEvaluation(asked);

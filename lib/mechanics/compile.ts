@@ -116,7 +116,12 @@ export function compileExpressions(expressions: readonly ExpressionSource[], var
  * module where possible ("auto"), else the tape. "wasm" throws when
  * WebAssembly cannot compile it (tests use it to compare the two).
  */
-export function compileGraph(graph: ExpressionGraph, roots: readonly number[], variables: readonly string[], backend: EvaluatorBackend = "auto"): CompiledExpressions {
+export function compileGraph(
+  graph: ExpressionGraph,
+  roots: readonly number[],
+  variables: readonly string[],
+  backend: EvaluatorBackend = "auto",
+): CompiledExpressions {
   if (backend !== "tape") {
     const kernel = compileGraphToWasm(graph, roots, variables.length);
     if (kernel !== null) return wasmEvaluator(kernel, graph, roots, variables);

@@ -35,7 +35,15 @@ export function escapeHtml(text: string): string {
 
 /** LaTeX as MathML; a LaTeX error comes out as the escaped source, never a throw. Nothing is trusted (no \href, no \htmlData). */
 export function mathml(latex: string, display = false): string {
-  return katex.renderToString(latex, { displayMode: display, throwOnError: false, output: "mathml", trust: false, strict: "ignore", maxSize: 20, maxExpand: 100_000 });
+  return katex.renderToString(latex, {
+    displayMode: display,
+    throwOnError: false,
+    output: "mathml",
+    trust: false,
+    strict: "ignore",
+    maxSize: 20,
+    maxExpand: 100_000,
+  });
 }
 
 function tex(latex: string, display = false): string {
@@ -80,7 +88,13 @@ function modelSection(document: DerivationDocument): string {
   }
   const symbol = (name: string) => tex(symbolLatex(name));
   parts.push("<h3>Generalized coordinates</h3>");
-  parts.push(table("Generalized coordinates", ["Coordinate", "Unit", "Description"], rowsOf(document, "coordinates").map((row) => [symbol(row.name), escapeHtml(row.unit), escapeHtml(row.description)])));
+  parts.push(
+    table(
+      "Generalized coordinates",
+      ["Coordinate", "Unit", "Description"],
+      rowsOf(document, "coordinates").map((row) => [symbol(row.name), escapeHtml(row.unit), escapeHtml(row.description)]),
+    ),
+  );
   parts.push("<h3>Parameters</h3>");
   const parameters = rowsOf(document, "parameters");
   parts.push(
@@ -89,17 +103,30 @@ function modelSection(document: DerivationDocument): string {
       : table(
           "Parameters",
           ["Parameter", "Value", "Unit", "Description"],
-          parameters.map((row) => [symbol(row.name), row.value.trim() ? escapeHtml(row.value.trim()) : `<span class="muted">symbolic</span>`, escapeHtml(row.unit), escapeHtml(row.description)]),
+          parameters.map((row) => [
+            symbol(row.name),
+            row.value.trim() ? escapeHtml(row.value.trim()) : `<span class="muted">symbolic</span>`,
+            escapeHtml(row.unit),
+            escapeHtml(row.description),
+          ]),
         ),
   );
   const inputs = rowsOf(document, "inputs");
   if (inputs.length > 0) {
-    parts.push("<h3>Inputs</h3>", table("Inputs", ["Input", "Unit", "Description"], inputs.map((row) => [symbol(row.name), escapeHtml(row.unit), escapeHtml(row.description)])));
+    parts.push(
+      "<h3>Inputs</h3>",
+      table(
+        "Inputs",
+        ["Input", "Unit", "Description"],
+        inputs.map((row) => [symbol(row.name), escapeHtml(row.unit), escapeHtml(row.description)]),
+      ),
+    );
   }
   const definitions = rowsOf(document, "definitions");
   if (definitions.length > 0) {
     const items = definitions.map(
-      (row) => `<li>${tex(`${symbolLatex(row.name)} =`)} ${expression(row.expr)}${row.description ? ` <span class="muted">${escapeHtml(row.description)}</span>` : ""}</li>`,
+      (row) =>
+        `<li>${tex(`${symbolLatex(row.name)} =`)} ${expression(row.expr)}${row.description ? ` <span class="muted">${escapeHtml(row.description)}</span>` : ""}</li>`,
     );
     parts.push(`<h3>Definitions</h3><ul>${items.join("")}</ul>`);
   }
@@ -108,7 +135,9 @@ function modelSection(document: DerivationDocument): string {
     { label: "Potential energy", symbol: "V", text: expressionOf(document, "potential") },
     { label: "Dissipation function", symbol: "D", text: expressionOf(document, "dissipation") },
   ].filter((entry) => entry.text !== "");
-  parts.push(`<h3>Energies and dissipation</h3><ul>${energies.map((e) => `<li><span class="label">${e.label}</span> ${tex(`${e.symbol} =`)} ${expression(e.text)}</li>`).join("")}</ul>`);
+  parts.push(
+    `<h3>Energies and dissipation</h3><ul>${energies.map((e) => `<li><span class="label">${e.label}</span> ${tex(`${e.symbol} =`)} ${expression(e.text)}</li>`).join("")}</ul>`,
+  );
   const forces = document.cells.flatMap((cell) => (cell.kind === "forces" ? cell.entries.filter((entry) => entry.expr.trim() !== "") : []));
   parts.push("<h3>Generalized forces</h3>");
   parts.push(
@@ -228,7 +257,9 @@ export function reportHtml({ report, title, teamName, generatedAt, threads, revi
     `<dt>Content hash</dt><dd class="hash">SHA-256 ${escapeHtml(revision.contentHash)}</dd>` +
     `<dt>Status</dt><dd>${status}</dd>` +
     `<dt>Rendered by</dt><dd>Holonomy, ${escapeHtml(formatRecordTime(generatedAt))}${evaluation.ok ? `; engine ${escapeHtml(evaluation.engineVersion)}` : ""}</dd></dl>` +
-    (report.changedSince ? `<p class="box">The derivation has changed since this revision. This report shows revision ${revision.number} as it was saved.</p>` : "") +
+    (report.changedSince
+      ? `<p class="box">The derivation has changed since this revision. This report shows revision ${revision.number} as it was saved.</p>`
+      : "") +
     `</header>`;
 
   const equations = !result
@@ -248,7 +279,9 @@ export function reportHtml({ report, title, teamName, generatedAt, threads, revi
       ((result.cyclicMomenta ?? []).length > 0
         ? muted("Cyclic coordinates, their momenta and momentum balance:") +
           (result.cyclicMomenta ?? [])
-            .map((entry) => tex(entry.rateLatex, true) + muted(entry.conserved ? "Conserved: nothing acts on it." : `Acted on by ${entry.actedOnBy.join(", ")}.`))
+            .map(
+              (entry) => tex(entry.rateLatex, true) + muted(entry.conserved ? "Conserved: nothing acts on it." : `Acted on by ${entry.actedOnBy.join(", ")}.`),
+            )
             .join("")
         : "");
 
@@ -262,7 +295,11 @@ export function reportHtml({ report, title, teamName, generatedAt, threads, revi
             selected.modes.map((mode, k) =>
               [
                 String(k + 1),
-                mode.kind === "oscillating" ? formatValue(mode.hertz!) : mode.kind === "rigid" ? "0 (rigid)" : `growing, exp(${formatValue(mode.growthRate!)}·t)`,
+                mode.kind === "oscillating"
+                  ? formatValue(mode.hertz!)
+                  : mode.kind === "rigid"
+                    ? "0 (rigid)"
+                    : `growing, exp(${formatValue(mode.growthRate!)}·t)`,
                 mode.eigenvalue
                   ? `${formatValue(mode.eigenvalue.im / (2 * Math.PI))}, ζ = ${formatValue(Number((-mode.eigenvalue.re / Math.hypot(mode.eigenvalue.re, mode.eigenvalue.im)).toPrecision(3)))}`
                   : "—",
@@ -271,7 +308,10 @@ export function reportHtml({ report, title, teamName, generatedAt, threads, revi
             ),
           )
         : "<p>No mode about this equilibrium.</p>") +
-      tex(`\\dot{\\mathbf{x}} = A\\,\\mathbf{x} + B\\,\\mathbf{u},\\quad \\mathbf{x} = \\begin{bmatrix}${selected.stateNames.map(stateLatex).join(" \\\\ ")}\\end{bmatrix}`, true) +
+      tex(
+        `\\dot{\\mathbf{x}} = A\\,\\mathbf{x} + B\\,\\mathbf{u},\\quad \\mathbf{x} = \\begin{bmatrix}${selected.stateNames.map(stateLatex).join(" \\\\ ")}\\end{bmatrix}`,
+        true,
+      ) +
       tex(`A = ${matrixLatex(selected.A)}`, true) +
       (selected.inputNames.length > 0 ? tex(`B = ${matrixLatex(selected.B)}`, true) : "");
 
@@ -298,7 +338,9 @@ export function reportHtml({ report, title, teamName, generatedAt, threads, revi
   const runs =
     (report.runs.length === 0 ? muted("No stored run used this revision's model.") : report.runs.map(runBlock).join("")) +
     (report.otherRuns > 0
-      ? muted(`${report.otherRuns} other stored run${report.otherRuns === 1 ? "" : "s"} of this derivation used another version of the model and ${report.otherRuns === 1 ? "is" : "are"} not shown.`)
+      ? muted(
+          `${report.otherRuns} other stored run${report.otherRuns === 1 ? "" : "s"} of this derivation used another version of the model and ${report.otherRuns === 1 ? "is" : "are"} not shown.`,
+        )
       : "");
 
   const review = report.review

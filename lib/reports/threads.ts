@@ -15,9 +15,7 @@ export interface ReportThread {
   startedBy: string;
   startedAt: string;
   resolved: { byName: string; at: string } | null;
-  anchor:
-    | { kind: "text"; where: string; quote: string }
-    | { kind: "term"; where: string; termText: string; termLatex: string };
+  anchor: { kind: "text"; where: string; quote: string } | { kind: "term"; where: string; termText: string; termLatex: string };
   /** Written on revision N (exactly its content, or edits after it). */
   writtenOn: string | null;
   comments: { authorName: string; createdAt: string; edited: boolean; body: string; deleted: boolean }[];
@@ -34,9 +32,7 @@ export function anchorPlace(document: DerivationDocument, cellId: string, fieldP
   if (parts.length !== 3) return fieldPath && fieldPath !== "expr" && fieldPath !== "markdown" ? `${label}, ${fieldPath}` : label;
   const [array, key, field] = parts as [string, string, string];
   const items = (cell as unknown as Record<string, unknown>)[array];
-  const item = Array.isArray(items)
-    ? (items as Record<string, unknown>[]).find((entry) => entry.id === key || entry.coordinate === key)
-    : undefined;
+  const item = Array.isArray(items) ? (items as Record<string, unknown>[]).find((entry) => entry.id === key || entry.coordinate === key) : undefined;
   const itemName = typeof item?.name === "string" && item.name.trim() ? item.name.trim() : typeof item?.coordinate === "string" ? item.coordinate : null;
   return itemName === null ? `${label}, a row since removed` : `${label}, ${itemName}, ${field}`;
 }

@@ -41,7 +41,16 @@ const STAGES = 12;
 const { A, B, C, D, E3, E5 } = coefficients;
 const [B0, B5, B6, B7, B8, B9, B10, B11] = [0, 5, 6, 7, 8, 9, 10, 11].map((j) => B[j]!) as [number, number, number, number, number, number, number, number];
 const [E30, E38, E311] = [0, 8, 11].map((j) => E3[j]!) as [number, number, number];
-const [E50, E55, E56, E57, E58, E59, E510, E511] = [0, 5, 6, 7, 8, 9, 10, 11].map((j) => E5[j]!) as [number, number, number, number, number, number, number, number];
+const [E50, E55, E56, E57, E58, E59, E510, E511] = [0, 5, 6, 7, 8, 9, 10, 11].map((j) => E5[j]!) as [
+  number,
+  number,
+  number,
+  number,
+  number,
+  number,
+  number,
+  number,
+];
 // E3 equals B except at stages 0, 8 and 11 (bhh in dop853.f), and stages 1 … 4 carry no weight.
 for (const j of [1, 2, 3, 4]) if (B[j] !== 0 || E3[j] !== 0 || E5[j] !== 0) throw new Error("DOP853 weights: stage " + j + " must be 0");
 for (const j of [5, 6, 7, 9, 10]) if (E3[j] !== B[j]) throw new Error("DOP853 weights: E3 must equal B at stage " + j);
@@ -159,8 +168,14 @@ export class Dop853 {
       let err3 = 0;
       for (let i = 0; i < n; i++) {
         // Stages 1 … 4 have zero weight in B, E3 and E5.
-        const a1 = K[i]!, a6 = K[5 * n + i]!, a7 = K[6 * n + i]!, a8 = K[7 * n + i]!;
-        const a9 = K[8 * n + i]!, a10 = K[9 * n + i]!, a11 = K[10 * n + i]!, a12 = K[11 * n + i]!;
+        const a1 = K[i]!,
+          a6 = K[5 * n + i]!,
+          a7 = K[6 * n + i]!,
+          a8 = K[7 * n + i]!;
+        const a9 = K[8 * n + i]!,
+          a10 = K[9 * n + i]!,
+          a11 = K[10 * n + i]!,
+          a12 = K[11 * n + i]!;
         const sumB = B0 * a1 + B5 * a6 + B6 * a7 + B7 * a8 + B8 * a9 + B9 * a10 + B10 * a11 + B11 * a12;
         const sum3 = E30 * a1 + B5 * a6 + B6 * a7 + B7 * a8 + E38 * a9 + B9 * a10 + B10 * a11 + E311 * a12;
         const sum5 = E50 * a1 + E55 * a6 + E56 * a7 + E57 * a8 + E58 * a9 + E59 * a10 + E510 * a11 + E511 * a12;

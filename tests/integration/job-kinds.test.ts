@@ -134,16 +134,36 @@ async function reportFixture(): Promise<{ id: string; revisionId: string }> {
   if (!checkpoint.ok) throw new Error("the checkpoint was refused");
   const noMentions = { mentionedUserIds: [], notificationFor: () => ({}) as never };
   await createCommentThread({
-    thread: { derivationId: id, authorId: kestrel.members.reviewer.id, anchorKind: "term", termKey: "eq/theta/t1", termText: "m*l^2*theta''", termLatex: "m l^{2} \\ddot{\\theta}" },
+    thread: {
+      derivationId: id,
+      authorId: kestrel.members.reviewer.id,
+      anchorKind: "term",
+      termKey: "eq/theta/t1",
+      termText: "m*l^2*theta''",
+      termLatex: "m l^{2} \\ddot{\\theta}",
+    },
     body: "Rope stretch left out on purpose?",
     mentions: noMentions,
+    audit: { teamId: kestrel.team.id, derivationId: id, actorId: kestrel.members.reviewer.id },
   });
   const { thread } = await createCommentThread({
-    thread: { derivationId: id, authorId: kestrel.members.analyst.id, anchorKind: "term", termKey: "eq/theta/t2", termText: "m*g*l*sin(theta)", termLatex: "m g l \\sin\\theta" },
+    thread: {
+      derivationId: id,
+      authorId: kestrel.members.analyst.id,
+      anchorKind: "term",
+      termKey: "eq/theta/t2",
+      termText: "m*g*l*sin(theta)",
+      termLatex: "m g l \\sin\\theta",
+    },
     body: "Gravity term checked against the stand drawing.",
     mentions: noMentions,
+    audit: { teamId: kestrel.team.id, derivationId: id, actorId: kestrel.members.analyst.id },
   });
-  await setCommentThreadStatusById({ id: thread.id, status: "resolved", actorId: kestrel.members.reviewer.id });
+  await setCommentThreadStatusById({
+    id: thread.id,
+    status: "resolved",
+    audit: { teamId: kestrel.team.id, derivationId: id, actorId: kestrel.members.reviewer.id },
+  });
   return { id, revisionId: checkpoint.revision.id };
 }
 
@@ -231,7 +251,10 @@ describe("evaluation and report jobs", () => {
     const response = await cancel(id, job.id);
     expect(response.status).toBe(200);
     cancelledReport = { id, job };
-    const missing = await reportRoute.POST(jsonRequest(`/api/derivations/${id}/revisions/${randomUUID()}/report`, "POST", {}), params({ id, revisionId: randomUUID() }));
+    const missing = await reportRoute.POST(
+      jsonRequest(`/api/derivations/${id}/revisions/${randomUUID()}/report`, "POST", {}),
+      params({ id, revisionId: randomUUID() }),
+    );
     expect(missing.status).toBe(404);
   }, 60_000);
 
@@ -326,7 +349,9 @@ describe("evaluation and report jobs", () => {
       const other = await makeTeam("Other rig");
       signInAs(other.members.lead);
       expect((await download(id, job.id)).status).toBe(404);
-      expect((await reportRoute.POST(jsonRequest(`/api/derivations/${id}/revisions/${revisionId}/report`, "POST", {}), params({ id, revisionId }))).status).toBe(404);
+      expect(
+        (await reportRoute.POST(jsonRequest(`/api/derivations/${id}/revisions/${revisionId}/report`, "POST", {}), params({ id, revisionId }))).status,
+      ).toBe(404);
     } finally {
       signInAs(kestrel.members.analyst);
     }

@@ -90,7 +90,13 @@ export function emitGraphModule(graph: ExpressionGraph, roots: readonly number[]
   const code = new ByteWriter();
   const operand = (id: number) => {
     const node = nodes[id]!;
-    if (node.op === "var") code.byte(OP.i32Const).i32(0).byte(OP.f64Load).u32(3).u32(8 * node.a);
+    if (node.op === "var")
+      code
+        .byte(OP.i32Const)
+        .i32(0)
+        .byte(OP.f64Load)
+        .u32(3)
+        .u32(8 * node.a);
     else if (node.op === "const") code.byte(OP.f64Const).f64(node.value);
     else code.byte(OP.localGet).u32(local[id]!);
   };
@@ -137,7 +143,10 @@ export function emitGraphModule(graph: ExpressionGraph, roots: readonly number[]
   roots.forEach((root, j) => {
     code.byte(OP.i32Const).i32(0);
     operand(root);
-    code.byte(OP.f64Store).u32(3).u32(8 * (variableCount + j));
+    code
+      .byte(OP.f64Store)
+      .u32(3)
+      .u32(8 * (variableCount + j));
   });
 
   const bytesNeeded = 8 * (variableCount + roots.length);

@@ -18,16 +18,39 @@ async function renderCrane(overrides: { threads?: ReturnType<typeof reportThread
               id: "t1",
               anchor: { kind: "text", cellId: kinetic.id, fieldPath: "expr", start: "", end: "", quote: "1/2*M*x'^2" },
               comments: [
-                { id: "c1", authorId: null, authorName: "Priya Anand", body: `Is the hoist mass in M? ${hostile}`, createdAt: "2026-12-01T08:00:00.000Z", editedAt: null, deleted: false, mayEdit: false, mayDelete: false },
+                {
+                  id: "c1",
+                  authorId: null,
+                  authorName: "Priya Anand",
+                  body: `Is the hoist mass in M? ${hostile}`,
+                  createdAt: "2026-12-01T08:00:00.000Z",
+                  editedAt: null,
+                  deleted: false,
+                  mayEdit: false,
+                  mayDelete: false,
+                },
               ],
             }),
-            thread({ id: "t2", status: "resolved", resolvedAt: "2026-12-01T10:00:00.000Z", resolvedByName: "Sam Okafor", anchor: { kind: "text", cellId: kinetic.id, fieldPath: "expr", start: "", end: "", quote: "" } }),
+            thread({
+              id: "t2",
+              status: "resolved",
+              resolvedAt: "2026-12-01T10:00:00.000Z",
+              resolvedByName: "Sam Okafor",
+              anchor: { kind: "text", cellId: kinetic.id, fieldPath: "expr", start: "", end: "", quote: "" },
+            }),
           ],
           report.document,
         );
   return {
     report,
-    html: reportHtml({ report, title: overrides.title ?? "Gantry crane", teamName: "Kestrel Lift & Motion", generatedAt: "2026-12-02T12:00:00.000Z", threads, revisionLabel: "Before the rope test" }),
+    html: reportHtml({
+      report,
+      title: overrides.title ?? "Gantry crane",
+      teamName: "Kestrel Lift & Motion",
+      generatedAt: "2026-12-02T12:00:00.000Z",
+      threads,
+      revisionLabel: "Before the rope test",
+    }),
   };
 }
 
@@ -46,7 +69,16 @@ describe("reportHtml", () => {
 
   it("carries every section of the report page, the run plots and the safety note", async () => {
     const { html } = await renderCrane();
-    for (const id of ["report-model", "report-equations", "report-conserved", "report-linearization", "report-checks", "report-runs", "report-approval", "report-threads"]) {
+    for (const id of [
+      "report-model",
+      "report-equations",
+      "report-conserved",
+      "report-linearization",
+      "report-checks",
+      "report-runs",
+      "report-approval",
+      "report-threads",
+    ]) {
       expect(html).toContain(`id="${id}"`);
     }
     expect(html).toContain("Run 1: Stop from 1 m/s");

@@ -43,8 +43,7 @@ describe("the method setting", () => {
 
   it("refuses an unknown method with a setup error naming the field", () => {
     const { form } = templateAndDemoForms()[0]!;
-    const run = () =>
-      integrate(systemFromMassMatrixForm(form), { initialCoordinates: [0.1], endTime: 1, outputStep: 0.1, method: "euler" as never });
+    const run = () => integrate(systemFromMassMatrixForm(form), { initialCoordinates: [0.1], endTime: 1, outputStep: 0.1, method: "euler" as never });
     expect(run).toThrow(SimulationSetupError);
     expect(run).toThrow(/method/);
   });

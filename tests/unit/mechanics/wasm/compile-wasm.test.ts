@@ -55,14 +55,42 @@ describe("compiling expression graphs to WebAssembly", () => {
   });
 
   it("gives every function of the whitelist the tape's value, edge cases included", () => {
-    const texts = ["sin(x)", "cos(x)", "tan(x)", "exp(x)", "log(x)", "sqrt(x)", "abs(x)", "sinh(x)", "cosh(x)", "tanh(x)", "asin(x)", "acos(x)", "atan(x)", "x^3", "x^2", "-x", "x/y", "x^y", "x - y"];
+    const texts = [
+      "sin(x)",
+      "cos(x)",
+      "tan(x)",
+      "exp(x)",
+      "log(x)",
+      "sqrt(x)",
+      "abs(x)",
+      "sinh(x)",
+      "cosh(x)",
+      "tanh(x)",
+      "asin(x)",
+      "acos(x)",
+      "atan(x)",
+      "x^3",
+      "x^2",
+      "-x",
+      "x/y",
+      "x^y",
+      "x - y",
+    ];
     const wasm = compileExpressions(texts, ["x", "y"], { backend: "wasm" });
     const tape = compileExpressions(texts, ["x", "y"], { backend: "tape" });
     expect(wasm.backend).toBe("wasm");
     expect(tape.backend).toBe("tape");
     const a = new Float64Array(texts.length);
     const b = new Float64Array(texts.length);
-    for (const point of [[0.5, 2], [-0.3, 0], [0, 0], [-2, 0.5], [1e-300, -1e-300], [Infinity, 2], [NaN, 1]]) {
+    for (const point of [
+      [0.5, 2],
+      [-0.3, 0],
+      [0, 0],
+      [-2, 0.5],
+      [1e-300, -1e-300],
+      [Infinity, 2],
+      [NaN, 1],
+    ]) {
       wasm.evaluate(point, a);
       tape.evaluate(point, b);
       // Same operations on IEEE doubles in the same order: identical results, NaN where the tape has NaN.

@@ -13,7 +13,14 @@ import { loadDerivationFor, orNotFound } from "@/lib/auth/access";
 import { requirePageUser } from "@/lib/auth/session";
 import type { CellChange } from "@/lib/history/document-diff";
 import { formatRecordTime, shortHash } from "@/lib/history/format";
-import { compareRevisionDocuments, compareRevisionEquations, revisionKindLabels, revisionPair, type RevisionEvaluator, type RevisionView } from "@/lib/history/views";
+import {
+  compareRevisionDocuments,
+  compareRevisionEquations,
+  revisionKindLabels,
+  revisionPair,
+  type RevisionEvaluator,
+  type RevisionView,
+} from "@/lib/history/views";
 import { evaluationForRequest } from "@/lib/jobs/service";
 import type { DerivationDocument } from "@/lib/notebook/document";
 
