@@ -12,7 +12,7 @@ import { collabLimitsFromEnv, consoleLogger } from "./collab/setup";
 
 const server = createPostgresCollabServer({ limits: collabLimitsFromEnv(env), logger: consoleLogger });
 const port = await server.listen(env.COLLAB_PORT, "127.0.0.1");
-consoleLogger.info(`listening on ws://127.0.0.1:${port}/collab (pid ${process.pid})`);
+consoleLogger.info(`listening on ws://127.0.0.1:${port}/collab (pid ${process.pid}, instance ${server.instanceId})`);
 
 let stopping = false;
 async function stop(signal: string): Promise<void> {

@@ -19,8 +19,25 @@ import { documentToYDoc, replaceSharedDocument, yDocToDocument } from "@/lib/not
 import { db, type Executor } from "../client";
 import { derivationUpdates, derivations } from "../schema";
 
-/** The PostgreSQL channel on which server-side writes are announced, payload `<derivationId>:<updateRowId>`. */
+/**
+ * The PostgreSQL channel on which stored updates are announced: payload
+ * `<derivationId>:<updateRowId>` for a server-side write, and
+ * `<derivationId>:<updateRowId>:<instanceId>` for an update a collaboration
+ * server stored (so that instance skips its own). Only the key travels:
+ * NOTIFY payloads must stay under 8000 bytes, an update need not.
+ */
 export const SHARED_DOC_CHANNEL = "holonomy_doc";
+
+/**
+ * The channel on which collaboration servers pass presence (Yjs awareness) to
+ * each other: `<derivationId>:<instanceId>:u:<base64 awareness update>`, or
+ * `<derivationId>:<instanceId>:q` to ask the others for their clients' presence.
+ * Presence is not stored; what does not fit in a payload is dropped.
+ */
+export const SHARED_PRESENCE_CHANNEL = "holonomy_presence";
+
+/** NOTIFY refuses a payload of 8000 bytes or more. */
+export const NOTIFY_PAYLOAD_LIMIT = 7999;
 
 export interface StoredUpdate {
   id: number;
@@ -91,6 +108,16 @@ export async function getSharedDocUpdatesById({ derivationId, afterId }: { deriv
   return selectUpdates(db, derivationId, afterId);
 }
 
+/** The stored updates among `ids` (in id order); ids folded away by a compaction are missing from the answer. */
+export async function getSharedDocUpdatesByRowIds({ derivationId, ids }: { derivationId: string; ids: readonly number[] }): Promise<StoredUpdate[]> {
+  if (ids.length === 0) return [];
+  return db
+    .select({ id: derivationUpdates.id, update: derivationUpdates.update })
+    .from(derivationUpdates)
+    .where(and(eq(derivationUpdates.derivationId, derivationId), inArray(derivationUpdates.id, [...ids])))
+    .orderBy(asc(derivationUpdates.id));
+}
+
 /** One stored update by its row id, or null when it was folded away by a compaction. */
 export async function getSharedDocUpdateByRowId({ derivationId, id }: { derivationId: string; id: number }): Promise<StoredUpdate | null> {
   const [row] = await db
@@ -107,25 +134,35 @@ export type AppendUpdateResult = { status: "stored"; id: number } | { status: "r
  * Appends one update. Refused (nothing stored) when the derivation is locked
  * or in the trash, unless `evenIfLocked`: the share lock on the derivation's
  * row orders the append against an approval, so no update is stored after the
- * lock that locked it.
+ * lock that locked it. With `announceAs` (a collaboration server's instance id)
+ * the same statement announces the new row on `holonomy_doc`: PostgreSQL
+ * delivers it at commit, so no other instance hears of a row it cannot read yet.
  */
 export async function appendSharedDocUpdate({
   derivationId,
   update,
   evenIfLocked = false,
+  announceAs,
 }: {
   derivationId: string;
   update: Uint8Array;
   evenIfLocked?: boolean;
+  announceAs?: string;
 }): Promise<AppendUpdateResult> {
   const bytes = Buffer.from(update.buffer, update.byteOffset, update.byteLength);
-  const result = await db.execute<{ id: string }>(sql`
+  const insert = sql`
     insert into ${derivationUpdates} (derivation_id, update)
     select ${derivations.id}, ${bytes} from ${derivations}
     where ${derivations.id} = ${derivationId} and ${derivations.deletedAt} is null
       ${evenIfLocked ? sql`` : sql`and ${derivations.lockedAt} is null`}
     for share
-    returning id`);
+    returning id`;
+  const result = await db.execute<{ id: string }>(
+    announceAs === undefined
+      ? insert
+      : sql`with inserted as (${insert})
+          select id, pg_notify(${SHARED_DOC_CHANNEL}, ${`${derivationId}:`} || id::text || ${`:${announceAs}`}) from inserted`,
+  );
   const row = result.rows[0];
   return row ? { status: "stored", id: Number(row.id) } : { status: "refused" };
 }

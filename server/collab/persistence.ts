@@ -6,6 +6,7 @@ import {
   getSharedDocStateById,
   getSharedDocUpdateByRowId,
   getSharedDocUpdatesById,
+  getSharedDocUpdatesByRowIds,
   loadSharedDocById,
 } from "@/db/queries/collab";
 import { updateDerivationContentById } from "@/db/queries/derivations";
@@ -13,8 +14,10 @@ import type { CollabPersistence, JsonCopyWriter } from "./types";
 
 export const postgresPersistence: CollabPersistence = {
   load: (derivationId) => loadSharedDocById({ derivationId }),
-  append: (derivationId, update, options) => appendSharedDocUpdate({ derivationId, update, evenIfLocked: options?.evenIfLocked }),
+  append: (derivationId, update, options) =>
+    appendSharedDocUpdate({ derivationId, update, evenIfLocked: options?.evenIfLocked, announceAs: options?.announceAs }),
   updates: (derivationId) => getSharedDocUpdatesById({ derivationId }),
+  updatesByIds: (derivationId, ids) => getSharedDocUpdatesByRowIds({ derivationId, ids }),
   update: (derivationId, id) => getSharedDocUpdateByRowId({ derivationId, id }),
   compact: (derivationId) => compactSharedDocById({ derivationId }),
   state: (derivationId) => getSharedDocStateById({ derivationId }),

@@ -46,6 +46,8 @@ export interface CollabServer {
   listen(port: number, host?: string): Promise<number>;
   /** Closes every connection (1001), writes and compacts every document, stops listening. */
   close(): Promise<void>;
+  /** This instance's id in announcements to the other collaboration servers (null without notifications). */
+  readonly instanceId: string | null;
   /** Loaded documents by derivation id (for tests and statistics). */
   readonly rooms: ReadonlyMap<string, Room>;
   readonly httpServer: Server;
@@ -118,6 +120,8 @@ export function createCollabServer(options: CollabServerOptions): CollabServer {
   const { limits } = options;
   const rooms = new Map<string, Room>();
   const loading = new Map<string, Promise<Room>>();
+  /** Rooms being loaded: an announcement arriving meanwhile makes them read everything once loaded. */
+  const loadingRooms = new Map<string, Room>();
   const sockets = new Set<WebSocket>();
   let closing = false;
 
@@ -130,6 +134,7 @@ export function createCollabServer(options: CollabServerOptions): CollabServer {
       response.end(
         JSON.stringify({
           ok: !closing,
+          instance: options.notifications?.instanceId ?? null,
           documents: rooms.size,
           connections,
           rssMb: Math.round(process.memoryUsage().rss / 1e6),
@@ -160,6 +165,7 @@ export function createCollabServer(options: CollabServerOptions): CollabServer {
         jsonCopy: options.jsonCopy,
         limits,
         logger,
+        peers: options.notifications,
         onUnloaded: (unloaded) => {
           if (rooms.get(derivationId) === unloaded) rooms.delete(derivationId);
         },
@@ -175,10 +181,12 @@ export function createCollabServer(options: CollabServerOptions): CollabServer {
         return room;
       })();
       loading.set(derivationId, load);
+      loadingRooms.set(derivationId, room);
       try {
         return await load;
       } finally {
         loading.delete(derivationId);
+        loadingRooms.delete(derivationId);
       }
     }
   }
@@ -279,12 +287,23 @@ export function createCollabServer(options: CollabServerOptions): CollabServer {
   return {
     rooms,
     httpServer,
+    instanceId: notifications?.instanceId ?? null,
     async listen(port, host = "127.0.0.1") {
       await notifications?.start({
         onUpdate: (derivationId, rowId) => {
-          const room = rooms.get(derivationId);
+          const room = rooms.get(derivationId) ?? loadingRooms.get(derivationId);
           if (room) room.applyNotified(rowId).catch((error: unknown) => logger.error(`applying a notified update of ${derivationId} failed`, error));
         },
+        onAwareness: (derivationId, update) => {
+          const room = rooms.get(derivationId);
+          if (!room) return;
+          try {
+            room.applyRemoteAwareness(update);
+          } catch (error) {
+            logger.warn(`presence from another instance for ${derivationId} does not read: ${error instanceof Error ? error.message : String(error)}`);
+          }
+        },
+        onAwarenessQuery: (derivationId) => rooms.get(derivationId)?.sendLocalAwareness(),
         onReconnect: () => {
           for (const room of rooms.values()) room.resync().catch((error: unknown) => logger.error(`resync of ${room.derivationId} failed`, error));
         },
