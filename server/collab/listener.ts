@@ -98,12 +98,15 @@ export function createPostgresNotifications({
     }, delay);
   }
 
+  /** Presence notifications in flight, one after another on the listening connection (pg runs one query at a time). */
+  let sending: Promise<unknown> = Promise.resolve();
+
   function notify(channel: string, payload: string): boolean {
     const current = client;
     if (!current) return false;
-    current.query("select pg_notify($1, $2)", [channel, payload]).catch((error: unknown) => {
-      logger.warn(`sending presence failed: ${error instanceof Error ? error.message : String(error)}`);
-    });
+    sending = sending
+      .then(() => current.query("select pg_notify($1, $2)", [channel, payload]))
+      .catch((error: unknown) => logger.warn(`sending presence failed: ${error instanceof Error ? error.message : String(error)}`));
     return true;
   }
 
