@@ -10,9 +10,10 @@
  * size and rate limit; a malformed message closes that connection only.
  */
 import { createServer, type IncomingMessage as HttpRequest, type Server } from "node:http";
-import type { AddressInfo } from "node:net";
+import { BlockList, isIP, type AddressInfo } from "node:net";
 import type { Duplex } from "node:stream";
 import { WebSocketServer, type RawData, type WebSocket } from "ws";
+import { clientAddress } from "@/lib/client-address";
 import { MalformedMessage, readClientMessage } from "./protocol";
 import { Room, type RoomConnection } from "./room";
 import { consoleLogger } from "./setup";
@@ -79,6 +80,33 @@ function toBytes(data: RawData): Uint8Array {
 function sizeOf(data: RawData): number {
   if (Array.isArray(data)) return data.reduce((sum, part) => sum + part.byteLength, 0);
   return data.byteLength;
+}
+
+/**
+ * Peers whose `X-Forwarded-For` is believed: a proxy or load balancer on this
+ * host or the private network. Anyone else is counted by the socket's own address.
+ */
+const PROXY_NETWORKS = new BlockList();
+PROXY_NETWORKS.addSubnet("127.0.0.0", 8, "ipv4");
+PROXY_NETWORKS.addSubnet("10.0.0.0", 8, "ipv4");
+PROXY_NETWORKS.addSubnet("172.16.0.0", 12, "ipv4");
+PROXY_NETWORKS.addSubnet("192.168.0.0", 16, "ipv4");
+PROXY_NETWORKS.addAddress("::1", "ipv6");
+PROXY_NETWORKS.addSubnet("fc00::", 7, "ipv6");
+
+/**
+ * The client's address for the per-address connection limit: behind a proxy
+ * (see PROXY_NETWORKS) what its headers say (the right-most `X-Forwarded-For`
+ * entry, as the app counts requests), else the socket's own address.
+ */
+export function connectionAddress(request: Pick<HttpRequest, "headers" | "socket">): string | null {
+  const peer = request.socket.remoteAddress ?? null;
+  if (peer === null) return null;
+  const plain = peer.startsWith("::ffff:") && peer.includes(".") ? peer.slice("::ffff:".length) : peer;
+  const family = isIP(plain);
+  if (family === 0 || !PROXY_NETWORKS.check(plain, family === 6 ? "ipv6" : "ipv4")) return plain;
+  const forwarded = clientAddress(request.headers);
+  return forwarded !== null && isIP(forwarded) !== 0 ? forwarded : plain;
 }
 
 /** A close reason fits in 123 bytes of UTF-8. */
@@ -256,7 +284,7 @@ export function createCollabServer(options: CollabServerOptions): CollabServer {
     void (async () => {
       try {
         if (closing) throw new RefusedConnection(CloseCode.goingAway, "The server is shutting down");
-        connection.grant = await options.auth.authenticate(token, roomName, request.socket.remoteAddress ?? null);
+        connection.grant = await options.auth.authenticate(token, roomName, connectionAddress(request));
         let room = await roomFor(connection.grant.derivationId);
         while (room.isUnloading) room = await roomFor(connection.grant.derivationId);
         if (connection.closed) return;
