@@ -132,9 +132,11 @@ export type AppendUpdateResult = { status: "stored"; id: number } | { status: "r
 
 /**
  * Appends one update. Refused (nothing stored) when the derivation is locked
- * or in the trash, unless `evenIfLocked`: the share lock on the derivation's
- * row orders the append against an approval, so no update is stored after the
- * lock that locked it. With `announceAs` (a collaboration server's instance id)
+ * or in the trash, unless `evenIfLocked`: the key-share lock on the derivation's
+ * row orders the append against an approval (which locks the row `for update`),
+ * so no update is stored after the lock that locked it. It does not wait for a
+ * content save (`for no key update`, such as the JSON copy), which would hold
+ * every append of the document, on every collaboration server, for its length. With `announceAs` (a collaboration server's instance id)
  * the same statement announces the new row on `holonomy_doc`: PostgreSQL
  * delivers it at commit, so no other instance hears of a row it cannot read yet.
  */
@@ -155,7 +157,7 @@ export async function appendSharedDocUpdate({
     select ${derivations.id}, ${bytes} from ${derivations}
     where ${derivations.id} = ${derivationId} and ${derivations.deletedAt} is null
       ${evenIfLocked ? sql`` : sql`and ${derivations.lockedAt} is null`}
-    for share
+    for key share
     returning id`;
   const result = await db.execute<{ id: string }>(
     announceAs === undefined
