@@ -12,7 +12,7 @@ import "server-only";
  * Appending needs no advisory lock: compaction deletes exactly the ids it read,
  * so a row appended meanwhile survives.
  */
-import { and, asc, eq, gt, inArray, isNull, sql } from "drizzle-orm";
+import { and, asc, eq, getTableName, gt, inArray, isNull, sql } from "drizzle-orm";
 import * as Y from "yjs";
 import { parseStoredDocument, type DerivationDocument, type DocumentIssue } from "@/lib/notebook/document";
 import { documentToYDoc, replaceSharedDocument, yDocToDocument } from "@/lib/notebook/document/shared-doc";
@@ -108,24 +108,31 @@ export async function getSharedDocUpdatesById({ derivationId, afterId }: { deriv
   return selectUpdates(db, derivationId, afterId);
 }
 
-/** The stored updates among `ids` (in id order); ids folded away by a compaction are missing from the answer. */
-export async function getSharedDocUpdatesByRowIds({ derivationId, ids }: { derivationId: string; ids: readonly number[] }): Promise<StoredUpdate[]> {
-  if (ids.length === 0) return [];
-  return db
-    .select({ id: derivationUpdates.id, update: derivationUpdates.update })
-    .from(derivationUpdates)
-    .where(and(eq(derivationUpdates.derivationId, derivationId), inArray(derivationUpdates.id, [...ids])))
-    .orderBy(asc(derivationUpdates.id));
+/** What `readSharedDocUpdatesOn` needs of a connection (a pg Client). */
+export interface QueryableConnection {
+  query<R extends Record<string, unknown>>(text: string, values: unknown[]): Promise<{ rows: R[] }>;
 }
 
-/** One stored update by its row id, or null when it was folded away by a compaction. */
-export async function getSharedDocUpdateByRowId({ derivationId, id }: { derivationId: string; id: number }): Promise<StoredUpdate | null> {
-  const [row] = await db
-    .select({ id: derivationUpdates.id, update: derivationUpdates.update })
-    .from(derivationUpdates)
-    .where(and(eq(derivationUpdates.id, id), eq(derivationUpdates.derivationId, derivationId)))
-    .limit(1);
-  return row ?? null;
+/**
+ * Stored updates by row id, of any derivations, read on the given connection:
+ * a collaboration server reads what other instances announced on its own
+ * listening connection, in one statement for every document it holds, rather
+ * than queueing behind its pool's appends. Ids folded by a compaction are missing.
+ */
+export async function readSharedDocUpdatesOn(
+  connection: QueryableConnection,
+  ids: readonly number[],
+): Promise<(StoredUpdate & { derivationId: string })[]> {
+  if (ids.length === 0) return [];
+  const result = await connection.query<{ id: string; derivation_id: string; update: Buffer }>(
+    `select id, derivation_id, update from ${getTableName(derivationUpdates)} where id = any($1::bigint[]) order by id`,
+    [ids.map(String)],
+  );
+  return result.rows.map((row) => ({
+    id: Number(row.id),
+    derivationId: row.derivation_id,
+    update: new Uint8Array(row.update.buffer, row.update.byteOffset, row.update.byteLength),
+  }));
 }
 
 export type AppendUpdateResult = { status: "stored"; id: number } | { status: "refused" };

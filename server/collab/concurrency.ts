@@ -29,8 +29,6 @@ export function limitPersistence(persistence: CollabPersistence, slots: Semaphor
     load: (id) => slots.run(() => persistence.load(id)),
     append: (id, update, options) => slots.run(() => persistence.append(id, update, options)),
     updates: (id) => slots.run(() => persistence.updates(id)),
-    updatesByIds: (id, ids) => slots.run(() => persistence.updatesByIds(id, ids)),
-    update: (id, rowId) => slots.run(() => persistence.update(id, rowId)),
     compact: (id) => slots.run(() => persistence.compact(id)),
     state: (id) => slots.run(() => persistence.state(id)),
   };

@@ -5,14 +5,15 @@
  * reconnect the server resyncs its loaded documents from storage.
  *
  * The same connection sends this instance's presence to the others (small
- * NOTIFYs, in order, without taking a pool slot that stores updates); while it
- * is down, presence is not sent, which costs nothing lasting: clients renew
- * their presence every 15 s. Stored updates are announced by the append itself
+ * NOTIFYs) and reads the rows other instances announced, in turn and without
+ * taking a pool slot that stores updates; while it is down, presence is not
+ * sent (clients renew it every 15 s) and rows are not read (the reconnect
+ * rereads every document). Stored updates are announced by the append itself
  * (db/queries/collab.ts), never from here.
  */
 import { randomBytes } from "node:crypto";
 import { Client } from "pg";
-import { NOTIFY_PAYLOAD_LIMIT, SHARED_DOC_CHANNEL, SHARED_PRESENCE_CHANNEL } from "@/db/queries/collab";
+import { NOTIFY_PAYLOAD_LIMIT, SHARED_DOC_CHANNEL, SHARED_PRESENCE_CHANNEL, readSharedDocUpdatesOn } from "@/db/queries/collab";
 import type { Logger, NotificationHandlers, UpdateNotifications } from "./types";
 
 const UUID = "[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}";
@@ -98,15 +99,22 @@ export function createPostgresNotifications({
     }, delay);
   }
 
-  /** Presence notifications in flight, one after another on the listening connection (pg runs one query at a time). */
-  let sending: Promise<unknown> = Promise.resolve();
+  /** Statements on the listening connection, one after another (pg runs one query at a time). */
+  let queue: Promise<unknown> = Promise.resolve();
+
+  function inTurn<T>(task: (connection: Client) => Promise<T>): Promise<T> {
+    const current = client;
+    if (!current) return Promise.reject(new Error("the notification connection is down"));
+    const run = queue.then(() => task(current));
+    queue = run.catch(() => undefined);
+    return run;
+  }
 
   function notify(channel: string, payload: string): boolean {
-    const current = client;
-    if (!current) return false;
-    sending = sending
-      .then(() => current.query("select pg_notify($1, $2)", [channel, payload]))
-      .catch((error: unknown) => logger.warn(`sending presence failed: ${error instanceof Error ? error.message : String(error)}`));
+    if (!client) return false;
+    inTurn((connection) => connection.query("select pg_notify($1, $2)", [channel, payload])).catch((error: unknown) =>
+      logger.warn(`sending presence failed: ${error instanceof Error ? error.message : String(error)}`),
+    );
     return true;
   }
 
@@ -131,6 +139,9 @@ export function createPostgresNotifications({
     },
     queryAwareness(derivationId) {
       notify(SHARED_PRESENCE_CHANNEL, `${derivationId}:${instanceId}:q`);
+    },
+    readUpdates(ids) {
+      return inTurn((connection) => readSharedDocUpdatesOn(connection, ids));
     },
   };
 }

@@ -4,9 +4,7 @@ import {
   appendSharedDocUpdate,
   compactSharedDocById,
   getSharedDocStateById,
-  getSharedDocUpdateByRowId,
   getSharedDocUpdatesById,
-  getSharedDocUpdatesByRowIds,
   loadSharedDocById,
 } from "@/db/queries/collab";
 import { updateDerivationContentById } from "@/db/queries/derivations";
@@ -17,8 +15,6 @@ export const postgresPersistence: CollabPersistence = {
   append: (derivationId, update, options) =>
     appendSharedDocUpdate({ derivationId, update, evenIfLocked: options?.evenIfLocked, announceAs: options?.announceAs }),
   updates: (derivationId) => getSharedDocUpdatesById({ derivationId }),
-  updatesByIds: (derivationId, ids) => getSharedDocUpdatesByRowIds({ derivationId, ids }),
-  update: (derivationId, id) => getSharedDocUpdateByRowId({ derivationId, id }),
   compact: (derivationId) => compactSharedDocById({ derivationId }),
   state: (derivationId) => getSharedDocStateById({ derivationId }),
 };

@@ -16,6 +16,7 @@
  */
 import * as awarenessProtocol from "y-protocols/awareness";
 import * as Y from "yjs";
+import type { StoredUpdate } from "@/db/queries/collab";
 import { parseStoredDocument, type DerivationDocument } from "@/lib/notebook/document";
 import { SharedDocumentError, replaceSharedDocument, yDocToDocument } from "@/lib/notebook/document/shared-doc";
 import { awarenessMessage, storedMessage, syncStep1Message, syncStep2Message, updateMessage, type IncomingMessage } from "./protocol";
@@ -92,9 +93,6 @@ export class Room {
   private storing: Promise<void> | null = null;
   /** Per client, the clock up to which its updates are stored: what an acknowledgement covers. */
   private storedVector = new Map<number, number>();
-  /** Row ids other instances announced, not yet read. */
-  private notified = new Set<number>();
-  private readingNotified: Promise<void> | null = null;
   /** Awareness client ids of this room's clients whose change is still to be sent to the other instances. */
   private awarenessOut = new Set<number>();
   private awarenessTimer: ReturnType<typeof setTimeout> | null = null;
@@ -319,47 +317,28 @@ export class Room {
     }
   }
 
-  /**
-   * A stored update was announced (a server-side write, or another instance's
-   * client): read it and apply it, which relays it to this room's connections.
-   * Announcements that arrive while a read is in flight are read together next;
-   * when some row was folded by a compaction meanwhile, everything is read.
-   */
-  applyNotified(rowId: number): Promise<void> {
-    if (!this.loaded) {
-      this.resyncAfterLoad = true;
-      return Promise.resolve();
-    }
-    if (this.unloading) return Promise.resolve();
-    this.notified.add(rowId);
-    this.readingNotified ??= this.readNotified();
-    return this.readingNotified;
+  /** A stored update was announced while this room loads: it rereads every stored update once loaded. */
+  announcedWhileLoading(): void {
+    if (!this.loaded) this.resyncAfterLoad = true;
   }
 
-  private async readNotified(): Promise<void> {
-    try {
-      while (this.notified.size > 0 && !this.unloading) {
-        const ids = Array.from(this.notified);
-        this.notified.clear();
-        const rows = await this.deps.persistence.updatesByIds(this.derivationId, ids);
-        if (rows.length < ids.length) {
-          await this.resync();
-          continue;
+  /**
+   * Applies stored updates that were announced (a server-side write, or another
+   * instance's client), which relays them to this room's connections. The server
+   * reads the announced rows of all its rooms at once (server.ts).
+   */
+  applyStored(rows: readonly StoredUpdate[]): void {
+    if (!this.loaded || this.unloading || rows.length === 0) return;
+    Y.transact(
+      this.doc,
+      () => {
+        for (const { update } of rows) {
+          Y.applyUpdate(this.doc, update, NOTIFIED);
+          this.markStored(update);
         }
-        Y.transact(
-          this.doc,
-          () => {
-            for (const { update } of rows) {
-              Y.applyUpdate(this.doc, update, NOTIFIED);
-              this.markStored(update);
-            }
-          },
-          NOTIFIED,
-        );
-      }
-    } finally {
-      this.readingNotified = null;
-    }
+      },
+      NOTIFIED,
+    );
   }
 
   /** Applies every stored update (after notifications may have been missed); applying one twice changes nothing. */

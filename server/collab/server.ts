@@ -312,16 +312,66 @@ export function createCollabServer(options: CollabServerOptions): CollabServer {
 
   const notifications = options.notifications;
 
+  /**
+   * Rows other instances announced, by document, read together: one statement
+   * on the listening connection for every loaded document at a time, so that
+   * fan-out costs one read per round however many documents are busy.
+   */
+  const announced = new Map<string, Set<number>>();
+  let readingAnnounced: Promise<void> | null = null;
+
+  function onAnnounced(derivationId: string, rowId: number): void {
+    const room = rooms.get(derivationId);
+    if (notifications && room?.isLoaded && !room.isUnloading) {
+      const ids = announced.get(derivationId) ?? new Set<number>();
+      ids.add(rowId);
+      announced.set(derivationId, ids);
+      readingAnnounced ??= readAnnounced(notifications);
+      return;
+    }
+    // Still loading: it rereads everything once loaded (an unloading room is dropped anyway).
+    (room ?? loadingRooms.get(derivationId))?.announcedWhileLoading();
+  }
+
+  async function readAnnounced(peers: UpdateNotifications): Promise<void> {
+    try {
+      while (announced.size > 0) {
+        const batch = new Map(announced);
+        announced.clear();
+        let rows;
+        try {
+          rows = await peers.readUpdates(Array.from(batch.values(), (ids) => Array.from(ids)).flat());
+        } catch (error) {
+          // Read each document's rows through the pool instead.
+          logger.warn(`reading announced updates failed: ${error instanceof Error ? error.message : String(error)}`);
+          for (const derivationId of batch.keys()) {
+            rooms.get(derivationId)?.resync().catch((resyncError: unknown) => logger.error(`resync of ${derivationId} failed`, resyncError));
+          }
+          continue;
+        }
+        const byDocument = new Map<string, typeof rows>();
+        for (const row of rows) byDocument.set(row.derivationId, [...(byDocument.get(row.derivationId) ?? []), row]);
+        for (const [derivationId, ids] of batch) {
+          const room = rooms.get(derivationId);
+          if (!room) continue;
+          const found = byDocument.get(derivationId) ?? [];
+          // A row folded by a compaction meanwhile: read the document's rows as they now are.
+          if (found.length < ids.size) room.resync().catch((error: unknown) => logger.error(`resync of ${derivationId} failed`, error));
+          else room.applyStored(found);
+        }
+      }
+    } finally {
+      readingAnnounced = null;
+    }
+  }
+
   return {
     rooms,
     httpServer,
     instanceId: notifications?.instanceId ?? null,
     async listen(port, host = "127.0.0.1") {
       await notifications?.start({
-        onUpdate: (derivationId, rowId) => {
-          const room = rooms.get(derivationId) ?? loadingRooms.get(derivationId);
-          if (room) room.applyNotified(rowId).catch((error: unknown) => logger.error(`applying a notified update of ${derivationId} failed`, error));
-        },
+        onUpdate: (derivationId, rowId) => onAnnounced(derivationId, rowId),
         onAwareness: (derivationId, update) => {
           const room = rooms.get(derivationId);
           if (!room) return;

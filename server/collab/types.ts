@@ -59,10 +59,6 @@ export interface CollabPersistence {
   append(derivationId: string, update: Uint8Array, options?: { evenIfLocked?: boolean; announceAs?: string }): Promise<AppendUpdateResult>;
   /** Every stored update (after a missed notification). */
   updates(derivationId: string): Promise<StoredUpdate[]>;
-  /** The stored updates among these row ids; rows folded by a compaction are missing. */
-  updatesByIds(derivationId: string, ids: readonly number[]): Promise<StoredUpdate[]>;
-  /** One stored update by row id; null once folded by a compaction. */
-  update(derivationId: string, id: number): Promise<StoredUpdate | null>;
   compact(derivationId: string): Promise<CompactionResult>;
   state(derivationId: string): Promise<DerivationState | null>;
 }
@@ -100,6 +96,11 @@ export interface UpdateNotifications {
   publishAwareness(derivationId: string, update: Uint8Array): boolean;
   /** Asks the other instances holding the document to send their clients' presence. */
   queryAwareness(derivationId: string): void;
+  /**
+   * Reads announced rows (of any documents) on the listening connection; rejects
+   * when it is down, which costs nothing: its reconnect rereads every document.
+   */
+  readUpdates(ids: readonly number[]): Promise<(StoredUpdate & { derivationId: string })[]>;
 }
 
 export interface CollabLimits {
