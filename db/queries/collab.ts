@@ -119,10 +119,7 @@ export interface QueryableConnection {
  * listening connection, in one statement for every document it holds, rather
  * than queueing behind its pool's appends. Ids folded by a compaction are missing.
  */
-export async function readSharedDocUpdatesOn(
-  connection: QueryableConnection,
-  ids: readonly number[],
-): Promise<(StoredUpdate & { derivationId: string })[]> {
+export async function readSharedDocUpdatesOn(connection: QueryableConnection, ids: readonly number[]): Promise<(StoredUpdate & { derivationId: string })[]> {
   if (ids.length === 0) return [];
   const result = await connection.query<{ id: string; derivation_id: string; update: Buffer }>(
     `select id, derivation_id, update from ${getTableName(derivationUpdates)} where id = any($1::bigint[]) order by id`,

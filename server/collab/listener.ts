@@ -135,7 +135,10 @@ export function createPostgresNotifications({
     },
     publishAwareness(derivationId, update) {
       if (update.byteLength > maxAwarenessBytes) return false;
-      return notify(SHARED_PRESENCE_CHANNEL, `${derivationId}:${instanceId}:u:${Buffer.from(update.buffer, update.byteOffset, update.byteLength).toString("base64")}`);
+      return notify(
+        SHARED_PRESENCE_CHANNEL,
+        `${derivationId}:${instanceId}:u:${Buffer.from(update.buffer, update.byteOffset, update.byteLength).toString("base64")}`,
+      );
     },
     queryAwareness(derivationId) {
       notify(SHARED_PRESENCE_CHANNEL, `${derivationId}:${instanceId}:q`);

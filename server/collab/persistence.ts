@@ -1,12 +1,6 @@
 import "server-only";
 /** The shared documents' storage in PostgreSQL (db/queries/collab.ts) behind the server's interface. */
-import {
-  appendSharedDocUpdate,
-  compactSharedDocById,
-  getSharedDocStateById,
-  getSharedDocUpdatesById,
-  loadSharedDocById,
-} from "@/db/queries/collab";
+import { appendSharedDocUpdate, compactSharedDocById, getSharedDocStateById, getSharedDocUpdatesById, loadSharedDocById } from "@/db/queries/collab";
 import { updateDerivationContentById } from "@/db/queries/derivations";
 import type { CollabPersistence, JsonCopyWriter } from "./types";
 

@@ -402,7 +402,9 @@ export class Room {
     for (const id of ids) {
       const one = awarenessProtocol.encodeAwarenessUpdate(this.awareness, [id]);
       if (!peers.publishAwareness(this.derivationId, one) && one.byteLength > peers.maxAwarenessBytes) {
-        this.deps.logger.warn(`presence of client ${id} in ${this.derivationId} is ${one.byteLength} bytes, over the ${peers.maxAwarenessBytes} a notification carries; not sent to other instances`);
+        this.deps.logger.warn(
+          `presence of client ${id} in ${this.derivationId} is ${one.byteLength} bytes, over the ${peers.maxAwarenessBytes} a notification carries; not sent to other instances`,
+        );
       }
     }
   }

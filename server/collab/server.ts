@@ -345,7 +345,10 @@ export function createCollabServer(options: CollabServerOptions): CollabServer {
           // Read each document's rows through the pool instead.
           logger.warn(`reading announced updates failed: ${error instanceof Error ? error.message : String(error)}`);
           for (const derivationId of batch.keys()) {
-            rooms.get(derivationId)?.resync().catch((resyncError: unknown) => logger.error(`resync of ${derivationId} failed`, resyncError));
+            rooms
+              .get(derivationId)
+              ?.resync()
+              .catch((resyncError: unknown) => logger.error(`resync of ${derivationId} failed`, resyncError));
           }
           continue;
         }

@@ -150,7 +150,10 @@ describe("two collaboration instances", () => {
     );
     // A cursor move (a later state) follows.
     analyst.provider.awareness.setLocalStateField("cursor", { anchor: 3, head: 5 });
-    await waitFor(() => isDeepStrictEqual((lead.provider.awareness.getStates().get(analyst.doc.clientID) as { cursor?: unknown })?.cursor, { anchor: 3, head: 5 }), "the cursor");
+    await waitFor(
+      () => isDeepStrictEqual((lead.provider.awareness.getStates().get(analyst.doc.clientID) as { cursor?: unknown })?.cursor, { anchor: 3, head: 5 }),
+      "the cursor",
+    );
     analyst.destroy();
     await waitFor(() => !lead.provider.awareness.getStates().has(analyst.doc.clientID), "the analyst's presence removed on the other instance");
   });
@@ -171,11 +174,17 @@ describe("two collaboration instances", () => {
     const nearby = await connect(east, kestrel.members.reviewer.id, derivation.id);
     const lead = await connect(west, kestrel.members.lead.id, derivation.id);
     analyst.provider.awareness.setLocalStateField("note", "x".repeat(7000));
-    await waitFor(() => (nearby.provider.awareness.getStates().get(analyst.doc.clientID) as { note?: string } | undefined)?.note?.length === 7000, "presence on the same instance");
+    await waitFor(
+      () => (nearby.provider.awareness.getStates().get(analyst.doc.clientID) as { note?: string } | undefined)?.note?.length === 7000,
+      "presence on the same instance",
+    );
     await waitFor(() => warnings.some((warning) => warning.includes(`client ${analyst.doc.clientID}`)), "the warning");
     // A small one afterwards still crosses.
     analyst.provider.awareness.setLocalState({ user: { name: "Analyst" } });
-    await waitFor(() => (lead.provider.awareness.getStates().get(analyst.doc.clientID) as { user?: { name: string } } | undefined)?.user?.name === "Analyst", "the smaller presence");
+    await waitFor(
+      () => (lead.provider.awareness.getStates().get(analyst.doc.clientID) as { user?: { name: string } } | undefined)?.user?.name === "Analyst",
+      "the smaller presence",
+    );
   });
 
   it("resync after the listening connection of an instance is cut", { timeout: 30_000 }, async () => {
@@ -186,10 +195,9 @@ describe("two collaboration instances", () => {
     const admin = new Client({ connectionString: env.DATABASE_URL });
     await admin.connect();
     try {
-      const cut = await admin.query<{ done: boolean }>(
-        "select pg_terminate_backend(pid) as done from pg_stat_activity where application_name = $1",
-        [`holonomy-collab-${west.server.instanceId}`],
-      );
+      const cut = await admin.query<{ done: boolean }>("select pg_terminate_backend(pid) as done from pg_stat_activity where application_name = $1", [
+        `holonomy-collab-${west.server.instanceId}`,
+      ]);
       expect(cut.rows.map((row) => row.done)).toEqual([true]);
     } finally {
       await admin.end();
