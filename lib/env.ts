@@ -70,6 +70,9 @@ const envSchema = z.object({
   FIT_TIME_LIMIT_MS: z.coerce.number().int().positive().default(60_000),
   // The collaboration server (server/collab.ts): its own process on loopback beside Next.js.
   COLLAB_PORT: z.coerce.number().int().min(1).max(65535).default(3001),
+  // The address it listens on: loopback beside a local proxy; 0.0.0.0 when a load balancer on
+  // another host forwards to it directly (production with several collaboration servers).
+  COLLAB_HOST: z.string().min(1).default("127.0.0.1"),
   // The address browsers connect to; ws://127.0.0.1:COLLAB_PORT/collab when unset. Behind a
   // proxy that terminates TLS, e.g. wss://holonomy.example.com/collab.
   COLLAB_PUBLIC_URL: z.url({ protocol: /^wss?$/ }).optional(),

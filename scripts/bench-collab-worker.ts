@@ -1,6 +1,6 @@
 // One load-generating process of `npm run bench:collab` (started by
 // scripts/bench-collab.ts over IPC). It connects 5 y-websocket clients per
-// document it is given, types at the given rate, and measures propagation:
+// document it is given (spread over the servers it is given), types at the given rate, and measures propagation:
 // each keystroke is one Yjs item (clientID, clock); every other client of the
 // document notes when the update holding it arrives.
 import { performance } from "node:perf_hooks";
@@ -13,7 +13,8 @@ import { fieldText, yDocToJson } from "@/lib/notebook/document/shared-doc";
 import { MESSAGE_STORED } from "@/server/collab/protocol";
 
 export interface WorkerJob {
-  url: string;
+  /** The collaboration servers: a document's client i connects to urls[i mod length]. */
+  urls: string[];
   documents: { derivationId: string; cellId: string; tokens: string[] }[];
   keystrokesPerSecond: number;
   durationMs: number;
@@ -58,9 +59,9 @@ async function run(job: WorkerJob): Promise<WorkerResult> {
   /** Send time and receivers still to hear of each keystroke, by `${client}:${clock}`. */
   const pending = new Map<string, { sentAt: number; waiting: number }>();
   const groups = job.documents.map((document) =>
-    document.tokens.map((token): BenchClient => {
+    document.tokens.map((token, index): BenchClient => {
       const doc = new Y.Doc();
-      const provider = new WebsocketProvider(job.url, document.derivationId, doc, {
+      const provider = new WebsocketProvider(job.urls[index % job.urls.length]!, document.derivationId, doc, {
         params: { token },
         WebSocketPolyfill: WebSocket as unknown as typeof globalThis.WebSocket,
         disableBc: true,

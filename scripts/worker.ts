@@ -14,7 +14,7 @@ import { closeSimulationPool } from "@/lib/workers/simulation-pool";
 
 async function main(): Promise<void> {
   const queue = new JobQueue(createBoss({ maintenance: true }));
-  await queue.work(JOB_HANDLERS);
+  await queue.work(logged(JOB_HANDLERS));
   console.log(`[holonomy] queue worker ${process.pid} ready`);
   let stopping = false;
   const stop = async (signal: string) => {
@@ -29,6 +29,19 @@ async function main(): Promise<void> {
   };
   process.on("SIGTERM", () => void stop("SIGTERM"));
   process.on("SIGINT", () => void stop("SIGINT"));
+}
+
+/** The handlers, each first logging which worker process took which job (to trace a job to its worker). */
+function logged(handlers: typeof JOB_HANDLERS): typeof JOB_HANDLERS {
+  const wrapped = { ...handlers };
+  for (const kind of Object.keys(handlers) as (keyof typeof handlers)[]) {
+    const handler = handlers[kind];
+    wrapped[kind] = (job, context) => {
+      console.log(`[holonomy] queue worker ${process.pid} took ${job.kind} job ${job.id}`);
+      return handler(job, context);
+    };
+  }
+  return wrapped;
 }
 
 main().catch((error: unknown) => {

@@ -1,6 +1,8 @@
 /**
  * The collaboration server's entry: the shared-document websocket server on
- * 127.0.0.1:COLLAB_PORT under /collab, wired to PostgreSQL. Run it with
+ * COLLAB_HOST:COLLAB_PORT (127.0.0.1 by default) under /collab, wired to PostgreSQL.
+ * Run several against one database and they pass stored updates and presence
+ * to each other through LISTEN/NOTIFY (docs/deploy.md). Run it with
  * `npm run collab` (node --conditions=react-server --import tsx server/collab.ts);
  * the start, dev, demo and browser-test commands do. SIGTERM or SIGINT closes
  * connections, writes and compacts every loaded document, then exits.
@@ -11,8 +13,8 @@ import { createPostgresCollabServer } from "./collab/postgres";
 import { collabLimitsFromEnv, consoleLogger } from "./collab/setup";
 
 const server = createPostgresCollabServer({ limits: collabLimitsFromEnv(env), logger: consoleLogger });
-const port = await server.listen(env.COLLAB_PORT, "127.0.0.1");
-consoleLogger.info(`listening on ws://127.0.0.1:${port}/collab (pid ${process.pid})`);
+const port = await server.listen(env.COLLAB_PORT, env.COLLAB_HOST);
+consoleLogger.info(`listening on ws://${env.COLLAB_HOST}:${port}/collab (pid ${process.pid}, instance ${server.instanceId})`);
 
 let stopping = false;
 async function stop(signal: string): Promise<void> {

@@ -12,15 +12,32 @@ import "server-only";
  * Appending needs no advisory lock: compaction deletes exactly the ids it read,
  * so a row appended meanwhile survives.
  */
-import { and, asc, eq, gt, inArray, isNull, sql } from "drizzle-orm";
+import { and, asc, eq, getTableName, gt, inArray, isNull, sql } from "drizzle-orm";
 import * as Y from "yjs";
 import { parseStoredDocument, type DerivationDocument, type DocumentIssue } from "@/lib/notebook/document";
 import { documentToYDoc, replaceSharedDocument, yDocToDocument } from "@/lib/notebook/document/shared-doc";
 import { db, type Executor } from "../client";
 import { derivationUpdates, derivations } from "../schema";
 
-/** The PostgreSQL channel on which server-side writes are announced, payload `<derivationId>:<updateRowId>`. */
+/**
+ * The PostgreSQL channel on which stored updates are announced: payload
+ * `<derivationId>:<updateRowId>` for a server-side write, and
+ * `<derivationId>:<updateRowId>:<instanceId>` for an update a collaboration
+ * server stored (so that instance skips its own). Only the key travels:
+ * NOTIFY payloads must stay under 8000 bytes, an update need not.
+ */
 export const SHARED_DOC_CHANNEL = "holonomy_doc";
+
+/**
+ * The channel on which collaboration servers pass presence (Yjs awareness) to
+ * each other: `<derivationId>:<instanceId>:u:<base64 awareness update>`, or
+ * `<derivationId>:<instanceId>:q` to ask the others for their clients' presence.
+ * Presence is not stored; what does not fit in a payload is dropped.
+ */
+export const SHARED_PRESENCE_CHANNEL = "holonomy_presence";
+
+/** NOTIFY refuses a payload of 8000 bytes or more. */
+export const NOTIFY_PAYLOAD_LIMIT = 7999;
 
 export interface StoredUpdate {
   id: number;
@@ -91,41 +108,67 @@ export async function getSharedDocUpdatesById({ derivationId, afterId }: { deriv
   return selectUpdates(db, derivationId, afterId);
 }
 
-/** One stored update by its row id, or null when it was folded away by a compaction. */
-export async function getSharedDocUpdateByRowId({ derivationId, id }: { derivationId: string; id: number }): Promise<StoredUpdate | null> {
-  const [row] = await db
-    .select({ id: derivationUpdates.id, update: derivationUpdates.update })
-    .from(derivationUpdates)
-    .where(and(eq(derivationUpdates.id, id), eq(derivationUpdates.derivationId, derivationId)))
-    .limit(1);
-  return row ?? null;
+/** What `readSharedDocUpdatesOn` needs of a connection (a pg Client). */
+export interface QueryableConnection {
+  query<R extends Record<string, unknown>>(text: string, values: unknown[]): Promise<{ rows: R[] }>;
+}
+
+/**
+ * Stored updates by row id, of any derivations, read on the given connection:
+ * a collaboration server reads what other instances announced on its own
+ * listening connection, in one statement for every document it holds, rather
+ * than queueing behind its pool's appends. Ids folded by a compaction are missing.
+ */
+export async function readSharedDocUpdatesOn(connection: QueryableConnection, ids: readonly number[]): Promise<(StoredUpdate & { derivationId: string })[]> {
+  if (ids.length === 0) return [];
+  const result = await connection.query<{ id: string; derivation_id: string; update: Buffer }>(
+    `select id, derivation_id, update from ${getTableName(derivationUpdates)} where id = any($1::bigint[]) order by id`,
+    [ids.map(String)],
+  );
+  return result.rows.map((row) => ({
+    id: Number(row.id),
+    derivationId: row.derivation_id,
+    update: new Uint8Array(row.update.buffer, row.update.byteOffset, row.update.byteLength),
+  }));
 }
 
 export type AppendUpdateResult = { status: "stored"; id: number } | { status: "refused" };
 
 /**
  * Appends one update. Refused (nothing stored) when the derivation is locked
- * or in the trash, unless `evenIfLocked`: the share lock on the derivation's
- * row orders the append against an approval, so no update is stored after the
- * lock that locked it.
+ * or in the trash, unless `evenIfLocked`: the key-share lock on the derivation's
+ * row orders the append against an approval (which locks the row `for update`),
+ * so no update is stored after the lock that locked it. It does not wait for a
+ * content save (`for no key update`, such as the JSON copy), which would hold
+ * every append of the document, on every collaboration server, for its length. With `announceAs` (a collaboration server's instance id)
+ * the same statement announces the new row on `holonomy_doc`: PostgreSQL
+ * delivers it at commit, so no other instance hears of a row it cannot read yet.
  */
 export async function appendSharedDocUpdate({
   derivationId,
   update,
   evenIfLocked = false,
+  announceAs,
 }: {
   derivationId: string;
   update: Uint8Array;
   evenIfLocked?: boolean;
+  announceAs?: string;
 }): Promise<AppendUpdateResult> {
   const bytes = Buffer.from(update.buffer, update.byteOffset, update.byteLength);
-  const result = await db.execute<{ id: string }>(sql`
+  const insert = sql`
     insert into ${derivationUpdates} (derivation_id, update)
     select ${derivations.id}, ${bytes} from ${derivations}
     where ${derivations.id} = ${derivationId} and ${derivations.deletedAt} is null
       ${evenIfLocked ? sql`` : sql`and ${derivations.lockedAt} is null`}
-    for share
-    returning id`);
+    for key share
+    returning id`;
+  const result = await db.execute<{ id: string }>(
+    announceAs === undefined
+      ? insert
+      : sql`with inserted as (${insert})
+          select id, pg_notify(${SHARED_DOC_CHANNEL}, ${`${derivationId}:`} || id::text || ${`:${announceAs}`}) from inserted`,
+  );
   const row = result.rows[0];
   return row ? { status: "stored", id: Number(row.id) } : { status: "refused" };
 }

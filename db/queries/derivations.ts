@@ -409,8 +409,9 @@ export async function updateDerivationContentById({
   fromSharedDocument?: boolean;
 }): Promise<SaveContentResult> {
   return db.transaction(async (tx) => {
-    // The row lock orders this save against an approval of the same derivation.
-    const current = await lockDerivationRow(tx, id);
+    // The row lock orders this save against an approval of the same derivation; shared-document
+    // appends go on meanwhile (they only wait for an approval, see appendSharedDocUpdate).
+    const current = await lockDerivationRow(tx, id, "no key update");
     if (!current) return { status: "missing" } as const;
     if (current.lockedAt) return { status: "locked", derivation: current } as const;
     if (baseUpdatedAt && current.updatedAt.toISOString().slice(0, 23) !== baseUpdatedAt.toISOString().slice(0, 23)) {

@@ -10,9 +10,13 @@ import { returnedRow } from "./returned-row";
 /** A revision without its content and results, as the history list shows it. */
 export type RevisionSummary = Omit<Revision, "content" | "results"> & { createdByName: string | null };
 
-/** Locks the derivation's row for the rest of the transaction (history, approval and edits serialise on it). */
-export async function lockDerivationRow(executor: Executor, id: string): Promise<Derivation | null> {
-  const [row] = await executor.select().from(derivations).where(eq(derivations.id, id)).for("update").limit(1);
+/**
+ * Locks the derivation's row for the rest of the transaction (history, approval and edits serialise on it).
+ * A content save takes the weaker `no key update`: it still waits for and excludes every other locker
+ * here, but lets shared-document appends (`for key share`) through meanwhile.
+ */
+export async function lockDerivationRow(executor: Executor, id: string, strength: "update" | "no key update" = "update"): Promise<Derivation | null> {
+  const [row] = await executor.select().from(derivations).where(eq(derivations.id, id)).for(strength).limit(1);
   return row ?? null;
 }
 

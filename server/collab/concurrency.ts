@@ -29,7 +29,6 @@ export function limitPersistence(persistence: CollabPersistence, slots: Semaphor
     load: (id) => slots.run(() => persistence.load(id)),
     append: (id, update, options) => slots.run(() => persistence.append(id, update, options)),
     updates: (id) => slots.run(() => persistence.updates(id)),
-    update: (id, rowId) => slots.run(() => persistence.update(id, rowId)),
     compact: (id) => slots.run(() => persistence.compact(id)),
     state: (id) => slots.run(() => persistence.state(id)),
   };

@@ -1,27 +1,76 @@
 /**
- * LISTEN on `holonomy_doc` over its own connection (not from the pool: a
- * pooled client would be handed back and lose the LISTEN). Notifications sent
- * while it is down are lost, so after every reconnect the server resyncs its
- * loaded documents from storage.
+ * LISTEN on `holonomy_doc` and `holonomy_presence` over its own connection
+ * (not from the pool: a pooled client would be handed back and lose the
+ * LISTEN). Notifications sent while it is down are lost, so after every
+ * reconnect the server resyncs its loaded documents from storage.
+ *
+ * The same connection sends this instance's presence to the others (small
+ * NOTIFYs) and reads the rows other instances announced, in turn and without
+ * taking a pool slot that stores updates; while it is down, presence is not
+ * sent (clients renew it every 15 s) and rows are not read (the reconnect
+ * rereads every document). Stored updates are announced by the append itself
+ * (db/queries/collab.ts), never from here.
  */
+import { randomBytes } from "node:crypto";
 import { Client } from "pg";
-import { SHARED_DOC_CHANNEL } from "@/db/queries/collab";
-import type { Logger, UpdateNotifications } from "./types";
+import { NOTIFY_PAYLOAD_LIMIT, SHARED_DOC_CHANNEL, SHARED_PRESENCE_CHANNEL, readSharedDocUpdatesOn } from "@/db/queries/collab";
+import type { Logger, NotificationHandlers, UpdateNotifications } from "./types";
 
-const PAYLOAD = /^([0-9a-f-]{36}):(\d+)$/i;
+const UUID = "[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}";
+/** `<derivationId>:<rowId>` (a server-side write) or `<derivationId>:<rowId>:<instanceId>`. */
+const UPDATE_PAYLOAD = new RegExp(`^(${UUID}):(\\d+)(?::([0-9a-z]{1,32}))?$`, "i");
+/** `<derivationId>:<instanceId>:u:<base64>` or `<derivationId>:<instanceId>:q`. */
+const PRESENCE_PAYLOAD = new RegExp(`^(${UUID}):([0-9a-z]{1,32}):(?:u:([A-Za-z0-9+/=]+)|(q))$`, "i");
 
-export function createPostgresNotifications({ connectionString, logger }: { connectionString: string; logger: Logger }): UpdateNotifications {
+/** A fresh id for one collaboration server process. */
+export function newInstanceId(): string {
+  return randomBytes(6).toString("hex");
+}
+
+/** The largest update whose base64 fits in a presence payload of `instanceId`. */
+function maxPresenceBytes(instanceId: string): number {
+  const header = `00000000-0000-0000-0000-000000000000:${instanceId}:u:`.length;
+  return Math.floor((NOTIFY_PAYLOAD_LIMIT - header) / 4) * 3;
+}
+
+export function createPostgresNotifications({
+  connectionString,
+  logger,
+  instanceId = newInstanceId(),
+}: {
+  connectionString: string;
+  logger: Logger;
+  instanceId?: string;
+}): UpdateNotifications {
   let client: Client | null = null;
   let stopped = false;
   let retry: ReturnType<typeof setTimeout> | null = null;
-  let handlers: Parameters<UpdateNotifications["start"]>[0] | null = null;
+  let handlers: NotificationHandlers | null = null;
+  const maxAwarenessBytes = maxPresenceBytes(instanceId);
+
+  function onNotification(channel: string, payload: string): void {
+    if (!handlers) return;
+    if (channel === SHARED_DOC_CHANNEL) {
+      const match = UPDATE_PAYLOAD.exec(payload);
+      if (!match) return;
+      const from = match[3]?.toLowerCase() ?? null;
+      if (from !== instanceId) handlers.onUpdate(match[1]!.toLowerCase(), Number(match[2]), from);
+      return;
+    }
+    if (channel === SHARED_PRESENCE_CHANNEL) {
+      const match = PRESENCE_PAYLOAD.exec(payload);
+      if (!match) return;
+      const derivationId = match[1]!.toLowerCase();
+      const from = match[2]!.toLowerCase();
+      if (from === instanceId) return;
+      if (match[4]) handlers.onAwarenessQuery(derivationId, from);
+      else handlers.onAwareness(derivationId, new Uint8Array(Buffer.from(match[3]!, "base64")), from);
+    }
+  }
 
   async function connect(isReconnect: boolean): Promise<void> {
-    const next = new Client({ connectionString, connectionTimeoutMillis: 3000 });
-    next.on("notification", (message) => {
-      const match = message.channel === SHARED_DOC_CHANNEL ? PAYLOAD.exec(message.payload ?? "") : null;
-      if (match) handlers?.onUpdate(match[1]!.toLowerCase(), Number(match[2]));
-    });
+    const next = new Client({ connectionString, connectionTimeoutMillis: 3000, application_name: `holonomy-collab-${instanceId}` });
+    next.on("notification", (message) => onNotification(message.channel, message.payload ?? ""));
     const lost = (reason: string) => {
       if (client !== next || stopped) return;
       client = null;
@@ -34,6 +83,7 @@ export function createPostgresNotifications({ connectionString, logger }: { conn
     next.on("end", () => lost("closed"));
     await next.connect();
     await next.query(`LISTEN ${SHARED_DOC_CHANNEL}`);
+    await next.query(`LISTEN ${SHARED_PRESENCE_CHANNEL}`);
     client = next;
     if (isReconnect) handlers?.onReconnect();
   }
@@ -49,7 +99,28 @@ export function createPostgresNotifications({ connectionString, logger }: { conn
     }, delay);
   }
 
+  /** Statements on the listening connection, one after another (pg runs one query at a time). */
+  let queue: Promise<unknown> = Promise.resolve();
+
+  function inTurn<T>(task: (connection: Client) => Promise<T>): Promise<T> {
+    const current = client;
+    if (!current) return Promise.reject(new Error("the notification connection is down"));
+    const run = queue.then(() => task(current));
+    queue = run.catch(() => undefined);
+    return run;
+  }
+
+  function notify(channel: string, payload: string): boolean {
+    if (!client) return false;
+    inTurn((connection) => connection.query("select pg_notify($1, $2)", [channel, payload])).catch((error: unknown) =>
+      logger.warn(`sending presence failed: ${error instanceof Error ? error.message : String(error)}`),
+    );
+    return true;
+  }
+
   return {
+    instanceId,
+    maxAwarenessBytes,
     async start(nextHandlers) {
       handlers = nextHandlers;
       stopped = false;
@@ -61,6 +132,19 @@ export function createPostgresNotifications({ connectionString, logger }: { conn
       const current = client;
       client = null;
       await current?.end().catch(() => undefined);
+    },
+    publishAwareness(derivationId, update) {
+      if (update.byteLength > maxAwarenessBytes) return false;
+      return notify(
+        SHARED_PRESENCE_CHANNEL,
+        `${derivationId}:${instanceId}:u:${Buffer.from(update.buffer, update.byteOffset, update.byteLength).toString("base64")}`,
+      );
+    },
+    queryAwareness(derivationId) {
+      notify(SHARED_PRESENCE_CHANNEL, `${derivationId}:${instanceId}:q`);
+    },
+    readUpdates(ids) {
+      return inTurn((connection) => readSharedDocUpdatesOn(connection, ids));
     },
   };
 }

@@ -1,21 +1,14 @@
 import "server-only";
 /** The shared documents' storage in PostgreSQL (db/queries/collab.ts) behind the server's interface. */
-import {
-  appendSharedDocUpdate,
-  compactSharedDocById,
-  getSharedDocStateById,
-  getSharedDocUpdateByRowId,
-  getSharedDocUpdatesById,
-  loadSharedDocById,
-} from "@/db/queries/collab";
+import { appendSharedDocUpdate, compactSharedDocById, getSharedDocStateById, getSharedDocUpdatesById, loadSharedDocById } from "@/db/queries/collab";
 import { updateDerivationContentById } from "@/db/queries/derivations";
 import type { CollabPersistence, JsonCopyWriter } from "./types";
 
 export const postgresPersistence: CollabPersistence = {
   load: (derivationId) => loadSharedDocById({ derivationId }),
-  append: (derivationId, update, options) => appendSharedDocUpdate({ derivationId, update, evenIfLocked: options?.evenIfLocked }),
+  append: (derivationId, update, options) =>
+    appendSharedDocUpdate({ derivationId, update, evenIfLocked: options?.evenIfLocked, announceAs: options?.announceAs }),
   updates: (derivationId) => getSharedDocUpdatesById({ derivationId }),
-  update: (derivationId, id) => getSharedDocUpdateByRowId({ derivationId, id }),
   compact: (derivationId) => compactSharedDocById({ derivationId }),
   state: (derivationId) => getSharedDocStateById({ derivationId }),
 };

@@ -8,13 +8,27 @@
  * with the state vector of what is stored; read-only connections have their updates dropped; loading,
  * the JSON copy and unloading go through injected modules; each document has
  * its own timers (no module-wide debouncer).
+ *
+ * With more than one collaboration server, the others learn of a stored update
+ * from its announced key (derivation, row id, instance; see listener.ts), read
+ * that row and apply it here, which relays it to this room's connections.
+ * Presence goes the same way, throttled, as small awareness updates.
  */
 import * as awarenessProtocol from "y-protocols/awareness";
 import * as Y from "yjs";
+import type { StoredUpdate } from "@/db/queries/collab";
 import { parseStoredDocument, type DerivationDocument } from "@/lib/notebook/document";
 import { SharedDocumentError, replaceSharedDocument, yDocToDocument } from "@/lib/notebook/document/shared-doc";
 import { awarenessMessage, storedMessage, syncStep1Message, syncStep2Message, updateMessage, type IncomingMessage } from "./protocol";
-import { CloseCode, type CollabLimits, type CollabPersistence, type ConnectionGrant, type JsonCopyWriter, type Logger } from "./types";
+import {
+  CloseCode,
+  type CollabLimits,
+  type CollabPersistence,
+  type ConnectionGrant,
+  type JsonCopyWriter,
+  type Logger,
+  type UpdateNotifications,
+} from "./types";
 
 /** What a room needs of a connection. */
 export interface RoomConnection {
@@ -32,6 +46,12 @@ interface ConnectionState {
 const LOAD = "load";
 const NOTIFIED = "notified";
 const LOCK = "lock";
+/** Presence that came from another instance (never sent back out). */
+const RELAYED = "relayed";
+/** Presence removed because its connection left. */
+const LEFT = "left";
+/** Presence changes of this room's clients are sent to other instances at most this often. */
+export const AWARENESS_RELAY_MS = 50;
 /** How long to wait before storing again after the database refused a write (it keeps the updates meanwhile). */
 const STORE_RETRY_MS = 1000;
 
@@ -44,6 +64,8 @@ export interface RoomDependencies {
   jsonCopy: JsonCopyWriter;
   limits: CollabLimits;
   logger: Logger;
+  /** The other collaboration servers (announcements of stored updates, presence); absent with one instance in tests. */
+  peers?: UpdateNotifications;
   /** Called once the room has unloaded (the server forgets it). */
   onUnloaded: (room: Room) => void;
 }
@@ -71,6 +93,10 @@ export class Room {
   private storing: Promise<void> | null = null;
   /** Per client, the clock up to which its updates are stored: what an acknowledgement covers. */
   private storedVector = new Map<number, number>();
+  /** Awareness client ids of this room's clients whose change is still to be sent to the other instances. */
+  private awarenessOut = new Set<number>();
+  private awarenessTimer: ReturnType<typeof setTimeout> | null = null;
+  private destroyed = false;
 
   /** Counts an update as stored in the acknowledgements (updates of one client arrive in order). */
   private markStored(update: Uint8Array): void {
@@ -104,6 +130,9 @@ export class Room {
       // Everyone, the sender included: a provider that hears nothing for 30 s reconnects.
       const message = awarenessMessage(this.awareness, changed);
       for (const connection of this.connections.keys()) connection.send(message);
+      // Only what this room's own clients did goes to the other instances (not what they sent us,
+      // nor a state that timed out here, which its own instance may still hold).
+      if (state || origin === LEFT) this.relayAwareness(changed);
     });
   }
 
@@ -135,6 +164,7 @@ export class Room {
     }
     this.loaded = true;
     if (this.resyncAfterLoad) await this.resync();
+    this.deps.peers?.queryAwareness(this.derivationId);
     return { ok: true };
   }
 
@@ -164,7 +194,7 @@ export class Room {
     const state = this.connections.get(connection);
     if (!state) return;
     this.connections.delete(connection);
-    awarenessProtocol.removeAwarenessStates(this.awareness, Array.from(state.awarenessIds), null);
+    awarenessProtocol.removeAwarenessStates(this.awareness, Array.from(state.awarenessIds), LEFT);
     if (this.connections.size === 0 && !this.unloading) {
       this.unloadTimer = setTimeout(() => void this.unload(), this.deps.limits.unloadDelayMs);
     }
@@ -219,7 +249,7 @@ export class Room {
         const senders = new Set(batch.map((entry) => entry.connection));
         let result;
         try {
-          result = await this.deps.persistence.append(this.derivationId, update);
+          result = await this.deps.persistence.append(this.derivationId, update, { announceAs: this.deps.peers?.instanceId });
         } catch (error) {
           // Already applied here, so a reconnecting sender would not send it again: keep it and retry.
           this.deps.logger.error(`storing an update of ${this.derivationId} failed; retrying`, error);
@@ -275,7 +305,7 @@ export class Room {
       replaceSharedDocument(copy, approved.document, LOCK);
       const update = Y.encodeStateAsUpdate(copy, before);
       copy.destroy();
-      const stored = await this.deps.persistence.append(this.derivationId, update, { evenIfLocked: true });
+      const stored = await this.deps.persistence.append(this.derivationId, update, { evenIfLocked: true, announceAs: this.deps.peers?.instanceId });
       if (stored.status === "stored") {
         Y.applyUpdate(this.doc, update, LOCK);
         this.markStored(update);
@@ -287,17 +317,28 @@ export class Room {
     }
   }
 
-  /** A server-side write was announced: apply that stored update (or everything, if it was folded meanwhile). */
-  async applyNotified(rowId: number): Promise<void> {
-    if (!this.loaded) {
-      this.resyncAfterLoad = true;
-      return;
-    }
-    const row = await this.deps.persistence.update(this.derivationId, rowId);
-    if (row) {
-      Y.applyUpdate(this.doc, row.update, NOTIFIED);
-      this.markStored(row.update);
-    } else await this.resync();
+  /** A stored update was announced while this room loads: it rereads every stored update once loaded. */
+  announcedWhileLoading(): void {
+    if (!this.loaded) this.resyncAfterLoad = true;
+  }
+
+  /**
+   * Applies stored updates that were announced (a server-side write, or another
+   * instance's client), which relays them to this room's connections. The server
+   * reads the announced rows of all its rooms at once (server.ts).
+   */
+  applyStored(rows: readonly StoredUpdate[]): void {
+    if (!this.loaded || this.unloading || rows.length === 0) return;
+    Y.transact(
+      this.doc,
+      () => {
+        for (const { update } of rows) {
+          Y.applyUpdate(this.doc, update, NOTIFIED);
+          this.markStored(update);
+        }
+      },
+      NOTIFIED,
+    );
   }
 
   /** Applies every stored update (after notifications may have been missed); applying one twice changes nothing. */
@@ -317,6 +358,55 @@ export class Room {
       },
       NOTIFIED,
     );
+  }
+
+  // -------------------------------------------------------------------------
+  // Presence across instances
+
+  /** Another instance's clients changed their presence: apply it here (which sends it to this room's connections). */
+  applyRemoteAwareness(update: Uint8Array): void {
+    if (this.unloading) return;
+    awarenessProtocol.applyAwarenessUpdate(this.awareness, update, RELAYED);
+  }
+
+  /** Another instance loaded this document: send it the presence of this room's clients. */
+  sendLocalAwareness(): void {
+    const ids: number[] = [];
+    for (const state of this.connections.values()) ids.push(...state.awarenessIds);
+    this.relayAwareness(ids);
+  }
+
+  private relayAwareness(ids: readonly number[]): void {
+    if (!this.deps.peers || ids.length === 0 || this.destroyed) return;
+    for (const id of ids) this.awarenessOut.add(id);
+    this.awarenessTimer ??= setTimeout(() => this.flushAwareness(), AWARENESS_RELAY_MS);
+  }
+
+  /**
+   * Sends the pending presence changes as one awareness update, or one per
+   * client when together they do not fit in a notification; a single client's
+   * presence too large for one is dropped here (its own instance's clients
+   * still see it) and logged.
+   */
+  private flushAwareness(): void {
+    this.awarenessTimer = null;
+    const peers = this.deps.peers;
+    const ids = Array.from(this.awarenessOut);
+    this.awarenessOut.clear();
+    if (!peers || ids.length === 0 || this.destroyed) return;
+    const all = awarenessProtocol.encodeAwarenessUpdate(this.awareness, ids);
+    if (all.byteLength <= peers.maxAwarenessBytes) {
+      peers.publishAwareness(this.derivationId, all);
+      return;
+    }
+    for (const id of ids) {
+      const one = awarenessProtocol.encodeAwarenessUpdate(this.awareness, [id]);
+      if (!peers.publishAwareness(this.derivationId, one) && one.byteLength > peers.maxAwarenessBytes) {
+        this.deps.logger.warn(
+          `presence of client ${id} in ${this.derivationId} is ${one.byteLength} bytes, over the ${peers.maxAwarenessBytes} a notification carries; not sent to other instances`,
+        );
+      }
+    }
   }
 
   // -------------------------------------------------------------------------
@@ -418,6 +508,15 @@ export class Room {
         this.deps.logger.error(`unloading ${this.derivationId} failed`, error);
       } finally {
         if (this.jsonTimer) clearTimeout(this.jsonTimer);
+        // Other instances drop this room's clients' presence now rather than after it times out.
+        const leaving: number[] = [];
+        for (const state of this.connections.values()) leaving.push(...state.awarenessIds);
+        if (leaving.length > 0) awarenessProtocol.removeAwarenessStates(this.awareness, leaving, LEFT);
+        if (this.awarenessTimer) {
+          clearTimeout(this.awarenessTimer);
+          this.flushAwareness();
+        }
+        this.destroyed = true;
         this.awareness.destroy();
         this.doc.destroy();
         this.deps.onUnloaded(this);

@@ -10,9 +10,10 @@
  * size and rate limit; a malformed message closes that connection only.
  */
 import { createServer, type IncomingMessage as HttpRequest, type Server } from "node:http";
-import type { AddressInfo } from "node:net";
+import { BlockList, isIP, type AddressInfo } from "node:net";
 import type { Duplex } from "node:stream";
 import { WebSocketServer, type RawData, type WebSocket } from "ws";
+import { clientAddress } from "@/lib/client-address";
 import { MalformedMessage, readClientMessage } from "./protocol";
 import { Room, type RoomConnection } from "./room";
 import { consoleLogger } from "./setup";
@@ -46,6 +47,8 @@ export interface CollabServer {
   listen(port: number, host?: string): Promise<number>;
   /** Closes every connection (1001), writes and compacts every document, stops listening. */
   close(): Promise<void>;
+  /** This instance's id in announcements to the other collaboration servers (null without notifications). */
+  readonly instanceId: string | null;
   /** Loaded documents by derivation id (for tests and statistics). */
   readonly rooms: ReadonlyMap<string, Room>;
   readonly httpServer: Server;
@@ -77,6 +80,33 @@ function toBytes(data: RawData): Uint8Array {
 function sizeOf(data: RawData): number {
   if (Array.isArray(data)) return data.reduce((sum, part) => sum + part.byteLength, 0);
   return data.byteLength;
+}
+
+/**
+ * Peers whose `X-Forwarded-For` is believed: a proxy or load balancer on this
+ * host or the private network. Anyone else is counted by the socket's own address.
+ */
+const PROXY_NETWORKS = new BlockList();
+PROXY_NETWORKS.addSubnet("127.0.0.0", 8, "ipv4");
+PROXY_NETWORKS.addSubnet("10.0.0.0", 8, "ipv4");
+PROXY_NETWORKS.addSubnet("172.16.0.0", 12, "ipv4");
+PROXY_NETWORKS.addSubnet("192.168.0.0", 16, "ipv4");
+PROXY_NETWORKS.addAddress("::1", "ipv6");
+PROXY_NETWORKS.addSubnet("fc00::", 7, "ipv6");
+
+/**
+ * The client's address for the per-address connection limit: behind a proxy
+ * (see PROXY_NETWORKS) what its headers say (the right-most `X-Forwarded-For`
+ * entry, as the app counts requests), else the socket's own address.
+ */
+export function connectionAddress(request: Pick<HttpRequest, "headers" | "socket">): string | null {
+  const peer = request.socket.remoteAddress ?? null;
+  if (peer === null) return null;
+  const plain = peer.startsWith("::ffff:") && peer.includes(".") ? peer.slice("::ffff:".length) : peer;
+  const family = isIP(plain);
+  if (family === 0 || !PROXY_NETWORKS.check(plain, family === 6 ? "ipv6" : "ipv4")) return plain;
+  const forwarded = clientAddress(request.headers);
+  return forwarded !== null && isIP(forwarded) !== 0 ? forwarded : plain;
 }
 
 /** A close reason fits in 123 bytes of UTF-8. */
@@ -118,6 +148,8 @@ export function createCollabServer(options: CollabServerOptions): CollabServer {
   const { limits } = options;
   const rooms = new Map<string, Room>();
   const loading = new Map<string, Promise<Room>>();
+  /** Rooms being loaded: an announcement arriving meanwhile makes them read everything once loaded. */
+  const loadingRooms = new Map<string, Room>();
   const sockets = new Set<WebSocket>();
   let closing = false;
 
@@ -130,6 +162,7 @@ export function createCollabServer(options: CollabServerOptions): CollabServer {
       response.end(
         JSON.stringify({
           ok: !closing,
+          instance: options.notifications?.instanceId ?? null,
           documents: rooms.size,
           connections,
           rssMb: Math.round(process.memoryUsage().rss / 1e6),
@@ -160,6 +193,7 @@ export function createCollabServer(options: CollabServerOptions): CollabServer {
         jsonCopy: options.jsonCopy,
         limits,
         logger,
+        peers: options.notifications,
         onUnloaded: (unloaded) => {
           if (rooms.get(derivationId) === unloaded) rooms.delete(derivationId);
         },
@@ -175,10 +209,12 @@ export function createCollabServer(options: CollabServerOptions): CollabServer {
         return room;
       })();
       loading.set(derivationId, load);
+      loadingRooms.set(derivationId, room);
       try {
         return await load;
       } finally {
         loading.delete(derivationId);
+        loadingRooms.delete(derivationId);
       }
     }
   }
@@ -248,7 +284,7 @@ export function createCollabServer(options: CollabServerOptions): CollabServer {
     void (async () => {
       try {
         if (closing) throw new RefusedConnection(CloseCode.goingAway, "The server is shutting down");
-        connection.grant = await options.auth.authenticate(token, roomName, request.socket.remoteAddress ?? null);
+        connection.grant = await options.auth.authenticate(token, roomName, connectionAddress(request));
         let room = await roomFor(connection.grant.derivationId);
         while (room.isUnloading) room = await roomFor(connection.grant.derivationId);
         if (connection.closed) return;
@@ -276,15 +312,79 @@ export function createCollabServer(options: CollabServerOptions): CollabServer {
 
   const notifications = options.notifications;
 
+  /**
+   * Rows other instances announced, by document, read together: one statement
+   * on the listening connection for every loaded document at a time, so that
+   * fan-out costs one read per round however many documents are busy.
+   */
+  const announced = new Map<string, Set<number>>();
+  let readingAnnounced: Promise<void> | null = null;
+
+  function onAnnounced(derivationId: string, rowId: number): void {
+    const room = rooms.get(derivationId);
+    if (notifications && room?.isLoaded && !room.isUnloading) {
+      const ids = announced.get(derivationId) ?? new Set<number>();
+      ids.add(rowId);
+      announced.set(derivationId, ids);
+      readingAnnounced ??= readAnnounced(notifications);
+      return;
+    }
+    // Still loading: it rereads everything once loaded (an unloading room is dropped anyway).
+    (room ?? loadingRooms.get(derivationId))?.announcedWhileLoading();
+  }
+
+  async function readAnnounced(peers: UpdateNotifications): Promise<void> {
+    try {
+      while (announced.size > 0) {
+        const batch = new Map(announced);
+        announced.clear();
+        let rows;
+        try {
+          rows = await peers.readUpdates(Array.from(batch.values(), (ids) => Array.from(ids)).flat());
+        } catch (error) {
+          // Read each document's rows through the pool instead.
+          logger.warn(`reading announced updates failed: ${error instanceof Error ? error.message : String(error)}`);
+          for (const derivationId of batch.keys()) {
+            rooms
+              .get(derivationId)
+              ?.resync()
+              .catch((resyncError: unknown) => logger.error(`resync of ${derivationId} failed`, resyncError));
+          }
+          continue;
+        }
+        const byDocument = new Map<string, typeof rows>();
+        for (const row of rows) byDocument.set(row.derivationId, [...(byDocument.get(row.derivationId) ?? []), row]);
+        for (const [derivationId, ids] of batch) {
+          const room = rooms.get(derivationId);
+          if (!room) continue;
+          const found = byDocument.get(derivationId) ?? [];
+          // A row folded by a compaction meanwhile: read the document's rows as they now are.
+          if (found.length < ids.size) room.resync().catch((error: unknown) => logger.error(`resync of ${derivationId} failed`, error));
+          else room.applyStored(found);
+        }
+      }
+    } finally {
+      readingAnnounced = null;
+    }
+  }
+
   return {
     rooms,
     httpServer,
+    instanceId: notifications?.instanceId ?? null,
     async listen(port, host = "127.0.0.1") {
       await notifications?.start({
-        onUpdate: (derivationId, rowId) => {
+        onUpdate: (derivationId, rowId) => onAnnounced(derivationId, rowId),
+        onAwareness: (derivationId, update) => {
           const room = rooms.get(derivationId);
-          if (room) room.applyNotified(rowId).catch((error: unknown) => logger.error(`applying a notified update of ${derivationId} failed`, error));
+          if (!room) return;
+          try {
+            room.applyRemoteAwareness(update);
+          } catch (error) {
+            logger.warn(`presence from another instance for ${derivationId} does not read: ${error instanceof Error ? error.message : String(error)}`);
+          }
         },
+        onAwarenessQuery: (derivationId) => rooms.get(derivationId)?.sendLocalAwareness(),
         onReconnect: () => {
           for (const room of rooms.values()) room.resync().catch((error: unknown) => logger.error(`resync of ${room.derivationId} failed`, error));
         },

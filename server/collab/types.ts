@@ -55,11 +55,10 @@ export interface DerivationState {
 
 export interface CollabPersistence {
   load(derivationId: string): Promise<LoadSharedDocResult>;
-  append(derivationId: string, update: Uint8Array, options?: { evenIfLocked?: boolean }): Promise<AppendUpdateResult>;
+  /** Stores an update; with `announceAs` (this instance's id) the stored row's key is announced to the other instances. */
+  append(derivationId: string, update: Uint8Array, options?: { evenIfLocked?: boolean; announceAs?: string }): Promise<AppendUpdateResult>;
   /** Every stored update (after a missed notification). */
   updates(derivationId: string): Promise<StoredUpdate[]>;
-  /** One stored update by row id; null once folded by a compaction. */
-  update(derivationId: string, id: number): Promise<StoredUpdate | null>;
   compact(derivationId: string): Promise<CompactionResult>;
   state(derivationId: string): Promise<DerivationState | null>;
 }
@@ -71,10 +70,37 @@ export interface JsonCopyWriter {
   write(derivationId: string, document: DerivationDocument, authorIds: string[]): Promise<JsonCopyResult>;
 }
 
-/** Announcements of server-side writes (PostgreSQL LISTEN). */
+export interface NotificationHandlers {
+  /** A row was stored: by a server-side write (`from` null) or by the collaboration server `from`. */
+  onUpdate(derivationId: string, rowId: number, from: string | null): void;
+  /** Another instance's clients changed their presence (a y-protocols awareness update). */
+  onAwareness(derivationId: string, update: Uint8Array, from: string): void;
+  /** Another instance loaded the document and asks for the presence of this instance's clients. */
+  onAwarenessQuery(derivationId: string, from: string): void;
+  /** The listening connection came back: notifications may have been missed meanwhile. */
+  onReconnect(): void;
+}
+
+/**
+ * Announcements between collaboration servers and from server-side writes
+ * (PostgreSQL LISTEN/NOTIFY). Each instance has its own id, carried in what it
+ * sends, and hears nothing it sent itself.
+ */
 export interface UpdateNotifications {
-  start(handlers: { onUpdate: (derivationId: string, rowId: number) => void; onReconnect: () => void }): Promise<void>;
+  readonly instanceId: string;
+  start(handlers: NotificationHandlers): Promise<void>;
   stop(): Promise<void>;
+  /** The largest awareness update `publishAwareness` can carry (a NOTIFY payload is limited). */
+  readonly maxAwarenessBytes: number;
+  /** Sends presence to the other instances; false when it was not sent (too large, or not connected). */
+  publishAwareness(derivationId: string, update: Uint8Array): boolean;
+  /** Asks the other instances holding the document to send their clients' presence. */
+  queryAwareness(derivationId: string): void;
+  /**
+   * Reads announced rows (of any documents) on the listening connection; rejects
+   * when it is down, which costs nothing: its reconnect rereads every document.
+   */
+  readUpdates(ids: readonly number[]): Promise<(StoredUpdate & { derivationId: string })[]>;
 }
 
 export interface CollabLimits {

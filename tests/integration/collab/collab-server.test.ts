@@ -250,7 +250,8 @@ describe("notifications", () => {
     const a = track(connectClient(running.url, derivation.id, await tokenFor(kestrel.members.analyst.id, derivation.id)));
     await waitFor(() => a.provider.synced, "sync");
     const listeners = await db.execute<{ pid: number }>(
-      sql`select pid from pg_stat_activity where datname = current_database() and query = 'LISTEN holonomy_doc' and pid <> pg_backend_pid()`,
+      // The listening connection names its instance.
+      sql`select pid from pg_stat_activity where datname = current_database() and application_name = ${`holonomy-collab-${running.server.instanceId}`}`,
     );
     expect(listeners.rows.length).toBeGreaterThan(0);
     for (const { pid } of listeners.rows) await db.execute(sql`select pg_terminate_backend(${pid})`);

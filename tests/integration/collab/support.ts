@@ -30,8 +30,8 @@ export interface RunningServer {
 }
 
 /** A collaboration server in this process on an ephemeral loopback port. */
-export async function startCollabServer(limits: Partial<CollabLimits> = {}): Promise<RunningServer> {
-  const server = createPostgresCollabServer({ limits: { ...testLimits, ...limits }, logger: quietLogger });
+export async function startCollabServer(limits: Partial<CollabLimits> = {}, logger: Logger = quietLogger): Promise<RunningServer> {
+  const server = createPostgresCollabServer({ limits: { ...testLimits, ...limits }, logger });
   const port = await server.listen(0, "127.0.0.1");
   return { server, url: `ws://127.0.0.1:${port}/collab` };
 }

@@ -1,0 +1,137 @@
+import { spawn, type ChildProcess } from "node:child_process";
+import path from "node:path";
+import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
+
+vi.mock("@/lib/auth/session", async () => (await import("./support/session")).sessionModule);
+
+import * as runsRoute from "@/app/api/derivations/[id]/runs/route";
+import { closeDatabase } from "@/db/client";
+import { createDerivation } from "@/db/queries/derivations";
+import { closeJobQueue } from "@/lib/jobs/boss";
+import { waitForJob } from "@/lib/jobs/queue";
+import type { JobJson } from "@/lib/jobs/views";
+import type { Model } from "@/lib/mechanics";
+import { modelToDocument } from "@/lib/notebook/document";
+import { jsonRequest, makeTeam, params, resetDatabase, type TeamFixture } from "./support/fixtures";
+import { signInAs } from "./support/session";
+
+// More than one machine's worth of queue workers: jobs queued by this process
+// (the web side, through its JobQueue) are run by two separate worker
+// processes (scripts/worker.ts, as started in production), each job by exactly
+// one of them and none by the process that queued it. Each worker logs the jobs
+// it takes with its process id.
+
+// Two arms of a test-rig double pendulum: a long span keeps a worker busy for a few seconds.
+const doubleArm: Model = {
+  title: "Rig double arm",
+  coordinates: [
+    { name: "a", unit: "rad" },
+    { name: "b", unit: "rad" },
+  ],
+  parameters: [
+    { name: "m", unit: "kg", value: 1 },
+    { name: "l", unit: "m", value: 1 },
+    { name: "g", unit: "m/s^2", value: 9.81 },
+  ],
+  definitions: [
+    { name: "x1", expr: "l*sin(a)" },
+    { name: "y1", expr: "-l*cos(a)" },
+    { name: "x2", expr: "x1 + l*sin(b)" },
+    { name: "y2", expr: "y1 - l*cos(b)" },
+  ],
+  kinetic: "1/2*m*(x1'^2 + y1'^2) + 1/2*m*(x2'^2 + y2'^2)",
+  potential: "m*g*y1 + m*g*y2",
+};
+
+interface WorkerProcess {
+  child: ChildProcess;
+  /** Job ids this worker logged taking. */
+  took: string[];
+}
+
+let kestrel: TeamFixture;
+const workers: WorkerProcess[] = [];
+
+/** Starts a queue worker process; resolves once it is taking jobs. */
+function startWorker(): Promise<WorkerProcess> {
+  const child = spawn(process.execPath, ["--conditions=react-server", "--import", "tsx", "scripts/worker.ts"], {
+    cwd: path.resolve(import.meta.dirname, "../.."),
+    env: { ...process.env, AWS_SDK_JS_NODE_VERSION_SUPPORT_WARNING_DISABLED: "true" },
+    stdio: ["ignore", "pipe", "inherit"],
+  });
+  const worker: WorkerProcess = { child, took: [] };
+  workers.push(worker);
+  return new Promise((resolve, reject) => {
+    let output = "";
+    child.stdout!.on("data", (chunk: Buffer) => {
+      output += chunk.toString();
+      for (const match of output.matchAll(/queue worker (\d+) took \w+ job ([0-9a-f-]{36})/g)) {
+        if (Number(match[1]) === child.pid && !worker.took.includes(match[2]!)) worker.took.push(match[2]!);
+      }
+      if (output.includes("ready")) resolve(worker);
+    });
+    child.once("exit", (code) => reject(new Error(`the worker exited with code ${code} before it was ready: ${output}`)));
+  });
+}
+
+function stopWorker({ child }: WorkerProcess): Promise<void> {
+  return new Promise((resolve) => {
+    if (child.exitCode !== null) return resolve();
+    child.once("exit", () => resolve());
+    child.kill("SIGTERM");
+  });
+}
+
+beforeAll(async () => {
+  await resetDatabase();
+  kestrel = await makeTeam("Kestrel worker pool");
+  signInAs(kestrel.members.analyst);
+}, 60_000);
+
+afterAll(async () => {
+  await Promise.all(workers.map(stopWorker));
+  await closeJobQueue();
+  await closeDatabase();
+}, 60_000);
+
+describe("jobs across processes", () => {
+  it("runs jobs queued here in two other worker processes, each job in exactly one", async () => {
+    const [first, second] = await Promise.all([startWorker(), startWorker()]);
+    const derivation = await createDerivation({
+      teamId: kestrel.team.id,
+      title: doubleArm.title,
+      ownerId: kestrel.members.analyst.id,
+      content: modelToDocument(doubleArm),
+    });
+    // Two jobs at once: a worker takes one job at a time, so while one is busy the other takes the second.
+    const queued: JobJson[] = [];
+    for (const label of ["left arm release", "right arm release"]) {
+      const request = jsonRequest(`/api/derivations/${derivation.id}/runs`, "POST", {
+        initialCoordinates: { a: 2, b: 2.5 },
+        endTime: 300,
+        outputStep: 0.01,
+        timeLimitMs: 30_000,
+        label,
+      });
+      request.headers.set("prefer", "respond-async");
+      const response = await runsRoute.POST(request, params({ id: derivation.id }));
+      expect(response.status).toBe(202);
+      queued.push(((await response.json()) as { job: JobJson }).job);
+    }
+    for (const job of queued) {
+      const finished = await waitForJob(job.id, { timeoutMs: 180_000 });
+      expect(finished.state).toBe("completed");
+    }
+    const pids = [first!.child.pid, second!.child.pid];
+    expect(pids).not.toContain(process.pid);
+    for (const job of queued) {
+      const takers = workers.filter((worker) => worker.took.includes(job.id)).map((worker) => worker.child.pid);
+      expect(takers).toHaveLength(1);
+      expect(pids).toContain(takers[0]);
+      expect(takers[0]).not.toBe(process.pid);
+    }
+    // Both workers took part.
+    expect(first!.took).toHaveLength(1);
+    expect(second!.took).toHaveLength(1);
+  }, 300_000);
+});
