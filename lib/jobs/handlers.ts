@@ -4,6 +4,7 @@ import { getFileByIdAndDerivationId } from "@/db/queries/files";
 import type { Derivation, Job, JobKind } from "@/db/schema";
 import { AppError } from "@/lib/errors";
 import { applyFittedValues } from "@/lib/runs/apply-fit";
+import { studyBatchJob } from "@/lib/studies/batch";
 import { fitToMeasuredFile, runAndStoreSimulation, type FitRequest, type RunSettings } from "@/lib/runs/service";
 import type { JobHandler } from "./queue";
 
@@ -64,4 +65,5 @@ export const fitJob: JobHandler = async (job, { signal, progress }) => {
   return { ...result, applied } as unknown as Record<string, unknown>;
 };
 
-export const JOB_HANDLERS: Record<JobKind, JobHandler> = { simulation: simulationJob, fit: fitJob };
+/** `study`: one batch of a parameter study's runs (lib/studies/batch.ts). */
+export const JOB_HANDLERS: Record<JobKind, JobHandler> = { simulation: simulationJob, fit: fitJob, study: studyBatchJob };

@@ -19,7 +19,7 @@ import { AppError, type ErrorCode } from "@/lib/errors";
  */
 
 /** pg-boss queue of each kind of job. */
-export const QUEUE_NAMES: Record<JobKind, string> = { simulation: "holonomy-simulation", fit: "holonomy-fit" };
+export const QUEUE_NAMES: Record<JobKind, string> = { simulation: "holonomy-simulation", fit: "holonomy-fit", study: "holonomy-study" };
 
 /** What a handler gets besides the job row. */
 export interface JobContext {
