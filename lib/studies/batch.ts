@@ -29,8 +29,23 @@ function isModelProblem(error: unknown): boolean {
  * a model that does not derive fails the study and stops its other batches. The
  * batch that stores the last run completes the study and keeps its figures.
  */
-export const studyBatchJob: JobHandler = async (job, { signal, progress }) => {
-  const input = job.input as unknown as StudyBatchInput;
+export const studyBatchJob: JobHandler = async (job, { signal, progress }) =>
+  runStudyBatch({ ...(job.input as unknown as StudyBatchInput), jobId: job.id, signal, progress });
+
+/**
+ * Runs the pending runs of a study from `from` to `to` − 1 in this process's
+ * simulation pool (the batch job's body; the demo seed runs a whole study
+ * through it). `jobId` is the batch's own job, left alone when the study fails.
+ */
+export async function runStudyBatch({
+  studyId,
+  from,
+  to,
+  jobId,
+  signal = new AbortController().signal,
+  progress = () => undefined,
+}: StudyBatchInput & { jobId?: string; signal?: AbortSignal; progress?: (fraction: number) => void }): Promise<Record<string, unknown>> {
+  const input = { studyId, from, to };
   const study = await startStudyById({ id: input.studyId });
   if (!study || study.state !== "running") return { studyId: input.studyId, runs: 0, skipped: true };
   const pending = await getPendingStudyRunsByStudyIdAndRange({ studyId: study.id, from: input.from, to: input.to });
@@ -44,7 +59,7 @@ export const studyBatchJob: JobHandler = async (job, { signal, progress }) => {
     model = modelFromDocument(documentFromContent(study.content, "Study"));
   } catch (error) {
     const appError = error instanceof AppError ? error : null;
-    await failStudy(study.id, { code: appError?.code ?? "unprocessable:model", message: appError?.message ?? "The model cannot be read." }, { except: job.id });
+    await failStudy(study.id, { code: appError?.code ?? "unprocessable:model", message: appError?.message ?? "The model cannot be read." }, { except: jobId });
     throw error;
   }
   let spec = study.spec;
@@ -69,8 +84,12 @@ export const studyBatchJob: JobHandler = async (job, { signal, progress }) => {
       },
     };
     let outcome: RunOutcome;
+    // One signal per run, tied to the batch's: the pool leaves its listener on the signal it is given.
+    const runSignal = new AbortController();
+    const forward = () => runSignal.abort();
+    signal.addEventListener("abort", forward, { once: true });
     try {
-      const output = await getSimulationPool().run<StudyRunTaskOutput>("studyRun", payload, { timeoutMs: timeLimitMs + SETUP_ALLOWANCE_MS, signal });
+      const output = await getSimulationPool().run<StudyRunTaskOutput>("studyRun", payload, { timeoutMs: timeLimitMs + SETUP_ALLOWANCE_MS, signal: runSignal.signal });
       outcome = output.ok ? output : { failure: { reason: "setup", message: output.error.field ? `${output.error.field}: ${output.error.message}` : output.error.message } };
     } catch (error) {
       if (error instanceof EngineLimitError && error.limit === "cancelled") break;
@@ -79,11 +98,13 @@ export const studyBatchJob: JobHandler = async (job, { signal, progress }) => {
       } else if (error instanceof EngineLimitError && error.limit === "memory") {
         outcome = { failure: { reason: "memory", message: "The run ran out of memory and was stopped." } };
       } else if (isModelProblem(error)) {
-        await failStudy(study.id, { code: "unprocessable:model", message: error instanceof Error ? error.message : String(error) }, { except: job.id });
+        await failStudy(study.id, { code: "unprocessable:model", message: error instanceof Error ? error.message : String(error) }, { except: jobId });
         throw new AppError("unprocessable:model", error instanceof Error ? error.message : String(error), { cause: error });
       } else {
         throw error;
       }
+    } finally {
+      signal.removeEventListener("abort", forward);
     }
     if ("failure" in outcome) {
       await finishStudyRunByKey({
@@ -116,7 +137,7 @@ export const studyBatchJob: JobHandler = async (job, { signal, progress }) => {
   if (signal.aborted) throw new AppError("conflict:job", "The study was cancelled.");
   await completeIfFinished(study.id);
   return { studyId: study.id, runs: stored };
-};
+}
 
 /** Fills in the units of watched multipliers the first time a worker has derived them. */
 async function withMultiplierUnits(study: Study, spec: Study["spec"], units: Record<string, string>): Promise<Study["spec"]> {

@@ -74,10 +74,10 @@ function studyCellOf(content: unknown, title: string, cellId: string): StudyCell
 
 /**
  * Reads the study cell from the derivation's current content, checks it
- * against the model, records the study with all its runs pending and queues
- * its batches. A cell that cannot run is a 400 with its field errors.
+ * against the model and records the study with all its runs pending (not yet
+ * queued). A cell that cannot run is a 400 with its field errors.
  */
-export async function queueStudy({ derivation, userId, cellId }: { derivation: Derivation; userId: string; cellId: string }): Promise<Study> {
+export async function recordStudy({ derivation, userId, cellId }: { derivation: Derivation; userId: string; cellId: string }): Promise<Study> {
   const cell = studyCellOf(derivation.content, derivation.title, cellId);
   const model = modelFromDocument(documentFromContent(derivation.content, derivation.title));
   let spec: StudySpec;
@@ -91,7 +91,7 @@ export async function queueStudy({ derivation, userId, cellId }: { derivation: D
   // The revision the study was queued on: the latest one, when it holds exactly this content.
   const latest = await getLatestRevisionByDerivationId({ derivationId: derivation.id });
   const revisionId = latest && latest.contentHash === contentHash(derivation.content) ? latest.id : null;
-  const study = await createStudyWithRuns({
+  return createStudyWithRuns({
     study: {
       id: randomUUID(),
       derivationId: derivation.id,
@@ -107,10 +107,15 @@ export async function queueStudy({ derivation, userId, cellId }: { derivation: D
     },
     runs: runs.map((run) => ({ runIndex: run.index, caseIndex: run.caseIndex, caseName: run.caseName, parameters: run.parameters })),
   });
-  const size = batchSizeOf(runs.length);
+}
+
+/** Records a study (see `recordStudy`) and queues its batches for the queue workers. */
+export async function queueStudy({ derivation, userId, cellId }: { derivation: Derivation; userId: string; cellId: string }): Promise<Study> {
+  const study = await recordStudy({ derivation, userId, cellId });
+  const size = batchSizeOf(study.total);
   try {
-    for (let from = 0; from < runs.length; from += size) {
-      const input: StudyBatchInput = { studyId: study.id, from, to: Math.min(runs.length, from + size) };
+    for (let from = 0; from < study.total; from += size) {
+      const input: StudyBatchInput = { studyId: study.id, from, to: Math.min(study.total, from + size) };
       await getJobQueue().enqueue({ kind: "study", derivationId: derivation.id, userId, input: { ...input } });
     }
   } catch (error) {
