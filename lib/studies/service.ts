@@ -42,6 +42,8 @@ import { studyListItem, type StudyRunView, type StudyView } from "./views";
 const BATCH_BUDGET_MS = 10 * 60_000;
 /** Batches a study is split into when it has enough runs, so that many workers share it and the last batch is short. */
 const TARGET_BATCHES = 40;
+/** Batches of a small study: enough for a few workers to share it, few enough that each batch outlasts the queue's polling. */
+const SMALL_STUDY_BATCHES = 4;
 
 /** Wall-clock limit of one run of a study: the server's simulation limit. */
 export function studyRunTimeLimitMs(): number {
@@ -49,13 +51,17 @@ export function studyRunTimeLimitMs(): number {
 }
 
 /**
- * Runs per queue job. pg-boss costs a few database round trips per job, far
- * more than nothing beside a 50 ms run, so runs go in batches; but a study of
- * a few runs is split one per job so that every worker takes part.
+ * Runs per queue job. pg-boss costs a few database round trips per job and a
+ * worker polls again at most every half second, far more than nothing beside a
+ * 50 ms run, so runs go in batches: about 40 of them for a large study, 4 for
+ * a small one, and never more runs than fit the queue's expiry at their time limit.
+ *
+ * @example batchSizeOf(1000) // 25
  */
 export function batchSizeOf(total: number, runLimitMs = studyRunTimeLimitMs()): number {
   const byBudget = Math.max(1, Math.floor(BATCH_BUDGET_MS / runLimitMs));
-  return Math.max(1, Math.min(byBudget, Math.ceil(total / TARGET_BATCHES)));
+  const wanted = Math.max(Math.ceil(total / TARGET_BATCHES), Math.min(8, Math.ceil(total / SMALL_STUDY_BATCHES)));
+  return Math.max(1, Math.min(byBudget, wanted));
 }
 
 /** The batch jobs' input: which study, which runs (from … to − 1). */
