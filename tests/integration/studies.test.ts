@@ -12,9 +12,12 @@ import * as cancelRoute from "@/app/api/derivations/[id]/studies/[studyId]/cance
 import * as csvRoute from "@/app/api/derivations/[id]/studies/[studyId]/csv/route";
 import * as openRoute from "@/app/api/derivations/[id]/studies/[studyId]/runs/[index]/open/route";
 import { closeDatabase } from "@/db/client";
-import { createDerivation } from "@/db/queries/derivations";
+import { createDerivation, getDerivationById } from "@/db/queries/derivations";
+import { createCheckpoint } from "@/db/queries/revisions";
 import { getOpenStudyJobsByStudyId } from "@/db/queries/studies";
+import { revisionReport } from "@/lib/history/views";
 import { closeJobQueue } from "@/lib/jobs/boss";
+import { closeEnginePool } from "@/lib/workers/engine-pool";
 import type { JobJson } from "@/lib/jobs/views";
 import type { Model } from "@/lib/mechanics";
 import { DEFAULT_STUDY_SETTINGS, createCell, modelToDocument, type StudySettings } from "@/lib/notebook/document";
@@ -130,6 +133,7 @@ beforeAll(async () => {
 afterAll(async () => {
   await Promise.all(workers.map(stopWorker));
   await closeJobQueue();
+  await closeEnginePool();
   await closeDatabase();
 }, 60_000);
 
@@ -188,6 +192,29 @@ describe("parameter studies through the queue", () => {
     const items = ((await list.json()) as { studies: StudyListItem[] }).studies;
     expect(items.map((item) => item.id)).toEqual([study.id]);
     expect(items[0]).not.toHaveProperty("runs");
+  }, 300_000);
+
+  it("prints the latest completed study in the report of the revision it ran on", async () => {
+    const { id, cellId } = await studyDerivation({
+      parameters: [{ name: "m", values: "5, 10", distribution: "uniform", min: "", max: "", mean: "", sd: "" }],
+      cases: [releases[0]!],
+      endTime: "1",
+      outputStep: "0.005",
+      watch: ["tension"],
+    });
+    const checkpoint = await createCheckpoint({ derivationId: id, name: "Before the study", actorId: kestrel.members.analyst.id });
+    if (!checkpoint.ok) throw new Error("checkpoint refused");
+    const queued = ((await (await queueStudy(id, cellId)).json()) as { study: StudyView }).study;
+    expect(queued.revisionId).toBe(checkpoint.revision.id);
+    await pollStudy(id, queued.id, ended);
+    const report = await revisionReport((await getDerivationById({ id }))!, checkpoint.revision.id);
+    expect(report.studies).toHaveLength(1);
+    const [study] = report.studies;
+    expect(study).toMatchObject({ cellId, mode: "grid", total: 2, failed: 0, onThisRevision: true, cases: ["wide swing"] });
+    expect(study!.worst).toEqual([expect.objectContaining({ name: "tension", unit: "N", caseName: "wide swing", parameters: { m: 10 } })]);
+    expect(study!.worst[0]!.value).toBeCloseTo(bottomTension(10, 0.5, -1.9), 1);
+    // One pair along m: the slope is the bottom tension per kg, g (3 − 2 cos θ0).
+    expect(study!.sensitivity[0]!.byParameter.m!.slope).toBeCloseTo(bottomTension(1, 0.5, -1.9), 1);
   }, 300_000);
 
   it("opens one run of a study as an ordinary server simulation", async () => {
