@@ -154,7 +154,9 @@ async function drive(count: number): Promise<void> {
     const team = await createTeamWithLead({ name: `Study bench ${count}`, leadUserId: user.id });
     const demo = demoDerivations.find((d) => d.title === craneStudyTitle)!;
     const content = validDocumentOrThrow(demo.content, { field: "content", title: demo.title });
-    const cells = content.cells.map((cell) => (cell.id === craneStudyCellId && cell.kind === "study" ? { ...cell, settings: craneStudySettings(samples) } : cell));
+    const cells = content.cells.map((cell) =>
+      cell.id === craneStudyCellId && cell.kind === "study" ? { ...cell, settings: craneStudySettings(samples) } : cell,
+    );
     const created = await createDerivation({ teamId: team.id, title: demo.title, ownerId: user.id, content: { ...content, cells } });
     const derivation = (await getDerivationById({ id: created.id }))!;
     const t0 = performance.now();

@@ -268,9 +268,8 @@ function StudyBlock({ study }: { study: RevisionReport["studies"][number] }) {
     <div className="space-y-2" data-testid="report-study">
       <h3 className="font-semibold">{study.title}</h3>
       <p className="text-sm">
-        {study.mode === "grid" ? "Grid" : "Tolerance"} study of {study.parameters.map((p) => p.name).join(", ") || "the cases"} over{" "}
-        {study.cases.length} case{study.cases.length === 1 ? "" : "s"} ({study.cases.join(", ")}): {study.total} runs, {study.failed} failed;{" "}
-        {formatRecordTime(study.createdAt)}
+        {study.mode === "grid" ? "Grid" : "Tolerance"} study of {study.parameters.map((p) => p.name).join(", ") || "the cases"} over {study.cases.length} case
+        {study.cases.length === 1 ? "" : "s"} ({study.cases.join(", ")}): {study.total} runs, {study.failed} failed; {formatRecordTime(study.createdAt)}
         {study.onThisRevision ? ", on this revision." : ", on other content than this revision's."}
       </p>
       <Table

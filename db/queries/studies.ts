@@ -1,7 +1,18 @@
 import "server-only";
 import { and, asc, desc, eq, getTableColumns, gte, inArray, lt, sql } from "drizzle-orm";
 import { db, type Executor } from "../client";
-import { jobs, studies, studyRuns, users, type NewStudy, type NewStudyRun, type Study, type StudyAggregate, type StudyRun, type StudyRunStatus } from "../schema";
+import {
+  jobs,
+  studies,
+  studyRuns,
+  users,
+  type NewStudy,
+  type NewStudyRun,
+  type Study,
+  type StudyAggregate,
+  type StudyRun,
+  type StudyRunStatus,
+} from "../schema";
 
 /** A study as lists show it: without its content and figures. */
 export type StudySummary = Omit<Study, "content" | "aggregate"> & { createdByName: string | null };
@@ -30,7 +41,13 @@ export async function getStudyById({ id }: { id: string }, executor: Executor = 
   return row ?? null;
 }
 
-export async function getStudyByIdAndDerivationId({ id, derivationId }: { id: string; derivationId: string }): Promise<(Study & { createdByName: string | null }) | null> {
+export async function getStudyByIdAndDerivationId({
+  id,
+  derivationId,
+}: {
+  id: string;
+  derivationId: string;
+}): Promise<(Study & { createdByName: string | null }) | null> {
   const [row] = await db
     .select({ study: studies, createdByName: users.name })
     .from(studies)

@@ -261,7 +261,11 @@ export interface ReportStudy {
   parameters: { name: string; unit: string | null }[];
   cases: string[];
   worst: { name: string; unit: string | null; value: number; time: number; caseName: string; parameters: Record<string, number> }[];
-  sensitivity: { name: string; method: "finite-difference" | "regression"; byParameter: Record<string, { slope: number; normalized: number; r2: number | null }> }[];
+  sensitivity: {
+    name: string;
+    method: "finite-difference" | "regression";
+    byParameter: Record<string, { slope: number; normalized: number; r2: number | null }>;
+  }[];
 }
 
 export interface ReviewSignOff {

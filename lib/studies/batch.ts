@@ -1,5 +1,13 @@
 import "server-only";
-import { finishStudyById, finishStudyRunByKey, getPendingStudyRunsByStudyIdAndRange, getStudyById, getStudyRunsByStudyId, startStudyById, updateStudySpecById } from "@/db/queries/studies";
+import {
+  finishStudyById,
+  finishStudyRunByKey,
+  getPendingStudyRunsByStudyIdAndRange,
+  getStudyById,
+  getStudyRunsByStudyId,
+  startStudyById,
+  updateStudySpecById,
+} from "@/db/queries/studies";
 import type { Study } from "@/db/schema";
 import { AppError } from "@/lib/errors";
 import { documentFromContent, modelFromDocument } from "@/lib/evaluation/document-content";
@@ -18,7 +26,11 @@ type RunOutcome = { summary: RunSummary; multiplierUnits: Record<string, string>
 
 /** A problem of the model itself: every run would meet it, so the whole study fails. */
 function isModelProblem(error: unknown): boolean {
-  return error instanceof ModelError || error instanceof ExpressionError || (error instanceof EngineLimitError && error.limit !== "time" && error.limit !== "memory" && error.limit !== "cancelled");
+  return (
+    error instanceof ModelError ||
+    error instanceof ExpressionError ||
+    (error instanceof EngineLimitError && error.limit !== "time" && error.limit !== "memory" && error.limit !== "cancelled")
+  );
 }
 
 /**
@@ -89,8 +101,13 @@ export async function runStudyBatch({
     const forward = () => runSignal.abort();
     signal.addEventListener("abort", forward, { once: true });
     try {
-      const output = await getSimulationPool().run<StudyRunTaskOutput>("studyRun", payload, { timeoutMs: timeLimitMs + SETUP_ALLOWANCE_MS, signal: runSignal.signal });
-      outcome = output.ok ? output : { failure: { reason: "setup", message: output.error.field ? `${output.error.field}: ${output.error.message}` : output.error.message } };
+      const output = await getSimulationPool().run<StudyRunTaskOutput>("studyRun", payload, {
+        timeoutMs: timeLimitMs + SETUP_ALLOWANCE_MS,
+        signal: runSignal.signal,
+      });
+      outcome = output.ok
+        ? output
+        : { failure: { reason: "setup", message: output.error.field ? `${output.error.field}: ${output.error.message}` : output.error.message } };
     } catch (error) {
       if (error instanceof EngineLimitError && error.limit === "cancelled") break;
       if (error instanceof EngineLimitError && error.limit === "time") {
@@ -110,7 +127,16 @@ export async function runStudyBatch({
       await finishStudyRunByKey({
         studyId: study.id,
         runIndex: run.runIndex,
-        run: { status: "failed", failureReason: outcome.failure.reason, failureMessage: outcome.failure.message, peaks: {}, energyDrift: null, constraintResidual: null, series: null, wallTimeMs: null },
+        run: {
+          status: "failed",
+          failureReason: outcome.failure.reason,
+          failureMessage: outcome.failure.message,
+          peaks: {},
+          energyDrift: null,
+          constraintResidual: null,
+          series: null,
+          wallTimeMs: null,
+        },
       });
     } else {
       const { summary, multiplierUnits } = outcome;
@@ -126,7 +152,11 @@ export async function runStudyBatch({
           peaks: summary.peaks,
           energyDrift: summary.energyDrift,
           constraintResidual: summary.constraintResidual,
-          series: encodeSeries(summary.series, spec.watch.map((w) => w.name), points),
+          series: encodeSeries(
+            summary.series,
+            spec.watch.map((w) => w.name),
+            points,
+          ),
           wallTimeMs: summary.wallTimeMs,
         },
       });

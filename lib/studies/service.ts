@@ -74,7 +74,8 @@ export interface StudyBatchInput {
 function studyCellOf(content: unknown, title: string, cellId: string): StudyCell {
   const document = documentFromContent(content, title);
   const cell = document.cells.find((c) => c.id === cellId);
-  if (!cell || cell.kind !== "study") throw new AppError("not_found:study", "No study cell with this id in the derivation.", { fieldErrors: { cellId: ["No such study cell."] } });
+  if (!cell || cell.kind !== "study")
+    throw new AppError("not_found:study", "No study cell with this id in the derivation.", { fieldErrors: { cellId: ["No such study cell."] } });
   return cell;
 }
 
@@ -222,7 +223,17 @@ export function studyIdOf(text: string): string {
  * Queues an ordinary server simulation of one run of the study: its case,
  * its parameter values and the study's settings, on the content the study ran.
  */
-export async function openStudyRun({ derivation, userId, study, index }: { derivation: Derivation; userId: string; study: Study; index: number }): Promise<Job> {
+export async function openStudyRun({
+  derivation,
+  userId,
+  study,
+  index,
+}: {
+  derivation: Derivation;
+  userId: string;
+  study: Study;
+  index: number;
+}): Promise<Job> {
   const runs = await getStudyRunsByStudyId({ studyId: study.id });
   const run = runs.find((r) => r.runIndex === index);
   if (!run) throw new AppError("not_found:study", "The study has no run with this index.");

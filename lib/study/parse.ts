@@ -194,7 +194,8 @@ export function parseStudy(settings: StudySettings, model: Model): StudySpec {
       }
       try {
         const unknown = [...symbolsOf(parseExpression(expr)).keys()].filter((symbol) => symbol !== TIME && !parameterNames.has(symbol));
-        if (unknown.length > 0) fail(field, `An input is a function of t and the parameters; ${unknown.join(", ")} ${unknown.length === 1 ? "is" : "are"} neither.`);
+        if (unknown.length > 0)
+          fail(field, `An input is a function of t and the parameters; ${unknown.join(", ")} ${unknown.length === 1 ? "is" : "are"} neither.`);
         else inputs[input] = expr;
       } catch (error) {
         if (!(error instanceof ExpressionError)) throw error;
@@ -230,7 +231,10 @@ export function parseStudy(settings: StudySettings, model: Model): StudySpec {
 
   const runCount = samples * settings.cases.length;
   if (Object.keys(errors).length === 0 && runCount > STUDY_LIMITS.runs) {
-    fail(settings.mode === "grid" ? "parameters" : "samples", `${runCount.toLocaleString("en-GB")} runs: at most ${STUDY_LIMITS.runs.toLocaleString("en-GB")} per study.`);
+    fail(
+      settings.mode === "grid" ? "parameters" : "samples",
+      `${runCount.toLocaleString("en-GB")} runs: at most ${STUDY_LIMITS.runs.toLocaleString("en-GB")} per study.`,
+    );
   }
   if (Object.keys(errors).length > 0) throw new StudySettingsError(errors);
   return { mode: settings.mode, samples, seed, parameters, cases, startTime, endTime, outputStep, tolerance, watch, runCount };

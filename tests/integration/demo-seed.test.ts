@@ -48,7 +48,12 @@ describe("the demo seed", () => {
   it("runs the crane's tolerance study once, to completion, with worst cases for the spec sheet", async () => {
     expect(firstRun).toContain(`${craneStudyTitle}: tolerance study completed (80 runs, 0 failed)`);
     expect(secondRun).toContain(`${craneStudyTitle}: tolerance study already there`);
-    const studies = await rows<{ state: string; total: number; done: number; worst: Record<string, { value: number; parameters: Record<string, number> }> }>(sql`
+    const studies = await rows<{
+      state: string;
+      total: number;
+      done: number;
+      worst: Record<string, { value: number; parameters: Record<string, number> }>;
+    }>(sql`
       select s.state, s.total, s.done, s.aggregate->'worst' as worst from studies s join derivations d on d.id = s.derivation_id
       where d.title = ${craneStudyTitle} and s.cell_id = ${craneStudyCellId}`);
     expect(studies).toHaveLength(1);

@@ -242,7 +242,8 @@ describe("parameter studies through the queue", () => {
     }
     expect(finished.state).toBe("completed");
     const runId = String(finished.result!.runId);
-    const run = ((await (await runRoute.GET(jsonRequest(`/api/derivations/${id}/runs/${runId}`, "GET"), params({ id, runId }))).json()) as { run: RunJson }).run;
+    const run = ((await (await runRoute.GET(jsonRequest(`/api/derivations/${id}/runs/${runId}`, "GET"), params({ id, runId }))).json()) as { run: RunJson })
+      .run;
     expect(run.settings.label).toBe("Study run 1 (wide swing)");
     expect(run.summary.parameterValues?.m).toBe(8);
   }, 300_000);

@@ -152,7 +152,10 @@ describe("parseStudy", () => {
 
   it("refuses more runs than a study may have, and a symbolic parameter left unvaried", () => {
     const tooMany = fieldErrorsOf(() =>
-      parseStudy(settings({ parameters: [parameter({ name: "l", values: "1:2:1000" }), parameter({ name: "m", values: "1:2:6" })], watch: ["x"] }), ropePendulum),
+      parseStudy(
+        settings({ parameters: [parameter({ name: "l", values: "1:2:1000" }), parameter({ name: "m", values: "1:2:6" })], watch: ["x"] }),
+        ropePendulum,
+      ),
     );
     expect(tooMany.parameters![0]).toBe("6,000 runs: at most 5,000 per study.");
     const symbolic = { ...ropePendulum, parameters: ropePendulum.parameters.map((p) => (p.name === "g" ? { name: "g", unit: "m/s^2" } : p)) };

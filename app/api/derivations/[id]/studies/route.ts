@@ -23,7 +23,11 @@ export const GET = derivationRoute<Params>("derivation:read", async ({ request, 
  * 202 with the study; GET …/studies/[studyId] follows it.
  */
 export const POST = derivationRoute<Params>("derivation:simulate", async ({ request, user, derivation }) => {
-  await enforceRateLimits([[rateLimits.simulateByUser, user.id]], "rate_limited:simulation", "Too many simulations in a short time. Wait a moment and try again.");
+  await enforceRateLimits(
+    [[rateLimits.simulateByUser, user.id]],
+    "rate_limited:simulation",
+    "Too many simulations in a short time. Wait a moment and try again.",
+  );
   const { cellId } = parseOrThrow(queueStudySchema, await readJson(request));
   const queued = await queueStudy({ derivation, userId: user.id, cellId });
   const study = await getStudyByIdAndDerivationId({ id: queued.id, derivationId: derivation.id });

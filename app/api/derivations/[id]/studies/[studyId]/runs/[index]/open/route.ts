@@ -16,7 +16,11 @@ export const POST = derivationRoute<Params>("derivation:simulate", async ({ user
   const study = await getStudyByIdAndDerivationId({ id: studyIdOf(params.studyId), derivationId: derivation.id });
   if (!study) throw new AppError("not_found:study", "Study not found.");
   if (!/^\d{1,5}$/.test(params.index)) throw new AppError("not_found:study", "The study has no run with this index.");
-  await enforceRateLimits([[rateLimits.simulateByUser, user.id]], "rate_limited:simulation", "Too many simulations in a short time. Wait a moment and try again.");
+  await enforceRateLimits(
+    [[rateLimits.simulateByUser, user.id]],
+    "rate_limited:simulation",
+    "Too many simulations in a short time. Wait a moment and try again.",
+  );
   const job = await openStudyRun({ derivation, userId: user.id, study, index: Number(params.index) });
   return Response.json({ job: jobView(job) }, { status: 202 });
 });
