@@ -189,3 +189,12 @@ export async function getOpenStudyJobsByStudyId({ studyId }: { studyId: string }
     .where(and(eq(jobs.kind, "study"), sql`${jobs.input}->>'studyId' = ${studyId}`, inArray(jobs.state, ["queued", "running"])));
   return rows.map((row) => ({ id: row.id, kind: "study" as const }));
 }
+
+/** Mean wall time of a study's finished runs' integrations, ms (the benchmark tells compute from queue overhead with it). */
+export async function getMeanRunWallTimeByStudyId({ studyId }: { studyId: string }): Promise<number | null> {
+  const [row] = await db
+    .select({ mean: sql<number | null>`avg(${studyRuns.wallTimeMs})::float8` })
+    .from(studyRuns)
+    .where(eq(studyRuns.studyId, studyId));
+  return row?.mean ?? null;
+}
