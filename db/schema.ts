@@ -10,13 +10,15 @@ import {
   jsonb,
   pgEnum,
   pgTable,
+  primaryKey,
   text,
   timestamp,
   uniqueIndex,
   uuid,
 } from "drizzle-orm/pg-core";
 import type { EvaluationResult } from "@/lib/evaluation/evaluate";
-import type { StoredDocument } from "@/lib/notebook/document";
+import type { StoredDocument, StudySettings } from "@/lib/notebook/document";
+import type { PeakSummary, StudySpec } from "@/lib/study";
 import type { ViewPreferences } from "@/lib/notebook/view-preferences";
 import { derivationStatuses, memberRoles, type DerivationStatus, type MemberRole } from "@/lib/domain";
 
@@ -527,12 +529,13 @@ export type IdempotencyKey = typeof idempotencyKeys.$inferSelect;
 
 // ---------------------------------------------------------------------------
 // Background jobs (robust slice). Heavy work (server simulations, parameter fits,
-// evaluations of large models, rendered reports) runs in queue workers (pg-boss,
+// evaluations of large models, rendered reports,
+// batches of parameter-study runs) runs in queue workers (pg-boss,
 // its own `pgboss` schema) rather than in the web process. This table is the job
 // as people see it: who asked, for which derivation, its state, progress and
 // answer; the row's id is the pg-boss job id. A new kind: append it here (and a
 // migration adding the enum value), then a handler in lib/jobs/handlers.ts.
-export const jobKinds = ["simulation", "fit", "evaluation", "report"] as const;
+export const jobKinds = ["simulation", "fit", "study", "evaluation", "report"] as const;
 export type JobKind = (typeof jobKinds)[number];
 export const jobKind = pgEnum("job_kind", jobKinds);
 export const jobStates = ["queued", "running", "completed", "failed", "cancelled"] as const;
@@ -694,3 +697,86 @@ export const notificationSettings = pgTable("notification_settings", {
   ...timestamps,
 });
 export type NotificationSettings = typeof notificationSettings.$inferSelect;
+
+// ---------------------------------------------------------------------------
+// Parameter studies (issue 14). A study is one run of a study cell: the cell's
+// settings as typed, their numbers (`spec`), the content it ran (so a worker on
+// any machine runs what was queued, whatever the document becomes) and the
+// revision the derivation stood at when it was queued (null when the content
+// had changed since its latest revision). Its runs are rows of `study_runs`,
+// all written at queueing as `pending` and each finished by the queue worker
+// that ran it, with its extremes and its watched series on the study's common
+// grid (at most 500 points, float32, watch order). The queue's batches are
+// `jobs` rows of kind `study` whose input names the study and the run range.
+
+export const studyStates = ["queued", "running", "completed", "cancelled", "failed"] as const;
+export type StudyState = (typeof studyStates)[number];
+export const studyState = pgEnum("study_state", studyStates);
+export const studyRunStatuses = ["pending", "done", "failed"] as const;
+export type StudyRunStatus = (typeof studyRunStatuses)[number];
+export const studyRunStatus = pgEnum("study_run_status", studyRunStatuses);
+
+/** What a completed study's figures were: kept so a finished study is read without its runs' series. */
+export interface StudyAggregate {
+  envelope: unknown;
+  worst: unknown;
+  sensitivity: unknown;
+}
+
+export const studies = pgTable(
+  "studies",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    derivationId: uuid("derivation_id")
+      .notNull()
+      .references(() => derivations.id, { onDelete: "cascade" }),
+    cellId: text("cell_id").notNull(),
+    revisionId: uuid("revision_id").references(() => revisions.id, { onDelete: "set null" }),
+    state: studyState("state").notNull().default("queued"),
+    mode: text("mode").$type<StudySpec["mode"]>().notNull(),
+    settings: jsonb("settings").$type<StudySettings>().notNull(),
+    spec: jsonb("spec").$type<StudySpec>().notNull(),
+    /** The derivation's content when the study was queued: the model its runs use, and a run opened from it. */
+    content: jsonb("content").$type<Record<string, unknown>>().notNull(),
+    modelHash: text("model_hash").notNull(),
+    total: integer("total").notNull(),
+    done: integer("done").notNull().default(0),
+    failed: integer("failed").notNull().default(0),
+    /** The whole study failed (the model did not derive, say): not one run. */
+    error: jsonb("error").$type<{ code: string; message: string }>(),
+    aggregate: jsonb("aggregate").$type<StudyAggregate>(),
+    createdById: uuid("created_by_id").references(() => users.id, { onDelete: "set null" }),
+    startedAt: timestamp("started_at", { withTimezone: true }),
+    finishedAt: timestamp("finished_at", { withTimezone: true }),
+    ...timestamps,
+  },
+  (table) => [index("studies_derivation_cell_idx").on(table.derivationId, table.cellId, table.createdAt)],
+);
+export type Study = typeof studies.$inferSelect;
+export type NewStudy = typeof studies.$inferInsert;
+
+export const studyRuns = pgTable(
+  "study_runs",
+  {
+    studyId: uuid("study_id")
+      .notNull()
+      .references(() => studies.id, { onDelete: "cascade" }),
+    runIndex: integer("run_index").notNull(),
+    caseIndex: integer("case_index").notNull(),
+    caseName: text("case_name").notNull(),
+    parameters: jsonb("parameters").$type<Record<string, number>>().notNull(),
+    status: studyRunStatus("status").notNull().default("pending"),
+    failureReason: text("failure_reason"),
+    failureMessage: text("failure_message"),
+    peaks: jsonb("peaks").$type<Record<string, PeakSummary>>().notNull().default({}),
+    energyDrift: doublePrecision("energy_drift"),
+    constraintResidual: doublePrecision("constraint_residual"),
+    /** Watched values at the common grid points: float32 little-endian, one block per watched name in watch order. */
+    series: bytea("series"),
+    wallTimeMs: doublePrecision("wall_time_ms"),
+    ...timestamps,
+  },
+  (table) => [primaryKey({ columns: [table.studyId, table.runIndex] })],
+);
+export type StudyRun = typeof studyRuns.$inferSelect;
+export type NewStudyRun = typeof studyRuns.$inferInsert;

@@ -44,6 +44,7 @@ export type ErrorSurface =
   | "archive"
   | "origin"
   | "job"
+  | "study"
   | "comment";
 
 export type ErrorCode = `${ErrorKind}:${ErrorSurface}`;

@@ -10,6 +10,7 @@ import { hashPassword } from "@/lib/auth/password";
 import { AppError } from "@/lib/errors";
 import { validDocumentOrThrow } from "@/lib/evaluation/document-content";
 import { seedDemoEvaluations } from "./lib/seed-evaluations";
+import { seedDemoStudy } from "./lib/seed-study";
 import { approveDemoDerivation, ensureDemoApiToken, prefillApprovedResults } from "./lib/seed-public-api";
 
 async function main(): Promise<void> {
@@ -72,6 +73,7 @@ async function main(): Promise<void> {
   const evaluated = await seedDemoEvaluations({ teamId: team.id, titles: demoDerivations.map((d) => d.title) });
   for (const line of evaluated) console.log(`[holonomy]   ${line}`);
   for (const id of approvedIds) console.log(`[holonomy]   ${await prefillApprovedResults({ teamId: team.id, derivationId: id })}`);
+  console.log(`[holonomy]   ${await seedDemoStudy({ teamId: team.id, userId: idOfRole("analyst") })}`);
 }
 
 main()

@@ -213,6 +213,57 @@ function RunBlock({ run, index }: { run: ReportRun; index: number }) {
   );
 }
 
+function withUnit(name: string, unit: string | null): string {
+  return unit ? `${name} [${unit}]` : name;
+}
+
+/** Each study cell's latest completed study: its worst cases and the sensitivity of each peak. */
+function StudyBlock({ study }: { study: RevisionReport["studies"][number] }) {
+  const parameterUnit = new Map(study.parameters.map((p) => [p.name, p.unit]));
+  return (
+    <div className="space-y-2" data-testid="report-study">
+      <h3 className="font-semibold">{study.title}</h3>
+      <p className="text-sm">
+        {study.mode === "grid" ? "Grid" : "Tolerance"} study of {study.parameters.map((p) => p.name).join(", ") || "the cases"} over {study.cases.length} case
+        {study.cases.length === 1 ? "" : "s"} ({study.cases.join(", ")}): {study.total} runs, {study.failed} failed; {formatRecordTime(study.createdAt)}
+        {study.onThisRevision ? ", on this revision." : ", on other content than this revision's."}
+      </p>
+      <Table
+        label={`Worst cases of ${study.title}`}
+        head={["Watched", "Worst peak", "Time [s]", "Case", "Parameters"]}
+        rows={study.worst.map((w) => [
+          withUnit(w.name, w.unit),
+          formatValue(w.value),
+          formatValue(w.time),
+          w.caseName,
+          Object.entries(w.parameters)
+            .map(([name, value]) => `${name} = ${formatValue(value)}${parameterUnit.get(name) ? ` ${parameterUnit.get(name)}` : ""}`)
+            .join(", "),
+        ])}
+      />
+      {study.parameters.length > 0 ? (
+        <Table
+          label={`Sensitivity of ${study.title}`}
+          head={["Peak of", ...study.parameters.map((p) => `${p.name}: slope · normalized${study.mode === "tolerance" ? " · r²" : ""}`)]}
+          rows={study.sensitivity.map((entry) => [
+            entry.name,
+            ...study.parameters.map((p) => {
+              const value = entry.byParameter[p.name];
+              if (!value) return "—";
+              return [formatValue(value.slope), formatValue(value.normalized), ...(value.r2 === null ? [] : [formatValue(value.r2)])].join(" · ");
+            }),
+          ])}
+        />
+      ) : null}
+      <p className="text-xs text-muted">
+        Peaks are the largest magnitude of each watched quantity over a run. Sensitivity is of the peak&apos;s magnitude:{" "}
+        {study.mode === "grid" ? "finite differences along the grid" : "least squares over the sampled runs, one level per case"}; normalized = slope ×
+        parameter spread / peak spread. Failed runs are left out.
+      </p>
+    </div>
+  );
+}
+
 function ThreadBlock({ thread }: { thread: ReportThread }) {
   return (
     <article className="hn-report-thread space-y-1 rounded border border-line p-3 text-sm" data-testid="report-thread" data-status={thread.status}>
@@ -459,6 +510,14 @@ export function ReportView({
             {report.otherRuns} other stored run{report.otherRuns === 1 ? "" : "s"} of this derivation used another version of the model and{" "}
             {report.otherRuns === 1 ? "is" : "are"} not shown.
           </p>
+        ) : null}
+        {report.studies.length > 0 ? (
+          <div className="space-y-4" data-testid="report-studies">
+            <h3 className="text-base font-semibold">Parameter studies</h3>
+            {report.studies.map((study) => (
+              <StudyBlock key={study.cellId} study={study} />
+            ))}
+          </div>
         ) : null}
       </Section>
 

@@ -3,7 +3,7 @@
 // plausible round numbers chosen for the demo, not measured data.
 import type { DerivationStatus, MemberRole } from "@/lib/domain";
 import type { Model } from "@/lib/mechanics";
-import { createCell, modelToDocument, type Cell, type DerivationDocument, type StoredDocument } from "@/lib/notebook/document";
+import { createCell, modelToDocument, type Cell, type DerivationDocument, type StoredDocument, type StudySettings } from "@/lib/notebook/document";
 
 export const demoPassword = "kestrel-demo-2041";
 export const demoTeam = { name: "Kestrel Lift & Motion", slug: "kestrel-lift-motion" };
@@ -141,8 +141,63 @@ const craneRopeTension: Model = {
   outputs: [
     { name: "rope_tension", expr: "-2*l*lambda_rope", unit: "N", description: "pull in the hoist rope" },
     { name: "trolley_side_load", expr: "-2*lambda_rope*(xl - x)", unit: "N", description: "horizontal pull of the rope on the trolley" },
+    { name: "rope_angle", expr: "atan((xl - x)/(-yl))", unit: "rad", description: "rope angle from the vertical (load below the trolley)" },
   ],
 };
+
+/** Title of the demo derivation that holds the crane's tolerance study (scripts/seed.ts seeds a completed study of it). */
+export const craneStudyTitle = craneRopeTension.title;
+/** Cell id of the crane's tolerance study. */
+export const craneStudyCellId = "cranerope-study";
+
+/**
+ * A traverse force that accelerates trolley and load together at `accel` from
+ * `start` for `span` seconds, and brakes them at the same rate from `brake`;
+ * `ramp` (s) softens each change of force (tanh edges).
+ */
+function traverseProfile({ accel, start, span, brake, ramp }: { accel: number; start: number; span: number; brake: number; ramp: number }): string {
+  const pulse = (from: number, to: number) => `(tanh((t - ${from})/${ramp}) - tanh((t - ${to})/${ramp}))/2`;
+  return `(M + m)*${accel}*(${pulse(start, start + span)} - ${pulse(brake, brake + span)})`;
+}
+
+/**
+ * The crane's tolerance study: rope length within ±5 % of 6.5 m, load from
+ * 0.5 t to the rated 2 t (both uniform), under a gentle and a hard traverse
+ * start and stop (our own numbers), watching the rope angle and tension the
+ * spec sheet quotes. `samples` per case (the demo keeps it small; the study
+ * benchmark runs 500 per case).
+ */
+export function craneStudySettings(samples = 40): StudySettings {
+  const hanging = { x: "0", xl: "0", yl: "-6.5" };
+  return {
+    mode: "tolerance",
+    samples: String(samples),
+    seed: "2041",
+    parameters: [
+      { name: "l", values: "", distribution: "uniform", min: "6.175", max: "6.825", mean: "", sd: "" },
+      { name: "m", values: "", distribution: "uniform", min: "500", max: "2000", mean: "", sd: "" },
+    ],
+    cases: [
+      {
+        name: "gentle start and stop",
+        initialCoordinates: hanging,
+        initialRates: {},
+        inputs: { F: traverseProfile({ accel: 0.25, start: 0.5, span: 3, brake: 5.5, ramp: 0.6 }) },
+      },
+      {
+        name: "hard start and stop",
+        initialCoordinates: hanging,
+        initialRates: {},
+        inputs: { F: traverseProfile({ accel: 0.6, start: 0.5, span: 1.5, brake: 6, ramp: 0.1 }) },
+      },
+    ],
+    startTime: "0",
+    endTime: "10",
+    outputStep: "0.01",
+    tolerance: "1e-8",
+    watch: ["rope_angle", "rope_tension"],
+  };
+}
 
 /** The rope-tension notebook: the model, a simulation of a swing released at 0.15 rad with the drive idle, and its loads. */
 function ropeTensionNotebook(): DerivationDocument {
@@ -171,7 +226,19 @@ function ropeTensionNotebook(): DerivationDocument {
       { x: "xl", y: "yl" },
     ],
   };
-  return { ...doc, cells: [...doc.cells, simulation] };
+  const studyNote = createCell("note", "cranerope-study-note");
+  studyNote.markdown = [
+    "**Tolerance study for the spec sheet.** The rope length varies within ±5 % of 6.5 m and the load from 0.5 t to the rated 2 t,",
+    "under a gentle traverse (0.25 m/s² with soft edges) and a hard one (0.6 m/s², sharp edges). The worst rope angle and tension",
+    "below feed the sheave and rope selection, before dynamic factors.",
+    "",
+    "> These figures come from a model. They do not replace the applicable crane codes and standards, nor the sign-off of a",
+    "> qualified engineer: check them against tests before they size hardware or decide anything that bears on safety.",
+  ].join("\n");
+  const study = createCell("study", craneStudyCellId);
+  study.title = "Tolerance study: rope length, load and traverse";
+  study.settings = craneStudySettings();
+  return { ...doc, cells: [...doc.cells, simulation, studyNote, study] };
 }
 
 /**

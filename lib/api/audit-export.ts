@@ -2,7 +2,7 @@ import "server-only";
 import { recordAuditEvent } from "@/db/queries/audit";
 
 /** What a person took out of Holonomy: the formats the export routes write. */
-export type ExportFormat = "model" | "latex" | "code" | "trajectory-csv" | "recovered-model" | "notebook-archive";
+export type ExportFormat = "model" | "latex" | "code" | "trajectory-csv" | "recovered-model" | "notebook-archive" | "study-csv";
 
 /**
  * Records `derivation.export` once the file is ready: leads see in the audit

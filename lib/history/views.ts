@@ -2,13 +2,15 @@ import "server-only";
 import { getApprovalsByRevisionIds, getReviewStateByDerivationId } from "@/db/queries/reviews";
 import { getRevisionByDerivationIdAndId, getRevisionsByDerivationId, type RevisionSummary } from "@/db/queries/revisions";
 import { getSimulationRunByIdAndDerivationId, getSimulationRunsByDerivationId } from "@/db/queries/runs";
+import { getLatestCompletedStudiesByDerivationId } from "@/db/queries/studies";
 import { getMembersByTeamId } from "@/db/queries/teams";
 import type { Derivation, Revision, RevisionKind, StoredTrajectory } from "@/db/schema";
 import { documentFromContent, modelFromDocument } from "@/lib/evaluation/document-content";
 import type { EvaluationResult } from "@/lib/evaluation/evaluate";
 import { evaluateDocumentCached } from "@/lib/evaluation/service";
 import { AppError, toAppError } from "@/lib/errors";
-import type { DerivationDocument } from "@/lib/notebook/document";
+import { CELL_LABELS, type DerivationDocument } from "@/lib/notebook/document";
+import type { Sensitivity, WorstCase } from "@/lib/study";
 import { modelHashOf, trajectoryOfRun } from "@/lib/runs/service";
 import { decimate, decimationStride } from "@/lib/runs/trajectory";
 import { contentHash } from "./content-hash";
@@ -257,6 +259,26 @@ export interface ReportRun {
   trajectory: Pick<StoredTrajectory, "coordinateNames" | "times" | "coordinates"> | null;
 }
 
+/** The latest completed study of a study cell, as the report prints it. */
+export interface ReportStudy {
+  cellId: string;
+  title: string;
+  mode: "grid" | "tolerance";
+  createdAt: string;
+  total: number;
+  failed: number;
+  /** The study ran on exactly this revision's content. */
+  onThisRevision: boolean;
+  parameters: { name: string; unit: string | null }[];
+  cases: string[];
+  worst: { name: string; unit: string | null; value: number; time: number; caseName: string; parameters: Record<string, number> }[];
+  sensitivity: {
+    name: string;
+    method: "finite-difference" | "regression";
+    byParameter: Record<string, { slope: number; normalized: number; r2: number | null }>;
+  }[];
+}
+
 export interface ReviewSignOff {
   reviewerName: string | null;
   decision: "pending" | "signed_off" | "changes_requested";
@@ -271,6 +293,8 @@ export interface RevisionReport {
   runs: ReportRun[];
   /** Stored runs of this derivation that used another version of the model. */
   otherRuns: number;
+  /** Each study cell's latest completed study. */
+  studies: ReportStudy[];
   approvals: ApprovalView[];
   /** Reviewers of the review request made for this revision, if one was. */
   review: { requestedByName: string | null; requestedAt: string; message: string; reviewers: ReviewSignOff[] } | null;
@@ -325,6 +349,34 @@ async function reportRuns(derivationId: string, modelHash: string): Promise<{ ru
   return { runs, otherRuns: all.length - mine.length };
 }
 
+/** The latest completed study of each study cell of the document, in the document's order. */
+async function reportStudies(derivationId: string, document: DerivationDocument, revisionId: string): Promise<ReportStudy[]> {
+  const cells = document.cells.filter((cell) => cell.kind === "study");
+  if (cells.length === 0) return [];
+  const latest = new Map((await getLatestCompletedStudiesByDerivationId({ derivationId })).map((study) => [study.cellId, study]));
+  return cells.flatMap((cell): ReportStudy[] => {
+    const study = latest.get(cell.id);
+    if (!study) return [];
+    const figures = (study.aggregate ?? {}) as { worst?: Record<string, WorstCase>; sensitivity?: Record<string, Sensitivity> };
+    const unitOf = new Map(study.spec.watch.map((w) => [w.name, w.unit]));
+    return [
+      {
+        cellId: cell.id,
+        title: cell.title?.trim() || CELL_LABELS.study,
+        mode: study.mode,
+        createdAt: study.createdAt.toISOString(),
+        total: study.total,
+        failed: study.failed,
+        onThisRevision: study.revisionId === revisionId,
+        parameters: study.spec.parameters.map((p) => ({ name: p.name, unit: p.unit })),
+        cases: study.spec.cases.map((c) => c.name),
+        worst: Object.entries(figures.worst ?? {}).map(([name, worst]) => ({ name, unit: unitOf.get(name) ?? null, ...worst })),
+        sensitivity: Object.entries(figures.sensitivity ?? {}).map(([name, entry]) => ({ name, ...entry })),
+      },
+    ];
+  });
+}
+
 /** Everything the printable report of one revision shows. */
 export async function revisionReport(derivation: Derivation, revisionId: string, evaluate: RevisionEvaluator = defaultEvaluator): Promise<RevisionReport> {
   const [revision, nameOf, state] = await Promise.all([
@@ -345,6 +397,7 @@ export async function revisionReport(derivation: Derivation, revisionId: string,
     // A document whose model does not convert has no runs of its own.
     if (!(error instanceof AppError && error.kind === "unprocessable")) throw error;
   }
+  const studies = await reportStudies(derivation.id, document, revision.id);
   const approvals = (await getApprovalsByRevisionIds({ revisionIds: [revision.id] }))
     .sort((a, b) => b.approvedAt.getTime() - a.approvedAt.getTime())
     .map((approval) => approvalView(approval, nameOf));
@@ -355,6 +408,7 @@ export async function revisionReport(derivation: Derivation, revisionId: string,
     evaluation,
     runs,
     otherRuns,
+    studies,
     approvals,
     review: request
       ? {

@@ -10,6 +10,7 @@ import { QUEUED_ENGINE_TASK_MS, watchedRunner } from "@/lib/evaluation/watched-r
 import { renderRevisionReport } from "@/lib/reports/service";
 import { applyFittedValues } from "@/lib/runs/apply-fit";
 import { getEnginePool } from "@/lib/workers/engine-pool";
+import { studyBatchJob } from "@/lib/studies/batch";
 import { fitToMeasuredFile, runAndStoreSimulation, type FitRequest, type RunSettings } from "@/lib/runs/service";
 import type { JobHandler } from "./queue";
 
@@ -113,5 +114,11 @@ export const reportJob: JobHandler = async (job, { signal, progress }) => {
   return { ...result };
 };
 
-/** The handler of each kind of job (a new kind adds its entry; the compiler asks for it). */
-export const JOB_HANDLERS: Record<JobKind, JobHandler> = { simulation: simulationJob, fit: fitJob, evaluation: evaluationJob, report: reportJob };
+/** The handler of each kind of job; a new kind adds its entry (the compiler asks for it). `study` runs one batch of a parameter study (lib/studies/batch.ts). */
+export const JOB_HANDLERS: Record<JobKind, JobHandler> = {
+  simulation: simulationJob,
+  fit: fitJob,
+  evaluation: evaluationJob,
+  report: reportJob,
+  study: studyBatchJob,
+};

@@ -117,7 +117,8 @@ export class JobQueue {
     for (const [kind, handler] of Object.entries(handlers) as [JobKind, JobHandler][]) {
       await this.boss.work<{ jobId: string }>(
         QUEUE_NAMES[kind],
-        { batchSize: 1, pollingIntervalSeconds: this.options.pollingIntervalSeconds },
+        // pg-boss waits out the interval after a job shorter than it: a study's batches poll at its floor, 0.5 s.
+        { batchSize: 1, pollingIntervalSeconds: kind === "study" ? Math.min(0.5, this.options.pollingIntervalSeconds) : this.options.pollingIntervalSeconds },
         async ([delivery]) => {
           if (delivery) await runJob(delivery.data.jobId, handler);
         },

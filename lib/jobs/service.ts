@@ -82,6 +82,8 @@ function timeLimitMs(kind: JobKind): number {
     fit: env.FIT_TIME_LIMIT_MS,
     evaluation: QUEUED_ENGINE_TASK_MS,
     report: QUEUED_ENGINE_TASK_MS,
+    // A study batch runs many simulations; nothing waits for one on a request (the study's routes poll).
+    study: env.SIMULATION_TIME_LIMIT_MS,
   };
   return limits[kind];
 }
@@ -96,6 +98,7 @@ export const QUEUE_ACTION: Record<JobKind, Action> = {
   fit: "derivation:simulate",
   evaluation: "derivation:read",
   report: "derivation:read",
+  study: "derivation:simulate",
 };
 
 /** Waits (reading the job's row) up to the kind's time limit and the allowance; the job as it then stands. */

@@ -6,7 +6,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import * as approvedRoute from "@/app/api/v1/derivations/[id]/approved/route";
 import * as listRoute from "@/app/api/v1/derivations/route";
 import { closeDatabase, db } from "@/db/client";
-import { demoApiToken, demoApiTokenName, demoDerivations, demoTeam, demoUsers } from "@/db/seed/demo";
+import { craneStudyCellId, craneStudyTitle, demoApiToken, demoApiTokenName, demoDerivations, demoTeam, demoUsers } from "@/db/seed/demo";
 import { hashToken } from "@/lib/auth/tokens";
 import { params, resetDatabase } from "./support/fixtures";
 
@@ -45,6 +45,27 @@ afterAll(async () => {
 });
 
 describe("the demo seed", () => {
+  it("runs the crane's tolerance study once, to completion, with worst cases for the spec sheet", async () => {
+    expect(firstRun).toContain(`${craneStudyTitle}: tolerance study completed (80 runs, 0 failed)`);
+    expect(secondRun).toContain(`${craneStudyTitle}: tolerance study already there`);
+    const studies = await rows<{
+      state: string;
+      total: number;
+      done: number;
+      worst: Record<string, { value: number; parameters: Record<string, number> }>;
+    }>(sql`
+      select s.state, s.total, s.done, s.aggregate->'worst' as worst from studies s join derivations d on d.id = s.derivation_id
+      where d.title = ${craneStudyTitle} and s.cell_id = ${craneStudyCellId}`);
+    expect(studies).toHaveLength(1);
+    expect(studies[0]).toMatchObject({ state: "completed", total: 80, done: 80 });
+    // A swinging load pulls more than its weight, m g (3 − 2 cos θ) ≈ m g (1 + θ²) at the bottom of a swing, and the
+    // traverse adds at most a/g = 0.06: within 15 % above m g for swings under 0.25 rad (fact of the trade).
+    const tension = studies[0]!.worst.rope_tension!;
+    expect(tension.value).toBeGreaterThan(tension.parameters.m! * 9.81);
+    expect(tension.value).toBeLessThan(1.15 * tension.parameters.m! * 9.81);
+    expect(Math.abs(studies[0]!.worst.rope_angle!.value)).toBeLessThan(0.25);
+  });
+
   it("approves the demo derivation once, through the analyst's changes, a review and the lead's approval", async () => {
     expect(firstRun).toContain(`${approvedTitle}: approved revision 1`);
     expect(secondRun).toContain(`${approvedTitle}: already approved`);

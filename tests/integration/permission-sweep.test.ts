@@ -20,10 +20,12 @@ import { createJob } from "@/db/queries/jobs";
 import { createCommentThread } from "@/db/queries/comments";
 import { createCheckpoint } from "@/db/queries/revisions";
 import { createSimulationRun } from "@/db/queries/runs";
+import { createStudyWithRuns } from "@/db/queries/studies";
 import { createTeamWithLead, upsertMembership } from "@/db/queries/teams";
 import { createToken } from "@/lib/auth/tokens";
 import type { SessionUser } from "@/lib/auth/session";
-import { blankDocument } from "@/lib/notebook/document";
+import { DEFAULT_STUDY_SETTINGS, blankDocument } from "@/lib/notebook/document";
+import type { StudySpec } from "@/lib/study";
 import { deleteObject, putObject } from "@/lib/storage";
 import { closeJobQueue } from "@/lib/jobs/boss";
 import { closeEnginePool } from "@/lib/workers/engine-pool";
@@ -140,6 +142,12 @@ const routeTable: Record<string, RouteRow> = {
     note: "whoever may simulate may cancel a queued run or fit (the sweep's job is a run); an evaluation or report only by who queued it (job-queue tests)",
   },
   "GET /api/derivations/[id]/jobs/[jobId]/download": { expect: anyMember, note: "the sweep's job is a run: 409, no file, past the gate" },
+  "GET /api/derivations/[id]/studies": { expect: anyMember },
+  "POST /api/derivations/[id]/studies": { expect: roles(ok, ok, ok, 403), note: "running a study is running simulations" },
+  "GET /api/derivations/[id]/studies/[studyId]": { expect: anyMember },
+  "POST /api/derivations/[id]/studies/[studyId]/cancel": { expect: roles(ok, ok, ok, 403), note: "whoever may simulate may cancel a study" },
+  "GET /api/derivations/[id]/studies/[studyId]/csv": { expect: anyMember },
+  "POST /api/derivations/[id]/studies/[studyId]/runs/[index]/open": { expect: roles(ok, ok, ok, 403), note: "opening a run queues a server simulation" },
   "POST /api/derivations/[id]/collab-token": { expect: anyMember, note: "readers get a read-only token" },
   "GET /api/derivations/[id]/comments": { expect: anyMember },
   "POST /api/derivations/[id]/comments": { expect: roles(ok, ok, ok, 403), note: "reviewers comment; that is their job" },
@@ -305,6 +313,36 @@ async function buildWorld(): Promise<World> {
       finishedAt: new Date(),
     },
   });
+  const studyId = randomUUID();
+  const studySpec: StudySpec = {
+    mode: "grid",
+    samples: 1,
+    seed: 0,
+    parameters: [],
+    cases: [{ name: "nominal", initialCoordinates: {}, initialRates: {}, inputs: {} }],
+    startTime: 0,
+    endTime: 1,
+    outputStep: 0.5,
+    tolerance: 1e-8,
+    watch: [],
+    runCount: 1,
+  };
+  await createStudyWithRuns({
+    study: {
+      id: studyId,
+      derivationId: derivation.id,
+      cellId: "sweep-study",
+      state: "completed",
+      mode: "grid",
+      settings: DEFAULT_STUDY_SETTINGS,
+      spec: studySpec,
+      content: derivation.content,
+      modelHash: "0".repeat(64),
+      total: 1,
+      createdById: members.analyst.id,
+    },
+    runs: [{ runIndex: 0, caseIndex: 0, caseName: "nominal", parameters: {} }],
+  });
   const { thread, comment } = await createCommentThread({
     thread: {
       derivationId: derivation.id,
@@ -369,6 +407,8 @@ async function buildWorld(): Promise<World> {
       revisionId: checkpoint.revision.id,
       runId,
       jobId,
+      studyId,
+      index: "0",
       threadId: thread.id,
       commentId: comment.id,
       fileId,

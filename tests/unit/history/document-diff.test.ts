@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
 import { cellText, compareDocuments, compareParameters } from "@/lib/history/document-diff";
-import { modelToDocument, type DerivationDocument } from "@/lib/notebook/document";
+import { createCell, modelToDocument, type DerivationDocument } from "@/lib/notebook/document";
 import { templateModel } from "@/lib/notebook/templates";
 
 function hookBlock(): DerivationDocument {
@@ -19,6 +19,29 @@ describe("cellText", () => {
     expect(cellText(parameters).split("\n")).toContain("m = 40 [kg] — hook block mass");
     const kinetic = doc.cells.find((cell) => cell.kind === "kinetic")!;
     expect(cellText(kinetic)).toBe("1/2*m*l^2*theta'^2");
+  });
+});
+
+describe("cellText of a study cell", () => {
+  it("lists the varied parameters, the cases and the watched names, so a reviewer sees a changed study", () => {
+    const study = createCell("study", "s1");
+    study.settings = {
+      ...study.settings,
+      mode: "tolerance",
+      samples: "50",
+      parameters: [
+        { name: "l", values: "", distribution: "uniform", min: "6.175", max: "6.825", mean: "", sd: "" },
+        { name: "m", values: "", distribution: "normal", min: "500", max: "2000", mean: "1500", sd: "300" },
+      ],
+      cases: [{ name: "hard", initialCoordinates: { yl: "-6.5" }, initialRates: {}, inputs: { F: "1000*tanh(t)" } }],
+      watch: ["rope_angle", "rope_tension"],
+    };
+    const lines = cellText(study).split("\n");
+    expect(lines).toContain("mode: tolerance");
+    expect(lines).toContain("vary l: uniform 6.175 … 6.825");
+    expect(lines).toContain("vary m: normal, mean 1500, sd 300, within 500 … 2000");
+    expect(lines).toContain("  input F(t) = 1000*tanh(t)");
+    expect(lines).toContain("watch: rope_angle, rope_tension");
   });
 });
 

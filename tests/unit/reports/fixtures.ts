@@ -33,6 +33,7 @@ export async function craneReport(): Promise<RevisionReport> {
     },
     document,
     evaluation: { ok: true, result, engineVersion: "test-engine", modelHash: "cd".repeat(32), evaluatedAt: "2026-11-30T09:16:00.000Z" },
+    studies: [],
     runs: [
       {
         id: "00000000-0000-4000-8000-000000000002",
