@@ -33,6 +33,7 @@ const KIND_MARKS: Record<CellKind, string> = {
   linearization: "A·B",
   "code-export": "{ }",
   simulation: "t→",
+  study: "p±",
 };
 
 export interface CellFrameProps {

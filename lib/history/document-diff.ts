@@ -72,6 +72,32 @@ function settingLines(cell: Cell): string[] {
         ...s.points.map((point) => `point: (${point.x}, ${point.y})`),
       ];
     }
+    case "study": {
+      const s = cell.settings;
+      const sorted = (record: Record<string, string>) => Object.entries(record).sort(([a], [b]) => a.localeCompare(b));
+      return [
+        `mode: ${s.mode}`,
+        ...(s.mode === "tolerance" ? [`samples: ${s.samples}`, `seed: ${s.seed}`] : []),
+        ...s.parameters.map((p) =>
+          s.mode === "grid"
+            ? `vary ${p.name}: ${p.values}`
+            : p.distribution === "normal"
+              ? `vary ${p.name}: normal, mean ${p.mean}, sd ${p.sd}, within ${p.min} … ${p.max}`
+              : `vary ${p.name}: uniform ${p.min} … ${p.max}`,
+        ),
+        ...s.cases.flatMap((c) => [
+          `case ${c.name}`,
+          ...sorted(c.initialCoordinates).map(([name, value]) => `  initial ${name}: ${value}`),
+          ...sorted(c.initialRates).map(([name, value]) => `  initial ${name}': ${value}`),
+          ...sorted(c.inputs).map(([name, expr]) => `  input ${name}(t) = ${expr}`),
+        ]),
+        `start time: ${s.startTime}`,
+        `end time: ${s.endTime}`,
+        `output step: ${s.outputStep}`,
+        `tolerance: ${s.tolerance}`,
+        `watch: ${s.watch.join(", ")}`,
+      ];
+    }
     case "conserved":
       return [];
     default:

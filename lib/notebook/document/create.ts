@@ -2,6 +2,7 @@
 import { DocumentError } from "./errors";
 import {
   DEFAULT_SIMULATION_SETTINGS,
+  DEFAULT_STUDY_SETTINGS,
   DOCUMENT_SCHEMA_VERSION,
   type Cell,
   type CellKind,
@@ -79,6 +80,9 @@ export function createCell<K extends CellKind>(kind: K, id: string = createId())
       break;
     case "simulation":
       cell = { ...base, kind: "simulation", settings: structuredClone(DEFAULT_SIMULATION_SETTINGS) };
+      break;
+    case "study":
+      cell = { ...base, kind: "study", settings: structuredClone(DEFAULT_STUDY_SETTINGS) };
       break;
     default: {
       const unknown: never = kind;

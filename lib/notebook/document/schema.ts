@@ -108,6 +108,71 @@ export const DEFAULT_SIMULATION_SETTINGS: SimulationSettings = {
   points: [],
 };
 
+/** Limits of a study cell; the server refuses a study over them with the field's path. */
+export const STUDY_LIMITS = { parameters: 8, cases: 20, samples: 5000, runs: 5000, watch: 50 } as const;
+export const STUDY_MODES = ["grid", "tolerance"] as const;
+export type StudyMode = (typeof STUDY_MODES)[number];
+export const STUDY_DISTRIBUTIONS = ["uniform", "normal"] as const;
+export type StudyDistribution = (typeof STUDY_DISTRIBUTIONS)[number];
+
+/**
+ * One varied parameter of a study. A grid reads `values` (a list "0.5, 1, 2" or a range
+ * "from:to:count"); a tolerance run reads the distribution: uniform over min … max, or normal
+ * (mean, sd) truncated to min … max. Every field is text as typed; `lib/study` parses it.
+ */
+const studyParameterSchema = z.strictObject({
+  name: nameText,
+  values: descriptionText,
+  distribution: z.enum(STUDY_DISTRIBUTIONS),
+  min: valueText,
+  max: valueText,
+  mean: valueText,
+  sd: valueText,
+});
+export type StudyParameter = z.infer<typeof studyParameterSchema>;
+
+/** An operating case: initial state and inputs; every parameter sample runs once per case. */
+const studyCaseSchema = z.strictObject({
+  name: nameText,
+  initialCoordinates: z.record(nameText, valueText),
+  initialRates: z.record(nameText, valueText),
+  /** Inputs as expressions of t and the parameters, by input name (like the simulation cell). */
+  inputs: z.record(nameText, exprText),
+});
+export type StudyCase = z.infer<typeof studyCaseSchema>;
+
+/** The study cell's settings, as typed; `lib/study` turns them into the runs of a study. */
+export const studySettingsSchema = z.strictObject({
+  mode: z.enum(STUDY_MODES),
+  /** Tolerance mode: sampled runs per case (1 … 5000); ignored for a grid. */
+  samples: valueText,
+  /** Tolerance mode: the sampler's seed (an integer), so a study can be repeated exactly. */
+  seed: valueText,
+  parameters: z.array(studyParameterSchema).check(z.maxLength(STUDY_LIMITS.parameters, `at most ${STUDY_LIMITS.parameters} parameters`)),
+  cases: z.array(studyCaseSchema).check(z.maxLength(STUDY_LIMITS.cases, `at most ${STUDY_LIMITS.cases} cases`)),
+  startTime: valueText,
+  endTime: valueText,
+  outputStep: valueText,
+  tolerance: valueText,
+  /** Names to watch: outputs, multipliers ("lambda_<constraint>", "mu_<constraint>") and coordinates. */
+  watch: z.array(nameText).check(z.maxLength(STUDY_LIMITS.watch, `at most ${STUDY_LIMITS.watch} watched names`)),
+});
+export type StudySettings = z.infer<typeof studySettingsSchema>;
+
+/** What a new study cell starts with. */
+export const DEFAULT_STUDY_SETTINGS: StudySettings = {
+  mode: "grid",
+  samples: "100",
+  seed: "1",
+  parameters: [],
+  cases: [{ name: "nominal", initialCoordinates: {}, initialRates: {}, inputs: {} }],
+  startTime: "0",
+  endTime: "10",
+  outputStep: "0.01",
+  tolerance: "1e-8",
+  watch: [],
+};
+
 // ---------------------------------------------------------------------------
 // Cells
 
@@ -160,6 +225,8 @@ export const cellSchema = z.discriminatedUnion("kind", [
   }),
   z.strictObject({ ...cellBase, kind: z.literal("code-export"), settings: z.strictObject({ language: z.enum(CODE_EXPORT_LANGUAGES) }) }),
   z.strictObject({ ...cellBase, kind: z.literal("simulation"), settings: simulationSettingsSchema }),
+  /** A parameter study (grid or tolerance run); not a singleton, a notebook may hold several. */
+  z.strictObject({ ...cellBase, kind: z.literal("study"), settings: studySettingsSchema }),
 ]);
 
 export type Cell = z.infer<typeof cellSchema>;
@@ -179,10 +246,11 @@ export type ConservedCell = Extract<Cell, { kind: "conserved" }>;
 export type LinearizationCell = Extract<Cell, { kind: "linearization" }>;
 export type CodeExportCell = Extract<Cell, { kind: "code-export" }>;
 export type SimulationCell = Extract<Cell, { kind: "simulation" }>;
+export type StudyCell = Extract<Cell, { kind: "study" }>;
 
 export type TableCell = CoordinatesCell | ParametersCell | InputsCell | DefinitionsCell | ConstraintsCell | RateConstraintsCell | OutputsCell;
 export type SourceCell = TableCell | EnergyCell | ForcesCell | NoteCell;
-export type GeneratedCell = EquationsCell | ConservedCell | LinearizationCell | CodeExportCell | SimulationCell;
+export type GeneratedCell = EquationsCell | ConservedCell | LinearizationCell | CodeExportCell | SimulationCell | StudyCell;
 export type TableKind = TableCell["kind"];
 export type EnergyKind = EnergyCell["kind"];
 export type GeneratedKind = GeneratedCell["kind"];
@@ -194,7 +262,7 @@ export type SettingsOf<K extends GeneratedKind> = Extract<GeneratedCell, { kind:
 
 export const TABLE_KINDS: readonly TableKind[] = ["coordinates", "parameters", "inputs", "definitions", "constraints", "rate-constraints", "outputs"];
 export const ENERGY_KINDS: readonly EnergyKind[] = ["kinetic", "potential", "dissipation"];
-export const GENERATED_KINDS: readonly GeneratedKind[] = ["equations", "conserved", "linearization", "code-export", "simulation"];
+export const GENERATED_KINDS: readonly GeneratedKind[] = ["equations", "conserved", "linearization", "code-export", "simulation", "study"];
 export const CELL_KINDS: readonly CellKind[] = [...TABLE_KINDS, ...ENERGY_KINDS, "forces", "note", ...GENERATED_KINDS];
 
 /**
@@ -221,6 +289,7 @@ export const CELL_LABELS: Record<CellKind, string> = {
   linearization: "Linearization",
   "code-export": "Code export",
   simulation: "Simulation",
+  study: "Parameter study",
 };
 
 export function isTableCell(cell: Cell): cell is TableCell {
