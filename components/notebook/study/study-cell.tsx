@@ -146,7 +146,11 @@ function StoredStudy({
             onClick={() => void run()}
             data-testid="study-run"
           >
-            {start.isPending ? "Queueing…" : count.total !== null ? `Run study (${count.total.toLocaleString("en-GB")} runs)` : "Run study"}
+            {start.isPending
+              ? "Queueing…"
+              : count.total !== null
+                ? `Run study (${count.total.toLocaleString("en-GB")} ${count.total === 1 ? "run" : "runs"})`
+                : "Run study"}
           </button>
         ) : (
           <p className="text-sm text-muted" data-testid="study-cannot-run">
