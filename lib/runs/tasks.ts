@@ -28,6 +28,7 @@ import {
   type WorkerErrorPayload,
 } from "../simulate";
 import type { EngineTaskContext } from "../mechanics/worker";
+import { studyRunTask } from "@/lib/study/task";
 import { constraintColumnUnits } from "./column-units";
 
 /** The fit's iteration budget when the request names none (the fitter's own default), for progress. */
@@ -126,4 +127,5 @@ export function fitTask(payload: unknown, context?: EngineTaskContext): FitTaskO
   }
 }
 
-export const SIMULATION_TASKS = { simulate: simulateTask, fit: fitTask };
+/** `studyRun`: one run of a parameter study (lib/study/task.ts), its model derived once per thread. */
+export const SIMULATION_TASKS = { simulate: simulateTask, fit: fitTask, studyRun: studyRunTask };
