@@ -1,9 +1,10 @@
 /**
  * How many runs a study's settings ask for, read from the text as typed, so
  * the cell can show the count before anything is queued. The server parses the
- * same text again and is the one that refuses; this only counts.
+ * same text again and is the one that refuses (with field errors); this only counts.
  */
 import { STUDY_LIMITS } from "@/lib/notebook/document";
+import { parseGridValues } from "@/lib/study";
 import type { StudySettings } from "./settings-types";
 
 /** Runs a study may hold; the server refuses more with a typed error. */
@@ -11,24 +12,14 @@ export const STUDY_RUN_LIMIT = STUDY_LIMITS.runs;
 export const STUDY_PARAMETER_LIMIT = STUDY_LIMITS.parameters;
 export const STUDY_CASE_LIMIT = STUDY_LIMITS.cases;
 
-const NUMBER = /^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/;
-
 /**
  * The number of values a grid entry names: a list "0.5, 1, 2" or a range
- * "from:to:count" ("0.5:2:4" is four values). Null when the text is not one
- * of those.
+ * "from:to:count" ("0.5:2:4" is four values), read by the same parser the
+ * server expands the grid with. Null when the text is not one of those.
  */
 export function gridValueCount(text: string): number | null {
-  const trimmed = text.trim();
-  if (trimmed === "") return null;
-  if (trimmed.includes(":")) {
-    const parts = trimmed.split(":").map((part) => part.trim());
-    if (parts.length !== 3 || !NUMBER.test(parts[0]!) || !NUMBER.test(parts[1]!) || !/^\d+$/.test(parts[2]!)) return null;
-    const count = Number(parts[2]);
-    return count >= 1 ? count : null;
-  }
-  const items = trimmed.split(",").map((item) => item.trim());
-  return items.every((item) => NUMBER.test(item)) ? items.length : null;
+  const parsed = parseGridValues(text);
+  return "values" in parsed ? parsed.values.length : null;
 }
 
 export interface RunCount {

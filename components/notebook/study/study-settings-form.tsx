@@ -9,7 +9,7 @@
  */
 import clsx from "clsx";
 import { useId, useMemo, type ReactNode } from "react";
-import type { DerivationDocument, DocumentOperation } from "@/lib/notebook/document";
+import { STUDY_LIMITS, type DerivationDocument, type DocumentOperation } from "@/lib/notebook/document";
 import { rowsOfKind } from "@/lib/notebook/document/symbols";
 import { ExpressionEditor } from "../editor/expression-editor";
 import { STUDY_CASE_LIMIT, STUDY_PARAMETER_LIMIT, STUDY_RUN_LIMIT, studyRunCount } from "./run-count";
@@ -589,6 +589,7 @@ function WatchPicker({
     return index < 0 ? undefined : errors[`watch.${index}`];
   };
   const toggle = (name: string, on: boolean) => onChange(on ? [...watch, name] : watch.filter((w) => w !== name));
+  const full = watch.length >= STUDY_LIMITS.watch;
   const box = (name: string, label: ReactNode) => {
     const error = errorOf(name);
     const boxId = fieldId(`watch-${name}`);
@@ -599,7 +600,7 @@ function WatchPicker({
             id={boxId}
             type="checkbox"
             checked={watch.includes(name)}
-            disabled={readOnly}
+            disabled={readOnly || (full && !watch.includes(name))}
             aria-invalid={error ? true : undefined}
             aria-describedby={error ? `${boxId}-error` : undefined}
             onChange={(event) => toggle(name, event.target.checked)}
@@ -614,6 +615,7 @@ function WatchPicker({
     <fieldset className="min-w-0">
       <legend className={legendClass}>Watch (peaks, envelopes and worst cases)</legend>
       <FieldError id={fieldId("watch-error")} message={errors.watch} />
+      {full && <p className="text-xs text-muted">At most {STUDY_LIMITS.watch} watched names.</p>}
       {known.size === 0 && <p className="text-sm text-muted">The model has no outputs, multipliers or coordinates yet.</p>}
       <div className="flex min-w-0 flex-col gap-1.5">
         {groups

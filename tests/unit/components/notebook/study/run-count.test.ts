@@ -20,6 +20,8 @@ describe("study run count", () => {
     expect(gridValueCount("0.5:2:2.5")).toBeNull();
     expect(gridValueCount("0.5:2:0")).toBeNull();
     expect(gridValueCount("heavy")).toBeNull();
+    // The server's parser refuses a value listed twice, so the count does too.
+    expect(gridValueCount("1, 2, 1")).toBeNull();
   });
 
   it("multiplies the grid's value counts by the cases", () => {
