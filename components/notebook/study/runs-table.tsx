@@ -62,7 +62,18 @@ export function failureText(failure: StudyRun["failure"]): string {
   return failure.message && failure.message !== label ? `${label}: ${failure.message}` : label;
 }
 
-export function RunsTable({ study, onOpen, canOpen }: { study: StudyView; onOpen?: (index: number) => void; canOpen: boolean }) {
+export function RunsTable({
+  study,
+  onOpen,
+  canOpen,
+  opening = null,
+}: {
+  study: StudyView;
+  onOpen?: (index: number) => void;
+  canOpen: boolean;
+  /** The run being opened; the others wait until it is shown. */
+  opening?: number | null;
+}) {
   const [sort, setSort] = useState<RunSort>({ key: { kind: "index" }, direction: "ascending" });
   const [shown, setShown] = useState(PAGE);
   const sorted = useMemo(() => sortRuns(study.runs, sort), [study.runs, sort]);
@@ -151,8 +162,14 @@ export function RunsTable({ study, onOpen, canOpen }: { study: StudyView; onOpen
                 {canOpen && onOpen ? (
                   <td className="py-1">
                     {run.status !== "pending" && (
-                      <button type="button" className="text-action hover:underline" onClick={() => onOpen(run.index)} aria-label={`Open run ${run.index + 1}`}>
-                        Open
+                      <button
+                        type="button"
+                        className="text-action hover:underline disabled:text-muted disabled:no-underline"
+                        disabled={opening !== null}
+                        onClick={() => onOpen(run.index)}
+                        aria-label={`Open run ${run.index + 1}`}
+                      >
+                        {opening === run.index ? "Opening…" : "Open"}
                       </button>
                     )}
                   </td>

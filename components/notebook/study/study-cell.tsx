@@ -10,7 +10,7 @@
  */
 import clsx from "clsx";
 import { useMutation, useQueryClient } from "@tanstack/react-query";
-import { lazy, Suspense, useEffect, useState } from "react";
+import { lazy, Suspense, useEffect, useMemo, useState } from "react";
 import { useReviewSync } from "@/components/review/review-sync";
 import { apiFetch } from "@/lib/api/fetcher";
 import { AppError } from "@/lib/errors";
@@ -133,6 +133,11 @@ function StoredStudy({
   }
 
   const opener = useOpenRun(derivationId);
+  const coordinateUnits = useMemo(() => {
+    const units: Record<string, string> = {};
+    for (const c of doc.cells) if (c.kind === "coordinates") for (const row of c.rows) if (row.name.trim()) units[row.name.trim()] = row.unit.trim();
+    return units;
+  }, [doc]);
 
   return (
     <>
@@ -194,7 +199,7 @@ function StoredStudy({
         <section className="flex min-w-0 flex-col gap-2 border-t border-line pt-3" aria-label="Opened run" data-testid="study-opened-run">
           <h4 className="text-[13px] font-medium">{opener.run.label}</h4>
           <Suspense fallback={<p className="text-sm text-muted">Loading charts…</p>}>
-            <ResultsView run={opener.run} />
+            <ResultsView run={opener.run} units={coordinateUnits} />
           </Suspense>
         </section>
       )}

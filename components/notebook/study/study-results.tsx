@@ -44,7 +44,7 @@ export function StudyResults({ derivationId, study, onOpenRun, opening = null }:
               </a>
             )}
           </div>
-          <RunsTable study={study} onOpen={onOpenRun} canOpen={Boolean(onOpenRun)} />
+          <RunsTable study={study} onOpen={onOpenRun} canOpen={Boolean(onOpenRun)} opening={opening} />
         </div>
       )}
     </section>
