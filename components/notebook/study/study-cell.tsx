@@ -41,9 +41,9 @@ export interface StudyCellViewProps {
   pollMs?: number;
 }
 
-/** Field errors of a refused study, one message per field. */
+/** Field errors of a study refused for its settings (a 400), one message per field. */
 function fieldMessages(error: unknown): Record<string, string> | null {
-  if (!(error instanceof AppError) || !error.fieldErrors) return null;
+  if (!(error instanceof AppError) || !error.fieldErrors || !error.code.startsWith("bad_request:")) return null;
   const out: Record<string, string> = {};
   for (const [key, messages] of Object.entries(error.fieldErrors)) out[key] = messages.join(" ");
   return Object.keys(out).length > 0 ? out : null;

@@ -50,11 +50,18 @@ const listItem = (study: StudyView) => {
 };
 
 /** The study routes of the contract, answering from `server`; every request is recorded. */
-let server: { studies: StudyView[]; polls: StudyView[]; refuse: Record<string, string[]> | null; cancelled: boolean; jobPolls: number };
+let server: {
+  studies: StudyView[];
+  polls: StudyView[];
+  refuse: Record<string, string[]> | null;
+  missing: boolean;
+  cancelled: boolean;
+  jobPolls: number;
+};
 let requests: { method: string; url: string; body: unknown }[];
 
 beforeEach(() => {
-  server = { studies: [], polls: [], refuse: null, cancelled: false, jobPolls: 0 };
+  server = { studies: [], polls: [], refuse: null, missing: false, cancelled: false, jobPolls: 0 };
   requests = [];
   vi.stubGlobal(
     "fetch",
@@ -63,6 +70,11 @@ beforeEach(() => {
       requests.push({ method, url, body: init?.body ? JSON.parse(String(init.body)) : undefined });
       const path = url.split("?")[0]!;
       if (method === "POST" && path === "/api/derivations/d1/studies") {
+        if (server.missing)
+          return json(
+            { error: { code: "not_found:study", message: "No study cell with this id in the derivation.", fieldErrors: { cellId: ["No such study cell."] } } },
+            404,
+          );
         if (server.refuse)
           return json({ error: { code: "bad_request:study", message: "The study's settings are not valid.", fieldErrors: server.refuse } }, 400);
         const queued = studyView({ state: "queued", progress: { total: 4, done: 0, failed: 0, etaSeconds: null } });
@@ -165,6 +177,14 @@ describe("study cell", () => {
     expect(requests.find((r) => r.method === "POST")!.body).toEqual({ cellId: "study-1" });
     // watch.0 names nothing ticked here, so it is listed above the form.
     expect(screen.getByTestId("study-unplaced-errors").textContent).toContain("Choose at least one name to watch.");
+  });
+
+  it("says so when the server has no such cell, without marking fields", async () => {
+    server.missing = true;
+    renderCell();
+    fireEvent.click(screen.getByTestId("study-run"));
+    expect((await screen.findByTestId("study-problem")).textContent).toBe("No study cell with this id in the derivation.");
+    expect(screen.queryByTestId("study-unplaced-errors")).toBeNull();
   });
 
   it("follows a running study with progress and partial results, and cancels it", async () => {
