@@ -99,7 +99,7 @@ export function RunsTable({
 
   return (
     <div className="flex min-w-0 flex-col gap-1">
-      <div className="overflow-x-auto" tabIndex={0} role="region" aria-label="Runs of the study (scrolls sideways)">
+      <div className="relative overflow-x-auto" tabIndex={0} role="region" aria-label="Runs of the study (scrolls sideways)">
         <table className="w-full min-w-[28rem] text-sm tabular-nums" data-testid="study-runs-table">
           <caption className="sr-only">Runs of the study; column headings sort the table.</caption>
           <thead>

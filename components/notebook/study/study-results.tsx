@@ -57,7 +57,7 @@ function WorstCases({ study, onOpenRun, opening }: { study: StudyView; onOpenRun
   return (
     <div className="flex min-w-0 flex-col gap-1">
       <h4 className="text-[13px] font-medium">Worst case of each watched name</h4>
-      <div className="overflow-x-auto" tabIndex={0} role="region" aria-label="Worst cases (scrolls sideways)">
+      <div className="relative overflow-x-auto" tabIndex={0} role="region" aria-label="Worst cases (scrolls sideways)">
         <table className="w-full min-w-[26rem] text-sm tabular-nums" data-testid="study-worst-table">
           <thead>
             <tr className="border-b border-line text-left text-muted">
@@ -136,7 +136,7 @@ function Sensitivity({ study }: { study: StudyView }) {
         {methods.has("regression") ? "Linear regression over the sampled runs" : "Finite differences on the grid"}: normalized effect of each parameter (slope ×
         parameter spread ÷ peak spread; bars show its size, sign in the number). The slope is given beside it.
       </p>
-      <div className="overflow-x-auto" tabIndex={0} role="region" aria-label="Sensitivity (scrolls sideways)">
+      <div className="relative overflow-x-auto" tabIndex={0} role="region" aria-label="Sensitivity (scrolls sideways)">
         <table className="w-full min-w-[22rem] text-sm tabular-nums" data-testid="study-sensitivity-table">
           <thead>
             <tr className="border-b border-line text-left text-muted">
