@@ -133,7 +133,7 @@ export function RunsTable({
           <tbody>
             {sorted.slice(0, shown).map((run) => (
               <tr key={run.index} className={clsx("border-b border-line/60", run.status === "failed" && "bg-danger-soft/50")} data-testid="study-run-row">
-                <td className="py-1 pr-3 text-right font-mono">{run.index + 1}</td>
+                <td className="py-1 pr-3 text-right font-mono">{run.index}</td>
                 <td className="py-1 pr-3">{run.caseName}</td>
                 <td className={clsx("py-1 pr-3", run.status === "failed" ? "text-danger" : run.status === "pending" && "text-muted")}>
                   {run.status === "failed" ? (
@@ -167,7 +167,7 @@ export function RunsTable({
                         className="text-action hover:underline disabled:text-muted disabled:no-underline"
                         disabled={opening !== null}
                         onClick={() => onOpen(run.index)}
-                        aria-label={`Open run ${run.index + 1}`}
+                        aria-label={`Open run ${run.index}`}
                       >
                         {opening === run.index ? "Opening…" : "Open"}
                       </button>

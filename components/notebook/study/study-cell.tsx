@@ -197,7 +197,6 @@ function StoredStudy({
       )}
       {opener.run && (
         <section className="flex min-w-0 flex-col gap-2 border-t border-line pt-3" aria-label="Opened run" data-testid="study-opened-run">
-          <h4 className="text-[13px] font-medium">{opener.run.label}</h4>
           <Suspense fallback={<p className="text-sm text-muted">Loading charts…</p>}>
             <ResultsView run={opener.run} units={coordinateUnits} />
           </Suspense>

@@ -93,7 +93,7 @@ function WorstCases({ study, onOpenRun, opening }: { study: StudyView; onOpenRun
                   </td>
                   <td className="py-1 pr-3 text-right font-mono">{formatStudyNumber(worst.time)}</td>
                   <td className="py-1 pr-3">
-                    run {worst.runIndex + 1}, {worst.caseName}
+                    run {worst.runIndex}, {worst.caseName}
                     {Object.keys(worst.parameters).length > 0 && (
                       <span className="font-mono text-muted">: {formatParameters(worst.parameters, study.parameterNames)}</span>
                     )}
@@ -105,7 +105,7 @@ function WorstCases({ study, onOpenRun, opening }: { study: StudyView; onOpenRun
                         className="whitespace-nowrap rounded border border-action px-2 py-0.5 text-action hover:bg-action-soft disabled:opacity-50"
                         disabled={opening !== null}
                         onClick={() => onOpenRun(worst.runIndex)}
-                        aria-label={`Open the worst run of ${w.name} (run ${worst.runIndex + 1})`}
+                        aria-label={`Open the worst run of ${w.name} (run ${worst.runIndex})`}
                       >
                         {opening === worst.runIndex ? "Opening…" : "Open run"}
                       </button>

@@ -225,18 +225,19 @@ describe("study cell", () => {
       within(table)
         .getAllByTestId("study-run-row")
         .map((row) => row.querySelector("td")!.textContent);
-    expect(order()).toEqual(["1", "2", "3", "4"]);
+    // Runs are numbered by their index, as the CSV and the opened run's label number them.
+    expect(order()).toEqual(["0", "1", "2", "3"]);
     const peakHeading = within(table).getByRole("button", { name: /peak rope_tension/ });
     fireEvent.click(peakHeading);
-    expect(order()).toEqual(["2", "1", "3", "4"]);
+    expect(order()).toEqual(["1", "0", "2", "3"]);
     expect(peakHeading.closest("th")!.getAttribute("aria-sort")).toBe("ascending");
     fireEvent.click(peakHeading);
-    expect(order()).toEqual(["3", "1", "2", "4"]);
+    expect(order()).toEqual(["2", "0", "1", "3"]);
     expect(peakHeading.closest("th")!.getAttribute("aria-sort")).toBe("descending");
     fireEvent.click(within(table).getByRole("button", { name: /^l/ }));
-    expect(order()).toEqual(["1", "3", "2", "4"]);
+    expect(order()).toEqual(["0", "2", "1", "3"]);
     fireEvent.click(within(table).getByRole("button", { name: /Status/ }));
-    expect(order()[0]).toBe("4");
+    expect(order()[0]).toBe("3");
     expect(screen.getByTestId("study-csv").getAttribute("href")).toBe("/api/derivations/d1/studies/s1/csv");
   });
 
@@ -259,7 +260,7 @@ describe("study cell", () => {
     renderCell();
     const worst = await screen.findByTestId("study-worst-row");
     expect(worst.textContent).toContain("21400");
-    expect(worst.textContent).toContain("run 3, nominal: m = 2000, l = 4.75");
+    expect(worst.textContent).toContain("run 2, nominal: m = 2000, l = 4.75");
     expect(screen.getByTestId("study-load-caution").textContent).toContain(safetyNote);
     const sensitivity = screen.getByTestId("study-sensitivity-row");
     expect(sensitivity.textContent).toContain("0.98");
