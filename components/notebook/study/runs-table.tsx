@@ -56,9 +56,15 @@ function sameKey(a: RunSortKey, b: RunSortKey): boolean {
   return a.kind === b.kind && ("name" in a ? a.name : "") === ("name" in b ? b.name : "");
 }
 
+/** Reasons a study run may end with beyond the simulator's own. */
+const STUDY_FAILURE_LABELS: Record<string, string> = {
+  setup: "Refused at the start",
+  memory: "Memory limit reached",
+};
+
 export function failureText(failure: StudyRun["failure"]): string {
   if (!failure) return "";
-  const label = FAILURE_LABELS[failure.reason] ?? failure.reason;
+  const label = FAILURE_LABELS[failure.reason] ?? STUDY_FAILURE_LABELS[failure.reason] ?? failure.reason;
   return failure.message && failure.message !== label ? `${label}: ${failure.message}` : label;
 }
 

@@ -133,8 +133,9 @@ function Sensitivity({ study }: { study: StudyView }) {
     <div className="flex min-w-0 flex-col gap-1">
       <h4 className="text-[13px] font-medium">Sensitivity of each peak</h4>
       <p className="text-xs text-muted">
-        {methods.has("regression") ? "Linear regression over the sampled runs" : "Finite differences on the grid"}: normalized effect of each parameter (slope ×
-        parameter spread ÷ peak spread; bars show its size, sign in the number). The slope is given beside it.
+        {methods.has("regression") ? "Linear regression over the sampled runs" : "Finite differences on the grid"}: normalized effect of each parameter on the
+        peak&apos;s magnitude (slope × parameter spread ÷ peak spread; bars show its size, sign in the number). The slope is given beside it; a parameter
+        without one (a single value, too few runs) shows a dash.
       </p>
       <div className="relative overflow-x-auto" tabIndex={0} role="region" aria-label="Sensitivity (scrolls sideways)">
         <table className="w-full min-w-[22rem] text-sm tabular-nums" data-testid="study-sensitivity-table">

@@ -27,12 +27,13 @@ export interface StudyRun {
   constraintResidual: number | null;
 }
 
+/** Bands over the finished runs; null at a time no finished run reached (runs that stopped early). */
 export interface EnvelopeSeries {
-  min: number[];
-  max: number[];
-  p5: number[];
-  p50: number[];
-  p95: number[];
+  min: (number | null)[];
+  max: (number | null)[];
+  p5: (number | null)[];
+  p50: (number | null)[];
+  p95: (number | null)[];
 }
 
 export interface StudyWorst {
