@@ -403,19 +403,22 @@ export function NotebookPage(props: NotebookPageProps) {
 
       <UploadLimitsProvider limits={props.uploadLimits}>
         <SharedFieldsProvider value={fields}>
-          <Notebook
-            document={doc}
-            onChange={(_next, op) => applyEdit(op)}
-            results={evaluation.results}
-            stale={evaluation.stale}
-            evaluating={evaluation.evaluating}
-            diagnostics={evaluation.diagnostics}
-            evaluatedModel={evaluation.evaluatedModel}
-            readOnly={!writable}
-            derivationId={derivationId}
-            view={view}
-            canStoreRuns={canStoreRuns}
-          />
+          {/* A study is queued from the content the server holds: its cell waits for the page's edits to be stored, like a review step. */}
+          <ReviewSyncProvider canEdit={canEdit} whenStored={whenServerCurrent}>
+            <Notebook
+              document={doc}
+              onChange={(_next, op) => applyEdit(op)}
+              results={evaluation.results}
+              stale={evaluation.stale}
+              evaluating={evaluation.evaluating}
+              diagnostics={evaluation.diagnostics}
+              evaluatedModel={evaluation.evaluatedModel}
+              readOnly={!writable}
+              derivationId={derivationId}
+              view={view}
+              canStoreRuns={canStoreRuns}
+            />
+          </ReviewSyncProvider>
         </SharedFieldsProvider>
         {!hasSimulationCell && ownSimulationOpen ? (
           <OwnSimulation

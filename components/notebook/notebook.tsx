@@ -38,6 +38,7 @@ import { CellFrame } from "./cell-frame";
 import { EnergyCellEditor, ForcesCellEditor } from "./expression-cell";
 import { CodeExportCellView, ConservedCellView, EquationsCellView, LinearizationCellView, SimulationCellView } from "./generated-cells";
 import { NoteCellEditor } from "./note-cell";
+import { StudyCellView } from "./study/study-cell";
 import { TableCellEditor } from "./table-cell";
 import type { ViewChoicePatch } from "./use-view-preferences";
 import { resultsForCell, type ViewResults } from "./use-view-results";
@@ -106,7 +107,7 @@ const ADD_GROUPS: { label: string; kinds: CellKind[] }[] = [
       "outputs",
     ],
   },
-  { label: "Results", kinds: ["equations", "conserved", "linearization", "code-export", "simulation"] },
+  { label: "Results", kinds: ["equations", "conserved", "linearization", "code-export", "simulation", "study"] },
   { label: "Text", kinds: ["note"] },
 ];
 
@@ -239,8 +240,8 @@ export function Notebook(props: NotebookProps) {
               index={index}
               count={doc.cells.length}
               readOnly={readOnly}
-              stale={isGeneratedCell(cell) && ((stale && results !== null) || viewed.stale)}
-              busy={isGeneratedCell(cell) && ((evaluating && results !== null) || viewed.computing)}
+              stale={showsResults(cell) && ((stale && results !== null) || viewed.stale)}
+              busy={showsResults(cell) && ((evaluating && results !== null) || viewed.computing)}
               canDuplicate={canAddCell(doc, cell.kind)}
               onCollapse={(collapsed) => dispatch({ type: "setCollapsed", cellId: cell.id, collapsed })}
               onDuplicate={() => dispatch({ type: "duplicateCell", cellId: cell.id, newCellId: newId() })}
@@ -296,6 +297,11 @@ export function Notebook(props: NotebookProps) {
       {!readOnly && <AddCellControl doc={doc} index={doc.cells.length} onAdd={add} />}
     </div>
   );
+}
+
+/** Cells showing the evaluation's results, marked stale or busy with it (a study's results come from its own runs). */
+function showsResults(cell: Cell): boolean {
+  return isGeneratedCell(cell) && cell.kind !== "study";
 }
 
 function sideOf(event: DragEvent<HTMLElement>): "before" | "after" {
@@ -419,6 +425,17 @@ function CellBody({
         />
       );
     }
+    case "study":
+      // The document's settings: a study is the team's, run on the server, never a personal view.
+      return (
+        <StudyCellView
+          cell={documentCell.kind === "study" ? documentCell : cell}
+          document={document}
+          derivationId={derivationId}
+          canRun={canStoreRuns}
+          {...common}
+        />
+      );
   }
 }
 

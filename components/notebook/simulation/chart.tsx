@@ -20,6 +20,16 @@ export interface ChartSeries {
   dash?: boolean;
   /** Palette slot; default the series' position. Series about one quantity (simulated, measured, fitted) share it. */
   colorIndex?: number;
+  /** Line width in CSS pixels (default 1.75); 0 draws no line (a band's edge). */
+  width?: number;
+}
+
+/** A filled band between two series (indices into `series`), in the upper series' colour. */
+export interface ChartBand {
+  upper: number;
+  lower: number;
+  /** Opacity of the fill, 0 … 1. */
+  opacity: number;
 }
 
 export interface ChartProps {
@@ -34,6 +44,8 @@ export interface ChartProps {
   testId?: string;
   /** A logarithmic x axis (frequency plots); x values must be positive. */
   xLog?: boolean;
+  /** Filled bands between pairs of series (envelopes of a study). */
+  bands?: ChartBand[];
 }
 
 /** Number of colours in the series palette; further series repeat them with a dash pattern. */
@@ -90,6 +102,14 @@ export function seriesStyle(palette: readonly string[], index: number): { stroke
   return { stroke: palette[index % palette.length]!, dash: DASHES[Math.floor(index / palette.length) % DASHES.length] };
 }
 
+/** A palette colour (#rrggbb) at the given opacity; other colour forms are returned as they are. */
+export function withOpacity(colour: string, opacity: number): string {
+  const hex = /^#([0-9a-f]{2})([0-9a-f]{2})([0-9a-f]{2})$/i.exec(colour.trim());
+  if (!hex) return colour;
+  const [r, g, b] = hex.slice(1).map((part) => parseInt(part, 16));
+  return `rgba(${r}, ${g}, ${b}, ${opacity})`;
+}
+
 function themeOf() {
   const ink = cssVar("--ink", "#24272c");
   const sans = cssVar("--font-plex-sans", "system-ui") + ", system-ui, sans-serif";
@@ -104,7 +124,7 @@ function themeOf() {
   };
 }
 
-export function Chart({ title, xLabel, yLabel, x, series, xy, height = 220, testId, xLog = false }: ChartProps) {
+export function Chart({ title, xLabel, yLabel, x, series, xy, height = 220, testId, xLog = false, bands }: ChartProps) {
   const holder = useRef<HTMLDivElement>(null);
   const theme = useThemeVersion();
 
@@ -160,13 +180,19 @@ export function Chart({ title, xLabel, yLabel, x, series, xy, height = 220, test
             return {
               label: s.label,
               stroke: style.stroke,
-              width: s.points ? 0 : 1.75,
+              width: s.points ? 0 : (s.width ?? 1.75),
               dash: s.dash ? [6, 4] : style.dash,
               spanGaps: !s.points,
               points: s.points ? { show: true, size: 5, stroke: style.stroke, fill: style.stroke } : { show: false },
             };
           }),
         ],
+        // Series indices in uPlot count the x values as 0.
+        bands: bands?.map((band) => {
+          const upper = series[band.upper];
+          const colour = seriesStyle(look.palette, upper?.colorIndex ?? band.upper).stroke;
+          return { series: [band.upper + 1, band.lower + 1] as [number, number], fill: withOpacity(colour, band.opacity) };
+        }),
       };
       plot = new uPlot(opts, [Array.from(x), ...series.map((s) => toArray(s.values))] as uPlot.AlignedData, element);
     }
@@ -180,7 +206,7 @@ export function Chart({ title, xLabel, yLabel, x, series, xy, height = 220, test
       resize.disconnect();
       plot.destroy();
     };
-  }, [title, xLabel, yLabel, x, series, xy, height, theme, xLog]);
+  }, [title, xLabel, yLabel, x, series, xy, height, theme, xLog, bands]);
 
   return (
     <figure className="m-0 flex min-w-0 flex-col gap-1" data-testid={testId ? `${testId}-figure` : undefined}>
