@@ -566,6 +566,8 @@ export const jobs = pgTable(
     result: jsonb("result").$type<Record<string, unknown>>(),
     error: jsonb("error").$type<JobError>(),
     createdById: uuid("created_by_id").references(() => users.id, { onDelete: "set null" }),
+    // The worker process that last took the job, "<host>:<pid>", to trace a job to its worker.
+    worker: text("worker"),
     startedAt: timestamp("started_at", { withTimezone: true }),
     finishedAt: timestamp("finished_at", { withTimezone: true }),
     ...timestamps,

@@ -27,11 +27,11 @@ export async function getJobByIdAndDerivationId({ id, derivationId }: { id: stri
  * meanwhile, or taken by another worker after a retry), so it is not run twice.
  * A job left `running` by a worker that died is taken again.
  */
-export async function startJobById({ id }: { id: string }): Promise<Job | null> {
+export async function startJobById({ id, worker }: { id: string; worker: string }): Promise<Job | null> {
   const now = new Date();
   const [row] = await db
     .update(jobs)
-    .set({ state: "running", startedAt: now, progress: 0, updatedAt: now })
+    .set({ state: "running", startedAt: now, progress: 0, updatedAt: now, worker })
     .where(and(eq(jobs.id, id), inArray(jobs.state, ["queued", "running"])))
     .returning();
   return row ?? null;

@@ -1,5 +1,6 @@
 import "server-only";
 import { randomUUID } from "node:crypto";
+import { hostname } from "node:os";
 import type PgBoss from "pg-boss";
 import { createJob, finishJobById, getJobById, startJobById, updateJobProgressById } from "@/db/queries/jobs";
 import { jobKinds, type Job, type JobError, type JobKind } from "@/db/schema";
@@ -127,9 +128,12 @@ export class JobQueue {
   }
 }
 
+/** This process as a job's `worker`: host name and process id. */
+export const WORKER_NAME = `${hostname()}:${process.pid}`;
+
 /** Runs one delivered job with its handler, keeping the row up to date. Never throws for the job's own failure. */
 export async function runJob(id: string, handler: JobHandler): Promise<void> {
-  const job = await startJobById({ id });
+  const job = await startJobById({ id, worker: WORKER_NAME });
   // Cancelled before it started, or already finished by an earlier delivery.
   if (!job) return;
   const controller = new AbortController();

@@ -296,7 +296,8 @@ describe("evaluation and report jobs", () => {
   }, 240_000);
 
   it("stops a running evaluation when it is cancelled, and stores nothing", async () => {
-    const id = await createModelDerivation(freshChain(14));
+    // The largest chain the engine takes: its evaluation runs for seconds, so the cancel lands before it ends.
+    const id = await createModelDerivation(freshChain(30));
     const job = await queuedEvaluation(id);
     await pollJob(id, job.id, (j) => j.state === "running" || ended(j));
     const response = await cancel(id, job.id);

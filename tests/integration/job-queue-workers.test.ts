@@ -118,20 +118,30 @@ describe("jobs across processes", () => {
       expect(response.status).toBe(202);
       queued.push(((await response.json()) as { job: JobJson }).job);
     }
+    const finished = [];
     for (const job of queued) {
-      const finished = await waitForJob(job.id, { timeoutMs: 180_000 });
-      expect(finished.state).toBe("completed");
+      const done = await waitForJob(job.id, { timeoutMs: 180_000 });
+      expect(done.state).toBe("completed");
+      finished.push(done);
     }
     const pids = [first!.child.pid, second!.child.pid];
     expect(pids).not.toContain(process.pid);
-    for (const job of queued) {
+    // Each job records the process that ran it ("<host>:<pid>"): never this one, the one that queued it.
+    const ranBy = finished.map((job) => Number(job.worker!.split(":").at(-1)));
+    expect(ranBy).not.toContain(process.pid);
+    // Queued together, the two jobs ran at the same time in two processes (a worker takes one at a
+    // time). The test command also runs a queue worker of its own, which may take one of them.
+    expect(new Set(finished.map((job) => job.worker)).size).toBe(2);
+    for (const [k, job] of queued.entries()) {
+      // Delivered once: at most one of this test's workers took it, and the row names that one.
       const takers = workers.filter((worker) => worker.took.includes(job.id)).map((worker) => worker.child.pid);
-      expect(takers).toHaveLength(1);
-      expect(pids).toContain(takers[0]);
-      expect(takers[0]).not.toBe(process.pid);
+      expect(takers.length).toBeLessThanOrEqual(1);
+      if (takers.length === 1) expect(ranBy[k]).toBe(takers[0]);
     }
-    // Both workers took part.
-    expect(first!.took).toHaveLength(1);
-    expect(second!.took).toHaveLength(1);
+    // Without another worker on the database, both of this test's workers took part.
+    if (ranBy.every((pid) => pids.includes(pid))) {
+      expect(first!.took).toHaveLength(1);
+      expect(second!.took).toHaveLength(1);
+    }
   }, 300_000);
 });

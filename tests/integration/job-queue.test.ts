@@ -162,8 +162,16 @@ describe("job queue across processes", () => {
 
   it("runs a job queued by this process in the worker process and reports progress while it runs", async () => {
     const id = await createModelDerivation(doubleArm);
-    // Long enough for several progress reports on a busy machine.
-    const job = await queueRun(id, { initialCoordinates: { a: 2, b: 2.5 }, endTime: 400, outputStep: 0.01, timeLimitMs: 20_000 });
+    // Long enough for several progress reports (written at most every 0.5 s) on a quiet machine, and
+    // within the 20 s limit on a busy one: 3000 s of a chaotic double arm at a tight tolerance.
+    const job = await queueRun(id, {
+      initialCoordinates: { a: 2, b: 2.5 },
+      endTime: 3000,
+      outputStep: 0.5,
+      relativeTolerance: 1e-10,
+      absoluteTolerance: 1e-10,
+      timeLimitMs: 20_000,
+    });
     const { job: finished, seen } = await pollJob(id, job.id, ended);
     expect(finished.state).toBe("completed");
     expect(finished.error).toBeNull();
