@@ -10,38 +10,17 @@ import { createDerivation } from "@/db/queries/derivations";
 import { closeJobQueue } from "@/lib/jobs/boss";
 import { waitForJob } from "@/lib/jobs/queue";
 import type { JobJson } from "@/lib/jobs/views";
-import type { Model } from "@/lib/mechanics";
 import { modelToDocument } from "@/lib/notebook/document";
+import { LONG_ARM_RUN, doubleArm } from "../support/rig-models";
 import { jsonRequest, makeTeam, params, resetDatabase, type TeamFixture } from "./support/fixtures";
 import { signInAs } from "./support/session";
 
 // More than one machine's worth of queue workers: jobs queued by this process
 // (the web side, through its JobQueue) are run by two separate worker
 // processes (scripts/worker.ts, as started in production), each job by exactly
-// one of them and none by the process that queued it. Each worker logs the jobs
+// one process and none by the process that queued it (the test command's own
+// queue worker may take one too; the job row names the process that ran it). Each worker logs the jobs
 // it takes with its process id.
-
-// Two arms of a test-rig double pendulum: a long span keeps a worker busy for a few seconds.
-const doubleArm: Model = {
-  title: "Rig double arm",
-  coordinates: [
-    { name: "a", unit: "rad" },
-    { name: "b", unit: "rad" },
-  ],
-  parameters: [
-    { name: "m", unit: "kg", value: 1 },
-    { name: "l", unit: "m", value: 1 },
-    { name: "g", unit: "m/s^2", value: 9.81 },
-  ],
-  definitions: [
-    { name: "x1", expr: "l*sin(a)" },
-    { name: "y1", expr: "-l*cos(a)" },
-    { name: "x2", expr: "x1 + l*sin(b)" },
-    { name: "y2", expr: "y1 - l*cos(b)" },
-  ],
-  kinetic: "1/2*m*(x1'^2 + y1'^2) + 1/2*m*(x2'^2 + y2'^2)",
-  potential: "m*g*y1 + m*g*y2",
-};
 
 interface WorkerProcess {
   child: ChildProcess;
@@ -107,10 +86,7 @@ describe("jobs across processes", () => {
     const queued: JobJson[] = [];
     for (const label of ["left arm release", "right arm release"]) {
       const request = jsonRequest(`/api/derivations/${derivation.id}/runs`, "POST", {
-        initialCoordinates: { a: 2, b: 2.5 },
-        endTime: 300,
-        outputStep: 0.01,
-        timeLimitMs: 30_000,
+        ...LONG_ARM_RUN,
         label,
       });
       request.headers.set("prefer", "respond-async");

@@ -14,6 +14,7 @@ import { closeJobQueue } from "@/lib/jobs/boss";
 import type { JobJson } from "@/lib/jobs/views";
 import type { Model } from "@/lib/mechanics";
 import { modelToDocument } from "@/lib/notebook/document";
+import { LONG_ARM_RUN, doubleArm } from "../support/rig-models";
 import type { RunJson } from "@/lib/runs/views";
 import { jsonRequest, makeTeam, params, resetDatabase, type TeamFixture } from "./support/fixtures";
 import { signInAs } from "./support/session";
@@ -32,28 +33,6 @@ const pendulum: Model = {
   ],
   kinetic: "1/2*m*l^2*theta'^2",
   potential: "-m*g*l*cos(theta)",
-};
-
-// Two arms of a test-rig double pendulum: chaotic at large swings, so a long span keeps the integrator busy.
-const doubleArm: Model = {
-  title: "Rig double arm",
-  coordinates: [
-    { name: "a", unit: "rad" },
-    { name: "b", unit: "rad" },
-  ],
-  parameters: [
-    { name: "m", unit: "kg", value: 1 },
-    { name: "l", unit: "m", value: 1 },
-    { name: "g", unit: "m/s^2", value: 9.81 },
-  ],
-  definitions: [
-    { name: "x1", expr: "l*sin(a)" },
-    { name: "y1", expr: "-l*cos(a)" },
-    { name: "x2", expr: "x1 + l*sin(b)" },
-    { name: "y2", expr: "y1 - l*cos(b)" },
-  ],
-  kinetic: "1/2*m*(x1'^2 + y1'^2) + 1/2*m*(x2'^2 + y2'^2)",
-  potential: "m*g*y1 + m*g*y2",
 };
 
 let kestrel: TeamFixture;
@@ -162,16 +141,8 @@ describe("job queue across processes", () => {
 
   it("runs a job queued by this process in the worker process and reports progress while it runs", async () => {
     const id = await createModelDerivation(doubleArm);
-    // Long enough for several progress reports (written at most every 0.5 s) on a quiet machine, and
-    // within the 20 s limit on a busy one: 3000 s of a chaotic double arm at a tight tolerance.
-    const job = await queueRun(id, {
-      initialCoordinates: { a: 2, b: 2.5 },
-      endTime: 3000,
-      outputStep: 0.5,
-      relativeTolerance: 1e-10,
-      absoluteTolerance: 1e-10,
-      timeLimitMs: 20_000,
-    });
+    // Long enough for several progress reports (written at most every 0.5 s).
+    const job = await queueRun(id, LONG_ARM_RUN);
     const { job: finished, seen } = await pollJob(id, job.id, ended);
     expect(finished.state).toBe("completed");
     expect(finished.error).toBeNull();
