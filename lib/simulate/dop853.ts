@@ -1,4 +1,5 @@
 import * as coefficients from "./dop853-coefficients";
+import type { Dop853Kernel } from "./dop853-wasm";
 
 /**
  * DOP853: the explicit embedded Runge–Kutta method of order 8(5,3) by Dormand
@@ -12,6 +13,12 @@ import * as coefficients from "./dop853-coefficients";
  * two are interchangeable; the right-hand side writes into a given array
  * instead of returning one, and every work array is a Float64Array allocated
  * once per solver.
+ *
+ * Given a step kernel (dop853-wasm.ts), the solver runs each step's stages,
+ * its acceptance and its dense output in WebAssembly, on work arrays that are
+ * views of the kernel's memory, and keeps the step-size control here. A call
+ * the kernel cannot complete (status non-zero) is redone by this file's own
+ * code with `f`, from the same arrays.
  */
 
 /** Writes y'(t) into `dydt`; may throw to stop the integration. */
@@ -58,7 +65,6 @@ for (const j of [5, 6, 7, 9, 10]) if (E3[j] !== B[j]) throw new Error("DOP853 we
 const SAFE = 0.9;
 const FAC1 = 0.333;
 const FAC2 = 6;
-const EXPO1 = 1 / 8;
 const UROUND = 2.3e-16;
 
 export class Dop853 {
@@ -73,6 +79,13 @@ export class Dop853 {
   evaluations = 0;
   acceptedSteps = 0;
   rejectedSteps = 0;
+  /** Of `evaluations`, those the step kernel made (the right-hand side `f` did not see them). */
+  kernelEvaluations = 0;
+  /**
+   * With a kernel: called before each step; return true to run that step with
+   * `f` instead (the caller's per-evaluation checks then apply). May throw to stop.
+   */
+  beforeKernelStep: ((x: number, h: number) => boolean) | null = null;
 
   private readonly n: number;
   /** All stage derivatives in one array: stage s (0 … 15), component i at K[s·n + i]. */
@@ -86,15 +99,19 @@ export class Dop853 {
   /** Dense-output coefficients: y(xOld + θh) = r0 + θ(r1 + (1−θ)(r2 + θ(r3 + (1−θ)(r4 + θ(r5 + (1−θ)(r6 + θ r7)))))). */
   private readonly cont: Float64Array[];
 
-  constructor(n: number) {
+  private readonly kernel: Dop853Kernel | null;
+
+  constructor(n: number, kernel: Dop853Kernel | null = null) {
+    if (kernel !== null && kernel.y.length !== n) throw new RangeError(`the step kernel is for ${kernel.y.length} states, not ${n}`);
     this.n = n;
-    this.K = new Float64Array(16 * n);
+    this.kernel = kernel;
+    this.K = kernel?.K ?? new Float64Array(16 * n);
     this.k = Array.from({ length: 16 }, (_, s) => this.K.subarray(s * n, (s + 1) * n));
-    this.y = new Float64Array(n);
-    this.yNew = new Float64Array(n);
-    this.stage = new Float64Array(n);
-    this.fOld = new Float64Array(n);
-    this.cont = Array.from({ length: 8 }, () => new Float64Array(n));
+    this.y = kernel?.y ?? new Float64Array(n);
+    this.yNew = kernel?.yNew ?? new Float64Array(n);
+    this.stage = kernel?.stage ?? new Float64Array(n);
+    this.fOld = kernel?.fOld ?? new Float64Array(n);
+    this.cont = kernel ? [...kernel.cont] : Array.from({ length: 8 }, () => new Float64Array(n));
   }
 
   /** Integrates from (x, y0) to xEnd, calling `onStep` after each accepted step. */
@@ -104,11 +121,11 @@ export class Dop853 {
     const K = this.K;
     const y = this.y;
     const yNew = this.yNew;
-    const stage = this.stage;
     const cont = this.cont;
     const fOld = this.fOld;
     const rtol = this.relativeTolerance;
     const atol = this.absoluteTolerance;
+    const kernel = this.kernel;
     for (let i = 0; i < n; i++) y[i] = y0[i]!;
     let x = x0;
     const direction = xEnd >= x0 ? 1 : -1;
@@ -130,7 +147,10 @@ export class Dop853 {
     // Dense output on the last accepted step, computed on first use (three more evaluations).
     const dense = (component: number, t: number): number => {
       if (!denseReady) {
-        this.prepareDense(f, xOld, hStep);
+        if (kernel !== null && kernel.dense(xOld, hStep) === 0) {
+          this.evaluations += 3;
+          this.kernelEvaluations += 3;
+        } else this.prepareDense(f, xOld, hStep);
         denseReady = true;
       }
       const s = (t - xOld) / hStep;
@@ -149,51 +169,20 @@ export class Dop853 {
       }
       steps++;
 
-      // Stages 1 … 11 (A is sparse: zero coefficients are skipped).
-      for (let s = 1; s < STAGES; s++) {
-        const a = A[s]!;
-        for (let i = 0; i < n; i++) stage[i] = y[i]!;
-        for (let j = 0; j < s; j++) {
-          const w = a[j]! * h;
-          if (w === 0) continue;
-          const offset = j * n;
-          for (let i = 0; i < n; i++) stage[i] = stage[i]! + w * K[offset + i]!;
+      let err = -1;
+      if (kernel !== null && !(this.beforeKernelStep !== null && this.beforeKernelStep(x, h))) {
+        err = kernel.step(x, h, rtol, atol);
+        if (err >= 0 || err !== err) {
+          this.evaluations += STAGES - 1;
+          this.kernelEvaluations += STAGES - 1;
         }
-        f(x + C[s]! * h, stage, k[s]!);
       }
-      this.evaluations += STAGES - 1;
-
-      // The new solution and the error estimate (dop853.f: ERR, ERR2, DENO).
-      let err5 = 0;
-      let err3 = 0;
-      for (let i = 0; i < n; i++) {
-        // Stages 1 … 4 have zero weight in B, E3 and E5.
-        const a1 = K[i]!,
-          a6 = K[5 * n + i]!,
-          a7 = K[6 * n + i]!,
-          a8 = K[7 * n + i]!;
-        const a9 = K[8 * n + i]!,
-          a10 = K[9 * n + i]!,
-          a11 = K[10 * n + i]!,
-          a12 = K[11 * n + i]!;
-        const sumB = B0 * a1 + B5 * a6 + B6 * a7 + B7 * a8 + B8 * a9 + B9 * a10 + B10 * a11 + B11 * a12;
-        const sum3 = E30 * a1 + B5 * a6 + B6 * a7 + B7 * a8 + E38 * a9 + B9 * a10 + B10 * a11 + E311 * a12;
-        const sum5 = E50 * a1 + E55 * a6 + E56 * a7 + E57 * a8 + E58 * a9 + E59 * a10 + E510 * a11 + E511 * a12;
-        const yi = y[i]!;
-        const next = yi + h * sumB;
-        yNew[i] = next;
-        const sk = atol + rtol * Math.max(Math.abs(yi), Math.abs(next));
-        const e3 = sum3 / sk;
-        const e5 = sum5 / sk;
-        err3 += e3 * e3;
-        err5 += e5 * e5;
-      }
-      let deno = err5 + 0.01 * err3;
-      if (deno <= 0) deno = 1;
-      let err = Math.abs(h) * err5 * Math.sqrt(1 / (n * deno));
+      // −1: no kernel, or it could not complete the step: this file's own code, with f.
+      if (err === -1) err = this.stages(f, x, h);
       if (!(err >= 0 && err < Infinity)) err = Infinity; // NaN from a non-finite stage: reject and shrink.
 
-      const fac11 = err === Infinity ? Infinity : Math.pow(err, EXPO1);
+      // err^(1/8) as three square roots: correctly rounded each, and several times cheaper than Math.pow.
+      const fac11 = err === Infinity ? Infinity : Math.sqrt(Math.sqrt(Math.sqrt(err)));
       // BETA = 0 (the dop853.f default): no step-size stabilisation term.
       const fac = Math.max(1 / FAC2, Math.min(1 / FAC1, fac11 / SAFE));
       let hNew = h / fac;
@@ -201,18 +190,21 @@ export class Dop853 {
       if (err <= 1) {
         this.acceptedSteps++;
         const xNew = x + h;
-        f(xNew, yNew, kNew);
         this.evaluations++;
+        if (kernel !== null && kernel.accept(xNew) === 0) this.kernelEvaluations++;
+        else {
+          f(xNew, yNew, kNew);
+          // Keep y_old and f_old for the dense output (stages 1 … 12 stay in place until the next step).
+          for (let i = 0; i < n; i++) {
+            cont[0]![i] = y[i]!;
+            fOld[i] = K[i]!;
+            y[i] = yNew[i]!;
+            K[i] = K[12 * n + i]!;
+          }
+        }
         xOld = x;
         hStep = h;
-        // Keep y_old and f_old for the dense output (stages 1 … 12 stay in place until the next step).
         denseReady = false;
-        for (let i = 0; i < n; i++) {
-          cont[0]![i] = y[i]!;
-          fOld[i] = K[i]!;
-          y[i] = yNew[i]!;
-          K[i] = K[12 * n + i]!;
-        }
         x = xNew;
         if (onStep && onStep(steps, xOld, x, y, dense) === false) return this.result("stopped", x, hNew);
         if (last) return this.result("converged", x, hNew);
@@ -227,6 +219,62 @@ export class Dop853 {
       }
       h = hNew;
     }
+  }
+
+  /** Stages 1 … 11, yNew and the error norm of dop853.f, with f. */
+  private stages(f: RightHandSide, x: number, h: number): number {
+    const n = this.n;
+    const K = this.K;
+    const k = this.k;
+    const y = this.y;
+    const yNew = this.yNew;
+    const stage = this.stage;
+    const rtol = this.relativeTolerance;
+    const atol = this.absoluteTolerance;
+    // Stages 1 … 11 (A is sparse: zero coefficients are skipped).
+    for (let s = 1; s < STAGES; s++) {
+      const a = A[s]!;
+      for (let i = 0; i < n; i++) stage[i] = y[i]!;
+      for (let j = 0; j < s; j++) {
+        const w = a[j]! * h;
+        if (w === 0) continue;
+        const offset = j * n;
+        for (let i = 0; i < n; i++) stage[i] = stage[i]! + w * K[offset + i]!;
+      }
+      f(x + C[s]! * h, stage, k[s]!);
+    }
+    this.evaluations += STAGES - 1;
+
+    // The new solution and the error estimate (dop853.f: ERR, ERR2, DENO).
+    let err5 = 0;
+    let err3 = 0;
+    for (let i = 0; i < n; i++) {
+      // Stages 1 … 4 have zero weight in B, E3 and E5.
+      const a1 = K[i]!,
+        a6 = K[5 * n + i]!,
+        a7 = K[6 * n + i]!,
+        a8 = K[7 * n + i]!;
+      const a9 = K[8 * n + i]!,
+        a10 = K[9 * n + i]!,
+        a11 = K[10 * n + i]!,
+        a12 = K[11 * n + i]!;
+      const sumB = B0 * a1 + B5 * a6 + B6 * a7 + B7 * a8 + B8 * a9 + B9 * a10 + B10 * a11 + B11 * a12;
+      const sum3 = E30 * a1 + B5 * a6 + B6 * a7 + B7 * a8 + E38 * a9 + B9 * a10 + B10 * a11 + E311 * a12;
+      const sum5 = E50 * a1 + E55 * a6 + E56 * a7 + E57 * a8 + E58 * a9 + E59 * a10 + E510 * a11 + E511 * a12;
+      const yi = y[i]!;
+      const next = yi + h * sumB;
+      yNew[i] = next;
+      const sk = atol + rtol * Math.max(Math.abs(yi), Math.abs(next));
+      const e3 = sum3 / sk;
+      const e5 = sum5 / sk;
+      err3 += e3 * e3;
+      err5 += e5 * e5;
+    }
+    let deno = err5 + 0.01 * err3;
+    if (deno <= 0) deno = 1;
+    let err = Math.abs(h) * err5 * Math.sqrt(1 / (n * deno));
+    if (!(err >= 0 && err < Infinity)) err = Infinity; // NaN from a non-finite stage: reject and shrink.
+    return err;
   }
 
   /**

@@ -1,5 +1,6 @@
 import { Outcome, Solver } from "odex";
 import { Dop853 } from "./dop853";
+import { C as DOP853_NODES } from "./dop853-coefficients";
 import { SimulationSetupError, SingularMatrixError } from "./errors";
 import { createLuWorkspace, solveInPlace } from "../numeric/linear-solve";
 import { ConstraintFailure, ConstraintSet } from "./constraints";
@@ -9,6 +10,9 @@ import type { ExpressionEvaluator } from "./system";
 import { compileLocated, layoutOf, variableNames, type MechanicalSystem, type SpecializedEvaluators, type VariableLayout } from "./system";
 
 /** Values given per coordinate: an array in coordinate order, or a record by name (missing names are 0). */
+/** The smallest offset c·h of a DOP853 stage from the step's start, as a fraction of h (c₁). */
+const SMALLEST_STAGE_OFFSET = Math.min(...Array.from(DOP853_NODES).filter((c) => c > 0));
+
 export type NumericAssignment = readonly number[] | Readonly<Record<string, number>>;
 
 /** An input as a function of time, e.g. a motor torque u(t). */
@@ -353,6 +357,12 @@ class IntegrationRun {
     const method = chooseMethod(settings.method, relativeTolerance);
     this.method = method;
     const factor = STEP_TOLERANCE_FACTORS[method];
+    const specialized: SpecializedEvaluators = system.specialize
+      ? system.specialize(this.parameterValues)
+      : { massForcing: system.massForcing, ...(system.energy ? { energy: system.energy } : {}) };
+    // DOP853 without constraints runs whole steps in a WebAssembly module generated for this system, when it has one.
+    const stepKernel = method === "rk853" && this.constraintSet === null && specialized.acquireStepKernel ? specialized.acquireStepKernel() : null;
+    if (stepKernel !== null) this.releaseStepKernel = () => specialized.releaseStepKernel?.(stepKernel);
     if (method === "extrapolation") {
       const solver = new Solver(2 * n);
       solver.denseOutput = true;
@@ -361,7 +371,7 @@ class IntegrationRun {
       solver.maxSteps = maxSteps;
       this.solver = solver;
     } else {
-      const solver = new Dop853(2 * n);
+      const solver = new Dop853(2 * n, stepKernel);
       solver.relativeTolerance = relativeTolerance * factor;
       solver.absoluteTolerance = absoluteTolerance * factor;
       solver.maxSteps = maxSteps;
@@ -369,9 +379,6 @@ class IntegrationRun {
     }
 
     // ---- the right-hand side: the hot path, no allocation ----
-    const specialized: SpecializedEvaluators = system.specialize
-      ? system.specialize(this.parameterValues)
-      : { massForcing: system.massForcing, ...(system.energy ? { energy: system.energy } : {}) };
     this.energy = specialized.energy;
     const massForcing = specialized.massForcing;
     this.evaluateMassForcing = massForcing;
@@ -486,17 +493,41 @@ class IntegrationRun {
       this.lastStepSize = x - xOld;
       this.state = y;
       this.acceptedSteps++;
+      if (signal?.aborted) throw new StopIntegration("cancelled", "the simulation was cancelled");
+      // The clock every fourth step: a step takes microseconds, reading the clock a good part of one.
+      if ((this.acceptedSteps & 3) !== 0) return;
       const wall = now();
       if (wall > deadline) throw new StopIntegration("time_limit", `the time limit of ${timeLimitMs} ms was reached`);
-      if (signal?.aborted) throw new StopIntegration("cancelled", "the simulation was cancelled");
       if (onProgress && wall - lastProgress >= progressIntervalMs) {
         lastProgress = wall;
-        onProgress({ time: x, fraction: (x - startTime) / span, rhsEvaluations: this.rhsEvaluations, wallTimeMs: wall - this.began });
+        onProgress({ time: x, fraction: (x - startTime) / span, rhsEvaluations: this.evaluationCount(), wallTimeMs: wall - this.began });
       }
     };
     this.resetSolveCounter = () => {
       callsThisSolve = 0;
     };
+    if (stepKernel !== null && this.solver instanceof Dop853) {
+      const kernelValues = stepKernel.variables;
+      stepKernel.setInputs(
+        inputCount === 0
+          ? null
+          : (t) => {
+              writeInputs(t);
+              for (let k = 0; k < inputCount; k++) kernelValues[inputSlot + k] = values[inputSlot + k]!;
+            },
+      );
+      // The right-hand side's own checks, once per step: the time limit, cancelling, and a step so
+      // small that a stage's time is within roundoff of the last accepted one (that step then runs
+      // in JavaScript, where the right-hand side reports it).
+      let kernelSteps = 0;
+      this.solver.beforeKernelStep = (x, h) => {
+        if ((++kernelSteps & 7) === 0) {
+          if (now() > deadline) throw new StopIntegration("time_limit", `the time limit of ${timeLimitMs} ms was reached`);
+          if (signal?.aborted) throw new StopIntegration("cancelled", "the simulation was cancelled");
+        }
+        return SMALLEST_STAGE_OFFSET * Math.abs(h) <= tinyOffset(Math.abs(x) + Math.abs(h));
+      };
+    }
     if (constraintSet) this.projectInitialState(constraintSet);
   }
 
@@ -595,6 +626,8 @@ class IntegrationRun {
   }
 
   private readonly resetSolveCounter: () => void;
+  /** Returns the step kernel this run holds, if any, for the next run. */
+  private releaseStepKernel: (() => void) | null = null;
 
   canContinue(): boolean {
     return !this.done;
@@ -631,6 +664,11 @@ class IntegrationRun {
         throw error;
       }
     }
+  }
+
+  /** Right-hand sides evaluated so far, by the JavaScript path and by the step kernel. */
+  private evaluationCount(): number {
+    return this.rhsEvaluations + (this.solver instanceof Dop853 ? this.solver.kernelEvaluations : 0);
   }
 
   /** The first output time after `t`, or the end time. */
@@ -697,6 +735,8 @@ class IntegrationRun {
   }
 
   finish(): SimulationResult {
+    this.releaseStepKernel?.();
+    this.releaseStepKernel = null;
     const { n } = this.layout;
     const count = this.filled;
     const times = this.outputTimes.subarray(0, count);
@@ -713,7 +753,7 @@ class IntegrationRun {
       energy,
       parameterValues: { ...this.parameterValues },
       stats: {
-        rhsEvaluations: this.rhsEvaluations,
+        rhsEvaluations: this.evaluationCount(),
         acceptedSteps: this.acceptedSteps,
         wallTimeMs: now() - this.began,
         stepTolerance: { relative: this.solver.relativeTolerance as number, absolute: this.solver.absoluteTolerance as number },

@@ -4,6 +4,7 @@ import { ExpressionError } from "../mechanics/errors";
 import type { ExpressionSource } from "../mechanics/expr/parse";
 import type { Model } from "../mechanics/model";
 import { multiplierSymbol, type ConstraintSpec, type OutputSpec } from "./specs";
+import { stepKernelFactory, type Dop853Kernel } from "./dop853-wasm";
 import { SimulationSetupError } from "./errors";
 
 /**
@@ -67,6 +68,15 @@ export interface SpecializedEvaluators {
    * from `output`. The same numbers as `massForcing`, without its copies.
    */
   readonly massForcingKernel?: MassForcingKernel;
+  /**
+   * A DOP853 step kernel (dop853-wasm.ts) generated from the same expressions
+   * for one run's exclusive use, or null where the system keeps the JavaScript
+   * path. The module is compiled once; instances are reused once released
+   * (a reused instance's code is already optimized, a new one starts cold).
+   */
+  readonly acquireStepKernel?: () => Dop853Kernel | null;
+  /** Gives an acquired kernel back when its run has finished. */
+  readonly releaseStepKernel?: (kernel: Dop853Kernel) => void;
 }
 
 export interface MassForcingKernel {
@@ -77,6 +87,9 @@ export interface MassForcingKernel {
 
 export type MassForcingEvaluator = (values: Float64Array, out: Float64Array) => void;
 export type EnergyEvaluator = (values: Float64Array) => number;
+
+/** Released step kernels kept for reuse per parameter set (runs at once in one thread are few). */
+const MAX_FREE_STEP_KERNELS = 4;
 
 /** The variable names of the packed layout, in order: `q…`, `q'…`, `t`, inputs, parameters. */
 export function variableNames(system: Pick<MechanicalSystem, "coordinateNames" | "inputNames" | "parameters">): string[] {
@@ -190,9 +203,20 @@ export function systemFromMassMatrixForm(form: MassMatrixForm, compile: Expressi
     if (cached !== null && key === cachedKey) return cached;
     const compiled = compileLocated(expressions, fields, prefix, compile, constants);
     const kernel = (compiled as Partial<CompiledExpressions>).kernel;
+    let stepKernels: (() => Dop853Kernel) | null | undefined;
+    const freeStepKernels: Dop853Kernel[] = [];
+    const acquireStepKernel = (): Dop853Kernel | null => {
+      const free = freeStepKernels.pop();
+      if (free !== undefined) return free;
+      if (stepKernels === undefined) stepKernels = kernel ? stepKernelFactory({ ...kernel.source, n, inputCount: shape.inputNames.length }) : null;
+      return stepKernels === null ? null : stepKernels();
+    };
+    const releaseStepKernel = (stepKernel: Dop853Kernel) => {
+      if (freeStepKernels.length < MAX_FREE_STEP_KERNELS && !freeStepKernels.includes(stepKernel)) freeStepKernels.push(stepKernel);
+    };
     const specialized: SpecializedEvaluators = {
       massForcing: (values, out) => compiled.evaluate(values, out),
-      ...(kernel ? { massForcingKernel: { input: kernel.input, output: kernel.output, run: kernel.run } } : {}),
+      ...(kernel ? { massForcingKernel: { input: kernel.input, output: kernel.output, run: kernel.run }, acquireStepKernel, releaseStepKernel } : {}),
       energy: energyExpression === null ? undefined : energyEvaluator(compileLocated([energyExpression], ["energy"], prefix, compile, constants)),
     };
     cachedKey = key;

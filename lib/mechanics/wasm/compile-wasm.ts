@@ -1,5 +1,6 @@
 import type { ExpressionGraph, GraphOp } from "../graph";
-import { assembleModule, ByteWriter, F64, OP } from "./emit";
+import { assembleFunctions, ByteWriter, F64, I32, OP } from "./emit";
+import { emitTrigFunctions, type TrigFunctions, type TrigTypes } from "./trig";
 
 /**
  * Compiles the part of an expression graph that `roots` need into a
@@ -12,9 +13,11 @@ import { assembleModule, ByteWriter, F64, OP } from "./emit";
  *     [ variables (nv f64) | outputs (roots.length f64) ]
  *
  * and exports `run()`, which reads the variables and writes every output.
- * Arithmetic and √, |x| are native f64 instructions; the other functions are
- * imports of the host's Math (the same functions the tape evaluator calls, so
- * the two agree to the last bit).
+ * Arithmetic and √, |x| are native f64 instructions; sine and cosine are
+ * functions of the module (trig.ts: the algorithm of the engine's own Math.sin
+ * and Math.cos, bit for bit, without leaving WebAssembly at each call); the
+ * other functions are imports of the host's Math. The tape evaluator calls
+ * Math, so the two agree to the last bit.
  */
 export interface WasmKernel {
   /** Write the variable values here (a view of the module's memory). */
@@ -24,9 +27,11 @@ export interface WasmKernel {
   readonly run: () => void;
   /** Size of the module in bytes. */
   readonly byteLength: number;
+  /** What the module was generated from, for callers that generate a larger module around it. */
+  readonly source: { readonly graph: ExpressionGraph; readonly roots: readonly number[]; readonly variableCount: number };
 }
 
-type ImportedOp = Exclude<GraphOp, "const" | "var" | "add" | "sub" | "mul" | "div" | "neg" | "square" | "cube" | "sqrt" | "abs">;
+export type ImportedOp = Exclude<GraphOp, "const" | "var" | "add" | "sub" | "mul" | "div" | "neg" | "square" | "cube" | "sqrt" | "abs">;
 
 const IMPORTED: Record<ImportedOp, { math: (...args: number[]) => number; arity: 1 | 2 }> = {
   pow: { math: Math.pow, arity: 2 },
@@ -46,6 +51,18 @@ const IMPORTED: Record<ImportedOp, { math: (...args: number[]) => number; arity:
 const NATIVE_BINARY: Partial<Record<GraphOp, number>> = { add: OP.f64Add, sub: OP.f64Sub, mul: OP.f64Mul, div: OP.f64Div };
 const NATIVE_UNARY: Partial<Record<GraphOp, number>> = { neg: OP.f64Neg, sqrt: OP.f64Sqrt, abs: OP.f64Abs };
 
+/** The host functions behind the imports, keyed by field name. */
+export function mathImports(imports: readonly ImportedOp[]): Record<string, (...args: number[]) => number> {
+  const math: Record<string, (...args: number[]) => number> = {};
+  for (const op of imports) math[op] = IMPORTED[op].math;
+  return math;
+}
+
+/** The import's type in a module whose types 1 and 2 are (f64) → f64 and (f64, f64) → f64. */
+export function importArity(op: ImportedOp): 1 | 2 {
+  return IMPORTED[op].arity;
+}
+
 /** Functions above this many instructions stay on the tape (engines limit a function's size and locals). */
 export const WASM_MAX_INSTRUCTIONS = 200_000;
 
@@ -54,8 +71,26 @@ export function wasmAvailable(): boolean {
   return typeof WebAssembly === "object" && typeof WebAssembly.Module === "function" && typeof WebAssembly.Instance === "function";
 }
 
-/** The module's bytes (exported for tests, which validate them). */
-export function emitGraphModule(graph: ExpressionGraph, roots: readonly number[], variableCount: number): { bytes: Uint8Array; imports: ImportedOp[] } {
+/** The body of a function that evaluates the graph's roots, and the imports it calls (function indices 0 … imports.length − 1). */
+export interface GraphFunction {
+  /** The body without the final `end`; it takes no parameters and returns nothing. */
+  code: Uint8Array;
+  /** f64 locals the body uses. */
+  locals: number;
+  imports: ImportedOp[];
+}
+
+/**
+ * Emits the code that reads the variables from memory [0, 8·variableCount)
+ * and writes root j to the f64 right after them (address 8·(variableCount + j)).
+ */
+export function emitGraphFunction(
+  graph: ExpressionGraph,
+  roots: readonly number[],
+  variableCount: number,
+  /** Function index to call for an imported operation instead of its import (a function of the module itself). */
+  native: (op: ImportedOp, importCount: number) => number | undefined = () => undefined,
+): GraphFunction {
   const order = graph.reachable(roots);
   const nodes = graph.nodes;
   const isLeaf = (op: GraphOp) => op === "var" || op === "const";
@@ -128,8 +163,9 @@ export function emitGraphModule(graph: ExpressionGraph, roots: readonly number[]
       operand(node.a);
       code.byte(NATIVE_UNARY[op]);
     } else {
-      const index = importIndex.get(op);
-      if (index === undefined) throw new Error(`no WebAssembly form for "${op}"`);
+      const imported = importIndex.get(op);
+      if (imported === undefined) throw new Error(`no WebAssembly form for "${op}"`);
+      const index = native(op as ImportedOp, imports.length) ?? imported;
       operand(node.a);
       if (IMPORTED[op as ImportedOp].arity === 2) operand(node.b);
       code.byte(OP.call).u32(index);
@@ -149,18 +185,73 @@ export function emitGraphModule(graph: ExpressionGraph, roots: readonly number[]
       .u32(8 * (variableCount + j));
   });
 
+  return { code: code.toBytes(), locals: localCount, imports };
+}
+
+/** The module's bytes (exported for tests, which validate them). */
+export function emitGraphModule(graph: ExpressionGraph, roots: readonly number[], variableCount: number): { bytes: Uint8Array; imports: ImportedOp[] } {
+  // Functions: imports, then run, then sine and cosine when the graph uses them.
+  const made: { trig?: TrigFunctions } = {};
+  const {
+    code,
+    locals: localCount,
+    imports,
+  } = emitGraphFunction(graph, roots, variableCount, (op, importCount) => {
+    if (op !== "sin" && op !== "cos") return undefined;
+    made.trig ??= nativeTrig(graph, roots, importCount + 1, STANDARD_TYPES);
+    return made.trig[op];
+  });
+  const extra = made.trig;
   const bytesNeeded = 8 * (variableCount + roots.length);
-  const bytes = assembleModule({
-    types: [
-      { params: [], results: [] },
-      { params: [F64], results: [F64] },
-      { params: [F64, F64], results: [F64] },
+  const bytes = assembleFunctions({
+    types: STANDARD_TYPES.list,
+    imports: imports.map((op) => ({ field: op, type: IMPORTED[op].arity === 2 ? STANDARD_TYPES.binary : STANDARD_TYPES.unary })),
+    functions: [
+      { type: STANDARD_TYPES.none, locals: localCount > 0 ? [{ count: localCount, type: F64 }] : [], code, export: "run" },
+      ...(extra?.functions ?? []),
     ],
-    imports: imports.map((op) => ({ field: op, type: IMPORTED[op].arity === 2 ? 2 : 1 })),
-    body: { type: 0, locals: localCount, code: code.toBytes() },
     memoryPages: Math.max(1, Math.ceil(bytesNeeded / 65536)),
   });
   return { bytes, imports };
+}
+
+/**
+ * The function types every generated module declares (unused ones cost a few
+ * bytes), so that helpers such as the sine and cosine can name them.
+ */
+export const STANDARD_TYPES = {
+  list: [
+    { params: [], results: [] },
+    { params: [F64], results: [F64] },
+    { params: [F64, F64], results: [F64] },
+    { params: [F64, F64, I32], results: [F64] },
+  ],
+  none: 0,
+  unary: 1,
+  binary: 2,
+  kernelSin: 3,
+};
+
+/**
+ * The native sine and cosine for the ones the graph uses, to be placed at
+ * `first`, `first + 1`, …; the graph's imports of sin and cos stay for their
+ * large-argument fallback.
+ */
+export function nativeTrig(graph: ExpressionGraph, roots: readonly number[], first: number, types: TrigTypes): TrigFunctions {
+  const imports = graphImports(graph, roots);
+  const sin = imports.indexOf("sin");
+  const cos = imports.indexOf("cos");
+  return emitTrigFunctions(first, { ...(sin >= 0 ? { sin } : {}), ...(cos >= 0 ? { cos } : {}) }, types);
+}
+
+/** The imported operations the graph's roots use, in the order emitGraphFunction numbers them. */
+export function graphImports(graph: ExpressionGraph, roots: readonly number[]): ImportedOp[] {
+  const imports: ImportedOp[] = [];
+  for (const id of graph.reachable(roots)) {
+    const op = graph.nodes[id]!.op;
+    if (op in IMPORTED && !imports.includes(op as ImportedOp)) imports.push(op as ImportedOp);
+  }
+  return imports;
 }
 
 /**
@@ -174,8 +265,7 @@ export function compileGraphToWasm(graph: ExpressionGraph, roots: readonly numbe
   if (graph.reachable(roots).length > WASM_MAX_INSTRUCTIONS) return null;
   try {
     const { bytes, imports } = emitGraphModule(graph, roots, variableCount);
-    const math: Record<string, (...args: number[]) => number> = {};
-    for (const op of imports) math[op] = IMPORTED[op].math;
+    const math = mathImports(imports);
     const compiled = new WebAssembly.Module(bytes as Uint8Array<ArrayBuffer>);
     const instance = new WebAssembly.Instance(compiled, { m: math });
     const memory = instance.exports.memory as WebAssembly.Memory;
@@ -185,6 +275,7 @@ export function compileGraphToWasm(graph: ExpressionGraph, roots: readonly numbe
       output: new Float64Array(memory.buffer, 8 * variableCount, roots.length),
       run,
       byteLength: bytes.length,
+      source: { graph, roots, variableCount },
     };
   } catch {
     // CompileError, LinkError, or a RangeError from a size limit: fall back.

@@ -7,10 +7,20 @@
 
 /** Value type f64 (spec 5.3.1). */
 export const F64 = 0x7c;
+/** Value type i32 (spec 5.3.1). */
+export const I32 = 0x7f;
+/** Block type of a block that leaves nothing on the stack (spec 5.4.1). */
+export const EMPTY_BLOCK = 0x40;
 
 /** The opcodes we emit (spec 5.4). */
 export const OP = {
+  block: 0x02,
+  if: 0x04,
+  else: 0x05,
   end: 0x0b,
+  br: 0x0c,
+  brIf: 0x0d,
+  return: 0x0f,
   call: 0x10,
   localGet: 0x20,
   localSet: 0x21,
@@ -18,7 +28,32 @@ export const OP = {
   f64Load: 0x2b,
   f64Store: 0x39,
   i32Const: 0x41,
+  i64Const: 0x42,
   f64Const: 0x44,
+  i32Eqz: 0x45,
+  i32Eq: 0x46,
+  i32Ne: 0x47,
+  i32LtS: 0x48,
+  i32GtS: 0x4a,
+  i32LeS: 0x4c,
+  i32GeS: 0x4e,
+  i32Sub: 0x6b,
+  i32And: 0x71,
+  i32Or: 0x72,
+  i32ShrS: 0x75,
+  i64Shl: 0x86,
+  i64ShrU: 0x88,
+  i32WrapI64: 0xa7,
+  i32TruncF64S: 0xaa,
+  i64ExtendI32U: 0xad,
+  f64ConvertI32S: 0xb7,
+  i64ReinterpretF64: 0xbd,
+  f64ReinterpretI64: 0xbf,
+  f64Eq: 0x61,
+  f64Ne: 0x62,
+  f64Lt: 0x63,
+  f64Gt: 0x64,
+  f64Le: 0x65,
   f64Abs: 0x99,
   f64Neg: 0x9a,
   f64Sqrt: 0x9f,
@@ -26,6 +61,7 @@ export const OP = {
   f64Sub: 0xa1,
   f64Mul: 0xa2,
   f64Div: 0xa3,
+  f64Max: 0xa5,
 } as const;
 
 /** A growable byte buffer with the format's integer encodings (LEB128, spec 5.2.2). */
@@ -125,6 +161,38 @@ export interface ModuleParts {
 
 /** Assembles a module with one exported function and one exported memory (spec 5.5). */
 export function assembleModule(parts: ModuleParts): Uint8Array {
+  return assembleFunctions({
+    types: parts.types,
+    imports: parts.imports,
+    functions: [
+      { type: parts.body.type, locals: parts.body.locals > 0 ? [{ count: parts.body.locals, type: F64 }] : [], code: parts.body.code, export: "run" },
+    ],
+    memoryPages: parts.memoryPages,
+  });
+}
+
+export interface DefinedFunction {
+  type: number;
+  /** Local declarations beyond the parameters, in runs of one value type. */
+  locals: readonly { count: number; type: number }[];
+  /** The body without the final `end`. */
+  code: Uint8Array;
+  /** The export name, if the host may call it. */
+  export?: string;
+}
+
+export interface FunctionModuleParts {
+  types: readonly FunctionType[];
+  /** Imported functions (module "m"), with their type index; they take function indices 0 … imports.length − 1. */
+  imports: readonly { field: string; type: number }[];
+  /** Defined functions; function i here has index imports.length + i. */
+  functions: readonly DefinedFunction[];
+  /** Pages of 64 KiB of the module's own memory (exported as "memory"). */
+  memoryPages: number;
+}
+
+/** Assembles a module of several functions and one exported memory (spec 5.5). */
+export function assembleFunctions(parts: FunctionModuleParts): Uint8Array {
   const out = new ByteWriter();
   out.raw(Uint8Array.of(0x00, 0x61, 0x73, 0x6d, 0x01, 0x00, 0x00, 0x00));
   const section = (id: number, write: (w: ByteWriter) => void) => {
@@ -140,19 +208,109 @@ export function assembleModule(parts: ModuleParts): Uint8Array {
     }),
   );
   if (parts.imports.length > 0) section(2, (w) => w.vector(parts.imports, (imp) => w.name("m").name(imp.field).byte(0x00).u32(imp.type)));
-  section(3, (w) => w.vector([parts.body.type], (t) => w.u32(t)));
+  section(3, (w) => w.vector(parts.functions, (f) => w.u32(f.type)));
   section(5, (w) => w.vector([parts.memoryPages], (pages) => w.byte(0x01).u32(pages).u32(pages)));
+  const exported = parts.functions.flatMap((f, i) => (f.export === undefined ? [] : [{ name: f.export, index: parts.imports.length + i }]));
   section(7, (w) => {
-    w.u32(2);
-    w.name("run").byte(0x00).u32(parts.imports.length);
+    w.u32(exported.length + 1);
+    for (const e of exported) w.name(e.name).byte(0x00).u32(e.index);
     w.name("memory").byte(0x02).u32(0);
   });
   section(10, (w) => {
-    const fn = new ByteWriter();
-    if (parts.body.locals > 0) fn.u32(1).u32(parts.body.locals).byte(F64);
-    else fn.u32(0);
-    fn.raw(parts.body.code).byte(OP.end);
-    w.u32(1).u32(fn.length).raw(fn.toBytes());
+    w.u32(parts.functions.length);
+    for (const f of parts.functions) {
+      const fn = new ByteWriter();
+      fn.vector(f.locals, (l) => fn.u32(l.count).byte(l.type));
+      fn.raw(f.code).byte(OP.end);
+      w.u32(fn.length).raw(fn.toBytes());
+    }
   });
   return out.toBytes();
+}
+
+/**
+ * Emits a function body with f64 memory access by absolute slot (8 bytes
+ * each) or relative to an i32 local, and the few control forms we use.
+ */
+export class CodeWriter {
+  readonly w = new ByteWriter();
+  op(byte: number): this {
+    this.w.byte(byte);
+    return this;
+  }
+  get(local: number): this {
+    this.w.byte(OP.localGet).u32(local);
+    return this;
+  }
+  set(local: number): this {
+    this.w.byte(OP.localSet).u32(local);
+    return this;
+  }
+  tee(local: number): this {
+    this.w.byte(OP.localTee).u32(local);
+    return this;
+  }
+  f64(value: number): this {
+    this.w.byte(OP.f64Const).f64(value);
+    return this;
+  }
+  i32(value: number): this {
+    this.w.byte(OP.i32Const).i32(value);
+    return this;
+  }
+  /** Pushes the f64 at slot `slot`. */
+  load(slot: number): this {
+    this.i32(0);
+    this.w
+      .byte(OP.f64Load)
+      .u32(3)
+      .u32(8 * slot);
+    return this;
+  }
+  /** Pushes the f64 at slot `slot` past the i32 address held in local `base`. */
+  loadAt(base: number, slot: number): this {
+    this.get(base);
+    this.w
+      .byte(OP.f64Load)
+      .u32(3)
+      .u32(8 * slot);
+    return this;
+  }
+  /** Stores the value `push` leaves on the stack at slot `slot`. */
+  store(slot: number, push: () => void): this {
+    this.i32(0);
+    push();
+    this.w
+      .byte(OP.f64Store)
+      .u32(3)
+      .u32(8 * slot);
+    return this;
+  }
+  storeAt(base: number, slot: number, push: () => void): this {
+    this.get(base);
+    push();
+    this.w
+      .byte(OP.f64Store)
+      .u32(3)
+      .u32(8 * slot);
+    return this;
+  }
+  call(index: number): this {
+    this.w.byte(OP.call).u32(index);
+    return this;
+  }
+  /** If the i32 on the stack is non-zero, run `then` (and otherwise `otherwise`); nothing is left on the stack. */
+  ifNonZero(then: () => void, otherwise?: () => void): this {
+    this.w.byte(OP.if).byte(EMPTY_BLOCK);
+    then();
+    if (otherwise) {
+      this.w.byte(OP.else);
+      otherwise();
+    }
+    this.w.byte(OP.end);
+    return this;
+  }
+  bytes(): Uint8Array {
+    return this.w.toBytes();
+  }
 }

@@ -1,37 +1,14 @@
 import { describe, expect, it } from "vitest";
 import { compileExpressions } from "@/lib/mechanics/compile";
-import { chooseMethod, integrate, type SimulationResult, type SimulationSettings } from "@/lib/simulate/integrate";
+import { chooseMethod, integrate, type SimulationSettings } from "@/lib/simulate/integrate";
 import { SimulationSetupError } from "@/lib/simulate/errors";
 import { systemFromMassMatrixForm, type ExpressionCompiler } from "@/lib/simulate/system";
-import { templateAndDemoForms } from "./models";
+import { largestDifference, templateAndDemoForms } from "./models";
 
 // Today's path before this change: the tape evaluator and odex.
 const tape: ExpressionCompiler = (expressions, variables, constants) => compileExpressions(expressions, variables, { constants, backend: "tape" });
 
 const TOLERANCE = 1e-9;
-
-/** The largest difference between two runs over every stored series, relative to 1 + the series' largest magnitude. */
-function largestDifference(a: SimulationResult, b: SimulationResult): number {
-  const series = (r: SimulationResult) => [
-    ...r.trajectory.coordinates,
-    ...r.trajectory.rates,
-    ...(r.energy ? [r.energy] : []),
-    ...r.outputs.map((o) => o.values),
-    ...(r.constraints?.multipliers ?? []),
-  ];
-  const left = series(a);
-  const right = series(b);
-  expect(left.length).toBe(right.length);
-  let worst = 0;
-  left.forEach((column, c) => {
-    const other = right[c]!;
-    expect(column.length).toBe(other.length);
-    let scale = 1;
-    for (let k = 0; k < column.length; k++) scale = Math.max(scale, Math.abs(other[k]!));
-    for (let k = 0; k < column.length; k++) worst = Math.max(worst, Math.abs(column[k]! - other[k]!) / scale);
-  });
-  return worst;
-}
 
 describe("the method setting", () => {
   it("resolves auto to DOP853 over the tolerances the settings allow, and keeps an explicit choice", () => {

@@ -6,6 +6,8 @@ import type { Model } from "@/lib/mechanics/model";
 import { validateModel } from "@/lib/mechanics/validate-model";
 import { documentToModel, parseStoredDocument } from "@/lib/notebook/document";
 import { TEMPLATES } from "@/lib/notebook/templates";
+import { expect } from "vitest";
+import type { SimulationResult } from "@/lib/simulate/integrate";
 import { massMatrixFormOf, type MassMatrixForm } from "@/lib/simulate/system";
 
 export interface NamedForm {
@@ -35,4 +37,27 @@ export function seededRandom(seed: number): () => number {
     state = (Math.imul(state, 1664525) + 1013904223) >>> 0;
     return state / 2 ** 32;
   };
+}
+
+/** The largest difference between two runs over every stored series, relative to 1 + the series' largest magnitude. */
+export function largestDifference(a: SimulationResult, b: SimulationResult): number {
+  const series = (r: SimulationResult) => [
+    ...r.trajectory.coordinates,
+    ...r.trajectory.rates,
+    ...(r.energy ? [r.energy] : []),
+    ...r.outputs.map((o) => o.values),
+    ...(r.constraints?.multipliers ?? []),
+  ];
+  const left = series(a);
+  const right = series(b);
+  expect(left.length).toBe(right.length);
+  let worst = 0;
+  left.forEach((column, c) => {
+    const other = right[c]!;
+    expect(column.length).toBe(other.length);
+    let scale = 1;
+    for (let k = 0; k < column.length; k++) scale = Math.max(scale, Math.abs(other[k]!));
+    for (let k = 0; k < column.length; k++) worst = Math.max(worst, Math.abs(column[k]! - other[k]!) / scale);
+  });
+  return worst;
 }
