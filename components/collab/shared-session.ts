@@ -106,8 +106,12 @@ const CLOSE_REASONS: Record<number, string> = {
   4429: "too many edits in a short time",
 };
 
+/** Codes whose server reason says it all (no access, locked, a role that no longer edits, deleted): shown alone. */
+const REASON_SUFFICES = new Set([4403, 4404]);
+
 /** The sentence shown for a refused connection: the server's reason when it gave one. */
 export function refusalText(code: number, reason: string): string {
+  if (reason && REASON_SUFFICES.has(code)) return /[.!?]$/.test(reason) ? reason : `${reason}.`;
   const known = CLOSE_REASONS[code];
   if (reason && known) return `${reason.replace(/\.$/, "")} — ${known}.`;
   return reason || (known ? `${known[0]!.toUpperCase()}${known.slice(1)}.` : `Closed by the server (code ${code}).`);

@@ -36,6 +36,19 @@ export const SHARED_DOC_CHANNEL = "holonomy_doc";
  */
 export const SHARED_PRESENCE_CHANNEL = "holonomy_presence";
 
+/**
+ * The channel on which a change of someone's team membership (a new role, a
+ * removal) is announced to the collaboration servers: payload `<userId>`, sent
+ * in the changing transaction so it arrives at commit. Each server then judges
+ * that person's open connections again (server/collab/server.ts).
+ */
+export const SHARED_ACCESS_CHANNEL = "holonomy_access";
+
+/** Announces, at commit of the executor's transaction, that `userId`'s access may have changed. */
+export async function notifyAccessChanged(executor: Executor, userId: string): Promise<void> {
+  await executor.execute(sql`select pg_notify(${SHARED_ACCESS_CHANNEL}, ${userId})`);
+}
+
 /** NOTIFY refuses a payload of 8000 bytes or more. */
 export const NOTIFY_PAYLOAD_LIMIT = 7999;
 

@@ -5,6 +5,7 @@ import { db, type Executor } from "../client";
 import { ConflictError, NotFoundError } from "../errors";
 import { memberships, teams, users, type MemberRole, type Membership, type Team } from "../schema";
 import { recordAuditEvent } from "./audit";
+import { notifyAccessChanged } from "./collab";
 
 export interface TeamWithRole extends Team {
   role: MemberRole;
@@ -157,6 +158,8 @@ export async function updateMemberRoleByTeamIdAndUserId({
       { teamId, actorId, action: "member.role_change", targetType: "user", targetId: userId, details: { from: current.role, to: role } },
       tx,
     );
+    // Open co-editing connections are judged again against the new role once this commits.
+    await notifyAccessChanged(tx, userId);
     return updated;
   });
 }
@@ -172,5 +175,6 @@ export async function deleteMembershipByTeamIdAndUserId({ teamId, userId, actorI
     }
     await tx.delete(memberships).where(eq(memberships.id, current.id));
     await recordAuditEvent({ teamId, actorId, action: "member.remove", targetType: "user", targetId: userId, details: { role: current.role } }, tx);
+    await notifyAccessChanged(tx, userId);
   });
 }

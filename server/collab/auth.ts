@@ -21,8 +21,22 @@ export type ConnectionAdmission = (who: {
   address: string | null;
 }) => Promise<{ allowed: true } | { allowed: false; retryAfterSeconds: number }>;
 
+/** The grant of `userId` on the derivation `room` as the database has it now; throws `RefusedConnection`. */
+async function grantFor(userId: string, room: string): Promise<ConnectionGrant> {
+  if (!uuidPattern.test(room)) throw new RefusedConnection(CloseCode.noDerivation, "No such derivation.");
+  const derivation = await getDerivationById({ id: room });
+  if (!derivation) throw new RefusedConnection(CloseCode.noDerivation, "No such derivation.");
+  const [user, membership] = await Promise.all([getUserById({ id: userId }), getMembershipByTeamIdAndUserId({ teamId: derivation.teamId, userId: userId })]);
+  const resource = { status: derivation.status, locked: derivation.lockedAt !== null, isOwner: derivation.ownerId === userId };
+  if (!user || !membership || !can(membership.role, "derivation:read", resource)) {
+    throw new RefusedConnection(CloseCode.noAccess, "You do not have access to this derivation.");
+  }
+  return { userId: user.id, derivationId: derivation.id, readOnly: !can(membership.role, "derivation:edit", resource) };
+}
+
 export function createTokenAuthenticator({ secret, admit }: { secret: string; admit?: ConnectionAdmission }): Authenticator {
   return {
+    regrant: grantFor,
     async authenticate(token: string | null, room: string, address: string | null = null): Promise<ConnectionGrant> {
       if (!token) throw new RefusedConnection(CloseCode.badToken, "No connection token.");
       let claims;
@@ -45,18 +59,7 @@ export function createTokenAuthenticator({ secret, admit }: { secret: string; ad
           throw new RefusedConnection(CloseCode.tooMany, `Too many connections in a short time. Try again in ${decision.retryAfterSeconds} s.`);
         }
       }
-      if (!uuidPattern.test(room)) throw new RefusedConnection(CloseCode.noDerivation, "No such derivation.");
-      const derivation = await getDerivationById({ id: room });
-      if (!derivation) throw new RefusedConnection(CloseCode.noDerivation, "No such derivation.");
-      const [user, membership] = await Promise.all([
-        getUserById({ id: claims.userId }),
-        getMembershipByTeamIdAndUserId({ teamId: derivation.teamId, userId: claims.userId }),
-      ]);
-      const resource = { status: derivation.status, locked: derivation.lockedAt !== null, isOwner: derivation.ownerId === claims.userId };
-      if (!user || !membership || !can(membership.role, "derivation:read", resource)) {
-        throw new RefusedConnection(CloseCode.noAccess, "You do not have access to this derivation.");
-      }
-      return { userId: user.id, derivationId: derivation.id, readOnly: !can(membership.role, "derivation:edit", resource) };
+      return grantFor(claims.userId, room);
     },
   };
 }

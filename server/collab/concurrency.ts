@@ -39,5 +39,9 @@ export function limitJsonCopy(jsonCopy: JsonCopyWriter, slots: Semaphore): JsonC
 }
 
 export function limitAuthenticator(auth: Authenticator, slots: Semaphore): Authenticator {
-  return { authenticate: (token, room, address) => slots.run(() => auth.authenticate(token, room, address)) };
+  const regrant = auth.regrant;
+  return {
+    authenticate: (token, room, address) => slots.run(() => auth.authenticate(token, room, address)),
+    ...(regrant ? { regrant: (userId: string, derivationId: string) => slots.run(() => regrant(userId, derivationId)) } : {}),
+  };
 }

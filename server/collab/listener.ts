@@ -1,5 +1,5 @@
 /**
- * LISTEN on `holonomy_doc` and `holonomy_presence` over its own connection
+ * LISTEN on `holonomy_doc`, `holonomy_presence` and `holonomy_access` over its own connection
  * (not from the pool: a pooled client would be handed back and lose the
  * LISTEN). Notifications sent while it is down are lost, so after every
  * reconnect the server resyncs its loaded documents from storage.
@@ -13,10 +13,12 @@
  */
 import { randomBytes } from "node:crypto";
 import { Client } from "pg";
-import { NOTIFY_PAYLOAD_LIMIT, SHARED_DOC_CHANNEL, SHARED_PRESENCE_CHANNEL, readSharedDocUpdatesOn } from "@/db/queries/collab";
+import { NOTIFY_PAYLOAD_LIMIT, SHARED_ACCESS_CHANNEL, SHARED_DOC_CHANNEL, SHARED_PRESENCE_CHANNEL, readSharedDocUpdatesOn } from "@/db/queries/collab";
 import type { Logger, NotificationHandlers, UpdateNotifications } from "./types";
 
 const UUID = "[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}";
+/** `<userId>`: that person's team membership changed. */
+const ACCESS_PAYLOAD = new RegExp(`^(${UUID})$`, "i");
 /** `<derivationId>:<rowId>` (a server-side write) or `<derivationId>:<rowId>:<instanceId>`. */
 const UPDATE_PAYLOAD = new RegExp(`^(${UUID}):(\\d+)(?::([0-9a-z]{1,32}))?$`, "i");
 /** `<derivationId>:<instanceId>:u:<base64>` or `<derivationId>:<instanceId>:q`. */
@@ -57,6 +59,11 @@ export function createPostgresNotifications({
       if (from !== instanceId) handlers.onUpdate(match[1]!.toLowerCase(), Number(match[2]), from);
       return;
     }
+    if (channel === SHARED_ACCESS_CHANNEL) {
+      const match = ACCESS_PAYLOAD.exec(payload);
+      if (match) handlers.onAccessChanged?.(match[1]!.toLowerCase());
+      return;
+    }
     if (channel === SHARED_PRESENCE_CHANNEL) {
       const match = PRESENCE_PAYLOAD.exec(payload);
       if (!match) return;
@@ -84,6 +91,7 @@ export function createPostgresNotifications({
     await next.connect();
     await next.query(`LISTEN ${SHARED_DOC_CHANNEL}`);
     await next.query(`LISTEN ${SHARED_PRESENCE_CHANNEL}`);
+    await next.query(`LISTEN ${SHARED_ACCESS_CHANNEL}`);
     client = next;
     if (isReconnect) handlers?.onReconnect();
   }

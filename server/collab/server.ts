@@ -31,6 +31,8 @@ import {
 
 export const COLLAB_PATH = "/collab";
 const PING_INTERVAL_MS = 30_000;
+/** The close reason when a person's new role no longer lets them edit (at most 123 bytes). */
+export const ROLE_NO_LONGER_EDITS = "Your role in this team changed and no longer lets you edit; reload to read it.";
 /** Messages a connection may send while it is being authenticated (the provider sends two). */
 const MAX_EARLY_MESSAGES = 32;
 
@@ -333,6 +335,32 @@ export function createCollabServer(options: CollabServerOptions): CollabServer {
     (room ?? loadingRooms.get(derivationId))?.announcedWhileLoading();
   }
 
+  /**
+   * Someone's membership changed: their connections are judged again. One
+   * that may no longer read is closed with the refusal; one that could edit
+   * and now may only read is closed with 4403 (the page reloads read-only).
+   * A connection that gained rights keeps its grant until it reconnects.
+   */
+  async function rejudge(userId: string): Promise<void> {
+    const regrant = options.auth.regrant;
+    if (!regrant) return;
+    for (const [derivationId, room] of rooms) {
+      const theirs = [...room.connections.keys()].filter((connection) => connection.grant.userId === userId);
+      if (theirs.length === 0) continue;
+      let grant;
+      try {
+        grant = await regrant(userId, derivationId);
+      } catch (error) {
+        if (!(error instanceof RefusedConnection)) throw error;
+        for (const connection of theirs) connection.close(error.code, error.reason);
+        continue;
+      }
+      for (const connection of theirs) {
+        if (!connection.grant.readOnly && grant.readOnly) connection.close(CloseCode.noAccess, ROLE_NO_LONGER_EDITS);
+      }
+    }
+  }
+
   async function readAnnounced(peers: UpdateNotifications): Promise<void> {
     try {
       while (announced.size > 0) {
@@ -387,6 +415,9 @@ export function createCollabServer(options: CollabServerOptions): CollabServer {
         onAwarenessQuery: (derivationId) => rooms.get(derivationId)?.sendLocalAwareness(),
         onReconnect: () => {
           for (const room of rooms.values()) room.resync().catch((error: unknown) => logger.error(`resync of ${room.derivationId} failed`, error));
+        },
+        onAccessChanged: (userId) => {
+          rejudge(userId).catch((error: unknown) => logger.error(`judging the connections of ${userId} again failed`, error));
         },
       });
       await new Promise<void>((resolve, reject) => {

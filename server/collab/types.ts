@@ -44,6 +44,8 @@ export interface ConnectionGrant {
 export interface Authenticator {
   /** The grant for a token and the room it connects to; throws `RefusedConnection`. */
   authenticate(token: string | null, room: string, address?: string | null): Promise<ConnectionGrant>;
+  /** The grant this person would get now (after a membership change); throws `RefusedConnection` when none. */
+  regrant?(userId: string, derivationId: string): Promise<ConnectionGrant>;
 }
 
 export interface DerivationState {
@@ -79,6 +81,8 @@ export interface NotificationHandlers {
   onAwarenessQuery(derivationId: string, from: string): void;
   /** The listening connection came back: notifications may have been missed meanwhile. */
   onReconnect(): void;
+  /** Someone's team membership changed (new role, removal): judge their open connections again. */
+  onAccessChanged?(userId: string): void;
 }
 
 /**

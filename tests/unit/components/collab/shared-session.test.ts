@@ -44,6 +44,18 @@ function kineticText(session: SharedSession): Y.Text {
   return fieldText(session.ydoc, cell.id, "expr")!;
 }
 
+describe("refusalText", () => {
+  it("shows a specific server reason alone for no access or a deleted derivation, and adds advice to a token refusal", () => {
+    const demoted = "Your role in this team changed and no longer lets you edit; reload to read it.";
+    expect(refusalText(4403, demoted)).toBe(demoted);
+    expect(refusalText(4404, "This derivation was deleted")).toBe("This derivation was deleted.");
+    expect(refusalText(4401, "The connection token has expired.")).toBe(
+      "The connection token has expired — your access to this document could not be confirmed; reload the page or sign in again.",
+    );
+    expect(refusalText(4403, "")).toBe("You no longer have access to this derivation.");
+  });
+});
+
 describe("SharedSession", () => {
   it("brings the server's document to two clients and merges their concurrent typing in one field", async () => {
     const server = new MemoryCollabServer(pendulum());
