@@ -212,7 +212,7 @@ describe("parameter studies through the queue", () => {
     const report = await revisionReport((await getDerivationById({ id }))!, checkpoint.revision.id);
     expect(report.studies).toHaveLength(1);
     const [study] = report.studies;
-    expect(study).toMatchObject({ cellId, mode: "grid", total: 2, failed: 0, onThisRevision: true, cases: ["wide swing"] });
+    expect(study).toMatchObject({ cellId, mode: "grid", total: 2, done: 2, failed: 0, failedRuns: [], onThisRevision: true, cases: ["wide swing"] });
     expect(study!.worst).toEqual([expect.objectContaining({ name: "tension", unit: "N", caseName: "wide swing", parameters: { m: 10 } })]);
     expect(study!.worst[0]!.value).toBeCloseTo(bottomTension(10, 0.5, -1.9), 1);
     // One pair along m: the slope is the bottom tension per kg, g (3 − 2 cos θ0).
@@ -268,6 +268,15 @@ describe("parameter studies through the queue", () => {
     expect(failed.failure!.reason).toBe("setup");
     expect(failed.failure!.message).toMatch(/singular/);
     expect(study.worst.tension!.parameters.m).toBe(10);
+
+    // The report lists the failed run with its reason.
+    const checkpoint = await createCheckpoint({ derivationId: id, name: "After the study", actorId: kestrel.members.analyst.id });
+    if (!checkpoint.ok) throw new Error("checkpoint refused");
+    const report = await revisionReport((await getDerivationById({ id }))!, checkpoint.revision.id);
+    expect(report.studies[0]).toMatchObject({ total: 2, done: 1, failed: 1, onThisRevision: false });
+    expect(report.studies[0]!.failedRuns).toEqual([
+      { index: failed.index, caseName: "wide swing", parameters: { m: 0 }, reason: "setup", message: failed.failure!.message },
+    ]);
   }, 300_000);
 
   it("shows partial results while running and stops the remaining batches on cancel", async () => {
