@@ -390,6 +390,45 @@ describe("parameter studies through the queue", () => {
     expect((await queueStudy(id, "no-such-cell")).status).toBe(404);
   });
 
+  it("answers bad requests with a 4xx JSON error and records nothing", async () => {
+    const { id, cellId } = await studyDerivation({ cases: [releases[1]!], endTime: "0.5", watch: ["x"] });
+    const path = `/api/derivations/${id}/studies`;
+    const refused = async (request: Request) => {
+      const response = await studiesRoute.POST(request, params({ id }));
+      expect(response.headers.get("content-type")).toContain("application/json");
+      const { error } = (await response.json()) as { error: { code: string; message: string; fieldErrors?: Record<string, string[]> } };
+      return { status: response.status, ...error };
+    };
+    expect(await refused(jsonRequest(path, "POST", '{"cellId":'))).toMatchObject({ status: 400, message: "The request body is not valid JSON." });
+    expect(
+      await refused(new Request(`http://localhost${path}`, { method: "POST", headers: { "content-type": "text/plain" }, body: JSON.stringify({ cellId }) })),
+    ).toMatchObject({ status: 415, code: "unsupported_media_type:api" });
+    // The body names one cell: a 5 kB one is refused unread.
+    expect(await refused(jsonRequest(path, "POST", { cellId, padding: "x".repeat(5000) }))).toMatchObject({ status: 413, code: "too_large:api" });
+
+    // Bounds whose span is past the largest number would sample infinite values: refused by field, not run.
+    const wide = await studyDerivation({
+      mode: "tolerance",
+      samples: "10",
+      parameters: [{ name: "m", values: "", distribution: "uniform", mean: "", sd: "", min: "-1e308", max: "1e308" }],
+      cases: [releases[1]!],
+      endTime: "0.5",
+      watch: ["x"],
+    });
+    const response = await queueStudy(wide.id, wide.cellId);
+    expect(response.status).toBe(400);
+    const { error } = (await response.json()) as { error: { code: string; fieldErrors: Record<string, string[]> } };
+    expect(error).toMatchObject({ code: "bad_request:study", fieldErrors: { "parameters.0.max": ["The bounds are too far apart to sample between."] } });
+
+    for (const derivation of [{ id, cellId }, wide]) {
+      const list = await studiesRoute.GET(
+        jsonRequest(`/api/derivations/${derivation.id}/studies?cellId=${derivation.cellId}`, "GET"),
+        params({ id: derivation.id }),
+      );
+      expect(((await list.json()) as { studies: StudyListItem[] }).studies).toEqual([]);
+    }
+  });
+
   it("lets a viewer read a study but not run or cancel one", async () => {
     const { id, cellId } = await studyDerivation({ cases: [releases[1]!], endTime: "0.5", watch: ["x"] });
     const queued = ((await (await queueStudy(id, cellId)).json()) as { study: StudyView }).study;
