@@ -7,7 +7,7 @@
  * ratios, the zeros where defined, and the state-space matrices for download
  * as JSON, CSV or code. Loaded on first use (uPlot and the numerics).
  */
-import { useMemo, useState } from "react";
+import { useId, useMemo, useState } from "react";
 import { CODE_LANGUAGES, exportStateSpace, frequencyResponse, polesOf, transmissionZeros, type CodeLanguage, type StateSpace } from "@/lib/mechanics/browser";
 import type { NotebookResults } from "@/lib/notebook/results";
 import { Chart, type ChartSeries } from "./simulation/chart";
@@ -88,6 +88,7 @@ export default function FrequencyResponsePanel({ selected, outputs: savedOutputs
 
   const unitOf = (name: string) => selected.outputs?.units[selected.outputs.names.indexOf(name)] ?? "";
   const first = responses.find((r) => r.response)?.response ?? null;
+  const polesCaptionId = useId();
   const magnitude: ChartSeries[] = responses.flatMap((r, i) => (r.response ? [{ label: r.output, values: r.response.magnitudeDb, colorIndex: i }] : []));
   const phase: ChartSeries[] = responses.flatMap((r, i) => (r.response ? [{ label: r.output, values: r.response.phaseDeg, colorIndex: i }] : []));
   const base = title.trim() || "linearization";
@@ -163,28 +164,33 @@ export default function FrequencyResponsePanel({ selected, outputs: savedOutputs
           <Chart title={`Phase, ${input} to the outputs`} xLabel="ω (rad/s)" yLabel="degrees" x={first.frequencies} series={phase} xLog testId="bode-phase" />
         </div>
       )}
-      <div className="overflow-x-auto">
-        <table className="text-sm tabular-nums" data-testid="poles-table">
-          <caption className="text-left text-xs text-muted">Poles (eigenvalues of A) with natural frequency ωₙ = |p| and damping ratio ζ = −Re p / |p|</caption>
-          <thead>
-            <tr className="text-left text-xs text-muted">
-              <th className="pr-4 font-medium">Pole (1/s)</th>
-              <th className="pr-4 font-medium">ωₙ (rad/s)</th>
-              <th className="pr-4 font-medium">fₙ (Hz)</th>
-              <th className="font-medium">ζ</th>
-            </tr>
-          </thead>
-          <tbody>
-            {poles.map((p, k) => (
-              <tr key={k} data-testid="pole-row">
-                <td className={`pr-4 font-mono ${p.pole.re > 0 ? "text-danger" : ""}`}>{complexText(p.pole.re, p.pole.im)}</td>
-                <td className="pr-4 font-mono">{Number(p.naturalFrequency.toPrecision(4))}</td>
-                <td className="pr-4 font-mono">{Number((p.naturalFrequency / (2 * Math.PI)).toPrecision(4))}</td>
-                <td className="font-mono">{p.dampingRatio === null ? "—" : Number(p.dampingRatio.toPrecision(3))}</td>
+      {/* The description sits outside the scrolling box: as the table's caption it would be as wide as the table and scroll away with it. */}
+      <div className="flex min-w-0 flex-col">
+        <p id={polesCaptionId} className="text-xs text-muted">
+          Poles (eigenvalues of A) with natural frequency ωₙ = |p| and damping ratio ζ = −Re p / |p|
+        </p>
+        <div className="overflow-x-auto" tabIndex={0} role="region" aria-label="Poles (scrolls sideways)">
+          <table className="text-sm tabular-nums" data-testid="poles-table" aria-labelledby={polesCaptionId}>
+            <thead>
+              <tr className="text-left text-xs text-muted">
+                <th className="pr-4 font-medium">Pole (1/s)</th>
+                <th className="pr-4 font-medium">ωₙ (rad/s)</th>
+                <th className="pr-4 font-medium">fₙ (Hz)</th>
+                <th className="font-medium">ζ</th>
               </tr>
-            ))}
-          </tbody>
-        </table>
+            </thead>
+            <tbody>
+              {poles.map((p, k) => (
+                <tr key={k} data-testid="pole-row">
+                  <td className={`whitespace-nowrap pr-4 font-mono ${p.pole.re > 0 ? "text-danger" : ""}`}>{complexText(p.pole.re, p.pole.im)}</td>
+                  <td className="whitespace-nowrap pr-4 font-mono">{Number(p.naturalFrequency.toPrecision(4))}</td>
+                  <td className="whitespace-nowrap pr-4 font-mono">{Number((p.naturalFrequency / (2 * Math.PI)).toPrecision(4))}</td>
+                  <td className="font-mono">{p.dampingRatio === null ? "—" : Number(p.dampingRatio.toPrecision(3))}</td>
+                </tr>
+              ))}
+            </tbody>
+          </table>
+        </div>
       </div>
       {zeros.length > 0 && (
         <ul className="text-sm" data-testid="zeros">

@@ -7,7 +7,7 @@
  * visible but are marked stale (the frame shows the marker, the body dims).
  */
 import clsx from "clsx";
-import { lazy, Suspense, useEffect, useReducer, useRef, useState, type ReactNode } from "react";
+import { lazy, Suspense, useEffect, useId, useReducer, useRef, useState, type ReactNode } from "react";
 import { useTermComments } from "@/components/comments/term-comments";
 import {
   CODE_EXPORT_LANGUAGES,
@@ -422,42 +422,46 @@ function coordinatesOf(stateNames: readonly string[]): string[] {
 
 /** Every mode of the linearization, the growing (divergent) ones marked, none left out. */
 function ModeTable({ modes, coordinates }: { modes: ModeView[]; coordinates: string[] }) {
+  const captionId = useId();
   const precision = (value: number, digits: number) => Number(value.toPrecision(digits)).toString().replace("-", "−");
   return (
-    <div className="overflow-x-auto">
-      <table className="text-sm">
-        <caption className="text-left text-xs text-muted">
-          Modes of K v = ω² M v (undamped), with the damped frequency and damping ratio of the matching eigenvalue of A
-        </caption>
-        <thead>
-          <tr className="text-left text-xs text-muted">
-            <th className="pr-4 font-medium">Mode</th>
-            <th className="pr-4 font-medium">Frequency (Hz)</th>
-            <th className="pr-4 font-medium">Damped (Hz), ζ</th>
-            <th className="font-medium">Shape ({coordinates.join(", ")})</th>
-          </tr>
-        </thead>
-        <tbody className="font-mono">
-          {modes.map((mode, k) => (
-            <tr key={k} data-testid="mode-row" data-kind={mode.kind} className={clsx(mode.kind === "divergent" && "text-danger")}>
-              <td className="pr-4">{k + 1}</td>
-              <td className="pr-4">
-                {mode.kind === "oscillating" && precision(mode.hertz!, 5)}
-                {mode.kind === "rigid" && <span className="font-sans">0 (rigid: no restoring stiffness)</span>}
-                {mode.kind === "divergent" && <span className="font-sans">growing: exp({precision(mode.growthRate!, 4)}·t), no oscillation</span>}
-              </td>
-              <td className="pr-4">
-                {mode.eigenvalue ? (
-                  `${precision(mode.eigenvalue.im / (2 * Math.PI), 5)}, ζ = ${precision(-mode.eigenvalue.re / Math.hypot(mode.eigenvalue.re, mode.eigenvalue.im), 3)}`
-                ) : (
-                  <span className="font-sans text-muted">—</span>
-                )}
-              </td>
-              <td>{mode.shape.map((value) => precision(value, 3)).join(", ")}</td>
+    // The description sits outside the scrolling box: as the table's caption it would be as wide as the table and scroll away with it.
+    <div className="flex min-w-0 flex-col">
+      <p id={`${captionId}-modes`} className="text-xs text-muted">
+        Modes of K v = ω² M v (undamped), with the damped frequency and damping ratio of the matching eigenvalue of A
+      </p>
+      <div className="overflow-x-auto" tabIndex={0} role="region" aria-label="Modes (scrolls sideways)">
+        <table className="text-sm" aria-labelledby={`${captionId}-modes`}>
+          <thead>
+            <tr className="text-left text-xs text-muted">
+              <th className="pr-4 font-medium">Mode</th>
+              <th className="pr-4 font-medium">Frequency (Hz)</th>
+              <th className="pr-4 font-medium">Damped (Hz), ζ</th>
+              <th className="font-medium">Shape ({coordinates.join(", ")})</th>
             </tr>
-          ))}
-        </tbody>
-      </table>
+          </thead>
+          <tbody className="font-mono">
+            {modes.map((mode, k) => (
+              <tr key={k} data-testid="mode-row" data-kind={mode.kind} className={clsx(mode.kind === "divergent" && "text-danger")}>
+                <td className="pr-4">{k + 1}</td>
+                <td className="whitespace-nowrap pr-4">
+                  {mode.kind === "oscillating" && precision(mode.hertz!, 5)}
+                  {mode.kind === "rigid" && <span className="font-sans">0 (rigid: no restoring stiffness)</span>}
+                  {mode.kind === "divergent" && <span className="font-sans">growing: exp({precision(mode.growthRate!, 4)}·t), no oscillation</span>}
+                </td>
+                <td className="whitespace-nowrap pr-4">
+                  {mode.eigenvalue ? (
+                    `${precision(mode.eigenvalue.im / (2 * Math.PI), 5)}, ζ = ${precision(-mode.eigenvalue.re / Math.hypot(mode.eigenvalue.re, mode.eigenvalue.im), 3)}`
+                  ) : (
+                    <span className="font-sans text-muted">—</span>
+                  )}
+                </td>
+                <td className="whitespace-nowrap">{mode.shape.map((value) => precision(value, 3)).join(", ")}</td>
+              </tr>
+            ))}
+          </tbody>
+        </table>
+      </div>
     </div>
   );
 }

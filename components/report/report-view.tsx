@@ -11,7 +11,23 @@ import { formatRecordTime } from "@/lib/history/format";
 import { revisionKindLabels, type ReportRun, type RevisionReport } from "@/lib/history/views";
 import { symbolLatex, toLatex } from "@/lib/mechanics/browser";
 import type { DerivationDocument, RowOf, TableCell, TableKind } from "@/lib/notebook/document";
-import { coordinatesOf, formatValue, matrixLatex, runSettingsText, stateLatex } from "@/lib/reports/format";
+import {
+  checkLines,
+  matrixLatex,
+  modeCells,
+  modeTableHead,
+  otherRunsText,
+  runOutcomeText,
+  runSettingsText,
+  stateLatex,
+  studyFailedRunsNote,
+  studyFailedRunsTable,
+  studyNoteText,
+  studyParameterTable,
+  studySensitivityTable,
+  studySummaryText,
+  studyWorstTable,
+} from "@/lib/reports/format";
 import type { ReportThread } from "@/lib/reports/threads";
 import { ReportNote } from "./report-client";
 import { SeriesChart } from "./run-plot";
@@ -185,14 +201,7 @@ function RunBlock({ run, index }: { run: ReportRun; index: number }) {
         {runSettingsText(run.settings).map((line) => (
           <li key={line}>{line}</li>
         ))}
-        <li>
-          {run.status === "completed"
-            ? `Completed: ${run.pointCount} output points.`
-            : `Failed at t = ${formatValue(run.timeReached)} s: ${run.failureMessage ?? "no reason recorded"}.`}
-          {run.energyCheck
-            ? ` Energy function drift ${run.energyCheck.relativeDrift.toExponential(2)} (limit ${run.energyCheck.threshold.toExponential(0)})${run.energyCheck.warning ? ": above the limit." : "."}`
-            : ""}
-        </li>
+        <li>{runOutcomeText(run)}</li>
       </ul>
       {run.trajectory ? (
         <div className="grid gap-2 md:grid-cols-2 print:grid-cols-2">
@@ -213,53 +222,36 @@ function RunBlock({ run, index }: { run: ReportRun; index: number }) {
   );
 }
 
-function withUnit(name: string, unit: string | null): string {
-  return unit ? `${name} [${unit}]` : name;
-}
-
-/** Each study cell's latest completed study: its worst cases and the sensitivity of each peak. */
+/** Each study cell's latest completed study: what varied, its worst cases, the sensitivity of each peak and the failed runs. */
 function StudyBlock({ study }: { study: RevisionReport["studies"][number] }) {
-  const parameterUnit = new Map(study.parameters.map((p) => [p.name, p.unit]));
+  const sensitivity = studySensitivityTable(study);
+  const failed = studyFailedRunsTable(study);
+  const failedNote = studyFailedRunsNote(study);
   return (
     <div className="space-y-2" data-testid="report-study">
       <h3 className="font-semibold">{study.title}</h3>
-      <p className="text-sm">
-        {study.mode === "grid" ? "Grid" : "Tolerance"} study of {study.parameters.map((p) => p.name).join(", ") || "the cases"} over {study.cases.length} case
-        {study.cases.length === 1 ? "" : "s"} ({study.cases.join(", ")}): {study.total} runs, {study.failed} failed; {formatRecordTime(study.createdAt)}
-        {study.onThisRevision ? ", on this revision." : ", on other content than this revision's."}
-      </p>
-      <Table
-        label={`Worst cases of ${study.title}`}
-        head={["Watched", "Worst peak", "Time [s]", "Case", "Parameters"]}
-        rows={study.worst.map((w) => [
-          withUnit(w.name, w.unit),
-          formatValue(w.value),
-          formatValue(w.time),
-          w.caseName,
-          Object.entries(w.parameters)
-            .map(([name, value]) => `${name} = ${formatValue(value)}${parameterUnit.get(name) ? ` ${parameterUnit.get(name)}` : ""}`)
-            .join(", "),
-        ])}
-      />
-      {study.parameters.length > 0 ? (
-        <Table
-          label={`Sensitivity of ${study.title}`}
-          head={["Peak of", ...study.parameters.map((p) => `${p.name}: slope · normalized${study.mode === "tolerance" ? " · r²" : ""}`)]}
-          rows={study.sensitivity.map((entry) => [
-            entry.name,
-            ...study.parameters.map((p) => {
-              const value = entry.byParameter[p.name];
-              if (!value) return "—";
-              return [formatValue(value.slope), formatValue(value.normalized), ...(value.r2 === null ? [] : [formatValue(value.r2)])].join(" · ");
-            }),
-          ])}
-        />
+      <p className="text-sm">{studySummaryText(study)}</p>
+      {study.parameters.length > 0 ? <Table label={`Varied parameters of ${study.title}`} {...studyParameterTable(study)} /> : null}
+      <h4 className="text-sm font-semibold">Worst cases</h4>
+      {study.worst.length > 0 ? (
+        <Table label={`Worst cases of ${study.title}`} {...studyWorstTable(study)} />
+      ) : (
+        <p className="text-sm text-muted">No run completed.</p>
+      )}
+      {sensitivity ? (
+        <>
+          <h4 className="text-sm font-semibold">Sensitivity</h4>
+          <Table label={`Sensitivity of ${study.title}`} {...sensitivity} />
+        </>
       ) : null}
-      <p className="text-xs text-muted">
-        Peaks are the largest magnitude of each watched quantity over a run. Sensitivity is of the peak&apos;s magnitude:{" "}
-        {study.mode === "grid" ? "finite differences along the grid" : "least squares over the sampled runs, one level per case"}; normalized = slope ×
-        parameter spread / peak spread. Failed runs are left out.
-      </p>
+      {failed ? (
+        <>
+          <h4 className="text-sm font-semibold">Failed runs</h4>
+          <Table label={`Failed runs of ${study.title}`} {...failed} />
+          {failedNote ? <p className="text-xs text-muted">{failedNote}</p> : null}
+        </>
+      ) : null}
+      <p className="text-xs text-muted">{studyNoteText(study)}</p>
     </div>
   );
 }
@@ -317,8 +309,6 @@ export function ReportView({
   const current = report.approvals.find((approval) => approval.unlockedAt === null);
   const selected = result?.linearization?.selected;
   const equilibrium = selected ? result?.linearization?.equilibria[selected.index] : undefined;
-  const oscillating = selected?.modes.filter((mode) => mode.kind === "oscillating") ?? [];
-  const energyRuns = report.runs.filter((run) => run.energyCheck);
 
   return (
     <article className="hn-report space-y-8" data-testid="report">
@@ -432,27 +422,7 @@ export function ReportView({
               About {equilibrium?.label ?? `equilibrium ${selected.index + 1}`}: <strong>{selected.stability}</strong>. {selected.stabilityReason}
             </p>
             {selected.modes.length > 0 ? (
-              <Table
-                label="Modes"
-                head={[
-                  "Mode",
-                  "Natural frequency [Hz]",
-                  "Damped [Hz], ζ",
-                  `Shape (${(selected.shapeCoordinates ?? coordinatesOf(selected.stateNames)).join(", ")})`,
-                ]}
-                rows={selected.modes.map((mode, k) => [
-                  String(k + 1),
-                  mode.kind === "oscillating"
-                    ? formatValue(mode.hertz!)
-                    : mode.kind === "rigid"
-                      ? "0 (rigid)"
-                      : `growing, exp(${formatValue(mode.growthRate!)}·t)`,
-                  mode.eigenvalue
-                    ? `${formatValue(mode.eigenvalue.im / (2 * Math.PI))}, ζ = ${formatValue(Number((-mode.eigenvalue.re / Math.hypot(mode.eigenvalue.re, mode.eigenvalue.im)).toPrecision(3)))}`
-                    : "—",
-                  mode.shape.map((value) => formatValue(Number(value.toPrecision(3)))).join(", "),
-                ])}
-              />
+              <Table label="Modes" head={modeTableHead(selected)} rows={selected.modes.map(modeCells)} />
             ) : (
               <p className="text-sm">No mode about this equilibrium.</p>
             )}
@@ -468,34 +438,9 @@ export function ReportView({
 
       <Section number={5} title="Checks" id="report-checks">
         <ul className="space-y-1 text-sm" data-testid="report-checks">
-          <li>
-            {evaluation.ok ? "✓ " : "✕ "}
-            Units:{" "}
-            {evaluation.ok
-              ? "every term of every equation has consistent units (checked by the engine while deriving)."
-              : `not checked, the model does not derive (${evaluation.message}).`}
-          </li>
-          {energyRuns.length > 0 ? (
-            energyRuns.map((run) => (
-              <li key={run.id}>
-                {run.energyCheck!.warning ? "✕ " : "✓ "}
-                Energy function along run {report.runs.indexOf(run) + 1}: relative drift {run.energyCheck!.relativeDrift.toExponential(2)} against the limit{" "}
-                {run.energyCheck!.threshold.toExponential(0)}.
-              </li>
-            ))
-          ) : (
-            <li>– Energy conservation: no stored run of this revision checks it (it applies to conservative models only).</li>
-          )}
-          {selected ? (
-            <li>
-              – Small oscillations:{" "}
-              {oscillating.length > 0
-                ? `${oscillating.map((mode) => `${formatValue(mode.hertz!)} Hz`).join(", ")} about the chosen equilibrium`
-                : "no oscillating mode"}
-              , {selected.stability} (section 4).
-            </li>
-          ) : null}
-          {report.runs.some((run) => run.status === "failed") ? <li>✕ Simulation: at least one stored run failed (section 6).</li> : null}
+          {checkLines(report).map((line) => (
+            <li key={line}>{line}</li>
+          ))}
         </ul>
       </Section>
 
@@ -505,12 +450,7 @@ export function ReportView({
         ) : (
           report.runs.map((run, index) => <RunBlock key={run.id} run={run} index={index} />)
         )}
-        {report.otherRuns > 0 ? (
-          <p className="text-xs text-muted">
-            {report.otherRuns} other stored run{report.otherRuns === 1 ? "" : "s"} of this derivation used another version of the model and{" "}
-            {report.otherRuns === 1 ? "is" : "are"} not shown.
-          </p>
-        ) : null}
+        {otherRunsText(report.otherRuns) ? <p className="text-xs text-muted">{otherRunsText(report.otherRuns)}</p> : null}
         {report.studies.length > 0 ? (
           <div className="space-y-4" data-testid="report-studies">
             <h3 className="text-base font-semibold">Parameter studies</h3>

@@ -91,6 +91,16 @@ export async function getStudyRunsByStudyId({ studyId }: { studyId: string }): P
   return db.select(runColumns).from(studyRuns).where(eq(studyRuns.studyId, studyId)).orderBy(asc(studyRuns.runIndex));
 }
 
+/** A study's failed runs in run order, the first `limit` (the report's list). */
+export async function getFailedStudyRunsByStudyId({ studyId, limit }: { studyId: string; limit: number }): Promise<StudyRunSummary[]> {
+  return db
+    .select(runColumns)
+    .from(studyRuns)
+    .where(and(eq(studyRuns.studyId, studyId), eq(studyRuns.status, "failed")))
+    .orderBy(asc(studyRuns.runIndex))
+    .limit(limit);
+}
+
 /** The stored series of a study's completed runs (the envelope). */
 export async function getStudyRunSeriesByStudyId({ studyId }: { studyId: string }): Promise<{ runIndex: number; series: Uint8Array | null }[]> {
   return db

@@ -2,6 +2,7 @@ import "server-only";
 import { clientAddress } from "@/lib/client-address";
 import { AppError, toAppError } from "@/lib/errors";
 import { withRequestContext } from "@/lib/request-context";
+import { JSON_BODY_LIMIT, readBodyText } from "./body-text";
 import { assertJsonContentType, assertSameOrigin } from "./request-checks";
 
 type RouteContext<Params> = { params: Promise<Params> };
@@ -27,13 +28,16 @@ export function apiRoute<Params = Record<string, never>>(handler: (request: Requ
 
 /**
  * Reads a JSON body; a body not declared as JSON is a 415 (a cross-site form can
- * send text/plain, never application/json), malformed JSON a validation error.
+ * send text/plain, never application/json), one over `limit` bytes a 413,
+ * malformed JSON a validation error.
  */
-export async function readJson(request: Request): Promise<unknown> {
+export async function readJson(request: Request, { limit = JSON_BODY_LIMIT }: { limit?: number } = {}): Promise<unknown> {
   assertJsonContentType(request);
+  const text = await readBodyText(request, limit);
+  if (text.trim() === "") throw new AppError("bad_request:validation", "The request body is empty: send a JSON object.");
   try {
-    return await request.json();
+    return JSON.parse(text);
   } catch {
-    throw new AppError("bad_request:validation", "The request body must be a JSON object.");
+    throw new AppError("bad_request:validation", "The request body is not valid JSON.");
   }
 }

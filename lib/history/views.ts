@@ -2,7 +2,7 @@ import "server-only";
 import { getApprovalsByRevisionIds, getReviewStateByDerivationId } from "@/db/queries/reviews";
 import { getRevisionByDerivationIdAndId, getRevisionsByDerivationId, type RevisionSummary } from "@/db/queries/revisions";
 import { getSimulationRunByIdAndDerivationId, getSimulationRunsByDerivationId } from "@/db/queries/runs";
-import { getLatestCompletedStudiesByDerivationId } from "@/db/queries/studies";
+import { getFailedStudyRunsByStudyId, getLatestCompletedStudiesByDerivationId } from "@/db/queries/studies";
 import { getMembersByTeamId } from "@/db/queries/teams";
 import type { Derivation, Revision, RevisionKind, StoredTrajectory } from "@/db/schema";
 import { documentFromContent, modelFromDocument } from "@/lib/evaluation/document-content";
@@ -10,7 +10,7 @@ import type { EvaluationResult } from "@/lib/evaluation/evaluate";
 import { evaluateDocumentCached } from "@/lib/evaluation/service";
 import { AppError, toAppError } from "@/lib/errors";
 import { CELL_LABELS, type DerivationDocument } from "@/lib/notebook/document";
-import type { Sensitivity, WorstCase } from "@/lib/study";
+import type { Sensitivity, VariedParameter, WorstCase } from "@/lib/study";
 import { modelHashOf, trajectoryOfRun } from "@/lib/runs/service";
 import { decimate, decimationStride } from "@/lib/runs/trajectory";
 import { contentHash } from "./content-hash";
@@ -266,10 +266,14 @@ export interface ReportStudy {
   mode: "grid" | "tolerance";
   createdAt: string;
   total: number;
+  done: number;
   failed: number;
   /** The study ran on exactly this revision's content. */
   onThisRevision: boolean;
-  parameters: { name: string; unit: string | null }[];
+  /** The varied parameters: each one's grid or distribution. */
+  parameters: VariedParameter[];
+  /** The first failed runs (REPORT_FAILED_RUNS at most) with their reasons. */
+  failedRuns: { index: number; caseName: string; parameters: Record<string, number>; reason: string; message: string }[];
   cases: string[];
   worst: { name: string; unit: string | null; value: number; time: number; caseName: string; parameters: Record<string, number> }[];
   sensitivity: {
@@ -349,32 +353,44 @@ async function reportRuns(derivationId: string, modelHash: string): Promise<{ ru
   return { runs, otherRuns: all.length - mine.length };
 }
 
+/** Failed runs of a study the report lists; the count says how many more there were. */
+export const REPORT_FAILED_RUNS = 20;
+
 /** The latest completed study of each study cell of the document, in the document's order. */
 async function reportStudies(derivationId: string, document: DerivationDocument, revisionId: string): Promise<ReportStudy[]> {
   const cells = document.cells.filter((cell) => cell.kind === "study");
   if (cells.length === 0) return [];
   const latest = new Map((await getLatestCompletedStudiesByDerivationId({ derivationId })).map((study) => [study.cellId, study]));
-  return cells.flatMap((cell): ReportStudy[] => {
+  const studies: ReportStudy[] = [];
+  for (const cell of cells) {
     const study = latest.get(cell.id);
-    if (!study) return [];
+    if (!study) continue;
     const figures = (study.aggregate ?? {}) as { worst?: Record<string, WorstCase>; sensitivity?: Record<string, Sensitivity> };
     const unitOf = new Map(study.spec.watch.map((w) => [w.name, w.unit]));
-    return [
-      {
-        cellId: cell.id,
-        title: cell.title?.trim() || CELL_LABELS.study,
-        mode: study.mode,
-        createdAt: study.createdAt.toISOString(),
-        total: study.total,
-        failed: study.failed,
-        onThisRevision: study.revisionId === revisionId,
-        parameters: study.spec.parameters.map((p) => ({ name: p.name, unit: p.unit })),
-        cases: study.spec.cases.map((c) => c.name),
-        worst: Object.entries(figures.worst ?? {}).map(([name, worst]) => ({ name, unit: unitOf.get(name) ?? null, ...worst })),
-        sensitivity: Object.entries(figures.sensitivity ?? {}).map(([name, entry]) => ({ name, ...entry })),
-      },
-    ];
-  });
+    const failedRuns = study.failed > 0 ? await getFailedStudyRunsByStudyId({ studyId: study.id, limit: REPORT_FAILED_RUNS }) : [];
+    studies.push({
+      cellId: cell.id,
+      title: cell.title?.trim() || CELL_LABELS.study,
+      mode: study.mode,
+      createdAt: study.createdAt.toISOString(),
+      total: study.total,
+      done: study.done,
+      failed: study.failed,
+      onThisRevision: study.revisionId === revisionId,
+      parameters: study.spec.parameters,
+      failedRuns: failedRuns.map((run) => ({
+        index: run.runIndex,
+        caseName: run.caseName,
+        parameters: run.parameters,
+        reason: run.failureReason ?? "failed",
+        message: run.failureMessage ?? "",
+      })),
+      cases: study.spec.cases.map((c) => c.name),
+      worst: Object.entries(figures.worst ?? {}).map(([name, worst]) => ({ name, unit: unitOf.get(name) ?? null, ...worst })),
+      sensitivity: Object.entries(figures.sensitivity ?? {}).map(([name, entry]) => ({ name, ...entry })),
+    });
+  }
+  return studies;
 }
 
 /** Everything the printable report of one revision shows. */

@@ -29,7 +29,28 @@ export interface JobContext {
   signal: AbortSignal;
   /** Fraction done, 0 … 1 (written to the row at most every PROGRESS_INTERVAL_MS). */
   progress(fraction: number): void;
+  /**
+   * Whether the queue delivers this job again should this attempt end in an
+   * unexpected error (anything but an AppError): only for a kind in
+   * RETRIED_KINDS with deliveries left. False on the last attempt, when the
+   * handler must leave what the job is about in a final state.
+   */
+  willRetry: boolean;
 }
+
+/** Where a delivery stands in the queue's retry policy (pg-boss's `retryCount` and `retryLimit`). */
+export interface JobAttempt {
+  retryCount: number;
+  retryLimit: number;
+}
+
+/**
+ * Kinds whose handler resumes where an earlier attempt stopped, so an
+ * unexpected error (a lost database connection, say) is worth another
+ * delivery: a study batch skips the runs it already stored. Other kinds fail at
+ * the first unexpected error, as a retry could repeat their side effects.
+ */
+export const RETRIED_KINDS: ReadonlySet<JobKind> = new Set<JobKind>(["study"]);
 
 /** Runs one job; returns its answer (stored in `jobs.result`), or throws an AppError (stored in `jobs.error`). */
 export type JobHandler = (job: Job, context: JobContext) => Promise<Record<string, unknown>>;
@@ -119,9 +140,14 @@ export class JobQueue {
       await this.boss.work<{ jobId: string }>(
         QUEUE_NAMES[kind],
         // pg-boss waits out the interval after a job shorter than it: a study's batches poll at its floor, 0.5 s.
-        { batchSize: 1, pollingIntervalSeconds: kind === "study" ? Math.min(0.5, this.options.pollingIntervalSeconds) : this.options.pollingIntervalSeconds },
+        {
+          batchSize: 1,
+          includeMetadata: true,
+          pollingIntervalSeconds: kind === "study" ? Math.min(0.5, this.options.pollingIntervalSeconds) : this.options.pollingIntervalSeconds,
+        },
         async ([delivery]) => {
-          if (delivery) await runJob(delivery.data.jobId, handler);
+          // A rejection hands the job back to pg-boss, which delivers it again after the queue's retry delay.
+          if (delivery) await runJob(delivery.data.jobId, handler, { retryCount: delivery.retryCount, retryLimit: delivery.retryLimit });
         },
       );
     }
@@ -131,11 +157,18 @@ export class JobQueue {
 /** This process as a job's `worker`: host name and process id. */
 export const WORKER_NAME = `${hostname()}:${process.pid}`;
 
-/** Runs one delivered job with its handler, keeping the row up to date. Never throws for the job's own failure. */
-export async function runJob(id: string, handler: JobHandler): Promise<void> {
+/**
+ * Runs one delivered job with its handler, keeping the row up to date. Never
+ * throws for the job's own failure, except an unexpected error of a kind in
+ * RETRIED_KINDS with deliveries left (`attempt`): then the row stays running and
+ * the error goes back to pg-boss, which delivers the job again. Without
+ * `attempt` the delivery is the last one.
+ */
+export async function runJob(id: string, handler: JobHandler, attempt: JobAttempt = { retryCount: 0, retryLimit: 0 }): Promise<void> {
   const job = await startJobById({ id, worker: WORKER_NAME });
   // Cancelled before it started, or already finished by an earlier delivery.
   if (!job) return;
+  const willRetry = RETRIED_KINDS.has(job.kind) && attempt.retryCount < attempt.retryLimit;
   const controller = new AbortController();
   const watcher = setInterval(() => {
     void getJobById({ id })
@@ -152,9 +185,16 @@ export async function runJob(id: string, handler: JobHandler): Promise<void> {
     void updateJobProgressById({ id, progress: Math.min(1, Math.max(0, fraction)) }).catch(() => undefined);
   };
   try {
-    const result = await handler(job, { signal: controller.signal, progress });
+    const result = await handler(job, { signal: controller.signal, progress, willRetry });
     await finishJobById({ id, state: "completed", result });
   } catch (error) {
+    if (willRetry && !(error instanceof AppError) && !controller.signal.aborted) {
+      console.error(
+        `[holonomy] ${job.kind} job ${id} failed on attempt ${attempt.retryCount + 1} of ${attempt.retryLimit + 1}; it will be delivered again:`,
+        error,
+      );
+      throw error;
+    }
     // A cancelled job's row already says so; finishJobById leaves it as it is.
     await finishJobById({ id, state: "failed", error: jobErrorOf(error) });
   } finally {

@@ -1,9 +1,14 @@
 /**
- * How the derivation report writes numbers, matrices, run settings and plot
- * axes: shared by the report page (components/report) and the report file a
- * queue worker renders (lib/reports/html.ts), so both say the same. Pure.
+ * How the derivation report writes numbers, matrices, run settings, modes,
+ * checks, parameter studies and plot axes: shared by the report page
+ * (components/report) and the report file a queue worker renders
+ * (lib/reports/html.ts), so both say the same. Pure: data in, plain text out
+ * (each side escapes or typesets it).
  */
+import { formatRecordTime } from "@/lib/history/format";
+import type { ReportRun, ReportStudy, RevisionReport } from "@/lib/history/views";
 import { symbolLatex } from "@/lib/mechanics/browser";
+import type { VariedParameter } from "@/lib/study";
 
 export function formatValue(value: number): string {
   if (!Number.isFinite(value)) return String(value);
@@ -50,6 +55,170 @@ export function runSettingsText(settings: Record<string, unknown>): string[] {
       : [];
   if (inputs.length > 0) lines.push(`inputs: ${inputs.join(", ")}`);
   return lines;
+}
+
+/** "name [unit]", or the name alone without a unit. */
+export function withUnit(name: string, unit: string | null | undefined): string {
+  return unit ? `${name} [${unit}]` : name;
+}
+
+/** How a stored run ended, with its energy check when it has one. */
+export function runOutcomeText(run: Pick<ReportRun, "status" | "pointCount" | "timeReached" | "failureMessage" | "energyCheck">): string {
+  const outcome =
+    run.status === "completed"
+      ? `Completed: ${run.pointCount} output points.`
+      : `Failed at t = ${formatValue(run.timeReached)} s: ${run.failureMessage ?? "no reason recorded"}.`;
+  const energy = run.energyCheck
+    ? ` Energy function drift ${run.energyCheck.relativeDrift.toExponential(2)} (limit ${run.energyCheck.threshold.toExponential(0)})${run.energyCheck.warning ? ": above the limit." : "."}`
+    : "";
+  return outcome + energy;
+}
+
+/** The sentence under the stored runs about runs of other versions of the model; null when there are none. */
+export function otherRunsText(count: number): string | null {
+  if (count === 0) return null;
+  return `${count} other stored run${count === 1 ? "" : "s"} of this derivation used another version of the model and ${count === 1 ? "is" : "are"} not shown.`;
+}
+
+type SelectedLinearization = NonNullable<NonNullable<Extract<RevisionReport["evaluation"], { ok: true }>["result"]["linearization"]>["selected"]>;
+
+/** The head of the modes table. */
+export function modeTableHead(selected: Pick<SelectedLinearization, "shapeCoordinates" | "stateNames">): string[] {
+  return ["Mode", "Natural frequency [Hz]", "Damped [Hz], ζ", `Shape (${(selected.shapeCoordinates ?? coordinatesOf(selected.stateNames)).join(", ")})`];
+}
+
+/** One mode as the cells of the modes table. */
+export function modeCells(mode: SelectedLinearization["modes"][number], index: number): string[] {
+  return [
+    String(index + 1),
+    mode.kind === "oscillating" ? formatValue(mode.hertz!) : mode.kind === "rigid" ? "0 (rigid)" : `growing, exp(${formatValue(mode.growthRate!)}·t)`,
+    mode.eigenvalue
+      ? `${formatValue(mode.eigenvalue.im / (2 * Math.PI))}, ζ = ${formatValue(Number((-mode.eigenvalue.re / Math.hypot(mode.eigenvalue.re, mode.eigenvalue.im)).toPrecision(3)))}`
+      : "—",
+    mode.shape.map((value) => formatValue(Number(value.toPrecision(3)))).join(", "),
+  ];
+}
+
+/** The lines of the checks section, each opening with its mark (✓ passed, ✕ failed, – for information). */
+export function checkLines(report: Pick<RevisionReport, "evaluation" | "runs">): string[] {
+  const { evaluation } = report;
+  const selected = evaluation.ok ? evaluation.result.linearization?.selected : undefined;
+  const oscillating = selected?.modes.filter((mode) => mode.kind === "oscillating") ?? [];
+  const energyRuns = report.runs.filter((run) => run.energyCheck);
+  return [
+    `${evaluation.ok ? "✓" : "✕"} Units: ${
+      evaluation.ok
+        ? "every term of every equation has consistent units (checked by the engine while deriving)."
+        : `not checked, the model does not derive (${evaluation.message}).`
+    }`,
+    ...(energyRuns.length > 0
+      ? energyRuns.map(
+          (run) =>
+            `${run.energyCheck!.warning ? "✕" : "✓"} Energy function along run ${report.runs.indexOf(run) + 1}: relative drift ${run.energyCheck!.relativeDrift.toExponential(2)} against the limit ${run.energyCheck!.threshold.toExponential(0)}.`,
+        )
+      : ["– Energy conservation: no stored run of this revision checks it (it applies to conservative models only)."]),
+    ...(selected
+      ? [
+          `– Small oscillations: ${oscillating.length > 0 ? `${oscillating.map((mode) => `${formatValue(mode.hertz!)} Hz`).join(", ")} about the chosen equilibrium` : "no oscillating mode"}, ${selected.stability} (section 4).`,
+        ]
+      : []),
+    ...(report.runs.some((run) => run.status === "failed") ? ["✕ Simulation: at least one stored run failed (section 6)."] : []),
+  ];
+}
+
+/** A study's one-line description: mode, what varied, cases, runs, when, and whether it ran on this revision. */
+export function studySummaryText(
+  study: Pick<ReportStudy, "mode" | "parameters" | "cases" | "total" | "done" | "failed" | "createdAt" | "onThisRevision">,
+): string {
+  const varied = study.parameters.map((p) => p.name).join(", ") || "the cases";
+  const cases = `${study.cases.length} case${study.cases.length === 1 ? "" : "s"} (${study.cases.join(", ")})`;
+  return (
+    `${study.mode === "grid" ? "Grid" : "Tolerance"} study of ${varied} over ${cases}: ${study.total} runs, ${study.done} done, ${study.failed} failed; ` +
+    `${formatRecordTime(study.createdAt)}${study.onThisRevision ? ", on this revision." : ", on other content than this revision's."}`
+  );
+}
+
+/** How a varied parameter was chosen: its grid values, or its distribution and bounds. */
+export function variedParameterText(parameter: VariedParameter): string {
+  const unit = parameter.unit ? ` ${parameter.unit}` : "";
+  if ("grid" in parameter) {
+    const values = parameter.grid;
+    if (values.length <= 8) return `grid: ${values.map(formatValue).join(", ")}${unit}`;
+    return `grid: ${values.length} values from ${formatValue(values[0]!)} to ${formatValue(values.at(-1)!)}${unit}`;
+  }
+  if (parameter.distribution === "uniform") return `uniform from ${formatValue(parameter.min)} to ${formatValue(parameter.max)}${unit}`;
+  return `normal, mean ${formatValue(parameter.mean)}${unit}, standard deviation ${formatValue(parameter.sd)}${unit}, kept within ${formatValue(parameter.min)} to ${formatValue(parameter.max)}${unit}`;
+}
+
+/** "m = 10 kg, l = 2 m" with the study's parameter units. */
+export function studyParametersText(values: Record<string, number>, parameters: readonly Pick<VariedParameter, "name" | "unit">[]): string {
+  const unitOf = new Map(parameters.map((p) => [p.name, p.unit]));
+  return Object.entries(values)
+    .map(([name, value]) => `${name} = ${formatValue(value)}${unitOf.get(name) ? ` ${unitOf.get(name)}` : ""}`)
+    .join(", ");
+}
+
+export interface TextTable {
+  head: string[];
+  rows: string[][];
+}
+
+/** The varied parameters and how each was chosen. */
+export function studyParameterTable(study: Pick<ReportStudy, "parameters">): TextTable {
+  return { head: ["Parameter", "Values"], rows: study.parameters.map((p) => [withUnit(p.name, p.unit), variedParameterText(p)]) };
+}
+
+/** The worst peak of each watched quantity, with the run that reached it. */
+export function studyWorstTable(study: Pick<ReportStudy, "worst" | "parameters">): TextTable {
+  return {
+    head: ["Watched", "Worst peak", "Time [s]", "Case", "Parameters"],
+    rows: study.worst.map((w) => [
+      withUnit(w.name, w.unit),
+      formatValue(w.value),
+      formatValue(w.time),
+      w.caseName,
+      studyParametersText(w.parameters, study.parameters),
+    ]),
+  };
+}
+
+/** Sensitivity of each peak to each varied parameter; null when nothing varied. */
+export function studySensitivityTable(study: Pick<ReportStudy, "sensitivity" | "parameters" | "mode">): TextTable | null {
+  if (study.parameters.length === 0) return null;
+  return {
+    head: ["Peak of", ...study.parameters.map((p) => `${p.name}: slope · normalized${study.mode === "tolerance" ? " · r²" : ""}`)],
+    rows: study.sensitivity.map((entry) => [
+      entry.name,
+      ...study.parameters.map((p) => {
+        const value = entry.byParameter[p.name];
+        if (!value) return "—";
+        return [formatValue(value.slope), formatValue(value.normalized), ...(value.r2 === null ? [] : [formatValue(value.r2)])].join(" · ");
+      }),
+    ]),
+  };
+}
+
+/** The study's failed runs (the first ones, as the report keeps them) with their reasons; null when none failed. */
+export function studyFailedRunsTable(study: Pick<ReportStudy, "failedRuns" | "parameters">): TextTable | null {
+  if (study.failedRuns.length === 0) return null;
+  return {
+    head: ["Run", "Case", "Parameters", "Why it failed"],
+    rows: study.failedRuns.map((run) => [String(run.index), run.caseName, studyParametersText(run.parameters, study.parameters), run.message || run.reason]),
+  };
+}
+
+/** The sentence under a failed-runs table when the report keeps fewer than failed; null otherwise. */
+export function studyFailedRunsNote(study: Pick<ReportStudy, "failedRuns" | "failed">): string | null {
+  return study.failed > study.failedRuns.length ? `The first ${study.failedRuns.length} of ${study.failed} failed runs are listed.` : null;
+}
+
+/** What the study's figures mean. */
+export function studyNoteText(study: Pick<ReportStudy, "mode">): string {
+  return (
+    "Peaks are the largest magnitude of each watched quantity over a run. Sensitivity is of the peak's magnitude: " +
+    (study.mode === "grid" ? "finite differences along the grid" : "least squares over the sampled runs, one level per case") +
+    "; normalized = slope × parameter spread / peak spread. Failed runs are left out."
+  );
 }
 
 /** Round steps (1, 2 or 5 × 10^k) covering [min, max] with about `count` intervals. */

@@ -10,10 +10,29 @@
 import katex from "katex";
 import { safetyNote } from "@/lib/domain";
 import { formatRecordTime } from "@/lib/history/format";
-import type { ReportRun, RevisionReport } from "@/lib/history/views";
+import type { ReportRun, ReportStudy, RevisionReport } from "@/lib/history/views";
 import { symbolLatex, toLatex } from "@/lib/mechanics/browser";
 import type { DerivationDocument, RowOf, TableCell, TableKind } from "@/lib/notebook/document";
-import { CHART, coordinatesOf, formatValue, matrixLatex, runSettingsText, seriesChartGeometry, stateLatex } from "./format";
+import {
+  CHART,
+  checkLines,
+  matrixLatex,
+  modeCells,
+  modeTableHead,
+  otherRunsText,
+  runOutcomeText,
+  runSettingsText,
+  seriesChartGeometry,
+  stateLatex,
+  studyFailedRunsNote,
+  studyFailedRunsTable,
+  studyNoteText,
+  studyParameterTable,
+  studySensitivityTable,
+  studySummaryText,
+  studyWorstTable,
+  type TextTable,
+} from "./format";
 import type { ReportThread } from "./threads";
 
 export interface ReportFileInput {
@@ -66,7 +85,16 @@ function section(number: number, title: string, id: string, body: string): strin
 function table(label: string, head: string[], rows: string[][]): string {
   const th = head.map((cell) => `<th scope="col">${escapeHtml(cell)}</th>`).join("");
   const tr = rows.map((row) => `<tr>${row.map((cell) => `<td>${cell}</td>`).join("")}</tr>`).join("");
-  return `<table aria-label="${escapeHtml(label)}"><thead><tr>${th}</tr></thead><tbody>${tr}</tbody></table>`;
+  return `<div class="table"><table aria-label="${escapeHtml(label)}"><thead><tr>${th}</tr></thead><tbody>${tr}</tbody></table></div>`;
+}
+
+/** A table of plain text, every cell escaped. */
+function textTable(label: string, { head, rows }: TextTable): string {
+  return table(
+    label,
+    head,
+    rows.map((row) => row.map(escapeHtml)),
+  );
 }
 
 const muted = (text: string) => `<p class="muted">${escapeHtml(text)}</p>`;
@@ -175,20 +203,30 @@ export function seriesSvg(times: readonly number[], values: readonly number[], l
 
 function runBlock(run: ReportRun, index: number): string {
   const by = `${escapeHtml(run.createdByName ?? "a former member")}, ${escapeHtml(formatRecordTime(run.createdAt))}`;
-  const outcome =
-    (run.status === "completed"
-      ? `Completed: ${run.pointCount} output points.`
-      : `Failed at t = ${formatValue(run.timeReached)} s: ${run.failureMessage ?? "no reason recorded"}.`) +
-    (run.energyCheck
-      ? ` Energy function drift ${run.energyCheck.relativeDrift.toExponential(2)} (limit ${run.energyCheck.threshold.toExponential(0)})${run.energyCheck.warning ? ": above the limit." : "."}`
-      : "");
-  const lines = [...runSettingsText(run.settings), outcome].map((line) => `<li>${escapeHtml(line)}</li>`).join("");
+  const lines = [...runSettingsText(run.settings), runOutcomeText(run)].map((line) => `<li>${escapeHtml(line)}</li>`).join("");
   const plots = run.trajectory
     ? `<div class="plots">${run.trajectory.coordinateNames
         .map((name, i) => seriesSvg(run.trajectory!.times, run.trajectory!.coordinates[i] ?? [], name, run.coordinateUnits[name] ?? ""))
         .join("")}</div>`
     : muted("The trajectory of this run is not available.");
   return `<article class="box"><h3>Run ${index + 1}${run.label ? `: ${escapeHtml(run.label)}` : ""} <span class="muted">${by}</span></h3><ul>${lines}</ul>${plots}</article>`;
+}
+
+/** A study cell's latest completed study: what varied, worst cases, sensitivity and the failed runs. */
+function studyBlock(study: ReportStudy): string {
+  const sensitivity = studySensitivityTable(study);
+  const failed = studyFailedRunsTable(study);
+  const failedNote = studyFailedRunsNote(study);
+  return (
+    `<article class="box study"><h3>${escapeHtml(study.title)}</h3><p>${escapeHtml(studySummaryText(study))}</p>` +
+    (study.parameters.length > 0 ? textTable(`Varied parameters of ${study.title}`, studyParameterTable(study)) : "") +
+    `<h4>Worst cases</h4>` +
+    (study.worst.length > 0 ? textTable(`Worst cases of ${study.title}`, studyWorstTable(study)) : muted("No run completed.")) +
+    (sensitivity ? `<h4>Sensitivity</h4>${textTable(`Sensitivity of ${study.title}`, sensitivity)}` : "") +
+    (failed ? `<h4>Failed runs</h4>${textTable(`Failed runs of ${study.title}`, failed)}${failedNote ? muted(failedNote) : ""}` : "") +
+    muted(studyNoteText(study)) +
+    `</article>`
+  );
 }
 
 function threadBlock(thread: ReportThread): string {
@@ -217,9 +255,9 @@ const STYLE = `
 body{font:15px/1.5 system-ui,sans-serif;color:#1f2328;max-width:52rem;margin:2rem auto;padding:0 1rem}
 header{border-bottom:2px solid #1f2328;padding-bottom:1rem}
 h1{font-size:1.8rem;margin:.2rem 0}h2{font-size:1.15rem;border-bottom:1px solid #d0d4da;padding-bottom:.2rem;margin-top:2rem}
-h3{font-size:1rem}.num{font-family:monospace;color:#6b7280;margin-right:.4rem}
+h3{font-size:1rem}h4{font-size:.9rem;margin:.8rem 0 .2rem}.num{font-family:monospace;color:#6b7280;margin-right:.4rem}
 .muted,.label{color:#6b7280;font-size:.85rem}.label{display:inline-block;width:11rem}
-table{border-collapse:collapse;width:100%;font-size:.9rem}th{text-align:left;color:#6b7280;font-weight:500;font-size:.8rem}
+.table{overflow-x:auto}table{border-collapse:collapse;width:100%;font-size:.9rem}th{text-align:left;color:#6b7280;font-weight:500;font-size:.8rem}
 th,td{border-bottom:1px solid #e5e7eb;padding:.2rem .6rem .2rem 0;vertical-align:top}
 dl{display:grid;grid-template-columns:auto 1fr;gap:.1rem 1.2rem;font-size:.9rem}dt{color:#6b7280}dd{margin:0}
 .math{overflow-x:auto;margin:.5rem 0}.hash{font-family:monospace;font-size:.8rem;word-break:break-all}
@@ -240,8 +278,6 @@ export function reportHtml({ report, title, teamName, generatedAt, threads, revi
   const current = report.approvals.find((approval) => approval.unlockedAt === null);
   const selected = result?.linearization?.selected;
   const equilibrium = selected ? result?.linearization?.equilibria[selected.index] : undefined;
-  const oscillating = selected?.modes.filter((mode) => mode.kind === "oscillating") ?? [];
-  const energyRuns = report.runs.filter((run) => run.energyCheck);
   const heading = revision.title || title;
   const status = current
     ? `<span class="seal">Approved by ${escapeHtml(current.approvedByName ?? "a former member")}, ${escapeHtml(formatRecordTime(current.approvedAt))}</span>`
@@ -289,24 +325,7 @@ export function reportHtml({ report, title, teamName, generatedAt, threads, revi
     ? `<p>${escapeHtml(result?.linearizationNote ?? "No linearization for this revision.")}</p>`
     : `<p>About ${escapeHtml(equilibrium?.label ?? `equilibrium ${selected.index + 1}`)}: <strong>${escapeHtml(selected.stability)}</strong>. ${escapeHtml(selected.stabilityReason)}</p>` +
       (selected.modes.length > 0
-        ? table(
-            "Modes",
-            ["Mode", "Natural frequency [Hz]", "Damped [Hz], ζ", `Shape (${coordinatesOf(selected.stateNames).join(", ")})`],
-            selected.modes.map((mode, k) =>
-              [
-                String(k + 1),
-                mode.kind === "oscillating"
-                  ? formatValue(mode.hertz!)
-                  : mode.kind === "rigid"
-                    ? "0 (rigid)"
-                    : `growing, exp(${formatValue(mode.growthRate!)}·t)`,
-                mode.eigenvalue
-                  ? `${formatValue(mode.eigenvalue.im / (2 * Math.PI))}, ζ = ${formatValue(Number((-mode.eigenvalue.re / Math.hypot(mode.eigenvalue.re, mode.eigenvalue.im)).toPrecision(3)))}`
-                  : "—",
-                mode.shape.map((value) => formatValue(Number(value.toPrecision(3)))).join(", "),
-              ].map(escapeHtml),
-            ),
-          )
+        ? textTable("Modes", { head: modeTableHead(selected), rows: selected.modes.map(modeCells) })
         : "<p>No mode about this equilibrium.</p>") +
       tex(
         `\\dot{\\mathbf{x}} = A\\,\\mathbf{x} + B\\,\\mathbf{u},\\quad \\mathbf{x} = \\begin{bmatrix}${selected.stateNames.map(stateLatex).join(" \\\\ ")}\\end{bmatrix}`,
@@ -315,33 +334,13 @@ export function reportHtml({ report, title, teamName, generatedAt, threads, revi
       tex(`A = ${matrixLatex(selected.A)}`, true) +
       (selected.inputNames.length > 0 ? tex(`B = ${matrixLatex(selected.B)}`, true) : "");
 
-  const checks = [
-    `${evaluation.ok ? "✓" : "✕"} Units: ${
-      evaluation.ok
-        ? "every term of every equation has consistent units (checked by the engine while deriving)."
-        : `not checked, the model does not derive (${evaluation.message}).`
-    }`,
-    ...(energyRuns.length > 0
-      ? energyRuns.map(
-          (run) =>
-            `${run.energyCheck!.warning ? "✕" : "✓"} Energy function along run ${report.runs.indexOf(run) + 1}: relative drift ${run.energyCheck!.relativeDrift.toExponential(2)} against the limit ${run.energyCheck!.threshold.toExponential(0)}.`,
-        )
-      : ["– Energy conservation: no stored run of this revision checks it (it applies to conservative models only)."]),
-    ...(selected
-      ? [
-          `– Small oscillations: ${oscillating.length > 0 ? `${oscillating.map((mode) => `${formatValue(mode.hertz!)} Hz`).join(", ")} about the chosen equilibrium` : "no oscillating mode"}, ${selected.stability} (section 4).`,
-        ]
-      : []),
-    ...(report.runs.some((run) => run.status === "failed") ? ["✕ Simulation: at least one stored run failed (section 6)."] : []),
-  ];
+  const checks = checkLines(report);
 
+  const otherRuns = otherRunsText(report.otherRuns);
   const runs =
     (report.runs.length === 0 ? muted("No stored run used this revision's model.") : report.runs.map(runBlock).join("")) +
-    (report.otherRuns > 0
-      ? muted(
-          `${report.otherRuns} other stored run${report.otherRuns === 1 ? "" : "s"} of this derivation used another version of the model and ${report.otherRuns === 1 ? "is" : "are"} not shown.`,
-        )
-      : "");
+    (otherRuns ? muted(otherRuns) : "") +
+    (report.studies.length > 0 ? `<div id="report-studies"><h3>Parameter studies</h3>${report.studies.map(studyBlock).join("")}</div>` : "");
 
   const review = report.review
     ? `<p>Review requested by ${escapeHtml(report.review.requestedByName ?? "a former member")}, ${escapeHtml(formatRecordTime(report.review.requestedAt))}.</p><ul>${report.review.reviewers

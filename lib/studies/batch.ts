@@ -9,7 +9,7 @@ import {
   updateStudySpecById,
 } from "@/db/queries/studies";
 import type { Study } from "@/db/schema";
-import { AppError } from "@/lib/errors";
+import { AppError, isDatabaseUnavailable } from "@/lib/errors";
 import { documentFromContent, modelFromDocument } from "@/lib/evaluation/document-content";
 import type { JobHandler } from "@/lib/jobs/queue";
 import { EngineLimitError, ExpressionError, ModelError } from "@/lib/mechanics";
@@ -41,22 +41,63 @@ function isModelProblem(error: unknown): boolean {
  * a model that does not derive fails the study and stops its other batches. The
  * batch that stores the last run completes the study and keeps its figures.
  */
-export const studyBatchJob: JobHandler = async (job, { signal, progress }) =>
-  runStudyBatch({ ...(job.input as unknown as StudyBatchInput), jobId: job.id, signal, progress });
+export const studyBatchJob: JobHandler = async (job, { signal, progress, willRetry }) =>
+  runStudyBatch({ ...(job.input as unknown as StudyBatchInput), jobId: job.id, signal, progress, willRetry });
+
+export type StudyBatchOptions = StudyBatchInput & {
+  /** The batch's own job, left alone when the study fails. */
+  jobId?: string;
+  signal?: AbortSignal;
+  progress?: (fraction: number) => void;
+  /** The queue delivers the batch again after an unexpected error (see JobContext.willRetry); false: this is the last attempt. */
+  willRetry?: boolean;
+};
 
 /**
  * Runs the pending runs of a study from `from` to `to` − 1 in this process's
  * simulation pool (the batch job's body; the demo seed runs a whole study
- * through it). `jobId` is the batch's own job, left alone when the study fails.
+ * through it).
+ *
+ * An unexpected error (a database error, a bug: anything but an AppError)
+ * goes back to the queue, which delivers the batch again while it has
+ * deliveries left; the next attempt resumes at the first pending run. On the
+ * last attempt the study fails with a reason people can read and its other
+ * batches stop, so it never stays running for good; the runs stored so far
+ * are kept.
  */
-export async function runStudyBatch({
+export async function runStudyBatch(options: StudyBatchOptions): Promise<Record<string, unknown>> {
+  try {
+    return await runBatch(options);
+  } catch (error) {
+    if (!(error instanceof AppError) && !options.willRetry) await failStudyAfterError(options, error);
+    throw error;
+  }
+}
+
+/** Ends the study of a batch that met an unexpected error on its last attempt. */
+async function failStudyAfterError({ studyId, from, to, jobId }: StudyBatchOptions, error: unknown): Promise<void> {
+  console.error(`[holonomy] study ${studyId}: the batch of runs ${from}–${to - 1} failed for good:`, error);
+  const cause = isDatabaseUnavailable(error) ? "the database was not reachable" : "the server met an unexpected error";
+  const message =
+    to - from === 1
+      ? `Run ${from} could not be completed: ${cause}. The study was stopped; the runs stored before are kept.`
+      : `Runs ${from}–${to - 1} could not be completed: ${cause}. The study was stopped; the runs stored before are kept.`;
+  try {
+    await failStudy(studyId, { code: "internal:study", message }, { except: jobId });
+  } catch (failure) {
+    // The database itself refused: nothing more can be written from here.
+    console.error(`[holonomy] study ${studyId} could not be marked failed:`, failure);
+  }
+}
+
+async function runBatch({
   studyId,
   from,
   to,
   jobId,
   signal = new AbortController().signal,
   progress = () => undefined,
-}: StudyBatchInput & { jobId?: string; signal?: AbortSignal; progress?: (fraction: number) => void }): Promise<Record<string, unknown>> {
+}: StudyBatchOptions): Promise<Record<string, unknown>> {
   const input = { studyId, from, to };
   const study = await startStudyById({ id: input.studyId });
   if (!study || study.state !== "running") return { studyId: input.studyId, runs: 0, skipped: true };

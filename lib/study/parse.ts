@@ -53,6 +53,7 @@ export function parseGridValues(text: string): { values: number[] } | { error: s
     if (count < 1 || count > MAX_GRID_VALUES) return { error: `The count must be between 1 and ${MAX_GRID_VALUES}.` };
     if (count === 1) return from === to ? { values: [from] } : { error: "A range of one value needs equal ends." };
     if (from === to) return { error: "The ends of a range must differ." };
+    if (!Number.isFinite(to - from)) return { error: "The ends of the range are too far apart to step between." };
     // Ends exact; inner points by linear interpolation (no accumulated step error).
     return { values: Array.from({ length: count }, (_, i) => (i === count - 1 ? to : from + ((to - from) * i) / (count - 1))) };
   }
@@ -127,6 +128,8 @@ export function parseStudy(settings: StudySettings, model: Model): StudySpec {
     const min = numberField(`${key}.min`, entry.min);
     const max = numberField(`${key}.max`, entry.max);
     if (Number.isFinite(min) && Number.isFinite(max) && !(min < max)) fail(`${key}.max`, "Must be above the minimum.");
+    // Samples are drawn as min + (max − min)·u: a span past the largest number would make them infinite.
+    else if (Number.isFinite(min) && Number.isFinite(max) && !Number.isFinite(max - min)) fail(`${key}.max`, "The bounds are too far apart to sample between.");
     if (entry.distribution === "uniform") {
       parameters.push({ name, unit, distribution: "uniform", min, max });
       return;

@@ -11,9 +11,11 @@ import * as studyRoute from "@/app/api/derivations/[id]/studies/[studyId]/route"
 import * as cancelRoute from "@/app/api/derivations/[id]/studies/[studyId]/cancel/route";
 import * as csvRoute from "@/app/api/derivations/[id]/studies/[studyId]/csv/route";
 import * as openRoute from "@/app/api/derivations/[id]/studies/[studyId]/runs/[index]/open/route";
-import { closeDatabase } from "@/db/client";
+import { sql } from "drizzle-orm";
+import { closeDatabase, db } from "@/db/client";
 import { createDerivation, getDerivationById } from "@/db/queries/derivations";
 import { createCheckpoint } from "@/db/queries/revisions";
+import { getJobById } from "@/db/queries/jobs";
 import { getOpenStudyJobsByStudyId } from "@/db/queries/studies";
 import { revisionReport } from "@/lib/history/views";
 import { closeJobQueue } from "@/lib/jobs/boss";
@@ -210,7 +212,7 @@ describe("parameter studies through the queue", () => {
     const report = await revisionReport((await getDerivationById({ id }))!, checkpoint.revision.id);
     expect(report.studies).toHaveLength(1);
     const [study] = report.studies;
-    expect(study).toMatchObject({ cellId, mode: "grid", total: 2, failed: 0, onThisRevision: true, cases: ["wide swing"] });
+    expect(study).toMatchObject({ cellId, mode: "grid", total: 2, done: 2, failed: 0, failedRuns: [], onThisRevision: true, cases: ["wide swing"] });
     expect(study!.worst).toEqual([expect.objectContaining({ name: "tension", unit: "N", caseName: "wide swing", parameters: { m: 10 } })]);
     expect(study!.worst[0]!.value).toBeCloseTo(bottomTension(10, 0.5, -1.9), 1);
     // One pair along m: the slope is the bottom tension per kg, g (3 − 2 cos θ0).
@@ -266,6 +268,15 @@ describe("parameter studies through the queue", () => {
     expect(failed.failure!.reason).toBe("setup");
     expect(failed.failure!.message).toMatch(/singular/);
     expect(study.worst.tension!.parameters.m).toBe(10);
+
+    // The report lists the failed run with its reason.
+    const checkpoint = await createCheckpoint({ derivationId: id, name: "After the study", actorId: kestrel.members.analyst.id });
+    if (!checkpoint.ok) throw new Error("checkpoint refused");
+    const report = await revisionReport((await getDerivationById({ id }))!, checkpoint.revision.id);
+    expect(report.studies[0]).toMatchObject({ total: 2, done: 1, failed: 1, onThisRevision: false });
+    expect(report.studies[0]!.failedRuns).toEqual([
+      { index: failed.index, caseName: "wide swing", parameters: { m: 0 }, reason: "setup", message: failed.failure!.message },
+    ]);
   }, 300_000);
 
   it("shows partial results while running and stops the remaining batches on cancel", async () => {
@@ -301,6 +312,70 @@ describe("parameter studies through the queue", () => {
     expect(later.runs.filter((run) => run.status === "pending").length).toBe(400 - later.progress.done - later.progress.failed);
   }, 300_000);
 
+  it("fails the study with its reason when a batch keeps meeting a database error, keeping the stored runs", async () => {
+    // Eight runs go in four batches of two (batchSizeOf). A trigger makes the database refuse to store run 2 of
+    // this derivation's study, as a broken or full database would: the batch of runs 2–3 fails on every delivery.
+    const { id, cellId } = await studyDerivation({
+      parameters: [{ name: "m", values: "3:10:8", distribution: "uniform", min: "", max: "", mean: "", sd: "" }],
+      cases: [releases[1]!],
+      endTime: "0.5",
+      outputStep: "0.01",
+      watch: ["tension"],
+    });
+    // A sequence counts the attempts: nextval is not rolled back with the failing statement.
+    await db.execute(sql.raw("CREATE SEQUENCE test_study_fault_hits"));
+    await db.execute(
+      sql.raw(`CREATE FUNCTION test_study_fault() RETURNS trigger LANGUAGE plpgsql AS $$
+        BEGIN
+          IF OLD.run_index = 2 AND OLD.study_id IN (SELECT s.id FROM studies s WHERE s.derivation_id = '${id}') THEN
+            PERFORM nextval('test_study_fault_hits');
+            RAISE EXCEPTION 'injected fault: the run cannot be stored';
+          END IF;
+          RETURN NEW;
+        END $$`),
+    );
+    await db.execute(sql.raw("CREATE TRIGGER test_study_fault BEFORE UPDATE ON study_runs FOR EACH ROW EXECUTE FUNCTION test_study_fault()"));
+    try {
+      const queued = ((await (await queueStudy(id, cellId)).json()) as { study: StudyView }).study;
+      expect(queued.progress.total).toBe(8);
+      const study = await pollStudy(id, queued.id, ended);
+      expect(study.state).toBe("failed");
+      expect(study.error).toEqual({
+        code: "internal:study",
+        message: "Runs 2–3 could not be completed: the server met an unexpected error. The study was stopped; the runs stored before are kept.",
+      });
+      // The queue's retry policy (retryLimit 2, lib/jobs/queue.ts): three deliveries, and the study failed only after the last.
+      const [hits] = (await db.execute(sql.raw("SELECT last_value::int AS hits FROM test_study_fault_hits"))).rows as { hits: number }[];
+      expect(hits!.hits).toBe(3);
+      const batches = (await db.execute(sql`SELECT id FROM jobs WHERE kind = 'study' AND input->>'studyId' = ${queued.id} AND input->>'from' = '2'`)).rows as {
+        id: string;
+      }[];
+      expect(batches).toHaveLength(1);
+      const batch = await getJobById({ id: batches[0]!.id });
+      expect(batch).toMatchObject({ state: "failed", error: { code: "internal:job" } });
+      expect(await getOpenStudyJobsByStudyId({ studyId: queued.id })).toEqual([]);
+
+      // The first batch ran before the failing one (one worker, batches in order): its runs are stored and stay.
+      const byIndex = new Map(study.runs.map((run) => [run.index, run]));
+      expect(byIndex.get(0)!.status).toBe("done");
+      expect(byIndex.get(1)!.status).toBe("done");
+      expect(byIndex.get(2)!.status).toBe("pending");
+      expect(study.runs.filter((run) => run.status === "done")).toHaveLength(study.progress.done);
+      expect(study.worst.tension).toBeDefined();
+      await new Promise((resolve) => setTimeout(resolve, 1500));
+      const later = await readStudy(id, queued.id);
+      expect(later.state).toBe("failed");
+      expect(later.progress).toEqual(study.progress);
+      expect(later.runs.filter((run) => run.status === "done").map((run) => run.index)).toEqual(
+        study.runs.filter((run) => run.status === "done").map((run) => run.index),
+      );
+    } finally {
+      await db.execute(sql.raw("DROP TRIGGER test_study_fault ON study_runs"));
+      await db.execute(sql.raw("DROP FUNCTION test_study_fault()"));
+      await db.execute(sql.raw("DROP SEQUENCE test_study_fault_hits"));
+    }
+  }, 300_000);
+
   it("refuses a study cell that cannot run, naming each field", async () => {
     const { id, cellId } = await studyDerivation({
       parameters: [{ name: "k", values: "1", distribution: "uniform", min: "", max: "", mean: "", sd: "" }],
@@ -313,6 +388,45 @@ describe("parameter studies through the queue", () => {
     expect(error.code).toBe("bad_request:study");
     expect(Object.keys(error.fieldErrors).sort()).toEqual(["cases.0.initialCoordinates.theta", "parameters.0.name", "watch.0"]);
     expect((await queueStudy(id, "no-such-cell")).status).toBe(404);
+  });
+
+  it("answers bad requests with a 4xx JSON error and records nothing", async () => {
+    const { id, cellId } = await studyDerivation({ cases: [releases[1]!], endTime: "0.5", watch: ["x"] });
+    const path = `/api/derivations/${id}/studies`;
+    const refused = async (request: Request) => {
+      const response = await studiesRoute.POST(request, params({ id }));
+      expect(response.headers.get("content-type")).toContain("application/json");
+      const { error } = (await response.json()) as { error: { code: string; message: string; fieldErrors?: Record<string, string[]> } };
+      return { status: response.status, ...error };
+    };
+    expect(await refused(jsonRequest(path, "POST", '{"cellId":'))).toMatchObject({ status: 400, message: "The request body is not valid JSON." });
+    expect(
+      await refused(new Request(`http://localhost${path}`, { method: "POST", headers: { "content-type": "text/plain" }, body: JSON.stringify({ cellId }) })),
+    ).toMatchObject({ status: 415, code: "unsupported_media_type:api" });
+    // The body names one cell: a 5 kB one is refused unread.
+    expect(await refused(jsonRequest(path, "POST", { cellId, padding: "x".repeat(5000) }))).toMatchObject({ status: 413, code: "too_large:api" });
+
+    // Bounds whose span is past the largest number would sample infinite values: refused by field, not run.
+    const wide = await studyDerivation({
+      mode: "tolerance",
+      samples: "10",
+      parameters: [{ name: "m", values: "", distribution: "uniform", mean: "", sd: "", min: "-1e308", max: "1e308" }],
+      cases: [releases[1]!],
+      endTime: "0.5",
+      watch: ["x"],
+    });
+    const response = await queueStudy(wide.id, wide.cellId);
+    expect(response.status).toBe(400);
+    const { error } = (await response.json()) as { error: { code: string; fieldErrors: Record<string, string[]> } };
+    expect(error).toMatchObject({ code: "bad_request:study", fieldErrors: { "parameters.0.max": ["The bounds are too far apart to sample between."] } });
+
+    for (const derivation of [{ id, cellId }, wide]) {
+      const list = await studiesRoute.GET(
+        jsonRequest(`/api/derivations/${derivation.id}/studies?cellId=${derivation.cellId}`, "GET"),
+        params({ id: derivation.id }),
+      );
+      expect(((await list.json()) as { studies: StudyListItem[] }).studies).toEqual([]);
+    }
   });
 
   it("lets a viewer read a study but not run or cancel one", async () => {

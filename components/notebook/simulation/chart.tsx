@@ -97,6 +97,36 @@ export function formatTicks(splits: readonly number[]): string[] {
   return splits.map((v) => (v === 0 || Math.abs(v) < 1e-9 * step ? "0" : format(v).replace("e+", "e")));
 }
 
+/** A decade as a short label: plain for 0.001 … 10000, exponent form beyond. */
+function decadeLabel(power: number): string {
+  return power >= -3 && power <= 4 ? String(Number((10 ** power).toPrecision(1))) : `1e${power}`;
+}
+
+/** Pixels one tick label of `length` characters needs in the 11 px mono tick font, with a gap. */
+const labelWidth = (length: number) => length * 7 + 10;
+
+/**
+ * Labels of a logarithmic axis. uPlot splits a log axis at every 1 … 9 × 10^k
+ * (the grid lines); labelling them all piles the labels on each other, so only
+ * decades are labelled, and every second (third, …) decade when `widthPx`, the
+ * plot's width in CSS pixels, has no room for all of them.
+ *
+ * @example formatLogTicks([0.1, 0.2, 0.5, 1, 2, 5, 10], 400) // ["0.1", "", "", "1", "", "", "10"]
+ */
+export function formatLogTicks(splits: readonly number[], widthPx: number): string[] {
+  const powers = splits.map((value) => {
+    if (!(value > 0) || !Number.isFinite(value)) return null;
+    const power = Math.log10(value);
+    const whole = Math.round(power);
+    return Math.abs(power - whole) < 1e-6 ? whole : null;
+  });
+  const decades = powers.filter((p): p is number => p !== null);
+  if (decades.length === 0) return splits.map(() => "");
+  const widest = Math.max(...decades.map((p) => labelWidth(decadeLabel(p).length)));
+  const stride = Math.max(1, Math.ceil((widest * decades.length) / Math.max(1, widthPx)));
+  return powers.map((p) => (p !== null && p % stride === 0 ? decadeLabel(p) : ""));
+}
+
 /** Colour and dash of palette slot i: six colours, then the same six dashed, then dotted. */
 export function seriesStyle(palette: readonly string[], index: number): { stroke: string; dash: number[] | undefined } {
   return { stroke: palette[index % palette.length]!, dash: DASHES[Math.floor(index / palette.length) % DASHES.length] };
@@ -142,7 +172,14 @@ export function Chart({ title, xLabel, yLabel, x, series, xy, height = 220, test
       values: (_plot, splits) => formatTicks(splits),
     };
     const axes: uPlot.Axis[] = [
-      { ...axis, label: xLabel, size: 28, labelSize: 16, labelGap: 2 },
+      {
+        ...axis,
+        label: xLabel,
+        size: 28,
+        labelSize: 16,
+        labelGap: 2,
+        ...(xLog ? { values: (plot: uPlot, splits: number[]) => formatLogTicks(splits, plot.bbox.width / (uPlot.pxRatio || 1)) } : {}),
+      },
       { ...axis, label: yLabel, size: 56 },
     ];
     const width = Math.max(200, Math.floor(element.clientWidth || 600));

@@ -140,7 +140,7 @@ export function RunsTable({
             {sorted.slice(0, shown).map((run) => (
               <tr key={run.index} className={clsx("border-b border-line/60", run.status === "failed" && "bg-danger-soft/50")} data-testid="study-run-row">
                 <td className="py-1 pr-3 text-right font-mono">{run.index}</td>
-                <td className="py-1 pr-3">{run.caseName}</td>
+                <td className="whitespace-nowrap py-1 pr-3">{run.caseName}</td>
                 <td className={clsx("py-1 pr-3", run.status === "failed" ? "text-danger" : run.status === "pending" && "text-muted")}>
                   {run.status === "failed" ? (
                     <span title={run.failure?.message}>Failed: {failureText(run.failure)}</span>
@@ -151,20 +151,24 @@ export function RunsTable({
                   )}
                 </td>
                 {study.parameterNames.map((name) => (
-                  <td key={name} className="py-1 pr-3 text-right font-mono">
+                  <td key={name} className="whitespace-nowrap py-1 pr-3 text-right font-mono">
                     {formatStudyNumber(run.parameters[name])}
                   </td>
                 ))}
                 {study.watch.map((w) => {
                   const peak = run.peaks[w.name];
                   return (
-                    <td key={w.name} className="py-1 pr-3 text-right font-mono" title={peak ? `at t = ${formatStudyNumber(peak.timeOfPeak)} s` : undefined}>
+                    <td
+                      key={w.name}
+                      className="whitespace-nowrap py-1 pr-3 text-right font-mono"
+                      title={peak ? `at t = ${formatStudyNumber(peak.timeOfPeak)} s` : undefined}
+                    >
                       {formatStudyNumber(peak?.peak)}
                     </td>
                   );
                 })}
-                <td className="py-1 pr-3 text-right font-mono">{formatStudyNumber(run.energyDrift, 2)}</td>
-                <td className="py-1 pr-3 text-right font-mono">{formatStudyNumber(run.constraintResidual, 2)}</td>
+                <td className="whitespace-nowrap py-1 pr-3 text-right font-mono">{formatStudyNumber(run.energyDrift, 2)}</td>
+                <td className="whitespace-nowrap py-1 pr-3 text-right font-mono">{formatStudyNumber(run.constraintResidual, 2)}</td>
                 {canOpen && onOpen ? (
                   <td className="py-1">
                     {run.status !== "pending" && (

@@ -5,7 +5,7 @@
  * opening that run), how much each parameter moves each peak, the envelope
  * plots, every run in a sortable table, and the CSV download.
  */
-import { lazy, Suspense } from "react";
+import { Fragment, lazy, Suspense } from "react";
 import { safetyNote } from "@/lib/domain";
 import { formatParameters, formatStudyNumber } from "./format";
 import { RunsTable } from "./runs-table";
@@ -67,7 +67,7 @@ function WorstCases({ study, onOpenRun, opening }: { study: StudyView; onOpenRun
               <th scope="col" className="py-1 pr-3 text-right font-normal">
                 Peak
               </th>
-              <th scope="col" className="py-1 pr-3 text-right font-normal">
+              <th scope="col" className="whitespace-nowrap py-1 pr-3 text-right font-normal">
                 At t (s)
               </th>
               <th scope="col" className="py-1 pr-3 font-normal">
@@ -91,11 +91,21 @@ function WorstCases({ study, onOpenRun, opening }: { study: StudyView; onOpenRun
                     {formatStudyNumber(worst.value)}
                     {w.unit ? <span className="font-sans text-muted"> {w.unit}</span> : null}
                   </td>
-                  <td className="py-1 pr-3 text-right font-mono">{formatStudyNumber(worst.time)}</td>
+                  <td className="whitespace-nowrap py-1 pr-3 text-right font-mono">{formatStudyNumber(worst.time)}</td>
                   <td className="py-1 pr-3">
                     run {worst.runIndex}, {worst.caseName}
                     {Object.keys(worst.parameters).length > 0 && (
-                      <span className="font-mono text-muted">: {formatParameters(worst.parameters, study.parameterNames)}</span>
+                      <span className="font-mono text-muted">
+                        : {/* Each "name = value" stays on one line; the list wraps between them. */}
+                        {formatParameters(worst.parameters, study.parameterNames)
+                          .split(", ")
+                          .map((part, i) => (
+                            <Fragment key={part}>
+                              {i > 0 && ", "}
+                              <span className="whitespace-nowrap">{part}</span>
+                            </Fragment>
+                          ))}
+                      </span>
                     )}
                   </td>
                   <td className="py-1">
@@ -180,7 +190,7 @@ function Sensitivity({ study }: { study: StudyView }) {
                               />
                             </span>
                           </span>
-                          <span className="text-xs text-muted">
+                          <span className="whitespace-nowrap text-xs text-muted">
                             slope {formatStudyNumber(s.slope, 3)}
                             {s.r2 !== null && `, r² ${formatStudyNumber(s.r2, 2)}`}
                           </span>

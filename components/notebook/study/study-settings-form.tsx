@@ -621,23 +621,28 @@ function WatchPicker({
         {groups
           .filter((g) => g.items.length > 0)
           .map((group) => (
-            <div key={group.label} role="group" aria-label={group.label} className="flex min-w-0 flex-wrap items-start gap-x-4 gap-y-1">
+            // The names wrap beside their group's label, never under it.
+            <div key={group.label} role="group" aria-label={group.label} className="flex min-w-0 items-start gap-x-4">
               <span className="w-24 shrink-0 text-[13px] text-muted">{group.label}</span>
-              {group.items.map((item) =>
-                box(
-                  item.name,
-                  <>
-                    <span className="font-mono">{item.name}</span>
-                    {item.unit ? <span className="text-muted">({item.unit})</span> : null}
-                  </>,
-                ),
-              )}
+              <div className="flex min-w-0 flex-1 flex-wrap items-start gap-x-4 gap-y-1">
+                {group.items.map((item) =>
+                  box(
+                    item.name,
+                    <>
+                      <span className="font-mono">{item.name}</span>
+                      {item.unit ? <span className="text-muted">({item.unit})</span> : null}
+                    </>,
+                  ),
+                )}
+              </div>
             </div>
           ))}
         {missing.length > 0 && (
-          <div role="group" aria-label="No longer in the model" className="flex min-w-0 flex-wrap items-start gap-x-4 gap-y-1">
+          <div role="group" aria-label="No longer in the model" className="flex min-w-0 items-start gap-x-4">
             <span className="w-24 shrink-0 text-[13px] text-danger">Not in the model</span>
-            {missing.map((name) => box(name, <span className="font-mono line-through">{name}</span>))}
+            <div className="flex min-w-0 flex-1 flex-wrap items-start gap-x-4 gap-y-1">
+              {missing.map((name) => box(name, <span className="font-mono line-through">{name}</span>))}
+            </div>
           </div>
         )}
       </div>

@@ -1,5 +1,6 @@
 import { describe, expect, it } from "vitest";
 import { safetyNote } from "@/lib/domain";
+import type { ReportStudy } from "@/lib/history/views";
 import { escapeHtml, reportHtml, seriesSvg } from "@/lib/reports/html";
 import { reportThreads } from "@/lib/reports/threads";
 import { craneReport, thread } from "./fixtures";
@@ -110,6 +111,97 @@ describe("reportHtml", () => {
     const html = reportHtml({ report, title: "x", teamName: "", generatedAt: "2026-12-02T12:00:00.000Z", threads: [], revisionLabel: "Checkpoint" });
     expect(html).toContain("The engine could not derive this revision: kinetic: unknown name q");
     expect(html).toContain("No comment threads.");
+  });
+});
+
+/** A grid study of the crane's load mass and rope length, with names and texts people typed that try to break out of the HTML. */
+function craneStudy(): ReportStudy {
+  return {
+    cellId: "study-cell",
+    title: `Rope sway <b>check</b>`,
+    mode: "grid",
+    createdAt: "2026-12-01T09:00:00.000Z",
+    total: 6,
+    done: 5,
+    failed: 1,
+    onThisRevision: true,
+    parameters: [
+      { name: "m", unit: "kg", grid: [500, 1000, 1500] },
+      { name: "l", unit: "m", grid: [4, 8] },
+    ],
+    cases: ["stop from 1 m/s", hostile],
+    worst: [{ name: "sway", unit: "rad", value: 0.123456789, time: 1.5, caseName: hostile, parameters: { m: 1500, l: 8 } }],
+    sensitivity: [
+      {
+        name: "sway",
+        method: "finite-difference",
+        byParameter: { m: { slope: 2e-5, normalized: 0.4, r2: null }, l: { slope: 0.01, normalized: 0.6, r2: null } },
+      },
+    ],
+    failedRuns: [{ index: 4, caseName: "stop from 1 m/s", parameters: { m: 1500, l: 4 }, reason: "setup", message: `singular mass matrix ${hostile}` }],
+  };
+}
+
+describe("reportHtml with a parameter study", () => {
+  async function renderWithStudy(study: ReportStudy) {
+    const report = { ...(await craneReport()), studies: [study] };
+    return reportHtml({
+      report,
+      title: "Gantry crane",
+      teamName: "Kestrel",
+      generatedAt: "2026-12-02T12:00:00.000Z",
+      threads: [],
+      revisionLabel: "Checkpoint",
+    });
+  }
+
+  it("prints the study's summary, varied parameters, worst cases, sensitivity and failed runs in the runs section", async () => {
+    const html = await renderWithStudy(craneStudy());
+    const runs = html.slice(html.indexOf('id="report-runs"'), html.indexOf('id="report-approval"'));
+    expect(runs).toContain('<div id="report-studies"><h3>Parameter studies</h3>');
+    expect(runs).toContain(`<h3>${escapeHtml("Rope sway <b>check</b>")}</h3>`);
+    expect(runs).toContain("Grid study of m, l over 2 cases (stop from 1 m/s, ");
+    expect(runs).toContain(": 6 runs, 5 done, 1 failed; ");
+    expect(runs).toContain(", on this revision.");
+    expect(runs).toContain("<td>m [kg]</td><td>grid: 500, 1000, 1500 kg</td>");
+    // The worst case: the peak to six significant digits, the run's case and its parameters with units.
+    expect(runs).toContain(`<td>sway [rad]</td><td>0.123457</td><td>1.5</td><td>${escapeHtml(hostile)}</td><td>m = 1500 kg, l = 8 m</td>`);
+    expect(runs).toContain('<th scope="col">m: slope · normalized</th>');
+    expect(runs).toContain("<td>sway</td><td>2.000e-5 · 0.4</td><td>0.01 · 0.6</td>");
+    expect(runs).toContain(`<td>4</td><td>stop from 1 m/s</td><td>m = 1500 kg, l = 4 m</td><td>${escapeHtml(`singular mass matrix ${hostile}`)}</td>`);
+    expect(runs).toContain("finite differences along the grid");
+  });
+
+  it("escapes every text people typed in a study", async () => {
+    const html = await renderWithStudy(craneStudy());
+    expect(html).not.toMatch(/<script/i);
+    expect(html).not.toContain("<img");
+    expect(html).not.toContain("<b>check</b>");
+  });
+
+  it("says how many failed runs it leaves out, and prints a tolerance study's regression columns and distributions", async () => {
+    const study: ReportStudy = {
+      ...craneStudy(),
+      title: "Tolerance on the load",
+      mode: "tolerance",
+      total: 200,
+      done: 170,
+      failed: 30,
+      parameters: [{ name: "m", unit: "kg", distribution: "normal", mean: 1000, sd: 50, min: 900, max: 1100 }],
+      sensitivity: [{ name: "sway", method: "regression", byParameter: { m: { slope: 3e-5, normalized: 0.9, r2: 0.97 } } }],
+    };
+    const html = await renderWithStudy(study);
+    expect(html).toContain("Tolerance study of m over 2 cases");
+    expect(html).toContain("<td>normal, mean 1000 kg, standard deviation 50 kg, kept within 900 to 1100 kg</td>");
+    expect(html).toContain("<td>sway</td><td>3.000e-5 · 0.9 · 0.97</td>");
+    expect(html).toContain("The first 1 of 30 failed runs are listed.");
+    expect(html).toContain("least squares over the sampled runs");
+  });
+
+  it("leaves the studies out when the revision has none", async () => {
+    const report = await craneReport();
+    const html = reportHtml({ report, title: "x", teamName: "", generatedAt: "2026-12-02T12:00:00.000Z", threads: [], revisionLabel: "Checkpoint" });
+    expect(html).not.toContain('id="report-studies"');
   });
 });
 

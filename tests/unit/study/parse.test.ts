@@ -28,6 +28,13 @@ describe("parseGridValues", () => {
     expect(parseGridValues("1:1:3")).toEqual({ error: "The ends of a range must differ." });
     expect(parseGridValues("0:1")).toHaveProperty("error");
   });
+
+  it("refuses a range whose ends are too far apart to step between (the steps would be infinite)", () => {
+    expect(parseGridValues("-1e308:1e308:5")).toEqual({ error: "The ends of the range are too far apart to step between." });
+    // Far apart but within reach: every value finite.
+    const wide = parseGridValues("-1e307:1e307:3");
+    expect(wide).toEqual({ values: [-1e307, 0, 1e307] });
+  });
 });
 
 describe("outputTimesOf", () => {
@@ -148,6 +155,27 @@ describe("parseStudy", () => {
     );
     expect(errors["parameters.0.sd"]![0]).toContain("uniform");
     expect(errors["parameters.1.mean"]).toEqual(["Must lie between the minimum and the maximum."]);
+  });
+
+  it("refuses bounds too far apart to sample between, and NaN or infinite text, so no sample is infinite", () => {
+    const errors = fieldErrorsOf(() =>
+      parseStudy(
+        settings({
+          mode: "tolerance",
+          parameters: [
+            parameter({ name: "l", distribution: "uniform", min: "-1e308", max: "1e308" }),
+            parameter({ name: "m", distribution: "uniform", min: "NaN", max: "Infinity" }),
+          ],
+          watch: ["x"],
+        }),
+        ropePendulum,
+      ),
+    );
+    expect(errors).toEqual({
+      "parameters.0.max": ["The bounds are too far apart to sample between."],
+      "parameters.1.min": ['"NaN" is not a number.'],
+      "parameters.1.max": ['"Infinity" is not a number.'],
+    });
   });
 
   it("refuses more runs than a study may have, and a symbolic parameter left unvaried", () => {

@@ -5,7 +5,7 @@ import { enforceRateLimits, rateLimits } from "@/lib/auth/rate-limit";
 import { queueStudy, studyView } from "@/lib/studies/service";
 import { studyListItem } from "@/lib/studies/views";
 import { parseOrThrow } from "@/lib/validation/parse";
-import { queueStudySchema, studyListQuerySchema } from "./schema";
+import { QUEUE_STUDY_BODY_LIMIT, queueStudySchema, studyListQuerySchema } from "./schema";
 
 type Params = { id: string };
 
@@ -28,7 +28,7 @@ export const POST = derivationRoute<Params>("derivation:simulate", async ({ requ
     "rate_limited:simulation",
     "Too many simulations in a short time. Wait a moment and try again.",
   );
-  const { cellId } = parseOrThrow(queueStudySchema, await readJson(request));
+  const { cellId } = parseOrThrow(queueStudySchema, await readJson(request, { limit: QUEUE_STUDY_BODY_LIMIT }));
   const queued = await queueStudy({ derivation, userId: user.id, cellId });
   const study = await getStudyByIdAndDerivationId({ id: queued.id, derivationId: derivation.id });
   return Response.json({ study: await studyView(study!) }, { status: 202 });
