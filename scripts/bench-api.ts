@@ -11,13 +11,14 @@
 // Options: --duration S (per endpoint, default 10), --connections N (default 10),
 //          --port P (default 3290), --build (rebuild even when a build exists).
 import { execFile, spawn, type ChildProcess } from "node:child_process";
+import { randomBytes } from "node:crypto";
 import { existsSync } from "node:fs";
 import net from "node:net";
 import path from "node:path";
 import { promisify } from "node:util";
 import autocannon from "autocannon";
 import { demoApiToken, demoPassword, demoUsers } from "../db/seed/demo";
-import { env } from "../lib/env";
+import { DEVELOPMENT_NEXTAUTH_SECRET, env } from "../lib/env";
 
 const run = promisify(execFile);
 const ROOT = path.resolve(import.meta.dirname, "..");
@@ -38,6 +39,11 @@ const forceBuild = process.argv.includes("--build");
 const base = `http://127.0.0.1:${port}`;
 // The token's rate limit (600 requests in 10 minutes) bounds that endpoint's run; the bench database is fresh each time.
 const TOKEN_REQUESTS = 500;
+// The evaluate rate limit (300 per person a minute) bounds those endpoints' runs the same way.
+const EVALUATE_REQUESTS = 290;
+
+/** This run's session secret (sessions live only as long as the bench). */
+const BENCH_SECRET = randomBytes(32).toString("base64");
 
 /** The environment of the child processes: the bench database, production mode. */
 function childEnv(databaseUrl: string): NodeJS.ProcessEnv {
@@ -45,6 +51,8 @@ function childEnv(databaseUrl: string): NodeJS.ProcessEnv {
     ...process.env,
     DATABASE_URL: databaseUrl,
     NEXTAUTH_URL: `http://localhost:${port}`,
+    // A production server refuses the committed development secret: the bench's server gets its own.
+    NEXTAUTH_SECRET: process.env.NEXTAUTH_SECRET && process.env.NEXTAUTH_SECRET !== DEVELOPMENT_NEXTAUTH_SECRET ? process.env.NEXTAUTH_SECRET : BENCH_SECRET,
     NEXT_TELEMETRY_DISABLED: "1",
   };
   next.AWS_SDK_JS_NODE_VERSION_SUPPORT_WARNING_DISABLED = "true";
@@ -79,7 +87,7 @@ async function waitForHealth(app: ChildProcess): Promise<void> {
 }
 
 /** Signs in as the demo lead through next-auth's credentials flow; returns the Cookie header. */
-async function signIn(): Promise<string> {
+async function signIn(role: "lead" | "analyst" = "lead"): Promise<string> {
   const csrf = await fetch(`${base}/api/auth/csrf`);
   const jar = new Map<string, string>();
   const keep = (response: Response) => {
@@ -91,12 +99,12 @@ async function signIn(): Promise<string> {
   };
   keep(csrf);
   const { csrfToken } = (await csrf.json()) as { csrfToken: string };
-  const lead = demoUsers.find((user) => user.role === "lead")!;
+  const person = demoUsers.find((user) => user.role === role)!;
   const response = await fetch(`${base}/api/auth/callback/credentials`, {
     method: "POST",
     redirect: "manual",
     headers: { "content-type": "application/x-www-form-urlencoded", cookie: [...jar].map(([k, v]) => `${k}=${v}`).join("; ") },
-    body: new URLSearchParams({ csrfToken, email: lead.email, password: demoPassword, json: "true" }),
+    body: new URLSearchParams({ csrfToken, email: person.email, password: demoPassword, json: "true" }),
   });
   keep(response);
   const cookie = [...jar].map(([k, v]) => `${k}=${v}`).join("; ");
@@ -150,10 +158,21 @@ function variant(document: Document, index: number): Document {
 
 async function main(): Promise<void> {
   const started = Date.now();
+  let startedPostgres = false;
   if (!(await portOpen(new URL(env.DATABASE_URL).port ? Number(new URL(env.DATABASE_URL).port) : 5432))) {
     log("starting PostgreSQL");
     await run("bash", ["scripts/db.sh", "start"], { cwd: ROOT });
+    startedPostgres = true;
   }
+  try {
+    await benchOn(started);
+  } finally {
+    // Stop what this bench started (PostgreSQL only when it was not running before).
+    if (startedPostgres) await run("bash", ["scripts/db.sh", "stop"], { cwd: ROOT }).catch(() => undefined);
+  }
+}
+
+async function benchOn(started: number): Promise<void> {
   if (await portOpen(port)) throw new Error(`port ${port} is in use; choose another with --port`);
 
   const benchUrl = new URL(env.DATABASE_URL);
@@ -225,12 +244,22 @@ async function main(): Promise<void> {
     const endpoints: Record<string, Figures> = {};
     endpoints.health = await drive("GET /api/health", { url: "/api/health" });
     endpoints.listDerivations = await drive("GET /api/teams/[teamId]/derivations", { url: `/api/teams/${teamId}/derivations`, headers: session });
-    endpoints.evaluateCached = await drive("POST …/evaluate (cached)", { url: evaluateUrl, method: "POST", headers: post, body: "{}" });
+    // Evaluation is rate-limited per person (300 a minute): a fixed number of requests under it,
+    // the cached ones as the lead (who spent three on the warm-up), the uncached as the analyst.
+    endpoints.evaluateCached = await drive("POST …/evaluate (cached)", {
+      url: evaluateUrl,
+      method: "POST",
+      headers: post,
+      body: "{}",
+      amount: EVALUATE_REQUESTS,
+    });
+    const analystPost = { cookie: await signIn("analyst"), "content-type": "application/json" };
     let variantIndex = 0;
     endpoints.evaluateUncached = await drive("POST …/evaluate (uncached)", {
       url: evaluateUrl,
       method: "POST",
-      headers: post,
+      headers: analystPost,
+      amount: EVALUATE_REQUESTS,
       // The engine pool has two threads: more connections only queue.
       connections: Math.min(connections, 4),
       requests: [{ setupRequest: (request) => ({ ...request, body: JSON.stringify({ document: variant(derivation.content, variantIndex++) }) }) }],

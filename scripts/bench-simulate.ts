@@ -45,7 +45,7 @@ const system = systemFromDerivation(model, deriveModel(model));
 // WebAssembly module up only after they have run for a while; a worker that
 // simulates repeatedly runs warm. We time the steady state, so run the
 // identical job a few times first.
-for (let i = 0; i < 40; i++) integrate(system, settings);
+for (let i = 0; i < 200; i++) integrate(system, settings);
 
 // Timed: the median of several runs, so one pause of the shared machine does not decide it.
 const runs: { ms: number; cpuMs: number; rhs: number; drift: number; method: string }[] = [];
