@@ -1,6 +1,6 @@
 // `npm run --silent bench:study`: how parameter studies scale over queue workers.
 //
-// Starts what it needs (PostgreSQL when its port is closed, a fresh database
+// Starts what it needs (PostgreSQL when its port is closed, stopped again at the end; a fresh database
 // <DATABASE_URL's name>_study_bench, the worker bundles when they are missing
 // or stale), then runs the demo crane's tolerance study (db/seed/demo.ts) with
 // 1000 runs of 10 s each, first on 1 queue worker (scripts/worker.ts) and then
@@ -93,10 +93,21 @@ async function ensureWorkerBundles(): Promise<void> {
 
 async function main(): Promise<void> {
   const pgPort = Number(new URL(env.DATABASE_URL).port || 5432);
+  let startedPostgres = false;
   if (!(await portOpen(pgPort))) {
     log("starting PostgreSQL");
     await run("bash", ["scripts/db.sh", "start"], { cwd: ROOT });
+    startedPostgres = true;
   }
+  try {
+    await benchOn();
+  } finally {
+    // Stop what this bench started (PostgreSQL only when it was not running before).
+    if (startedPostgres) await run("bash", ["scripts/db.sh", "stop"], { cwd: ROOT }).catch(() => undefined);
+  }
+}
+
+async function benchOn(): Promise<void> {
   await ensureWorkerBundles();
 
   const benchUrl = new URL(env.DATABASE_URL);

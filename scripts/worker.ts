@@ -9,6 +9,7 @@ import { closeDatabase } from "@/db/client";
 import { createBoss } from "@/lib/jobs/boss";
 import { JOB_HANDLERS } from "@/lib/jobs/handlers";
 import { JobQueue } from "@/lib/jobs/queue";
+import { SWEEP_INTERVAL_MS, sweepAbandonedJobs } from "@/lib/jobs/sweep";
 import { closeEnginePool } from "@/lib/workers/engine-pool";
 import { closeSimulationPool } from "@/lib/workers/simulation-pool";
 
@@ -16,10 +17,20 @@ async function main(): Promise<void> {
   const queue = new JobQueue(createBoss({ maintenance: true }));
   await queue.work(logged(JOB_HANDLERS));
   console.log(`[holonomy] queue worker ${process.pid} ready`);
+  // Jobs whose every delivery died with its worker: end them (and their studies) with a reason.
+  const sweep = () =>
+    sweepAbandonedJobs().then(
+      (ended) => ended > 0 && console.log(`[holonomy] queue worker ${process.pid} ended ${ended} abandoned job(s)`),
+      (error: unknown) => console.error("[holonomy] sweeping abandoned jobs failed:", error instanceof Error ? error.message : error),
+    );
+  void sweep();
+  const sweeper = setInterval(() => void sweep(), SWEEP_INTERVAL_MS);
+  sweeper.unref();
   let stopping = false;
   const stop = async (signal: string) => {
     if (stopping) return;
     stopping = true;
+    clearInterval(sweeper);
     console.log(`[holonomy] queue worker stopping (${signal})`);
     await queue.stop().catch((error: unknown) => console.error("[holonomy] queue stop:", error));
     await closeSimulationPool();

@@ -111,3 +111,17 @@ export async function getActiveJobByModelHash({
     .limit(1);
   return row ?? null;
 }
+
+/**
+ * Jobs this table still shows queued or running although pg-boss (schema
+ * `pgboss`) has failed their queue entry: every delivery went to a worker that
+ * died holding it, so each expired, and no handler will ever end the row.
+ * Other endings are written by the handler itself before pg-boss hears of them.
+ */
+export async function getJobsFailedByQueue(): Promise<Pick<Job, "id" | "kind" | "input">[]> {
+  const result = await db.execute<{ id: string; kind: JobKind; input: Record<string, unknown> }>(sql`
+    select ${jobs.id} as id, ${jobs.kind} as kind, ${jobs.input} as input
+    from ${jobs} join pgboss.job as queued on queued.id = ${jobs.id}
+    where ${jobs.state} in ('queued', 'running') and queued.state = 'failed'`);
+  return result.rows;
+}

@@ -1,5 +1,4 @@
-import { spawn, type ChildProcess } from "node:child_process";
-import path from "node:path";
+import type { ChildProcess } from "node:child_process";
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 
 vi.mock("@/lib/auth/session", async () => (await import("./support/session")).sessionModule);
@@ -17,6 +16,7 @@ import { modelToDocument } from "@/lib/notebook/document";
 import { LONG_ARM_RUN, doubleArm } from "../support/rig-models";
 import type { RunJson } from "@/lib/runs/views";
 import { jsonRequest, makeTeam, params, resetDatabase, type TeamFixture } from "./support/fixtures";
+import { startWorkerProcess, stopWorkerProcess } from "./support/worker-process";
 import { signInAs } from "./support/session";
 
 // Jobs queued here (the web side: route handlers in this process) must be run by
@@ -38,32 +38,8 @@ const pendulum: Model = {
 let kestrel: TeamFixture;
 const workers: ChildProcess[] = [];
 
-/** Starts a queue worker process; resolves once it is taking jobs. */
-function startWorker(): Promise<ChildProcess> {
-  // node itself (not npx or the tsx CLI), so a signal reaches the worker and not only a wrapper.
-  const worker = spawn(process.execPath, ["--conditions=react-server", "--import", "tsx", "scripts/worker.ts"], {
-    cwd: path.resolve(import.meta.dirname, "../.."),
-    env: { ...process.env, AWS_SDK_JS_NODE_VERSION_SUPPORT_WARNING_DISABLED: "true" },
-    stdio: ["ignore", "pipe", "inherit"],
-  });
-  workers.push(worker);
-  return new Promise((resolve, reject) => {
-    let output = "";
-    worker.stdout!.on("data", (chunk: Buffer) => {
-      output += chunk.toString();
-      if (output.includes("ready")) resolve(worker);
-    });
-    worker.once("exit", (code) => reject(new Error(`the worker exited with code ${code} before it was ready: ${output}`)));
-  });
-}
-
-function stopWorker(worker: ChildProcess): Promise<void> {
-  return new Promise((resolve) => {
-    if (worker.exitCode !== null) return resolve();
-    worker.once("exit", () => resolve());
-    worker.kill("SIGTERM");
-  });
-}
+const startWorker = () => startWorkerProcess(workers);
+const stopWorker = stopWorkerProcess;
 
 async function createModelDerivation(model: Model): Promise<string> {
   const derivation = await createDerivation({

@@ -1,5 +1,4 @@
-import { spawn, type ChildProcess } from "node:child_process";
-import path from "node:path";
+import type { ChildProcess } from "node:child_process";
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 
 vi.mock("@/lib/auth/session", async () => (await import("./support/session")).sessionModule);
@@ -26,6 +25,7 @@ import { DEFAULT_STUDY_SETTINGS, createCell, modelToDocument, type StudySettings
 import type { RunJson } from "@/lib/runs/views";
 import type { StudyListItem, StudyView } from "@/lib/studies/views";
 import { jsonRequest, makeTeam, params, resetDatabase, type TeamFixture } from "./support/fixtures";
+import { startWorkerProcess, stopWorkerProcess } from "./support/worker-process";
 import { signInAs } from "./support/session";
 
 // Studies queued here (route handlers in this process) are run by queue worker
@@ -54,30 +54,8 @@ const hook: Model = {
 let kestrel: TeamFixture;
 const workers: ChildProcess[] = [];
 
-function startWorker(): Promise<ChildProcess> {
-  const worker = spawn(process.execPath, ["--conditions=react-server", "--import", "tsx", "scripts/worker.ts"], {
-    cwd: path.resolve(import.meta.dirname, "../.."),
-    env: { ...process.env, AWS_SDK_JS_NODE_VERSION_SUPPORT_WARNING_DISABLED: "true" },
-    stdio: ["ignore", "pipe", "inherit"],
-  });
-  workers.push(worker);
-  return new Promise((resolve, reject) => {
-    let output = "";
-    worker.stdout!.on("data", (chunk: Buffer) => {
-      output += chunk.toString();
-      if (output.includes("ready")) resolve(worker);
-    });
-    worker.once("exit", (code) => reject(new Error(`the worker exited with code ${code} before it was ready: ${output}`)));
-  });
-}
-
-function stopWorker(worker: ChildProcess): Promise<void> {
-  return new Promise((resolve) => {
-    if (worker.exitCode !== null) return resolve();
-    worker.once("exit", () => resolve());
-    worker.kill("SIGTERM");
-  });
-}
+const startWorker = () => startWorkerProcess(workers);
+const stopWorker = stopWorkerProcess;
 
 /** A derivation of the hook model with one study cell holding `settings`. */
 async function studyDerivation(settings: Partial<StudySettings>): Promise<{ id: string; cellId: string }> {
