@@ -84,9 +84,9 @@ export function emitStepModule(source: StepKernelSource): { bytes: Uint8Array; i
   // Functions: imports, run, rhs, step, accept, dense, then the module's own sine and cosine.
   const made: { trig?: TrigFunctions } = {};
   const graphFn = emitGraphFunction(graph, roots, nv, (op, importCount) => {
-    if (op !== "sin" && op !== "cos") return undefined;
+    if (op !== "sin" && op !== "cos" && op !== "sincos") return undefined;
     const first = importCount + (inputCount > 0 ? 1 : 0) + 5;
-    made.trig ??= nativeTrig(graph, roots, first, { unary: 1, binary: 2, kernelSin: 8 });
+    made.trig ??= nativeTrig(graph, roots, first, { unary: 1, binary: 2, kernelSin: 8, pair: 9 });
     return made.trig[op];
   });
   const layout = stepLayout(nv, n);
@@ -382,6 +382,7 @@ export function emitStepModule(source: StepKernelSource): { bytes: Uint8Array; i
       { params: [F64], results: [I32] },
       { params: [F64, F64], results: [I32] },
       { params: [F64, F64, I32], results: [F64] },
+      { params: [F64], results: [F64, F64] },
     ],
     imports,
     functions: [

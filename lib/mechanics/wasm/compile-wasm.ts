@@ -88,8 +88,12 @@ export function emitGraphFunction(
   graph: ExpressionGraph,
   roots: readonly number[],
   variableCount: number,
-  /** Function index to call for an imported operation instead of its import (a function of the module itself). */
-  native: (op: ImportedOp, importCount: number) => number | undefined = () => undefined,
+  /**
+   * Function index to call for an imported operation instead of its import (a
+   * function of the module itself); for "sincos", a function returning sine and
+   * cosine of one argument, used where the graph needs both.
+   */
+  native: (op: ImportedOp | "sincos", importCount: number) => number | undefined = () => undefined,
 ): GraphFunction {
   const order = graph.reachable(roots);
   const nodes = graph.nodes;
@@ -141,10 +145,46 @@ export function emitGraphFunction(
       local[id] = -2; // released (a second operand slot naming the same node must not free it twice)
     }
   };
+  // Sine and cosine of the same argument are computed together where the module can (one reduction).
+  const partner = new Map<number, number>();
+  const sineOf = new Map<number, number>();
+  const cosineOf = new Map<number, number>();
+  for (const id of order) {
+    const node = nodes[id]!;
+    if (node.op === "sin") sineOf.set(node.a, id);
+    else if (node.op === "cos") cosineOf.set(node.a, id);
+  }
+  for (const [argument, sine] of sineOf) {
+    const cosine = cosineOf.get(argument);
+    if (cosine === undefined) continue;
+    partner.set(sine, cosine);
+    partner.set(cosine, sine);
+  }
+  const sincos = partner.size > 0 ? native("sincos", imports.length) : undefined;
+  const computedWithPartner = new Uint8Array(nodes.length);
+  const allocate = () => (free.length > 0 ? free.pop()! : localCount++);
   order.forEach((id, p) => {
     const node = nodes[id]!;
     if (isLeaf(node.op)) return;
     const op = node.op;
+    if (computedWithPartner[id]) {
+      release(node.a, p);
+      return;
+    }
+    if (sincos !== undefined && partner.has(id)) {
+      const other = partner.get(id)!;
+      operand(node.a);
+      code.byte(OP.call).u32(sincos);
+      release(node.a, p);
+      const [sine, cosine] = op === "sin" ? [id, other] : [other, id];
+      // The call leaves sine, then cosine (on top).
+      local[cosine] = allocate();
+      code.byte(OP.localSet).u32(local[cosine]!);
+      local[sine] = allocate();
+      code.byte(OP.localSet).u32(local[sine]!);
+      computedWithPartner[other] = 1;
+      return;
+    }
     if (op === "square") {
       operand(node.a);
       operand(node.a);
@@ -172,7 +212,7 @@ export function emitGraphFunction(
     }
     release(node.a, p);
     if (node.b !== node.a) release(node.b, p);
-    const slot = free.length > 0 ? free.pop()! : localCount++;
+    const slot = allocate();
     local[id] = slot;
     code.byte(OP.localSet).u32(slot);
   });
@@ -197,7 +237,7 @@ export function emitGraphModule(graph: ExpressionGraph, roots: readonly number[]
     locals: localCount,
     imports,
   } = emitGraphFunction(graph, roots, variableCount, (op, importCount) => {
-    if (op !== "sin" && op !== "cos") return undefined;
+    if (op !== "sin" && op !== "cos" && op !== "sincos") return undefined;
     made.trig ??= nativeTrig(graph, roots, importCount + 1, STANDARD_TYPES);
     return made.trig[op];
   });
@@ -225,11 +265,13 @@ export const STANDARD_TYPES = {
     { params: [F64], results: [F64] },
     { params: [F64, F64], results: [F64] },
     { params: [F64, F64, I32], results: [F64] },
+    { params: [F64], results: [F64, F64] },
   ],
   none: 0,
   unary: 1,
   binary: 2,
   kernelSin: 3,
+  pair: 4,
 };
 
 /**

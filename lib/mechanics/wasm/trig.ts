@@ -38,11 +38,12 @@ const PIO2_2T = 2.02226624879595063154e-21;
 const PIO2_3 = 2.0222662487111664558e-21;
 const PIO2_3T = 8.47842766036889956997e-32;
 
-/** Type indices the caller's module declares: (f64) → f64, (f64, f64) → f64, (f64, f64, i32) → f64. */
+/** Type indices the caller's module declares: (f64) → f64, (f64, f64) → f64, (f64, f64, i32) → f64, (f64) → (f64, f64). */
 export interface TrigTypes {
   unary: number;
   binary: number;
   kernelSin: number;
+  pair: number;
 }
 
 export interface TrigFunctions {
@@ -50,6 +51,8 @@ export interface TrigFunctions {
   /** Function index of the native sine / cosine, when asked for. */
   sin?: number;
   cos?: number;
+  /** Both at once (one reduction; returns sine then cosine), when both are asked for. */
+  sincos?: number;
 }
 
 /**
@@ -68,7 +71,15 @@ export function emitTrigFunctions(first: number, fallback: { sin?: number; cos?:
     const host = fallback[which];
     if (host === undefined) continue;
     result[which] = first + functions.length;
-    functions.push({ type: types.unary, locals: [...f64s(7), { count: 5, type: I32 }], code: sineOrCosine(which, host, KSIN, KCOS) });
+    functions.push({ type: types.unary, locals: [...f64s(7), { count: 5, type: I32 }], code: sineOrCosine(which, { sin: host, cos: host }, KSIN, KCOS) });
+  }
+  if (fallback.sin !== undefined && fallback.cos !== undefined) {
+    result.sincos = first + functions.length;
+    functions.push({
+      type: types.pair,
+      locals: [...f64s(7), { count: 5, type: I32 }],
+      code: sineOrCosine("sincos", { sin: fallback.sin, cos: fallback.cos }, KSIN, KCOS),
+    });
   }
   return result;
 }
@@ -149,23 +160,28 @@ function kernelCos(): Uint8Array {
 }
 
 /**
- * sin(x) or cos(x): param x = 0; f64 locals z = 1, t = 2, r = 3, w = 4, fn = 5, y0 = 6, y1 = 7;
- * i32 locals hx = 8, ix = 9, n = 10, j = 11, i = 12.
+ * sin(x), cos(x), or both (sine, then cosine, from one reduction: the same
+ * values as the two separately): param x = 0; f64 locals z = 1, t = 2, r = 3,
+ * w = 4, fn = 5, y0 = 6, y1 = 7; i32 locals hx = 8, ix = 9, n = 10, j = 11, i = 12.
  */
-function sineOrCosine(which: "sin" | "cos", host: number, ksin: number, kcos: number): Uint8Array {
+function sineOrCosine(which: "sin" | "cos" | "sincos", host: { sin: number; cos: number }, ksin: number, kcos: number): Uint8Array {
   const [X, Z, T, R, W, FN, Y0, Y1, HX, IX, N, J, I] = [0, 1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12];
   const c = new CodeWriter();
   highWord(c, X).tee(HX).i32(0x7fffffff).op(OP.i32And).set(IX);
   // |x| ≤ π/4: the kernel directly.
   c.get(IX).i32(0x3fe921fb).op(OP.i32LeS);
   c.ifNonZero(() => {
-    if (which === "sin") c.get(X).f64(0).i32(0).call(ksin);
-    else c.get(X).f64(0).call(kcos);
+    if (which !== "cos") c.get(X).f64(0).i32(0).call(ksin);
+    if (which !== "sin") c.get(X).f64(0).call(kcos);
     c.op(OP.return);
   });
   // NaN or ±∞ (x − x is NaN), and large arguments: the host's function.
   c.get(IX).i32(0x413921fb).op(OP.i32GtS);
-  c.ifNonZero(() => c.get(X).call(host).op(OP.return));
+  c.ifNonZero(() => {
+    if (which !== "cos") c.get(X).call(host.sin);
+    if (which !== "sin") c.get(X).call(host.cos);
+    c.op(OP.return);
+  });
   // x = n·π/2 + (y0 + y1).
   c.get(IX).i32(0x4002d97c).op(OP.i32LtS);
   c.ifNonZero(
@@ -262,7 +278,12 @@ function sineOrCosine(which: "sin" | "cos", host: number, ksin: number, kcos: nu
     kCos();
     c.op(OP.f64Neg);
   };
-  const answers = which === "sin" ? [kSin, kCos, minusSin, minusCos] : [kCos, minusSin, minusCos, kSin];
+  const sines = [kSin, kCos, minusSin, minusCos];
+  const cosines = [kCos, minusSin, minusCos, kSin];
+  const answers = sines.map((sine, q) => () => {
+    if (which !== "cos") sine();
+    if (which !== "sin") cosines[q]!();
+  });
   for (let q = 0; q < 3; q++) {
     quadrant(q);
     c.ifNonZero(() => {
