@@ -361,8 +361,9 @@ class IntegrationRun {
       ? system.specialize(this.parameterValues)
       : { massForcing: system.massForcing, ...(system.energy ? { energy: system.energy } : {}) };
     // DOP853 without constraints runs whole steps in a WebAssembly module generated for this system, when it has one.
-    const stepKernel = method === "rk853" && this.constraintSet === null && specialized.acquireStepKernel ? specialized.acquireStepKernel() : null;
-    if (stepKernel !== null) this.releaseStepKernel = () => specialized.releaseStepKernel?.(stepKernel);
+    const acquired = method === "rk853" && this.constraintSet === null && specialized.acquireStepKernel ? specialized.acquireStepKernel() : null;
+    const stepKernel = acquired?.kernel ?? null;
+    if (acquired !== null) this.releaseStepKernel = acquired.release;
     if (method === "extrapolation") {
       const solver = new Solver(2 * n);
       solver.denseOutput = true;

@@ -4,7 +4,7 @@ import { ExpressionError } from "../mechanics/errors";
 import type { ExpressionSource } from "../mechanics/expr/parse";
 import type { Model } from "../mechanics/model";
 import { multiplierSymbol, type ConstraintSpec, type OutputSpec } from "./specs";
-import { stepKernelFactory, type Dop853Kernel } from "./dop853-wasm";
+import { stepKernelFactory, type Dop853Kernel, type StepKernelSource } from "./dop853-wasm";
 import { SimulationSetupError } from "./errors";
 
 /**
@@ -69,14 +69,15 @@ export interface SpecializedEvaluators {
    */
   readonly massForcingKernel?: MassForcingKernel;
   /**
-   * A DOP853 step kernel (dop853-wasm.ts) generated from the same expressions
-   * for one run's exclusive use, or null where the system keeps the JavaScript
-   * path. The module is compiled once; instances are reused once released
-   * (a reused instance's code is already optimized, a new one starts cold).
+   * A DOP853 step kernel (dop853-wasm.ts) generated from the same expressions,
+   * for one run's exclusive use until it calls `release`; null where the system
+   * keeps the JavaScript path. Modules are compiled once and their instances
+   * reused (a reused instance's code is already optimized, a new one starts
+   * cold): one module per system reading the parameters from its memory, and,
+   * once the same values have run a few times in a row (a worker repeating a
+   * run, a benchmark), one with these values folded in.
    */
-  readonly acquireStepKernel?: () => Dop853Kernel | null;
-  /** Gives an acquired kernel back when its run has finished. */
-  readonly releaseStepKernel?: (kernel: Dop853Kernel) => void;
+  readonly acquireStepKernel?: () => { kernel: Dop853Kernel; release: () => void } | null;
 }
 
 export interface MassForcingKernel {
@@ -88,8 +89,37 @@ export interface MassForcingKernel {
 export type MassForcingEvaluator = (values: Float64Array, out: Float64Array) => void;
 export type EnergyEvaluator = (values: Float64Array) => number;
 
-/** Released step kernels kept for reuse per parameter set (runs at once in one thread are few). */
+/** Released step kernels kept for reuse per module (runs at once in one thread are few). */
 const MAX_FREE_STEP_KERNELS = 4;
+/** From this many runs in a row with the same parameter values on, they get a module with the values folded in. */
+const FOLDED_AFTER_USES = 3;
+
+/** One step-kernel module, compiled on first use, and its released instances. */
+class StepKernelPool {
+  private factory: (() => Dop853Kernel) | null | undefined;
+  private readonly free: Dop853Kernel[] = [];
+
+  constructor(private readonly source: StepKernelSource) {}
+
+  acquire(): { kernel: Dop853Kernel; release: () => void } | null {
+    let kernel = this.free.pop();
+    if (kernel === undefined) {
+      if (this.factory === undefined) this.factory = stepKernelFactory(this.source);
+      if (this.factory === null) return null;
+      kernel = this.factory();
+    }
+    const acquired = kernel;
+    let released = false;
+    return {
+      kernel: acquired,
+      release: () => {
+        if (released) return;
+        released = true;
+        if (this.free.length < MAX_FREE_STEP_KERNELS) this.free.push(acquired);
+      },
+    };
+  }
+}
 
 /** The variable names of the packed layout, in order: `q…`, `q'…`, `t`, inputs, parameters. */
 export function variableNames(system: Pick<MechanicalSystem, "coordinateNames" | "inputNames" | "parameters">): string[] {
@@ -187,6 +217,11 @@ export function systemFromMassMatrixForm(form: MassMatrixForm, compile: Expressi
   const energyExpression = form.energy || null;
   const energy = energyExpression === null ? undefined : energyEvaluator(compileLocated([energyExpression], ["energy"], variables, compile));
 
+  // Step kernels reading the whole packed vector, parameters included (written per run).
+  const generalSource = (massForcingCompiled as Partial<CompiledExpressions>).kernel?.source;
+  const generalKernels = generalSource ? new StepKernelPool({ ...generalSource, n, inputCount: shape.inputNames.length }) : null;
+  const parameterSlot = 2 * n + 1 + shape.inputNames.length;
+
   // Specialized evaluators read the prefix [q, q', t, u] of the packed vector.
   const prefix = variables.slice(0, 2 * n + 1 + shape.inputNames.length);
   let cachedKey = "";
@@ -203,20 +238,22 @@ export function systemFromMassMatrixForm(form: MassMatrixForm, compile: Expressi
     if (cached !== null && key === cachedKey) return cached;
     const compiled = compileLocated(expressions, fields, prefix, compile, constants);
     const kernel = (compiled as Partial<CompiledExpressions>).kernel;
-    let stepKernels: (() => Dop853Kernel) | null | undefined;
-    const freeStepKernels: Dop853Kernel[] = [];
-    const acquireStepKernel = (): Dop853Kernel | null => {
-      const free = freeStepKernels.pop();
-      if (free !== undefined) return free;
-      if (stepKernels === undefined) stepKernels = kernel ? stepKernelFactory({ ...kernel.source, n, inputCount: shape.inputNames.length }) : null;
-      return stepKernels === null ? null : stepKernels();
-    };
-    const releaseStepKernel = (stepKernel: Dop853Kernel) => {
-      if (freeStepKernels.length < MAX_FREE_STEP_KERNELS && !freeStepKernels.includes(stepKernel)) freeStepKernels.push(stepKernel);
+    const foldedKernels = kernel ? new StepKernelPool({ ...kernel.source, n, inputCount: shape.inputNames.length }) : null;
+    let uses = 0;
+    const acquireStepKernel = () => {
+      uses += 1;
+      if (foldedKernels !== null && uses >= FOLDED_AFTER_USES) {
+        const folded = foldedKernels.acquire();
+        if (folded !== null) return folded;
+      }
+      // The system's own module, with these values written into its parameter slots.
+      const general = generalKernels?.acquire() ?? null;
+      if (general !== null) form.parameters.forEach((p, i) => (general.kernel.variables[parameterSlot + i] = constants[p.name]!));
+      return general;
     };
     const specialized: SpecializedEvaluators = {
       massForcing: (values, out) => compiled.evaluate(values, out),
-      ...(kernel ? { massForcingKernel: { input: kernel.input, output: kernel.output, run: kernel.run }, acquireStepKernel, releaseStepKernel } : {}),
+      ...(kernel ? { massForcingKernel: { input: kernel.input, output: kernel.output, run: kernel.run }, acquireStepKernel } : {}),
       energy: energyExpression === null ? undefined : energyEvaluator(compileLocated([energyExpression], ["energy"], prefix, compile, constants)),
     };
     cachedKey = key;
