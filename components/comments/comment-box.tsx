@@ -6,6 +6,7 @@
  * Ctrl+Enter (⌘+Enter) sends.
  */
 import { useId, useMemo, useRef, useState } from "react";
+import { flushSync } from "react-dom";
 import { Button } from "@/components/ui/button";
 import type { Mention } from "@/lib/comments/mentions";
 import type { MemberOption } from "@/lib/comments/views";
@@ -59,14 +60,16 @@ export function CommentBox({ members, label, submitLabel, initialBody = "", busy
     if (!query) return;
     const caret = areaRef.current?.selectionStart ?? text.length;
     const next = `${text.slice(0, query.start)}@${member.name} ${text.slice(caret)}`;
-    setText(next);
-    setPicked((current) => [...current.filter((mention) => mention.userId !== member.id), { name: member.name, userId: member.id }]);
-    setQuery(null);
-    const position = query.start + member.name.length + 2;
-    requestAnimationFrame(() => {
-      areaRef.current?.focus();
-      areaRef.current?.setSelectionRange(position, position);
+    // The new text is committed at once and the caret put after the mention before the next keystroke
+    // (a frame later, keys typed right after the pick landed where React's value update left the caret).
+    flushSync(() => {
+      setText(next);
+      setPicked((current) => [...current.filter((mention) => mention.userId !== member.id), { name: member.name, userId: member.id }]);
+      setQuery(null);
     });
+    const position = query.start + member.name.length + 2;
+    areaRef.current?.focus();
+    areaRef.current?.setSelectionRange(position, position);
   }
 
   function submit() {

@@ -9,6 +9,14 @@ export interface TableDigest {
 }
 
 /**
+ * Columns that stand for a table's content where the whole row does not: the
+ * job queue's one-row `version` table also holds the times its workers last
+ * ran maintenance, which they stamp every few minutes, so a live database and
+ * a dump taken a moment later differ there and nowhere that matters.
+ */
+const CONTENT_COLUMNS: Record<string, readonly string[]> = { "pgboss.version": ["version"] };
+
+/**
  * Row count and content digest of every table outside the system catalogs
  * (the app's tables, drizzle's migration journal, the job queue), keyed
  * "schema.table". A restored backup must give the same map as its source.
@@ -22,9 +30,16 @@ export async function getTableDigests(): Promise<Record<string, TableDigest>> {
   for (const { schema, name } of tables.rows) {
     const table = sql.identifier(name);
     const owner = sql.identifier(schema);
+    const columns = CONTENT_COLUMNS[`${schema}.${name}`];
+    const rowText = columns
+      ? sql`row(${sql.join(
+          columns.map((column) => sql`t.${sql.identifier(column)}`),
+          sql`, `,
+        )})::text`
+      : sql`t::text`;
     const result = await db.execute<{ rows: string; md5: string | null }>(sql`
       select count(*)::text as rows, md5(coalesce(string_agg(row_text, E'\\n' order by row_text), '')) as md5
-      from (select t::text as row_text from ${owner}.${table} t) as rows_as_text`);
+      from (select ${rowText} as row_text from ${owner}.${table} t) as rows_as_text`);
     const row = result.rows[0]!;
     digests[`${schema}.${name}`] = { rows: Number(row.rows), md5: row.md5 ?? "" };
   }
