@@ -177,3 +177,48 @@ test("a refused token shows the reason and the page stops retrying", async ({ br
   expect(tickets).toBe(asked);
   await page.context().close();
 });
+
+test("an editor whose role is changed to viewer is told so at once, and the page stops editing", async ({ browser }) => {
+  const page = await personPage(browser, analyst);
+  const leadPage = await personPage(browser, lead);
+  // The lead's requests go from the lead's page, as the team settings page sends them (same origin, session cookie).
+  const leadFetch = (url: string, init?: { method: string; body: string }) =>
+    leadPage.evaluate(
+      async ({ url, init }) => {
+        const response = await fetch(url, init ? { ...init, headers: { "content-type": "application/json" } } : undefined);
+        return { status: response.status, body: (await response.json().catch(() => null)) as unknown };
+      },
+      { url, init },
+    );
+  const teams = (await leadFetch("/api/teams")).body as { teams: { id: string; name: string }[] };
+  const teamId = teams.teams.find((team) => team.name === demoTeam.name)!.id;
+  const members = (await leadFetch(`/api/teams/${teamId}/members`)).body as { members: { userId: string; email: string }[] };
+  const analystId = members.members.find((member) => member.email === analyst.email)!.userId;
+  const setRole = async (role: string) => {
+    const answer = await leadFetch(`/api/teams/${teamId}/members/${analystId}`, { method: "PATCH", body: JSON.stringify({ role }) });
+    expect(answer.status).toBe(200);
+  };
+  try {
+    const dashboard = new DashboardPage(page);
+    await dashboard.openTeam(demoTeam.name);
+    await dashboard.createDerivation(`Hoist brake check ${Date.now().toString(36)}`, "Single pendulum");
+    const notebook = new NotebookPage(page);
+    await notebook.expectOpen();
+    await notebook.waitUntilEditable();
+
+    await setRole("viewer");
+
+    await expect(notebook.connectionStatus).toHaveAttribute("data-state", "refused", { timeout: 20_000 });
+    await expect(notebook.connectionStatus).toContainText("Your role in this team changed and no longer lets you edit; reload to read it.");
+    await expect(page.getByRole("button", { name: "Add cell" })).toHaveCount(0);
+    await keepScreenshot(page, "collab-role-changed");
+    // Reloaded, the page reads the derivation as a viewer.
+    await page.reload();
+    await notebook.expectOpen();
+    await expect(page.getByRole("button", { name: "Add cell" })).toHaveCount(0);
+  } finally {
+    await setRole("analyst");
+    await page.context().close();
+    await leadPage.context().close();
+  }
+});
