@@ -145,7 +145,8 @@ describe("job queue across processes", () => {
 
   it("cancels a running job: the worker stops it and stores nothing", async () => {
     const id = await createModelDerivation(doubleArm);
-    const job = await queueRun(id, { initialCoordinates: { a: 2, b: 2.5 }, endTime: 5000, outputStep: 0.05, timeLimitMs: 20_000 });
+    // Far longer than its 20 s limit allows, whatever the simulator's speed: only the cancel ends it early.
+    const job = await queueRun(id, { initialCoordinates: { a: 2, b: 2.5 }, endTime: 1_000_000, outputStep: 50, timeLimitMs: 20_000 });
     await pollJob(id, job.id, (j) => j.state === "running" || ended(j));
     const cancelledAt = Date.now();
     const response = await cancelRoute.POST(jsonRequest(`/api/derivations/${id}/jobs/${job.id}/cancel`, "POST"), params({ id, jobId: job.id }));
