@@ -9,10 +9,10 @@ import type { ConstraintKind } from "./specs";
 import type { ExpressionEvaluator } from "./system";
 import { compileLocated, layoutOf, variableNames, type MechanicalSystem, type SpecializedEvaluators, type VariableLayout } from "./system";
 
-/** Values given per coordinate: an array in coordinate order, or a record by name (missing names are 0). */
 /** The smallest offset c·h of a DOP853 stage from the step's start, as a fraction of h (c₁). */
 const SMALLEST_STAGE_OFFSET = Math.min(...Array.from(DOP853_NODES).filter((c) => c > 0));
 
+/** Values given per coordinate: an array in coordinate order, or a record by name (missing names are 0). */
 export type NumericAssignment = readonly number[] | Readonly<Record<string, number>>;
 
 /** An input as a function of time, e.g. a motor torque u(t). */
