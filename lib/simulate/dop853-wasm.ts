@@ -1,4 +1,4 @@
-import { emitGraphFunction, importArity, mathImports, nativeTrig, WASM_MAX_INSTRUCTIONS, wasmAvailable } from "../mechanics/wasm/compile-wasm";
+import { emitGraphFunction, importArity, mathImports, nativeTrig, WASM_MAX_INSTRUCTIONS, wasmAvailable, type ImportedOp } from "../mechanics/wasm/compile-wasm";
 import type { TrigFunctions } from "../mechanics/wasm/trig";
 import { assembleFunctions, CodeWriter, F64, I32, OP } from "../mechanics/wasm/emit";
 import type { ExpressionGraph } from "../mechanics/graph";
@@ -442,7 +442,7 @@ export function stepKernelFactory(source: StepKernelSource): (() => Dop853Kernel
   const N = 2 * n;
   return () => {
     let writeInputs: ((t: number) => void) | null = null;
-    const host: Record<string, (...args: number[]) => number | void> = mathImports(compiled.imports.filter((name) => name !== "inputs") as never);
+    const host: Record<string, (...args: number[]) => number | void> = mathImports(compiled.imports.filter((name): name is ImportedOp => name !== "inputs"));
     if (source.inputCount > 0) host.inputs = (t: number) => writeInputs?.(t);
     const instance = new WebAssembly.Instance(compiled.module, { m: host });
     const exports = instance.exports as {

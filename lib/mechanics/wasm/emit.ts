@@ -260,37 +260,27 @@ export class CodeWriter {
   }
   /** Pushes the f64 at slot `slot`. */
   load(slot: number): this {
-    this.i32(0);
-    this.w
-      .byte(OP.f64Load)
-      .u32(3)
-      .u32(8 * slot);
-    return this;
+    return this.i32(0).memory(OP.f64Load, slot);
   }
   /** Pushes the f64 at slot `slot` past the i32 address held in local `base`. */
   loadAt(base: number, slot: number): this {
-    this.get(base);
-    this.w
-      .byte(OP.f64Load)
-      .u32(3)
-      .u32(8 * slot);
-    return this;
+    return this.get(base).memory(OP.f64Load, slot);
   }
   /** Stores the value `push` leaves on the stack at slot `slot`. */
   store(slot: number, push: () => void): this {
     this.i32(0);
     push();
-    this.w
-      .byte(OP.f64Store)
-      .u32(3)
-      .u32(8 * slot);
-    return this;
+    return this.memory(OP.f64Store, slot);
   }
   storeAt(base: number, slot: number, push: () => void): this {
     this.get(base);
     push();
+    return this.memory(OP.f64Store, slot);
+  }
+  /** An f64 load or store with 8-byte alignment at byte offset 8·slot from the address on the stack. */
+  private memory(opcode: number, slot: number): this {
     this.w
-      .byte(OP.f64Store)
+      .byte(opcode)
       .u32(3)
       .u32(8 * slot);
     return this;
