@@ -17,10 +17,8 @@
 // (server/collab.ts) and a queue worker (scripts/worker.ts), each its own process.
 // No browser is involved: the clients are HTTP sessions and y-websocket providers in
 // this process, the same protocol the pages speak.
-import { execFile } from "node:child_process";
 import { existsSync } from "node:fs";
 import path from "node:path";
-import { promisify } from "node:util";
 import { expect, test } from "@playwright/test";
 import { toLatexTerms, type Model } from "@/lib/mechanics/browser";
 import { modelToDocument, type DerivationDocument } from "@/lib/notebook/document";
@@ -29,8 +27,8 @@ import { connectCollabClient, type CollabClient } from "../support/collab-client
 import { signInOverHttp, type HttpSession } from "../support/http-session";
 import { freePort, startPrivatePostgres, type PrivatePostgres } from "../support/private-postgres";
 import { answersOk, startService, waitUntil, type ServiceProcess } from "../support/service-process";
+import { migrateAndSeedTeam, type SeededTeam } from "../support/seeded-team";
 
-const run = promisify(execFile);
 const ROOT = path.resolve(import.meta.dirname, "../..");
 
 // A hoist's hook block swinging on its ropes, modelled as a point mass on a rigid link.
@@ -88,12 +86,7 @@ test("no acknowledged work is lost when the app, the collaboration server and Po
     delete variables.NODE_ENV;
     delete variables.COLLAB_PUBLIC_URL;
     const env = variables as NodeJS.ProcessEnv;
-    await run(process.execPath, ["--import", "tsx", "scripts/migrate.ts"], { cwd: ROOT, env });
-    const seeded = await run(process.execPath, ["--conditions=react-server", "--import", "tsx", "tests/support/seed-team.ts", "Kestrel fault bench"], {
-      cwd: ROOT,
-      env,
-    });
-    const people = JSON.parse(seeded.stdout) as SeededTeam;
+    const people = await migrateAndSeedTeam(env, "Kestrel fault bench");
     log(`database ready on port ${database.port}`);
 
     const start = {
@@ -477,12 +470,6 @@ test("no acknowledged work is lost when the app, the collaboration server and Po
     await database?.remove();
   }
 });
-
-interface SeededTeam {
-  teamId: string;
-  password: string;
-  members: Record<"lead" | "analyst" | "reviewer" | "viewer", { id: string; email: string }>;
-}
 
 interface ReviewState {
   status: "draft" | "in_review" | "approved";

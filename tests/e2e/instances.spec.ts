@@ -10,10 +10,8 @@
 //     started beside the other (the worker beside the first is stopped first).
 // No browser is involved: the clients are HTTP sessions and y-websocket
 // providers in this process, the protocol the pages speak.
-import { execFile } from "node:child_process";
 import { existsSync } from "node:fs";
 import path from "node:path";
-import { promisify } from "node:util";
 import { expect, test } from "@playwright/test";
 import type { Model } from "@/lib/mechanics/browser";
 import { modelToDocument, type DerivationDocument } from "@/lib/notebook/document";
@@ -22,8 +20,8 @@ import { connectCollabClient, type CollabClient } from "../support/collab-client
 import { signInOverHttp } from "../support/http-session";
 import { freePort, startPrivatePostgres, type PrivatePostgres } from "../support/private-postgres";
 import { answersOk, startService, waitUntil, type ServiceProcess } from "../support/service-process";
+import { migrateAndSeedTeam, type SeededTeam } from "../support/seeded-team";
 
-const run = promisify(execFile);
 const ROOT = path.resolve(import.meta.dirname, "../..");
 
 // A test rig's seat on a spring and damper, one coordinate.
@@ -37,12 +35,6 @@ const seat: Model = {
   kinetic: "1/2*m*z'^2",
   potential: "1/2*k*z^2",
 };
-
-interface SeededTeam {
-  teamId: string;
-  password: string;
-  members: Record<"lead" | "analyst" | "reviewer" | "viewer", { id: string; email: string }>;
-}
 
 test.describe.configure({ mode: "serial" });
 
@@ -68,12 +60,7 @@ test("two app instances, two collaboration servers and two workers share one dat
     delete common.COLLAB_PUBLIC_URL;
     const envFor = (extra: Record<string, string>) => ({ ...common, ...extra }) as NodeJS.ProcessEnv;
     const baseEnv = envFor({});
-    await run(process.execPath, ["--import", "tsx", "scripts/migrate.ts"], { cwd: ROOT, env: baseEnv });
-    const seeded = await run(process.execPath, ["--conditions=react-server", "--import", "tsx", "tests/support/seed-team.ts", "Kestrel twin site"], {
-      cwd: ROOT,
-      env: baseEnv,
-    });
-    const people = JSON.parse(seeded.stdout) as SeededTeam;
+    const people = await migrateAndSeedTeam(baseEnv, "Kestrel twin site");
 
     const start = (name: string, args: string[], env: NodeJS.ProcessEnv) => {
       const service = startService({ name, args, cwd: ROOT, env, logFile: testInfo.outputPath(`${name}.log`) });
